@@ -1,0 +1,21 @@
+#!/bin/sh
+# deps.sh — make sure the Debian packages epiwell builds against are present.
+# As root: apt-get update, then install what is missing.  Otherwise: print the exact
+# apt-get line and fail.  Usage: deps.sh [check]   (check also wants the test runner)
+set -u
+pkgs="gcc make pkg-config libsuperlu-dev libconfig-dev zlib1g-dev liblapack-dev liblapacke-dev libblas-dev"
+[ "${1:-}" = check ] && pkgs="$pkgs libcmocka-dev"
+missing=""
+for p in $pkgs; do
+  dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing="$missing $p"
+done
+[ -z "$missing" ] && exit 0
+if [ "$(id -u)" = 0 ]; then
+  echo "epiwell: installing missing packages:$missing"
+  apt-get update && DEBIAN_FRONTEND=noninteractive apt-get install -y --no-install-recommends $missing && exit 0
+  echo "epiwell: apt-get failed" >&2
+  exit 1
+fi
+echo "epiwell: missing Debian packages. Run as root:" >&2
+echo "  apt-get update && apt-get install -y$missing" >&2
+exit 1

@@ -1,0 +1,380 @@
+/* eigen.c — spectrum slicing with Sturm counts and SuperLU shift-invert (see eigen.h).
+ * This file is the only one that touches SuperLU. */
+#include "eigen.h"
+
+#include <float.h>
+#include <math.h>
+#include <slu_ddefs.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "error.h"
+
+/* Standard form T = B^{-1/2} H B^{-1/2}: diagonal d, squared off-diagonal e2. */
+typedef struct {
+  size_t n;
+  double *d, *e2;
+  double pivmin; /* smallest pivot magnitude allowed in the count (as LAPACK's dlaneg) */
+  double norm;   /* Gershgorin bound on ‖T‖ */
+} tri;
+
+static int tri_init(tri *t, const ew_pencil *p) {
+  size_t n = p->n;
+  t->n = n;
+  t->d = malloc(n * sizeof *t->d);
+  t->e2 = malloc((n > 1 ? n - 1 : 1) * sizeof *t->e2);
+  if (!t->d || !t->e2) return 0;
+  double emax = 0.0, norm = 0.0;
+  for (size_t i = 0; i < n; i++) {
+    t->d[i] = p->diag[i] / p->b[i];
+    if (i + 1 < n) {
+      t->e2[i] = p->off[i] * p->off[i] / (p->b[i] * p->b[i + 1]);
+      emax = fmax(emax, t->e2[i]);
+    }
+  }
+  for (size_t i = 0; i < n; i++) {
+    double r = fabs(t->d[i]);
+    if (i > 0) r += sqrt(t->e2[i - 1]);
+    if (i + 1 < n) r += sqrt(t->e2[i]);
+    norm = fmax(norm, r);
+  }
+  t->pivmin = DBL_MIN * fmax(1.0, emax);
+  t->norm = norm;
+  return 1;
+}
+
+static void tri_free(tri *t) {
+  free(t->d);
+  free(t->e2);
+}
+
+/* Negative pivots of LDLᵀ(T − σI): the Sturm count, backward stable (Kahan; LAPACK dlaneg). */
+static size_t tri_count(const tri *t, double s) {
+  size_t cnt = 0;
+  double q = t->d[0] - s;
+  if (fabs(q) < t->pivmin) q = -t->pivmin;
+  cnt += q < 0;
+  for (size_t i = 1; i < t->n; i++) {
+    q = (t->d[i] - s) - t->e2[i - 1] / q;
+    if (fabs(q) < t->pivmin) q = -t->pivmin;
+    cnt += q < 0;
+  }
+  return cnt;
+}
+
+size_t ew_eigen_count_below(const ew_pencil *p, double sigma) {
+  tri t;
+  if (!tri_init(&t, p)) {
+    tri_free(&t);
+    return (size_t)-1;
+  }
+  size_t c = tri_count(&t, sigma);
+  tri_free(&t);
+  return c;
+}
+
+/* An interval [a, b) holding k = cb − ca eigenvalues. */
+typedef struct {
+  double a, b;
+  size_t ca, cb;
+} slice;
+
+void ew_eigenpairs_free(ew_eigenpairs *e) {
+  if (!e) return;
+  free(e->values);
+  free(e->vectors);
+  e->values = e->vectors = NULL;
+  e->count = 0;
+}
+
+/* ---- SuperLU adapter: factor H − σB once, solve many ------------------------------- */
+typedef struct {
+  int n;
+  double *nz;
+  int *row, *col;
+  int *perm_c, *perm_r, *etree;
+  SuperMatrix A, L, U;
+  int have_lu;
+  superlu_options_t opt;
+  SuperLUStat_t stat;
+  GlobalLU_t glu;
+} slu;
+
+static int slu_init(slu *s, const ew_pencil *p) {
+  memset(s, 0, sizeof *s);
+  int n = (int)p->n, nnz = 3 * n - 2;
+  s->n = n;
+  s->nz = doubleMalloc(nnz);
+  s->row = intMalloc(nnz);
+  s->col = intMalloc(n + 1);
+  s->perm_c = intMalloc(n);
+  s->perm_r = intMalloc(n);
+  s->etree = intMalloc(n);
+  if (!s->nz || !s->row || !s->col || !s->perm_c || !s->perm_r || !s->etree) return 0;
+  int k = 0;
+  for (int j = 0; j < n; j++) { /* compressed columns of the tridiagonal */
+    s->col[j] = k;
+    if (j > 0) s->row[k++] = j - 1;
+    s->row[k++] = j;
+    if (j + 1 < n) s->row[k++] = j + 1;
+  }
+  s->col[n] = k;
+  dCreate_CompCol_Matrix(&s->A, n, n, nnz, s->nz, s->row, s->col, SLU_NC, SLU_D, SLU_GE);
+  set_default_options(&s->opt);
+  /* A tridiagonal needs no fill-reducing ordering; partial pivoting keeps it stable. */
+  s->opt.ColPerm = NATURAL;
+  for (int j = 0; j < n; j++) s->perm_c[j] = j;
+  StatInit(&s->stat);
+  return 1;
+}
+
+static void slu_drop_lu(slu *s) {
+  if (s->have_lu) {
+    Destroy_SuperNode_Matrix(&s->L);
+    Destroy_CompCol_Matrix(&s->U);
+    s->have_lu = 0;
+  }
+}
+
+static void slu_free(slu *s) {
+  slu_drop_lu(s);
+  if (s->A.Store) Destroy_SuperMatrix_Store(&s->A);
+  if (s->stat.ops) StatFree(&s->stat);
+  SUPERLU_FREE(s->nz);
+  SUPERLU_FREE(s->row);
+  SUPERLU_FREE(s->col);
+  SUPERLU_FREE(s->perm_c);
+  SUPERLU_FREE(s->perm_r);
+  SUPERLU_FREE(s->etree);
+}
+
+/* Factor H − σB.  Returns 0 ok, i in 1..n when U(i,i) is exactly zero (σ is an eigenvalue
+ * to working precision), −1 when SuperLU ran out of memory. */
+static int slu_factor(slu *s, const ew_pencil *p, double sigma) {
+  int n = s->n, k = 0;
+  for (int j = 0; j < n; j++) {
+    if (j > 0) s->nz[k++] = p->off[j - 1];
+    s->nz[k++] = p->diag[j] - sigma * p->b[j];
+    if (j + 1 < n) s->nz[k++] = p->off[j];
+  }
+  slu_drop_lu(s);
+  SuperMatrix AC;
+  int info = 0;
+  s->opt.Fact = DOFACT;
+  sp_preorder(&s->opt, &s->A, s->perm_c, s->etree, &AC);
+  /* small relax / panel sizes: a tridiagonal has no supernodes worth the bookkeeping */
+  dgstrf(&s->opt, &AC, 1, 1, s->etree, NULL, 0, s->perm_c, s->perm_r, &s->L, &s->U, &s->glu,
+         &s->stat, &info);
+  Destroy_CompCol_Permuted(&AC);
+  if (info == 0) {
+    s->have_lu = 1;
+    return 0;
+  }
+  if (info > 0 && info <= n) {
+    s->have_lu = 1; /* L and U are allocated even for an exactly singular U */
+    slu_drop_lu(s);
+    return info;
+  }
+  return -1;
+}
+
+/* x ← (H − σB)⁻¹ x in place. */
+static int slu_solve(slu *s, double *x) {
+  SuperMatrix X;
+  int info = 0;
+  dCreate_Dense_Matrix(&X, s->n, 1, x, s->n, SLU_DN, SLU_D, SLU_GE);
+  dgstrs(NOTRANS, &s->L, &s->U, s->perm_c, s->perm_r, &X, &s->stat, &info);
+  Destroy_SuperMatrix_Store(&X);
+  return info;
+}
+
+/* ---- helpers --------------------------------------------------------------------------- */
+static double bdot(const ew_pencil *p, const double *x, const double *y) {
+  double s = 0.0;
+  for (size_t i = 0; i < p->n; i++) s += x[i] * p->b[i] * y[i];
+  return s;
+}
+
+static double hquad(const ew_pencil *p, const double *x) { /* xᵀHx */
+  double s = 0.0;
+  for (size_t i = 0; i < p->n; i++) {
+    s += p->diag[i] * x[i] * x[i];
+    if (i + 1 < p->n) s += 2.0 * p->off[i] * x[i] * x[i + 1];
+  }
+  return s;
+}
+
+/* Deterministic start vector (a fixed LCG), so results repeat run to run. */
+static void start_vector(double *x, size_t n, size_t seed) {
+  unsigned long long st = 0x9E3779B97F4A7C15ULL ^ (seed * 0xBF58476D1CE4E5B9ULL);
+  for (size_t i = 0; i < n; i++) {
+    st = st * 6364136223846793005ULL + 1442695040888963407ULL;
+    x[i] = 0.5 + (double)(st >> 11) / 9007199254740992.0;
+  }
+}
+
+/* Isolate eigenvalues in [lo, hi) into slices of one eigenvalue (or an unresolvable
+ * cluster).  Returns the number of slices, or (size_t)-1 when out of memory. */
+static size_t isolate(const tri *t, double lo, double hi, size_t clo, size_t chi, double tol,
+                      slice **out, size_t *counts) {
+  size_t k = chi - clo, cap = k ? k : 1, nout = 0, top = 0;
+  slice *res = malloc(cap * sizeof *res), *stack = malloc((cap + 64) * sizeof *stack);
+  if (!res || !stack) {
+    free(res);
+    free(stack);
+    return (size_t)-1;
+  }
+  if (k) stack[top++] = (slice){lo, hi, clo, chi};
+  while (top) {
+    slice s = stack[--top];
+    size_t m = s.cb - s.ca;
+    if (m == 0) continue;
+    if (m == 1 || s.b - s.a <= tol) {
+      res[nout++] = s;
+      continue;
+    }
+    double mid = 0.5 * (s.a + s.b);
+    size_t cm = tri_count(t, mid);
+    (*counts)++;
+    /* push the upper half first so the lower one is processed first: ascending output */
+    stack[top++] = (slice){mid, s.b, cm, s.cb};
+    stack[top++] = (slice){s.a, mid, s.ca, cm};
+  }
+  free(stack);
+  *out = res;
+  return nout;
+}
+
+/* Narrow slice s (one eigenvalue) by bisection until width <= target. */
+static void narrow(const tri *t, slice *s, double target, size_t *counts) {
+  for (int it = 0; it < 200 && s->b - s->a > target; it++) {
+    double mid = 0.5 * (s->a + s->b);
+    size_t cm = tri_count(t, mid);
+    (*counts)++;
+    if (cm > s->ca) s->b = mid, s->cb = cm;
+    else s->a = mid;
+  }
+}
+
+ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vectors,
+                          ew_eigenpairs *out, ew_error *err) {
+  memset(out, 0, sizeof *out);
+  out->n = p->n;
+  if (p->n < 2 || !(lo < hi))
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "eigen-solve needs n >= 2 and lo < hi");
+  tri t;
+  slice *sl = NULL;
+  slu s;
+  int have_slu = 0;
+  double *x = NULL, *y = NULL;
+  ew_status rc = EW_OK;
+  if (!tri_init(&t, p)) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (eigen workspace, n = %zu)", p->n);
+    goto done;
+  }
+  size_t clo = tri_count(&t, lo), chi = tri_count(&t, hi);
+  out->counts = 2;
+  out->certified = chi - clo;
+  const double tol = 16.0 * DBL_EPSILON * t.norm; /* resolution of the count */
+  size_t ns = isolate(&t, lo, hi, clo, chi, tol, &sl, &out->counts);
+  if (ns == (size_t)-1) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvalues)", chi - clo);
+    goto done;
+  }
+  size_t k = out->certified;
+  out->values = malloc((k ? k : 1) * sizeof *out->values);
+  if (!out->values) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvalues)", k);
+    goto done;
+  }
+  if (!want_vectors) {
+    size_t j = 0;
+    for (size_t q = 0; q < ns; q++) {
+      narrow(&t, &sl[q], fmax(tol, 1e-12), &out->counts);
+      for (size_t m = sl[q].ca; m < sl[q].cb; m++) out->values[j++] = 0.5 * (sl[q].a + sl[q].b);
+    }
+    out->count = j;
+    goto done;
+  }
+  if (k > 0 && p->n > SIZE_MAX / sizeof(double) / k) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "too many eigenvectors (%zu of size %zu)", k, p->n);
+    goto done;
+  }
+  out->vectors = malloc((k ? k : 1) * p->n * sizeof *out->vectors);
+  x = malloc(p->n * sizeof *x);
+  y = malloc(p->n * sizeof *y);
+  if (out->vectors && x && y) {
+    have_slu = 1; /* slu_free copes with a partly initialised adapter */
+    if (!slu_init(&s, p)) free(x), x = NULL;
+  }
+  if (!out->vectors || !x || !y) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvectors of size %zu)", k,
+                 p->n);
+    goto done;
+  }
+  size_t n = p->n, j = 0;
+  for (size_t q = 0; q < ns; q++) {
+    slice *c = &sl[q];
+    size_t mult = c->cb - c->ca;
+    /* lower bound on the distance to the nearest other eigenvalue */
+    double gap = fmin(q > 0 ? c->a - sl[q - 1].b : c->a - lo,
+                      q + 1 < ns ? sl[q + 1].a - c->b : hi - c->b);
+    if (mult == 1) narrow(&t, c, fmax(tol, 0.01 * fmax(gap, 0.0)), &out->counts);
+    double sigma = 0.5 * (c->a + c->b);
+    int info = 0;
+    for (int attempt = 0; attempt < 8; attempt++) {
+      info = slu_factor(&s, p, sigma);
+      out->factorizations++;
+      if (info <= 0) break;
+      sigma += (1e-10 + 4.0 * tol) * (attempt + 1); /* hit the eigenvalue exactly: perturb */
+    }
+    if (info != 0) {
+      rc = info < 0 ? ew_fail(err, EW_ERR_NOMEM, NULL, 0, "SuperLU ran out of memory (n = %zu)", n)
+                    : ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                              "shift %.12g eV stays singular after perturbation", sigma);
+      goto done;
+    }
+    for (size_t m = 0; m < mult; m++, j++) {
+      double *v = out->vectors + j * n, theta = sigma, res = INFINITY;
+      start_vector(x, n, j + 1);
+      int conv = 0, extra = 2; /* after the residual settles, two more steps polish the
+                                  vector (each shrinks its error by |λ − σ| / gap) */
+      for (int it = 0; it < 60 && extra > 0; it++) {
+        if (conv) extra--;
+        for (size_t i = 0; i < n; i++) y[i] = p->b[i] * x[i];
+        slu_solve(&s, y);
+        out->solves++;
+        /* B-orthogonalize against the vectors of this cluster found so far */
+        for (size_t r = j - m; r < j; r++) {
+          double *u = out->vectors + r * n, a = bdot(p, u, y);
+          for (size_t i = 0; i < n; i++) y[i] -= a * u[i];
+        }
+        double nb = sqrt(bdot(p, y, y));
+        if (!(nb > 0) || !isfinite(nb)) break;
+        for (size_t i = 0; i < n; i++) x[i] = y[i] / nb;
+        theta = hquad(p, x);
+        res = ew_pencil_residual(p, x, theta);
+        if (!conv) conv = res < 64.0 * DBL_EPSILON * sqrt((double)n) || (it > 4 && res < 1e-11);
+      }
+      double slack = 1e3 * tol + 1e-9 * fabs(theta);
+      if (!conv || theta < c->a - slack || theta > c->b + slack) {
+        rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                     "inverse iteration did not converge to eigenvalue %zu in [%.12g, %.12g] eV "
+                     "(reached %.12g eV, relative residual %.3g)",
+                     c->ca + m + 1 - clo, c->a, c->b, theta, res);
+        goto done;
+      }
+      memcpy(v, x, n * sizeof *v);
+      out->values[j] = theta;
+    }
+  }
+  out->count = j;
+done:
+  if (have_slu) slu_free(&s);
+  free(x);
+  free(y);
+  free(sl);
+  tri_free(&t);
+  if (rc != EW_OK) ew_eigenpairs_free(out);
+  return rc;
+}

@@ -1,0 +1,62 @@
+/* hamiltonian.c — assembly of the BenDaniel–Duke pencil (see hamiltonian.h). */
+#include "hamiltonian.h"
+
+#include <math.h>
+#include <stdlib.h>
+
+#include "constants.h"
+
+void ew_pencil_free(ew_pencil *p) {
+  if (!p) return;
+  free(p->diag);
+  free(p->off);
+  free(p->b);
+  free(p);
+}
+
+ew_pencil *ew_pencil_build(const ew_grid *g, ew_band band) {
+  ew_pencil *p = calloc(1, sizeof *p);
+  if (!p) return NULL;
+  size_t n = g->n;
+  p->n = n;
+  p->diag = malloc(n * sizeof *p->diag);
+  p->off = malloc((n > 1 ? n - 1 : 1) * sizeof *p->off);
+  p->b = malloc(n * sizeof *p->b);
+  if (!p->diag || !p->off || !p->b) {
+    ew_pencil_free(p);
+    return NULL;
+  }
+  const double K = EW_HB2M0_EVNM2;
+  const double *M = g->cell_mass[band], *V = g->pot[band];
+  p->vmin = INFINITY;
+  p->vmax = -INFINITY;
+  for (size_t i = 0; i < n; i++) {
+    p->diag[i] = K * (1.0 / M[i] + 1.0 / M[i + 1]) + g->w[i] * V[i];
+    p->b[i] = g->w[i];
+    if (i + 1 < n) p->off[i] = -K / M[i + 1];
+    p->vmin = fmin(p->vmin, V[i]);
+    p->vmax = fmax(p->vmax, V[i]);
+  }
+  return p;
+}
+
+double ew_pencil_residual(const ew_pencil *p, const double *x, double e) {
+  size_t n = p->n;
+  double rr = 0.0, xx = 0.0, hnorm = 0.0;
+  for (size_t i = 0; i < n; i++) {
+    double hx = p->diag[i] * x[i], row = fabs(p->diag[i]);
+    if (i > 0) {
+      hx += p->off[i - 1] * x[i - 1];
+      row += fabs(p->off[i - 1]);
+    }
+    if (i + 1 < n) {
+      hx += p->off[i] * x[i + 1];
+      row += fabs(p->off[i]);
+    }
+    double r = hx - e * p->b[i] * x[i];
+    rr += r * r;
+    xx += x[i] * x[i];
+    if (row > hnorm) hnorm = row;
+  }
+  return xx > 0 && hnorm > 0 ? sqrt(rr) / (hnorm * sqrt(xx)) : INFINITY;
+}

@@ -1,0 +1,299 @@
+/* solve.c — from a stack to levels, wavefunctions and lines.
+ *
+ * For each band: the pencil on the fine grid (step h) gives eigenpairs in the bound window;
+ * the same stack on the grid of every second node (step 2h, same interfaces) gives the
+ * eigenvalues again.  The scheme is second order, so Richardson extrapolation
+ * E = E_h + (E_h − E_2h)/3 removes the leading error and |E_h − E_2h|/3, the size of that
+ * correction, is reported as the error estimate (L. F. Richardson, Phil. Trans. R. Soc. A
+ * 210, 307 (1911)). */
+#include "solve.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "constants.h"
+#include "error.h"
+#include "observables.h"
+
+#define EW_DEFAULT_STEP_NM 0.05
+
+void ew_options_default(ew_options *opt) {
+  opt->grid_step_nm = 0.0;
+  opt->lowest_levels = 3;
+  opt->error_estimate = 1;
+  opt->residual_tol = 1e-8;
+}
+
+void ew_result_free(ew_result *r) {
+  if (!r) return;
+  ew_grid_free(r->grid);
+  free(r->states);
+  free(r->psi);
+  free(r->lines);
+  free(r);
+}
+
+size_t ew_result_state_count(const ew_result *r) { return r->n_states; }
+const ew_state *ew_result_state(const ew_result *r, size_t i) {
+  return i < r->n_states ? &r->states[i] : NULL;
+}
+const double *ew_result_wavefunction(const ew_result *r, size_t i) {
+  return i < r->n_states ? r->psi + i * r->grid->n : NULL;
+}
+size_t ew_result_line_count(const ew_result *r) { return r->n_lines; }
+const ew_line *ew_result_line(const ew_result *r, size_t i) {
+  return i < r->n_lines ? &r->lines[i] : NULL;
+}
+size_t ew_result_node_count(const ew_result *r) { return r->grid->n; }
+const double *ew_result_z_nm(const ew_result *r) { return r->grid->z; }
+const double *ew_result_edge_eV(const ew_result *r, ew_band b) { return r->grid->edge[b]; }
+const double *ew_result_mass(const ew_result *r, ew_band b) { return r->grid->mass[b]; }
+double ew_result_grid_step_nm(const ew_result *r) { return r->step_nm; }
+size_t ew_result_band_count(const ew_result *r, ew_band b) { return r->band_count[b]; }
+double ew_result_window_eV(const ew_result *r, ew_band b) { return r->window_eV[b]; }
+
+/* Upper end of the bound window in the positive-mass potential of a band: the lower of the
+ * two outer layers' potentials (a state above it leaks out of the structure). */
+static double window_top(const ew_stack *st, ew_band band) {
+  const ew_layer *a = &st->layers[0], *b = &st->layers[st->n_layers - 1];
+  double ea = ew_layer_edge(a, band), eb = ew_layer_edge(b, band);
+  return band == EW_BAND_E ? fmin(ea, eb) : fmin(-ea, -eb);
+}
+
+static int grow(void **p, size_t *cap, size_t need, size_t size) {
+  if (need <= *cap) return 1;
+  size_t nc = *cap ? *cap : 16;
+  while (nc < need) nc *= 2;
+  void *q = realloc(*p, nc * size);
+  if (!q) return 0;
+  *p = q;
+  *cap = nc;
+  return 1;
+}
+
+/* Solve one band on the fine grid (vectors) and, if asked, the coarse grid (values). */
+static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band,
+                            ew_eigenpairs *fine, double **coarse_vals, size_t *n_coarse,
+                            ew_error *err) {
+  const ew_grid *g = r->grid;
+  ew_pencil *p = ew_pencil_build(g, band);
+  if (!p) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (pencil, n = %zu)", g->n);
+  double top = window_top(r->stack, band);
+  double lo = p->vmin - 1e-9 * (1.0 + fabs(p->vmin));
+  ew_status rc = EW_OK;
+  if (top <= lo) { /* no well at all: an empty window */
+    memset(fine, 0, sizeof *fine);
+    *coarse_vals = NULL;
+    *n_coarse = 0;
+    ew_pencil_free(p);
+    return EW_OK;
+  }
+  rc = ew_eigen_window(p, lo, top, 1, fine, err);
+  ew_pencil_free(p);
+  r->work_factorizations += fine->factorizations;
+  r->work_solves += fine->solves;
+  r->work_counts += fine->counts;
+  *coarse_vals = NULL;
+  *n_coarse = 0;
+  if (rc != EW_OK || !coarse) return rc;
+  ew_pencil *pc = ew_pencil_build(coarse, band);
+  if (!pc) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (coarse pencil)");
+  /* the coarse levels lie higher (the scheme converges from above or below by a small
+     amount): widen the window so a level just under the top on the fine grid is found */
+  double span = top - lo;
+  ew_eigenpairs cv;
+  rc = ew_eigen_window(pc, lo, top + 0.25 * span, 0, &cv, err);
+  ew_pencil_free(pc);
+  if (rc != EW_OK) return rc;
+  r->work_counts += cv.counts;
+  *coarse_vals = cv.values;
+  *n_coarse = cv.count;
+  return EW_OK;
+}
+
+static ew_status add_lines(ew_result *r, ew_error *err) {
+  const ew_grid *g = r->grid;
+  size_t cap = 0, first[EW_BAND_COUNT], cnt[EW_BAND_COUNT], s0 = 0;
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    first[b] = s0;
+    cnt[b] = r->band_count[b];
+    s0 += cnt[b];
+  }
+  size_t K = r->opt.lowest_levels > 0 ? (size_t)r->opt.lowest_levels : (size_t)-1;
+  /* intersubband: lower state among the lowest K of its band, upper any higher state */
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    for (size_t i = 0; i < cnt[b] && i < K; i++) {
+      size_t si = first[b] + i;
+      const double *pi = r->psi + si * g->n;
+      double invm = ew_obs_inverse_mass(g, (ew_band)b, pi);
+      for (size_t j = i + 1; j < cnt[b]; j++) {
+        size_t sj = first[b] + j;
+        if (!grow((void **)&r->lines, &cap, r->n_lines + 1, sizeof *r->lines))
+          return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (lines)");
+        ew_line *ln = &r->lines[r->n_lines++];
+        memset(ln, 0, sizeof *ln);
+        ln->kind = EW_LINE_INTERSUBBAND;
+        ln->upper = sj;
+        ln->lower = si;
+        ln->energy_eV = fabs(r->states[sj].energy_eV - r->states[si].energy_eV);
+        ln->wavelength_nm = EW_HC_EVNM / ln->energy_eV;
+        ln->dipole_nm = fabs(ew_obs_dipole(g, pi, r->psi + sj * g->n));
+        ln->oscillator_strength = ew_obs_oscillator_strength(ln->energy_eV, ln->dipole_nm, invm);
+        ln->allowed = 1;
+      }
+    }
+  }
+  /* interband: e_n with hh_m and lh_m, n and m among the lowest K */
+  for (size_t i = 0; i < cnt[EW_BAND_E] && i < K; i++) {
+    for (int b = EW_BAND_HH; b <= EW_BAND_LH; b++) {
+      for (size_t j = 0; j < cnt[b] && j < K; j++) {
+        size_t se = first[EW_BAND_E] + i, sh = first[b] + j;
+        if (!grow((void **)&r->lines, &cap, r->n_lines + 1, sizeof *r->lines))
+          return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (lines)");
+        ew_line *ln = &r->lines[r->n_lines++];
+        memset(ln, 0, sizeof *ln);
+        ln->kind = EW_LINE_INTERBAND;
+        ln->upper = se;
+        ln->lower = sh;
+        ln->energy_eV = r->states[se].energy_eV - r->states[sh].energy_eV;
+        ln->wavelength_nm = EW_HC_EVNM / ln->energy_eV;
+        double ov = ew_obs_overlap(g, r->psi + se * g->n, r->psi + sh * g->n);
+        ln->overlap = ov * ov;
+        ln->allowed = ln->overlap >= 1e-3;
+      }
+    }
+  }
+  return EW_OK;
+}
+
+ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out, ew_error *err) {
+  *out = NULL;
+  ew_options opt;
+  if (optin) opt = *optin;
+  else ew_options_default(&opt);
+  double step = opt.grid_step_nm > 0 ? opt.grid_step_nm
+                : st->grid_step_nm > 0 ? st->grid_step_nm
+                                       : EW_DEFAULT_STEP_NM;
+  if (!(step > 0) || !isfinite(step))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "grid step must be a positive number of nm");
+  double nodes = st->total_nm / step;
+  if (nodes > 5e6)
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0,
+                   "grid of %.3g nodes (step %g nm over %g nm) is too large: it would need "
+                   "about %.1f GB",
+                   nodes, step, st->total_nm, nodes * 200.0 * 3 / 1e9);
+  ew_result *r = calloc(1, sizeof *r);
+  size_t *cells = calloc(st->n_layers, sizeof *cells);
+  ew_grid *coarse = NULL;
+  ew_eigenpairs fine[EW_BAND_COUNT];
+  double *cvals[EW_BAND_COUNT] = {0};
+  size_t ncv[EW_BAND_COUNT] = {0};
+  memset(fine, 0, sizeof fine);
+  ew_status rc = EW_OK;
+  if (!r || !cells) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+    goto fail;
+  }
+  r->stack = st;
+  r->opt = opt;
+  r->step_nm = step;
+  ew_grid_cells_for_step(st, step, cells);
+  r->grid = ew_grid_layered(st, cells);
+  if (opt.error_estimate) {
+    for (size_t k = 0; k < st->n_layers; k++) cells[k] /= 2; /* cells are even: same faces */
+    coarse = ew_grid_layered(st, cells);
+  }
+  if (!r->grid || (opt.error_estimate && !coarse)) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (grid of %.0f nodes)", nodes);
+    goto fail;
+  }
+  size_t total = 0;
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    rc = solve_band(r, coarse, (ew_band)b, &fine[b], &cvals[b], &ncv[b], err);
+    if (rc != EW_OK) goto fail;
+    r->band_count[b] = fine[b].count;
+    double top = window_top(st, (ew_band)b);
+    r->window_eV[b] = b == EW_BAND_E ? top : -top;
+    total += fine[b].count;
+  }
+  size_t n = r->grid->n;
+  r->n_states = total;
+  r->states = calloc(total ? total : 1, sizeof *r->states);
+  r->psi = malloc((total ? total : 1) * n * sizeof *r->psi);
+  if (!r->states || !r->psi) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu states)", total);
+    goto fail;
+  }
+  size_t s = 0;
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    ew_pencil *p = ew_pencil_build(r->grid, (ew_band)b);
+    if (!p) {
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (pencil)");
+      goto fail;
+    }
+    double sign = b == EW_BAND_E ? 1.0 : -1.0; /* back to the electron energy scale */
+    for (size_t j = 0; j < fine[b].count; j++, s++) {
+      ew_state *q = &r->states[s];
+      const double *v = fine[b].vectors + j * n;
+      double *psi = r->psi + s * n;
+      memcpy(psi, v, n * sizeof *psi);
+      /* sign convention: the largest lobe positive, so pictures and overlaps repeat */
+      size_t imax = 0;
+      for (size_t i = 1; i < n; i++)
+        if (fabs(psi[i]) > fabs(psi[imax])) imax = i;
+      if (psi[imax] < 0)
+        for (size_t i = 0; i < n; i++) psi[i] = -psi[i];
+      double e = fine[b].values[j];
+      q->residual = ew_pencil_residual(p, psi, e);
+      q->flagged = !(q->residual <= opt.residual_tol);
+      q->band = (ew_band)b;
+      q->n = (int)j + 1;
+      snprintf(q->label, sizeof q->label, "%s%u", ew_band_name((ew_band)b), (unsigned)((j + 1) % 1000000u));
+      q->error_eV = -1.0;
+      if (opt.error_estimate && j < ncv[b]) {
+        double corr = (e - cvals[b][j]) / 3.0;
+        e += corr;
+        q->error_eV = fabs(corr);
+      }
+      q->energy_eV = sign * e;
+      /* where the state lives */
+      double *prob = calloc(st->n_layers, sizeof *prob);
+      if (!prob) {
+        ew_pencil_free(p);
+        rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+        goto fail;
+      }
+      for (size_t i = 0; i < n; i++) prob[r->grid->layer[i]] += r->grid->w[i] * psi[i] * psi[i];
+      size_t best = 0;
+      for (size_t k = 1; k < st->n_layers; k++)
+        if (prob[k] > prob[best]) best = k;
+      q->layer = best;
+      q->layer_probability = prob[best];
+      free(prob);
+      q->edge_eV = ew_layer_edge(&st->layers[best], (ew_band)b);
+      q->depth_eV = fabs(q->energy_eV - q->edge_eV);
+    }
+    ew_pencil_free(p);
+  }
+  rc = add_lines(r, err);
+  if (rc != EW_OK) goto fail;
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    ew_eigenpairs_free(&fine[b]);
+    free(cvals[b]);
+  }
+  ew_grid_free(coarse);
+  free(cells);
+  *out = r;
+  return EW_OK;
+fail:
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    ew_eigenpairs_free(&fine[b]);
+    free(cvals[b]);
+  }
+  ew_grid_free(coarse);
+  free(cells);
+  ew_result_free(r);
+  return rc;
+}

@@ -1,0 +1,22 @@
+#!/bin/sh
+# run_all.sh BUILD — run every test program and the CLI checks; the last line is the total.
+build=${1:-build}
+pass=0; fail=0
+for t in "$build"/tests/test_*; do
+  [ -x "$t" ] || continue
+  out=$("$t" 2>&1); rc=$?
+  printf '%s\n' "$out"
+  p=$(printf '%s\n' "$out" | sed -n 's/^\[  PASSED  \] \([0-9]*\) test.*/\1/p' | tail -n 1)
+  f=$(printf '%s\n' "$out" | sed -n 's/^\[  FAILED  \] \([0-9]*\) test.*/\1/p' | tail -n 1)
+  pass=$((pass + ${p:-0})); fail=$((fail + ${f:-0}))
+  if [ "$rc" -ne 0 ] && [ -z "$f" ]; then fail=$((fail + 1)); echo "$t exited $rc"; fi
+done
+if [ -f tests/cli_test.sh ]; then
+  out=$(sh tests/cli_test.sh "$build/epiwell" 2>&1); rc=$?
+  printf '%s\n' "$out"
+  p=$(printf '%s\n' "$out" | sed -n 's/^cli: \([0-9]*\) passed, \([0-9]*\) failed$/\1/p')
+  f=$(printf '%s\n' "$out" | sed -n 's/^cli: \([0-9]*\) passed, \([0-9]*\) failed$/\2/p')
+  pass=$((pass + ${p:-0})); fail=$((fail + ${f:-1}))
+fi
+echo "$pass passed, $fail failed"
+[ "$fail" -eq 0 ]

@@ -1,0 +1,64 @@
+/* testutil.h — small helpers shared by the test programs. */
+#ifndef EW_TESTUTIL_H
+#define EW_TESTUTIL_H
+
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cmocka.h>
+
+#include "stack.h"
+
+/* A stack of user-defined layers built in memory: thickness (nm), Ec, Ev (eV), masses. */
+typedef struct {
+  double t, Ec, Ev, me, mhh, mlh;
+} tu_layer;
+
+static inline ew_stack *tu_stack(size_t n, const tu_layer *ly) {
+  ew_stack *st = calloc(1, sizeof *st);
+  st->layers = calloc(n, sizeof *st->layers);
+  st->n_layers = n;
+  st->temperature_K = 300;
+  double z = 0;
+  for (size_t k = 0; k < n; k++) {
+    ew_layer *L = &st->layers[k];
+    snprintf(L->name, sizeof L->name, "layer%zu", k + 1);
+    snprintf(L->material, sizeof L->material, "user");
+    L->thickness_nm = ly[k].t;
+    L->z_start_nm = z;
+    z += ly[k].t;
+    L->user_material = 1;
+    L->bands.Ec_eV = ly[k].Ec;
+    L->bands.Ev_eV = L->bands.Ev_hh_eV = L->bands.Ev_lh_eV = ly[k].Ev;
+    L->bands.Eg_G_eV = ly[k].Ec - ly[k].Ev;
+    L->bands.me = ly[k].me;
+    L->bands.mhh_z = L->bands.mhh_par = ly[k].mhh;
+    L->bands.mlh_z = L->bands.mlh_par = ly[k].mlh;
+  }
+  st->total_nm = z;
+  return st;
+}
+
+static inline void tu_stack_free(ew_stack *st) {
+  if (!st) return;
+  free(st->layers);
+  free(st);
+}
+
+/* Check |got − want| <= tol, printing both and why the tolerance is what it is. */
+#define TU_NEAR(got, want, tol, why)                                                      \
+  do {                                                                                    \
+    double g_ = (got), w_ = (want), t_ = (tol);                                           \
+    if (!(fabs(g_ - w_) <= t_)) {                                                         \
+      print_error("%s:%d: %s: got %.12g, want %.12g, |diff| %.3g > tol %.3g (%s)\n",      \
+                  __FILE__, __LINE__, #got, g_, w_, fabs(g_ - w_), t_, why);              \
+      fail();                                                                             \
+    }                                                                                     \
+  } while (0)
+
+#endif
