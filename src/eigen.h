@@ -13,8 +13,13 @@
  *     iteration x ← (H − σB)⁻¹ B x (one triangular solve pair per step) converges at the rate
  *     |λ − σ| / gap; the eigenvalue is the Rayleigh quotient.  Vectors of a cluster are
  *     B-orthogonalized against each other.
- *  Values-only mode (used for the coarse grid of the error estimate) stops after step 2,
- *  bisecting each interval to 1e-12 eV.
+ *  Values-only mode stops after step 2, bisecting each interval to 1e-12 eV.
+ *  ew_eigen_values_near() serves the coarse grid of the error estimate: given good
+ *  approximate vectors (the fine-grid eigenvectors sampled on the coarse nodes), each
+ *  eigenvalue is the Rayleigh quotient θ, certified by the inertia (exactly one eigenvalue,
+ *  the expected one, in (θ − γ, θ + γ)) and by the Kato–Temple bound |θ − λ| ≤ ‖r‖²/γ
+ *  (T. Kato, J. Phys. Soc. Japan 4, 334 (1949)); where that bound is not tight enough the
+ *  eigenvalue is bisected instead.
  * SuperLU is used only through this file (it may abort the process on internal errors; the
  * inputs given to it here are always valid: square, finite, structurally non-singular). */
 #ifndef EW_EIGEN_H
@@ -40,6 +45,12 @@ typedef struct {
 ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vectors,
                           ew_eigenpairs *out, ew_error *err);
 void ew_eigenpairs_free(ew_eigenpairs *e);
+
+/* The k lowest eigenvalues of p above lo, from approximate vectors guess[j·n …] (see
+ * above).  values[k] receives them; tol_eV is the accuracy wanted.  counts (may be NULL)
+ * is incremented by the inertia counts used.  EW_OK or EW_ERR_NOMEM. */
+ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *guess, size_t k,
+                               double tol_eV, double *values, size_t *counts, ew_error *err);
 
 /* Number of eigenvalues of the pencil below sigma (inertia of H − σB). */
 size_t ew_eigen_count_below(const ew_pencil *p, double sigma);

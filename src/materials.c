@@ -582,24 +582,28 @@ ew_status ew_catalogue_load(const char *dir, ew_catalogue **out, ew_error *err) 
                      env);
     return load_dir(env, out, err);
   }
-  char cand[3][EW_PATH_MAX];
+  char cand[4][EW_PATH_MAX];
   size_t nc = 0;
   char exe[EW_PATH_MAX];
   if (exe_dir(exe, sizeof exe)) {
     snprintf(cand[nc++], EW_PATH_MAX, "%.4000s/materials", exe);
-    /* build/epiwell → ./materials: the parent of the binary's directory */
-    char *slash = strrchr(exe, '/');
-    if (slash && slash != exe) {
-      *slash = '\0';
-      snprintf(cand[nc++], EW_PATH_MAX, "%.4000s/materials", exe);
-    } else if (slash) {
-      snprintf(cand[nc++], EW_PATH_MAX, "/materials");
+    /* build/epiwell → ./materials and build/sanitize/epiwell → ./materials: the parent and
+       grandparent of the binary's directory */
+    for (int up = 0; up < 2; up++) {
+      char *slash = strrchr(exe, '/');
+      if (slash && slash != exe) {
+        *slash = '\0';
+        snprintf(cand[nc++], EW_PATH_MAX, "%.4000s/materials", exe);
+      } else {
+        if (slash) snprintf(cand[nc++], EW_PATH_MAX, "/materials");
+        break;
+      }
     }
   }
   snprintf(cand[nc++], EW_PATH_MAX, "%s", EW_PREFIX "/share/epiwell/materials");
   for (size_t i = 0; i < nc; i++)
     if (has_catalogue(cand[i])) return load_dir(cand[i], out, err);
-  char list[3 * EW_PATH_MAX / 4];
+  char list[EW_PATH_MAX];
   list[0] = '\0';
   for (size_t i = 0; i < nc; i++) {
     size_t l = strlen(list);

@@ -98,18 +98,29 @@ static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band,
   *coarse_vals = NULL;
   *n_coarse = 0;
   if (rc != EW_OK || !coarse) return rc;
+  if (fine->count == 0) return EW_OK;
   ew_pencil *pc = ew_pencil_build(coarse, band);
-  if (!pc) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (coarse pencil)");
-  /* the coarse levels lie higher (the scheme converges from above or below by a small
-     amount): widen the window so a level just under the top on the fine grid is found */
-  double span = top - lo;
-  ew_eigenpairs cv;
-  rc = ew_eigen_window(pc, lo, top + 0.25 * span, 0, &cv, err);
+  size_t nc = coarse->n, k = fine->count;
+  double *guess = pc ? malloc(nc * k * sizeof *guess) : NULL;
+  double *vals = malloc(k * sizeof *vals);
+  if (!pc || !guess || !vals) {
+    ew_pencil_free(pc);
+    free(guess);
+    free(vals);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (coarse grid)");
+  }
+  /* coarse node i is fine node 2i + 1 (every layer has an even number of fine cells) */
+  for (size_t j = 0; j < k; j++)
+    for (size_t i = 0; i < nc; i++) guess[j * nc + i] = fine->vectors[j * g->n + 2 * i + 1];
+  rc = ew_eigen_values_near(pc, lo, guess, k, 1e-11, vals, &r->work_counts, err);
   ew_pencil_free(pc);
-  if (rc != EW_OK) return rc;
-  r->work_counts += cv.counts;
-  *coarse_vals = cv.values;
-  *n_coarse = cv.count;
+  free(guess);
+  if (rc != EW_OK) {
+    free(vals);
+    return rc;
+  }
+  *coarse_vals = vals;
+  *n_coarse = k;
   return EW_OK;
 }
 

@@ -14,6 +14,10 @@
 
 #include "stack.h"
 
+#ifndef M_PI
+#define M_PI 3.14159265358979323846
+#endif
+
 /* A stack of user-defined layers built in memory: thickness (nm), Ec, Ev (eV), masses. */
 typedef struct {
   double t, Ec, Ev, me, mhh, mlh;

@@ -1,0 +1,143 @@
+/* cli.c — the epiwell command: a thin layer that parses options, calls the library and maps
+ * status codes to exit codes.  The only place that decides what goes to stdout/stderr. */
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "epiwell.h"
+#include "materials.h"
+#include "output.h"
+
+static const char usage[] =
+    "usage:\n"
+    "  epiwell solve STACK [--json] [-o DIR] [--gzip] [--grid-step NM] [--lines K|all]\n"
+    "                      [--no-estimate]\n"
+    "  epiwell materials [NAME [--x X] [--temperature K]]\n"
+    "  epiwell --version | --help\n"
+    "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"
+    "too large, 5 file I/O error, 6 numerical failure\n";
+
+static int report(const ew_error *err) {
+  char buf[2048];
+  fprintf(stderr, "epiwell: %s\n", ew_error_text(err, buf, sizeof buf));
+  return (int)err->code;
+}
+
+static int bad_usage(const char *fmt, const char *arg) {
+  fprintf(stderr, "epiwell: ");
+  fprintf(stderr, fmt, arg);
+  fprintf(stderr, "\n%s", usage);
+  return EW_ERR_USAGE;
+}
+
+/* strict number parsing: the whole argument must be a finite number */
+static int parse_num(const char *s, double *v) {
+  char *end;
+  errno = 0;
+  *v = strtod(s, &end);
+  return s[0] && *end == '\0' && errno == 0 && isfinite(*v);
+}
+
+static int cmd_materials(int argc, char **argv) {
+  const char *name = NULL;
+  double x = 0.0, T = 300.0;
+  for (int i = 0; i < argc; i++) {
+    if (!strcmp(argv[i], "--x") || !strcmp(argv[i], "--temperature")) {
+      if (i + 1 >= argc) return bad_usage("%s needs a value", argv[i]);
+      double *dst = argv[i][2] == 'x' ? &x : &T;
+      if (!parse_num(argv[i + 1], dst)) return bad_usage("not a number: %s", argv[i + 1]);
+      i++;
+    } else if (argv[i][0] == '-') {
+      return bad_usage("unknown option %s", argv[i]);
+    } else if (!name) {
+      name = argv[i];
+    } else {
+      return bad_usage("unexpected argument %s", argv[i]);
+    }
+  }
+  ew_catalogue *cat = NULL;
+  ew_error err = {0};
+  if (ew_catalogue_load(NULL, &cat, &err) != EW_OK) return report(&err);
+  int rc = 0;
+  if (!name) ew_catalogue_print(cat, stdout);
+  else if (ew_material_print(cat, name, x, T, stdout, &err) != EW_OK) rc = report(&err);
+  ew_catalogue_free(cat);
+  return rc;
+}
+
+static int cmd_solve(int argc, char **argv) {
+  const char *path = NULL, *outdir = NULL;
+  int json = 0, gzip = -1;
+  ew_options opt;
+  ew_options_default(&opt);
+  for (int i = 0; i < argc; i++) {
+    const char *a = argv[i];
+    if (!strcmp(a, "--json")) {
+      json = 1;
+    } else if (!strcmp(a, "--gzip")) {
+      gzip = 1;
+    } else if (!strcmp(a, "--no-estimate")) {
+      opt.error_estimate = 0;
+    } else if (!strcmp(a, "-o") || !strcmp(a, "--grid-step") || !strcmp(a, "--lines")) {
+      if (i + 1 >= argc) return bad_usage("%s needs a value", a);
+      const char *v = argv[++i];
+      if (!strcmp(a, "-o")) {
+        outdir = v;
+      } else if (!strcmp(a, "--grid-step")) {
+        if (!parse_num(v, &opt.grid_step_nm) || opt.grid_step_nm <= 0 || opt.grid_step_nm > 1)
+          return bad_usage("--grid-step wants a step in nm in (0, 1], got %s", v);
+      } else if (!strcmp(v, "all")) {
+        opt.lowest_levels = 0;
+      } else {
+        double k;
+        if (!parse_num(v, &k) || k < 1 || k > 1e6 || k != floor(k))
+          return bad_usage("--lines wants a whole number >= 1 or 'all', got %s", v);
+        opt.lowest_levels = (int)k;
+      }
+    } else if (a[0] == '-') {
+      return bad_usage("unknown option %s", a);
+    } else if (!path) {
+      path = a;
+    } else {
+      return bad_usage("unexpected argument %s", a);
+    }
+  }
+  if (!path) return bad_usage("%s", "solve needs a stack file");
+  ew_error err = {0};
+  /* an unwritable output directory fails before any work is done */
+  if (outdir && ew_output_check_dir(outdir, &err) != EW_OK) return report(&err);
+  ew_catalogue *cat = NULL;
+  ew_stack *st = NULL;
+  ew_result *res = NULL;
+  int rc = 0;
+  if (ew_catalogue_load(NULL, &cat, &err) != EW_OK || ew_stack_read_file(path, cat, &st, &err) != EW_OK ||
+      ew_solve(st, &opt, &res, &err) != EW_OK ||
+      (outdir && ew_output_csv_dir(res, outdir, gzip, &err) != EW_OK)) {
+    rc = report(&err);
+  } else {
+    if (json) ew_output_json(res, stdout);
+    else ew_output_table(res, stdout);
+    if (fflush(stdout) != 0) rc = EW_ERR_IO;
+  }
+  ew_result_free(res);
+  ew_stack_free(st);
+  ew_catalogue_free(cat);
+  return rc;
+}
+
+int main(int argc, char **argv) {
+  if (argc < 2) return bad_usage("%s", "no command given");
+  if (!strcmp(argv[1], "--version")) {
+    printf("epiwell %s\n", EW_VERSION);
+    return 0;
+  }
+  if (!strcmp(argv[1], "--help") || !strcmp(argv[1], "-h")) {
+    fputs(usage, stdout);
+    return 0;
+  }
+  if (!strcmp(argv[1], "solve")) return cmd_solve(argc - 2, argv + 2);
+  if (!strcmp(argv[1], "materials")) return cmd_materials(argc - 2, argv + 2);
+  return bad_usage("unknown command %s", argv[1]);
+}

@@ -1,0 +1,20 @@
+/* output.h — presenting a result: terminal table, JSON, CSV files (atomic, optionally
+ * gzip-compressed through zlib).  Pure formatting: nothing here changes a number. */
+#ifndef EW_OUTPUT_H
+#define EW_OUTPUT_H
+
+#include "solve.h"
+
+/* Human-readable tables of the layers, levels and lines. */
+void ew_output_table(const ew_result *r, FILE *out);
+/* One JSON object (see README "Output reference"). */
+void ew_output_json(const ew_result *r, FILE *out);
+/* Write profile.csv, levels.csv, lines.csv and wavefunctions.csv (or .csv.gz when gzip is
+ * 1, or when gzip is −1 and the table is large) into dir.  Every file is written under a
+ * temporary name first and all are renamed only when all were written, so an error leaves
+ * no partial file and the previous result intact.  Returns EW_OK or EW_ERR_IO. */
+ew_status ew_output_csv_dir(const ew_result *r, const char *dir, int gzip, ew_error *err);
+/* EW_OK when dir exists (or can be created) and is writable: checked before any work. */
+ew_status ew_output_check_dir(const char *dir, ew_error *err);
+
+#endif

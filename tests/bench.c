@@ -1,0 +1,139 @@
+/* bench.c — `make bench`: speed figures, printed, never asserted.
+ *  1. The eigen-solve of a 100-period GaAs/Al0.3Ga0.7As superlattice (5 nm / 5 nm) at a
+ *     0.01 nm grid (N ≈ 1e5), all three bands with their error estimates, against LAPACK's
+ *     dstemr (MRRR, value range) on the same matrices in the same run: times, ratio, memory.
+ *  2. A single-well solve end to end: process start to JSON on stdout, through the CLI.
+ * The machine is shared: compare the ratios printed in one run, not absolute times. */
+#include <lapacke.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/resource.h>
+#include <time.h>
+
+#include "eigen.h"
+#include "solve.h"
+
+static double now(void) {
+  struct timespec t;
+  clock_gettime(CLOCK_MONOTONIC, &t);
+  return (double)t.tv_sec + 1e-9 * (double)t.tv_nsec;
+}
+
+static double peak_mb(void) {
+  struct rusage ru;
+  getrusage(RUSAGE_SELF, &ru);
+  return (double)ru.ru_maxrss / 1024.0;
+}
+
+/* dstemr on the standard form of one pencil, eigenvalues in (lo, hi); returns seconds */
+static double run_dstemr(const ew_pencil *p, double lo, double hi, int vectors, size_t *found) {
+  lapack_int n = (lapack_int)p->n, m = 0, tryrac = 1;
+  double *d = malloc(p->n * sizeof *d), *e = malloc(p->n * sizeof *e), *w = malloc(p->n * sizeof *w);
+  for (size_t i = 0; i < p->n; i++) {
+    d[i] = p->diag[i] / p->b[i];
+    e[i] = i + 1 < p->n ? p->off[i] / sqrt(p->b[i] * p->b[i + 1]) : 0.0;
+  }
+  size_t cap = ew_eigen_count_below(p, hi) - ew_eigen_count_below(p, lo) + 8;
+  double *Z = vectors ? malloc(p->n * cap * sizeof *Z) : NULL;
+  lapack_int *isup = malloc(2 * cap * sizeof *isup);
+  double t0 = now();
+  lapack_int info = LAPACKE_dstemr(LAPACK_COL_MAJOR, vectors ? 'V' : 'N', 'V', n, d, e, lo, hi, 0,
+                                   0, &m, w, vectors ? Z : d, vectors ? n : 1, (lapack_int)cap,
+                                   isup, &tryrac);
+  double t = now() - t0;
+  if (info != 0) fprintf(stderr, "dstemr info %d\n", (int)info);
+  *found = (size_t)m;
+  free(d), free(e), free(w), free(Z), free(isup);
+  return t;
+}
+
+int main(int argc, char **argv) {
+  const char *cli = argc > 1 ? argv[1] : "build/epiwell";
+  /* ---- 1. superlattice --------------------------------------------------------------- */
+  size_t cap = 64 * 1024, len = 0;
+  char *text = malloc(cap);
+  len += (size_t)snprintf(text + len, cap - len,
+                          "temperature = 10.0;\ngrid_step = 0.01;\nlayers = (\n"
+                          "  { name = \"b0\"; material = \"AlGaAs\"; x = 0.3; thickness = 5.0; }");
+  for (int k = 1; k <= 100; k++)
+    len += (size_t)snprintf(text + len, cap - len,
+                            ",\n  { name = \"w%d\"; material = \"GaAs\"; thickness = 5.0; },\n"
+                            "  { name = \"b%d\"; material = \"AlGaAs\"; x = 0.3; thickness = 5.0; }",
+                            k, k);
+  snprintf(text + len, cap - len, "\n);\n");
+  ew_catalogue *cat = NULL;
+  ew_stack *st = NULL;
+  ew_error err = {0};
+  char msg[2048];
+  if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
+      ew_stack_read_string(text, "superlattice", cat, &st, &err) != EW_OK) {
+    fprintf(stderr, "bench: %s\n", ew_error_text(&err, msg, sizeof msg));
+    return 1;
+  }
+  ew_options opt;
+  ew_options_default(&opt);
+  ew_result *res = NULL;
+  double t0 = now();
+  if (ew_solve(st, &opt, &res, &err) != EW_OK) {
+    fprintf(stderr, "bench: %s\n", ew_error_text(&err, msg, sizeof msg));
+    return 1;
+  }
+  double t_ours = now() - t0, mem_ours = peak_mb();
+  printf("superlattice: 100 periods 5 nm GaAs / 5 nm Al0.3Ga0.7As, grid 0.01 nm, N = %zu\n",
+         ew_result_node_count(res));
+  printf("  levels: e %zu, hh %zu, lh %zu; lines %zu\n", ew_result_band_count(res, EW_BAND_E),
+         ew_result_band_count(res, EW_BAND_HH), ew_result_band_count(res, EW_BAND_LH),
+         ew_result_line_count(res));
+  printf("  epiwell (SuperLU shift-invert + inertia, fine vectors + coarse values): %.3f s\n",
+         t_ours);
+  printf("    work: %zu factorizations, %zu solves, %zu inertia counts; peak memory %.0f MB\n",
+         res->work_factorizations, res->work_solves, res->work_counts, mem_ours);
+  /* the same matrices for dstemr: fine grid with vectors, coarse grid values only */
+  size_t cells[512];
+  ew_grid_cells_for_step(st, 0.01, cells);
+  ew_grid *fine = ew_grid_layered(st, cells);
+  for (size_t k = 0; k < st->n_layers; k++) cells[k] /= 2;
+  ew_grid *coarse = ew_grid_layered(st, cells);
+  double t_lap = 0.0;
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    double top = b == 0 ? res->window_eV[b] : -res->window_eV[b];
+    ew_pencil *pf = ew_pencil_build(fine, (ew_band)b), *pc = ew_pencil_build(coarse, (ew_band)b);
+    size_t mf, mc;
+    double lo = pf->vmin - 1e-9 * (1.0 + fabs(pf->vmin));
+    double tf = run_dstemr(pf, lo, top, 1, &mf);
+    double tc = run_dstemr(pc, lo, top, 0, &mc);
+    printf("  dstemr %-2s: fine (vectors) %.3f s for %zu, coarse (values) %.3f s for %zu\n",
+           ew_band_name((ew_band)b), tf, mf, tc, mc);
+    if (mf != ew_result_band_count(res, (ew_band)b))
+      printf("  WARNING: dstemr found %zu %s levels, epiwell %zu\n", mf,
+             ew_band_name((ew_band)b), ew_result_band_count(res, (ew_band)b));
+    t_lap += tf + tc;
+    ew_pencil_free(pf);
+    ew_pencil_free(pc);
+  }
+  printf("  LAPACK dstemr, same matrices: %.3f s; peak memory after both %.0f MB\n", t_lap,
+         peak_mb());
+  printf("  ratio dstemr / epiwell = %.2f (target >= 1)\n", t_lap / t_ours);
+  ew_grid_free(fine);
+  ew_grid_free(coarse);
+  ew_result_free(res);
+  ew_stack_free(st);
+  ew_catalogue_free(cat);
+  free(text);
+  /* ---- 2. single well end to end --------------------------------------------------- */
+  char cmd[1024];
+  snprintf(cmd, sizeof cmd, "%s solve examples/detector_well.cfg --json > /dev/null", cli);
+  int runs = 20;
+  t0 = now();
+  for (int i = 0; i < runs; i++)
+    if (system(cmd) != 0) {
+      fprintf(stderr, "bench: '%s' failed\n", cmd);
+      return 1;
+    }
+  double per = (now() - t0) / runs;
+  printf("single well end to end (%s): %.1f ms per run over %d runs (target < 20 ms)\n", cmd,
+         per * 1e3, runs);
+  return 0;
+}
