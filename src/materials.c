@@ -582,11 +582,13 @@ ew_status ew_catalogue_load(const char *dir, ew_catalogue **out, ew_error *err) 
                      env);
     return load_dir(env, out, err);
   }
-  char cand[4][EW_PATH_MAX];
+  char cand[5][EW_PATH_MAX];
   size_t nc = 0;
   char exe[EW_PATH_MAX];
   if (exe_dir(exe, sizeof exe)) {
     snprintf(cand[nc++], EW_PATH_MAX, "%.4000s/materials", exe);
+    /* an installed tree moved as a whole: PREFIX/bin/epiwell → PREFIX/share/epiwell */
+    snprintf(cand[nc++], EW_PATH_MAX, "%.4000s/../share/epiwell/materials", exe);
     /* build/epiwell → ./materials and build/sanitize/epiwell → ./materials: the parent and
        grandparent of the binary's directory */
     for (int up = 0; up < 2; up++) {
