@@ -18,7 +18,10 @@ CFLAGS    += -std=c11 -Wall -Wextra -Wpedantic -g $(OPT) -D_POSIX_C_SOURCE=20080
              -DEW_PREFIX='"$(PREFIX)"'
 LDFLAGS   += $(filter -fsanitize=%,$(OPT))
 
-LIB_SRC := $(filter-out src/cli.c,$(wildcard src/*.c))
+# src/cli*.c make the command; everything else is the library
+CLI_SRC := $(wildcard src/cli*.c)
+CLI_OBJ := $(patsubst src/%.c,$(BUILD)/obj/%.o,$(CLI_SRC))
+LIB_SRC := $(filter-out $(CLI_SRC),$(wildcard src/*.c))
 LIB_OBJ := $(patsubst src/%.c,$(BUILD)/obj/%.o,$(LIB_SRC))
 TESTS   := $(patsubst tests/%.c,$(BUILD)/tests/%,$(wildcard tests/test_*.c))
 
@@ -37,7 +40,7 @@ $(BUILD)/obj/%.o: src/%.c src/*.h | deps
 $(BUILD)/libepiwell.a: $(LIB_OBJ)
 	ar rcs $@ $^
 
-$(BUILD)/epiwell: $(BUILD)/obj/cli.o $(BUILD)/libepiwell.a
+$(BUILD)/epiwell: $(CLI_OBJ) $(BUILD)/libepiwell.a
 	$(CC) $(LDFLAGS) -o $@ $^ $(PKG_LIBS)
 
 $(BUILD)/tests/%: tests/%.c tests/*.h $(BUILD)/libepiwell.a | deps-check
