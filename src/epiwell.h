@@ -115,6 +115,10 @@ typedef struct {
   double oscillator_strength;/* intersubband: see README "Oscillator strength" */
   double overlap;            /* interband: |<e|h>|^2 */
   int allowed;               /* interband: overlap >= 1e-3 (see README) */
+  double exciton_binding_eV; /* interband: exciton binding energy (> 0), 0 if not computed */
+  double pl_peak_eV;         /* interband: energy_eV − exciton_binding_eV */
+  double te_strength;        /* interband: relative strength for TE light (in-plane E) */
+  double tm_strength;        /* interband: relative strength for TM light (E along z) */
 } ew_line;
 
 typedef struct ew_result ew_result;
