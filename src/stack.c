@@ -18,6 +18,14 @@
 
 /* Plausibility limits (see the header of this file for why they exist). */
 #define MAX_LAYER_NM 10000.0
+/* robustness (tests/test_robust.c): far below one monolayer (~0.28 nm).  Thinner layers make
+ * grid cells so short that the kinetic terms (~1/(m h^2)) swamp double precision: a
+ * 1e-12 nm layer silently gave reordered, wrong levels with tiny residuals. */
+#define MIN_LAYER_NM 0.01
+/* robustness: plausibility of user-defined materials (same reason, through 1/m and V) */
+#define MAX_ABS_EDGE_EV 10.0
+#define MIN_MASS_M0 1e-3
+#define MAX_MASS_M0 100.0
 #define MAX_TOTAL_NM 20000.0
 #define MAX_TEMPERATURE_K 1500.0
 #define MAX_GRID_STEP_NM 1.0
@@ -29,8 +37,20 @@
 /* "Not given" for the X and L gaps of user materials: far above any real gap. */
 #define GAP_NOT_GIVEN_EV 1e9
 
-static const char *const top_keys[] = {"temperature", "grid_step", "materials", "layers"};
-static const char *const layer_keys[] = {"name", "material", "x", "thickness"};
+static const char *const top_keys[] = {"temperature", "grid_step",    "materials",
+                                       "alloys",      "layers",       "substrate",
+                                       "field",       "nonparabolic", "sheet_density",
+                                       "linewidth"};
+static const char *const layer_keys[] = {"name", "material", "x", "thickness", "thickness_ml",
+                                         "grade"};
+static const char *const alloy_keys[] = {"name", "first", "second", "bowing"};
+static const char *const bowing_keys[] = {"Ec", "Ev", "me", "mhh", "mlh", "mhh_par", "mlh_par",
+                                          "eps_static"};
+static const char *const grade_keys[] = {"profile", "x_start", "x_end", "x_centre", "x_edge"};
+static const char *const substrate_keys[] = {"material", "x"};
+#define MAX_FIELD_KV_CM 2000.0    /* beyond this III–V layers break down long before */
+#define MAX_SHEET_DENSITY_CM2 1e15
+#define DEFAULT_LINEWIDTH_MEV 10.0
 static const char *const umat_keys[] = {"name", "Ec", "Ev", "me", "mhh", "mlh",
                                         "mhh_par", "mlh_par", "eps_static"};
 static const char *const umat_required[] = {"Ec", "Ev", "me", "mhh", "mlh"};
@@ -42,6 +62,15 @@ typedef struct {
   ew_bands bands;
 } user_material;
 
+/* A user-defined alloy of two user materials: P(x) = x P_first + (1 − x) P_second
+ * − x (1 − x) (C0 + C1 x) for each band parameter (same rule as the catalogue). */
+typedef struct {
+  char name[EW_NAME_MAX];
+  int line;
+  size_t first, second;            /* indices into the user materials */
+  double c0[COUNT(bowing_keys)], c1[COUNT(bowing_keys)];
+} user_alloy;
+
 typedef struct {
   const char *path;
   const char *text; /* the source, to re-check integers (see int_is_exact) */
@@ -49,6 +78,9 @@ typedef struct {
   ew_error *err;
   user_material *umat;
   size_t n_umat;
+  user_alloy *ualloy;
+  size_t n_ualloy;
+  double a_sub_nm; /* substrate lattice constant, 0 = unstrained */
 } reader;
 
 /* Formats the message once here so call sites stay one line each. */
@@ -290,6 +322,12 @@ static ew_status read_user_material(reader *r, const config_setting_t *g, size_t
     return EW_ERR_INPUT;
   if (Ev >= Ec)
     return fail(r, lEv, "material '%s': Ev = %g eV must lie below Ec = %g eV", m->name, Ev, Ec);
+  /* robustness: absurd band edges (e.g. Ec = 1e30) were accepted and solved */
+  if (fabs(Ec) > MAX_ABS_EDGE_EV || fabs(Ev) > MAX_ABS_EDGE_EV)
+    return fail(r, fabs(Ec) > MAX_ABS_EDGE_EV ? lEc : lEv, "material '%s': band edge %s = %g eV "
+                "is outside [-%g, %g] eV (absolute scale: the GaAs valence-band maximum is at "
+                "-0.80 eV)", m->name, fabs(Ec) > MAX_ABS_EDGE_EV ? "Ec" : "Ev",
+                fabs(Ec) > MAX_ABS_EDGE_EV ? Ec : Ev, MAX_ABS_EDGE_EV, MAX_ABS_EDGE_EV);
 
   /* Masses must be positive: a zero or negative mass makes the kinetic operator indefinite. */
   const char *mass_keys[] = {"me", "mhh", "mlh", "mhh_par", "mlh_par"};
@@ -304,6 +342,10 @@ static ew_status read_user_material(reader *r, const config_setting_t *g, size_t
     if (*mass_out[k] <= 0)
       return fail(r, l, "material '%s': mass '%s' = %g must be positive (units of m0)",
                   m->name, mass_keys[k], *mass_out[k]);
+    /* robustness: me = 1e30 gave 86 degenerate "states", me = 1e-30 a wrong spectrum */
+    if (*mass_out[k] < MIN_MASS_M0 || *mass_out[k] > MAX_MASS_M0)
+      return fail(r, l, "material '%s': mass '%s' = %g m0 is outside [%g, %g] m0",
+                  m->name, mass_keys[k], *mass_out[k], MIN_MASS_M0, MAX_MASS_M0);
   }
   int ge = get_number(r, g, "eps_static", where, &eps, &l);
   if (ge < 0) return EW_ERR_INPUT;
@@ -343,6 +385,137 @@ static ew_status read_user_materials(reader *r, const config_setting_t *root) {
   return EW_OK;
 }
 
+/* ---- user-defined alloys ------------------------------------------------------------- */
+
+static const user_alloy *find_ualloy(const reader *r, const char *name) {
+  for (size_t i = 0; i < r->n_ualloy; i++)
+    if (strcmp(r->ualloy[i].name, name) == 0) return &r->ualloy[i];
+  return NULL;
+}
+
+static ew_status read_user_alloy(reader *r, const config_setting_t *g, size_t index) {
+  int line = line_of(g), kl = line;
+  if (config_setting_type(g) != CONFIG_TYPE_GROUP)
+    return fail(r, line, "entry %zu of 'alloys' must be a group { name = ...; first = ...; "
+                "second = ...; }, not %s", index + 1, type_word(g));
+  user_alloy *a = &r->ualloy[r->n_ualloy];
+  memset(a, 0, sizeof *a);
+  a->line = line;
+  char where[96];
+  snprintf(where, sizeof where, "in alloy entry %zu", index + 1);
+  int got = get_name(r, g, "name", where, a->name, &kl);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got == 0) return fail(r, line, "alloy entry %zu has no 'name'", index + 1);
+  snprintf(where, sizeof where, "in alloy '%s'", a->name);
+  ew_status st = check_keys(r, g, alloy_keys, COUNT(alloy_keys), where);
+  if (st) return st;
+  if (find_user(r, a->name) || find_ualloy(r, a->name) ||
+      (r->cat && ew_catalogue_find(r->cat, a->name) >= 0))
+    return fail(r, kl, "alloy name '%s' is already used by a material", a->name);
+  const char *ends[2] = {"first", "second"};
+  size_t *idx[2] = {&a->first, &a->second};
+  for (int e = 0; e < 2; e++) {
+    char end[EW_NAME_MAX];
+    int el = line;
+    got = get_name(r, g, ends[e], where, end, &el);
+    if (got < 0) return EW_ERR_INPUT;
+    if (got == 0)
+      return fail(r, line, "alloy '%s' needs '%s' (a material defined under 'materials'; x is "
+                  "the fraction of 'first')", a->name, ends[e]);
+    const user_material *um = find_user(r, end);
+    if (!um)
+      return fail(r, el, "alloy '%s': '%s' = \"%s\" is not a material defined under "
+                  "'materials'", a->name, ends[e], end);
+    *idx[e] = (size_t)(um - r->umat);
+  }
+  const config_setting_t *bow = config_setting_get_member(g, "bowing");
+  if (bow) {
+    if (config_setting_type(bow) != CONFIG_TYPE_GROUP)
+      return fail(r, line_of(bow), "'bowing' in alloy '%s' must be a group { Ec = ...; }",
+                  a->name);
+    st = check_keys(r, bow, bowing_keys, COUNT(bowing_keys), "in 'bowing'");
+    if (st) return st;
+    for (size_t k = 0; k < COUNT(bowing_keys); k++) {
+      const config_setting_t *b = config_setting_get_member(bow, bowing_keys[k]);
+      if (!b) continue;
+      int bl = line_of(b);
+      if (config_setting_type(b) == CONFIG_TYPE_GROUP) { /* { value = C0; per_x = C1; } */
+        static const char *const bk[] = {"value", "per_x"};
+        st = check_keys(r, b, bk, 2, "in a bowing entry");
+        if (st) return st;
+        if (get_number(r, b, "value", where, &a->c0[k], &bl) <= 0)
+          return fail(r, line_of(b), "bowing '%s' of alloy '%s' needs a number 'value'",
+                      bowing_keys[k], a->name);
+        if (get_number(r, b, "per_x", where, &a->c1[k], &bl) < 0) return EW_ERR_INPUT;
+      } else if (get_number(r, bow, bowing_keys[k], where, &a->c0[k], &bl) < 0) {
+        return EW_ERR_INPUT;
+      }
+    }
+  }
+  r->n_ualloy++;
+  return EW_OK;
+}
+
+static ew_status read_user_alloys(reader *r, const config_setting_t *root) {
+  const config_setting_t *list = config_setting_get_member(root, "alloys");
+  if (!list) return EW_OK;
+  int type = config_setting_type(list), n = config_setting_length(list);
+  if (type != CONFIG_TYPE_LIST && !(type == CONFIG_TYPE_ARRAY && n == 0))
+    return fail(r, line_of(list), "'alloys' must be a list of groups: alloys = ( { ... } ); "
+                "not %s", type_word(list));
+  if (n == 0) return EW_OK;
+  r->ualloy = calloc((size_t)n, sizeof *r->ualloy);
+  if (!r->ualloy) return ew_fail(r->err, EW_ERR_NOMEM, r->path, 0, "out of memory");
+  for (int i = 0; i < n; i++) {
+    ew_status st = read_user_alloy(r, config_setting_get_elem(list, (unsigned)i), (size_t)i);
+    if (st) return st;
+  }
+  return EW_OK;
+}
+
+/* Band parameters of a user alloy at x (Vegard with bowing, as the catalogue's alloys). */
+static void ualloy_bands(const reader *r, const user_alloy *a, double x, ew_bands *out) {
+  const ew_bands *A = &r->umat[a->first].bands, *B = &r->umat[a->second].bands;
+  double pa[COUNT(bowing_keys)] = {A->Ec_eV, A->Ev_eV, A->me, A->mhh_z, A->mlh_z,
+                                   A->mhh_par, A->mlh_par, A->eps_r};
+  double pb[COUNT(bowing_keys)] = {B->Ec_eV, B->Ev_eV, B->me, B->mhh_z, B->mlh_z,
+                                   B->mhh_par, B->mlh_par, B->eps_r};
+  double v[COUNT(bowing_keys)];
+  for (size_t k = 0; k < COUNT(bowing_keys); k++)
+    v[k] = x * pa[k] + (1 - x) * pb[k] - x * (1 - x) * (a->c0[k] + a->c1[k] * x);
+  *out = *A;
+  out->Ec_eV = v[0];
+  out->Ev_eV = out->Ev_hh_eV = out->Ev_lh_eV = v[1];
+  out->Eg_G_eV = v[0] - v[1];
+  out->me = v[2];
+  out->mhh_z = v[3];
+  out->mlh_z = v[4];
+  out->mhh_par = v[5];
+  out->mlh_par = v[6];
+  out->eps_r = A->eps_r > 0 && B->eps_r > 0 ? v[7] : 0.0;
+}
+
+/* Resolve a material at (x, T): user material, user alloy or catalogue entry; sub receives
+ * the reason of a failure. */
+static ew_status resolve_bands(const reader *r, const char *material, double x, double T,
+                               ew_bands *out, ew_error *sub) {
+  const user_material *um = find_user(r, material);
+  if (um) {
+    *out = um->bands;
+    return EW_OK;
+  }
+  const user_alloy *ua = find_ualloy(r, material);
+  if (ua) {
+    ualloy_bands(r, ua, x, out);
+    if (!(out->me > 0 && out->mhh_z > 0 && out->mlh_z > 0 && out->mhh_par > 0 &&
+          out->mlh_par > 0 && out->Ec_eV > out->Ev_eV))
+      return ew_fail(sub, EW_ERR_INPUT, NULL, 0, "alloy '%s' at x = %g gives a non-positive "
+                     "mass or Ev >= Ec (check its bowing)", material, x);
+    return EW_OK;
+  }
+  return ew_material_bands(r->cat, material, x, T, out, sub);
+}
+
 /* ---- layers ----------------------------------------------------------------------------- */
 
 /* "unknown material" with the closest user or catalogue name. */
@@ -370,6 +543,57 @@ static ew_status unknown_material(const reader *r, int line, const char *name, c
               "catalogue; define others under 'materials')", name, layer);
 }
 
+/* x at fraction f of a graded layer */
+static double grade_x(const ew_layer *L, double f) {
+  if (L->grade == EW_GRADE_LINEAR) return L->x_start + (L->x_end - L->x_start) * f;
+  double u = 2.0 * f - 1.0; /* parabolic: x_centre at f = 1/2, x_edge at both faces */
+  return L->x_centre + (L->x_edge - L->x_centre) * u * u;
+}
+
+static ew_status read_grade(reader *r, const config_setting_t *g, ew_layer *L,
+                            const char *where) {
+  int line = line_of(g), l = line;
+  if (config_setting_type(g) != CONFIG_TYPE_GROUP)
+    return fail(r, line, "'grade' %s must be a group { profile = \"linear\"; x_start = ...; "
+                "x_end = ...; }", where);
+  ew_status st = check_keys(r, g, grade_keys, COUNT(grade_keys), "in 'grade'");
+  if (st) return st;
+  char prof[EW_NAME_MAX];
+  int got = get_name(r, g, "profile", where, prof, &l);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got == 0) return fail(r, line, "'grade' %s needs a profile: \"linear\" or \"parabolic\"", where);
+  const char *k1, *k2;
+  double *v1, *v2;
+  if (!strcmp(prof, "linear")) {
+    L->grade = EW_GRADE_LINEAR;
+    k1 = "x_start", k2 = "x_end", v1 = &L->x_start, v2 = &L->x_end;
+  } else if (!strcmp(prof, "parabolic")) {
+    L->grade = EW_GRADE_PARABOLIC;
+    k1 = "x_centre", k2 = "x_edge", v1 = &L->x_centre, v2 = &L->x_edge;
+  } else {
+    return fail(r, l, "unknown grade profile \"%s\" %s (valid: \"linear\", \"parabolic\")",
+                prof, where);
+  }
+  const char *keys[2] = {k1, k2};
+  double *vals[2] = {v1, v2};
+  for (int k = 0; k < 2; k++) {
+    got = get_number(r, g, keys[k], where, vals[k], &l);
+    if (got < 0) return EW_ERR_INPUT;
+    if (got == 0)
+      return fail(r, line, "%s grade %s needs '%s' and '%s'", prof, where, k1, k2);
+    if (*vals[k] < 0 || *vals[k] > 1)
+      return fail(r, l, "'%s' = %g %s is outside [0, 1]", keys[k], *vals[k], where);
+  }
+  /* the other profile's keys would be silently ignored: refuse them */
+  const char *other[2] = {L->grade == EW_GRADE_LINEAR ? "x_centre" : "x_start",
+                          L->grade == EW_GRADE_LINEAR ? "x_edge" : "x_end"};
+  for (int k = 0; k < 2; k++) {
+    const config_setting_t *o = config_setting_get_member(g, other[k]);
+    if (o) return fail(r, line_of(o), "'%s' does not belong to a %s grade (use %s, %s)", other[k], prof, k1, k2);
+  }
+  return EW_OK;
+}
+
 static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, ew_layer *L,
                             double T) {
   int line = line_of(g), l = line;
@@ -393,14 +617,25 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
   if (got < 0) return EW_ERR_INPUT;
   if (got == 0) return fail(r, line, "layer '%s' has no 'material'", L->name);
 
-  int lth = line;
+  int lth = line, lml = line;
   got = get_number(r, g, "thickness", where, &L->thickness_nm, &lth);
   if (got < 0) return EW_ERR_INPUT;
-  if (got == 0) return fail(r, line, "layer '%s' has no 'thickness' (nm)", L->name);
-  if (L->thickness_nm <= 0)
+  int got_ml = get_number(r, g, "thickness_ml", where, &L->thickness_ml, &lml);
+  if (got_ml < 0) return EW_ERR_INPUT;
+  if (got && got_ml)
+    return fail(r, lml, "layer '%s' gives both 'thickness' and 'thickness_ml'; give one",
+                L->name);
+  if (!got && !got_ml)
+    return fail(r, line, "layer '%s' has no 'thickness' (nm) or 'thickness_ml' (monolayers)",
+                L->name);
+  if (got_ml && (L->thickness_ml < 1 || L->thickness_ml != floor(L->thickness_ml) ||
+                 L->thickness_ml > 1e5))
+    return fail(r, lml, "thickness_ml of layer '%s' must be a whole number of monolayers >= 1 "
+                "(got %g)", L->name, L->thickness_ml);
+  if (got && L->thickness_nm <= 0)
     return fail(r, lth, "thickness of layer '%s' must be positive (got %g nm)", L->name,
                 L->thickness_nm);
-  if (L->thickness_nm > MAX_LAYER_NM)
+  if (got && L->thickness_nm > MAX_LAYER_NM)
     return fail(r, lth, "thickness of layer '%s' is %g nm, above the %g nm limit (units are nm)",
                 L->name, L->thickness_nm, MAX_LAYER_NM);
 
@@ -408,35 +643,56 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
   got = get_number(r, g, "x", where, &L->x, &lx);
   if (got < 0) return EW_ERR_INPUT;
   L->has_x = got;
-
-  const user_material *um = find_user(r, L->material);
-  if (um) {
+  const config_setting_t *gr = config_setting_get_member(g, "grade");
+  if (gr) {
+    st = read_grade(r, gr, L, where);
+    if (st) return st;
     if (L->has_x)
-      return fail(r, lx, "layer '%s': 'x' given for user material '%s', which has no "
-                  "composition", L->name, L->material);
-    L->user_material = 1;
-    L->bands = um->bands;
-    return EW_OK;
+      return fail(r, lx, "layer '%s' gives both 'x' and a 'grade'; the grade sets x", L->name);
   }
-  int alloy = r->cat && ew_catalogue_find(r->cat, L->material) >= 0
-                  ? ew_catalogue_is_alloy(r->cat, L->material)
-                  : -1;
-  if (alloy < 0) return unknown_material(r, lmat, L->material, L->name);
-  if (alloy && !L->has_x)
-    return fail(r, line, "layer '%s': alloy '%s' needs a composition 'x' in [0, 1]", L->name,
-                L->material);
-  if (!alloy && L->has_x)
-    return fail(r, lx, "layer '%s': 'x' given for binary '%s', which has no composition",
+
+  int alloy;
+  if (find_user(r, L->material)) alloy = 0;
+  else if (find_ualloy(r, L->material)) alloy = 1;
+  else if (r->cat && ew_catalogue_find(r->cat, L->material) >= 0)
+    alloy = ew_catalogue_is_alloy(r->cat, L->material);
+  else
+    return unknown_material(r, lmat, L->material, L->name);
+  L->user_material = find_user(r, L->material) || find_ualloy(r, L->material);
+  if (!alloy && (L->has_x || L->grade))
+    return fail(r, L->has_x ? lx : line_of(gr), "layer '%s': %s given for %s '%s', which has "
+                "no composition", L->name, L->has_x ? "'x'" : "a 'grade'",
+                L->user_material ? "user material" : "binary", L->material);
+  if (alloy && !L->has_x && !L->grade)
+    return fail(r, line, "layer '%s': alloy '%s' needs a composition 'x' in [0, 1] or a 'grade'",
                 L->name, L->material);
   if (L->has_x && (L->x < 0 || L->x > 1))
     return fail(r, lx, "layer '%s': x = %g is outside [0, 1]", L->name, L->x);
 
   ew_error sub;
   memset(&sub, 0, sizeof sub);
-  st = ew_material_bands(r->cat, L->material, L->has_x ? L->x : 0.0, T, &L->bands, &sub);
+  double xc = L->grade ? grade_x(L, 0.5) : (L->has_x ? L->x : 0.0);
+  st = resolve_bands(r, L->material, xc, T, &L->bands, &sub);
+  if (!st && L->grade) {
+    L->profile = malloc(EW_GRADE_SAMPLES * sizeof *L->profile);
+    if (!L->profile) return ew_fail(r->err, EW_ERR_NOMEM, r->path, 0, "out of memory");
+    for (int k = 0; k < EW_GRADE_SAMPLES && !st; k++)
+      st = resolve_bands(r, L->material, grade_x(L, (double)k / (EW_GRADE_SAMPLES - 1)), T,
+                         &L->profile[k], &sub);
+  }
   if (st) /* keep the catalogue's code and words, but point at the layer that asked */
     return ew_fail(r->err, st, r->path, line, "layer '%s' (%s): %s", L->name, L->material,
                    sub.message[0] ? sub.message : "band parameters unavailable");
+  if (got_ml) {
+    /* one monolayer of [001] zincblende is half the lattice constant along the growth axis */
+    if (!(L->bands.a_nm > 0))
+      return fail(r, lml, "layer '%s': thickness_ml needs a lattice constant, which '%s' does "
+                  "not have; give 'thickness' in nm", L->name, L->material);
+    L->thickness_nm = L->thickness_ml * 0.5 * L->bands.a_nm;
+    if (L->thickness_nm > MAX_LAYER_NM)
+      return fail(r, lml, "layer '%s' is %g nm thick, above the %g nm limit", L->name,
+                  L->thickness_nm, MAX_LAYER_NM);
+  }
   return EW_OK;
 }
 
@@ -479,6 +735,46 @@ static ew_status read_layers(reader *r, const config_setting_t *root, ew_stack *
 
 /* ---- top level ---------------------------------------------------------------------- */
 
+/* substrate = "GaAs";  or  substrate = { material = "InGaAs"; x = 0.53; }; */
+static ew_status read_substrate(reader *r, const config_setting_t *root, ew_stack *s) {
+  const config_setting_t *sub = config_setting_get_member(root, "substrate");
+  if (!sub) return EW_OK;
+  int line = line_of(sub), l = line, got;
+  if (config_setting_type(sub) == CONFIG_TYPE_STRING) {
+    got = get_name(r, root, "substrate", "", s->substrate, &l);
+    if (got < 0) return EW_ERR_INPUT;
+  } else if (config_setting_type(sub) == CONFIG_TYPE_GROUP) {
+    ew_status st = check_keys(r, sub, substrate_keys, COUNT(substrate_keys), "in 'substrate'");
+    if (st) return st;
+    got = get_name(r, sub, "material", "in 'substrate'", s->substrate, &l);
+    if (got < 0) return EW_ERR_INPUT;
+    if (got == 0) return fail(r, line, "'substrate' needs a 'material'");
+    got = get_number(r, sub, "x", "in 'substrate'", &s->substrate_x, &l);
+    if (got < 0) return EW_ERR_INPUT;
+  } else {
+    return fail(r, line, "'substrate' must be a material name (\"GaAs\") or a group "
+                "{ material = ...; x = ...; }, not %s", type_word(sub));
+  }
+  if (!r->cat || ew_catalogue_find(r->cat, s->substrate) < 0)
+    return unknown_material(r, l, s->substrate, "substrate");
+  int alloy = ew_catalogue_is_alloy(r->cat, s->substrate);
+  if (alloy && config_setting_type(sub) != CONFIG_TYPE_GROUP)
+    return fail(r, line, "substrate alloy '%s' needs a composition: substrate = { material = "
+                "\"%s\"; x = ...; };", s->substrate, s->substrate);
+  if (s->substrate_x < 0 || s->substrate_x > 1)
+    return fail(r, l, "substrate x = %g is outside [0, 1]", s->substrate_x);
+  ew_bands b;
+  ew_error e;
+  memset(&e, 0, sizeof e);
+  if (ew_material_bands(r->cat, s->substrate, s->substrate_x, s->temperature_K, &b, &e) ||
+      !(b.a_nm > 0))
+    return fail(r, line, "substrate '%s': no lattice constant available%s%s", s->substrate,
+                e.message[0] ? ": " : "", e.message);
+  s->substrate_a_nm = b.a_nm;
+  r->a_sub_nm = b.a_nm;
+  return EW_OK;
+}
+
 static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) {
   ew_status st = check_keys(r, root, top_keys, COUNT(top_keys), "at top level");
   if (st) return st;
@@ -499,7 +795,39 @@ static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) 
     return fail(r, lg, "grid_step = %g nm must be in (0, %g] nm", s->grid_step_nm,
                 MAX_GRID_STEP_NM);
 
+  double v;
+  int lf = 1;
+  got = get_number(r, root, "field", "", &v, &lf);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got && fabs(v) > MAX_FIELD_KV_CM)
+    return fail(r, lf, "field = %g kV/cm is beyond %g kV/cm (units are kV/cm)", v, MAX_FIELD_KV_CM);
+  s->field_kV_cm = got ? v : 0.0;
+
+  s->nonparabolic = 1;
+  const config_setting_t *np = config_setting_get_member(root, "nonparabolic");
+  if (np) {
+    if (config_setting_type(np) != CONFIG_TYPE_BOOL)
+      return fail(r, line_of(np), "'nonparabolic' must be true or false, not %s", type_word(np));
+    s->nonparabolic = config_setting_get_bool(np);
+    s->nonparabolic_given = 1;
+  }
+
+  got = get_number(r, root, "sheet_density", "", &v, &lf);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got && (v < 0 || v > MAX_SHEET_DENSITY_CM2))
+    return fail(r, lf, "sheet_density = %g cm^-2 must be in [0, %g]", v, MAX_SHEET_DENSITY_CM2);
+  s->sheet_density_cm2 = got ? v : 0.0;
+  got = get_number(r, root, "linewidth", "", &v, &lf);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got && (v <= 0 || v > 500))
+    return fail(r, lf, "linewidth = %g meV must be in (0, 500] meV", v);
+  s->linewidth_meV = got ? v : DEFAULT_LINEWIDTH_MEV;
+
+  st = read_substrate(r, root, s);
+  if (st) return st;
   st = read_user_materials(r, root);
+  if (st) return st;
+  st = read_user_alloys(r, root);
   if (st) return st;
   st = read_layers(r, root, s);
   if (st) return st;
@@ -526,7 +854,7 @@ static int text_is_blank(const char *text) {
 
 static ew_status read_text(const char *text, const char *name, const ew_catalogue *cat,
                            ew_stack **out, ew_error *err) {
-  reader r = {name, text, cat, err, NULL, 0};
+  reader r = {name, text, cat, err, NULL, 0, NULL, 0, 0.0};
   ew_stack *s = calloc(1, sizeof *s);
   if (!s) return ew_fail(err, EW_ERR_NOMEM, name, 0, "out of memory");
   size_t nl = strlen(name);
@@ -552,6 +880,7 @@ static ew_status read_text(const char *text, const char *name, const ew_catalogu
   }
   config_destroy(&cfg);
   free(r.umat);
+  free(r.ualloy);
   if (st) {
     ew_stack_free(s);
     return st;
@@ -622,8 +951,39 @@ ew_status ew_stack_read_file(const char *path, const ew_catalogue *cat, ew_stack
   return st;
 }
 
+void ew_layer_bands_at(const ew_layer *ly, double f, ew_bands *out) {
+  if (!ly->profile) {
+    *out = ly->bands;
+    return;
+  }
+  double u = fmin(fmax(f, 0.0), 1.0) * (EW_GRADE_SAMPLES - 1);
+  int k = (int)u;
+  if (k >= EW_GRADE_SAMPLES - 1) k = EW_GRADE_SAMPLES - 2;
+  double t = u - k;
+  const ew_bands *a = &ly->profile[k], *b = &ly->profile[k + 1];
+  *out = t < 0.5 ? *a : *b; /* integer fields from the nearer sample */
+  /* interpolate what the solver uses along z */
+#define LERP(fld) out->fld = (1 - t) * a->fld + t * b->fld
+  LERP(Ec_eV);
+  LERP(Ev_eV);
+  LERP(Ev_hh_eV);
+  LERP(Ev_lh_eV);
+  LERP(Eg_G_eV);
+  LERP(Eg_X_eV);
+  LERP(Eg_L_eV);
+  LERP(me);
+  LERP(mhh_z);
+  LERP(mlh_z);
+  LERP(mhh_par);
+  LERP(mlh_par);
+  LERP(eps_r);
+  LERP(a_nm);
+#undef LERP
+}
+
 void ew_stack_free(ew_stack *stack) {
   if (!stack) return;
+  for (size_t k = 0; stack->layers && k < stack->n_layers; k++) free(stack->layers[k].profile);
   free(stack->layers);
   free(stack);
 }

@@ -8,6 +8,12 @@
 
 #define EW_NAME_MAX 64
 
+/* Composition grading of a layer (x follows the local position; every parameter follows x). */
+typedef enum { EW_GRADE_NONE = 0, EW_GRADE_LINEAR = 1, EW_GRADE_PARABOLIC = 2 } ew_grade;
+
+/* Samples of a graded layer's band parameters: profile[j] at fraction j/(n−1) of the layer. */
+#define EW_GRADE_SAMPLES 257
+
 typedef struct {
   char name[EW_NAME_MAX];     /* layer name (unique in the stack) */
   char material[EW_NAME_MAX]; /* catalogue or user-defined material */
@@ -16,8 +22,15 @@ typedef struct {
   double thickness_nm;        /* > 0 */
   double z_start_nm;          /* position of the layer's first face */
   int line;                   /* line of the layer's entry in the stack file */
-  int user_material;          /* 1 if defined in the stack's materials list */
-  ew_bands bands;             /* resolved band parameters */
+  int user_material;          /* 1 if defined in the stack's materials or alloys list */
+  ew_bands bands;             /* resolved band parameters (graded: at the layer's centre) */
+  double y;                   /* second composition (quaternaries), 0 otherwise */
+  int has_y;
+  double thickness_ml;        /* > 0 when given as whole monolayers (thickness_ml) */
+  ew_grade grade;             /* composition grading */
+  double x_start, x_end;      /* linear: x at the layer's first and last face */
+  double x_centre, x_edge;    /* parabolic: x at the centre and at both faces */
+  ew_bands *profile;          /* [EW_GRADE_SAMPLES] when graded, else NULL (owned) */
 } ew_layer;
 
 struct ew_stack {
@@ -27,6 +40,18 @@ struct ew_stack {
   size_t n_layers;         /* >= 1 */
   ew_layer *layers;
   double total_nm;         /* sum of thicknesses */
+  double field_kV_cm;      /* applied field along +z (raises an electron's energy with z) */
+  int nonparabolic;        /* 1: Kane energy-dependent electron mass (default where possible) */
+  int nonparabolic_given;  /* 1 when the file set nonparabolic explicitly */
+  char substrate[EW_NAME_MAX]; /* "" = no substrate: every layer unstrained */
+  double substrate_x, substrate_y;
+  double substrate_a_nm;   /* substrate lattice constant (0 without substrate) */
+  double sheet_density_cm2; /* electrons per well for absorption spectra, 0 = not given */
+  double linewidth_meV;    /* Lorentzian FWHM for spectra (default 10 meV) */
 };
+
+/* Band parameters of layer ly at fraction f ∈ [0, 1] of its thickness (graded layers are
+ * interpolated linearly between samples). */
+void ew_layer_bands_at(const ew_layer *ly, double f, ew_bands *out);
 
 #endif
