@@ -141,10 +141,16 @@ const double *ew_result_z_nm(const ew_result *res);
 const double *ew_result_edge_eV(const ew_result *res, ew_band band);
 const double *ew_result_mass(const ew_result *res, ew_band band);
 double ew_result_grid_step_nm(const ew_result *res);
-/* certified count of bound states per band (Sturm inertia), equals the states returned */
+/* bound states per band: the certified (Sturm inertia) count of eigenvalues in the window,
+ * less the box states dropped in a field */
 size_t ew_result_band_count(const ew_result *res, ew_band band);
 /* upper end of the bound-state window of a band (absolute eV) */
 double ew_result_window_eV(const ew_result *res, ew_band band);
+/* Warnings: what the model leaves out for this stack (indirect layers, dropped box states,
+ * failed residual checks, strain beyond the critical thickness, …). */
+#define EW_WARNING_MAX 400
+size_t ew_result_warning_count(const ew_result *res);
+const char *ew_result_warning(const ew_result *res, size_t i);
 
 #ifdef __cplusplus
 }

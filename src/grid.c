@@ -20,22 +20,68 @@ double ew_layer_mass(const ew_layer *ly, ew_band band) {
   }
 }
 
-/* Holes are solved as positive-mass particles in −Ev(z). */
-static double layer_pot(const ew_layer *ly, ew_band band) {
-  double edge = ew_layer_edge(ly, band);
-  return band == EW_BAND_E ? edge : -edge;
+/* Electrostatic potential energy of an electron, eV, from the applied field: F (z − L/2)
+ * with F in eV/nm (1 kV/cm = 1e-4 V/nm).  A positive field raises an electron's energy
+ * with z; both band edges shift by the same amount.  The reference at the stack's centre
+ * keeps absolute energies near their field-free values. */
+static double field_slope(const ew_stack *st) { return st->field_kV_cm * 1e-4; }
+
+static double edge_of(const ew_bands *b, ew_band band) {
+  return band == EW_BAND_E ? b->Ec_eV : band == EW_BAND_HH ? b->Ev_hh_eV : b->Ev_lh_eV;
+}
+static double mass_of(const ew_bands *b, ew_band band) {
+  return band == EW_BAND_E ? b->me : band == EW_BAND_HH ? b->mhh_z : b->mlh_z;
 }
 
-/* ∫_a^b f dz over the piecewise-constant layers, f = mass (what=0) or potential (what=1). */
+/* f = mass (what = 0) or positive-mass potential (what = 1: Ec for electrons, −Ev for holes;
+ * the field is added separately) of layer ly at fraction u of its thickness. */
+static double layer_value(const ew_layer *ly, ew_band band, int what, double u) {
+  ew_bands b;
+  ew_layer_bands_at(ly, u, &b);
+  if (what == 0) return mass_of(&b, band);
+  double e = edge_of(&b, band);
+  return band == EW_BAND_E ? e : -e;
+}
+
+/* ∫_a^b f dz over the layers: exact for piecewise-constant layers and for graded layers
+ * (whose parameters are piecewise linear between their samples: trapezoid per piece), and
+ * exact for the linear field term. */
 static double integrate(const ew_stack *st, ew_band band, int what, double a, double b) {
   double sum = 0.0;
   for (size_t k = 0; k < st->n_layers; k++) {
     const ew_layer *ly = &st->layers[k];
-    double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
+    double z0 = ly->z_start_nm, t = ly->thickness_nm;
+    double lo = fmax(a, z0), hi = fmin(b, z0 + t);
     if (hi <= lo) continue;
-    sum += (hi - lo) * (what == 0 ? ew_layer_mass(ly, band) : layer_pot(ly, band));
+    if (!ly->profile) {
+      sum += (hi - lo) * (what == 0 ? ew_layer_mass(ly, band) : layer_value(ly, band, 1, 0.5));
+    } else {
+      double piece = t / (EW_GRADE_SAMPLES - 1);
+      double p = lo;
+      while (p < hi) {
+        double q = fmin(hi, z0 + (floor((p - z0) / piece + 1e-9) + 1.0) * piece);
+        if (q <= p) q = hi;
+        sum += 0.5 * (q - p) *
+               (layer_value(ly, band, what, (p - z0) / t) + layer_value(ly, band, what, (q - z0) / t));
+        p = q;
+      }
+    }
+  }
+  if (what == 1 && st->field_kV_cm != 0.0) {
+    double F = field_slope(st), c = 0.5 * st->total_nm;
+    double lin = 0.5 * ((b - c) * (b - c) - (a - c) * (a - c)); /* ∫ (z − c) dz */
+    sum += (band == EW_BAND_E ? F : -F) * lin;
   }
   return sum;
+}
+
+double ew_stack_edge_at(const ew_stack *st, ew_band band, double z) {
+  size_t k = 0;
+  while (k + 1 < st->n_layers && z >= st->layers[k + 1].z_start_nm) k++;
+  const ew_layer *ly = &st->layers[k];
+  ew_bands b;
+  ew_layer_bands_at(ly, (z - ly->z_start_nm) / ly->thickness_nm, &b);
+  return edge_of(&b, band) + field_slope(st) * (z - 0.5 * st->total_nm);
 }
 
 static size_t layer_of(const ew_stack *st, double z) {
@@ -94,8 +140,11 @@ static ew_grid *finish(const ew_stack *st, ew_grid *g) {
       double a = g->z[i] - 0.5 * g->h[i], b = g->z[i] + 0.5 * g->h[i + 1];
       g->pot[band][i] = integrate(st, (ew_band)band, 1, a, b) / (b - a);
       const ew_layer *ly = &st->layers[g->layer[i]];
-      g->edge[band][i] = ew_layer_edge(ly, (ew_band)band);
-      g->mass[band][i] = ew_layer_mass(ly, (ew_band)band);
+      double u = (g->z[i] - ly->z_start_nm) / ly->thickness_nm;
+      ew_bands bb;
+      ew_layer_bands_at(ly, u, &bb);
+      g->edge[band][i] = ew_stack_edge_at(st, (ew_band)band, g->z[i]);
+      g->mass[band][i] = mass_of(&bb, (ew_band)band);
     }
   }
   return g;

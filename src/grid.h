@@ -39,7 +39,10 @@ void ew_grid_free(ew_grid *g);
  * grid of every second node (step 2h) has the same interfaces — used for Richardson. */
 void ew_grid_cells_for_step(const ew_stack *st, double step_nm, size_t *cells_per_layer);
 
-/* Band edge (absolute eV) and growth-axis mass of a layer for a band. */
+/* Band edge of a band at position z (absolute eV), with grading and the applied field. */
+double ew_stack_edge_at(const ew_stack *st, ew_band band, double z);
+
+/* Band edge (absolute eV) and growth-axis mass of a layer for a band (ungraded value). */
 double ew_layer_edge(const ew_layer *ly, ew_band band);
 double ew_layer_mass(const ew_layer *ly, ew_band band);
 

@@ -9,6 +9,7 @@
 #include "solve.h"
 
 #include <math.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -29,6 +30,7 @@ void ew_options_default(ew_options *opt) {
 void ew_result_free(ew_result *r) {
   if (!r) return;
   ew_grid_free(r->grid);
+  free(r->warnings);
   free(r->states);
   free(r->psi);
   free(r->lines);
@@ -55,11 +57,76 @@ size_t ew_result_band_count(const ew_result *r, ew_band b) { return r->band_coun
 double ew_result_window_eV(const ew_result *r, ew_band b) { return r->window_eV[b]; }
 
 /* Upper end of the bound window in the positive-mass potential of a band: the lower of the
- * two outer layers' potentials (a state above it leaks out of the structure). */
+ * two outer layers' highest potentials (a state above it leaks out of the structure).  In a
+ * field or a graded outer layer the potential varies across the layer: take its maximum. */
 static double window_top(const ew_stack *st, ew_band band) {
-  const ew_layer *a = &st->layers[0], *b = &st->layers[st->n_layers - 1];
-  double ea = ew_layer_edge(a, band), eb = ew_layer_edge(b, band);
-  return band == EW_BAND_E ? fmin(ea, eb) : fmin(-ea, -eb);
+  double best[2];
+  for (int side = 0; side < 2; side++) {
+    const ew_layer *ly = &st->layers[side ? st->n_layers - 1 : 0];
+    double m = -INFINITY;
+    for (int j = 0; j <= 32; j++) {
+      double u = fmin(fmax(j / 32.0, 1e-9), 1.0 - 1e-9);
+      double e = ew_stack_edge_at(st, band, ly->z_start_nm + u * ly->thickness_nm);
+      m = fmax(m, band == EW_BAND_E ? e : -e);
+    }
+    best[side] = m;
+  }
+  return fmin(best[0], best[1]);
+}
+
+/* In a field no state is truly bound and the hard walls turn the continuum into box states
+ * living in the tilted outer layers.  A quasi-bound well state keeps most of its probability
+ * in the inner layers (everything between the two outer layers); a box state does not.
+ * Returns that inner probability (1 when there are no inner layers to tell them apart). */
+static double inner_probability(const ew_stack *st, const ew_grid *g, const double *psi) {
+  if (st->n_layers < 3) return 1.0;
+  double zl = st->layers[1].z_start_nm, zr = st->layers[st->n_layers - 1].z_start_nm;
+  double p = 0.0;
+  for (size_t i = 0; i < g->n; i++)
+    if (g->z[i] >= zl && g->z[i] <= zr) p += g->w[i] * psi[i] * psi[i];
+  return p;
+}
+
+static int add_warning(ew_result *r, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+static int add_warning(ew_result *r, const char *fmt, ...) {
+  char (*w)[EW_WARNING_MAX] = realloc(r->warnings, (r->n_warnings + 1) * sizeof *w);
+  if (!w) return 0;
+  r->warnings = w;
+  va_list ap;
+  va_start(ap, fmt);
+  vsnprintf(r->warnings[r->n_warnings++], EW_WARNING_MAX, fmt, ap);
+  va_end(ap);
+  return 1;
+}
+
+size_t ew_result_warning_count(const ew_result *r) { return r->n_warnings; }
+const char *ew_result_warning(const ew_result *r, size_t i) {
+  return i < r->n_warnings ? r->warnings[i] : NULL;
+}
+
+/* Warnings about the stack itself: what the model leaves out for these layers. */
+static int stack_warnings(ew_result *r) {
+  const ew_stack *st = r->stack;
+  static const char *valley[] = {"Γ", "X", "L"};
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_bands *b = &st->layers[k].bands;
+    if (b->lowest_valley > 0 && b->lowest_valley < 3) {
+      double eg = b->lowest_valley == 1 ? b->Eg_X_eV : b->Eg_L_eV;
+      if (!add_warning(r,
+                       "layer '%s' (%s): the lowest conduction minimum is %s (%.3f eV) below Γ "
+                       "(%.3f eV): electrons there scatter into %s states, which this Γ-valley "
+                       "model does not contain; the layer's effective barrier for electrons is "
+                       "lower than shown",
+                       st->layers[k].name, st->layers[k].material, valley[b->lowest_valley], eg,
+                       b->Eg_G_eV, valley[b->lowest_valley]))
+        return 0;
+    }
+  }
+  return 1;
 }
 
 static int grow(void **p, size_t *cap, size_t need, size_t size) {
@@ -245,10 +312,16 @@ ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out,
       goto fail;
     }
     double sign = b == EW_BAND_E ? 1.0 : -1.0; /* back to the electron energy scale */
-    for (size_t j = 0; j < fine[b].count; j++, s++) {
-      ew_state *q = &r->states[s];
+    size_t kept = 0;
+    for (size_t j = 0; j < fine[b].count; j++) {
       const double *v = fine[b].vectors + j * n;
-      double *psi = r->psi + s * n;
+      if (st->field_kV_cm != 0.0 && inner_probability(st, r->grid, v) < 0.5) {
+        r->dropped[b]++;
+        continue;
+      }
+      ew_state *q = &r->states[s];
+      kept++;
+      double *psi = r->psi + s++ * n;
       memcpy(psi, v, n * sizeof *psi);
       /* sign convention: the largest lobe positive, so pictures and overlaps repeat */
       size_t imax = 0;
@@ -260,8 +333,8 @@ ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out,
       q->residual = ew_pencil_residual(p, psi, e);
       q->flagged = !(q->residual <= opt.residual_tol);
       q->band = (ew_band)b;
-      q->n = (int)j + 1;
-      snprintf(q->label, sizeof q->label, "%s%u", ew_band_name((ew_band)b), (unsigned)((j + 1) % 1000000u));
+      q->n = (int)kept;
+      snprintf(q->label, sizeof q->label, "%s%u", ew_band_name((ew_band)b), (unsigned)(kept % 1000000u));
       q->error_eV = -1.0;
       if (opt.error_estimate && j < ncv[b]) {
         double corr = (e - cvals[b][j]) / 3.0;
@@ -287,7 +360,27 @@ ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out,
       q->depth_eV = fabs(q->energy_eV - q->edge_eV);
     }
     ew_pencil_free(p);
+    r->band_count[b] = kept;
+    if (r->dropped[b] &&
+        !add_warning(r, "%zu %s state(s) of the field-tilted continuum (box states against the "
+                     "outer walls) were dropped; the listed states are the quasi-bound ones",
+                     r->dropped[b], ew_band_name((ew_band)b))) {
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+      goto fail;
+    }
   }
+  r->n_states = s;
+  if (!stack_warnings(r)) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+    goto fail;
+  }
+  for (size_t i = 0; i < r->n_states; i++)
+    if (r->states[i].flagged &&
+        !add_warning(r, "%s failed its residual check (relative residual %.2e)",
+                     r->states[i].label, r->states[i].residual)) {
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+      goto fail;
+    }
   rc = add_lines(r, err);
   if (rc != EW_OK) goto fail;
   for (int b = 0; b < EW_BAND_COUNT; b++) {

@@ -18,6 +18,9 @@ struct ew_result {
   size_t band_count[EW_BAND_COUNT];
   double window_eV[EW_BAND_COUNT]; /* upper end of the bound window, absolute eV */
   size_t work_factorizations, work_solves, work_counts;
+  size_t dropped[EW_BAND_COUNT];   /* box states of a field-tilted continuum left out */
+  size_t n_warnings;
+  char (*warnings)[EW_WARNING_MAX];
 };
 
 #endif
