@@ -3,7 +3,7 @@
 # As root: apt-get update, then install what is missing.  Otherwise: print the exact
 # apt-get line and fail.  Usage: deps.sh [check]   (check also wants the test runner)
 set -u
-pkgs="gcc make pkg-config libsuperlu-dev libconfig-dev zlib1g-dev liblapack-dev liblapacke-dev libblas-dev"
+pkgs="gcc make pkg-config libsuperlu-dev libconfig-dev zlib1g-dev liblapack-dev liblapacke-dev libblas-dev libcairo2-dev"
 [ "${1:-}" = check ] && pkgs="$pkgs libcmocka-dev"
 missing=""
 for p in $pkgs; do

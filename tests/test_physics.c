@@ -1,0 +1,169 @@
+/* test_physics.c — fields, grading and monolayer thicknesses against analytic results. */
+#include <math.h>
+
+#include "testutil.h"
+
+#include "constants.h"
+#include "solve.h"
+
+static const double K = EW_HB2M0_EVNM2;
+static ew_catalogue *cat;
+
+static int setup(void **state) {
+  (void)state;
+  ew_error err;
+  return ew_catalogue_load("materials", &cat, &err) == EW_OK ? 0 : -1;
+}
+static int teardown(void **state) {
+  (void)state;
+  ew_catalogue_free(cat);
+  return 0;
+}
+
+static ew_result *solve_text(const char *text, ew_stack **st, const ew_options *opt) {
+  ew_error err;
+  char buf[2048];
+  *st = NULL;
+  if (ew_stack_read_string(text, "test", cat, st, &err) != EW_OK) {
+    print_error("%s\n", ew_error_text(&err, buf, sizeof buf));
+    return NULL;
+  }
+  ew_result *r = NULL;
+  if (ew_solve(*st, opt, &r, &err) != EW_OK) print_error("%s\n", ew_error_text(&err, buf, sizeof buf));
+  return r;
+}
+
+/* electron levels in order */
+static const ew_state *elec(const ew_result *r, int n) {
+  for (size_t i = 0; i < ew_result_state_count(r); i++) {
+    const ew_state *s = ew_result_state(r, i);
+    if (s->band == EW_BAND_E && s->n == n) return s;
+  }
+  return NULL;
+}
+
+/* Triangular well: a hard wall and a uniform field F.  E_n = (ħ²e²F²/2m)^{1/3} a_n with a_n the
+ * zeros of Ai(−x): 2.33811, 4.08795, 5.52056 (M. Abramowitz, I. A. Stegun, Handbook of
+ * Mathematical Functions (1964), Table 10.13).  The wall is a 10 eV step: ψ vanishes about
+ * 1/κ = sqrt(K/(m V0)) = 0.24 nm inside it, so the equivalent hard wall sits 1/κ beyond the
+ * face and its potential is F/κ lower (a first-order correction; what remains is of order
+ * (1/κ)² over the 4.8 nm Airy length squared): tolerance 1 %. */
+static void triangular_well(void **state) {
+  (void)state;
+  const char *text = "temperature = 300.0; field = 50.0;\n"
+                     "materials = ( { name = \"wall\"; Ec = 10.0; Ev = -10.0; me = 0.067; mhh = 0.4; mlh = 0.1; },\n"
+                     "              { name = \"chan\"; Ec = 0.0; Ev = -1.5; me = 0.067; mhh = 0.4; mlh = 0.1; } );\n"
+                     "layers = ( { material = \"wall\"; thickness = 2.0; },\n"
+                     "           { material = \"chan\"; thickness = 150.0; },\n"
+                     "           { material = \"chan\"; thickness = 5.0; } );\n";
+  ew_stack *st;
+  ew_result *r = solve_text(text, &st, NULL);
+  assert_non_null(r);
+  double F = 50.0 * 1e-4; /* eV/nm */
+  double kappa = sqrt(0.067 * 10.0 / K);
+  double wall = F * (2.0 - 1.0 / kappa - 0.5 * st->total_nm); /* at the equivalent hard wall */
+  double scale = cbrt(K / 0.067 * F * F);
+  const double a[] = {2.33811, 4.08795, 5.52056};
+  for (int n = 1; n <= 3; n++) {
+    const ew_state *s = elec(r, n);
+    assert_non_null(s);
+    double want = scale * a[n - 1];
+    TU_NEAR(s->energy_eV - wall, want, 0.01 * want, "Airy zeros, 1 %");
+  }
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
+/* Second-order Stark shift of the ground state of a deep well, infinite-well perturbation
+ * theory: ΔE = −(15 − π²)/(24π⁴) e²F² m L⁴/ħ² (e.g. G. Bastard, E. E. Mendez, L. L. Chang,
+ * L. Esaki, Phys. Rev. B 28, 3241 (1983), from memory; D. A. B. Miller et al., Phys. Rev. B
+ * 32, 1043 (1985)).  Finite barriers widen the effective well: the computed shift must lie
+ * between the formula at the geometric width L and at L + 2/κ (penetration on both sides),
+ * with 5 % allowance above the latter. */
+static double stark_formula(double F, double L, double m) {
+  return (15 - M_PI * M_PI) / (24 * pow(M_PI, 4)) * F * F * m * pow(L, 4) / (2 * K);
+}
+
+static void stark_shift(void **state) {
+  (void)state;
+  const char *fmt = "temperature = 300.0; field = %g;\n"
+                    "materials = ( { name = \"bar\"; Ec = 10.0; Ev = -10.0; me = 0.067; mhh = 0.4; mlh = 0.1; },\n"
+                    "              { name = \"w\"; Ec = 0.0; Ev = -1.5; me = 0.067; mhh = 0.4; mlh = 0.1; } );\n"
+                    "layers = ( { material = \"bar\"; thickness = 6.0; },\n"
+                    "           { material = \"w\"; thickness = 10.0; },\n"
+                    "           { material = \"bar\"; thickness = 6.0; } );\n";
+  char text[1024];
+  double E[2];
+  for (int k = 0; k < 2; k++) {
+    snprintf(text, sizeof text, fmt, k ? 10.0 : 0.0);
+    ew_stack *st;
+    ew_result *r = solve_text(text, &st, NULL);
+    assert_non_null(r);
+    E[k] = elec(r, 1)->energy_eV;
+    ew_result_free(r);
+    ew_stack_free(st);
+  }
+  double shift = E[0] - E[1], F = 10.0 * 1e-4, kappa = sqrt(0.067 * 10.0 / K);
+  double lo = stark_formula(F, 10.0, 0.067), hi = 1.05 * stark_formula(F, 10.0 + 2 / kappa, 0.067);
+  print_message("Stark shift at 10 kV/cm: %.4g µeV (bracket %.4g … %.4g µeV)\n", shift * 1e6,
+                lo * 1e6, hi * 1e6);
+  assert_true(shift > lo && shift < hi);
+}
+
+/* A parabolic well (digital-alloy style grading of a user alloy with linear Ec(x) and equal
+ * masses) has equally spaced levels E_n = (n + 1/2) ħω, ħω = sqrt(ħ² k / m), k = 8 ΔV / W²
+ * (harmonic oscillator, analytic).  Tolerance 1 % on each of the first four spacings. */
+static void parabolic_well(void **state) {
+  (void)state;
+  const char *text = "temperature = 300.0;\n"
+                     "materials = ( { name = \"A\"; Ec = 0.3; Ev = -1.8; me = 0.067; mhh = 0.4; mlh = 0.1; },\n"
+                     "              { name = \"B\"; Ec = 0.0; Ev = -1.5; me = 0.067; mhh = 0.4; mlh = 0.1; } );\n"
+                     "alloys = ( { name = \"AB\"; first = \"A\"; second = \"B\"; } );\n"
+                     "layers = ( { material = \"A\"; thickness = 20.0; },\n"
+                     "           { name = \"pw\"; material = \"AB\"; thickness = 40.0;\n"
+                     "             grade = { profile = \"parabolic\"; x_centre = 0.0; x_edge = 1.0; }; },\n"
+                     "           { material = \"A\"; thickness = 20.0; } );\n";
+  ew_stack *st;
+  ew_result *r = solve_text(text, &st, NULL);
+  assert_non_null(r);
+  double k = 8 * 0.3 / (40.0 * 40.0), hw = sqrt(2 * K * k / 0.067);
+  TU_NEAR(elec(r, 1)->energy_eV, 0.5 * hw, 0.01 * hw, "harmonic ground state");
+  for (int n = 1; n <= 4; n++)
+    TU_NEAR(elec(r, n + 1)->energy_eV - elec(r, n)->energy_eV, hw, 0.01 * hw, "equal spacing");
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
+/* A linear grade puts the composition's band edge at each node: Ec of AlGaAs graded 0 → 0.3
+ * at the centre equals Ec of Al0.15Ga0.85As (catalogue, same rule) within 2 meV (the bowing
+ * makes Ec(x) slightly curved between the 257 samples: far below that). */
+static void linear_grade_and_monolayers(void **state) {
+  (void)state;
+  const char *text = "temperature = 300.0;\n"
+                     "layers = ( { material = \"AlGaAs\"; x = 0.3; thickness = 20.0; },\n"
+                     "           { name = \"ramp\"; material = \"AlGaAs\"; thickness = 20.0;\n"
+                     "             grade = { profile = \"linear\"; x_start = 0.0; x_end = 0.3; }; },\n"
+                     "           { name = \"w\"; material = \"GaAs\"; thickness_ml = 23; },\n"
+                     "           { material = \"AlGaAs\"; x = 0.3; thickness = 20.0; } );\n";
+  ew_stack *st;
+  ew_result *r = solve_text(text, &st, NULL);
+  assert_non_null(r);
+  ew_bands mid;
+  assert_int_equal(ew_material_bands(cat, "AlGaAs", 0.15, 300.0, &mid, NULL), EW_OK);
+  TU_NEAR(ew_stack_edge_at(st, EW_BAND_E, 30.0), mid.Ec_eV, 2e-3, "graded Ec at the centre");
+  /* one monolayer of [001] zincblende is a/2 (GaAs: a = 0.565325 nm, Vurgaftman 2001, from
+     memory): 23 ML = 6.5012 nm */
+  TU_NEAR(st->layers[2].thickness_nm, 23 * 0.565325 / 2, 1e-9, "23 monolayers of GaAs");
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
+int main(void) {
+  const struct CMUnitTest tests[] = {
+      cmocka_unit_test(triangular_well),
+      cmocka_unit_test(stark_shift),
+      cmocka_unit_test(parabolic_well),
+      cmocka_unit_test(linear_grade_and_monolayers),
+  };
+  return cmocka_run_group_tests_name("physics", tests, setup, teardown);
+}
