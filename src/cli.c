@@ -9,12 +9,20 @@
 #include "epiwell.h"
 #include "materials.h"
 #include "output.h"
+#include "plot.h"
+#include "report.h"
 
 static const char usage[] =
     "usage:\n"
     "  epiwell solve STACK [--json] [-o DIR] [--gzip] [--grid-step NM] [--lines K|all]\n"
-    "                      [--no-estimate]\n"
+    "                      [--no-estimate] [--plot FILE.svg|FILE.png] [--report DIR]\n"
     "  epiwell materials [NAME [--x X] [--temperature K]]\n"
+    "  epiwell sweep STACK --vary KEY=FROM:TO:STEP [--vary ...] [--csv FILE] [--json]\n"
+    "                      [--threads N] [--shard K/N] [--no-header] [--levels N]\n"
+    "  epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE [--tolerance VALUE]\n"
+    "                      [--samples N] [--json] [--threads N]  (two unknowns: each twice)\n"
+    "  epiwell tolerance STACK [--dx DX] [--ladder LAYER] [--json] [--threads N]\n"
+    "    (sweep, match, tolerance also take --grid-step NM and --no-estimate)\n"
     "  epiwell --version | --help\n"
     "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"
     "too large, 5 file I/O error, 6 numerical failure\n";
@@ -48,6 +56,13 @@ static int cmd_materials(int argc, char **argv) {
       if (i + 1 >= argc) return bad_usage("%s needs a value", argv[i]);
       double *dst = argv[i][2] == 'x' ? &x : &T;
       if (!parse_num(argv[i + 1], dst)) return bad_usage("not a number: %s", argv[i + 1]);
+      /* robustness: a value out of range is a bad command line (exit 1) naming the option,
+         not a stack-file error (exit 2) */
+      if (dst == &x && (x < 0 || x > 1))
+        return bad_usage("--x wants a composition in [0, 1], got %s", argv[i + 1]);
+      if (dst == &T && (T < 0 || T > 1500))
+        return bad_usage("--temperature wants a temperature in K in [0, 1500], got %s",
+                         argv[i + 1]);
       i++;
     } else if (argv[i][0] == '-') {
       return bad_usage("unknown option %s", argv[i]);
@@ -62,13 +77,18 @@ static int cmd_materials(int argc, char **argv) {
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK) return report(&err);
   int rc = 0;
   if (!name) ew_catalogue_print(cat, stdout);
-  else if (ew_material_print(cat, name, x, T, stdout, &err) != EW_OK) rc = report(&err);
+  else if (ew_material_print(cat, name, x, T, stdout, &err) != EW_OK) {
+    /* robustness: NAME and the values come from the command line, so an input error here
+       (e.g. an unknown material name) is exit 1, not 2 ("error in the stack file") */
+    if (err.code == EW_ERR_INPUT) err.code = EW_ERR_USAGE;
+    rc = report(&err);
+  }
   ew_catalogue_free(cat);
   return rc;
 }
 
 static int cmd_solve(int argc, char **argv) {
-  const char *path = NULL, *outdir = NULL;
+  const char *path = NULL, *outdir = NULL, *plot = NULL, *repdir = NULL;
   int json = 0, gzip = -1;
   ew_options opt;
   ew_options_default(&opt);
@@ -80,11 +100,19 @@ static int cmd_solve(int argc, char **argv) {
       gzip = 1;
     } else if (!strcmp(a, "--no-estimate")) {
       opt.error_estimate = 0;
-    } else if (!strcmp(a, "-o") || !strcmp(a, "--grid-step") || !strcmp(a, "--lines")) {
+    } else if (!strcmp(a, "-o") || !strcmp(a, "--grid-step") || !strcmp(a, "--lines") ||
+               !strcmp(a, "--plot") || !strcmp(a, "--report")) {
       if (i + 1 >= argc) return bad_usage("%s needs a value", a);
       const char *v = argv[++i];
       if (!strcmp(a, "-o")) {
+        if (!v[0]) return bad_usage("%s", "-o wants a directory name, got an empty one"); /* robustness */
         outdir = v;
+      } else if (!strcmp(a, "--plot")) {
+        if (!ew_plot_format(v))
+          return bad_usage("--plot wants a file name ending in .svg or .png, got %s", v);
+        plot = v;
+      } else if (!strcmp(a, "--report")) {
+        repdir = v;
       } else if (!strcmp(a, "--grid-step")) {
         if (!parse_num(v, &opt.grid_step_nm) || opt.grid_step_nm <= 0 || opt.grid_step_nm > 1)
           return bad_usage("--grid-step wants a step in nm in (0, 1], got %s", v);
@@ -106,15 +134,19 @@ static int cmd_solve(int argc, char **argv) {
   }
   if (!path) return bad_usage("%s", "solve needs a stack file");
   ew_error err = {0};
-  /* an unwritable output directory fails before any work is done */
+  /* unwritable outputs (directories, picture file) fail before any work is done */
   if (outdir && ew_output_check_dir(outdir, &err) != EW_OK) return report(&err);
+  if (plot && ew_plot_check_path(plot, &err) != EW_OK) return report(&err);
+  if (repdir && ew_output_check_dir(repdir, &err) != EW_OK) return report(&err);
   ew_catalogue *cat = NULL;
   ew_stack *st = NULL;
   ew_result *res = NULL;
   int rc = 0;
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK || ew_stack_read_file(path, cat, &st, &err) != EW_OK ||
       ew_solve(st, &opt, &res, &err) != EW_OK ||
-      (outdir && ew_output_csv_dir(res, outdir, gzip, &err) != EW_OK)) {
+      (outdir && ew_output_csv_dir(res, outdir, gzip, &err) != EW_OK) ||
+      (plot && ew_plot_band_diagram(res, plot, &err) != EW_OK) ||
+      (repdir && ew_report_write(res, cat, repdir, &err) != EW_OK)) {
     rc = report(&err);
   } else {
     if (json) ew_output_json(res, stdout);
@@ -139,5 +171,8 @@ int main(int argc, char **argv) {
   }
   if (!strcmp(argv[1], "solve")) return cmd_solve(argc - 2, argv + 2);
   if (!strcmp(argv[1], "materials")) return cmd_materials(argc - 2, argv + 2);
+  if (!strcmp(argv[1], "sweep")) { int ew_cli_sweep(int, char **); return ew_cli_sweep(argc - 2, argv + 2); }
+  if (!strcmp(argv[1], "match")) { int ew_cli_match(int, char **); return ew_cli_match(argc - 2, argv + 2); }
+  if (!strcmp(argv[1], "tolerance")) { int ew_cli_tolerance(int, char **); return ew_cli_tolerance(argc - 2, argv + 2); }
   return bad_usage("unknown command %s", argv[1]);
 }

@@ -87,7 +87,8 @@ void ew_eigenpairs_free(ew_eigenpairs *e) {
   if (!e) return;
   free(e->values);
   free(e->vectors);
-  e->values = e->vectors = NULL;
+  free(e->residual);
+  e->values = e->vectors = e->residual = NULL;
   e->count = 0;
 }
 
@@ -502,4 +503,18 @@ ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *gues
   free(theta);
   free(rho2);
   return EW_OK;
+}
+
+double ew_eigen_index(const ew_pencil *p, size_t idx, double guess, double tol_eV,
+                      size_t *counts) {
+  size_t dummy = 0;
+  if (!counts) counts = &dummy;
+  tri t;
+  if (!tri_init(&t, p)) {
+    tri_free(&t);
+    return NAN;
+  }
+  double v = newton_index(&t, idx, guess, 1e-3, fmax(tol_eV, 4.0 * DBL_EPSILON * t.norm), counts);
+  tri_free(&t);
+  return v;
 }

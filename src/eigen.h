@@ -35,6 +35,8 @@ typedef struct {
   double *vectors;   /* [n × count] column j = eigenvector j, Bᵀ-normalised (xᵀBx = 1);
                         NULL in values-only mode */
   size_t factorizations, solves, counts; /* work done, for the benchmark */
+  double *residual;  /* [count] relative residuals when the producer computed them (the
+                        energy-dependent pencils of non-parabolic levels), else NULL */
 } ew_eigenpairs;
 
 /* All eigenpairs with lo < λ < hi.  want_vectors = 0: values only (bisection).
@@ -54,5 +56,10 @@ ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *gues
 
 /* Number of eigenvalues of the pencil below sigma (inertia of H − σB). */
 size_t ew_eigen_count_below(const ew_pencil *p, double sigma);
+
+/* The eigenvalue of p with 0-based index idx counted from −∞ (Newton on the LDLᵀ
+ * recurrence, guarded by the count), starting near guess; accurate to tol_eV. */
+double ew_eigen_index(const ew_pencil *p, size_t idx, double guess, double tol_eV,
+                      size_t *counts);
 
 #endif

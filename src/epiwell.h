@@ -150,6 +150,8 @@ double ew_result_window_eV(const ew_result *res, ew_band band);
  * failed residual checks, strain beyond the critical thickness, …). */
 #define EW_WARNING_MAX 400
 size_t ew_result_warning_count(const ew_result *res);
+/* One line naming the band model used (parabolic or Kane non-parabolic electrons). */
+const char *ew_result_model(const ew_result *res);
 const char *ew_result_warning(const ew_result *res, size_t i);
 
 #ifdef __cplusplus

@@ -15,6 +15,10 @@ void ew_pencil_free(ew_pencil *p) {
 }
 
 ew_pencil *ew_pencil_build(const ew_grid *g, ew_band band) {
+  return ew_pencil_build_mass(g, band, g->cell_mass[band]);
+}
+
+ew_pencil *ew_pencil_build_mass(const ew_grid *g, ew_band band, const double *M) {
   ew_pencil *p = calloc(1, sizeof *p);
   if (!p) return NULL;
   size_t n = g->n;
@@ -27,7 +31,7 @@ ew_pencil *ew_pencil_build(const ew_grid *g, ew_band band) {
     return NULL;
   }
   const double K = EW_HB2M0_EVNM2;
-  const double *M = g->cell_mass[band], *V = g->pot[band];
+  const double *V = g->pot[band];
   p->vmin = INFINITY;
   p->vmax = -INFINITY;
   for (size_t i = 0; i < n; i++) {

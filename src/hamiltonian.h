@@ -20,6 +20,8 @@ typedef struct {
 
 /* Allocate and fill the pencil of band on g; NULL when out of memory. */
 ew_pencil *ew_pencil_build(const ew_grid *g, ew_band band);
+/* The same with the cell mass integrals M[n+1] given (energy-dependent masses). */
+ew_pencil *ew_pencil_build_mass(const ew_grid *g, ew_band band, const double *M);
 void ew_pencil_free(ew_pencil *p);
 /* r = Hx − e·Bx; returns ||r||_2 / (||H||_∞ ||x||_2), the relative residual. */
 double ew_pencil_residual(const ew_pencil *p, const double *x, double e);

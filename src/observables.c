@@ -16,7 +16,10 @@ double ew_obs_dipole(const ew_grid *g, const double *a, const double *b) {
 }
 
 double ew_obs_inverse_mass(const ew_grid *g, ew_band band, const double *a) {
-  const double *M = g->cell_mass[band];
+  return ew_obs_inverse_mass_M(g, g->cell_mass[band], a);
+}
+
+double ew_obs_inverse_mass_M(const ew_grid *g, const double *M, const double *a) {
   double s = 0.0;
   for (size_t c = 1; c < g->n; c++) s += g->h[c] * g->h[c] / M[c] * a[c - 1] * a[c];
   return s;

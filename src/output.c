@@ -17,8 +17,12 @@ static const ew_state *st_of(const ew_result *r, size_t i) { return &r->states[i
 /* ---- table ---------------------------------------------------------------------------- */
 void ew_output_table(const ew_result *r, FILE *out) {
   const ew_stack *st = r->stack;
-  fprintf(out, "epiwell %s  %s  T = %g K  grid %.4g nm (%zu nodes)\n\n", EW_VERSION, st->path,
+  fprintf(out, "epiwell %s  %s  T = %g K  grid %.4g nm (%zu nodes)\n", EW_VERSION, st->path,
           st->temperature_K, r->step_nm, r->grid->n);
+  fprintf(out, "model: %s", ew_result_model(r));
+  if (st->field_kV_cm != 0.0) fprintf(out, "; field %g kV/cm along +z", st->field_kV_cm);
+  if (st->substrate[0]) fprintf(out, "; pseudomorphic on %s", st->substrate);
+  fprintf(out, "\n\n");
   fprintf(out, "Layers (growth order)\n");
   fprintf(out, "  %-3s %-14s %-14s %6s %10s %9s %9s %9s %7s %7s %7s\n", "#", "name", "material",
           "x", "from_nm", "thick_nm", "Ec_eV", "Ev_eV", "me", "mhh", "mlh");
@@ -60,12 +64,19 @@ void ew_output_table(const ew_result *r, FILE *out) {
     const ew_line *ln = &r->lines[i];
     if (ln->kind != EW_LINE_INTERBAND) continue;
     if (!head++)
-      fprintf(out, "\nInterband lines\n  %-10s %11s %10s %9s  %s\n", "line", "energy_eV",
-              "lambda_nm", "overlap", "");
+      fprintf(out, "\nInterband lines (band to band; PL peak = line − exciton binding)\n"
+                   "  %-10s %11s %10s %9s %10s %10s %6s %6s  %s\n",
+              "line", "energy_eV", "lambda_nm", "overlap", "Xbind_meV", "PL_eV", "TE", "TM", "");
     char nm[40];
     snprintf(nm, sizeof nm, "%s-%s", st_of(r, ln->upper)->label, st_of(r, ln->lower)->label);
-    fprintf(out, "  %-10s %11.5f %10.2f %9.4f  %s\n", nm, ln->energy_eV, ln->wavelength_nm,
-            ln->overlap, ln->allowed ? "allowed" : "forbidden");
+    fprintf(out, "  %-10s %11.5f %10.2f %9.4f %10.2f %10.5f %6.3f %6.3f  %s\n", nm,
+            ln->energy_eV, ln->wavelength_nm, ln->overlap, ln->exciton_binding_eV * 1e3,
+            ln->pl_peak_eV, ln->te_strength, ln->tm_strength,
+            ln->allowed ? "allowed" : "forbidden");
+  }
+  if (r->n_warnings) {
+    fprintf(out, "\nWarnings\n");
+    for (size_t i = 0; i < r->n_warnings; i++) fprintf(out, "  - %s\n", r->warnings[i]);
   }
   fputc('\n', out);
 }
@@ -97,7 +108,16 @@ void ew_output_json(const ew_result *r, FILE *out) {
   jnum(out, st->temperature_K);
   fprintf(out, ",\"grid_step_nm\":");
   jnum(out, r->step_nm);
-  fprintf(out, ",\"nodes\":%zu,\"layers\":[", r->grid->n);
+  fprintf(out, ",\"nodes\":%zu,\"model\":", r->grid->n);
+  jstr(out, ew_result_model(r));
+  fprintf(out, ",\"field_kV_cm\":");
+  jnum(out, st->field_kV_cm);
+  fprintf(out, ",\"warnings\":[");
+  for (size_t i = 0; i < r->n_warnings; i++) {
+    if (i) fputc(',', out);
+    jstr(out, r->warnings[i]);
+  }
+  fprintf(out, "],\"layers\":[");
   for (size_t k = 0; k < st->n_layers; k++) {
     const ew_layer *ly = &st->layers[k];
     fprintf(out, "%s{\"name\":", k ? "," : "");
@@ -154,6 +174,10 @@ void ew_output_json(const ew_result *r, FILE *out) {
       fprintf(out, ",\"wavelength_nm\":"), jnum(out, ln->wavelength_nm);
       fprintf(out, ",\"overlap\":"), jnum(out, ln->overlap);
       fprintf(out, ",\"allowed\":%s", ln->allowed ? "true" : "false");
+      fprintf(out, ",\"exciton_binding_eV\":"), jnum(out, ln->exciton_binding_eV);
+      fprintf(out, ",\"pl_peak_eV\":"), jnum(out, ln->pl_peak_eV);
+      fprintf(out, ",\"te_strength\":"), jnum(out, ln->te_strength);
+      fprintf(out, ",\"tm_strength\":"), jnum(out, ln->tm_strength);
     }
     fputc('}', out);
   }
@@ -210,15 +234,16 @@ static void write_levels(const ew_result *r, sink *s) {
 }
 
 static void write_lines(const ew_result *r, sink *s) {
-  sk_printf(s, "kind,upper,lower,energy_eV,wavelength_nm,wavelength_um,dipole_nm,oscillator_strength,overlap,allowed\n");
+  sk_printf(s, "kind,upper,lower,energy_eV,wavelength_nm,wavelength_um,dipole_nm,oscillator_strength,overlap,allowed,exciton_binding_eV,pl_peak_eV,te_strength,tm_strength\n");
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
     int isb = ln->kind == EW_LINE_INTERSUBBAND;
     sk_printf(s, "%s,%s,%s,%.10f,%.6f,%.8f,", isb ? "intersubband" : "interband",
               st_of(r, ln->upper)->label, st_of(r, ln->lower)->label, ln->energy_eV,
               ln->wavelength_nm, ln->wavelength_nm / 1e3);
-    if (isb) sk_printf(s, "%.8f,%.8f,,1\n", ln->dipole_nm, ln->oscillator_strength);
-    else sk_printf(s, ",,%.8f,%d\n", ln->overlap, ln->allowed);
+    if (isb) sk_printf(s, "%.8f,%.8f,,1,,,,\n", ln->dipole_nm, ln->oscillator_strength);
+    else sk_printf(s, ",,%.8f,%d,%.8f,%.10f,%.6f,%.6f\n", ln->overlap, ln->allowed,
+                   ln->exciton_binding_eV, ln->pl_peak_eV, ln->te_strength, ln->tm_strength);
   }
 }
 

@@ -16,6 +16,8 @@
 
 #include "constants.h"
 #include "error.h"
+#include "exciton.h"
+#include "nonparabolic.h"
 #include "observables.h"
 
 #define EW_DEFAULT_STEP_NM 0.05
@@ -104,6 +106,11 @@ static int add_warning(ew_result *r, const char *fmt, ...) {
 }
 
 size_t ew_result_warning_count(const ew_result *r) { return r->n_warnings; }
+const char *ew_result_model(const ew_result *r) {
+  return r->nonparabolic ? "BenDaniel-Duke; electrons with the Kane energy-dependent mass "
+                           "(non-parabolic), holes parabolic"
+                         : "BenDaniel-Duke, parabolic bands";
+}
 const char *ew_result_warning(const ew_result *r, size_t i) {
   return i < r->n_warnings ? r->warnings[i] : NULL;
 }
@@ -157,6 +164,14 @@ static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band,
     ew_pencil_free(p);
     return EW_OK;
   }
+  if (band == EW_BAND_E && ew_nonparabolic_applies(r->stack)) {
+    ew_pencil_free(p);
+    rc = ew_nonparabolic_levels(r->stack, g, coarse, lo, top, fine, coarse_vals,
+                                &r->work_counts, err);
+    *n_coarse = rc == EW_OK && coarse ? fine->count : 0;
+    r->nonparabolic = rc == EW_OK;
+    return rc;
+  }
   rc = ew_eigen_window(p, lo, top, 1, fine, err);
   ew_pencil_free(p);
   r->work_factorizations += fine->factorizations;
@@ -205,7 +220,16 @@ static ew_status add_lines(ew_result *r, ew_error *err) {
     for (size_t i = 0; i < cnt[b] && i < K; i++) {
       size_t si = first[b] + i;
       const double *pi = r->psi + si * g->n;
-      double invm = ew_obs_inverse_mass(g, (ew_band)b, pi);
+      double invm;
+      if (b == EW_BAND_E && r->nonparabolic) { /* the masses at the lower state's energy */
+        double *M = malloc((g->n + 1) * sizeof *M);
+        if (!M) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (lines)");
+        ew_nonparabolic_cell_masses(r->stack, g, r->states[si].energy_eV, M);
+        invm = ew_obs_inverse_mass_M(g, M, pi);
+        free(M);
+      } else {
+        invm = ew_obs_inverse_mass(g, (ew_band)b, pi);
+      }
       for (size_t j = i + 1; j < cnt[b]; j++) {
         size_t sj = first[b] + j;
         if (!grow((void **)&r->lines, &cap, r->n_lines + 1, sizeof *r->lines))
@@ -330,7 +354,7 @@ ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out,
       if (psi[imax] < 0)
         for (size_t i = 0; i < n; i++) psi[i] = -psi[i];
       double e = fine[b].values[j];
-      q->residual = ew_pencil_residual(p, psi, e);
+      q->residual = fine[b].residual ? fine[b].residual[j] : ew_pencil_residual(p, psi, e);
       q->flagged = !(q->residual <= opt.residual_tol);
       q->band = (ew_band)b;
       q->n = (int)kept;
@@ -382,6 +406,8 @@ ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out,
       goto fail;
     }
   rc = add_lines(r, err);
+  if (rc != EW_OK) goto fail;
+  rc = ew_result_add_excitons(r, err);
   if (rc != EW_OK) goto fail;
   for (int b = 0; b < EW_BAND_COUNT; b++) {
     ew_eigenpairs_free(&fine[b]);

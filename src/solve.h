@@ -18,6 +18,7 @@ struct ew_result {
   size_t band_count[EW_BAND_COUNT];
   double window_eV[EW_BAND_COUNT]; /* upper end of the bound window, absolute eV */
   size_t work_factorizations, work_solves, work_counts;
+  int nonparabolic;                /* electrons solved with the Kane mass */
   size_t dropped[EW_BAND_COUNT];   /* box states of a field-tilted continuum left out */
   size_t n_warnings;
   char (*warnings)[EW_WARNING_MAX];

@@ -635,6 +635,10 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
   if (got && L->thickness_nm <= 0)
     return fail(r, lth, "thickness of layer '%s' must be positive (got %g nm)", L->name,
                 L->thickness_nm);
+  if (got && L->thickness_nm < MIN_LAYER_NM) /* robustness: see MIN_LAYER_NM */
+    return fail(r, lth, "thickness of layer '%s' is %g nm, below the %g nm minimum (one "
+                "monolayer is about 0.28 nm; units are nm)", L->name, L->thickness_nm,
+                MIN_LAYER_NM);
   if (got && L->thickness_nm > MAX_LAYER_NM)
     return fail(r, lth, "thickness of layer '%s' is %g nm, above the %g nm limit (units are nm)",
                 L->name, L->thickness_nm, MAX_LAYER_NM);
@@ -852,6 +856,23 @@ static int text_is_blank(const char *text) {
   return 1;
 }
 
+/* robustness: libconfig 1.5 honours '@include "FILE"' at the start of a line and offers no
+ * way to turn it off.  An include reads any file, bypasses the size and NUL checks of
+ * ew_stack_read_file, dates its errors with the wrong file, and blocks forever on a FIFO or
+ * a terminal.  Stack files are self-contained, so refuse the directive: returns the
+ * 1-based line of the first line that is blanks then "@include", 0 when there is none. */
+static int include_line(const char *text) {
+  int line = 1;
+  for (const char *p = text; *p; line++) {
+    while (*p == ' ' || *p == '\t' || *p == '\r' || *p == '\f' || *p == '\v') p++;
+    if (strncmp(p, "@include", 8) == 0) return line;
+    p = strchr(p, '\n');
+    if (!p) break;
+    p++;
+  }
+  return 0;
+}
+
 static ew_status read_text(const char *text, const char *name, const ew_catalogue *cat,
                            ew_stack **out, ew_error *err) {
   reader r = {name, text, cat, err, NULL, 0, NULL, 0, 0.0};
@@ -865,7 +886,11 @@ static ew_status read_text(const char *text, const char *name, const ew_catalogu
   config_t cfg;
   config_init(&cfg);
   ew_status st = EW_OK;
-  if (!config_read_string(&cfg, text)) {
+  int inc = include_line(text); /* robustness: see include_line */
+  if (inc > 0) {
+    st = fail(&r, inc, "'@include' is not supported in stack files: put every setting in "
+              "the one file");
+  } else if (!config_read_string(&cfg, text)) {
     int line = config_error_line(&cfg);
     const char *why = config_error_text(&cfg);
     st = fail(&r, line > 0 ? line : 1, "cannot parse the stack file: %s (libconfig syntax: "

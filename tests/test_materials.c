@@ -176,20 +176,38 @@ static void test_all_entries(void **state) {
     const char *name = ew_catalogue_name(cat, i);
     assert_non_null(ew_catalogue_description(cat, i));
     int alloy = ew_catalogue_is_alloy(cat, name);
+    int quat = ew_catalogue_needs_y(cat, name);
     assert_true(alloy == 0 || alloy == 1);
+    assert_true(quat == 0 || (quat == 1 && alloy == 1));
+    assert_true((ew_catalogue_y_is(cat, i) != NULL) == quat);
+    /* quaternaries on a 5 × 5 grid (x + y <= 1 kept for the Al(x)Ga(y)In(1-x-y)As kind) */
     for (int k = 0; k <= 4; k++) {
-      double x = alloy ? 0.25 * k : 0.0;
-      for (int t = 0; t < 2; t++) {
-        ew_bands b = bands_ok(cat, name, x, t ? 300.0 : 0.0);
-        if (!(b.Eg_G_eV > 0 && b.me > 0 && b.mhh_z > 0 && b.mlh_z > 0 && b.Ec_eV > b.Ev_eV))
-          fail_msg("%s at x = %g: implausible bands", name, x);
+      for (int j = 0; j <= (quat ? 4 : 0); j++) {
+        double x = alloy ? 0.25 * k : 0.0, y = 0.25 * j;
+        if (quat && strcmp(name, "AlGaInAs") == 0 && x + y > 1.0) continue;
+        for (int t = 0; t < 2; t++) {
+          ew_bands b;
+          ew_error err;
+          char buf[1600];
+          if (ew_material_bands_on(cat, name, x, y, t ? 300.0 : 0.0, 0.0, &b, &err) != EW_OK)
+            fail_msg("%s bands: %s", name, ew_error_text(&err, buf, sizeof buf));
+          if (!(b.Eg_G_eV > 0 && b.me > 0 && b.mhh_z > 0 && b.mlh_z > 0 && b.Ec_eV > b.Ev_eV))
+            fail_msg("%s at x = %g, y = %g: implausible bands", name, x, y);
+          if (!quat) {
+            ew_bands old = bands_ok(cat, name, x, t ? 300.0 : 0.0);
+            if (memcmp(&old, &b, sizeof b) != 0)
+              fail_msg("%s: ew_material_bands_on without substrate differs from "
+                       "ew_material_bands", name);
+          }
+        }
+        ew_params p;
+        ew_error err;
+        if (quat) assert_int_equal(ew_material_params2(cat, name, x, y, &p, &err), EW_OK);
+        else assert_int_equal(ew_material_params(cat, name, x, &p, &err), EW_OK);
+        for (int q = 0; q < EW_P_COUNT; q++)
+          if (p.have[q] && !(p.source[q] && p.source[q][0]))
+            fail_msg("%s: %s has no source", name, ew_param_key((ew_param)q));
       }
-      ew_params p;
-      ew_error err;
-      assert_int_equal(ew_material_params(cat, name, x, &p, &err), EW_OK);
-      for (int q = 0; q < EW_P_COUNT; q++)
-        if (p.have[q] && !(p.source[q] && p.source[q][0]))
-          fail_msg("%s: %s has no source", name, ew_param_key((ew_param)q));
     }
   }
   assert_true(ew_catalogue_find(cat, "GaAs") >= 0);
@@ -235,6 +253,116 @@ static void test_print(void **state) {
   assert_non_null(strstr(buf, "x = Al fraction"));
   free(buf);
   assert_int_equal(ew_material_print(cat, "AlGaAs", 2.0, 300, stdout, &err), EW_ERR_INPUT);
+}
+
+/* ---- quaternaries --------------------------------------------------------------------- */
+
+/* every parameter of a and b, and their gaps at 300 K, agree to tol */
+static void same_material(const ew_catalogue *cat, const char *qa, double xa, double ya,
+                          const char *qb, double xb, double yb, double tol, const char *why) {
+  ew_params pa, pb;
+  ew_error err;
+  assert_int_equal(ew_material_params2(cat, qa, xa, ya, &pa, &err), EW_OK);
+  assert_int_equal(ew_material_params2(cat, qb, xb, yb, &pb, &err), EW_OK);
+  /* a quaternary knows a parameter only when all its corners do (InP has no Eg_X in this
+   * catalogue, so InGaAsP has none even on its InGaAs edge): compare where both know it,
+   * and require the quaternary side to know at least what a binary does */
+  int n_common = 0;
+  for (int q = 0; q < EW_P_COUNT; q++) {
+    if (pa.have[q] && !pb.have[q])
+      fail_msg("%s: %s known to %s but not to %s", why, ew_param_key((ew_param)q), qa, qb);
+    if (!(pa.have[q] && pb.have[q])) continue;
+    n_common++;
+    if (!(fabs(pa.v[q] - pb.v[q]) <= tol * (1 + fabs(pb.v[q]))))
+      fail_msg("%s: %s %.12g vs %.12g", why, ew_param_key((ew_param)q), pa.v[q], pb.v[q]);
+  }
+  ew_bands ba, bb;
+  assert_int_equal(ew_material_bands_on(cat, qa, xa, ya, 300, 0, &ba, &err), EW_OK);
+  assert_int_equal(ew_material_bands_on(cat, qb, xb, yb, 300, 0, &bb, &err), EW_OK);
+  if (n_common < 20) fail_msg("%s: only %d parameters in common", why, n_common);
+  CHECK_NEAR(ba.Eg_G_eV, bb.Eg_G_eV, tol, why);
+  if (ba.Eg_X_eV != 0 && bb.Eg_X_eV != 0) CHECK_NEAR(ba.Eg_X_eV, bb.Eg_X_eV, tol, why);
+  if (ba.Eg_L_eV != 0 && bb.Eg_L_eV != 0) CHECK_NEAR(ba.Eg_L_eV, bb.Eg_L_eV, tol, why);
+}
+
+static void test_quaternary_edges(void **state) {
+  const ew_catalogue *cat = *state;
+  /* the quaternary forms (materials.h) reduce to the bounding ternary on each edge and to
+   * the binary at each corner (analytic property of the interpolation); tolerance 1e-12
+   * relative */
+  for (int k = 1; k < 10; k++) {
+    double t = 0.1 * k;
+    /* InGaAsP = Ga(x)In(1-x)As(y)P(1-y) */
+    same_material(cat, "InGaAsP", t, 1, "InGaAs", 1 - t, 0, 1e-12, "InGaAsP y = 1 is InGaAs");
+    same_material(cat, "InGaAsP", t, 0, "GaInP", t, 0, 1e-12, "InGaAsP y = 0 is GaInP");
+    same_material(cat, "InGaAsP", 1, t, "GaAsP", t, 0, 1e-12, "InGaAsP x = 1 is GaAsP");
+    same_material(cat, "InGaAsP", 0, t, "InAsP", t, 0, 1e-12, "InGaAsP x = 0 is InAsP");
+    /* AlGaInAs = Al(x)Ga(y)In(1-x-y)As */
+    same_material(cat, "AlGaInAs", t, 0, "AlInAs", t, 0, 1e-12, "AlGaInAs y = 0 is AlInAs");
+    same_material(cat, "AlGaInAs", 0, t, "InGaAs", 1 - t, 0, 1e-12, "AlGaInAs x = 0 is InGaAs");
+    same_material(cat, "AlGaInAs", t, 1 - t, "AlGaAs", t, 0, 1e-12, "AlGaInAs x + y = 1 is AlGaAs");
+  }
+  same_material(cat, "InGaAsP", 1, 1, "GaAs", 0, 0, 1e-12, "InGaAsP corner GaAs");
+  same_material(cat, "InGaAsP", 0, 0, "InP", 0, 0, 1e-12, "InGaAsP corner InP");
+  same_material(cat, "AlGaInAs", 1, 0, "AlAs", 0, 0, 1e-12, "AlGaInAs corner AlAs");
+  same_material(cat, "AlGaInAs", 0, 0, "InAs", 0, 0, 1e-12, "AlGaInAs corner InAs");
+  /* inside: the formula by hand for Ga0.42In0.58As0.9P0.1 at 0 K, Γ gap, with the
+   * catalogue's Vurgaftman 2001 values (from memory): binaries GaAs 1.519, GaP 2.886, InAs
+   * 0.417, InP 1.4236; bowings InGaAs 0.477, GaInP 0.65, GaAsP 0.19, InAsP 0.10 eV;
+   * tolerance 1e-12 eV */
+  double x = 0.42, y = 0.9;
+  double want = x * y * 1.519 + x * (1 - y) * 2.886 + (1 - x) * y * 0.417 +
+                (1 - x) * (1 - y) * 1.4236 - x * (1 - x) * (y * 0.477 + (1 - y) * 0.65) -
+                y * (1 - y) * (x * 0.19 + (1 - x) * 0.10);
+  ew_bands b;
+  ew_error err;
+  assert_int_equal(ew_material_bands_on(cat, "InGaAsP", x, y, 0, 0, &b, &err), EW_OK);
+  CHECK_NEAR(b.Eg_G_eV, want, 1e-12, "Ga0.42In0.58As0.9P0.1 Eg(0 K), square form");
+  /* triangle by hand, Al0.2Ga0.25In0.55As at 0 K: AlAs 3.099, GaAs 1.519, InAs 0.417;
+   * AlGaAs C = −0.127 + 1.310 u at u = (1 + x − y)/2, InGaAs 0.477, AlInAs 0.70 eV;
+   * tolerance 1e-12 eV */
+  x = 0.2, y = 0.25;
+  double z = 1 - x - y, u = 0.5 * (1 + x - y);
+  want = x * 3.099 + y * 1.519 + z * 0.417 - x * y * (-0.127 + 1.310 * u) - y * z * 0.477 -
+         x * z * 0.70;
+  assert_int_equal(ew_material_bands_on(cat, "AlGaInAs", x, y, 0, 0, &b, &err), EW_OK);
+  CHECK_NEAR(b.Eg_G_eV, want, 1e-12, "Al0.2Ga0.25In0.55As Eg(0 K), triangle form");
+  /* Al0.48In0.52As (y = 0) at 300 K near 1.45 eV (common practice, from memory);
+   * tolerance 0.03 eV */
+  assert_int_equal(ew_material_bands_on(cat, "AlGaInAs", 0.48, 0, 300, 0, &b, &err), EW_OK);
+  CHECK_NEAR(b.Eg_G_eV, 1.45, 0.03, "Al0.48In0.52As Eg(300 K) (from memory)");
+}
+
+static void test_quaternary_inputs(void **state) {
+  const ew_catalogue *cat = *state;
+  ew_bands b;
+  ew_params p;
+  ew_error err;
+  assert_int_equal(ew_catalogue_needs_y(cat, "InGaAsP"), 1);
+  assert_int_equal(ew_catalogue_needs_y(cat, "InGaAs"), 0);
+  assert_int_equal(ew_catalogue_needs_y(cat, "GaAs"), 0);
+  assert_int_equal(ew_catalogue_needs_y(cat, "Unobtainium"), -1);
+  assert_int_equal(ew_catalogue_is_alloy(cat, "InGaAsP"), 1);
+  long i = ew_catalogue_find(cat, "InGaAsP");
+  assert_true(i >= 0);
+  assert_non_null(strstr(ew_catalogue_x_is(cat, (size_t)i), "Ga"));
+  assert_non_null(strstr(ew_catalogue_y_is(cat, (size_t)i), "As"));
+  /* the y-less API refuses quaternaries, naming what y is */
+  assert_int_equal(ew_material_bands(cat, "InGaAsP", 0.4, 300, &b, &err), EW_ERR_INPUT);
+  assert_non_null(strstr(err.message, "quaternary"));
+  assert_non_null(strstr(err.message, "As fraction"));
+  assert_int_equal(ew_material_params(cat, "InGaAsP", 0.4, &p, &err), EW_ERR_INPUT);
+  /* y out of range, x + y > 1 on the triangle */
+  assert_int_equal(ew_material_bands_on(cat, "InGaAsP", 0.4, 1.2, 300, 0, &b, &err), EW_ERR_INPUT);
+  assert_int_equal(ew_material_bands_on(cat, "InGaAsP", 0.4, NAN, 300, 0, &b, &err), EW_ERR_INPUT);
+  assert_int_equal(ew_material_bands_on(cat, "AlGaInAs", 0.6, 0.6, 300, 0, &b, &err), EW_ERR_INPUT);
+  assert_non_null(strstr(err.message, "exceeds 1"));
+  assert_int_equal(ew_material_bands_on(cat, "GaAs", 0, 0, 300, NAN, &b, &err), EW_ERR_INPUT);
+  /* y is ignored for ternaries and binaries (old functions = y unused) */
+  ew_bands t1, t2;
+  assert_int_equal(ew_material_bands_on(cat, "InGaAs", 0.3, 7.0, 300, 0, &t1, &err), EW_OK);
+  assert_int_equal(ew_material_bands(cat, "InGaAs", 0.3, 300, &t2, &err), EW_OK);
+  assert_memory_equal(&t1, &t2, sizeof t1);
 }
 
 /* ---- malformed catalogues (temporary directory) --------------------------------------- */
@@ -381,6 +509,92 @@ static void test_malformed(void **state) {
   expect_error(dir, dir, 0, "cannot open");
 }
 
+/* Quaternary schema errors, each at file:line; a_v sign refused. */
+static void test_malformed_quaternary(void **state) {
+  (void)state;
+  char dir[] = "/tmp/ew_quaternary_XXXXXX";
+  assert_non_null(mkdtemp(dir));
+  char bin[3][sizeof good_binary + 8];
+  for (int k = 0; k < 3; k++) {
+    snprintf(bin[k], sizeof bin[k], "%s", good_binary);
+    bin[k][9] = (char)('a' + k); /* name = "Xa", "Xb", "Xc" */
+  }
+  write_file(dir, "A.cfg", bin[0]);
+  write_file(dir, "B.cfg", bin[1]);
+  write_file(dir, "C.cfg", bin[2]);
+  write_file(dir, "E.cfg",
+             "name = \"XaXb\";\nkind = \"alloy\";\nfirst = \"Xa\";\nsecond = \"Xb\";\n"
+             "x_is = \"Xa fraction\";\n");
+  write_file(dir, "F.cfg",
+             "name = \"XbXc\";\nkind = \"alloy\";\nfirst = \"Xc\";\nsecond = \"Xb\";\n"
+             "x_is = \"Xc fraction\";\n");
+  static const char head[] = "name = \"Q\";\nkind = \"quaternary\";\ndescription = \"Xa(x)Xb(y)Xc(1-x-y)\";\n"
+                             "x_is = \"Xa fraction\";\ny_is = \"Xb fraction\";\n";
+  char q[1024];
+  /* the Xa–Xc ternary is missing: error at the binaries line (7) */
+  snprintf(q, sizeof q, "%sscheme = \"triangle\";\nbinaries = [\"Xa\", \"Xb\", \"Xc\"];\n", head);
+  write_file(dir, "G.cfg", q);
+  expect_error(dir, "G.cfg", 7, "ternary alloy of Xa and Xc");
+  /* unknown scheme (line 6) */
+  snprintf(q, sizeof q, "%sscheme = \"hexagon\";\nbinaries = [\"Xa\", \"Xb\", \"Xc\"];\n", head);
+  write_file(dir, "G.cfg", q);
+  expect_error(dir, "G.cfg", 6, "scheme must be");
+  /* wrong number of binaries for the scheme (line 7) */
+  snprintf(q, sizeof q, "%sscheme = \"square\";\nbinaries = [\"Xa\", \"Xb\", \"Xc\"];\n", head);
+  write_file(dir, "G.cfg", q);
+  expect_error(dir, "G.cfg", 7, "array of 4 names");
+  /* a corner that is not in the catalogue (line 7), with a suggestion */
+  snprintf(q, sizeof q, "%sscheme = \"triangle\";\nbinaries = [\"Xa\", \"Xb\", \"Xd\"];\n", head);
+  write_file(dir, "G.cfg", q);
+  expect_error(dir, "G.cfg", 7, "corner binary 'Xd'");
+  /* values of its own are refused (line 8) */
+  snprintf(q, sizeof q, "%sscheme = \"triangle\";\nbinaries = [\"Xa\", \"Xb\", \"Xc\"];\n"
+           "bowing = { Eg_G = { value = 0.1; source = \"test\"; }; };\n", head);
+  write_file(dir, "G.cfg", q);
+  expect_error(dir, "G.cfg", 8, "not allowed");
+  /* y_is belongs to quaternaries (line 6 of an alloy) */
+  write_file(dir, "G.cfg",
+             "name = \"XaXc\";\nkind = \"alloy\";\nfirst = \"Xa\";\nsecond = \"Xc\";\n"
+             "x_is = \"Xa fraction\";\ny_is = \"nothing\";\n");
+  expect_error(dir, "G.cfg", 6, "belongs to quaternaries");
+  /* with the third ternary the quaternary loads and works */
+  write_file(dir, "G.cfg",
+             "name = \"XaXc\";\nkind = \"alloy\";\nfirst = \"Xa\";\nsecond = \"Xc\";\n"
+             "x_is = \"Xa fraction\";\n");
+  snprintf(q, sizeof q, "%sscheme = \"triangle\";\nbinaries = [\"Xa\", \"Xb\", \"Xc\"];\n", head);
+  write_file(dir, "H.cfg", q);
+  ew_catalogue *cat = NULL;
+  ew_error err;
+  char buf[1600];
+  if (ew_catalogue_load(dir, &cat, &err) != EW_OK)
+    fail_msg("test quaternary catalogue: %s", ew_error_text(&err, buf, sizeof buf));
+  assert_int_equal(ew_catalogue_needs_y(cat, "Q"), 1);
+  ew_bands b;
+  assert_int_equal(ew_material_bands_on(cat, "Q", 0.2, 0.3, 300, 0, &b, &err), EW_OK);
+  /* all three test binaries are identical: the quaternary equals them (1e-12 eV) */
+  CHECK_NEAR(b.Eg_G_eV, ew_varshni(1.5, 0.5, 200, 300), 1e-12, "identical corners");
+  /* no a_lattice in the test binaries: strain and matching refuse with the reason */
+  assert_int_equal(ew_material_bands_on(cat, "Q", 0.2, 0.3, 300, 0.565, &b, &err), EW_ERR_CATALOGUE);
+  assert_non_null(strstr(err.message, "a_lattice"));
+  ew_catalogue_free(cat);
+  /* a binary with a positive a_v (the other sign convention) is refused at its line (9) */
+  static const char pos_av[] =
+      "name = \"Xa\";\nkind = \"binary\";\ndescription = \"t\";\nparams = {\n"
+      "  Eg_G = { value = 1.5; source = \"test\"; };\n  alpha_G = { value = 0.5; source = \"test\"; };\n"
+      "  beta_G = { value = 200; source = \"test\"; };\n  VBO = { value = -0.8; source = \"test\"; };\n"
+      "  a_v = { value = 1.16; source = \"test\"; };\n  me = { value = 0.07; source = \"test\"; };\n"
+      "  gamma1 = { value = 7.0; source = \"test\"; };\n  gamma2 = { value = 2.0; source = \"test\"; };\n};\n";
+  write_file(dir, "A.cfg", pos_av);
+  expect_error(dir, "A.cfg", 9, "a_v = 1.16 eV > 0");
+  static const char *const names[] = {"A.cfg", "B.cfg", "C.cfg", "E.cfg", "F.cfg", "G.cfg", "H.cfg"};
+  for (size_t k = 0; k < sizeof names / sizeof names[0]; k++) {
+    char path[256];
+    snprintf(path, sizeof path, "%s/%s", dir, names[k]);
+    unlink(path);
+  }
+  rmdir(dir);
+}
+
 /* ew_catalogue_load(NULL) honours $EPIWELL_MATERIALS, and names it when it is wrong. */
 static void test_env_search(void **state) {
   (void)state;
@@ -429,6 +643,9 @@ int main(void) {
       cmocka_unit_test(test_all_entries),
       cmocka_unit_test(test_bad_inputs),
       cmocka_unit_test(test_print),
+      cmocka_unit_test(test_quaternary_edges),
+      cmocka_unit_test(test_quaternary_inputs),
+      cmocka_unit_test(test_malformed_quaternary),
       cmocka_unit_test(test_malformed),
       cmocka_unit_test(test_env_search),
   };

@@ -1,0 +1,447 @@
+/* exciton.c — quasi-2D exciton binding (G. Bastard, E. E. Mendez, L. L. Chang, L. Esaki,
+ * Phys. Rev. B 26, 1974 (1982)) and interband polarisation weights (S. L. Chuang, Physics of
+ * Photonic Devices (Wiley, 2009), ch. 9).  See exciton.h for the formulas.
+ *
+ * Numerics.
+ *  1. P(d): the weights p_i = w_i ψ_i² of the electron and of the hole (box quadrature of
+ *     the grid, normalised to 1; tails holding less than EW_EXC_TAIL each side dropped) are
+ *     assigned linearly (cloud-in-cell) to one uniform mesh of M <= EW_EXC_MESH_MAX nodes,
+ *     step δ <= EW_EXC_STEP_NM and <= 1/20 of the narrower envelope's standard deviation
+ *     where the cap allows, over the union of both supports.  The
+ *     distribution of ze − zh is then the discrete correlation P_m = Σ_{|k−l| = m} pe_k ph_l,
+ *     O(M²) once per line, independent of λ and of the grid size N.  The mesh moves every
+ *     weight by less than δ and keeps its mass and mean: the error of ∫P G is O((δ/λ)²).
+ *  2. I(x) = ∫0^∞ t e^{−t}/sqrt(t² + x²) dt (G(d, λ) = (2/λ) I(2d/λ)) is tabulated once per
+ *     workspace on a uniform mesh in s = ln x, x ∈ [EW_EXC_XMIN, EW_EXC_XMAX], with dI/ds, by
+ *     composite Gauss–Legendre quadrature: for x < 1 after t = x sinh u (I = ∫ x sinh u
+ *     e^{−x sinh u} du, smooth in u), for x >= 1 directly in t (the integrand's nearest
+ *     singularities t = ±ix are at distance x >= 1).  Cubic Hermite interpolation in s.
+ *     Outside the table: x < EW_EXC_XMIN, I = 1 − x (the next term is O(x² ln x)); x >
+ *     EW_EXC_XMAX, the asymptotic series I ~ Σ_k C(−1/2, k) (2k+1)! / x^{2k+1} =
+ *     1/x − 3/x³ + 45/x⁵ − 1575/x⁷ + 99225/x⁹ − 9823275/x¹¹ (expand 1/sqrt(t²+x²) in t²/x²
+ *     and integrate term by term; the first omitted term is < 1e-10 relative at x = 40).
+ *  3. E(λ) is scanned on a logarithmic mesh of λ from a_B/8 (where E > 0: E(λ) >= its 2D
+ *     value, which is positive for λ < a_B/4) to 10⁴ a_B, then minimised by golden-section
+ *     search on ln λ in the bracket around the lowest scan point. */
+#include "exciton.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "constants.h"
+#include "error.h"
+#include "observables.h"
+
+#ifndef M_PI
+#define M_PI 3.14159265358979323846
+#endif
+
+#define EW_EXC_TAIL 1e-10     /* probability dropped at each end of each envelope */
+#ifndef EW_EXC_STEP_NM /* overridable at build time for convergence studies */
+#define EW_EXC_STEP_NM 0.1    /* target step of the d mesh (binding unchanged to 1 µeV
+                                 between 0.02 and 0.1 nm for GaAs wells, measured) */
+#endif
+#define EW_EXC_MESH_MAX 2048  /* largest d mesh (O(M²) correlation per line) */
+#define EW_EXC_XMIN 1e-6      /* table range of x = 2d/λ */
+#define EW_EXC_XMAX 40.0
+#define EW_EXC_DS 0.05        /* table step in ln x */
+#define EW_EXC_GL 10          /* Gauss–Legendre points per panel */
+#define EW_EXC_SCAN 28        /* scan points in ln λ */
+
+struct ew_exciton_ws {
+  double gl_x[EW_EXC_GL], gl_w[EW_EXC_GL]; /* Gauss–Legendre nodes and weights on [−1, 1] */
+  size_t ntab;
+  double s0, ds;      /* s_k = s0 + k ds, s = ln x */
+  double *I, *dIds;   /* [ntab] */
+  double *lnm;        /* [EW_EXC_MESH_MAX] ln m (lnm[0] unused) */
+  double *pe, *ph, *P; /* [EW_EXC_MESH_MAX] mesh weights and the correlation */
+};
+
+/* Gauss–Legendre nodes by Newton's method on the Legendre recurrence (textbook, e.g.
+ * W. H. Press et al., Numerical Recipes, 3rd ed. (2007), §4.6). */
+static void gauss_legendre(int n, double *x, double *w) {
+  for (int i = 0; i < n; i++) {
+    double z = cos(M_PI * (i + 0.75) / (n + 0.5)), dp = 1.0;
+    for (int it = 0; it < 100; it++) {
+      double p0 = 1.0, p1 = z;
+      for (int k = 2; k <= n; k++) {
+        double p2 = ((2.0 * k - 1.0) * z * p1 - (k - 1.0) * p0) / k;
+        p0 = p1;
+        p1 = p2;
+      }
+      dp = n * (z * p1 - p0) / (z * z - 1.0);
+      double dz = p1 / dp;
+      z -= dz;
+      if (fabs(dz) < 1e-16) break;
+    }
+    /* recompute the derivative at the converged node */
+    double p0 = 1.0, p1 = z;
+    for (int k = 2; k <= n; k++) {
+      double p2 = ((2.0 * k - 1.0) * z * p1 - (k - 1.0) * p0) / k;
+      p0 = p1;
+      p1 = p2;
+    }
+    dp = n * (z * p1 - p0) / (z * z - 1.0);
+    x[i] = z;
+    w[i] = 2.0 / ((1.0 - z * z) * dp * dp);
+  }
+}
+
+/* I(x) and dI/dx by composite Gauss–Legendre (see the header comment, item 2). */
+static void direct_I(const double *glx, const double *glw, double x, double *I, double *dIdx) {
+  if (x <= 0) {
+    *I = 1.0;
+    *dIdx = -1.0;
+    return;
+  }
+  double si = 0.0, sd = 0.0;
+  if (x < 1.0) {
+    /* t = x sinh u: I = ∫ x sinh u e^{−x sinh u} du,
+     * dI/dx = −∫ t e^{−t} x/(t²+x²)^{3/2} dt = −∫ sinh u e^{−x sinh u} / cosh² u du */
+    double U = asinh(45.0 / x);
+    int np = (int)ceil(U);
+    double hp = U / np;
+    for (int p = 0; p < np; p++) {
+      double a = p * hp;
+      for (int k = 0; k < EW_EXC_GL; k++) {
+        double u = a + 0.5 * hp * (glx[k] + 1.0), wk = 0.5 * hp * glw[k];
+        double sh = sinh(u), ch = cosh(u), e = exp(-x * sh);
+        si += wk * x * sh * e;
+        sd -= wk * sh * e / (ch * ch);
+      }
+    }
+  } else {
+    const double T = 45.0; /* t e^{−t} < 1e-17 beyond */
+    int np = 45;
+    double hp = T / np;
+    for (int p = 0; p < np; p++) {
+      double a = p * hp;
+      for (int k = 0; k < EW_EXC_GL; k++) {
+        double t = a + 0.5 * hp * (glx[k] + 1.0), wk = 0.5 * hp * glw[k];
+        double r2 = t * t + x * x, r = sqrt(r2), e = t * exp(-t);
+        si += wk * e / r;
+        sd -= wk * e * x / (r2 * r);
+      }
+    }
+  }
+  *I = si;
+  *dIdx = sd;
+}
+
+/* Asymptotic series of I for large x (header comment, item 2). */
+static double asymptotic_I(double x) {
+  static const double c[6] = {1.0, -3.0, 45.0, -1575.0, 99225.0, -9823275.0};
+  double y = 1.0 / (x * x), s = 0.0;
+  for (int k = 5; k >= 0; k--) s = s * y + c[k];
+  return s / x;
+}
+
+ew_exciton_ws *ew_exciton_ws_new(void) {
+  ew_exciton_ws *ws = calloc(1, sizeof *ws);
+  if (!ws) return NULL;
+  gauss_legendre(EW_EXC_GL, ws->gl_x, ws->gl_w);
+  ws->s0 = log(EW_EXC_XMIN);
+  double s1 = log(EW_EXC_XMAX);
+  ws->ntab = (size_t)ceil((s1 - ws->s0) / EW_EXC_DS) + 1;
+  ws->ds = (s1 - ws->s0) / (double)(ws->ntab - 1);
+  ws->I = malloc(ws->ntab * sizeof *ws->I);
+  ws->dIds = malloc(ws->ntab * sizeof *ws->dIds);
+  ws->lnm = malloc(EW_EXC_MESH_MAX * sizeof *ws->lnm);
+  ws->pe = malloc(EW_EXC_MESH_MAX * sizeof *ws->pe);
+  ws->ph = malloc(EW_EXC_MESH_MAX * sizeof *ws->ph);
+  ws->P = malloc(EW_EXC_MESH_MAX * sizeof *ws->P);
+  if (!ws->I || !ws->dIds || !ws->lnm || !ws->pe || !ws->ph || !ws->P) {
+    ew_exciton_ws_free(ws);
+    return NULL;
+  }
+  for (size_t k = 0; k < ws->ntab; k++) {
+    double x = exp(ws->s0 + (double)k * ws->ds), I, d;
+    direct_I(ws->gl_x, ws->gl_w, x, &I, &d);
+    ws->I[k] = I;
+    ws->dIds[k] = x * d; /* dI/ds = x dI/dx */
+  }
+  ws->lnm[0] = 0.0;
+  for (size_t m = 1; m < EW_EXC_MESH_MAX; m++) ws->lnm[m] = log((double)m);
+  return ws;
+}
+
+void ew_exciton_ws_free(ew_exciton_ws *ws) {
+  if (!ws) return;
+  free(ws->I);
+  free(ws->dIds);
+  free(ws->lnm);
+  free(ws->pe);
+  free(ws->ph);
+  free(ws->P);
+  free(ws);
+}
+
+/* I at x > 0 with s = ln x given (so the hot loop takes no logarithm). */
+static double table_I(const ew_exciton_ws *ws, double s, double x) {
+  double u = (s - ws->s0) / ws->ds;
+  if (u < 0.0) return 1.0 - x;
+  if (u >= (double)(ws->ntab - 1)) return asymptotic_I(x);
+  size_t k = (size_t)u;
+  double t = u - (double)k, t2 = t * t, t3 = t2 * t;
+  /* cubic Hermite basis on [s_k, s_k+1] */
+  double h00 = 2 * t3 - 3 * t2 + 1, h10 = t3 - 2 * t2 + t, h01 = -2 * t3 + 3 * t2,
+         h11 = t3 - t2;
+  return h00 * ws->I[k] + h10 * ws->ds * ws->dIds[k] + h01 * ws->I[k + 1] +
+         h11 * ws->ds * ws->dIds[k + 1];
+}
+
+double ew_exciton_coulomb_G(double d_nm, double lambda_nm) {
+  double glx[EW_EXC_GL], glw[EW_EXC_GL], I, dI;
+  gauss_legendre(EW_EXC_GL, glx, glw);
+  direct_I(glx, glw, 2.0 * fabs(d_nm) / lambda_nm, &I, &dI);
+  return 2.0 / lambda_nm * I;
+}
+
+double ew_exciton_coulomb_G_ws(const ew_exciton_ws *ws, double d_nm, double lambda_nm) {
+  double x = 2.0 * fabs(d_nm) / lambda_nm;
+  if (x <= 0) return 2.0 / lambda_nm;
+  return 2.0 / lambda_nm * table_I(ws, log(x), x);
+}
+
+/* First and last node of an envelope after dropping EW_EXC_TAIL of its probability
+ * (w_i ψ_i² / nrm) at each end. */
+static void support(const ew_grid *g, const double *psi, double nrm, size_t *a, size_t *b) {
+  size_t i = 0, n = g->n;
+  double c = 0.0;
+  while (i + 1 < n && c + g->w[i] * psi[i] * psi[i] / nrm < EW_EXC_TAIL) {
+    c += g->w[i] * psi[i] * psi[i] / nrm;
+    i++;
+  }
+  *a = i;
+  c = 0.0;
+  i = n - 1;
+  while (i > *a && c + g->w[i] * psi[i] * psi[i] / nrm < EW_EXC_TAIL) {
+    c += g->w[i] * psi[i] * psi[i] / nrm;
+    i--;
+  }
+  *b = i;
+}
+
+/* E(λ) in eV for the correlation P on a mesh of step delta (header of this file, item 3).
+ * K = ħ²/(2μ) (eV nm²), C = e²/(4πε0εr) (eV nm). */
+static double energy(const ew_exciton_ws *ws, size_t M, double delta, double K, double C,
+                     double lam) {
+  double a = 2.0 * delta / lam, la = log(a);
+  double sum = ws->P[0]; /* I(0) = 1 */
+  for (size_t m = 1; m < M; m++)
+    if (ws->P[m] != 0.0) sum += ws->P[m] * table_I(ws, ws->lnm[m] + la, (double)m * a);
+  return K / (lam * lam) - C * (2.0 / lam) * sum;
+}
+
+ew_status ew_exciton_binding_ws(ew_exciton_ws *ws, const ew_grid *g, const double *psi_e,
+                                const double *psi_h, double mu_par, double eps_r,
+                                double *binding_eV, double *radius_nm, ew_error *err) {
+  if (!(mu_par > 0) || !isfinite(mu_par))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "exciton: in-plane reduced mass %g m0 must be positive", mu_par);
+  if (!(eps_r > 0) || !isfinite(eps_r))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "exciton: relative permittivity %g must be positive", eps_r);
+  if (!g || g->n == 0 || !psi_e || !psi_h)
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0, "exciton: no grid or no wavefunction");
+  size_t n = g->n;
+  /* weights p_i = w_i ψ_i² / Σ w ψ², recomputed on the fly (no node-sized array) */
+  double ne = 0.0, nh = 0.0;
+  for (size_t i = 0; i < n; i++) {
+    ne += g->w[i] * psi_e[i] * psi_e[i];
+    nh += g->w[i] * psi_h[i] * psi_h[i];
+  }
+  if (!(ne > 0) || !(nh > 0) || !isfinite(ne) || !isfinite(nh))
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "exciton: wavefunction of zero norm");
+  /* supports: drop EW_EXC_TAIL of probability at each end of each envelope */
+  size_t ea, eb, ha, hb;
+  support(g, psi_e, ne, &ea, &eb);
+  support(g, psi_h, nh, &ha, &hb);
+  double z0 = fmin(g->z[ea], g->z[ha]), z1 = fmax(g->z[eb], g->z[hb]);
+  double span = z1 - z0;
+  /* mesh step: EW_EXC_STEP_NM, or finer to resolve the narrower envelope (1/20 of its
+   * standard deviation): G has a kink at d = 0, so a distribution narrower than the mesh
+   * would be broadened by it */
+  double step = EW_EXC_STEP_NM;
+  for (int which = 0; which < 2; which++) {
+    const double *psi = which ? psi_h : psi_e;
+    double nrm = which ? nh : ne, m1 = 0.0, m2 = 0.0;
+    for (size_t i = which ? ha : ea; i <= (which ? hb : eb); i++) {
+      double p = g->w[i] * psi[i] * psi[i] / nrm;
+      m1 += p * (g->z[i] - z0); /* moments about z0: no cancellation far from z = 0 */
+      m2 += p * (g->z[i] - z0) * (g->z[i] - z0);
+    }
+    double sd = sqrt(fmax(m2 - m1 * m1, 0.0));
+    if (sd > 0 && sd / 20.0 < step) step = sd / 20.0;
+  }
+  size_t M = 1;
+  double delta = 1.0; /* any positive value when the mesh is one node */
+  if (span > 0) {
+    double want = ceil(span / step) + 1.0;
+    M = want > (double)EW_EXC_MESH_MAX ? EW_EXC_MESH_MAX : (size_t)want;
+    if (M < 2) M = 2;
+    delta = span / (double)(M - 1);
+  }
+  double *pe = ws->pe, *ph = ws->ph, *P = ws->P;
+  memset(pe, 0, M * sizeof *pe);
+  memset(ph, 0, M * sizeof *ph);
+  memset(P, 0, M * sizeof *P);
+  /* cloud-in-cell assignment to the mesh */
+  for (int which = 0; which < 2; which++) {
+    const double *psi = which ? psi_h : psi_e;
+    double nrm = which ? nh : ne, *q = which ? ph : pe;
+    size_t a = which ? ha : ea, b = which ? hb : eb;
+    for (size_t i = a; i <= b; i++) {
+      double p = g->w[i] * psi[i] * psi[i] / nrm;
+      if (M == 1) {
+        q[0] += p;
+        continue;
+      }
+      double u = (g->z[i] - z0) / delta;
+      if (u < 0) u = 0;
+      size_t k = (size_t)u;
+      if (k >= M - 1) {
+        q[M - 1] += p;
+        continue;
+      }
+      double f = u - (double)k;
+      q[k] += (1.0 - f) * p;
+      q[k + 1] += f * p;
+    }
+  }
+  /* correlation P_m = Σ_{|k−l| = m} pe_k ph_l */
+  size_t ka = M, kb = 0, la = M, lb = 0;
+  for (size_t k = 0; k < M; k++) {
+    if (pe[k] != 0.0) {
+      if (ka == M) ka = k;
+      kb = k;
+    }
+    if (ph[k] != 0.0) {
+      if (la == M) la = k;
+      lb = k;
+    }
+  }
+  double tot = 0.0;
+  for (size_t k = ka; k <= kb && ka < M; k++) {
+    double pk = pe[k];
+    if (pk == 0.0) continue;
+    for (size_t l = la; l <= lb && la < M; l++) P[k > l ? k - l : l - k] += pk * ph[l];
+  }
+  for (size_t m = 0; m < M; m++) tot += P[m];
+  if (!(tot > 0)) return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "exciton: empty distribution");
+  for (size_t m = 0; m < M; m++) P[m] /= tot;
+
+  /* K = ħ²/(2μ) = (ħ²/2m0)/μ (eV nm²); C = e²/(4πε0 εr) (eV nm) from CODATA e and ε0:
+   * e²/(4πε0) in J m divided by e gives eV m, ×1e9 for eV nm (1.43996 eV nm). */
+  double K = EW_HB2M0_EVNM2 / mu_par;
+  double C = EW_E_C / (4.0 * M_PI * EW_EPS0_FM) * 1e9 / eps_r;
+  double lam2d = K / C; /* = a_B/2, the strict-2D optimum */
+  double l0 = log(lam2d / 4.0), l1 = log(lam2d * 2e4);
+  double hs = (l1 - l0) / (EW_EXC_SCAN - 1), Es[EW_EXC_SCAN];
+  int kmin = 0;
+  for (int k = 0; k < EW_EXC_SCAN; k++) {
+    Es[k] = energy(ws, M, delta, K, C, exp(l0 + k * hs));
+    if (Es[k] < Es[kmin]) kmin = k;
+  }
+  /* golden-section search on ln λ in [kmin − 1, kmin + 1] */
+  double a = l0 + (kmin > 0 ? kmin - 1 : 0) * hs;
+  double b = l0 + (kmin < EW_EXC_SCAN - 1 ? kmin + 1 : EW_EXC_SCAN - 1) * hs;
+  const double gr = 0.5 * (sqrt(5.0) - 1.0);
+  double x1 = b - gr * (b - a), x2 = a + gr * (b - a);
+  double f1 = energy(ws, M, delta, K, C, exp(x1)), f2 = energy(ws, M, delta, K, C, exp(x2));
+  for (int it = 0; it < 200 && b - a > 1e-6; it++) {
+    if (f1 < f2) {
+      b = x2;
+      x2 = x1;
+      f2 = f1;
+      x1 = b - gr * (b - a);
+      f1 = energy(ws, M, delta, K, C, exp(x1));
+    } else {
+      a = x1;
+      x1 = x2;
+      f1 = f2;
+      x2 = a + gr * (b - a);
+      f2 = energy(ws, M, delta, K, C, exp(x2));
+    }
+  }
+  double lbest = f1 < f2 ? x1 : x2, Ebest = fmin(f1, f2);
+  if (Es[kmin] < Ebest) { /* cannot happen for a unimodal E; keep the best value seen */
+    Ebest = Es[kmin];
+    lbest = l0 + kmin * hs;
+  }
+  if (!(Ebest < 0) || !isfinite(Ebest))
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                   "exciton: variational energy did not go below zero (%g eV)", Ebest);
+  *binding_eV = -Ebest;
+  if (radius_nm) *radius_nm = exp(lbest);
+  return EW_OK;
+}
+
+ew_status ew_exciton_binding(const ew_grid *g, const double *psi_e, const double *psi_h,
+                             double mu_par, double eps_r, double *binding_eV, double *radius_nm,
+                             ew_error *err) {
+  ew_exciton_ws *ws = ew_exciton_ws_new();
+  if (!ws) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (exciton workspace)");
+  ew_status rc =
+      ew_exciton_binding_ws(ws, g, psi_e, psi_h, mu_par, eps_r, binding_eV, radius_nm, err);
+  ew_exciton_ws_free(ws);
+  return rc;
+}
+
+/* Chuang (2009), ch. 9 (from memory): at k∥ = 0, |ê·p_cv|² / |P|² for the heavy hole
+ * |3/2, ±3/2⟩ = (X ± iY)/√2: x, y: 1/2, z: 0; for the light hole |3/2, ±1/2⟩ =
+ * (X ± iY)/√6 ∓ … + √(2/3) Z: x, y: 1/6, z: 2/3. */
+void ew_interband_polarisation(ew_band hole_band, double overlap, double *te, double *tm) {
+  double t = 0.0, m = 0.0;
+  if (hole_band == EW_BAND_HH) t = 0.5, m = 0.0;
+  else if (hole_band == EW_BAND_LH) t = 1.0 / 6.0, m = 2.0 / 3.0;
+  if (te) *te = t * overlap;
+  if (tm) *tm = m * overlap;
+}
+
+ew_status ew_line_exciton_params(const ew_result *r, const ew_line *ln, double *mu_par,
+                                 double *eps_r, ew_error *err) {
+  if (!r || !ln || ln->kind != EW_LINE_INTERBAND || ln->upper >= r->n_states ||
+      ln->lower >= r->n_states)
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0, "exciton: not an interband line of this result");
+  const ew_state *se = &r->states[ln->upper], *sh = &r->states[ln->lower];
+  const ew_layer *ly = &r->stack->layers[se->layer];
+  double me = ly->bands.me;
+  double mh = sh->band == EW_BAND_HH ? ly->bands.mhh_par : ly->bands.mlh_par;
+  if (!(me > 0) || !(mh > 0))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "exciton: layer '%s' has a non-positive in-plane mass (me %g, m%s,par %g)",
+                   ly->name, me, ew_band_name(sh->band), mh);
+  *mu_par = 1.0 / (1.0 / me + 1.0 / mh);
+  *eps_r = ly->bands.eps_r > 0 && isfinite(ly->bands.eps_r) ? ly->bands.eps_r : 0.0;
+  return EW_OK;
+}
+
+ew_status ew_result_add_excitons(ew_result *r, ew_error *err) {
+  ew_exciton_ws *ws = NULL;
+  ew_status rc = EW_OK;
+  size_t n = r->grid->n;
+  for (size_t j = 0; j < r->n_lines; j++) {
+    ew_line *ln = &r->lines[j];
+    if (ln->kind != EW_LINE_INTERBAND) continue;
+    double mu, eps, bind = 0.0, rad = 0.0;
+    rc = ew_line_exciton_params(r, ln, &mu, &eps, err);
+    if (rc != EW_OK) break;
+    ew_interband_polarisation(r->states[ln->lower].band, ln->overlap, &ln->te_strength,
+                              &ln->tm_strength);
+    if (eps > 0) {
+      if (!ws && !(ws = ew_exciton_ws_new())) {
+        rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (exciton workspace)");
+        break;
+      }
+      rc = ew_exciton_binding_ws(ws, r->grid, r->psi + ln->upper * n, r->psi + ln->lower * n,
+                                 mu, eps, &bind, &rad, err);
+      if (rc != EW_OK) break;
+    }
+    ln->exciton_binding_eV = bind;
+    ln->pl_peak_eV = ln->energy_eV - bind;
+  }
+  ew_exciton_ws_free(ws);
+  return rc;
+}

@@ -1,0 +1,194 @@
+/* nonparabolic.c — self-consistent electron levels with the Kane mass (see nonparabolic.h). */
+#include "nonparabolic.h"
+
+#include <float.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "error.h"
+
+#define NP_TOL_EV 1e-11 /* fixed point of each level */
+#define NP_MAX_IT 60
+
+static int layer_np(const ew_bands *b) { return b->Ep_eV > 0 && b->Eg_G_eV > 0; }
+
+int ew_nonparabolic_applies(const ew_stack *st) {
+  if (!st->nonparabolic) return 0;
+  for (size_t k = 0; k < st->n_layers; k++)
+    if (layer_np(&st->layers[k].bands)) return 1;
+  return 0;
+}
+
+double ew_kane_mass(const ew_bands *b, double eps) {
+  if (!layer_np(b)) return b->me;
+  double Eg = b->Eg_G_eV, D = b->Dso_eV > 0 ? b->Dso_eV : 0.0;
+  /* deep in a barrier ε → −E_g would send the denominators to zero: the two-band picture
+     is meaningless there anyway, so the kinetic energy is held above −E_g/2 */
+  double e = fmax(eps, -0.5 * Eg);
+  double inv = 1.0 / b->me +
+               b->Ep_eV / 3.0 * (2.0 / (Eg + e) + 1.0 / (Eg + D + e) - 2.0 / Eg - 1.0 / (Eg + D));
+  return inv > 0 ? 1.0 / inv : b->me;
+}
+
+/* ∫_cell m(E − Ec(z)) dz for every cell, midpoint rule on each cell ∩ layer piece (cells are
+ * a few hundredths of a nm: second order like the rest of the scheme). */
+void ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E, double *M) {
+  size_t n = g->n, k0 = 0;
+  for (size_t c = 0; c <= n; c++) {
+    double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c], sum = 0.0;
+    while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
+    for (size_t k = k0; k < st->n_layers; k++) {
+      const ew_layer *ly = &st->layers[k];
+      double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
+      if (ly->z_start_nm >= b) break;
+      if (hi <= lo) continue;
+      double zm = 0.5 * (lo + hi);
+      ew_bands bb;
+      ew_layer_bands_at(ly, (zm - ly->z_start_nm) / ly->thickness_nm, &bb);
+      sum += (hi - lo) * ew_kane_mass(&bb, E - ew_stack_edge_at(st, EW_BAND_E, zm));
+    }
+    M[c] = sum;
+  }
+}
+
+static ew_pencil *pencil_at(const ew_stack *st, const ew_grid *g, double E, double *M) {
+  ew_nonparabolic_cell_masses(st, g, E, M);
+  return ew_pencil_build_mass(g, EW_BAND_E, M);
+}
+
+/* λ_idx(H(E)) − E */
+static double gap_fn(const ew_stack *st, const ew_grid *g, double E, size_t idx, double *M,
+                     size_t *counts, int *ok) {
+  ew_pencil *p = pencil_at(st, g, E, M);
+  if (!p) {
+    *ok = 0;
+    return 0.0;
+  }
+  double lam = ew_eigen_index(p, idx, E, 1e-13, counts);
+  ew_pencil_free(p);
+  if (!isfinite(lam)) *ok = 0;
+  return lam - E;
+}
+
+/* Secant iteration for the fixed point of level idx from start; returns 0 on success. */
+static int fixed_point(const ew_stack *st, const ew_grid *g, size_t idx, double start, double *M,
+                       size_t *counts, double *E_out, double *last_step) {
+  int ok = 1;
+  double E0 = start, g0 = gap_fn(st, g, E0, idx, M, counts, &ok);
+  double E1 = E0 + g0, g1 = 0.0;
+  *last_step = fabs(g0);
+  if (fabs(g0) < NP_TOL_EV) {
+    *E_out = E1;
+    return !ok;
+  }
+  for (int it = 0; it < NP_MAX_IT && ok; it++) {
+    g1 = gap_fn(st, g, E1, idx, M, counts, &ok);
+    double step = (g1 - g0) != 0.0 ? -g1 * (E1 - E0) / (g1 - g0) : g1;
+    if (!isfinite(step)) step = g1;
+    E0 = E1, g0 = g1;
+    E1 += step;
+    *last_step = fabs(step);
+    if (fabs(step) < NP_TOL_EV) {
+      *E_out = E1;
+      return 0;
+    }
+  }
+  *E_out = E1;
+  return 1;
+}
+
+ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_grid *coarse,
+                                 double lo, double top, ew_eigenpairs *fine,
+                                 double **coarse_vals, size_t *work_counts, ew_error *err) {
+  memset(fine, 0, sizeof *fine);
+  *coarse_vals = NULL;
+  size_t nmax = (g->n > (coarse ? coarse->n : 0) ? g->n : coarse->n) + 1, dummy = 0;
+  if (!work_counts) work_counts = &dummy;
+  double *M = malloc(nmax * sizeof *M);
+  if (!M) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic masses)");
+  ew_status rc = EW_OK;
+  /* bound count: eigenvalues of H(top) below top (see the header) */
+  ew_pencil *pt = pencil_at(st, g, top, M);
+  if (!pt) {
+    free(M);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  }
+  size_t clo = ew_eigen_count_below(pt, lo), nb = ew_eigen_count_below(pt, top) - clo;
+  ew_pencil_free(pt);
+  size_t n = g->n;
+  fine->n = n;
+  fine->certified = nb;
+  fine->values = malloc((nb ? nb : 1) * sizeof *fine->values);
+  fine->vectors = malloc((nb ? nb : 1) * n * sizeof *fine->vectors);
+  fine->residual = malloc((nb ? nb : 1) * sizeof *fine->residual);
+  double *cv = coarse ? malloc((nb ? nb : 1) * sizeof *cv) : NULL;
+  if (!fine->values || !fine->vectors || !fine->residual || (coarse && !cv)) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
+    goto done;
+  }
+  /* start each level from the parabolic value (one solve of the plain pencil) */
+  ew_pencil *pp = ew_pencil_build(g, EW_BAND_E);
+  if (!pp) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+    goto done;
+  }
+  for (size_t j = 0; j < nb; j++) {
+    size_t idx = clo + j;
+    double start = ew_eigen_index(pp, idx, 0.5 * (lo + top), 1e-9, work_counts), E, step;
+    if (!isfinite(start) || start > top) start = top;
+    if (fixed_point(st, g, idx, start, M, work_counts, &E, &step)) {
+      ew_pencil_free(pp);
+      rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                   "non-parabolic level e%zu did not converge in %d steps (reached %.9f eV, "
+                   "last change %.2e eV)", j + 1, NP_MAX_IT, E, step);
+      goto done;
+    }
+    /* the eigenvector of H(E) at its eigenvalue E, through the shift-invert backend */
+    ew_pencil *p = pencil_at(st, g, E, M);
+    ew_eigenpairs one;
+    double w = 1e-4;
+    size_t cnt = 0;
+    for (int t = 0; t < 40; t++, w *= 0.25) {
+      cnt = ew_eigen_count_below(p, E + w) - ew_eigen_count_below(p, E - w);
+      if (cnt == 1) break;
+    }
+    rc = cnt == 1 ? ew_eigen_window(p, E - w, E + w, 1, &one, err)
+                  : ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu: cannot "
+                            "isolate its eigenvalue", j + 1);
+    if (rc == EW_OK) {
+      fine->values[j] = one.values[0];
+      memcpy(fine->vectors + j * n, one.vectors, n * sizeof(double));
+      fine->residual[j] = ew_pencil_residual(p, one.vectors, one.values[0]);
+      fine->factorizations += one.factorizations;
+      fine->solves += one.solves;
+      ew_eigenpairs_free(&one);
+    }
+    ew_pencil_free(p);
+    if (rc != EW_OK) {
+      ew_pencil_free(pp);
+      goto done;
+    }
+    fine->count = j + 1;
+    if (coarse) {
+      double Ec;
+      if (fixed_point(st, coarse, idx, E, M, work_counts, &Ec, &step)) {
+        ew_pencil_free(pp);
+        rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu did not converge "
+                     "on the coarse grid (last change %.2e eV)", j + 1, step);
+        goto done;
+      }
+      cv[j] = Ec;
+    }
+  }
+  ew_pencil_free(pp);
+done:
+  free(M);
+  if (rc != EW_OK) {
+    ew_eigenpairs_free(fine);
+    free(cv);
+    return rc;
+  }
+  *coarse_vals = cv;
+  return EW_OK;
+}

@@ -1,0 +1,37 @@
+/* nonparabolic.h — electron levels with an energy-dependent (Kane) effective mass.
+ *
+ * The conduction band of a III–V compound is not parabolic: from the three-level k·p model
+ * (E. O. Kane, J. Phys. Chem. Solids 1, 249 (1957)) the band-edge mass generalises to
+ *   m0 / m(ε) = m0/m_e + (E_P/3) [ 2/(E_g + ε) + 1/(E_g + Δ_so + ε) − 2/E_g − 1/(E_g + Δ_so) ],
+ * ε = E − Ec(z) the kinetic energy in the layer (negative in a barrier), anchored so that
+ * m(0) is the catalogue's m_e (the form used for quantum wells by D. F. Nelson, R. C. Miller,
+ * D. A. Kleinman, Phys. Rev. B 35, 7770 (1987)).  Each level n then satisfies E = λ_n(H(E)):
+ * solved per level by a secant iteration on g(E) = λ_n(H(E)) − E, which is strictly
+ * decreasing (the mass grows with E), so the fixed point is unique and level n is bound iff
+ * λ_n(H(top)) < top: the bound count is the inertia count of H(top) below top — certified
+ * as in the parabolic case. */
+#ifndef EW_NONPARABOLIC_H
+#define EW_NONPARABOLIC_H
+
+#include "eigen.h"
+
+/* 1 when some layer of st can be non-parabolic (Kane energy and gap known). */
+int ew_nonparabolic_applies(const ew_stack *st);
+
+/* The energy-dependent mass of layer bands b at kinetic energy eps (eV), m0 units; the
+ * parabolic m_e when the layer has no Kane energy. */
+double ew_kane_mass(const ew_bands *b, double eps_eV);
+
+/* ∫_cell m(E − Ec(z)) dz for the n+1 cells of g at total energy E (m0·nm). */
+void ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E, double *M);
+
+/* Electron levels on grid g (vectors) and, if coarse != NULL, the same levels' values on the
+ * coarse grid, with the Kane mass; window (lo, top) as for the parabolic solve.
+ * (output) fine: eigenpairs (values = self-consistent energies); coarse_vals: malloc'd
+ * [fine->count] or NULL.  Fails with EW_ERR_NUMERIC when a level's iteration does not
+ * converge in 60 steps (the message gives the level and the last change). */
+ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_grid *coarse,
+                                 double lo, double top, ew_eigenpairs *fine,
+                                 double **coarse_vals, size_t *work_counts, ew_error *err);
+
+#endif

@@ -1,0 +1,327 @@
+/* report.c — the HTML report (see report.h).  Pure formatting of numbers the result
+ * already holds, plus the catalogue's parameter table; the picture comes from plot.c. */
+#include "report.h"
+
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "error.h"
+#include "grid.h"
+#include "materials.h"
+#include "output.h"
+#include "plot.h"
+
+/* Text into HTML: markup characters escaped, control characters dropped (they have no
+ * place in a page and some are not allowed in HTML at all). */
+static void h(FILE *f, const char *s) {
+  if (!s) return;
+  for (; *s; s++) {
+    unsigned char c = (unsigned char)*s;
+    switch (c) {
+    case '&': fputs("&amp;", f); break;
+    case '<': fputs("&lt;", f); break;
+    case '>': fputs("&gt;", f); break;
+    case '"': fputs("&quot;", f); break;
+    case '\'': fputs("&#39;", f); break;
+    default:
+      if (c >= 0x20 && c != 0x7f) fputc(c, f);
+      else if (c == '\n' || c == '\t') fputc(' ', f);
+    }
+  }
+}
+
+/* A number cell; non-finite values show as an em dash rather than "nan". */
+static void num(FILE *f, const char *fmt, double v) {
+  fputs("<td class=\"n\">", f);
+  if (isfinite(v)) fprintf(f, fmt, v);
+  else fputs("&#8212;", f);
+  fputs("</td>", f);
+}
+
+static const char *const valley_name[3] = {"&#915;", "X", "L"};
+
+static const char css[] =
+    "body{font-family:'DejaVu Sans',Verdana,Arial,sans-serif;color:#1a1a1a;background:#fff;"
+    "max-width:1060px;margin:24px auto;padding:0 16px;line-height:1.4;font-size:14px}"
+    "h1{font-size:22px;margin:0 0 4px}h2{font-size:17px;margin:28px 0 8px;"
+    "border-bottom:1px solid #bbb;padding-bottom:3px}"
+    "table{border-collapse:collapse;margin:6px 0 10px;font-size:13px}"
+    "th,td{border:1px solid #c8c8c8;padding:3px 8px;text-align:left;vertical-align:top}"
+    "th{background:#f1f1ee;font-weight:bold}td.n{text-align:right;"
+    "font-variant-numeric:tabular-nums;white-space:nowrap}"
+    "p.meta{color:#4d4d4d;margin:0 0 6px}"
+    ".warn{border-left:4px solid #a30000;padding:4px 10px;background:#fbf3f3}"
+    ".ok{border-left:4px solid #1b7a3d;padding:4px 10px;background:#f3f8f4}"
+    "figure{margin:8px 0}figure svg{max-width:100%;height:auto;display:block}"
+    "figcaption{color:#4d4d4d;font-size:12.5px}"
+    "td.src{font-size:12px;color:#333;max-width:520px}"
+    "@media print{body{margin:0;max-width:none;font-size:11pt}h2{break-after:avoid}"
+    "table,figure{break-inside:avoid}}";
+
+static void page_head(FILE *f, const ew_result *r) {
+  const ew_stack *st = r->stack;
+  fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n<title>epiwell "
+        "report",
+        f);
+  if (st->path[0]) fputs(" &#8212; ", f), h(f, st->path);
+  fprintf(f, "</title>\n<style>%s</style>\n</head>\n<body>\n<h1>epiwell report", css);
+  if (st->path[0]) fputs(": ", f), h(f, st->path);
+  fprintf(f, "</h1>\n<p class=\"meta\">epiwell %s &#183; T = %g K &#183; grid step %.4g nm "
+             "(%zu nodes) &#183; bound levels: %zu e, %zu hh, %zu lh (counts certified by "
+             "inertia) &#183; error estimates %s</p>\n",
+          EW_VERSION, st->temperature_K, r->step_nm, r->grid->n, r->band_count[0],
+          r->band_count[1], r->band_count[2],
+          r->opt.error_estimate ? "from a second grid (Richardson)" : "not computed");
+}
+
+static void warnings(FILE *f, const ew_result *r) {
+  const ew_stack *st = r->stack;
+  fputs("<h2 id=\"warnings\">Warnings</h2>\n", f);
+  int any = 0;
+  for (size_t i = 0; i < r->n_states; i++) {
+    const ew_state *s = &r->states[i];
+    if (!s->flagged) continue;
+    if (!any++) fputs("<div class=\"warn\"><ul>\n", f);
+    fprintf(f, "<li>Level <b>%s</b> failed the residual check: relative residual %.3g "
+               "exceeds %.3g. Treat its energy and lines with care.</li>\n",
+            s->label, s->residual, r->opt.residual_tol);
+  }
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    int v = ly->bands.lowest_valley;
+    if (v <= 0 || v > 2) continue;
+    if (!any++) fputs("<div class=\"warn\"><ul>\n", f);
+    fputs("<li>Layer <b>", f);
+    h(f, ly->name);
+    fputs("</b> (", f);
+    h(f, ly->material);
+    if (ly->has_x) fprintf(f, ", x = %.3f", ly->x);
+    fprintf(f, "): its lowest conduction minimum is %s, not &#915; (gap %.4f eV there against "
+               "%.4f eV at &#915;). This version models &#915; electrons only, so electron "
+               "levels near or above that minimum are not reliable.</li>\n",
+            valley_name[v], v == 1 ? ly->bands.Eg_X_eV : ly->bands.Eg_L_eV, ly->bands.Eg_G_eV);
+  }
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    if (r->band_count[b]) continue;
+    if (!any++) fputs("<div class=\"warn\"><ul>\n", f);
+    fprintf(f, "<li>No bound %s level: no well in this band is deeper than the outer "
+               "layers.</li>\n",
+            ew_band_name((ew_band)b));
+  }
+  if (any) fputs("</ul></div>\n", f);
+  else fputs("<p class=\"ok\">None: every level passed the residual check, every layer's "
+             "lowest conduction minimum is &#915;, and every band has bound levels.</p>\n",
+             f);
+}
+
+static void layers_table(FILE *f, const ew_result *r) {
+  const ew_stack *st = r->stack;
+  fputs("<h2 id=\"stack\">Layer stack (growth order)</h2>\n<table>\n<tr><th>#</th><th>name</th>"
+        "<th>material</th><th>x</th><th>from (nm)</th><th>thickness (nm)</th><th>Ec (eV)</th>"
+        "<th>Ev hh (eV)</th><th>Ev lh (eV)</th><th>m<sub>e</sub></th><th>m<sub>hh</sub></th>"
+        "<th>m<sub>lh</sub></th><th>lowest valley</th></tr>\n",
+        f);
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    fprintf(f, "<tr><td class=\"n\">%zu</td><td>", k + 1);
+    h(f, ly->name);
+    fputs("</td><td>", f);
+    h(f, ly->material);
+    if (ly->user_material) fputs(" <i>(user-defined)</i>", f);
+    fputs("</td>", f);
+    if (ly->has_x) num(f, "%.3f", ly->x);
+    else fputs("<td class=\"n\">&#8212;</td>", f);
+    num(f, "%.3f", ly->z_start_nm);
+    num(f, "%.3f", ly->thickness_nm);
+    num(f, "%.4f", ly->bands.Ec_eV);
+    num(f, "%.4f", ly->bands.Ev_hh_eV);
+    num(f, "%.4f", ly->bands.Ev_lh_eV);
+    num(f, "%.4f", ly->bands.me);
+    num(f, "%.4f", ly->bands.mhh_z);
+    num(f, "%.4f", ly->bands.mlh_z);
+    int v = ly->bands.lowest_valley;
+    fprintf(f, "<td>%s</td></tr>\n", v >= 0 && v <= 2 ? valley_name[v] : "?");
+  }
+  fprintf(f, "</table>\n<p class=\"meta\">Masses are growth-axis masses in m<sub>0</sub>; "
+             "energies absolute (eV) at T = %g K. Total thickness %.3f nm; the outer faces "
+             "are hard walls.</p>\n",
+          st->temperature_K, st->total_nm);
+}
+
+static void levels_table(FILE *f, const ew_result *r) {
+  const ew_stack *st = r->stack;
+  fputs("<h2 id=\"levels\">Bound levels</h2>\n", f);
+  if (!r->n_states) {
+    fputs("<p>None: no band has a well deeper than its outer layers.</p>\n", f);
+    return;
+  }
+  fputs("<table>\n<tr><th>state</th><th>energy (eV)</th><th>depth (meV)</th>"
+        "<th>error (meV)</th><th>mostly in</th><th>probability there</th><th>residual</th>"
+        "<th>check</th></tr>\n",
+        f);
+  for (size_t i = 0; i < r->n_states; i++) {
+    const ew_state *s = &r->states[i];
+    fprintf(f, "<tr><td>%s</td>", s->label);
+    num(f, "%.6f", s->energy_eV);
+    num(f, "%.3f", s->depth_eV * 1e3);
+    if (s->error_eV >= 0) num(f, "%.2e", s->error_eV * 1e3);
+    else fputs("<td class=\"n\">n/a</td>", f);
+    fputs("<td>", f);
+    h(f, st->layers[s->layer].name);
+    fputs("</td>", f);
+    num(f, "%.3f", s->layer_probability);
+    num(f, "%.2e", s->residual);
+    fprintf(f, "<td>%s</td></tr>\n", s->flagged ? "<b>FAILED</b>" : "ok");
+  }
+  fputs("</table>\n<p class=\"meta\">Depth is |E &#8722; edge| from the band edge of the layer "
+        "holding most of |&#968;|&#178;; hole levels lie below the valence edge.</p>\n",
+        f);
+}
+
+static void lines_tables(FILE *f, const ew_result *r) {
+  const ew_state *S = r->states;
+  fputs("<h2 id=\"lines\">Lines</h2>\n", f);
+  int head = 0;
+  for (size_t i = 0; i < r->n_lines; i++) {
+    const ew_line *ln = &r->lines[i];
+    if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+    if (!head++)
+      fputs("<h3>Intersubband (TM, light polarised along z)</h3>\n<table>\n<tr><th>line</th>"
+            "<th>energy (meV)</th><th>&#955; (&#181;m)</th><th>dipole (nm)</th>"
+            "<th>oscillator strength</th></tr>\n",
+            f);
+    fprintf(f, "<tr><td>%s&#8211;%s</td>", S[ln->lower].label, S[ln->upper].label);
+    num(f, "%.3f", ln->energy_eV * 1e3);
+    num(f, "%.4f", ln->wavelength_nm / 1e3);
+    num(f, "%.4f", ln->dipole_nm);
+    num(f, "%.4f", ln->oscillator_strength);
+    fputs("</tr>\n", f);
+  }
+  if (head) fputs("</table>\n", f);
+  int head2 = 0;
+  for (size_t i = 0; i < r->n_lines; i++) {
+    const ew_line *ln = &r->lines[i];
+    if (ln->kind != EW_LINE_INTERBAND) continue;
+    if (!head2++)
+      fputs("<h3>Interband (band to band, no exciton correction)</h3>\n<table>\n<tr>"
+            "<th>line</th><th>energy (eV)</th><th>&#955; (nm)</th><th>overlap |&#10216;e|h"
+            "&#10217;|&#178;</th><th></th></tr>\n",
+            f);
+    fprintf(f, "<tr><td>%s&#8211;%s</td>", S[ln->upper].label, S[ln->lower].label);
+    num(f, "%.5f", ln->energy_eV);
+    num(f, "%.2f", ln->wavelength_nm);
+    num(f, "%.4f", ln->overlap);
+    fprintf(f, "<td>%s</td></tr>\n", ln->allowed ? "allowed" : "forbidden");
+  }
+  if (head2) fputs("</table>\n", f);
+  if (!head && !head2) fputs("<p>None.</p>\n", f);
+}
+
+/* One parameter table per distinct (material, x) in the stack, in stack order. */
+static void params_tables(FILE *f, const ew_result *r, const ew_catalogue *cat) {
+  const ew_stack *st = r->stack;
+  fputs("<h2 id=\"materials\">Material parameters used</h2>\n", f);
+  if (!cat) {
+    fputs("<p>Not included: no catalogue was given when this report was written.</p>\n", f);
+    return;
+  }
+  fputs("<p class=\"meta\">Catalogue ", f);
+  h(f, ew_catalogue_dir(cat));
+  fputs(". Values at the layer's composition x, before temperature (gaps at 0 K; the band "
+        "edges at T are in the layer table). For an alloy the source names the bowing "
+        "parameter, or says how the value is interpolated between the end binaries.</p>\n",
+        f);
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    int seen = 0;
+    for (size_t j = 0; j < k && !seen; j++) {
+      const ew_layer *o = &st->layers[j];
+      seen = !strcmp(o->material, ly->material) && o->has_x == ly->has_x &&
+             (!ly->has_x || o->x == ly->x);
+    }
+    if (seen) continue;
+    fputs("<h3>", f);
+    h(f, ly->material);
+    if (ly->has_x) fprintf(f, ", x = %.3f", ly->x);
+    fputs("</h3>\n", f);
+    if (ly->user_material) {
+      fputs("<p>User-defined in the stack file: Ec, Ev and the masses are as given there "
+            "(see the layer table); no source.</p>\n",
+            f);
+      continue;
+    }
+    ew_params p;
+    ew_error e = {0};
+    if (ew_material_params(cat, ly->material, ly->x, &p, &e) != EW_OK) {
+      /* the page still helps without this one table: say why it is missing */
+      fputs("<p class=\"warn\">Parameters unavailable: ", f);
+      h(f, e.message);
+      fputs("</p>\n", f);
+      continue;
+    }
+    fputs("<table>\n<tr><th>parameter</th><th>value</th><th>unit</th><th>source</th></tr>\n", f);
+    for (int q = 0; q < EW_P_COUNT; q++) {
+      if (!p.have[q]) continue;
+      fputs("<tr><td>", f);
+      h(f, ew_param_key((ew_param)q));
+      fputs("</td>", f);
+      num(f, "%.6g", p.v[q]);
+      fputs("<td>", f);
+      h(f, ew_param_unit((ew_param)q));
+      fputs("</td><td class=\"src\">", f);
+      h(f, p.source[q] ? p.source[q] : "");
+      fputs("</td></tr>\n", f);
+    }
+    fputs("</table>\n", f);
+  }
+}
+
+static ew_status write_page(FILE *f, const ew_result *r, const ew_catalogue *cat,
+                            ew_error *err) {
+  page_head(f, r);
+  warnings(f, r);
+  layers_table(f, r);
+  fputs("<h2 id=\"diagram\">Band diagram</h2>\n<figure>\n", f);
+  ew_status rc = ew_plot_band_diagram_svg(r, f, err);
+  if (rc != EW_OK) return rc;
+  fprintf(f, "<figcaption>Conduction band (top) and valence band (bottom) share the z axis; "
+             "the energy axis is broken between them. Each level is drawn where its "
+             "|&#968;|&#178; exceeds %g&#160;%% of its peak, with &#968; drawn about it."
+             "</figcaption>\n</figure>\n",
+          EW_PLOT_LEVEL_FRACTION * 100);
+  levels_table(f, r);
+  lines_tables(f, r);
+  params_tables(f, r, cat);
+  fputs("<p class=\"meta\" style=\"margin-top:24px\">Design estimates from an effective-mass "
+        "model with tabulated parameters; not a substitute for measurement.</p>\n"
+        "</body>\n</html>\n",
+        f);
+  return EW_OK;
+}
+
+ew_status ew_report_write(const ew_result *r, const ew_catalogue *cat, const char *dir,
+                          ew_error *err) {
+  if (!r || !dir) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_report_write: NULL argument");
+  ew_status rc = ew_output_check_dir(dir, err);
+  if (rc != EW_OK) return rc;
+  char fin[1200], tmp[1300];
+  snprintf(fin, sizeof fin, "%s/report.html", dir);
+  snprintf(tmp, sizeof tmp, "%s/.report.html.tmp%ld", dir, (long)getpid());
+  struct stat sb;
+  if (stat(fin, &sb) == 0 && !S_ISREG(sb.st_mode))
+    return ew_fail(err, EW_ERR_IO, fin, 0, "exists and is not a regular file");
+  FILE *f = fopen(tmp, "w");
+  if (!f) return ew_fail(err, EW_ERR_IO, tmp, 0, "cannot write: %s", strerror(errno));
+  rc = write_page(f, r, cat, err);
+  if (rc == EW_OK && ferror(f)) rc = ew_fail(err, EW_ERR_IO, fin, 0, "write failed (disk full?)");
+  if (fclose(f) != 0 && rc == EW_OK)
+    rc = ew_fail(err, EW_ERR_IO, fin, 0, "write failed (disk full?)");
+  if (rc == EW_OK && rename(tmp, fin) != 0)
+    rc = ew_fail(err, EW_ERR_IO, fin, 0, "cannot rename into place: %s", strerror(errno));
+  if (rc != EW_OK) remove(tmp);
+  return rc;
+}

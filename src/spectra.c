@@ -1,0 +1,140 @@
+/* spectra.c — intersubband absorption per pass and the relative interband absorption edge
+ * (formulas and conventions in spectra.h).
+ *
+ * Intersubband prefactor, derived (the form of M. Helm, Semicond. Semimet. 62, 1 (2000),
+ * from memory).  A transition of oscillator strength f = 2mΔE|z|²/ħ² responds to the field
+ * component along z as a Lorentz oscillator of charge e and mass m (the f-sum definition of
+ * observables.h).  N such oscillators per volume give, near resonance ω0 with a normalised
+ * line shape L_ω (∫ L_ω dω = 1), ε''(ω) = (π N e² f / (2 ε0 m ω)) L_ω(ω − ω0); the
+ * absorption coefficient is α = ω ε'' / (n c) = π N e² f L_ω / (2 ε0 n c m).  With
+ * L_ω(ω) = ħ L(ħω) (L normalised in energy): α = (π ħ e² / (2 ε0 n c m)) N f L =
+ * (e² h / (4 ε0 n c m)) N f L.  A sheet, N = N_s δ(z), crossed by a ray at angle θ to z:
+ * only E_z = E sin θ couples (factor sin²θ) and the ray's path through the sheet per unit
+ * thickness is 1/cos θ, so A = ∫ α ds = (e² h / (4 ε0 n c m)) N_s f (sin²θ / cos θ) L.
+ * Dimensions: e² h / (ε0 c m) is C² J s / ((C² J⁻¹ m⁻¹)(m s⁻¹) kg) = J² s² / kg = J m²;
+ * times N_s (m⁻²) and L (J⁻¹): dimensionless.  In the units used: e² h[eV s] / (4 ε0 c m0)
+ * = 1.0977e-20 eV m² = 1.0977e-16 eV cm².  The m of f cancels physically (e² f / m =
+ * 2 e² ΔE |z|² / ħ²), so m here must be the m of the f definition: m* = m0 / ⟨e1|m0/m|e1⟩. */
+#include "spectra.h"
+
+#include <math.h>
+#include <stdlib.h>
+
+#include "constants.h"
+#include "error.h"
+#include "exciton.h"
+#include "observables.h"
+
+#ifndef M_PI
+#define M_PI 3.14159265358979323846
+#endif
+
+double ew_intersubband_prefactor_eVcm2(void) {
+  /* C² · eV s / (F m⁻¹ · m s⁻¹ · kg) = eV m²; × 1e4 cm² per m² */
+  return EW_E_C * EW_E_C * EW_H_EVS / (4.0 * EW_EPS0_FM * EW_C_MS * EW_M0_KG) * 1e4;
+}
+
+/* normalised Lorentzian of half width at half maximum g */
+static double lorentz(double x, double g) { return g / (M_PI * (x * x + g * g)); }
+
+static ew_status check_arrays(size_t npts, const double *E, const double *out, ew_error *err) {
+  if (npts > 0 && (!E || !out))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "spectrum: no energy or output array");
+  for (size_t k = 0; k < npts; k++)
+    if (!isfinite(E[k]))
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "spectrum: energy %zu is not finite", k);
+  return EW_OK;
+}
+
+ew_status ew_intersubband_absorption(const ew_result *r, double sheet_density_cm2,
+                                     double linewidth_meV, double theta_deg, double n_refr,
+                                     size_t npts, const double *E_eV, double *fraction,
+                                     ew_error *err) {
+  if (!r) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "spectrum: no result");
+  if (!(sheet_density_cm2 >= 0) || !isfinite(sheet_density_cm2))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "intersubband absorption: sheet density %g cm^-2 must be >= 0",
+                   sheet_density_cm2);
+  if (!(linewidth_meV > 0) || !isfinite(linewidth_meV))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "intersubband absorption: linewidth %g meV must be positive", linewidth_meV);
+  if (!(theta_deg >= 0 && theta_deg < 90))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "intersubband absorption: angle %g deg must be in [0, 90)", theta_deg);
+  if (!(n_refr > 0) || !isfinite(n_refr))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "intersubband absorption: refractive index %g must be positive", n_refr);
+  ew_status rc = check_arrays(npts, E_eV, fraction, err);
+  if (rc != EW_OK) return rc;
+  for (size_t k = 0; k < npts; k++) fraction[k] = 0.0;
+  /* e1: the first electron state (states are e…, hh…, lh…, ascending in confinement) */
+  size_t e1 = r->n_states;
+  for (size_t i = 0; i < r->n_states; i++)
+    if (r->states[i].band == EW_BAND_E && r->states[i].n == 1) {
+      e1 = i;
+      break;
+    }
+  if (e1 == r->n_states) return EW_OK; /* no bound electron: nothing absorbs (bound-bound) */
+  double invm = ew_obs_inverse_mass(r->grid, EW_BAND_E, r->psi + e1 * r->grid->n);
+  if (!(invm > 0) || !isfinite(invm))
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "intersubband absorption: <e1|m0/m|e1> = %g",
+                   invm);
+  double th = theta_deg * M_PI / 180.0;
+  double geom = sin(th) * sin(th) / cos(th);
+  /* (e² h / (4 ε0 n c m*)) N_s (sin²θ / cos θ), with 1/m* = ⟨e1|1/m|e1⟩: eV */
+  double pref = ew_intersubband_prefactor_eVcm2() * invm / n_refr * sheet_density_cm2 * geom;
+  double g = 0.5e-3 * linewidth_meV; /* HWHM, eV */
+  for (size_t j = 0; j < r->n_lines; j++) {
+    const ew_line *ln = &r->lines[j];
+    if (ln->kind != EW_LINE_INTERSUBBAND || ln->lower != e1) continue;
+    double a = pref * ln->oscillator_strength;
+    if (a == 0.0) continue;
+    for (size_t k = 0; k < npts; k++) fraction[k] += a * lorentz(E_eV[k] - ln->energy_eV, g);
+  }
+  return EW_OK;
+}
+
+ew_status ew_interband_absorption(const ew_result *r, double linewidth_meV, size_t npts,
+                                  const double *E_eV, double *alpha_rel, ew_error *err) {
+  if (!r) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "spectrum: no result");
+  if (!(linewidth_meV > 0) || !isfinite(linewidth_meV))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "interband absorption: linewidth %g meV must be positive", linewidth_meV);
+  ew_status rc = check_arrays(npts, E_eV, alpha_rel, err);
+  if (rc != EW_OK) return rc;
+  for (size_t k = 0; k < npts; k++) alpha_rel[k] = 0.0;
+  double g = 0.5e-3 * linewidth_meV; /* HWHM, eV */
+  size_t n = r->grid->n;
+  ew_exciton_ws *ws = NULL;
+  for (size_t j = 0; j < r->n_lines; j++) {
+    const ew_line *ln = &r->lines[j];
+    if (ln->kind != EW_LINE_INTERBAND) continue;
+    double mu, eps, te, tm;
+    rc = ew_line_exciton_params(r, ln, &mu, &eps, err);
+    if (rc != EW_OK) break;
+    ew_interband_polarisation(r->states[ln->lower].band, ln->overlap, &te, &tm);
+    double S = te * mu; /* step height: TE weight × overlap × μ∥/m0 (2D joint DOS) */
+    if (S == 0.0) continue;
+    double bind = 0.0, lam = 0.0, W = 0.0;
+    if (eps > 0) {
+      if (!ws && !(ws = ew_exciton_ws_new())) {
+        rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (exciton workspace)");
+        break;
+      }
+      rc = ew_exciton_binding_ws(ws, r->grid, r->psi + ln->upper * n, r->psi + ln->lower * n,
+                                 mu, eps, &bind, &lam, err);
+      if (rc != EW_OK) break;
+      /* W = |φλ(0)|² / (μ/(2πħ²)) = (2/(πλ²)) (2πħ²/μ) = 4ħ²/(μλ²) = 8 (ħ²/2m0) / (μ λ²) */
+      W = 8.0 * EW_HB2M0_EVNM2 / (mu * lam * lam);
+    }
+    double E0 = ln->energy_eV, Epl = E0 - bind;
+    for (size_t k = 0; k < npts; k++) {
+      double step = 0.5 + atan((E_eV[k] - E0) / g) / M_PI;
+      alpha_rel[k] += S * (step + W * lorentz(E_eV[k] - Epl, g));
+    }
+  }
+  ew_exciton_ws_free(ws);
+  if (rc != EW_OK)
+    for (size_t k = 0; k < npts; k++) alpha_rel[k] = 0.0; /* nothing half-computed */
+  return rc;
+}
