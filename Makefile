@@ -10,13 +10,13 @@ ifeq ($(SANITIZE),1)
   OPT   := -O1 -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined
 endif
 
-PKGS      := superlu libconfig zlib lapacke lapack
+PKGS      := superlu libconfig zlib lapacke lapack cairo
 # deferred (=): evaluated only after the deps step has run
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS))
 PKG_LIBS   = $(shell pkg-config --libs $(PKGS)) -lblas -lm
-CFLAGS    += -std=c11 -Wall -Wextra -Wpedantic -g $(OPT) -D_POSIX_C_SOURCE=200809L \
+CFLAGS    += -std=c11 -Wall -Wextra -Wpedantic -g $(OPT) -fopenmp -D_POSIX_C_SOURCE=200809L \
              -DEW_PREFIX='"$(PREFIX)"'
-LDFLAGS   += $(filter -fsanitize=%,$(OPT))
+LDFLAGS   += $(filter -fsanitize=%,$(OPT)) -fopenmp
 
 # src/cli*.c make the command; everything else is the library
 CLI_SRC := $(wildcard src/cli*.c)
