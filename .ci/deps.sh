@@ -4,7 +4,7 @@
 # apt-get line and fail.  Usage: deps.sh [check]   (check also wants the test runner)
 set -u
 pkgs="gcc make pkg-config libsuperlu-dev libconfig-dev zlib1g-dev liblapack-dev liblapacke-dev libblas-dev libcairo2-dev"
-[ "${1:-}" = check ] && pkgs="$pkgs libcmocka-dev"
+[ "${1:-}" = check ] && pkgs="$pkgs libcmocka-dev librsvg2-bin chromium"
 missing=""
 for p in $pkgs; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing="$missing $p"
