@@ -4,6 +4,7 @@
 #include "testutil.h"
 
 #include "constants.h"
+#include "nonparabolic.h"
 #include "solve.h"
 
 static const double K = EW_HB2M0_EVNM2;
@@ -158,12 +159,98 @@ static void linear_grade_and_monolayers(void **state) {
   ew_stack_free(st);
 }
 
+
+/* Kane non-parabolicity in a deep well against the same model solved analytically.  For a
+ * hard-wall well of equivalent width L_n the level obeys E = K k² m0/m(E), k = nπ/L_n, with
+ * the Kane mass m(E) of src/nonparabolic.h (E. O. Kane, J. Phys. Chem. Solids 1, 249 (1957);
+ * D. F. Nelson, R. C. Miller, D. A. Kleinman, Phys. Rev. B 35, 7770 (1987)).  L_n is read off
+ * the parabolic solution of the same stack and corrected for the change of the penetration
+ * depth δ = sqrt(m_b K/(V − E))/m_w(E) (BenDaniel–Duke matching at a high wall) as the well
+ * mass grows; the solver must reproduce the non-parabolic lowering of e1…e3 to 10 % of its
+ * size. */
+static void kane_deep_well(void **state) {
+  (void)state;
+  const char *fmt = "temperature = 300.0; nonparabolic = %s;\n"
+                    "materials = ( { name = \"wall\"; Ec = 10.0; Ev = -2.0; me = 0.01; mhh = 0.4; mlh = 0.1; } );\n"
+                    "layers = ( { material = \"wall\"; thickness = 4.0; },\n"
+                    "           { name = \"w\"; material = \"GaAs\"; thickness = 8.0; },\n"
+                    "           { material = \"wall\"; thickness = 4.0; } );\n";
+  char text[1024];
+  ew_stack *st[2];
+  ew_result *r[2];
+  for (int k = 0; k < 2; k++) {
+    snprintf(text, sizeof text, fmt, k ? "true" : "false");
+    r[k] = solve_text(text, &st[k], NULL);
+    assert_non_null(r[k]);
+  }
+  const ew_bands *b = &st[1]->layers[1].bands;
+  assert_true(b->Ep_eV > 0);
+  for (int n = 1; n <= 3; n++) {
+    double ec = b->Ec_eV;
+    double Epar = elec(r[0], n)->energy_eV - ec, Enp = elec(r[1], n)->energy_eV - ec;
+    const double V = 10.0 - ec, mb = 0.01;
+    double Leff = n * M_PI / sqrt(Epar * b->me / K); /* equivalent hard-wall width */
+    double L0 = Leff - 2 * sqrt(mb * K / (V - Epar)) / b->me;
+    double lo = 0.0, hi = Epar; /* E m(E)/m0 = K (nπ/(L0 + 2δ(E)))² has one root below Epar */
+    for (int it = 0; it < 200; it++) {
+      double mid = 0.5 * (lo + hi), m = ew_kane_mass(b, mid);
+      double Ln = L0 + 2 * sqrt(mb * K / (V - mid)) / m, kk = n * M_PI / Ln;
+      if (mid * m < K * kk * kk) lo = mid;
+      else hi = mid;
+    }
+    double pred = 0.5 * (lo + hi);
+    print_message("e%d: parabolic %.4f, Kane %.4f, analytic Kane %.4f eV\n", n, Epar, Enp, pred);
+    assert_true(Enp < Epar);
+    TU_NEAR(Enp, pred, 0.1 * (Epar - pred), "Kane infinite-well dispersion, 10 % of the shift");
+  }
+  for (int k = 0; k < 2; k++) {
+    ew_result_free(r[k]);
+    ew_stack_free(st[k]);
+  }
+}
+
+/* The PL line of a GaAs/Al0.3Ga0.7As well follows the GaAs gap with temperature: from 10 K to
+ * 300 K the GaAs Γ gap closes by 1.5189 − 1.4224 = 96.5 meV (Varshni with α = 0.5405 meV/K,
+ * β = 204 K: I. Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), from memory); the
+ * confinement of a 10 nm well changes by a few meV as the barriers' gap moves differently, so
+ * the e1–hh1 PL peak must red-shift by 96.5 ± 8 meV (common practice: "about 0.1 eV"). */
+static void pl_temperature_shift(void **state) {
+  (void)state;
+  const char *fmt = "temperature = %g;\n"
+                    "layers = ( { material = \"AlGaAs\"; x = 0.3; thickness = 25.0; },\n"
+                    "           { name = \"w\"; material = \"GaAs\"; thickness = 10.0; },\n"
+                    "           { material = \"AlGaAs\"; x = 0.3; thickness = 25.0; } );\n";
+  double pl[2];
+  const double T[2] = {10.0, 300.0};
+  for (int k = 0; k < 2; k++) {
+    char text[1024];
+    snprintf(text, sizeof text, fmt, T[k]);
+    ew_stack *st;
+    ew_result *r = solve_text(text, &st, NULL);
+    assert_non_null(r);
+    pl[k] = 0;
+    for (size_t i = 0; i < ew_result_line_count(r); i++) {
+      const ew_line *ln = ew_result_line(r, i);
+      if (ln->kind == EW_LINE_INTERBAND && ew_result_state(r, ln->upper)->n == 1 &&
+          ew_result_state(r, ln->lower)->band == EW_BAND_HH && ew_result_state(r, ln->lower)->n == 1)
+        pl[k] = ln->pl_peak_eV;
+    }
+    assert_true(pl[k] > 1.3);
+    ew_result_free(r);
+    ew_stack_free(st);
+  }
+  print_message("e1-hh1 PL peak: %.4f eV at 10 K, %.4f eV at 300 K\n", pl[0], pl[1]);
+  TU_NEAR(pl[0] - pl[1], 0.0965, 0.008, "Varshni shift of the GaAs gap");
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(triangular_well),
       cmocka_unit_test(stark_shift),
       cmocka_unit_test(parabolic_well),
       cmocka_unit_test(linear_grade_and_monolayers),
+      cmocka_unit_test(kane_deep_well),
+      cmocka_unit_test(pl_temperature_shift),
   };
   return cmocka_run_group_tests_name("physics", tests, setup, teardown);
 }
