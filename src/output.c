@@ -24,15 +24,18 @@ void ew_output_table(const ew_result *r, FILE *out) {
   if (st->substrate[0]) fprintf(out, "; pseudomorphic on %s", st->substrate);
   fprintf(out, "\n\n");
   fprintf(out, "Layers (growth order)\n");
-  fprintf(out, "  %-3s %-14s %-14s %6s %10s %9s %9s %9s %7s %7s %7s\n", "#", "name", "material",
-          "x", "from_nm", "thick_nm", "Ec_eV", "Ev_eV", "me", "mhh", "mlh");
+  fprintf(out, "  %-3s %-14s %-14s %6s %10s %9s %9s %9s %9s %7s %7s %7s %8s\n", "#", "name",
+          "material", "x", "from_nm", "thick_nm", "Ec_eV", "Ev_hh_eV", "Ev_lh_eV", "me", "mhh",
+          "mlh", "strain_%");
   for (size_t k = 0; k < st->n_layers; k++) {
     const ew_layer *ly = &st->layers[k];
     char x[16] = "-";
     if (ly->has_x) snprintf(x, sizeof x, "%.3f", ly->x);
-    fprintf(out, "  %-3zu %-14s %-14s %6s %10.3f %9.3f %9.4f %9.4f %7.4f %7.4f %7.4f\n", k + 1,
-            ly->name, ly->material, x, ly->z_start_nm, ly->thickness_nm, ly->bands.Ec_eV,
-            ly->bands.Ev_hh_eV, ly->bands.me, ly->bands.mhh_z, ly->bands.mlh_z);
+    if (ly->grade) snprintf(x, sizeof x, "graded");
+    fprintf(out, "  %-3zu %-14s %-14s %6s %10.3f %9.3f %9.4f %9.4f %9.4f %7.4f %7.4f %7.4f %8.3f\n",
+            k + 1, ly->name, ly->material, x, ly->z_start_nm, ly->thickness_nm, ly->bands.Ec_eV,
+            ly->bands.Ev_hh_eV, ly->bands.Ev_lh_eV, ly->bands.me, ly->bands.mhh_z,
+            ly->bands.mlh_z, 100.0 * ly->bands.eps_par);
   }
   fprintf(out, "\nBound levels (%zu e, %zu hh, %zu lh; count certified by inertia)\n",
           r->band_count[0], r->band_count[1], r->band_count[2]);
@@ -133,6 +136,10 @@ void ew_output_json(const ew_result *r, FILE *out) {
     fprintf(out, ",\"me\":"), jnum(out, ly->bands.me);
     fprintf(out, ",\"mhh\":"), jnum(out, ly->bands.mhh_z);
     fprintf(out, ",\"mlh\":"), jnum(out, ly->bands.mlh_z);
+    if (ly->has_y) fprintf(out, ",\"y\":"), jnum(out, ly->y);
+    fprintf(out, ",\"eps_par\":"), jnum(out, ly->bands.eps_par);
+    fprintf(out, ",\"eps_perp\":"), jnum(out, ly->bands.eps_perp);
+    fprintf(out, ",\"critical_thickness_nm\":"), jnum(out, ly->bands.critical_thickness_nm);
     fputc('}', out);
   }
   fprintf(out, "],\"bands\":{");

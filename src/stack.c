@@ -41,13 +41,13 @@ static const char *const top_keys[] = {"temperature", "grid_step",    "materials
                                        "alloys",      "layers",       "substrate",
                                        "field",       "nonparabolic", "sheet_density",
                                        "linewidth"};
-static const char *const layer_keys[] = {"name", "material", "x", "thickness", "thickness_ml",
-                                         "grade"};
+static const char *const layer_keys[] = {"name", "material", "x", "y", "thickness",
+                                         "thickness_ml", "grade"};
 static const char *const alloy_keys[] = {"name", "first", "second", "bowing"};
 static const char *const bowing_keys[] = {"Ec", "Ev", "me", "mhh", "mlh", "mhh_par", "mlh_par",
                                           "eps_static"};
 static const char *const grade_keys[] = {"profile", "x_start", "x_end", "x_centre", "x_edge"};
-static const char *const substrate_keys[] = {"material", "x"};
+static const char *const substrate_keys[] = {"material", "x", "y"};
 #define MAX_FIELD_KV_CM 2000.0    /* beyond this III–V layers break down long before */
 #define MAX_SHEET_DENSITY_CM2 1e15
 #define DEFAULT_LINEWIDTH_MEV 10.0
@@ -497,8 +497,8 @@ static void ualloy_bands(const reader *r, const user_alloy *a, double x, ew_band
 
 /* Resolve a material at (x, T): user material, user alloy or catalogue entry; sub receives
  * the reason of a failure. */
-static ew_status resolve_bands(const reader *r, const char *material, double x, double T,
-                               ew_bands *out, ew_error *sub) {
+static ew_status resolve_bands(const reader *r, const char *material, double x, double y,
+                               double T, ew_bands *out, ew_error *sub) {
   const user_material *um = find_user(r, material);
   if (um) {
     *out = um->bands;
@@ -513,7 +513,8 @@ static ew_status resolve_bands(const reader *r, const char *material, double x, 
                      "mass or Ev >= Ec (check its bowing)", material, x);
     return EW_OK;
   }
-  return ew_material_bands(r->cat, material, x, T, out, sub);
+  /* catalogue materials are pseudomorphic on the substrate when one is given */
+  return ew_material_bands_on(r->cat, material, x, y, T, r->a_sub_nm, out, sub);
 }
 
 /* ---- layers ----------------------------------------------------------------------------- */
@@ -647,6 +648,10 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
   got = get_number(r, g, "x", where, &L->x, &lx);
   if (got < 0) return EW_ERR_INPUT;
   L->has_x = got;
+  int ly_ = line;
+  got = get_number(r, g, "y", where, &L->y, &ly_);
+  if (got < 0) return EW_ERR_INPUT;
+  L->has_y = got;
   const config_setting_t *gr = config_setting_get_member(g, "grade");
   if (gr) {
     st = read_grade(r, gr, L, where);
@@ -672,17 +677,26 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
                 L->name, L->material);
   if (L->has_x && (L->x < 0 || L->x > 1))
     return fail(r, lx, "layer '%s': x = %g is outside [0, 1]", L->name, L->x);
+  int quaternary = !L->user_material && ew_catalogue_needs_y(r->cat, L->material) == 1;
+  if (quaternary && !L->has_y)
+    return fail(r, line, "layer '%s': quaternary '%s' needs both 'x' and 'y' in [0, 1] "
+                "(`epiwell materials %s` says what they are)", L->name, L->material, L->material);
+  if (!quaternary && L->has_y)
+    return fail(r, ly_, "layer '%s': 'y' is only for quaternaries; '%s' is not one", L->name,
+                L->material);
+  if (L->has_y && (L->y < 0 || L->y > 1))
+    return fail(r, ly_, "layer '%s': y = %g is outside [0, 1]", L->name, L->y);
 
   ew_error sub;
   memset(&sub, 0, sizeof sub);
   double xc = L->grade ? grade_x(L, 0.5) : (L->has_x ? L->x : 0.0);
-  st = resolve_bands(r, L->material, xc, T, &L->bands, &sub);
+  st = resolve_bands(r, L->material, xc, L->y, T, &L->bands, &sub);
   if (!st && L->grade) {
     L->profile = malloc(EW_GRADE_SAMPLES * sizeof *L->profile);
     if (!L->profile) return ew_fail(r->err, EW_ERR_NOMEM, r->path, 0, "out of memory");
     for (int k = 0; k < EW_GRADE_SAMPLES && !st; k++)
-      st = resolve_bands(r, L->material, grade_x(L, (double)k / (EW_GRADE_SAMPLES - 1)), T,
-                         &L->profile[k], &sub);
+      st = resolve_bands(r, L->material, grade_x(L, (double)k / (EW_GRADE_SAMPLES - 1)), L->y,
+                         T, &L->profile[k], &sub);
   }
   if (st) /* keep the catalogue's code and words, but point at the layer that asked */
     return ew_fail(r->err, st, r->path, line, "layer '%s' (%s): %s", L->name, L->material,
@@ -692,7 +706,8 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
     if (!(L->bands.a_nm > 0))
       return fail(r, lml, "layer '%s': thickness_ml needs a lattice constant, which '%s' does "
                   "not have; give 'thickness' in nm", L->name, L->material);
-    L->thickness_nm = L->thickness_ml * 0.5 * L->bands.a_nm;
+    /* pseudomorphic: the growth-axis lattice constant is a (1 + ε⊥) */
+    L->thickness_nm = L->thickness_ml * 0.5 * L->bands.a_nm * (1.0 + L->bands.eps_perp);
     if (L->thickness_nm > MAX_LAYER_NM)
       return fail(r, lml, "layer '%s' is %g nm thick, above the %g nm limit", L->name,
                   L->thickness_nm, MAX_LAYER_NM);
@@ -767,15 +782,20 @@ static ew_status read_substrate(reader *r, const config_setting_t *root, ew_stac
                 "\"%s\"; x = ...; };", s->substrate, s->substrate);
   if (s->substrate_x < 0 || s->substrate_x > 1)
     return fail(r, l, "substrate x = %g is outside [0, 1]", s->substrate_x);
-  ew_bands b;
+  if (config_setting_type(sub) == CONFIG_TYPE_GROUP) {
+    got = get_number(r, sub, "y", "in 'substrate'", &s->substrate_y, &l);
+    if (got < 0) return EW_ERR_INPUT;
+    if (s->substrate_y < 0 || s->substrate_y > 1)
+      return fail(r, l, "substrate y = %g is outside [0, 1]", s->substrate_y);
+  }
+  double a = 0.0;
   ew_error e;
   memset(&e, 0, sizeof e);
-  if (ew_material_bands(r->cat, s->substrate, s->substrate_x, s->temperature_K, &b, &e) ||
-      !(b.a_nm > 0))
+  if (ew_lattice_nm(r->cat, s->substrate, s->substrate_x, s->substrate_y, &a, &e) || !(a > 0))
     return fail(r, line, "substrate '%s': no lattice constant available%s%s", s->substrate,
                 e.message[0] ? ": " : "", e.message);
-  s->substrate_a_nm = b.a_nm;
-  r->a_sub_nm = b.a_nm;
+  s->substrate_a_nm = a;
+  r->a_sub_nm = a;
   return EW_OK;
 }
 

@@ -91,10 +91,60 @@ static void thick_well_tends_to_bulk_gap(void **state) {
   ew_stack_free(st);
 }
 
+
+/* Strained In0.2Ga0.8As/GaAs wells of a few nm emit near 980 nm at room temperature: the
+ * pump-laser design (common practice).  A 6 nm well: e1–hh1 PL peak between 960 and 1010 nm;
+ * compressive strain puts the heavy hole on top (Ev_hh > Ev_lh in the well; Bir–Pikus, see
+ * src/strain.h) and the well stays below its Matthews–Blakeslee thickness (no warning). */
+static void strained_ingaas_980nm(void **state) {
+  (void)state;
+  ew_stack *st = NULL;
+  ew_result *r = solve_text("temperature = 300.0; substrate = \"GaAs\";\n"
+                            "layers = ( { material = \"GaAs\"; thickness = 30.0; },\n"
+                            " { name = \"well\"; material = \"InGaAs\"; x = 0.2; thickness = 6.0; },\n"
+                            " { material = \"GaAs\"; thickness = 30.0; } );\n",
+                            &st);
+  assert_non_null(r);
+  const ew_line *ln = find_line(r, "hh1", "e1");
+  assert_non_null(ln);
+  double nm = 1239.84198 / ln->pl_peak_eV;
+  print_message("In0.2Ga0.8As 6 nm: PL peak %.1f nm\n", nm);
+  assert_true(nm > 960.0 && nm < 1010.0);
+  assert_true(st->layers[1].bands.Ev_hh_eV > st->layers[1].bands.Ev_lh_eV);
+  assert_true(st->layers[1].bands.eps_par < 0);
+  assert_int_equal(ew_result_warning_count(r), 0);
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
+/* Lattice-matched In0.53Ga0.47As/Al0.48In0.52As on InP: conduction-band offset about
+ * 0.52 eV (common practice, from memory; ±0.03 eV), and wells of about 4–5 nm give
+ * e1→e2 lines in the 4–5 µm range used by mid-infrared intersubband emitters (common
+ * practice): a 4.5 nm well between 3.5 and 6 µm. */
+static void ingaas_alinas_on_inp(void **state) {
+  (void)state;
+  ew_stack *st = NULL;
+  ew_result *r = solve_text("temperature = 300.0; substrate = \"InP\";\n"
+                            "layers = ( { material = \"AlInAs\"; x = 0.48; thickness = 20.0; },\n"
+                            " { name = \"well\"; material = \"InGaAs\"; x = 0.53; thickness = 4.5; },\n"
+                            " { material = \"AlInAs\"; x = 0.48; thickness = 20.0; } );\n",
+                            &st);
+  assert_non_null(r);
+  TU_NEAR(st->layers[0].bands.Ec_eV - st->layers[1].bands.Ec_eV, 0.52, 0.03,
+          "InGaAs/AlInAs conduction offset (common practice, from memory)");
+  const ew_line *ln = find_line(r, "e1", "e2");
+  assert_non_null(ln);
+  assert_true(ln->wavelength_nm > 3500 && ln->wavelength_nm < 6000);
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(west_eglash_intersubband),
       cmocka_unit_test(thick_well_tends_to_bulk_gap),
+      cmocka_unit_test(strained_ingaas_980nm),
+      cmocka_unit_test(ingaas_alinas_on_inp),
   };
   return cmocka_run_group_tests_name("published", tests, setup, teardown);
 }
