@@ -17,7 +17,7 @@ static const char usage[] =
     "  epiwell solve STACK [--json] [-o DIR] [--gzip] [--grid-step NM] [--lines K|all]\n"
     "                      [--no-estimate] [--plot FILE.svg|FILE.png] [--report DIR]\n"
     "  epiwell materials [NAME [--x X] [--y Y] [--temperature K] [--substrate SUB\n"
-    "                    [--substrate-x X]]]\n"
+    "                    [--substrate-x X] [--match-gap EV]]]\n"
     "  epiwell sweep STACK --vary KEY=FROM:TO:STEP [--vary ...] [--csv FILE] [--json]\n"
     "                      [--threads N] [--shard K/N] [--no-header] [--levels N]\n"
     "  epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE [--tolerance VALUE]\n"
@@ -51,7 +51,8 @@ static int parse_num(const char *s, double *v) {
 
 static int cmd_materials(int argc, char **argv) {
   const char *name = NULL, *substrate = NULL;
-  double x = 0.0, y = 0.0, T = 300.0, sx = 0.0;
+  double x = 0.0, y = 0.0, T = 300.0, sx = 0.0, gap = 0.0;
+  int match = 0;
   for (int i = 0; i < argc; i++) {
     const char *a = argv[i];
     if (!strcmp(a, "--x") || !strcmp(a, "--y") || !strcmp(a, "--temperature") ||
@@ -64,6 +65,12 @@ static int cmd_materials(int argc, char **argv) {
     } else if (!strcmp(a, "--substrate")) {
       if (i + 1 >= argc) return bad_usage("%s needs a value", a);
       substrate = argv[++i];
+    } else if (!strcmp(a, "--match-gap")) {
+      if (i + 1 >= argc) return bad_usage("%s needs a value", a);
+      if (!parse_num(argv[i + 1], &gap) || gap <= 0)
+        return bad_usage("--match-gap wants a gap in eV, got %s", argv[i + 1]);
+      match = 1;
+      i++;
     } else if (a[0] == '-') {
       return bad_usage("unknown option %s", a);
     } else if (!name) {
@@ -77,8 +84,21 @@ static int cmd_materials(int argc, char **argv) {
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK) return report(&err);
   int rc = 0;
   double a_sub = 0.0;
+  if (match && (!name || !substrate)) {
+    ew_catalogue_free(cat);
+    return bad_usage("%s", "--match-gap needs a material NAME and --substrate");
+  }
   if (substrate && ew_lattice_nm(cat, substrate, sx, 0.0, &a_sub, &err) != EW_OK) {
     rc = report(&err);
+  } else if (match) {
+    /* the composition lattice-matched to the substrate with the requested Γ gap at T */
+    if (ew_lattice_match(cat, name, substrate, sx, gap, T, &x, &y, &err) != EW_OK) {
+      rc = report(&err);
+    } else {
+      printf("%s lattice-matched to %s with a Γ gap of %g eV at %g K: x = %.5f, y = %.5f\n\n",
+             name, substrate, gap, T, x, y);
+      if (ew_material_print_on(cat, name, x, y, T, a_sub, stdout, &err) != EW_OK) rc = report(&err);
+    }
   } else if (!name) {
     ew_catalogue_print(cat, stdout);
   } else if (ew_material_print_on(cat, name, x, y, T, a_sub, stdout, &err) != EW_OK) {
