@@ -73,9 +73,10 @@ typedef struct {
 typedef struct {
   double Eg_G_eV, Eg_X_eV, Eg_L_eV; /* gaps at T (Varshni, then bowing as in Vurgaftman) */
   double Ev_eV;    /* valence-band maximum (VBO, temperature independent) */
-  double Ec_eV;    /* Γ conduction edge = Ev + Eg_G(T): the gap's T shift goes into Ec */
-  double Ev_hh_eV; /* heavy-hole edge (= Ev without strain) */
-  double Ev_lh_eV; /* light-hole edge (= Ev without strain) */
+  double Ec_eV;    /* Γ conduction edge = Ev + Eg_G(T) (+ dEc_strain_eV on a substrate): the
+                      gap's T shift goes into Ec */
+  double Ev_hh_eV; /* heavy-hole edge (= Ev without strain, Ev + dEhh_strain_eV with) */
+  double Ev_lh_eV; /* light-hole edge (= Ev without strain, Ev + dElh_strain_eV with) */
   double me;       /* electron mass, m0 */
   double mhh_z, mlh_z;     /* growth-axis hole masses 1/(γ1 ∓ 2γ2), m0 */
   double mhh_par, mlh_par; /* in-plane hole masses 1/(γ1 ± γ2), m0 */
