@@ -99,7 +99,7 @@ static const stack_case user_cases[] = {
    EW_ERR_INPUT, 6, "unknown key 'thicknes' in layer 'well'; did you mean 'thickness'?"},
   {"unknown layer key far from any lists the valid keys",
    UMATS "layers = (\n { name = \"well\"; material = \"wellmat\"; thickness = 8.0;\n"
-   "   colour = \"red\"; }\n);\n", EW_ERR_INPUT, 7, "valid keys: name, material, x, thickness"},
+   "   colour = \"red\"; }\n);\n", EW_ERR_INPUT, 7, "valid keys: name, material, x, y, thickness, thickness_ml, grade"},
   {"unknown material key suggests nearest",
    "materials = (\n { name = \"m\"; Ec = 1; Ev = 0; me = 0.1; mhh = 0.4; mlh = 0.1;\n"
    "   mhh_para = 0.2; }\n);\n" ULAYERS, EW_ERR_INPUT, 3,
