@@ -272,6 +272,68 @@ static const stack_case cat_cases[] = {
   {"user and catalogue materials mix",
    UMATS "layers = (\n { material = \"AlGaAs\"; x = 0.3; thickness = 20; },\n"
    " { material = \"wellmat\"; thickness = 8; }\n);\n", EW_OK, 0, NULL},
+  /* extensions: substrate, field, grades, monolayers, quaternaries, user alloys */
+  {"substrate by name accepted",
+   "substrate = \"GaAs\";\nlayers = (\n { material = \"InGaAs\"; x = 0.2; thickness = 6; }\n);\n",
+   EW_OK, 0, NULL},
+  {"substrate alloy without x refused",
+   "substrate = \"InGaAs\";\nlayers = (\n { material = \"GaAs\"; thickness = 6; }\n);\n",
+   EW_ERR_INPUT, 1, "needs a composition"},
+  {"unknown substrate suggests the nearest",
+   "substrate = \"GaAS\";\nlayers = (\n { material = \"GaAs\"; thickness = 6; }\n);\n",
+   EW_ERR_INPUT, 1, "did you mean 'GaAs'?"},
+  {"field beyond breakdown refused",
+   "field = 5000.0;\nlayers = (\n { material = \"GaAs\"; thickness = 6; }\n);\n",
+   EW_ERR_INPUT, 1, "kV/cm"},
+  {"nonparabolic must be a boolean",
+   "nonparabolic = 1;\nlayers = (\n { material = \"GaAs\"; thickness = 6; }\n);\n",
+   EW_ERR_INPUT, 1, "true or false"},
+  {"linewidth out of range",
+   "linewidth = 0.0;\nlayers = (\n { material = \"GaAs\"; thickness = 6; }\n);\n",
+   EW_ERR_INPUT, 1, "linewidth"},
+  {"grade with an unknown profile",
+   "layers = (\n { material = \"AlGaAs\"; thickness = 6;\n"
+   "   grade = { profile = \"cubic\"; x_start = 0; x_end = 0.3; }; }\n);\n",
+   EW_ERR_INPUT, 3, "unknown grade profile"},
+  {"grade and x together refused",
+   "layers = (\n { material = \"AlGaAs\"; x = 0.1; thickness = 6;\n"
+   "   grade = { profile = \"linear\"; x_start = 0; x_end = 0.3; }; }\n);\n",
+   EW_ERR_INPUT, 2, "both 'x' and a 'grade'"},
+  {"grade x outside [0, 1]",
+   "layers = (\n { material = \"AlGaAs\"; thickness = 6;\n"
+   "   grade = { profile = \"parabolic\"; x_centre = 0; x_edge = 1.3; }; }\n);\n",
+   EW_ERR_INPUT, 3, "outside [0, 1]"},
+  {"grade keys of the other profile refused",
+   "layers = (\n { material = \"AlGaAs\"; thickness = 6;\n"
+   "   grade = { profile = \"linear\"; x_start = 0; x_end = 0.3; x_edge = 0.2; }; }\n);\n",
+   EW_ERR_INPUT, 3, "does not belong"},
+  {"grade on a binary refused",
+   "layers = (\n { material = \"GaAs\"; thickness = 6;\n"
+   "   grade = { profile = \"linear\"; x_start = 0; x_end = 0.3; }; }\n);\n",
+   EW_ERR_INPUT, 3, "no composition"},
+  {"thickness and thickness_ml together refused",
+   "layers = (\n { material = \"GaAs\"; thickness = 6; thickness_ml = 20; }\n);\n",
+   EW_ERR_INPUT, 2, "both 'thickness' and 'thickness_ml'"},
+  {"thickness_ml must be whole",
+   "layers = (\n { material = \"GaAs\"; thickness_ml = 20.5; }\n);\n",
+   EW_ERR_INPUT, 2, "whole number"},
+  {"quaternary without y refused",
+   "layers = (\n { material = \"InGaAsP\"; x = 0.4; thickness = 6; }\n);\n",
+   EW_ERR_INPUT, 2, "needs both 'x' and 'y'"},
+  {"y on a ternary refused",
+   "layers = (\n { material = \"AlGaAs\"; x = 0.3; y = 0.2; thickness = 6; }\n);\n",
+   EW_ERR_INPUT, 2, "only for quaternaries"},
+  {"user alloy of unknown end refused",
+   "materials = ( { name = \"A\"; Ec = 1; Ev = 0; me = 0.07; mhh = 0.4; mlh = 0.1; } );\n"
+   "alloys = ( { name = \"AB\"; first = \"A\"; second = \"B\"; } );\n"
+   "layers = (\n { material = \"AB\"; x = 0.5; thickness = 6; }\n);\n",
+   EW_ERR_INPUT, 2, "is not a material defined under 'materials'"},
+  {"user alloy without x refused",
+   "materials = ( { name = \"A\"; Ec = 1; Ev = 0; me = 0.07; mhh = 0.4; mlh = 0.1; },\n"
+   "              { name = \"B\"; Ec = 0.5; Ev = 0; me = 0.07; mhh = 0.4; mlh = 0.1; } );\n"
+   "alloys = ( { name = \"AB\"; first = \"A\"; second = \"B\"; bowing = { Ec = 0.1; }; } );\n"
+   "layers = (\n { material = \"AB\"; thickness = 6; }\n);\n",
+   EW_ERR_INPUT, 5, "needs a composition"},
 };
 
 /* Returns 1 when the case behaves as listed; prints what differed otherwise. */
