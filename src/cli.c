@@ -11,15 +11,26 @@
 #include "output.h"
 #include "plot.h"
 #include "report.h"
+#include "workflow.h" /* absorption spectra (solve --spectra) */
 
 static const char usage[] =
     "usage:\n"
     "  epiwell solve STACK [--json] [-o DIR] [--gzip] [--grid-step NM] [--lines K|all]\n"
     "                      [--no-estimate] [--plot FILE.svg|FILE.png] [--report DIR]\n"
+    "                      [--spectra FILE.csv] [--spectra-plot FILE.svg|FILE.png]\n"
+    "                      [--angle DEG] [--index N]\n"
+    "    --spectra: absorption spectra, columns E_eV,interband_rel,intersubband_fraction on\n"
+    "      the union of two 2001-point grids (interband: 20 meV below the lowest exciton\n"
+    "      peak to 100 meV above the highest interband line; intersubband: 0 to 1.5 x the\n"
+    "      highest e1-ej line); intersubband needs the stack's sheet_density (else empty);\n"
+    "      --angle internal angle to the growth axis (default 45), --index refractive index\n"
+    "      (default 3.3, GaAs near 10 um); --spectra-plot FILE: interband chart, and\n"
+    "      FILE-intersubband.EXT the intersubband one; peaks are listed after the table\n"
     "  epiwell materials [NAME [--x X] [--y Y] [--temperature K] [--substrate SUB\n"
     "                    [--substrate-x X] [--match-gap EV]]]\n"
     "  epiwell sweep STACK --vary KEY=FROM:TO:STEP [--vary ...] [--csv FILE] [--json]\n"
     "                      [--threads N] [--shard K/N] [--no-header] [--levels N]\n"
+    "                      [--plot FILE.svg|FILE.png]  (epiwell sweep --help: the pictures)\n"
     "  epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE [--tolerance VALUE]\n"
     "                      [--samples N] [--json] [--threads N]  (two unknowns: each twice)\n"
     "  epiwell tolerance STACK [--dx DX] [--ladder LAYER] [--json] [--threads N]\n"
@@ -110,6 +121,8 @@ static int cmd_materials(int argc, char **argv) {
 
 static int cmd_solve(int argc, char **argv) {
   const char *path = NULL, *outdir = NULL, *plot = NULL, *repdir = NULL;
+  const char *spectra = NULL, *spectra_plot = NULL, *angle_opt = NULL, *index_opt = NULL;
+  double angle = EW_WF_DEFAULT_ANGLE_DEG, index = EW_WF_DEFAULT_INDEX;
   int json = 0, gzip = -1;
   ew_options opt;
   ew_options_default(&opt);
@@ -122,10 +135,27 @@ static int cmd_solve(int argc, char **argv) {
     } else if (!strcmp(a, "--no-estimate")) {
       opt.error_estimate = 0;
     } else if (!strcmp(a, "-o") || !strcmp(a, "--grid-step") || !strcmp(a, "--lines") ||
-               !strcmp(a, "--plot") || !strcmp(a, "--report")) {
+               !strcmp(a, "--plot") || !strcmp(a, "--report") || !strcmp(a, "--spectra") ||
+               !strcmp(a, "--spectra-plot") || !strcmp(a, "--angle") || !strcmp(a, "--index")) {
       if (i + 1 >= argc) return bad_usage("%s needs a value", a);
       const char *v = argv[++i];
-      if (!strcmp(a, "-o")) {
+      if (!strcmp(a, "--spectra")) {
+        if (!v[0]) return bad_usage("%s", "--spectra wants a file name, got an empty one");
+        spectra = v;
+      } else if (!strcmp(a, "--spectra-plot")) {
+        if (!ew_plot_format(v))
+          return bad_usage("--spectra-plot wants a file name ending in .svg or .png, got %s", v);
+        spectra_plot = v;
+      } else if (!strcmp(a, "--angle")) {
+        if (!parse_num(v, &angle) || angle < 0 || angle >= 90)
+          return bad_usage("--angle wants the internal angle to the growth axis in degrees, "
+                           "in [0, 90), got %s", v);
+        angle_opt = a;
+      } else if (!strcmp(a, "--index")) {
+        if (!parse_num(v, &index) || index <= 0 || index > 100)
+          return bad_usage("--index wants a refractive index in (0, 100], got %s", v);
+        index_opt = a;
+      } else if (!strcmp(a, "-o")) {
         if (!v[0]) return bad_usage("%s", "-o wants a directory name, got an empty one"); /* robustness */
         outdir = v;
       } else if (!strcmp(a, "--plot")) {
@@ -154,26 +184,72 @@ static int cmd_solve(int argc, char **argv) {
     }
   }
   if (!path) return bad_usage("%s", "solve needs a stack file");
+  if ((angle_opt || index_opt) && !spectra && !spectra_plot)
+    return bad_usage("%s needs --spectra or --spectra-plot", angle_opt ? angle_opt : index_opt);
   ew_error err = {0};
   /* unwritable outputs (directories, picture file) fail before any work is done */
   if (outdir && ew_output_check_dir(outdir, &err) != EW_OK) return report(&err);
   if (plot && ew_plot_check_path(plot, &err) != EW_OK) return report(&err);
   if (repdir && ew_output_check_dir(repdir, &err) != EW_OK) return report(&err);
+  if (spectra && ew_wf_check_file_path(spectra, "--spectra", &err) != EW_OK) return report(&err);
+  for (int k = 0; spectra_plot && k < 2; k++) {
+    char pp[EW_WF_PATH_MAX];
+    if (ew_wf_plot_companion(spectra_plot, k ? "intersubband" : "", "--spectra-plot", pp,
+                             sizeof pp, &err) != EW_OK ||
+        ew_plot_check_path(pp, &err) != EW_OK) {
+      char msg[sizeof err.message];
+      snprintf(msg, sizeof msg, "--spectra-plot: %.1000s", err.message);
+      snprintf(err.message, sizeof err.message, "%s", msg);
+      return report(&err);
+    }
+  }
   ew_catalogue *cat = NULL;
   ew_stack *st = NULL;
   ew_result *res = NULL;
+  ew_wf_spectra sp;
+  memset(&sp, 0, sizeof sp);
+  ew_wf_outset spset; /* the spectra CSV and pictures, renamed into place together */
+  ew_wf_outset_init(&spset);
+  int sp_written[2] = {0, 0};
+  int want_sp = spectra || spectra_plot;
+  const char *sp_tmp = NULL;
+  FILE *sp_csv = NULL;
   int rc = 0;
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK || ew_stack_read_file(path, cat, &st, &err) != EW_OK ||
       ew_solve(st, &opt, &res, &err) != EW_OK ||
+      (want_sp && ew_wf_spectra_compute(res, angle, index, &sp, &err) != EW_OK) ||
       (outdir && ew_output_csv_dir(res, outdir, gzip, &err) != EW_OK) ||
       (plot && ew_plot_band_diagram(res, plot, &err) != EW_OK) ||
-      (repdir && ew_report_write(res, cat, repdir, &err) != EW_OK)) {
+      (repdir && ew_report_write(res, cat, repdir, &err) != EW_OK) ||
+      (spectra && ew_wf_outset_add(&spset, spectra, "--spectra", &sp_tmp, &err) != EW_OK) ||
+      (spectra_plot && ew_wf_spectra_plot(&sp, spectra_plot, &spset, sp_written, &err) != EW_OK)) {
     rc = report(&err);
   } else {
-    if (json) ew_output_json(res, stdout);
-    else ew_output_table(res, stdout);
-    if (fflush(stdout) != 0) rc = EW_ERR_IO;
+    if (spectra) {
+      sp_csv = fopen(sp_tmp, "w");
+      if (sp_csv) ew_wf_spectra_write_csv(&sp, sp_csv);
+      int bad_write = !sp_csv || ferror(sp_csv) != 0, e = errno;
+      if (sp_csv && fclose(sp_csv) != 0 && !bad_write) bad_write = 1, e = errno;
+      if (bad_write) {
+        fprintf(stderr, "epiwell: --spectra: cannot write '%s': %s\n", spectra, strerror(e));
+        rc = EW_ERR_IO;
+      }
+    }
+    if (!rc && ew_wf_outset_commit(&spset, 1, &err) != EW_OK) rc = report(&err);
+    if (!rc) {
+      for (int w = 0; w < 2 && want_sp; w++)
+        if (sp.note[w][0]) fprintf(stderr, "epiwell: %s\n", sp.note[w]);
+      if (spectra_plot && !sp_written[0])
+        fprintf(stderr, "epiwell: --spectra-plot: no interband spectrum, %s not written\n",
+                spectra_plot);
+      if (json) ew_output_json(res, stdout);
+      else ew_output_table(res, stdout);
+      if (!json && want_sp) ew_wf_spectra_print_peaks(&sp, stdout);
+      if (fflush(stdout) != 0) rc = EW_ERR_IO;
+    }
   }
+  ew_wf_outset_commit(&spset, 0, NULL);
+  ew_wf_spectra_free(&sp);
   ew_result_free(res);
   ew_stack_free(st);
   ew_catalogue_free(cat);

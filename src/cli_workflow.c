@@ -15,6 +15,7 @@
 
 #include "epiwell.h"
 #include "error.h"
+#include "plot.h"
 #include "stack.h"
 #include "workflow.h"
 
@@ -25,7 +26,17 @@ int ew_cli_tolerance(int argc, char **argv);
 static const char sweep_usage[] =
     "usage: epiwell sweep STACK --vary KEY=FROM:TO:STEP [--vary KEY=FROM:TO:STEP]\n"
     "                     [--csv FILE] [--json] [--threads N] [--shard K/N] [--no-header]\n"
-    "                     [--levels N] [--grid-step NM] [--no-estimate]\n";
+    "                     [--levels N] [--grid-step NM] [--no-estimate]\n"
+    "                     [--plot FILE.svg|FILE.png]\n"
+    "  --plot FILE.svg|.png  pictures of the sweep (the CSV/JSON output is unchanged):\n"
+    "      one --vary:  FILE                   every level (eV) against the varied value\n"
+    "                   FILE-interband.EXT     interband main lines, wavelength (nm)\n"
+    "                   FILE-intersubband.EXT  intersubband main lines, wavelength (um)\n"
+    "      two --vary:  the same three files, the first key on the x axis and one curve per\n"
+    "                   value of the second key (at most 12, evenly spaced), of e1 (FILE),\n"
+    "                   e1-hh1 (FILE-interband) and e1-e2 (FILE-intersubband)\n"
+    "      a gap is a level not bound there; a chart whose lines never occur is not written\n"
+    "      (a note on stderr says so); with --shard only that part's points are drawn\n";
 static const char match_usage[] =
     "usage: epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE\n"
     "                     [--tolerance VALUE] [--samples N] [--json] [--threads N]\n"
@@ -213,7 +224,7 @@ static int parse_shard(const char *v, size_t *k, size_t *n) {
 }
 
 int ew_cli_sweep(int argc, char **argv) {
-  const char *path = NULL, *csv_path = NULL;
+  const char *path = NULL, *csv_path = NULL, *plot_path = NULL;
   ew_wf_range ranges[2];
   size_t nr = 0;
   common_opt c;
@@ -226,13 +237,20 @@ int ew_cli_sweep(int argc, char **argv) {
     int r = common_option(sweep_usage, argc, argv, &i, &c);
     if (r < 0) return EW_ERR_USAGE;
     if (r > 0) continue;
-    if (!strcmp(a, "--no-header")) {
+    if (!strcmp(a, "--help") || !strcmp(a, "-h")) {
+      fputs(sweep_usage, stdout);
+      return 0;
+    } else if (!strcmp(a, "--no-header")) {
       so.header = 0;
     } else if (!strcmp(a, "--vary") || !strcmp(a, "--csv") || !strcmp(a, "--shard") ||
-               !strcmp(a, "--levels")) {
+               !strcmp(a, "--levels") || !strcmp(a, "--plot")) {
       if (i + 1 >= argc) return bad(sweep_usage, "%s needs a value", a);
       const char *v = argv[++i];
-      if (!strcmp(a, "--levels")) {
+      if (!strcmp(a, "--plot")) {
+        if (!ew_plot_format(v))
+          return bad(sweep_usage, "--plot wants a file name ending in .svg or .png, got %s", v);
+        plot_path = v;
+      } else if (!strcmp(a, "--levels")) {
         if (!parse_whole(v, 0, 10000, &so.min_levels))
           return bad(sweep_usage, "--levels wants a whole number of levels per band, got %s", v);
       } else if (!strcmp(a, "--csv")) {
@@ -255,8 +273,30 @@ int ew_cli_sweep(int argc, char **argv) {
   }
   if (!path) return bad(sweep_usage, "%s", "sweep needs a stack file");
   if (nr == 0) return bad(sweep_usage, "%s", "sweep needs --vary KEY=FROM:TO:STEP");
+  /* every picture file must be writable before any point is solved */
+  if (plot_path) {
+    for (int f = 0; f < EW_WF_PLOT_FILES; f++) {
+      char pp[EW_WF_PATH_MAX];
+      if (ew_wf_plot_companion(plot_path, EW_WF_PLOT_SUFFIX[f], "--plot", pp, sizeof pp, &err) !=
+              EW_OK ||
+          ew_plot_check_path(pp, &err) != EW_OK) {
+        if (!strstr(err.message, "--plot")) {
+          char msg[sizeof err.message];
+          snprintf(msg, sizeof msg, "--plot: %.1000s", err.message);
+          snprintf(err.message, sizeof err.message, "%s", msg);
+        }
+        return report(&err);
+      }
+    }
+  }
   threads_note(c.threads);
   so.threads = c.threads;
+  ew_wf_table table;
+  memset(&table, 0, sizeof table);
+  if (plot_path) so.table = &table;
+  ew_wf_outset pics;
+  ew_wf_outset_init(&pics);
+  int written[EW_WF_PLOT_FILES] = {0};
   progress_state ps = {-1};
   if (isatty(fileno(stderr))) {
     so.progress = progress_bar;
@@ -267,6 +307,7 @@ int ew_cli_sweep(int argc, char **argv) {
   atomic_file af = {NULL, "", NULL};
   membuf out = {NULL, 0, NULL};
   int rc = 0;
+  c.solve.excitons = 0; /* the sweep's columns hold no PL peaks: skip the exciton work */
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
       ew_wf_model_open(path, cat, &c.solve, &m, &err) != EW_OK ||
       (csv_path && atomic_open(&af, csv_path, &err) != EW_OK)) {
@@ -279,13 +320,27 @@ int ew_cli_sweep(int argc, char **argv) {
     FILE *csv = csv_path ? af.f : (c.json ? NULL : out.f);
     FILE *json = c.json ? out.f : NULL;
     ew_status st = ew_wf_sweep(m, ranges, nr, &so, csv, json, &err);
+    /* pictures under temporary names first, then the CSV, then the pictures into place:
+     * an error anywhere leaves no new file */
+    if (st == EW_OK && plot_path) st = ew_wf_sweep_plot(&table, plot_path, &pics, written, &err);
     if (st != EW_OK) rc = report(&err);
     if (atomic_close(&af, st == EW_OK, &err) != EW_OK && !rc) rc = report(&err);
+    if (ew_wf_outset_commit(&pics, rc == 0, &err) != EW_OK && !rc) rc = report(&err);
+    if (!rc && plot_path)
+      for (int f = 0; f < EW_WF_PLOT_FILES; f++)
+        if (!written[f]) {
+          char pp[EW_WF_PATH_MAX];
+          ew_wf_plot_companion(plot_path, EW_WF_PLOT_SUFFIX[f], "--plot", pp, sizeof pp, NULL);
+          fprintf(stderr, "epiwell: --plot: no %s%s in this sweep: %s not written\n",
+                  f ? EW_WF_PLOT_SUFFIX[f] : "bound level", f ? " main line" : "", pp);
+        }
     int io = mem_finish(&out, rc == 0);
     if (!rc) rc = io;
   }
   if (af.f) atomic_close(&af, 0, &err);
   if (out.f) mem_finish(&out, 0);
+  ew_wf_outset_commit(&pics, 0, NULL);
+  ew_wf_table_free(&table);
   ew_wf_model_free(m);
   ew_catalogue_free(cat);
   return rc;
@@ -346,6 +401,9 @@ int ew_cli_match(int argc, char **argv) {
   if (have_tol && nr == 2) return bad(match_usage, "%s", "--tolerance works with one --vary only");
   threads_note(c.threads);
   mo.threads = c.threads;
+  c.solve.excitons = 0; /* only a PL-peak target (A-B:pl) needs the exciton binding */
+  for (size_t i = 0; i < (size_t)nl; i++)
+    if (strlen(lines[i]) > 3 && !strcmp(lines[i] + strlen(lines[i]) - 3, ":pl")) c.solve.excitons = 1;
   ew_catalogue *cat = NULL;
   ew_wf_model *m = NULL;
   ew_wf_match_result res;

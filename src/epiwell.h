@@ -86,6 +86,8 @@ typedef struct {
   int error_estimate;  /* 1: Richardson estimate from a second grid of step 2h (default) */
   double residual_tol; /* relative residual ||Hψ − EBψ|| / (||H|| ||ψ||) above which a
                           state is flagged (default 1e-8) */
+  int excitons;        /* 1: exciton binding and PL peak of every interband line (default);
+                          0 skips them (sweeps that report no PL peaks) */
 } ew_options;
 
 void ew_options_default(ew_options *opt);

@@ -28,6 +28,7 @@ void ew_options_default(ew_options *opt) {
   opt->lowest_levels = 3;
   opt->error_estimate = 1;
   opt->residual_tol = 1e-8;
+  opt->excitons = 1;
 }
 
 void ew_result_free(ew_result *r) {
@@ -438,8 +439,10 @@ ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out,
     }
   rc = add_lines(r, err);
   if (rc != EW_OK) goto fail;
-  rc = ew_result_add_excitons(r, err);
-  if (rc != EW_OK) goto fail;
+  if (opt.excitons) {
+    rc = ew_result_add_excitons(r, err);
+    if (rc != EW_OK) goto fail;
+  }
   for (int b = 0; b < EW_BAND_COUNT; b++) {
     ew_eigenpairs_free(&fine[b]);
     free(cvals[b]);

@@ -15,7 +15,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <time.h>
+#include <unistd.h>
 
 #ifdef _OPENMP
 #include <omp.h>
@@ -28,7 +30,9 @@
 #include "error.h"
 #include "grid.h"
 #include "nonparabolic.h"
+#include "plot.h"
 #include "solve.h"
+#include "spectra.h"
 #include "stack.h"
 
 static const double K_EVNM2 = EW_HB2M0_EVNM2; /* ħ²/2m0 = 0.0380998 eV nm² (CODATA 2018) */
@@ -448,16 +452,32 @@ static int parse_line(const char *line, wf_level *a, wf_level *b, int *interband
   return a->band == EW_BAND_E || b->band == EW_BAND_E;
 }
 
-ew_status ew_wf_line_energy(const ew_result *res, const char *line, double *energy_eV,
+ew_status ew_wf_line_energy(const ew_result *res, const char *line_in, double *energy_eV,
                             ew_error *err) {
   wf_level a, b;
   int ib;
   *energy_eV = NAN;
-  if (!parse_line(line, &a, &b, &ib))
+  /* "e1-hh1:pl": the photoluminescence peak, the interband line less its exciton binding */
+  char line[64];
+  snprintf(line, sizeof line, "%s", line_in);
+  size_t len = strlen(line);
+  int pl = len > 3 && !strcmp(line + len - 3, ":pl");
+  if (pl) line[len - 3] = '\0';
+  if (!parse_line(line, &a, &b, &ib) || (pl && !ib))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--line '%s': a line is two levels joined by '-', "
                    "of one band (intersubband, e.g. e1-e2, hh1-hh2) or an electron and a hole "
-                   "level (interband, e.g. e1-hh1, e1-lh1)", line);
+                   "level (interband, e.g. e1-hh1, e1-lh1); an interband line with ':pl' "
+                   "(e1-hh1:pl) is its photoluminescence peak, exciton included", line_in);
   if (!res) return EW_OK;
+  if (pl) {
+    const wf_level *e = a.band == EW_BAND_E ? &a : &b, *h = a.band == EW_BAND_E ? &b : &a;
+    size_t ie = level_index(res, e->band, e->n), ih = level_index(res, h->band, h->n);
+    for (size_t i = 0; i < res->n_lines && ie != SIZE_MAX && ih != SIZE_MAX; i++)
+      if (res->lines[i].kind == EW_LINE_INTERBAND && res->lines[i].upper == ie &&
+          res->lines[i].lower == ih)
+        *energy_eV = res->lines[i].pl_peak_eV;
+    return EW_OK;
+  }
   double ea = level_energy(res, a.band, a.n), eb = level_energy(res, b.band, b.n);
   /* as ew_line: intersubband |E_upper − E_lower|, interband E(e) − E(h) (README) */
   if (!ib) *energy_eV = fabs(ea - eb);
@@ -747,6 +767,24 @@ ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
   }
   main_lines(&cols, lines, nl);
   for (size_t j = 0; j < ncol; j++) column_name(&cols, lines, nr, keys, j, names[j], sizeof names[j]);
+  ew_wf_table *tab = o.table;
+  if (tab) {
+    memset(tab, 0, sizeof *tab);
+    snprintf(tab->stack, sizeof tab->stack, "%s", m->nominal->path);
+    tab->nkeys = nr;
+    tab->ncol = ncol;
+    tab->names = malloc(ncol * sizeof *tab->names);
+    tab->v = malloc(((hi - lo) ? (hi - lo) : 1) * ncol * sizeof *tab->v);
+    if (!tab->names || !tab->v) {
+      ew_wf_table_free(tab);
+      free(lines);
+      free(names);
+      free(rows);
+      return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep table of %zu points for "
+                     "the picture)", hi - lo);
+    }
+    memcpy(tab->names, names, ncol * sizeof *names);
+  }
 
   int header = o.header < 0 ? sk == 1 : o.header;
   if (csv && header) {
@@ -798,6 +836,7 @@ ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
     for (size_t j = 0; j < cn; j++) {
       const double *row = rows + j * ncol;
       if (csv) write_csv_row(csv, row, ncol);
+      if (tab) memcpy(tab->v + (tab->nrows++) * ncol, row, ncol * sizeof *row);
       if (json) {
         fputs(c0 + j > lo ? ",\n{" : "\n{", json);
         for (size_t k = 0; k < ncol; k++) {
@@ -813,9 +852,19 @@ ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
   free(lines);
   free(names);
   free(rows);
-  if (fl.index != SIZE_MAX) return fail_report(&fl, err);
+  if (fl.index != SIZE_MAX) {
+    ew_wf_table_free(tab);
+    return fail_report(&fl, err);
+  }
   if (json) fputs("]}\n", json);
   return EW_OK;
+}
+
+void ew_wf_table_free(ew_wf_table *t) {
+  if (!t) return;
+  free(t->names);
+  free(t->v);
+  memset(t, 0, sizeof *t);
 }
 
 /* ---- inverse matching ----------------------------------------------------------------- */
@@ -2163,4 +2212,455 @@ ew_status ew_wf_benchmark(const ew_wf_model *m, const char *key, double from, do
   out->per_s_1 = (double)out->points / out->seconds_1;
   out->per_s_n = (double)out->points / out->seconds_n;
   return EW_OK;
+}
+
+/* ---- output sets ---------------------------------------------------------------------- */
+void ew_wf_outset_init(ew_wf_outset *s) { memset(s, 0, sizeof *s); }
+
+ew_status ew_wf_outset_add(ew_wf_outset *s, const char *path, const char *opt,
+                           const char **tmp, ew_error *err) {
+  *tmp = NULL;
+  if (s->n >= EW_WF_SET_MAX)
+    return ew_fail(err, EW_ERR_IO, path, 0, "%s: too many output files at once", opt);
+  const char *sl = strrchr(path, '/');
+  const char *base = sl ? sl + 1 : path;
+  int dl = sl ? (int)(sl - path) + 1 : 0; /* the directory with its slash */
+  char *t = s->tmp_path[s->n];
+  int w = snprintf(t, EW_WF_PATH_MAX, "%.*s.epiwell-%ld-%zu-%s", dl, path, (long)getpid(), s->n,
+                   base);
+  if (!base[0] || strlen(path) >= EW_WF_PATH_MAX || w < 0 || w >= EW_WF_PATH_MAX)
+    return ew_fail(err, EW_ERR_IO, path, 0, "%s %s: not a usable file name (empty or longer "
+                   "than %d bytes)", opt, path, EW_WF_PATH_MAX - 64);
+  snprintf(s->final_path[s->n], EW_WF_PATH_MAX, "%s", path);
+  *tmp = t;
+  s->n++;
+  return EW_OK;
+}
+
+ew_status ew_wf_outset_commit(ew_wf_outset *s, int ok, ew_error *err) {
+  ew_status rc = EW_OK;
+  for (size_t k = 0; k < s->n; k++) {
+    if (ok && rc == EW_OK) {
+      if (rename(s->tmp_path[k], s->final_path[k]) != 0) {
+        rc = ew_fail(err, EW_ERR_IO, s->final_path[k], 0, "cannot rename into place: %s",
+                     strerror(errno));
+        remove(s->tmp_path[k]);
+      }
+    } else {
+      remove(s->tmp_path[k]); /* a file never written is no error */
+    }
+  }
+  s->n = 0;
+  return rc;
+}
+
+ew_status ew_wf_check_file_path(const char *path, const char *opt, ew_error *err) {
+  if (!path || !path[0])
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s wants a file name, got an empty one", opt);
+  size_t n = strlen(path);
+  if (path[n - 1] == '/')
+    return ew_fail(err, EW_ERR_IO, NULL, 0, "%s %s: names a directory, not a file", opt, path);
+  char dir[EW_WF_PATH_MAX];
+  const char *sl = strrchr(path, '/');
+  if (n >= sizeof dir - 64)
+    return ew_fail(err, EW_ERR_IO, NULL, 0, "%s: file name too long", opt);
+  if (!sl) snprintf(dir, sizeof dir, ".");
+  else if (sl == path) snprintf(dir, sizeof dir, "/");
+  else snprintf(dir, sizeof dir, "%.*s", (int)(sl - path), path);
+  struct stat sb;
+  if (stat(dir, &sb) != 0 || !S_ISDIR(sb.st_mode))
+    return ew_fail(err, EW_ERR_IO, NULL, 0, "%s %s: directory %s does not exist", opt, path, dir);
+  if (access(dir, W_OK | X_OK) != 0)
+    return ew_fail(err, EW_ERR_IO, NULL, 0, "%s %s: directory %s is not writable: %s", opt, path,
+                   dir, strerror(errno));
+  if (stat(path, &sb) == 0 && !S_ISREG(sb.st_mode))
+    return ew_fail(err, EW_ERR_IO, NULL, 0, "%s %s: exists and is not a regular file", opt, path);
+  return EW_OK;
+}
+
+ew_status ew_wf_plot_companion(const char *path, const char *suffix, const char *opt, char *out,
+                               size_t size, ew_error *err) {
+  if (!ew_plot_format(path))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s wants a file name ending in .svg or .png, "
+                   "got %s", opt, path ? path : "(none)");
+  size_t n = strlen(path);
+  int w = suffix && suffix[0]
+              ? snprintf(out, size, "%.*s-%s%s", (int)(n - 4), path, suffix, path + n - 4)
+              : snprintf(out, size, "%s", path);
+  if (w < 0 || (size_t)w >= size)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: file name too long", opt, path);
+  return EW_OK;
+}
+
+/* Write one chart into the set: its temporary name, then ew_plot_xy. */
+static ew_status set_plot(ew_wf_outset *set, const char *final_path, const char *title,
+                          const char *xlabel, const char *ylabel, size_t np, const double *x,
+                          size_t ns, const double *const *y, const char *const *names,
+                          ew_error *err) {
+  const char *tmp;
+  ew_status rc = ew_wf_outset_add(set, final_path, "--plot", &tmp, err);
+  if (rc != EW_OK) return rc;
+  rc = ew_plot_xy(tmp, title, xlabel, ylabel, np, x, ns, y, names, err);
+  if (rc != EW_OK && err) snprintf(err->file, sizeof err->file, "%.500s", final_path);
+  return rc;
+}
+
+/* ---- sweep pictures ------------------------------------------------------------------- */
+const char *const EW_WF_PLOT_SUFFIX[EW_WF_PLOT_FILES] = {"", "interband", "intersubband"};
+
+static int ends_with(const char *s, const char *tail) {
+  size_t a = strlen(s), b = strlen(tail);
+  return a >= b && !strcmp(s + a - b, tail);
+}
+
+/* Kind of a sweep column: 0 level (…_eV without '-'), 1 interband λ (…_nm), 2 intersubband
+ * λ (…_um), -1 anything else. */
+static int column_kind(const char *name) {
+  if (ends_with(name, "_eV") && !strchr(name, '-')) return 0;
+  if (ends_with(name, "_nm") && strchr(name, '-')) return 1;
+  if (ends_with(name, "_um") && strchr(name, '-')) return 2;
+  return -1;
+}
+
+/* Axis label of a varied key: the key, with its unit when the key is a known one. */
+static void key_label(const char *key, char *buf, size_t size) {
+  const char *unit = NULL;
+  if (ends_with(key, "thickness") || !strcmp(key, "grid_step")) unit = "nm";
+  else if (!strcmp(key, "temperature")) unit = "K";
+  else if (ends_with(key, ".x") || ends_with(key, ".y")) unit = "composition";
+  else if (ends_with(key, ".Ec") || ends_with(key, ".Ev")) unit = "eV";
+  else if (!strcmp(key, "field")) unit = "kV/cm";
+  if (unit) snprintf(buf, size, "%s (%s)", key, unit);
+  else snprintf(buf, size, "%s", key);
+}
+
+static int cmp_double(const void *pa, const void *pb) {
+  double a = *(const double *)pa, b = *(const double *)pb;
+  return (a > b) - (a < b);
+}
+
+static const char *base_of(const char *path) {
+  const char *sl = strrchr(path, '/');
+  return sl ? sl + 1 : path;
+}
+
+ew_status ew_wf_sweep_plot(const ew_wf_table *t, const char *path, ew_wf_outset *set,
+                           int written[EW_WF_PLOT_FILES], ew_error *err) {
+  for (int f = 0; f < EW_WF_PLOT_FILES; f++) written[f] = 0;
+  if (!t || t->nkeys < 1 || t->nkeys > 2 || t->nrows == 0)
+    return ew_fail(err, EW_ERR_USAGE, path, 0, "--plot: the sweep has no points to draw");
+  char paths[EW_WF_PLOT_FILES][EW_WF_PATH_MAX];
+  for (int f = 0; f < EW_WF_PLOT_FILES; f++) {
+    ew_status rc = ew_wf_plot_companion(path, EW_WF_PLOT_SUFFIX[f], "--plot", paths[f],
+                                        sizeof paths[f], err);
+    if (rc != EW_OK) return rc;
+  }
+  static const char *const ylab[EW_WF_PLOT_FILES] = {"energy (eV)", "wavelength (nm)",
+                                                     "wavelength (\xc2\xb5m)"};
+  static const char *const what1[EW_WF_PLOT_FILES] = {"levels", "interband lines",
+                                                      "intersubband lines"};
+  static const char *const col2[EW_WF_PLOT_FILES] = {"e1_eV", "e1-hh1_nm", "e1-e2_um"};
+  size_t R = t->nrows, C = t->ncol;
+  char xlabel[EW_WF_KEY_MAX + 32], title[800];
+  key_label(t->names[0], xlabel, sizeof xlabel);
+  ew_status rc = EW_OK;
+  double *x = NULL, *ybuf = NULL, *second = NULL;
+  const double **ys = NULL;
+  char (*labels)[96] = NULL;
+  const char **names = NULL;
+  size_t *ix = NULL, *iy = NULL;
+  size_t nx = 0, n2 = 0, maxs = C > EW_WF_PLOT_MAX_CURVES ? C : EW_WF_PLOT_MAX_CURVES;
+  x = malloc(R * sizeof *x);
+  ys = malloc(maxs * sizeof *ys);
+  labels = malloc(maxs * sizeof *labels);
+  names = malloc(maxs * sizeof *names);
+  ix = malloc(R * sizeof *ix);
+  iy = malloc(R * sizeof *iy);
+  second = malloc(R * sizeof *second);
+  ybuf = malloc(maxs * R * sizeof *ybuf);
+  if (!x || !ys || !labels || !names || !ix || !iy || !second || !ybuf) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep picture)");
+    goto done;
+  }
+  if (t->nkeys == 1) {
+    for (size_t i = 0; i < R; i++) x[i] = t->v[i * C];
+    nx = R;
+  } else {
+    /* rows run over the second key inside the first: x = the first key's values in order
+     * of appearance, curves = the distinct second-key values (sorted) */
+    for (size_t i = 0; i < R; i++) {
+      double v0 = t->v[i * C];
+      if (nx == 0 || x[nx - 1] != v0) x[nx++] = v0;
+      ix[i] = nx - 1;
+      second[i] = t->v[i * C + 1];
+    }
+    double *u = ybuf; /* scratch: sorted distinct second values */
+    memcpy(u, second, R * sizeof *u);
+    qsort(u, R, sizeof *u, cmp_double);
+    for (size_t i = 0; i < R; i++)
+      if (n2 == 0 || u[n2 - 1] != u[i]) u[n2++] = u[i];
+    for (size_t i = 0; i < R; i++) {
+      const double *hit = bsearch(&second[i], u, n2, sizeof *u, cmp_double);
+      iy[i] = (size_t)(hit - u);
+    }
+    memcpy(second, u, n2 * sizeof *u); /* second[0..n2) = the distinct values */
+  }
+  for (int f = 0; f < EW_WF_PLOT_FILES; f++) {
+    size_t ns = 0;
+    if (t->nkeys == 1) {
+      for (size_t c = 1; c < C; c++) {
+        if (column_kind(t->names[c]) != f) continue;
+        double *y = ybuf + ns * R;
+        for (size_t i = 0; i < R; i++) y[i] = t->v[i * C + c];
+        snprintf(labels[ns], sizeof labels[ns], "%.*s", (int)(strlen(t->names[c]) - 3),
+                 t->names[c]);
+        ys[ns] = y;
+        names[ns] = labels[ns];
+        ns++;
+      }
+      snprintf(title, sizeof title, "%s: %s against %s", base_of(t->stack), what1[f],
+               t->names[0]);
+    } else {
+      size_t c = 2;
+      while (c < C && strcmp(t->names[c], col2[f]) != 0) c++;
+      if (c < C) {
+        size_t S = n2 < EW_WF_PLOT_MAX_CURVES ? n2 : EW_WF_PLOT_MAX_CURVES;
+        size_t pick[EW_WF_PLOT_MAX_CURVES];
+        for (size_t q = 0; q < S; q++)
+          pick[q] = S > 1 ? (q * (n2 - 1) + (S - 1) / 2) / (S - 1) : 0;
+        for (size_t q = 0; q < S; q++) {
+          double *y = ybuf + q * nx;
+          for (size_t i = 0; i < nx; i++) y[i] = NAN;
+          ys[q] = y;
+          snprintf(labels[q], sizeof labels[q], "%s=%.6g", t->names[1], second[pick[q]]);
+          names[q] = labels[q];
+        }
+        for (size_t i = 0; i < R; i++)
+          for (size_t q = 0; q < S; q++)
+            if (iy[i] == pick[q]) ybuf[q * nx + ix[i]] = t->v[i * C + c];
+        ns = S;
+      }
+      snprintf(title, sizeof title, "%s: %.*s against %s, one curve per %s", base_of(t->stack),
+               (int)(strlen(col2[f]) - 3), col2[f], t->names[0], t->names[1]);
+    }
+    if (ns == 0) continue; /* no such column in this sweep: no chart */
+    rc = set_plot(set, paths[f], title, xlabel, ylab[f], nx, x, ns, ys, names, err);
+    if (rc != EW_OK) goto done;
+    written[f] = 1;
+  }
+done:
+  free(x);
+  free(ys);
+  free(labels);
+  free(names);
+  free(ix);
+  free(iy);
+  free(second);
+  free(ybuf);
+  return rc;
+}
+
+/* ---- absorption spectra --------------------------------------------------------------- */
+void ew_wf_spectra_free(ew_wf_spectra *s) {
+  if (!s) return;
+  free(s->E_eV);
+  free(s->interband_rel);
+  free(s->intersubband);
+  free(s->grid);
+  memset(s, 0, sizeof *s);
+}
+
+ew_status ew_wf_spectra_compute(const ew_result *r, double theta_deg, double n_refr,
+                                ew_wf_spectra *s, ew_error *err) {
+  memset(s, 0, sizeof *s);
+  if (!(theta_deg >= 0 && theta_deg < 90))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--angle wants an internal angle in degrees in "
+                   "[0, 90), got %g", theta_deg);
+  if (!(n_refr > 0) || !isfinite(n_refr))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--index wants a refractive index > 0, got %g",
+                   n_refr);
+  const ew_stack *st = r->stack;
+  s->theta_deg = theta_deg;
+  s->n_refr = n_refr;
+  s->sheet_density_cm2 = st->sheet_density_cm2;
+  s->linewidth_meV = st->linewidth_meV;
+  for (int g = 0; g < 2; g++) s->lo_eV[g] = s->hi_eV[g] = NAN;
+  /* interband grid: 20 meV below the lowest exciton (PL) peak to 100 meV above the
+   * highest listed line */
+  double lo = INFINITY, hi = -INFINITY;
+  for (size_t j = 0; j < r->n_lines; j++) {
+    const ew_line *ln = &r->lines[j];
+    if (ln->kind != EW_LINE_INTERBAND) continue;
+    lo = fmin(lo, ln->pl_peak_eV > 0 ? ln->pl_peak_eV : ln->energy_eV);
+    hi = fmax(hi, ln->energy_eV);
+  }
+  if (isfinite(lo)) {
+    s->lo_eV[0] = lo - 0.020;
+    s->hi_eV[0] = hi + 0.100;
+  } else {
+    snprintf(s->note[0], sizeof s->note[0], "interband column empty: %s has no interband line "
+             "(no bound electron and hole levels)", st->path);
+  }
+  /* intersubband grid: 0 to 1.5 × the highest e1 → ej line */
+  size_t e1 = r->n_states;
+  for (size_t i = 0; i < r->n_states && e1 == r->n_states; i++)
+    if (r->states[i].band == EW_BAND_E && r->states[i].n == 1) e1 = i;
+  double emax = -INFINITY;
+  for (size_t j = 0; j < r->n_lines; j++)
+    if (r->lines[j].kind == EW_LINE_INTERSUBBAND && r->lines[j].lower == e1)
+      emax = fmax(emax, r->lines[j].energy_eV);
+  if (!(st->sheet_density_cm2 > 0))
+    snprintf(s->note[1], sizeof s->note[1], "intersubband column empty: %s sets no "
+             "sheet_density (electrons per well in cm^-2, e.g. sheet_density = 5e11;)", st->path);
+  else if (!isfinite(emax))
+    snprintf(s->note[1], sizeof s->note[1], "intersubband column empty: %s has no e1->ej line "
+             "(fewer than two bound electron levels)", st->path);
+  else {
+    s->lo_eV[1] = 0.0;
+    s->hi_eV[1] = 1.5 * emax;
+  }
+  /* the union of the grids present, ascending, a shared energy once */
+  const size_t N = EW_WF_SPECTRUM_POINTS;
+  int have[2] = {!s->note[0][0], !s->note[1][0]};
+  size_t cap = (size_t)(have[0] + have[1]) * N;
+  s->E_eV = malloc((cap ? cap : 1) * sizeof *s->E_eV);
+  s->grid = malloc(cap ? cap : 1);
+  if (have[0]) s->interband_rel = malloc((cap ? cap : 1) * sizeof(double));
+  if (have[1]) s->intersubband = malloc((cap ? cap : 1) * sizeof(double));
+  if (!s->E_eV || !s->grid || (have[0] && !s->interband_rel) || (have[1] && !s->intersubband)) {
+    ew_wf_spectra_free(s);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (spectra)");
+  }
+  size_t i[2] = {have[0] ? 0 : N, have[1] ? 0 : N}, n = 0;
+#define GRID_E(g, k) (s->lo_eV[g] + (s->hi_eV[g] - s->lo_eV[g]) * (double)(k) / (double)(N - 1))
+  while (i[0] < N || i[1] < N) {
+    double a = i[0] < N ? GRID_E(0, i[0]) : INFINITY, b = i[1] < N ? GRID_E(1, i[1]) : INFINITY;
+    double e = fmin(a, b);
+    unsigned char bits = (unsigned char)((a == e ? 1 : 0) | (b == e ? 2 : 0));
+    if (a == e) i[0]++;
+    if (b == e) i[1]++;
+    s->E_eV[n] = e;
+    s->grid[n++] = bits;
+  }
+#undef GRID_E
+  s->n = n;
+  ew_status rc = EW_OK;
+  if (have[0]) rc = ew_interband_absorption(r, st->linewidth_meV, n, s->E_eV, s->interband_rel, err);
+  if (rc == EW_OK && have[1])
+    rc = ew_intersubband_absorption(r, st->sheet_density_cm2, st->linewidth_meV, theta_deg,
+                                    n_refr, n, s->E_eV, s->intersubband, err);
+  if (rc != EW_OK) ew_wf_spectra_free(s);
+  return rc;
+}
+
+void ew_wf_spectra_write_csv(const ew_wf_spectra *s, FILE *out) {
+  fputs("E_eV,interband_rel,intersubband_fraction\n", out);
+  for (size_t k = 0; k < s->n; k++) {
+    fprintf(out, "%.10g,", s->E_eV[k]);
+    if (s->interband_rel) fprintf(out, "%.10g", s->interband_rel[k]);
+    fputc(',', out);
+    if (s->intersubband) fprintf(out, "%.10g", s->intersubband[k]);
+    fputc('\n', out);
+  }
+}
+
+size_t ew_wf_spectra_peaks(const ew_wf_spectra *s, int which, ew_wf_peak *out, size_t cap) {
+  const double *v = which ? s->intersubband : s->interband_rel;
+  unsigned char bit = which ? 2 : 1;
+  if (!v) return 0;
+  double vmax = -INFINITY;
+  for (size_t k = 0; k < s->n; k++)
+    if (s->grid[k] & bit) vmax = fmax(vmax, v[k]);
+  if (!(vmax > 0)) return 0;
+  /* walk the spectrum's own grid: prev, cur, next are consecutive points of it */
+  size_t cnt = 0, prev = SIZE_MAX, cur = SIZE_MAX;
+  for (size_t k = 0; k <= s->n; k++) {
+    if (k < s->n && !(s->grid[k] & bit)) continue;
+    if (prev != SIZE_MAX && cur != SIZE_MAX && k < s->n && v[cur] > v[prev] &&
+        v[cur] >= v[k] && v[cur] >= EW_WF_PEAK_FRACTION * vmax) {
+      if (cnt < cap) out[cnt] = (ew_wf_peak){s->E_eV[cur], v[cur]};
+      cnt++;
+    }
+    prev = cur;
+    cur = k;
+  }
+  return cnt;
+}
+
+void ew_wf_spectra_print_peaks(const ew_wf_spectra *s, FILE *out) {
+  fprintf(out, "\nAbsorption spectra (Lorentzian FWHM %g meV", s->linewidth_meV);
+  if (s->intersubband)
+    fprintf(out, "; intersubband: N_s = %g cm^-2 in e1, TM at %g deg inside n = %g",
+            s->sheet_density_cm2, s->theta_deg, s->n_refr);
+  fprintf(out, ")\n  peaks: local maxima above %g %% of each spectrum's maximum\n",
+          100.0 * EW_WF_PEAK_FRACTION);
+  fprintf(out, "  %-13s %10s %13s %12s\n", "spectrum", "energy_eV", "wavelength", "value");
+  static const char *const nm[2] = {"interband", "intersubband"};
+  for (int w = 0; w < 2; w++) {
+    if (s->note[w][0]) {
+      fprintf(out, "  %-13s none: %s\n", nm[w], s->note[w]);
+      continue;
+    }
+    ew_wf_peak pk[64];
+    size_t n = ew_wf_spectra_peaks(s, w, pk, 64);
+    if (n == 0) fprintf(out, "  %-13s none above the threshold\n", nm[w]);
+    for (size_t k = 0; k < n && k < 64; k++) {
+      double lam = EW_HC_EVNM / pk[k].E_eV;
+      char wl[32];
+      if (!(pk[k].E_eV > 0)) snprintf(wl, sizeof wl, "-");
+      else if (lam >= 2000) snprintf(wl, sizeof wl, "%.4f um", lam / 1e3);
+      else snprintf(wl, sizeof wl, "%.2f nm", lam);
+      fprintf(out, "  %-13s %10.6f %13s %12.5g\n", nm[w], pk[k].E_eV, wl, pk[k].value);
+    }
+    if (n > 64) fprintf(out, "  %-13s (%zu more)\n", nm[w], n - 64);
+  }
+}
+
+ew_status ew_wf_spectra_plot(const ew_wf_spectra *s, const char *path, ew_wf_outset *set,
+                             int written[2], ew_error *err) {
+  written[0] = written[1] = 0;
+  char paths[2][EW_WF_PATH_MAX];
+  ew_status rc = ew_wf_plot_companion(path, "", "--spectra-plot", paths[0], sizeof paths[0], err);
+  if (rc == EW_OK)
+    rc = ew_wf_plot_companion(path, "intersubband", "--spectra-plot", paths[1], sizeof paths[1],
+                              err);
+  if (rc != EW_OK) return rc;
+  double *x = malloc((s->n ? s->n : 1) * sizeof *x), *y = malloc((s->n ? s->n : 1) * sizeof *y);
+  if (!x || !y) {
+    free(x);
+    free(y);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (spectra picture)");
+  }
+  for (int w = 0; w < 2 && rc == EW_OK; w++) {
+    const double *v = w ? s->intersubband : s->interband_rel;
+    if (!v) continue;
+    size_t m = 0;
+    for (size_t k = 0; k < s->n; k++)
+      if (s->grid[k] & (w ? 2 : 1)) {
+        x[m] = w ? 1e3 * s->E_eV[k] : s->E_eV[k];
+        y[m++] = v[k];
+      }
+    char title[400];
+    const char *nm = w ? "absorbed fraction per pass" : "interband_rel";
+    if (w)
+      snprintf(title, sizeof title, "Intersubband absorption (%g meV FWHM, %g deg, n = %g)",
+               s->linewidth_meV, s->theta_deg, s->n_refr);
+    else
+      snprintf(title, sizeof title, "Interband absorption, relative (%g meV FWHM)",
+               s->linewidth_meV);
+    const double *ys[1] = {y};
+    const char *names[1] = {nm};
+    const char *tmp;
+    rc = ew_wf_outset_add(set, paths[w], "--spectra-plot", &tmp, err);
+    if (rc == EW_OK) {
+      rc = ew_plot_xy(tmp, title, w ? "photon energy (meV)" : "photon energy (eV)",
+                      w ? "fraction absorbed per pass" : "relative absorption", m, x, 1, ys,
+                      names, err);
+      if (rc != EW_OK && err) snprintf(err->file, sizeof err->file, "%.500s", paths[w]);
+    }
+    if (rc == EW_OK) written[w] = 1;
+  }
+  free(x);
+  free(y);
+  return rc;
 }

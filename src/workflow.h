@@ -102,7 +102,20 @@ typedef struct {
   /* called (serialised) after each point; may be NULL */
   void (*progress)(void *ctx, size_t done, size_t total);
   void *progress_ctx;
+  /* when not NULL: receives the columns and every row of this part, in point order (for
+   * pictures); release with ew_wf_table_free.  Left empty when the sweep fails. */
+  struct ew_wf_table *table;
 } ew_wf_sweep_opt;
+
+/* A sweep held in memory: the CSV's columns and rows (NaN where the CSV cell is empty). */
+typedef struct ew_wf_table {
+  char stack[512];     /* the stack file's name as given */
+  size_t nkeys;        /* the first nkeys columns are the varied keys */
+  size_t ncol, nrows;
+  char (*names)[64];   /* [ncol] column names as in the CSV header */
+  double *v;           /* [nrows × ncol], row-major */
+} ew_wf_table;
+void ew_wf_table_free(ew_wf_table *t); /* frees the contents, keeps t; NULL is a no-op */
 
 void ew_wf_sweep_opt_default(ew_wf_sweep_opt *o);
 
@@ -122,6 +135,102 @@ void ew_wf_sweep_opt_default(ew_wf_sweep_opt *o);
  * them and writes nothing). */
 ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nranges,
                       const ew_wf_sweep_opt *o, FILE *csv, FILE *json, ew_error *err);
+
+/* ---- output sets and pictures --------------------------------------------------------- */
+#define EW_WF_PATH_MAX 1024
+#define EW_WF_SET_MAX 4
+
+/* Files written under temporary names in their target's directory (".epiwell-PID-K-NAME",
+ * so the extension is kept) and renamed into place together by ew_wf_outset_commit: on an
+ * error none of them appears and the previous files stay intact. */
+typedef struct {
+  size_t n;
+  char final_path[EW_WF_SET_MAX][EW_WF_PATH_MAX];
+  char tmp_path[EW_WF_SET_MAX][EW_WF_PATH_MAX];
+} ew_wf_outset;
+
+void ew_wf_outset_init(ew_wf_outset *s);
+/* Register path; *tmp receives the temporary name to write.  EW_ERR_IO (naming opt_name)
+ * when the name is too long or the set is full. */
+ew_status ew_wf_outset_add(ew_wf_outset *s, const char *path, const char *opt_name,
+                           const char **tmp, ew_error *err);
+/* ok: rename every temporary file into place (EW_ERR_IO naming the file that failed; the
+ * temporaries not yet renamed are removed); !ok: remove the temporaries.  Idempotent. */
+ew_status ew_wf_outset_commit(ew_wf_outset *s, int ok, ew_error *err);
+
+/* EW_OK when a data file (CSV) can be written at path: its directory exists and is
+ * writable and path is not a directory.  EW_ERR_IO naming opt_name.  Run before any work. */
+ew_status ew_wf_check_file_path(const char *path, const char *opt_name, ew_error *err);
+
+/* The companion picture names of FILE.ext: FILE-SUFFIX.ext (suffix e.g. "interband").
+ * EW_ERR_USAGE (naming opt_name) when path does not end in .svg or .png or is too long. */
+ew_status ew_wf_plot_companion(const char *path, const char *suffix, const char *opt_name,
+                               char *out, size_t size, ew_error *err);
+
+/* Pictures of a sweep (the suffixes of EW_WF_PLOT_SUFFIX):
+ *   one key:  FILE                  every level (e1, e2, …, hh1, …, lh1, …; eV) against it;
+ *             FILE-interband.ext    the interband main lines' wavelengths (nm);
+ *             FILE-intersubband.ext the intersubband main lines' wavelengths (µm);
+ *   two keys: the same three files with the first key on the x axis and one curve per value
+ *             of the second key (at most EW_WF_PLOT_MAX_CURVES values, evenly spaced, both
+ *             ends included), labelled KEY=VALUE: FILE e1 (eV), FILE-interband e1-hh1 (nm),
+ *             FILE-intersubband e1-e2 (µm).
+ * A level not bound at a point is a gap.  A chart without any column (no intersubband line
+ * in the sweep) is not written: written[k] is 0 for it.  Every file goes into set (written
+ * under a temporary name; the caller commits the set). */
+#define EW_WF_PLOT_MAX_CURVES 12
+#define EW_WF_PLOT_FILES 3
+extern const char *const EW_WF_PLOT_SUFFIX[EW_WF_PLOT_FILES]; /* "", "interband", "intersubband" */
+ew_status ew_wf_sweep_plot(const ew_wf_table *t, const char *path, ew_wf_outset *set,
+                           int written[EW_WF_PLOT_FILES], ew_error *err);
+
+/* ---- absorption spectra of one solved stack (epiwell solve --spectra) -------------------- */
+#define EW_WF_SPECTRUM_POINTS 2001
+#define EW_WF_DEFAULT_ANGLE_DEG 45.0 /* internal angle of a 45° polished facet */
+/* GaAs near 10 µm, from memory (the GaAs refractive index falls from ~3.6 at 0.9 µm to ~3.3
+ * in the mid-infrared): the intersubband default. */
+#define EW_WF_DEFAULT_INDEX 3.3
+#define EW_WF_PEAK_FRACTION 0.05 /* a peak is a local maximum above 5 % of the maximum */
+
+/* Two uniform grids of EW_WF_SPECTRUM_POINTS energies, both written in one CSV on their
+ * union (sorted; an energy both grids share appears once):
+ *   interband:    from 20 meV below the lowest interband pl_peak_eV to 100 meV above the
+ *                 highest listed interband line (ew_interband_absorption, relative units);
+ *   intersubband: from 0 to 1.5 × the highest e1→ej line (ew_intersubband_absorption: the
+ *                 fraction absorbed per pass for the stack's sheet_density and linewidth).
+ * Both spectra are evaluated at every row.  A spectrum that cannot be computed (no
+ * interband line; no sheet_density in the stack, or no e1→ej line) has no grid and an empty
+ * column, and note[] says why. */
+typedef struct {
+  size_t n;                 /* rows (union of the grids present) */
+  double *E_eV;             /* [n] ascending */
+  double *interband_rel;    /* [n] or NULL when absent */
+  double *intersubband;     /* [n] or NULL when absent */
+  unsigned char *grid;      /* [n] bit 1: a point of the interband grid, bit 2: intersubband */
+  double lo_eV[2], hi_eV[2];/* the grids: [0] interband, [1] intersubband (NaN when absent) */
+  double theta_deg, n_refr, sheet_density_cm2, linewidth_meV;
+  char note[2][720];        /* why a spectrum is absent; "" when present */
+} ew_wf_spectra;
+
+/* theta_deg in [0, 90), n_refr > 0 (EW_ERR_USAGE naming --angle / --index). */
+ew_status ew_wf_spectra_compute(const ew_result *r, double theta_deg, double n_refr,
+                                ew_wf_spectra *out, ew_error *err);
+void ew_wf_spectra_free(ew_wf_spectra *s); /* frees the contents; NULL is a no-op */
+/* CSV "E_eV,interband_rel,intersubband_fraction", one row per energy, absent values empty. */
+void ew_wf_spectra_write_csv(const ew_wf_spectra *s, FILE *out);
+
+typedef struct {
+  double E_eV, value;
+} ew_wf_peak;
+/* Local maxima of spectrum which (0 interband, 1 intersubband) on its own grid above
+ * EW_WF_PEAK_FRACTION of its maximum, ascending in energy; returns how many (≤ cap written). */
+size_t ew_wf_spectra_peaks(const ew_wf_spectra *s, int which, ew_wf_peak *out, size_t cap);
+/* Terminal summary of the peaks (energy, wavelength, value) of both spectra. */
+void ew_wf_spectra_print_peaks(const ew_wf_spectra *s, FILE *out);
+/* Pictures: FILE the interband spectrum against E (eV); FILE-intersubband.ext the
+ * intersubband one against E (meV), when present (written[1]).  Into set, as above. */
+ew_status ew_wf_spectra_plot(const ew_wf_spectra *s, const char *path, ew_wf_outset *set,
+                             int written[2], ew_error *err);
 
 /* ---- inverse matching ------------------------------------------------------------------ */
 typedef struct {

@@ -9,7 +9,9 @@
 #include "testutil.h"
 
 #include "constants.h"
+#include "observables.h"
 #include "solve.h"
+#include "spectra.h"
 #include "workflow.h"
 
 static const char *const DETECTOR = "examples/detector_well.cfg";
@@ -510,6 +512,221 @@ static void monolayer_ladder(void **state) {
   assert_non_null(strstr(err.message, "--ladder"));
 }
 
+/* ---- sweep table and pictures -------------------------------------------------------- */
+static char *slurp(const char *path) {
+  FILE *f = fopen(path, "rb");
+  if (!f) return NULL;
+  fseek(f, 0, SEEK_END);
+  long n = ftell(f);
+  fseek(f, 0, SEEK_SET);
+  char *b = malloc((size_t)n + 1);
+  size_t got = fread(b, 1, (size_t)n, f);
+  b[got] = '\0';
+  fclose(f);
+  return b;
+}
+
+/* an SVG written whole: the root element first, its end tag last */
+static void assert_svg(const char *path, const char *must_contain) {
+  char *b = slurp(path);
+  if (!b) {
+    print_error("%s was not written\n", path);
+    fail();
+  }
+  assert_true(strncmp(b, "<svg", 4) == 0);
+  size_t n = strlen(b);
+  assert_true(n > 8 && strcmp(b + n - 7, "</svg>\n") == 0);
+  if (must_contain && !strstr(b, must_contain)) {
+    print_error("%s does not contain %s\n", path, must_contain);
+    fail();
+  }
+  free(b);
+}
+
+static void sweep_table_matches_csv_and_plots(void **state) {
+  fixture *fx = *state;
+  ew_error err = {0};
+  ew_wf_range r = range("well.thickness=4:8:1");
+  ew_wf_table tab;
+  ew_wf_sweep_opt o;
+  ew_wf_sweep_opt_default(&o);
+  o.table = &tab;
+  char *csv = sweep_csv(fx->det, &r, 1, &o, &err);
+  assert_non_null(csv);
+  table t;
+  assert_true(parse_csv(csv, &t));
+  /* reference: the CSV of the same sweep, printed with %.10g */
+  assert_int_equal(tab.nrows, t.rows);
+  assert_int_equal(tab.ncol, t.cols);
+  assert_int_equal(tab.nkeys, 1);
+  for (size_t c = 0; c < t.cols; c++) assert_string_equal(tab.names[c], t.names[c]);
+  for (size_t i = 0; i < t.rows * t.cols; i++) {
+    double a = tab.v[i], b = t.v[i];
+    if (isnan(b)) assert_true(isnan(a));
+    else TU_NEAR(a, b, 1e-9 * fabs(b), "CSV prints 10 significant digits");
+  }
+  char dir[] = "/tmp/ew_test_plot_XXXXXX", path[256], p2[256];
+  assert_non_null(mkdtemp(dir));
+  snprintf(path, sizeof path, "%s/levels.svg", dir);
+  ew_wf_outset set;
+  ew_wf_outset_init(&set);
+  int written[EW_WF_PLOT_FILES];
+  assert_int_equal(ew_wf_sweep_plot(&tab, path, &set, written, &err), EW_OK);
+  assert_true(written[0] && written[1] && written[2]);
+  /* not committed yet: nothing under the final names */
+  assert_int_equal(access(path, F_OK), -1);
+  assert_int_equal(ew_wf_outset_commit(&set, 1, &err), EW_OK);
+  assert_svg(path, ">hh1<");
+  snprintf(p2, sizeof p2, "%s/levels-interband.svg", dir);
+  assert_svg(p2, ">e1-hh1<");
+  snprintf(p2, sizeof p2, "%s/levels-intersubband.svg", dir);
+  assert_svg(p2, ">e1-e2<");
+  /* a set dropped (ok = 0) removes its temporaries and leaves the committed files intact */
+  char *before = slurp(path);
+  assert_int_equal(ew_wf_sweep_plot(&tab, path, &set, written, &err), EW_OK);
+  assert_int_equal(ew_wf_outset_commit(&set, 0, &err), EW_OK);
+  char *after = slurp(path);
+  assert_string_equal(before, after);
+  char cmd[400];
+  snprintf(cmd, sizeof cmd, "test $(ls -A %s | wc -l) -eq 3", dir);
+  assert_int_equal(system(cmd), 0);
+  snprintf(cmd, sizeof cmd, "rm -rf %s", dir);
+  assert_int_equal(system(cmd), 0);
+  free(before);
+  free(after);
+  free(t.v);
+  free(csv);
+  ew_wf_table_free(&tab);
+  /* companion names keep the extension */
+  assert_int_equal(ew_wf_plot_companion("a/b.PNG", "interband", "--plot", p2, sizeof p2, &err),
+                   EW_OK);
+  assert_string_equal(p2, "a/b-interband.PNG");
+  assert_int_equal(ew_wf_plot_companion("a/b.pdf", "x", "--plot", p2, sizeof p2, &err),
+                   EW_ERR_USAGE);
+  assert_non_null(strstr(err.message, "--plot"));
+}
+
+/* ---- spectra ---------------------------------------------------------------------------- */
+static ew_result *solve_file(const char *path, ew_catalogue *cat, ew_stack **st) {
+  ew_error err = {0};
+  ew_result *res = NULL;
+  assert_int_equal(ew_stack_read_file(path, cat, st, &err), EW_OK);
+  assert_int_equal(ew_solve(*st, NULL, &res, &err), EW_OK);
+  return res;
+}
+
+static void spectra_grids_and_intersubband_peak(void **state) {
+  fixture *fx = *state;
+  ew_error err = {0};
+  char path[64];
+  write_tmp(path, sizeof path,
+            "temperature = 77.0; sheet_density = 5e11; linewidth = 8.0;\n"
+            "layers = (\n"
+            "  { name = \"lower_barrier\"; material = \"AlGaAs\"; x = 0.28; thickness = 30.0; },\n"
+            "  { name = \"well\"; material = \"GaAs\"; thickness = 6.2; },\n"
+            "  { name = \"upper_barrier\"; material = \"AlGaAs\"; x = 0.28; thickness = 30.0; }\n"
+            ");\n");
+  ew_stack *st = NULL;
+  ew_result *res = solve_file(path, fx->cat, &st);
+  unlink(path);
+  ew_wf_spectra sp;
+  assert_int_equal(ew_wf_spectra_compute(res, 45.0, 3.3, &sp, &err), EW_OK);
+  assert_non_null(sp.interband_rel);
+  assert_non_null(sp.intersubband);
+  assert_int_equal(sp.n, 2 * EW_WF_SPECTRUM_POINTS); /* the grids do not meet */
+  for (size_t k = 1; k < sp.n; k++) assert_true(sp.E_eV[k] > sp.E_eV[k - 1]);
+  /* grid ends as specified: lowest PL peak − 20 meV … highest interband line + 100 meV;
+   * 0 … 1.5 × the highest e1→ej line */
+  double plmin = INFINITY, ibmax = -INFINITY, e12 = NAN, f12 = NAN;
+  size_t ne1j = 0;
+  for (size_t j = 0; j < res->n_lines; j++) {
+    const ew_line *ln = &res->lines[j];
+    if (ln->kind == EW_LINE_INTERBAND) {
+      plmin = fmin(plmin, ln->pl_peak_eV);
+      ibmax = fmax(ibmax, ln->energy_eV);
+    } else if (res->states[ln->lower].band == EW_BAND_E && res->states[ln->lower].n == 1) {
+      ne1j++;
+      e12 = ln->energy_eV;
+      f12 = ln->oscillator_strength;
+    }
+  }
+  assert_int_equal(ne1j, 1); /* this well binds e1, e2 only: the peak below is e1-e2 alone */
+  TU_NEAR(sp.lo_eV[0], plmin - 0.020, 1e-12, "grid definition");
+  TU_NEAR(sp.hi_eV[0], ibmax + 0.100, 1e-12, "grid definition");
+  TU_NEAR(sp.lo_eV[1], 0.0, 0.0, "grid definition");
+  TU_NEAR(sp.hi_eV[1], 1.5 * e12, 1e-12, "grid definition");
+  ew_wf_peak pk[8];
+  size_t np = ew_wf_spectra_peaks(&sp, 1, pk, 8);
+  assert_int_equal(np, 1);
+  double step = 1.5 * e12 / (EW_WF_SPECTRUM_POINTS - 1);
+  TU_NEAR(pk[0].E_eV, e12, step, "a Lorentzian peaks at its line energy: within one grid step");
+  /* reference: the peak of spectra.h's formula, A = (e²h/(4ε0 c m0)) <m0/m>/n · N_s ·
+   * sin²θ/cos θ · f / (π γ) (Helm 2000), less the Lorentzian's fall over the offset from
+   * the grid point (|δ| ≤ step/2: (δ/γ)² ≤ 1e-4 relative at γ = 4 meV) */
+  double invm = ew_obs_inverse_mass(res->grid, EW_BAND_E, res->psi);
+  double th = 45.0 * M_PI / 180.0, g = 0.5 * 8.0e-3;
+  double want = ew_intersubband_prefactor_eVcm2() * invm / 3.3 * 5e11 * sin(th) * sin(th) /
+                cos(th) * f12 / (M_PI * g);
+  TU_NEAR(pk[0].value, want, 2e-4 * want, "Lorentzian peak height, offset below half a step");
+  /* interband: every peak lies inside the grid, and the lowest is the e1-hh1 exciton, near
+   * its PL peak (within the linewidth: the step below it tilts the maximum) */
+  np = ew_wf_spectra_peaks(&sp, 0, pk, 8);
+  assert_true(np >= 1);
+  TU_NEAR(pk[0].E_eV, plmin, 8.0e-3, "exciton peak within one FWHM of the lowest PL peak");
+  ew_wf_spectra_free(&sp);
+  /* normal incidence: TM light has no E_z, nothing absorbs, no peak (spectra.h) */
+  assert_int_equal(ew_wf_spectra_compute(res, 0.0, 3.3, &sp, &err), EW_OK);
+  assert_int_equal(ew_wf_spectra_peaks(&sp, 1, pk, 8), 0);
+  ew_wf_spectra_free(&sp);
+  assert_int_equal(ew_wf_spectra_compute(res, 90.0, 3.3, &sp, &err), EW_ERR_USAGE);
+  assert_non_null(strstr(err.message, "--angle"));
+  assert_int_equal(ew_wf_spectra_compute(res, 45.0, 0.0, &sp, &err), EW_ERR_USAGE);
+  assert_non_null(strstr(err.message, "--index"));
+  ew_result_free(res);
+  ew_stack_free(st);
+  /* without sheet_density: one grid, no intersubband column, a note naming the key */
+  res = solve_file(DETECTOR, fx->cat, &st);
+  assert_int_equal(ew_wf_spectra_compute(res, 45.0, 3.3, &sp, &err), EW_OK);
+  assert_int_equal(sp.n, EW_WF_SPECTRUM_POINTS);
+  assert_null(sp.intersubband);
+  assert_non_null(strstr(sp.note[1], "sheet_density"));
+  assert_int_equal(sp.note[0][0], '\0');
+  ew_wf_spectra_free(&sp);
+  ew_result_free(res);
+  ew_stack_free(st);
+}
+
+/* The peak finder on a spectrum made by hand: two Lorentzians (FWHM 0.4) at 3 and 7 and a
+ * bump at 5 that tops out at ~3.5 % of the maximum (with the tails there) — analytic maxima,
+ * the bump below the 5 % threshold. */
+static void spectra_peak_finder(void **state) {
+  (void)state;
+  enum { N = 1001 };
+  ew_wf_spectra sp;
+  memset(&sp, 0, sizeof sp);
+  sp.n = N;
+  sp.E_eV = malloc(N * sizeof(double));
+  sp.intersubband = malloc(N * sizeof(double));
+  sp.grid = malloc(N);
+  for (size_t k = 0; k < N; k++) {
+    double E = 10.0 * (double)k / (N - 1);
+    sp.E_eV[k] = E;
+    sp.grid[k] = 2;
+    double u = (E - 3) / 0.2, w = (E - 7) / 0.2;
+    sp.intersubband[k] = 1.0 / (1.0 + u * u) + 0.5 / (1.0 + w * w) +
+                         0.02 * exp(-(E - 5) * (E - 5) / 0.01);
+  }
+  ew_wf_peak pk[4];
+  size_t n = ew_wf_spectra_peaks(&sp, 1, pk, 4);
+  assert_int_equal(n, 2);
+  /* the other line's tail shifts each maximum by ~5e-5 (slope / curvature): far below one
+   * grid step (0.01) */
+  TU_NEAR(pk[0].E_eV, 3.0, 0.011, "analytic maximum, one grid step");
+  TU_NEAR(pk[1].E_eV, 7.0, 0.011, "analytic maximum, one grid step");
+  assert_int_equal(ew_wf_spectra_peaks(&sp, 0, pk, 4), 0); /* no interband spectrum */
+  ew_wf_spectra_free(&sp);
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(ranges_include_both_ends),
@@ -524,6 +741,9 @@ int main(void) {
       cmocka_unit_test(match_two_unknowns),
       cmocka_unit_test(hellmann_feynman_vs_finite_differences),
       cmocka_unit_test(monolayer_ladder),
+      cmocka_unit_test(sweep_table_matches_csv_and_plots),
+      cmocka_unit_test(spectra_grids_and_intersubband_peak),
+      cmocka_unit_test(spectra_peak_finder),
   };
   return cmocka_run_group_tests_name("workflow", tests, group_setup, group_teardown);
 }

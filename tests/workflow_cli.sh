@@ -124,5 +124,91 @@ if command -v python3 >/dev/null 2>&1; then
   check "tolerance --json: valid JSON" python3 -c "import json; json.load(open('$tmp/out'))"
 fi
 
+# ---- sweep --plot ----------------------------------------------------------------------
+# well-formed enough for a picture: one <svg ...> root first, </svg> last
+svg_ok() { head -c 4 "$1" | grep -q '^<svg' && [ "$(tail -n 1 "$1")" = "</svg>" ]; }
+mkdir "$tmp/pic"
+run "$bin" sweep $det --vary well.thickness=4:8:0.5 --plot "$tmp/pic/w.svg"
+check "sweep --plot: exit 0" [ "$rc" -eq 0 ]
+check "sweep --plot: the CSV on stdout is unchanged by --plot" cmp -s "$tmp/out" "$tmp/full.csv"
+check "sweep --plot: FILE, FILE-interband and FILE-intersubband written, non-empty" \
+  sh -c "[ -s '$tmp/pic/w.svg' ] && [ -s '$tmp/pic/w-interband.svg' ] && [ -s '$tmp/pic/w-intersubband.svg' ]"
+for f in w w-interband w-intersubband; do
+  if svg_ok "$tmp/pic/$f.svg"; then ok "sweep --plot: $f.svg is well-formed"; else nok "sweep --plot: $f.svg is well-formed" "$(head -c 80 "$tmp/pic/$f.svg")"; fi
+done
+check "sweep --plot: the levels chart names e1, e2, hh1, lh1 in its legend" \
+  sh -c "grep -q '>e1<' '$tmp/pic/w.svg' && grep -q '>e2<' '$tmp/pic/w.svg' && grep -q '>hh1<' '$tmp/pic/w.svg' && grep -q '>lh1<' '$tmp/pic/w.svg'"
+check "sweep --plot: the line charts name e1-hh1 (nm) and e1-e2 (um)" \
+  sh -c "grep -q '>e1-hh1<' '$tmp/pic/w-interband.svg' && grep -q 'wavelength (nm)' '$tmp/pic/w-interband.svg' && grep -q '>e1-e2<' '$tmp/pic/w-intersubband.svg'"
+check "sweep --plot: no temporary picture left" sh -c "[ -z \"\$(ls -A '$tmp/pic' | grep -v '^w')\" ]"
+run "$bin" sweep $det --vary well.thickness=4:6:1 --vary upper_barrier.x=0.25:0.35:0.05 --plot "$tmp/pic/g.svg"
+check "sweep --plot, two keys: one curve per value of the second key, labelled key=value" \
+  sh -c "[ $rc -eq 0 ] && grep -q '>upper_barrier.x=0.25<' '$tmp/pic/g-interband.svg' && grep -q '>upper_barrier.x=0.35<' '$tmp/pic/g-interband.svg' && grep -q 'e1-hh1 against well.thickness' '$tmp/pic/g-interband.svg'"
+run "$bin" sweep $det --vary well.thickness=4:5:0.5 --plot "$tmp/pic/p.png"
+check "sweep --plot FILE.png: PNG files written" \
+  sh -c "[ $rc -eq 0 ] && head -c 8 '$tmp/pic/p.png' | grep -q PNG && head -c 8 '$tmp/pic/p-interband.png' | grep -q PNG"
+run "$bin" sweep $det --vary well.thickness=4:5:0.5 --plot "$tmp/pic/x.pdf"
+check "sweep --plot x.pdf: exit 1 naming --plot, nothing written" \
+  sh -c "[ $rc -eq 1 ] && grep -q -- '--plot' '$tmp/err' && [ ! -s '$tmp/out' ] && [ ! -e '$tmp/pic/x.pdf' ]"
+run "$bin" sweep $det --vary well.thickness=4:5:0.5 --csv "$tmp/pic/c.csv" --plot "$tmp/no/such/dir/p.svg"
+check "sweep --plot into a missing directory: exit 5 before the sweep, no CSV written" \
+  sh -c "[ $rc -eq 5 ] && grep -q -- '--plot' '$tmp/err' && [ ! -e '$tmp/pic/c.csv' ] && [ ! -s '$tmp/out' ]"
+run "$bin" sweep --help
+check "sweep --help: describes the --plot files" sh -c "[ $rc -eq 0 ] && grep -q 'FILE-intersubband' '$tmp/out'"
+
+# ---- solve --spectra ---------------------------------------------------------------------
+# the detector well with 5e11 electrons per cm^2 in the well
+sed 's/^temperature = 77.0;/temperature = 77.0;\nsheet_density = 5e11;/' $det >"$tmp/ns.cfg"
+mkdir "$tmp/sp"
+run "$bin" solve "$tmp/ns.cfg" --spectra "$tmp/sp/ns.csv" --spectra-plot "$tmp/sp/ns.svg"
+check "solve --spectra: exit 0" [ "$rc" -eq 0 ]
+check "solve --spectra: header E_eV,interband_rel,intersubband_fraction" \
+  sh -c "[ \"\$(head -n 1 '$tmp/sp/ns.csv')\" = 'E_eV,interband_rel,intersubband_fraction' ]"
+check "solve --spectra: 4002 rows (two grids of 2001) with both spectra set" \
+  sh -c "[ \$(tail -n +2 '$tmp/sp/ns.csv' | wc -l) -eq 4002 ] && [ -z \"\$(tail -n +2 '$tmp/sp/ns.csv' | grep -E ',$|,,')\" ]"
+# reference: the e1-e2 line of the same solve (the table); a Lorentzian peaks at its line
+# energy, and e1-e2 is the only e1->ej line of this well, so the grid step is 1.5*E12/2000
+e12=$(awk '$1 == "e1-e2" { print $2 / 1000; exit }' "$tmp/out")
+check "solve --spectra: intersubband peak within one grid step (1.5*E12/2000) of e1-e2 = ${e12:-?} eV" \
+  sh -c "tail -n +2 '$tmp/sp/ns.csv' | awk -F, -v e=${e12:-0} 'NR == 1 || \$3 > m { m = \$3; at = \$1 } END { d = at - e; if (d < 0) d = -d; exit !(e > 0 && d <= 1.5 * e / 2000) }'"
+check "solve --spectra: the peak summary follows the table" \
+  sh -c "grep -q '^Absorption spectra' '$tmp/out' && grep -q '^  intersubband  ' '$tmp/out' && grep -q '^  interband  ' '$tmp/out'"
+check "solve --spectra-plot: both charts written, well-formed" \
+  sh -c "$(printf '%s' "head -c 4 '$tmp/sp/ns.svg' | grep -q '^<svg' && tail -n 1 '$tmp/sp/ns-intersubband.svg' | grep -q '^</svg>\$'")"
+check "solve --spectra: no temporary file left" sh -c "[ \$(ls -A '$tmp/sp' | wc -l) -eq 3 ]"
+run "$bin" solve $det --spectra "$tmp/sp/plain.csv" --json
+check "solve --spectra without sheet_density: 2001 rows, intersubband column empty, a note" \
+  sh -c "[ $rc -eq 0 ] && [ \$(tail -n +2 '$tmp/sp/plain.csv' | wc -l) -eq 2001 ] && [ -z \"\$(tail -n +2 '$tmp/sp/plain.csv' | grep -v ',$')\" ] && grep -q sheet_density '$tmp/err'"
+if command -v python3 >/dev/null 2>&1; then
+  check "solve --spectra --json: stdout stays one JSON object (no peak table)" \
+    python3 -c "import json; json.load(open('$tmp/out'))"
+fi
+run "$bin" solve "$tmp/ns.cfg" --spectra "$tmp/sp/a.csv" --angle 90
+check "solve --angle 90: exit 1 naming --angle, nothing written" \
+  sh -c "[ $rc -eq 1 ] && grep -q -- '--angle' '$tmp/err' && [ ! -s '$tmp/out' ] && [ ! -e '$tmp/sp/a.csv' ]"
+run "$bin" solve "$tmp/ns.cfg" --spectra "$tmp/sp/a.csv" --index 0
+check "solve --index 0: exit 1 naming --index, nothing written" \
+  sh -c "[ $rc -eq 1 ] && grep -q -- '--index' '$tmp/err' && [ ! -s '$tmp/out' ] && [ ! -e '$tmp/sp/a.csv' ]"
+run "$bin" solve "$tmp/ns.cfg" --angle 30
+check "solve --angle without --spectra: exit 1" sh -c "[ $rc -eq 1 ] && grep -q -- '--angle' '$tmp/err'"
+run "$bin" solve "$tmp/ns.cfg" --spectra "$tmp/no/such/dir/a.csv"
+check "solve --spectra into a missing directory: exit 5 naming --spectra, nothing on stdout" \
+  sh -c "[ $rc -eq 5 ] && grep -q -- '--spectra' '$tmp/err' && [ ! -s '$tmp/out' ]"
+run "$bin" solve "$tmp/ns.cfg" --spectra "$tmp/sp/b.csv" --spectra-plot "$tmp/sp/b.txt"
+check "solve --spectra-plot b.txt: exit 1, no CSV written" \
+  sh -c "[ $rc -eq 1 ] && grep -q -- '--spectra-plot' '$tmp/err' && [ ! -e '$tmp/sp/b.csv' ]"
+
+# growth check on a PL peak: solve the emitter at its nominal 8 nm, read e1-hh1's PL peak
+# (exciton included) from the JSON, match it back to the width (round trip, 1e-3 nm)
+if command -v python3 >/dev/null 2>&1; then
+  run "$bin" solve examples/emitter_well.cfg --json
+  plpeak=$(python3 -c "import json; d=json.load(open('$tmp/out')); print([t['pl_peak_eV'] for t in d['transitions'] if t['kind']=='interband' and t['upper']=='e1' and t['lower']=='hh1'][0])")
+  run "$bin" match examples/emitter_well.cfg --vary well.thickness=5:12 --line e1-hh1:pl --target "${plpeak}eV" --json
+  check "match --line e1-hh1:pl recovers the 8 nm well from its own PL peak (1e-3 nm)" \
+    python3 -c "import json; s=json.load(open('$tmp/out'))['solutions']; assert len(s)==1 and abs(s[0]['value']-8.0)<1e-3, s"
+  run "$bin" match examples/emitter_well.cfg --vary well.thickness=5:12 --line e1-e2:pl --target 1eV
+  check "match --line e1-e2:pl (not interband): exit 1 naming --line" sh -c "[ $rc -eq 1 ] && grep -q -- '--line' '$tmp/err'"
+fi
+
 echo "workflow: $pass passed, $fail failed"
 [ "$fail" -eq 0 ]
