@@ -1,6 +1,9 @@
 /* cli.c — the epiwell command: a thin layer that parses options, calls the library and maps
  * status codes to exit codes.  The only place that decides what goes to stdout/stderr. */
 #include <errno.h>
+#ifdef __GLIBC__
+#include <malloc.h>
+#endif
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -257,6 +260,13 @@ static int cmd_solve(int argc, char **argv) {
 }
 
 int main(int argc, char **argv) {
+#ifdef __GLIBC__
+  /* A solve allocates and frees the same large arrays many times (grids, pencils, SuperLU's
+     factors): keep them in the heap instead of mapping and unmapping them each time, which
+     costs a page fault per page (measured: 11 % of a single-well solve). */
+  mallopt(M_MMAP_THRESHOLD, 256 * 1024 * 1024);
+  mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
+#endif
   if (argc < 2) return bad_usage("%s", "no command given");
   if (!strcmp(argv[1], "--version")) {
     printf("epiwell %s\n", EW_VERSION);

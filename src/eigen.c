@@ -436,23 +436,33 @@ static size_t tri_count_newton(const tri *t, double s, double *step) {
  * kept with the counts of the same passes (bisection when Newton leaves it). */
 static double newton_index(const tri *t, size_t idx, double x0, double w, double tol,
                            size_t *counts) {
-  double a = x0 - w, b = x0 + w;
-  while (tri_count(t, a) > idx) a -= w, w *= 2, (*counts)++;
-  while (tri_count(t, b) <= idx) b += w, w *= 2, (*counts)++;
-  double x = fmin(fmax(x0, a), b);
-  for (int it = 0; it < 200 && b - a > tol; it++) {
+  /* the bracket [a, b] (count(a) <= idx < count(b)) comes from the passes themselves */
+  double a = -INFINITY, b = INFINITY, x = x0;
+  for (int it = 0; it < 400; it++) {
+    if (b - a <= tol) return 0.5 * (a + b);
     double step;
     size_t c = tri_count_newton(t, x, &step);
     (*counts)++;
-    if (c > idx) b = x;
-    else a = x;
+    if (c > idx) b = fmin(b, x);
+    else a = fmax(a, x);
     double nx = x + step;
-    if (fabs(step) < 0.25 * tol) { /* converged: confirm the bracket closes around it */
-      double lo = nx - tol, hi = nx + tol;
+    int inside = nx > a && nx < b && step != 0.0 && isfinite(nx);
+    if (inside && fabs(step) < 0.25 * tol) { /* converged: confirm the count brackets it */
+      size_t cl = tri_count(t, nx - tol), ch = tri_count(t, nx + tol);
       *counts += 2;
-      if (tri_count(t, lo) <= idx && tri_count(t, hi) > idx) return nx;
+      if (cl <= idx && ch > idx) return nx;
+      if (cl > idx) b = fmin(b, nx - tol); /* converged to another eigenvalue: keep bisecting */
+      else a = fmax(a, nx - tol);
+      if (ch > idx) b = fmin(b, nx + tol);
+      else a = fmax(a, nx + tol);
+      inside = 0;
     }
-    x = (nx > a && nx < b && step != 0.0) ? nx : 0.5 * (a + b);
+    if (!inside) {
+      if (isfinite(a) && isfinite(b)) nx = 0.5 * (a + b);
+      else if (isfinite(a)) nx = a + w, w *= 2;
+      else nx = b - w, w *= 2;
+    }
+    x = nx;
   }
   return 0.5 * (a + b);
 }

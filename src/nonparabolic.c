@@ -71,12 +71,16 @@ static double gap_fn(const ew_stack *st, const ew_grid *g, double E, size_t idx,
   return lam - E;
 }
 
-/* Secant iteration for the fixed point of level idx from start; returns 0 on success. */
+/* Secant iteration for the fixed point of level idx from start; returns 0 on success.
+ * *slope (in/out): the slope of g(E) = λ(E) − E; 0 on entry means unknown (the first step is
+ * then the plain fixed-point step, slope −1).  The coarse grid starts from the fine grid's
+ * slope, which is nearly the same, and usually converges in two evaluations. */
 static int fixed_point(const ew_stack *st, const ew_grid *g, size_t idx, double start, double *M,
-                       size_t *counts, double *E_out, double *last_step) {
+                       size_t *counts, double *E_out, double *last_step, double *slope) {
   int ok = 1;
   double E0 = start, g0 = gap_fn(st, g, E0, idx, M, counts, &ok);
-  double E1 = E0 + g0, g1 = 0.0;
+  double s0 = *slope < 0 ? *slope : -1.0;
+  double E1 = E0 - g0 / s0, g1 = 0.0;
   *last_step = fabs(g0);
   if (fabs(g0) < NP_TOL_EV) {
     *E_out = E1;
@@ -84,6 +88,7 @@ static int fixed_point(const ew_stack *st, const ew_grid *g, size_t idx, double 
   }
   for (int it = 0; it < NP_MAX_IT && ok; it++) {
     g1 = gap_fn(st, g, E1, idx, M, counts, &ok);
+    if (E1 != E0 && g1 != g0) *slope = (g1 - g0) / (E1 - E0);
     double step = (g1 - g0) != 0.0 ? -g1 * (E1 - E0) / (g1 - g0) : g1;
     if (!isfinite(step)) step = g1;
     E0 = E1, g0 = g1;
@@ -137,7 +142,8 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
     size_t idx = clo + j;
     double start = ew_eigen_index(pp, idx, 0.5 * (lo + top), 1e-9, work_counts), E, step;
     if (!isfinite(start) || start > top) start = top;
-    if (fixed_point(st, g, idx, start, M, work_counts, &E, &step)) {
+    double slope = 0.0;
+    if (fixed_point(st, g, idx, start, M, work_counts, &E, &step, &slope)) {
       ew_pencil_free(pp);
       rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
                    "non-parabolic level e%zu did not converge in %d steps (reached %.9f eV, "
@@ -172,7 +178,7 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
     fine->count = j + 1;
     if (coarse) {
       double Ec;
-      if (fixed_point(st, coarse, idx, E, M, work_counts, &Ec, &step)) {
+      if (fixed_point(st, coarse, idx, E, M, work_counts, &Ec, &step, &slope)) {
         ew_pencil_free(pp);
         rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu did not converge "
                      "on the coarse grid (last change %.2e eV)", j + 1, step);
