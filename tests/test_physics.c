@@ -12,9 +12,9 @@ static ew_catalogue *cat;
 
 static int setup(void **state) {
   (void)state;
-  ew_error err;
-  return ew_catalogue_load("materials", &cat, &err) == EW_OK ? 0 : -1;
+  return tu_load_catalogue(&cat);
 }
+
 static int teardown(void **state) {
   (void)state;
   ew_catalogue_free(cat);
@@ -22,16 +22,7 @@ static int teardown(void **state) {
 }
 
 static ew_result *solve_text(const char *text, ew_stack **st, const ew_options *opt) {
-  ew_error err;
-  char buf[2048];
-  *st = NULL;
-  if (ew_stack_read_string(text, "test", cat, st, &err) != EW_OK) {
-    print_error("%s\n", ew_error_text(&err, buf, sizeof buf));
-    return NULL;
-  }
-  ew_result *r = NULL;
-  if (ew_solve(*st, opt, &r, &err) != EW_OK) print_error("%s\n", ew_error_text(&err, buf, sizeof buf));
-  return r;
+  return tu_solve_text(cat, text, st, opt);
 }
 
 /* electron levels in order */

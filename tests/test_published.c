@@ -10,8 +10,7 @@ static ew_catalogue *cat;
 
 static int setup(void **state) {
   (void)state;
-  ew_error err;
-  return ew_catalogue_load("materials", &cat, &err) == EW_OK ? 0 : -1;
+  return tu_load_catalogue(&cat);
 }
 
 static int teardown(void **state) {
@@ -21,15 +20,7 @@ static int teardown(void **state) {
 }
 
 static ew_result *solve_text(const char *text, ew_stack **st) {
-  ew_error err;
-  char buf[2048];
-  if (ew_stack_read_string(text, "test", cat, st, &err) != EW_OK) {
-    print_error("%s\n", ew_error_text(&err, buf, sizeof buf));
-    return NULL;
-  }
-  ew_result *r = NULL;
-  if (ew_solve(*st, NULL, &r, &err) != EW_OK) print_error("%s\n", ew_error_text(&err, buf, sizeof buf));
-  return r;
+  return tu_solve_text(cat, text, st, NULL);
 }
 
 static const ew_line *find_line(const ew_result *r, const char *lower, const char *upper) {

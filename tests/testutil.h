@@ -12,6 +12,7 @@
 
 #include <cmocka.h>
 
+#include "solve.h"
 #include "stack.h"
 
 #ifndef M_PI
@@ -64,5 +65,27 @@ static inline void tu_stack_free(ew_stack *st) {
       fail();                                                                             \
     }                                                                                     \
   } while (0)
+
+/* Read a stack from text against cat and solve it (opt may be NULL); NULL on failure, with the
+ * reason printed.  *st receives the stack (free it after the result). */
+static inline ew_result *tu_solve_text(const ew_catalogue *cat, const char *text, ew_stack **st,
+                                       const ew_options *opt) {
+  ew_error err;
+  char buf[2048];
+  *st = NULL;
+  if (ew_stack_read_string(text, "test", cat, st, &err) != EW_OK) {
+    print_error("%s\n", ew_error_text(&err, buf, sizeof buf));
+    return NULL;
+  }
+  ew_result *r = NULL;
+  if (ew_solve(*st, opt, &r, &err) != EW_OK) print_error("%s\n", ew_error_text(&err, buf, sizeof buf));
+  return r;
+}
+
+/* Catalogue from the project's materials/ (tests run from the project root). */
+static inline int tu_load_catalogue(ew_catalogue **cat) {
+  ew_error err;
+  return ew_catalogue_load("materials", cat, &err) == EW_OK ? 0 : -1;
+}
 
 #endif
