@@ -93,6 +93,11 @@ static int cmd_materials(int argc, char **argv) {
       return bad_usage("unexpected argument %s", a);
     }
   }
+  /* option values are checked here so that a bad one is a usage error naming the option */
+  if (x < 0 || x > 1) return bad_usage("--x wants a composition in [0, 1]%s", "");
+  if (y < 0 || y > 1) return bad_usage("--y wants a composition in [0, 1]%s", "");
+  if (sx < 0 || sx > 1) return bad_usage("--substrate-x wants a composition in [0, 1]%s", "");
+  if (T < 0 || T > 1500) return bad_usage("--temperature wants kelvin in [0, 1500]%s", "");
   ew_catalogue *cat = NULL;
   ew_error err = {0};
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK) return report(&err);
@@ -119,7 +124,8 @@ static int cmd_materials(int argc, char **argv) {
     rc = report(&err);
   }
   ew_catalogue_free(cat);
-  return rc;
+  /* a name or composition the catalogue refuses came from the command line, not a file */
+  return rc == EW_ERR_INPUT ? EW_ERR_USAGE : rc;
 }
 
 static int cmd_solve(int argc, char **argv) {

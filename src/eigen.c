@@ -437,6 +437,7 @@ static size_t tri_count_newton(const tri *t, double s, double *step) {
 static double newton_index(const tri *t, size_t idx, double x0, double w, double tol,
                            size_t *counts) {
   /* the bracket [a, b] (count(a) <= idx < count(b)) comes from the passes themselves */
+  if (idx >= t->n) return NAN; /* the pencil has no eigenvalue of that index */
   double a = -INFINITY, b = INFINITY, x = x0;
   for (int it = 0; it < 400; it++) {
     if (b - a <= tol) return 0.5 * (a + b);
@@ -527,4 +528,71 @@ double ew_eigen_index(const ew_pencil *p, size_t idx, double guess, double tol_e
   double v = newton_index(&t, idx, guess, 1e-3, fmax(tol_eV, 4.0 * DBL_EPSILON * t.norm), counts);
   tri_free(&t);
   return v;
+}
+
+/* ---- general tridiagonal linear solve (the self-consistent Poisson step) ---------------- */
+ew_status ew_sparse_tridiag_solve(size_t n, const double *lower, const double *diag,
+                                  const double *upper, double *rhs_inout, ew_error *err) {
+  if (n == 0) return EW_OK;
+  if (n > 100000000u)
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "tridiagonal system of %zu unknowns is too large", n);
+  for (size_t i = 0; i < n; i++) /* SuperLU is only given finite, well-formed input */
+    if (!isfinite(diag[i]) || !isfinite(rhs_inout[i]) ||
+        (i + 1 < n && (!isfinite(lower[i]) || !isfinite(upper[i]))))
+      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                     "tridiagonal solve: non-finite coefficient at row %zu", i);
+  int m = (int)n, nnz = 3 * m - 2;
+  double *nz = doubleMalloc(nnz);
+  int *row = intMalloc(nnz), *col = intMalloc(m + 1);
+  int *perm_c = intMalloc(m), *perm_r = intMalloc(m);
+  ew_status rc = EW_OK;
+  if (!nz || !row || !col || !perm_c || !perm_r) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (tridiagonal solve, n = %zu)", n);
+    goto done;
+  }
+  int k = 0;
+  for (int j = 0; j < m; j++) { /* compressed columns: A(j−1,j) = upper[j−1], A(j+1,j) = lower[j] */
+    col[j] = k;
+    if (j > 0) row[k] = j - 1, nz[k++] = upper[j - 1];
+    row[k] = j, nz[k++] = diag[j];
+    if (j + 1 < m) row[k] = j + 1, nz[k++] = lower[j];
+    perm_c[j] = j;
+  }
+  col[m] = k;
+  SuperMatrix A, L, U, B;
+  superlu_options_t opt;
+  SuperLUStat_t stat;
+  dCreate_CompCol_Matrix(&A, m, m, nnz, nz, row, col, SLU_NC, SLU_D, SLU_GE);
+  dCreate_Dense_Matrix(&B, m, 1, rhs_inout, m, SLU_DN, SLU_D, SLU_GE);
+  set_default_options(&opt);
+  opt.ColPerm = NATURAL; /* a tridiagonal needs no fill-reducing order; partial pivoting */
+  StatInit(&stat);
+  int info = 0;
+  dgssv(&opt, &A, perm_c, perm_r, &L, &U, &B, &stat, &info);
+  if (info == 0 || (info > 0 && info <= m)) { /* L and U exist in both cases */
+    Destroy_SuperNode_Matrix(&L);
+    Destroy_CompCol_Matrix(&U);
+  }
+  Destroy_SuperMatrix_Store(&A);
+  Destroy_SuperMatrix_Store(&B);
+  StatFree(&stat);
+  if (info > 0 && info <= m)
+    rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                 "tridiagonal solve: the matrix is singular (zero pivot in column %d of %d)",
+                 info, m);
+  else if (info != 0)
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "SuperLU ran out of memory (tridiagonal, n = %zu)", n);
+  else
+    for (size_t i = 0; i < n; i++)
+      if (!isfinite(rhs_inout[i])) {
+        rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "tridiagonal solve: non-finite solution");
+        break;
+      }
+done:
+  SUPERLU_FREE(nz);
+  SUPERLU_FREE(row);
+  SUPERLU_FREE(col);
+  SUPERLU_FREE(perm_c);
+  SUPERLU_FREE(perm_r);
+  return rc;
 }

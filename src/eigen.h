@@ -49,7 +49,8 @@ ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vec
 void ew_eigenpairs_free(ew_eigenpairs *e);
 
 /* The k lowest eigenvalues of p above lo, from approximate vectors guess[j·n …] (see
- * above).  values[k] receives them; tol_eV is the accuracy wanted.  counts (may be NULL)
+ * above).  values[k] receives them (NAN for an index the pencil does not have: a coarse grid
+ * with fewer nodes than states); tol_eV is the accuracy wanted.  counts (may be NULL)
  * is incremented by the inertia counts used.  EW_OK or EW_ERR_NOMEM. */
 ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *guess, size_t k,
                                double tol_eV, double *values, size_t *counts, ew_error *err);
@@ -58,8 +59,16 @@ ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *gues
 size_t ew_eigen_count_below(const ew_pencil *p, double sigma);
 
 /* The eigenvalue of p with 0-based index idx counted from −∞ (Newton on the LDLᵀ
- * recurrence, guarded by the count), starting near guess; accurate to tol_eV. */
+ * recurrence, guarded by the count), starting near guess; accurate to tol_eV.  NAN when
+ * idx >= n. */
 double ew_eigen_index(const ew_pencil *p, size_t idx, double guess, double tol_eV,
                       size_t *counts);
+
+/* Solve the general (not necessarily symmetric) tridiagonal system A x = rhs through SuperLU
+ * (partial pivoting, natural column order): lower[i] = A(i+1, i), diag[i] = A(i, i),
+ * upper[i] = A(i, i+1) (lower and upper have n − 1 entries).  rhs_inout is overwritten with x.
+ * EW_OK, EW_ERR_NOMEM, or EW_ERR_NUMERIC (non-finite input, exactly singular matrix). */
+ew_status ew_sparse_tridiag_solve(size_t n, const double *lower, const double *diag,
+                                  const double *upper, double *rhs_inout, ew_error *err);
 
 #endif

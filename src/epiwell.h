@@ -156,6 +156,33 @@ size_t ew_result_warning_count(const ew_result *res);
 const char *ew_result_model(const ew_result *res);
 const char *ew_result_warning(const ew_result *res, size_t i);
 
+/* ---- self-consistent Schrödinger–Poisson results (poisson.c) ---------------------------
+ * ew_solve() solves doped stacks self-consistently (see README "Doped structures").  These
+ * accessors return NAN / 0 / NULL for a result that is not self-consistent. */
+/* Fermi level, absolute eV (with a bias: the Fermi level of the first face). */
+double ew_result_fermi_energy_eV(const ew_result *res);
+/* Fermi level of the last face (= ew_result_fermi_energy_eV unless a bias is applied). */
+double ew_result_fermi_energy_last_eV(const ew_result *res);
+/* Outer (Schrödinger–Poisson) iterations done, 0 when not self-consistent. */
+int ew_result_sp_iterations(const ew_result *res);
+/* max |ΔU| of the last outer iteration, eV (converged: < 1e-6 eV). */
+double ew_result_sp_residual_eV(const ew_result *res);
+/* Sheet density of state i (electrons for e states, holes for hh/lh states), cm^-2. */
+double ew_result_state_sheet_density_cm2(const ew_result *res, size_t i);
+/* Depolarisation shift Ẽ − E of intersubband line j, eV (NAN for interband lines). */
+double ew_result_line_depolarization_eV(const ew_result *res, size_t j);
+/* Profiles on the nodes (ew_result_node_count values), NULL when not self-consistent. */
+typedef enum {
+  EW_SP_POTENTIAL_EV = 0,   /* U = −eφ, the electrostatic potential energy of an electron */
+  EW_SP_CHARGE_CM3 = 1,     /* net charge density ρ/e = p − n + N_D⁺ − N_A⁻ */
+  EW_SP_N_CM3 = 2,          /* free electrons (subbands and continuum) */
+  EW_SP_P_CM3 = 3,          /* free holes (heavy and light, subbands and continuum) */
+  EW_SP_DONORS_ION_CM3 = 4, /* ionised donors (delta layers spread over their node's cell) */
+  EW_SP_ACCEPTORS_ION_CM3 = 5,
+  EW_SP_PROFILE_COUNT = 6
+} ew_sp_profile;
+const double *ew_result_sp_profile(const ew_result *res, ew_sp_profile which);
+
 #ifdef __cplusplus
 }
 #endif

@@ -102,7 +102,28 @@ void ew_grid_free(ew_grid *g) {
     free(g->mass[b]);
   }
   free(g->layer);
+  free(g->U);
   free(g);
+}
+
+int ew_grid_add_potential(ew_grid *g, const double *U) {
+  if (!U) return 1;
+  if (!g->U) {
+    g->U = calloc(g->n, sizeof *g->U);
+    if (!g->U) return 0;
+  }
+  for (size_t i = 0; i < g->n; i++) {
+    g->U[i] += U[i];
+    for (int b = 0; b < EW_BAND_COUNT; b++) {
+      g->edge[b][i] += U[i];
+      g->pot[b][i] += b == EW_BAND_E ? U[i] : -U[i];
+    }
+  }
+  return 1;
+}
+
+void ew_grid_sample_coarse(const double *U_fine, size_t n_coarse, double *out) {
+  for (size_t i = 0; i < n_coarse; i++) out[i] = U_fine[2 * i + 1];
 }
 
 /* Fill everything from the node positions already in g->z. */

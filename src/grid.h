@@ -26,7 +26,16 @@ typedef struct {
   double *edge[EW_BAND_COUNT];      /* [n] band edge of the node's layer (absolute eV) */
   double *mass[EW_BAND_COUNT];      /* [n] growth-axis mass of the node's layer, m0 */
   size_t *layer;                    /* [n] layer holding the node (right side at interfaces) */
+  double *U;                        /* [n] electrostatic potential energy of an electron
+                                       added to every edge (self-consistent doping), or NULL */
 } ew_grid;
+
+/* Add U[n] (eV, an electron's electrostatic potential energy at the nodes) to every band:
+ * +U to the edges, +U to the electron potential, −U to the hole potentials.  Keeps a copy
+ * in g->U (energy-dependent masses need it).  Returns 0 when out of memory. */
+int ew_grid_add_potential(ew_grid *g, const double *U);
+/* U on the coarse grid of every second node (node i = fine node 2i + 1), into out[coarse n]. */
+void ew_grid_sample_coarse(const double *U_fine, size_t n_coarse, double *out);
 
 /* Grid with cells_per_layer[k] equal cells in layer k (so every interface is a node).
  * Returns NULL when out of memory. */

@@ -46,7 +46,9 @@ void ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E,
       double zm = 0.5 * (lo + hi);
       ew_bands bb;
       ew_layer_bands_at(ly, (zm - ly->z_start_nm) / ly->thickness_nm, &bb);
-      sum += (hi - lo) * ew_kane_mass(&bb, E - ew_stack_edge_at(st, EW_BAND_E, zm));
+      double u = 0.0; /* self-consistent potential: mean of the cell's end nodes */
+      if (g->U) u = c == 0 ? g->U[0] : c == n ? g->U[n - 1] : 0.5 * (g->U[c - 1] + g->U[c]);
+      sum += (hi - lo) * ew_kane_mass(&bb, E - ew_stack_edge_at(st, EW_BAND_E, zm) - u);
     }
     M[c] = sum;
   }
@@ -176,7 +178,9 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
       goto done;
     }
     fine->count = j + 1;
-    if (coarse) {
+    if (coarse && idx >= coarse->n) { /* the coarse grid cannot hold this level */
+      cv[j] = NAN;
+    } else if (coarse) {
       double Ec;
       if (fixed_point(st, coarse, idx, E, M, work_counts, &Ec, &step, &slope)) {
         ew_pencil_free(pp);

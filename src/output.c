@@ -10,7 +10,9 @@
 #include <unistd.h>
 #include <zlib.h>
 
+#include "constants.h"
 #include "error.h"
+#include "poisson.h"
 
 static const ew_state *st_of(const ew_result *r, size_t i) { return &r->states[i]; }
 
@@ -76,6 +78,38 @@ void ew_output_table(const ew_result *r, FILE *out) {
             ln->energy_eV, ln->wavelength_nm, ln->overlap, ln->exciton_binding_eV * 1e3,
             ln->pl_peak_eV, ln->te_strength, ln->tm_strength,
             ln->allowed ? "allowed" : "forbidden");
+  }
+  if (r->sp) { /* self-consistent Schrödinger–Poisson (doped stacks) */
+    const ew_sp_info *sp = r->sp;
+    fprintf(out, "\nSelf-consistent Schrödinger–Poisson (%s)\n",
+            st->bias_given ? "bias between the two faces"
+            : st->surface_given ? "pinned first face, neutral last face"
+                                : "charge-neutral, flat ends");
+    fprintf(out, "  Fermi level %.6f eV", sp->fermi_eV);
+    if (st->bias_given) fprintf(out, " (first face), %.6f eV (last face)", sp->fermi_last_eV);
+    fprintf(out, "; %d iterations, residual max|dU| %.2e eV; T = %g K\n", sp->iterations,
+            sp->residual_eV, sp->temperature_K);
+    fprintf(out, "  free electrons %.4e cm^-2 (subbands %.4e), holes %.4e cm^-2 (subbands %.4e)\n",
+            sp->electrons_cm2, sp->electrons_bound_cm2, sp->holes_cm2, sp->holes_bound_cm2);
+    fprintf(out, "  ionised donors %.4e cm^-2, ionised acceptors %.4e cm^-2\n", sp->donors_ion_cm2,
+            sp->acceptors_ion_cm2);
+    fprintf(out, "  %-6s %12s %14s\n", "state", "energy_eV", "sheet_cm^-2");
+    for (size_t i = 0; i < r->n_states; i++)
+      fprintf(out, "  %-6s %12.6f %14.4e\n", st_of(r, i)->label, st_of(r, i)->energy_eV,
+              sp->sheet_cm2[i]);
+    int dh = 0;
+    for (size_t i = 0; i < r->n_lines; i++) {
+      const ew_line *ln = &r->lines[i];
+      if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+      if (!dh++)
+        fprintf(out, "  Depolarised intersubband lines\n  %-10s %11s %11s %11s %10s\n", "line",
+                "bare_meV", "shift_meV", "depol_meV", "lambda_um");
+      char nm[40];
+      snprintf(nm, sizeof nm, "%s-%s", st_of(r, ln->lower)->label, st_of(r, ln->upper)->label);
+      double d = sp->depol_eV[i], e = ln->energy_eV + d;
+      fprintf(out, "  %-10s %11.3f %11.3f %11.3f %10.4f\n", nm, ln->energy_eV * 1e3, d * 1e3,
+              e * 1e3, EW_HC_EVNM / e / 1e3);
+    }
   }
   if (r->n_warnings) {
     fprintf(out, "\nWarnings\n");
@@ -163,7 +197,11 @@ void ew_output_json(const ew_result *r, FILE *out) {
     fprintf(out, ",\"layer\":"), jstr(out, st->layers[s->layer].name);
     fprintf(out, ",\"layer_probability\":"), jnum(out, s->layer_probability);
     fprintf(out, ",\"residual\":"), jnum(out, s->residual);
-    fprintf(out, ",\"flagged\":%s}", s->flagged ? "true" : "false");
+    fprintf(out, ",\"flagged\":%s", s->flagged ? "true" : "false");
+    fprintf(out, ",\"sheet_density_cm2\":");
+    if (r->sp) jnum(out, r->sp->sheet_cm2[i]);
+    else fputs("null", out);
+    fputc('}', out);
   }
   fprintf(out, "],\"transitions\":[");
   for (size_t i = 0; i < r->n_lines; i++) {
@@ -177,6 +215,9 @@ void ew_output_json(const ew_result *r, FILE *out) {
       fprintf(out, ",\"wavelength_um\":"), jnum(out, ln->wavelength_nm / 1e3);
       fprintf(out, ",\"dipole_nm\":"), jnum(out, ln->dipole_nm);
       fprintf(out, ",\"oscillator_strength\":"), jnum(out, ln->oscillator_strength);
+      fprintf(out, ",\"depolarization_shift_eV\":");
+      if (r->sp) jnum(out, r->sp->depol_eV[i]);
+      else fputs("null", out);
     } else {
       fprintf(out, ",\"wavelength_nm\":"), jnum(out, ln->wavelength_nm);
       fprintf(out, ",\"overlap\":"), jnum(out, ln->overlap);
@@ -188,7 +229,26 @@ void ew_output_json(const ew_result *r, FILE *out) {
     }
     fputc('}', out);
   }
-  fprintf(out, "]}\n");
+  fprintf(out, "]");
+  /* self-consistent Schrödinger–Poisson (null for undoped stacks) */
+  const ew_sp_info *sp = r->sp;
+  fprintf(out, ",\"fermi_energy_eV\":");
+  if (sp) jnum(out, sp->fermi_eV);
+  else fputs("null", out);
+  fprintf(out, ",\"iterations\":");
+  if (sp) fprintf(out, "%d", sp->iterations);
+  else fputs("null", out);
+  fprintf(out, ",\"residual_eV\":");
+  if (sp) jnum(out, sp->residual_eV);
+  else fputs("null", out);
+  if (sp) {
+    fprintf(out, ",\"fermi_energy_last_eV\":"), jnum(out, sp->fermi_last_eV);
+    fprintf(out, ",\"electrons_cm2\":"), jnum(out, sp->electrons_cm2);
+    fprintf(out, ",\"holes_cm2\":"), jnum(out, sp->holes_cm2);
+    fprintf(out, ",\"donors_ionised_cm2\":"), jnum(out, sp->donors_ion_cm2);
+    fprintf(out, ",\"acceptors_ionised_cm2\":"), jnum(out, sp->acceptors_ion_cm2);
+  }
+  fprintf(out, "}\n");
 }
 
 /* ---- CSV files ---------------------------------------------------------------------- */
@@ -223,34 +283,47 @@ static void sk_printf(sink *s, const char *fmt, ...) {
 
 static void write_profile(const ew_result *r, sink *s) {
   const ew_grid *g = r->grid;
-  sk_printf(s, "z_nm,Ec_eV,Ev_hh_eV,Ev_lh_eV,me,mhh,mlh,layer\n");
-  for (size_t i = 0; i < g->n; i++)
-    sk_printf(s, "%.6f,%.8f,%.8f,%.8f,%.6f,%.6f,%.6f,%s\n", g->z[i], g->edge[0][i],
+  sk_printf(s, "z_nm,Ec_eV,Ev_hh_eV,Ev_lh_eV,me,mhh,mlh,layer,"
+               "potential_eV,charge_cm3,n_cm3,p_cm3,donors_ion_cm3,acceptors_ion_cm3\n");
+  for (size_t i = 0; i < g->n; i++) {
+    sk_printf(s, "%.6f,%.8f,%.8f,%.8f,%.6f,%.6f,%.6f,%s", g->z[i], g->edge[0][i],
               g->edge[1][i], g->edge[2][i], g->mass[0][i], g->mass[1][i], g->mass[2][i],
               r->stack->layers[g->layer[i]].name);
+    if (r->sp) /* self-consistent: U = −eφ and the densities; empty for a plain solve */
+      sk_printf(s, ",%.10f,%.6e,%.6e,%.6e,%.6e,%.6e\n", r->sp->prof[EW_SP_POTENTIAL_EV][i],
+                r->sp->prof[EW_SP_CHARGE_CM3][i], r->sp->prof[EW_SP_N_CM3][i],
+                r->sp->prof[EW_SP_P_CM3][i], r->sp->prof[EW_SP_DONORS_ION_CM3][i],
+                r->sp->prof[EW_SP_ACCEPTORS_ION_CM3][i]);
+    else
+      sk_printf(s, ",,,,,,\n");
+  }
 }
 
 static void write_levels(const ew_result *r, sink *s) {
-  sk_printf(s, "label,band,n,energy_eV,error_eV,edge_eV,depth_eV,layer,layer_probability,residual,flagged\n");
+  sk_printf(s, "label,band,n,energy_eV,error_eV,edge_eV,depth_eV,layer,layer_probability,residual,flagged,sheet_density_cm2\n");
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *q = st_of(r, i);
-    sk_printf(s, "%s,%s,%d,%.10f,%.3e,%.8f,%.10f,%s,%.6f,%.3e,%d\n", q->label,
+    sk_printf(s, "%s,%s,%d,%.10f,%.3e,%.8f,%.10f,%s,%.6f,%.3e,%d,", q->label,
               ew_band_name(q->band), q->n, q->energy_eV, q->error_eV, q->edge_eV, q->depth_eV,
               r->stack->layers[q->layer].name, q->layer_probability, q->residual, q->flagged);
+    if (r->sp) sk_printf(s, "%.6e\n", r->sp->sheet_cm2[i]);
+    else sk_printf(s, "\n");
   }
 }
 
 static void write_lines(const ew_result *r, sink *s) {
-  sk_printf(s, "kind,upper,lower,energy_eV,wavelength_nm,wavelength_um,dipole_nm,oscillator_strength,overlap,allowed,exciton_binding_eV,pl_peak_eV,te_strength,tm_strength\n");
+  sk_printf(s, "kind,upper,lower,energy_eV,wavelength_nm,wavelength_um,dipole_nm,oscillator_strength,overlap,allowed,exciton_binding_eV,pl_peak_eV,te_strength,tm_strength,depolarization_shift_eV\n");
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
     int isb = ln->kind == EW_LINE_INTERSUBBAND;
     sk_printf(s, "%s,%s,%s,%.10f,%.6f,%.8f,", isb ? "intersubband" : "interband",
               st_of(r, ln->upper)->label, st_of(r, ln->lower)->label, ln->energy_eV,
               ln->wavelength_nm, ln->wavelength_nm / 1e3);
-    if (isb) sk_printf(s, "%.8f,%.8f,,1,,,,\n", ln->dipole_nm, ln->oscillator_strength);
-    else sk_printf(s, ",,%.8f,%d,%.8f,%.10f,%.6f,%.6f\n", ln->overlap, ln->allowed,
+    if (isb) sk_printf(s, "%.8f,%.8f,,1,,,,,", ln->dipole_nm, ln->oscillator_strength);
+    else sk_printf(s, ",,%.8f,%d,%.8f,%.10f,%.6f,%.6f,", ln->overlap, ln->allowed,
                    ln->exciton_binding_eV, ln->pl_peak_eV, ln->te_strength, ln->tm_strength);
+    if (r->sp && isb) sk_printf(s, "%.8e\n", r->sp->depol_eV[i]);
+    else sk_printf(s, "\n");
   }
 }
 

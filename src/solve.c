@@ -38,6 +38,7 @@ void ew_result_free(ew_result *r) {
   free(r->states);
   free(r->psi);
   free(r->lines);
+  ew_sp_info_free(r->sp);
   free(r);
 }
 
@@ -302,14 +303,37 @@ static ew_status add_lines(ew_result *r, ew_error *err) {
   return EW_OK;
 }
 
+static double step_of(const ew_stack *st, const ew_options *opt) {
+  return opt && opt->grid_step_nm > 0 ? opt->grid_step_nm
+         : st->grid_step_nm > 0      ? st->grid_step_nm
+                                     : EW_DEFAULT_STEP_NM;
+}
+
+ew_grid *ew_solve_grid(const ew_stack *st, const ew_options *opt) {
+  double step = step_of(st, opt);
+  if (!(step > 0) || st->total_nm / step > 5e6) return NULL;
+  size_t *cells = calloc(st->n_layers, sizeof *cells);
+  if (!cells) return NULL;
+  ew_grid_cells_for_step(st, step, cells);
+  ew_grid *g = ew_grid_layered(st, cells);
+  free(cells);
+  return g;
+}
+
 ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out, ew_error *err) {
+  /* doping, a pinned surface or a bias all need the self-consistent potential */
+  if (st->doped || st->surface_given || st->bias_given)
+    return ew_solve_self_consistent(st, optin, out, err);
+  return ew_solve_potential(st, optin, NULL, out, err);
+}
+
+ew_status ew_solve_potential(const ew_stack *st, const ew_options *optin, const double *U,
+                             ew_result **out, ew_error *err) {
   *out = NULL;
   ew_options opt;
   if (optin) opt = *optin;
   else ew_options_default(&opt);
-  double step = opt.grid_step_nm > 0 ? opt.grid_step_nm
-                : st->grid_step_nm > 0 ? st->grid_step_nm
-                                       : EW_DEFAULT_STEP_NM;
+  double step = step_of(st, &opt);
   if (!(step > 0) || !isfinite(step))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "grid step must be a positive number of nm");
   double nodes = st->total_nm / step;
@@ -342,6 +366,16 @@ ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out,
   if (!r->grid || (opt.error_estimate && !coarse)) {
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (grid of %.0f nodes)", nodes);
     goto fail;
+  }
+  if (U) { /* the self-consistent electrostatic potential, on both grids */
+    double *Uc = coarse ? malloc(coarse->n * sizeof *Uc) : NULL;
+    if (coarse && Uc) ew_grid_sample_coarse(U, coarse->n, Uc);
+    int ok = ew_grid_add_potential(r->grid, U) && (!coarse || (Uc && ew_grid_add_potential(coarse, Uc)));
+    free(Uc);
+    if (!ok) {
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (potential)");
+      goto fail;
+    }
   }
   size_t total = 0;
   for (int b = 0; b < EW_BAND_COUNT; b++) {
@@ -392,7 +426,9 @@ ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out,
       q->n = (int)kept;
       snprintf(q->label, sizeof q->label, "%s%u", ew_band_name((ew_band)b), (unsigned)(kept % 1000000u));
       q->error_eV = -1.0;
-      if (opt.error_estimate && j < ncv[b]) {
+      if (opt.error_estimate && j < ncv[b] && isnan(cvals[b][j])) {
+        r->unestimated++;
+      } else if (opt.error_estimate && j < ncv[b]) {
         double corr = (e - cvals[b][j]) / 3.0;
         e += corr;
         q->error_eV = fabs(corr);
@@ -426,6 +462,12 @@ ew_status ew_solve(const ew_stack *st, const ew_options *optin, ew_result **out,
     }
   }
   r->n_states = s;
+  if (r->unestimated &&
+      !add_warning(r, "%zu state(s) have no error estimate: the grid of step 2h has fewer "
+                   "nodes than there are bound states; use a smaller grid step", r->unestimated)) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+    goto fail;
+  }
   if (!stack_warnings(r)) {
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
     goto fail;

@@ -40,9 +40,13 @@
 static const char *const top_keys[] = {"temperature", "grid_step",    "materials",
                                        "alloys",      "layers",       "substrate",
                                        "field",       "nonparabolic", "sheet_density",
-                                       "linewidth"};
+                                       "linewidth",   "surface",      "bias"};
 static const char *const layer_keys[] = {"name", "material", "x", "y", "thickness",
-                                         "thickness_ml", "grade"};
+                                         "thickness_ml", "grade", "doping"};
+static const char *const doping_keys[] = {"donors", "acceptors", "donor_sheet",
+                                          "acceptor_sheet", "donor_energy", "acceptor_energy"};
+#define MAX_DOPING_CM3 1e21
+#define MAX_SHEET_DOPING_CM2 1e15
 static const char *const alloy_keys[] = {"name", "first", "second", "bowing"};
 static const char *const bowing_keys[] = {"Ec", "Ev", "me", "mhh", "mlh", "mhh_par", "mlh_par",
                                           "eps_static"};
@@ -660,6 +664,27 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
       return fail(r, lx, "layer '%s' gives both 'x' and a 'grade'; the grade sets x", L->name);
   }
 
+  const config_setting_t *dop = config_setting_get_member(g, "doping");
+  if (dop) {
+    if (config_setting_type(dop) != CONFIG_TYPE_GROUP)
+      return fail(r, line_of(dop), "'doping' %s must be a group { donors = 1e18; }", where);
+    st = check_keys(r, dop, doping_keys, COUNT(doping_keys), "in 'doping'");
+    if (st) return st;
+    double *dst[] = {&L->donors_cm3, &L->acceptors_cm3, &L->donor_sheet_cm2,
+                     &L->acceptor_sheet_cm2, &L->donor_energy_eV, &L->acceptor_energy_eV};
+    const double lim[] = {MAX_DOPING_CM3, MAX_DOPING_CM3, MAX_SHEET_DOPING_CM2,
+                          MAX_SHEET_DOPING_CM2, 1.0, 1.0};
+    const char *unit[] = {"cm^-3", "cm^-3", "cm^-2", "cm^-2", "eV", "eV"};
+    for (size_t k = 0; k < COUNT(doping_keys); k++) {
+      int dl = line;
+      int gd = get_number(r, dop, doping_keys[k], where, dst[k], &dl);
+      if (gd < 0) return EW_ERR_INPUT;
+      if (gd && (*dst[k] < 0 || *dst[k] > lim[k]))
+        return fail(r, dl, "'%s' = %g %s %s must be in [0, %g] %s", doping_keys[k], *dst[k],
+                    unit[k], where, lim[k], unit[k]);
+    }
+  }
+
   int alloy;
   if (find_user(r, L->material)) alloy = 0;
   else if (find_ualloy(r, L->material)) alloy = 1;
@@ -749,6 +774,12 @@ static ew_status read_layers(reader *r, const config_setting_t *root, ew_stack *
                   "limit", z, L->name, MAX_TOTAL_NM);
   }
   s->total_nm = z;
+  for (size_t k = 0; k < s->n_layers; k++) {
+    const ew_layer *L = &s->layers[k];
+    if (L->donors_cm3 > 0 || L->acceptors_cm3 > 0 || L->donor_sheet_cm2 > 0 ||
+        L->acceptor_sheet_cm2 > 0)
+      s->doped = 1;
+  }
   return EW_OK;
 }
 
@@ -846,6 +877,28 @@ static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) 
   if (got && (v <= 0 || v > 500))
     return fail(r, lf, "linewidth = %g meV must be in (0, 500] meV", v);
   s->linewidth_meV = got ? v : DEFAULT_LINEWIDTH_MEV;
+
+  const config_setting_t *surf = config_setting_get_member(root, "surface");
+  if (surf) {
+    static const char *const sk[] = {"barrier"};
+    if (config_setting_type(surf) != CONFIG_TYPE_GROUP)
+      return fail(r, line_of(surf), "'surface' must be a group { barrier = 0.75; }");
+    st = check_keys(r, surf, sk, 1, "in 'surface'");
+    if (st) return st;
+    int gs = get_number(r, surf, "barrier", "in 'surface'", &s->surface_barrier_eV, &lf);
+    if (gs < 0) return EW_ERR_INPUT;
+    if (gs == 0) return fail(r, line_of(surf), "'surface' needs 'barrier' (eV of Ec above the Fermi level at the first face)");
+    if (s->surface_barrier_eV < -1 || s->surface_barrier_eV > 5)
+      return fail(r, lf, "surface barrier = %g eV must be in [-1, 5] eV", s->surface_barrier_eV);
+    s->surface_given = 1;
+  }
+  got = get_number(r, root, "bias", "", &s->bias_V, &lf);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got && fabs(s->bias_V) > 50)
+    return fail(r, lf, "bias = %g V is beyond 50 V", s->bias_V);
+  s->bias_given = got;
+  if (s->surface_given && s->bias_given)
+    return fail(r, lf, "give either 'surface' or 'bias', not both");
 
   st = read_substrate(r, root, s);
   if (st) return st;

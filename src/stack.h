@@ -31,6 +31,10 @@ typedef struct {
   double x_start, x_end;      /* linear: x at the layer's first and last face */
   double x_centre, x_edge;    /* parabolic: x at the centre and at both faces */
   ew_bands *profile;          /* [EW_GRADE_SAMPLES] when graded, else NULL (owned) */
+  /* doping (all >= 0; 0 = none) */
+  double donors_cm3, acceptors_cm3;          /* uniform in the layer */
+  double donor_sheet_cm2, acceptor_sheet_cm2; /* delta doping at the layer's centre */
+  double donor_energy_eV, acceptor_energy_eV; /* ionisation energies; 0 = fully ionised */
 } ew_layer;
 
 struct ew_stack {
@@ -48,6 +52,11 @@ struct ew_stack {
   double substrate_a_nm;   /* substrate lattice constant (0 without substrate) */
   double sheet_density_cm2; /* electrons per well for absorption spectra, 0 = not given */
   double linewidth_meV;    /* Lorentzian FWHM for spectra (default 10 meV) */
+  int doped;               /* 1 when any layer is doped: the solve is self-consistent */
+  int surface_given;       /* surface = { barrier = …; }: the first face is pinned */
+  double surface_barrier_eV; /* Ec − E_F at the first face (Schottky-pinned surface) */
+  int bias_given;          /* bias = …; a fixed applied bias between the two ends */
+  double bias_V;           /* V(last face) − V(first face), volts */
 };
 
 /* Band parameters of layer ly at fraction f ∈ [0, 1] of its thickness (graded layers are

@@ -27,8 +27,8 @@ for suite in tests/plot_render.sh tests/workflow_cli.sh tests/robust_cli.sh; do
   out=$(sh "$suite" "$build/epiwell" 2>&1); rc=$?
   printf '%s\n' "$out"
   last=$(printf '%s\n' "$out" | tail -n 1)
-  p=$(printf '%s\n' "$last" | sed -n 's/^[a-z]*: \([0-9]*\) passed, \([0-9]*\) failed$/\1/p')
-  f=$(printf '%s\n' "$last" | sed -n 's/^[a-z]*: \([0-9]*\) passed, \([0-9]*\) failed$/\2/p')
+  p=$(printf '%s\n' "$last" | sed -n 's/^[a-z_]*: \([0-9]*\) passed, \([0-9]*\) failed$/\1/p')
+  f=$(printf '%s\n' "$last" | sed -n 's/^[a-z_]*: \([0-9]*\) passed, \([0-9]*\) failed$/\2/p')
   if [ -z "$p" ]; then p=0; f=1; echo "$suite: no summary line (exit $rc)"; fi
   [ "$rc" -ne 0 ] && [ "${f:-0}" -eq 0 ] && f=1
   pass=$((pass + p)); fail=$((fail + f))

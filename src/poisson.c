@@ -1,0 +1,866 @@
+/* poisson.c — self-consistent Schrödinger–Poisson solve of doped stacks (see poisson.h).
+ *
+ * Equations (SI, then in the units of this file: z in nm, energies in eV, densities nm^-3)
+ *   Poisson:   d/dz (ε0 εr(z) dφ/dz) = −ρ(z),   ρ = e (p − n + N_D⁺ − N_A⁻).
+ *   With U = −eφ (the potential energy of an electron, added to every band edge):
+ *              d/dz (εr dU/dz) = (e/ε0) (p − n + N_D⁺ − N_A⁻);
+ *   e/ε0 = 1.602e-19 C / 8.854e-12 F/m = 1.8095e-8 V m; a density of N nm^-3 is N·1e27 m^-3
+ *   and d²/dz² in nm^-2 is 1e-18 of the one in m^-2, so e/ε0 → (e/ε0)·1e9 = 18.095 V nm
+ *   (POISSON_C below).
+ * Discretisation: box integration on the grid's nodes (the finite-volume form of the same
+ * flux continuity BenDaniel–Duke uses for ψ): the flux of cell c (between nodes c−1 and c) is
+ * F_c = εr_c (U_c − U_{c−1}) / h_c and node i's box [z_i − h_i/2, z_i + h_{i+1}/2] (extended
+ * to the face at a charge-neutral, flux-free end) holds the charge q_i:
+ *              F_{i+1} − F_i = (e/ε0) q_i,   q_i = ∫_box (p − n + N_D⁺ − N_A⁻) dz.
+ * Every cell lies inside one layer (interfaces are nodes), so εr_c is that layer's ew_bands
+ * eps_r and the discrete Gauss law holds exactly between any two cells.
+ *
+ * Free carriers.
+ *  - Subbands (2D): n_i = (m∥ kT / (π ħ²)) ln(1 + exp((E_F − E_i)/kT)) distributed as |ψ_i|²
+ *    (T. Ando, A. B. Fowler, F. Stern, Rev. Mod. Phys. 54, 437 (1982), the 2D density of
+ *    states m∥/(πħ²) with spin); holes likewise with E_i − E_F.  m∥: electrons the layer's
+ *    me where the state is most probable; heavy / light holes mhh_par / mlh_par there.
+ *  - Continuum (3D, Thomas–Fermi): n = N_c ℱ_{1/2}((E_F − max(Ec + U, W_e)) / kT),
+ *    N_c = 2 (m kT / (2π ħ²))^{3/2}, with W_e the top of the electrons' bound window: the
+ *    continuum is the states above the confined ones, and in a thick doped contact (where
+ *    Ec + U reaches W_e) this is the bulk density.  Inside a well the density of continuum
+ *    states is taken from W_e up (an approximation: the local √(E − Ec) density of states
+ *    above W_e is replaced by √(E − W_e)).  Holes: heavy and light separately below their
+ *    windows, density-of-states mass (m_z m∥²)^{1/3} (common practice).
+ *  - ℱ_{1/2}: X. Aymerich-Humet, F. Serra-Mestres, J. Millán, J. Appl. Phys. 54, 2850
+ *    (1983), their generalised approximation at j = 1/2 (constants a, b, c of that paper,
+ *    from memory); tests/test_poisson.c checks it against quadrature (better than 0.6 %).
+ * Doping: uniform N_D, N_A per layer; delta layers (sheets) at the layer centre on the nearest
+ * node, as sheet / box length.  Incomplete ionisation when the ionisation energy E_d, E_a > 0:
+ *   N_D⁺ = N_D / (1 + 2 exp((E_F − E_D)/kT)),  E_D = Ec + U − E_d  (spin degeneracy 2),
+ *   N_A⁻ = N_A / (1 + 4 exp((E_A − E_F)/kT)),  E_A = Ev + U + E_a  (degeneracy 4, heavy and
+ *   light holes), Ev the upper valence edge (S. M. Sze, Physics of Semiconductor Devices,
+ *   2nd ed. (Wiley, 1981), ch. 1, from memory); E_d = E_a = 0: fully ionised.
+ * Boundary conditions (U at the faces z = 0 and z = L; one equilibrium Fermi level unless
+ * biased):
+ *  - default: both ends charge-neutral and flat (dU/dz = 0: no flux through the faces); the
+ *    Fermi level is then set by global neutrality (the discrete sum of all q_i is zero).
+ *  - surface = { barrier = B; }: Dirichlet at the first face, Ec(0) + U(0) − E_F = B; the
+ *    last face flat and neutral.
+ *  - bias = V (volts, V(last face) − V(first face)): both faces are neutral ohmic contacts
+ *    (Dirichlet: U at each face makes the face's bulk charge-neutral at its own Fermi level)
+ *    with E_F(last) = E_F(first) − eV: a positive V lowers the electron energies of the last
+ *    face.  In between, the quasi-Fermi level is interpolated linearly in z (no current is
+ *    computed): continuum carriers and dopants use E_F(z) at their node, a subband uses E_F
+ *    at its centroid ⟨z⟩.
+ * The gauge: (U, E_F) → (U + c, E_F + c) changes nothing physical.  After every Poisson step
+ * c is chosen so that the majority band's bound window with U (the lower of the outer
+ * layers' highest edge) equals the window ew_solve_potential computes from the layers, so the
+ * states it returns are exactly the bound ones and the continuum starts where they end.
+ *
+ * Outer loop: the predictor–corrector of A. Trellakis, A. T. Galick, A. Pacelli,
+ * U. Ravaioli, J. Appl. Phys. 81, 7880 (1997).  The Poisson step is solved for the new U with
+ * the quantum density predicted from the last Schrödinger solve (at U_S) by shifting each
+ * subband locally with the potential change, E_i → E_i + (U(z) − U_S(z)) in the term weighted
+ * by |ψ_i(z)|²: the density stays a local function of U, so the Jacobian of each Newton
+ * iteration is tridiagonal (solved through ew_sparse_tridiag_solve, SuperLU).  Then the
+ * Schrödinger equation is solved again at the new U.  Converged when max|ΔU| < 1e-6 eV
+ * between outer iterations, at most 100 of them; each Newton solve is damped (steps of at
+ * most 0.1 eV per node, halved while the residual norm grows) and bounded.
+ *
+ * Depolarisation (collective) shift of an intersubband line i → j (Ando, Fowler & Stern
+ * 1982, section on intersubband optical absorption; M. Helm, Semicond. Semimet. 62, 1 (2000)):
+ *   Ẽ² = E² (1 + α),  α = 2 e² (N_i − N_j) S / (ε0 εr E),  S = ∫ dz [∫_0^z ψ_j ψ_i dz']²,
+ * with N_i − N_j the population difference of the two subbands (N_i, the sheet density of
+ * e1, when the upper subband is empty) and εr of the layer holding the lower state.  Units:
+ * e²/ε0 = e·(e/ε0) = 18.095 eV nm, N in nm^-2, S in nm, E in eV: α = 2·18.095·N·S/(εr E) is
+ * dimensionless.  The exciton-like (final-state) correction is left out.
+ */
+#include "poisson.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "constants.h"
+#include "error.h"
+
+#define NM3_PER_CM3 1e-21 /* 1 cm^-3 in nm^-3 */
+#define NM2_PER_CM2 1e-14 /* 1 cm^-2 in nm^-2 */
+/* e/ε0 in V nm, see the header comment: d/dz(εr dU/dz) = POISSON_C × (density in nm^-3) */
+#define POISSON_C (EW_E_C / EW_EPS0_FM * 1e9)
+/* e²/ε0 in eV nm (numerically the same as POISSON_C): the depolarisation integral's scale */
+#define E2_EPS0_EVNM (EW_E_C / EW_EPS0_FM * 1e9)
+#define NEWTON_STEP_MAX_EV 0.1
+#define NEWTON_TOL_EV 1e-12
+
+/* ---- Fermi–Dirac integral of order 1/2 ------------------------------------------------- */
+/* Aymerich-Humet, Serra-Mestres & Millán (1983): for the unnormalised integral F_j,
+ *   F_j(η) ≈ [ (j+1) 2^{j+1} / (b + η + (|η − b|^c + a^c)^{1/c})^{j+1} + e^{−η}/Γ(j+1) ]^{−1},
+ *   a = (1 + (15/4)(j+1) + (1/40)(j+1)²)^{1/2}, b = 1.8 + 0.61 j, c = 2 + (2 − √2) 2^{−j}
+ * (from memory).  Divided by Γ(3/2) = √π/2 at j = 1/2: ℱ = 1 / (K s^{−3/2} + e^{−η}),
+ * K = Γ(3/2)·(3/2)·2^{3/2} = 3 √(π/2), s = b + η + (|η − b|^c + a^c)^{1/c}.  Both limits are
+ * exact: ℱ → e^η (η → −∞) and ℱ → (4/(3√π)) η^{3/2} (η → +∞). */
+double ew_fd_half(double eta, double *deriv) {
+  const double j = 0.5;
+  const double a = sqrt(1.0 + 3.75 * (j + 1.0) + (j + 1.0) * (j + 1.0) / 40.0);
+  const double b = 1.8 + 0.61 * j;
+  const double c = 2.0 + (2.0 - sqrt(2.0)) * pow(2.0, -j);
+  const double K = 3.0 * sqrt(acos(-1.0) / 2.0);
+  double d = fabs(eta - b), ac = pow(a, c);
+  double r = pow(pow(d, c) + ac, 1.0 / c);
+  double s = b + eta + r;
+  /* ds/dη = 1 + r^{1−c} |η − b|^{c−1} sign(η − b) */
+  double ds = 1.0 + (d > 0 ? pow(r, 1.0 - c) * pow(d, c - 1.0) * (eta > b ? 1.0 : -1.0) : 0.0);
+  double ks = K * pow(s, -1.5);
+  double F, inv_e; /* F and F·e^{−η} computed without overflow */
+  if (eta < 0) {
+    double e = exp(eta);
+    F = e / (1.0 + ks * e);
+    inv_e = 1.0 / (1.0 + ks * e);
+  } else {
+    double e = exp(-eta);
+    F = 1.0 / (ks + e);
+    inv_e = e * F;
+  }
+  if (deriv) /* dℱ/dη = ℱ² (1.5 K s^{−5/2} s' + e^{−η}) */
+    *deriv = F * (F * 1.5 * ks / s * ds + inv_e);
+  return F;
+}
+
+/* kT ln(1 + e^x) / kT = ln(1 + e^x), without overflow */
+static double log1pexp(double x) { return x > 0 ? x + log1p(exp(-x)) : log1p(exp(x)); }
+/* 1 / (1 + g e^x), without overflow */
+static double occ(double x, double g) {
+  if (x > 0) {
+    double e = exp(-x);
+    return e / (e + g);
+  }
+  return 1.0 / (1.0 + g * exp(x));
+}
+
+/* ---- the static model: everything that does not change with U ------------------------- */
+typedef struct {
+  double len;             /* length of this half of the box, nm */
+  double z;               /* position (for the quasi-Fermi level), nm */
+  double Ec, Evh, Evl, Evtop; /* edges without U (with grading and the applied field), eV */
+  double Nc, Nvh, Nvl;    /* effective densities of states at T, nm^-3 */
+  double ND, NA;          /* nm^-3 */
+  double Ed, Ea;          /* ionisation energies, eV (0: fully ionised) */
+} half;
+
+typedef struct {
+  size_t node;
+  double dens;            /* nm^-2 */
+  double Ec, Evtop;       /* edges at the layer centre (without U) */
+  double eion;
+  int donor;
+} sheet;
+
+typedef struct {
+  const ew_stack *st;
+  size_t n;
+  const double *z, *w;
+  double L, kT;
+  half *hc;               /* [2n]: left (2i) and right (2i + 1) half of node i's box */
+  double *ec;             /* [n+1] εr_c / h_c of cell c */
+  double *box;            /* [n] box length */
+  sheet *sh;
+  size_t n_sheets;
+  int dir_left, dir_right;    /* Dirichlet faces */
+  double off_left, off_right; /* U(face) − E_F(face) for the Dirichlet faces */
+  double bias_eV;             /* E_F(last) = E_F(first) − bias_eV */
+  int holes_major;            /* gauge reference band: 0 electrons, 1 heavy holes */
+} model;
+
+/* states of the last Schrödinger solve, as the predictor needs them */
+typedef struct {
+  int hole;
+  double E;               /* eV */
+  double D;               /* m∥ kT / (π ħ²), nm^-2 */
+  double zc;              /* centroid ⟨z⟩, nm */
+  double chi;             /* weight of the state in the hand-over to the continuum (blend) */
+  const double *psi;      /* [n] */
+} qstate;
+
+typedef struct {
+  size_t ns;
+  qstate *s;
+  const double *Us;       /* [n] U of that solve */
+  double W[EW_BAND_COUNT];/* bound windows (electron energy scale): e from below, holes above */
+} snap;
+
+static size_t layer_at(const ew_stack *st, double z) {
+  size_t k = 0;
+  while (k + 1 < st->n_layers && z >= st->layers[k + 1].z_start_nm) k++;
+  return k;
+}
+
+static void bands_at(const ew_stack *st, double z, size_t *k, ew_bands *b) {
+  *k = layer_at(st, z);
+  const ew_layer *ly = &st->layers[*k];
+  double f = (z - ly->z_start_nm) / ly->thickness_nm;
+  ew_layer_bands_at(ly, fmin(fmax(f, 0.0), 1.0), b);
+}
+
+/* effective density of states 2 (m kT / (2π ħ²))^{3/2} in nm^-3; ħ²/m0 = 2 EW_HB2M0_EVNM2 */
+static double nc_of(double m, double kT) {
+  return 2.0 * pow(m * kT / (4.0 * acos(-1.0) * EW_HB2M0_EVNM2), 1.5);
+}
+/* 2D density of states times kT: m kT / (π ħ²) in nm^-2 */
+static double d2_of(double m, double kT) { return m * kT / (2.0 * acos(-1.0) * EW_HB2M0_EVNM2); }
+
+static double fermi_at(const model *m, double EF0, double z) {
+  return m->bias_eV != 0.0 ? EF0 - m->bias_eV * z / m->L : EF0;
+}
+
+static void fill_half(const model *m, half *h, double a, double b) {
+  const ew_stack *st = m->st;
+  double mid = 0.5 * (a + b);
+  size_t k;
+  ew_bands bb;
+  bands_at(st, mid, &k, &bb);
+  const ew_layer *ly = &st->layers[k];
+  h->len = b - a;
+  h->Ec = ew_stack_edge_at(st, EW_BAND_E, mid);
+  h->Evh = ew_stack_edge_at(st, EW_BAND_HH, mid);
+  h->Evl = ew_stack_edge_at(st, EW_BAND_LH, mid);
+  h->Evtop = fmax(h->Evh, h->Evl);
+  h->Nc = nc_of(bb.me, m->kT);
+  double mhp = bb.mhh_par > 0 ? bb.mhh_par : bb.mhh_z, mlp = bb.mlh_par > 0 ? bb.mlh_par : bb.mlh_z;
+  h->Nvh = nc_of(cbrt(bb.mhh_z * mhp * mhp), m->kT);
+  h->Nvl = nc_of(cbrt(bb.mlh_z * mlp * mlp), m->kT);
+  h->ND = ly->donors_cm3 * NM3_PER_CM3;
+  h->NA = ly->acceptors_cm3 * NM3_PER_CM3;
+  h->Ed = ly->donor_energy_eV;
+  h->Ea = ly->acceptor_energy_eV;
+}
+
+/* Hand-over between subbands and continuum.  solve.c returns the states below a sharp
+ * window top W; a state crossing W as U changes would add or remove its whole density at
+ * once, and the outer iteration could cycle between the two sides for ever.  So the energy
+ * axis is shared over the interval δ = EW_SP_BLEND_KT·kT below W (above, for holes) by a
+ * partition of unity: a state at depth x = (W − E)/δ counts with χ(x) = 3x² − 2x³ (0 at the
+ * window, 1 from δ below it on), and the continuum density of states at the same energies with
+ * 1 − χ.  With n(t) the continuum density above a threshold t, the continuum part is then
+ * ∫ (1 − χ) (−dn/dE) dE = ∫_0^1 χ'(x) n(W − δx) dx (integration by parts, χ' = 6x(1 − x)),
+ * taken by 4-point Gauss–Legendre in x (exact for the weight; common practice). */
+#define BLEND_POINTS 4
+static const double blend_x[BLEND_POINTS] = {0.0694318442029737, 0.3300094782075719,
+                                             0.6699905217924281, 0.9305681557970263};
+/* Gauss–Legendre weights on [0, 1] times χ'(x) = 6x(1 − x) at the nodes */
+static const double blend_w[BLEND_POINTS] = {
+    0.1739274225687269 * 6 * 0.0694318442029737 * (1 - 0.0694318442029737),
+    0.3260725774312731 * 6 * 0.3300094782075719 * (1 - 0.3300094782075719),
+    0.3260725774312731 * 6 * 0.6699905217924281 * (1 - 0.6699905217924281),
+    0.1739274225687269 * 6 * 0.9305681557970263 * (1 - 0.9305681557970263)};
+static double smoothstep(double x) { return x <= 0 ? 0.0 : x >= 1 ? 1.0 : x * x * (3.0 - 2.0 * x); }
+
+/* Charge density p − n + N_D⁺ − N_A⁻ (nm^-3) of a half at potential U, Fermi level EF and
+ * continuum windows W[0..2] (electron energies, already shifted with the local U − U_S) with
+ * the hand-over width W[3] (NULL: the whole bulk bands), with d/dU; parts[4] (may be NULL)
+ * receives n, p, N_D⁺, N_A⁻. */
+static double half_rho(const half *h, double U, double EF, const double *W, double kT,
+                       double *drho, double parts[4]) {
+  double dF;
+  double ec = h->Ec + U, n = 0.0, dn = 0.0, p = 0.0, dp = 0.0;
+  const double ev[2] = {h->Evh + U, h->Evl + U}, nv[2] = {h->Nvh, h->Nvl};
+  if (!W) { /* the whole bulk bands */
+    n = h->Nc * ew_fd_half((EF - ec) / kT, &dF);
+    dn = -h->Nc * dF / kT;
+    for (int b = 0; b < 2; b++) {
+      p += nv[b] * ew_fd_half((ev[b] - EF) / kT, &dF);
+      dp += nv[b] * dF / kT;
+    }
+  } else {
+    /* electrons above max(Ec + U, t), holes below min(Ev + U, t), the threshold t spread
+       over the hand-over interval by the weight χ'(x) (see blend) */
+    for (int k = 0; k < BLEND_POINTS; k++) {
+      double x = blend_x[k], wt = blend_w[k];
+      double t = W[EW_BAND_E] - W[EW_BAND_COUNT] * x;
+      n += wt * h->Nc * ew_fd_half((EF - (t > ec ? t : ec)) / kT, &dF);
+      dn -= wt * h->Nc * dF / kT; /* the thresholds move with U as well (see charges) */
+      for (int b = 0; b < 2; b++) {
+        double th = W[1 + b] + W[EW_BAND_COUNT] * x;
+        p += wt * nv[b] * ew_fd_half(((th < ev[b] ? th : ev[b]) - EF) / kT, &dF);
+        dp += wt * nv[b] * dF / kT;
+      }
+    }
+  }
+  double nd = 0.0, dnd = 0.0, na = 0.0, dna = 0.0;
+  if (h->ND > 0) {
+    double g = h->Ed > 0 ? occ((EF - (ec - h->Ed)) / kT, 2.0) : 1.0;
+    nd = h->ND * g;
+    dnd = h->Ed > 0 ? h->ND * g * (1.0 - g) / kT : 0.0;
+  }
+  if (h->NA > 0) {
+    double g = h->Ea > 0 ? occ((h->Evtop + U + h->Ea - EF) / kT, 4.0) : 1.0;
+    na = h->NA * g;
+    dna = h->Ea > 0 ? -h->NA * g * (1.0 - g) / kT : 0.0;
+  }
+  if (drho) *drho = dp - dn + dnd - dna;
+  if (parts) parts[0] = n, parts[1] = p, parts[2] = nd, parts[3] = na;
+  return p - n + nd - na;
+}
+
+/* Box charge q_i (nm^-2) of every node and dq_i/dU_i; parts[4][n] (may be NULL) receives the
+ * box-integrated n, p, N_D⁺, N_A⁻.  s == NULL: classical bulk bands only (the first guess). */
+static void charges(const model *m, const snap *s, double EF0, const double *U, double *q,
+                    double *dq, double *parts[4]) {
+  size_t n = m->n;
+  const double kT = m->kT;
+  for (size_t i = 0; i < n; i++) {
+    double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
+    double pa[4] = {0, 0, 0, 0};
+    /* the continuum starts at the bound window; like the subbands it is predicted to move
+       with the local potential change (so the step is gauge-covariant) */
+    double Wl[EW_BAND_COUNT + 1];
+    if (s) {
+      for (int b = 0; b < EW_BAND_COUNT; b++) Wl[b] = s->W[b] + U[i] - s->Us[i];
+      Wl[EW_BAND_COUNT] = EW_SP_BLEND_KT * kT;
+    }
+    for (int k = 0; k < 2; k++) {
+      const half *h = &m->hc[2 * i + k];
+      if (h->len <= 0) continue;
+      double d, pp[4];
+      qi += h->len * half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
+      di += h->len * d;
+      for (int t = 0; t < 4; t++) pa[t] += h->len * pp[t];
+    }
+    q[i] = qi;
+    if (dq) dq[i] = di;
+    if (parts)
+      for (int t = 0; t < 4; t++) parts[t][i] = pa[t];
+  }
+  for (size_t k = 0; k < m->n_sheets; k++) { /* delta layers */
+    const sheet *sh = &m->sh[k];
+    size_t i = sh->node;
+    double EF = fermi_at(m, EF0, m->z[i]);
+    double g = 1.0, dg = 0.0;
+    if (sh->eion > 0) {
+      g = sh->donor ? occ((EF - (sh->Ec + U[i] - sh->eion)) / kT, 2.0)
+                    : occ((sh->Evtop + U[i] + sh->eion - EF) / kT, 4.0);
+      dg = (sh->donor ? 1.0 : -1.0) * g * (1.0 - g) / kT;
+    }
+    q[i] += (sh->donor ? 1.0 : -1.0) * sh->dens * g;
+    if (dq) dq[i] += (sh->donor ? 1.0 : -1.0) * sh->dens * dg;
+    if (parts) parts[sh->donor ? 2 : 3][i] += sh->dens * g;
+  }
+  if (!s) return;
+  /* subbands, each shifted locally by U − U_S (Trellakis et al. 1997) */
+  double dmax = 0.0;
+  for (size_t i = 0; i < n; i++) dmax = fmax(dmax, fabs(U[i] - s->Us[i]));
+  for (size_t j = 0; j < s->ns; j++) {
+    const qstate *qs = &s->s[j];
+    double EF = fermi_at(m, EF0, qs->zc);
+    double x0 = qs->hole ? (qs->E - EF) / kT : (EF - qs->E) / kT;
+    if (x0 + dmax / kT < -200.0) continue; /* occupation below e^-200 everywhere */
+    for (size_t i = 0; i < n; i++) {
+      double p2 = qs->psi[i] * qs->psi[i];
+      if (p2 == 0.0) continue;
+      double du = U[i] - s->Us[i];
+      double x = qs->hole ? x0 + du / kT : x0 - du / kT;
+      double dens = qs->chi * qs->D * log1pexp(x) * p2 * m->w[i]; /* nm^-2 in this box */
+      double f = qs->chi * occ(-x, 1.0);                          /* d ln(1+e^x)/dx */
+      if (qs->hole) {
+        q[i] += dens;
+        if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
+        if (parts) parts[1][i] += dens;
+      } else {
+        q[i] -= dens;
+        if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
+        if (parts) parts[0][i] += dens;
+      }
+    }
+  }
+}
+
+/* Residual R_i = F_{i+1} − F_i − C q_i of the discrete Poisson equation; returns ||R||_2. */
+static double residual(const model *m, double EF0, const double *U, const double *q, double *R) {
+  size_t n = m->n;
+  double Ul = EF0 + m->off_left, Ur = fermi_at(m, EF0, m->L) + m->off_right, sum = 0.0;
+  for (size_t i = 0; i < n; i++) {
+    double left = i > 0 ? m->ec[i] * (U[i] - U[i - 1]) : m->dir_left ? m->ec[0] * (U[0] - Ul) : 0.0;
+    double right = i + 1 < n ? m->ec[i + 1] * (U[i + 1] - U[i])
+                   : m->dir_right ? m->ec[n] * (Ur - U[i]) : 0.0;
+    R[i] = right - left - POISSON_C * q[i];
+    sum += R[i] * R[i];
+  }
+  return sqrt(sum);
+}
+
+typedef struct {
+  double *q, *dq, *R, *lo, *di, *up, *x, *Ut;
+} work;
+
+/* One nonlinear Poisson solve for U (in place) at fixed E_F with the predicted densities. */
+static ew_status poisson_step(const model *m, const snap *s, double EF0, double *U, work *wk,
+                              int outer, ew_error *err) {
+  size_t n = m->n;
+  charges(m, s, EF0, U, wk->q, wk->dq, NULL);
+  double rn = residual(m, EF0, U, wk->q, wk->R);
+  double last = INFINITY;
+  for (int it = 0; it < EW_SP_NEWTON_MAX; it++) {
+    for (size_t i = 0; i < n; i++) {
+      double d = -POISSON_C * wk->dq[i];
+      if (i > 0 || m->dir_left) d -= m->ec[i];
+      if (i + 1 < n || m->dir_right) d -= m->ec[i + 1];
+      wk->di[i] = d;
+      wk->x[i] = -wk->R[i];
+      if (i + 1 < n) wk->lo[i] = wk->up[i] = m->ec[i + 1];
+    }
+    ew_status rc = ew_sparse_tridiag_solve(n, wk->lo, wk->di, wk->up, wk->x, err);
+    if (rc != EW_OK) return rc;
+    double mx = 0.0;
+    for (size_t i = 0; i < n; i++) mx = fmax(mx, fabs(wk->x[i]));
+    last = mx;
+    double t = mx > NEWTON_STEP_MAX_EV ? NEWTON_STEP_MAX_EV / mx : 1.0;
+    double rt = rn;
+    for (int bt = 0; bt < 40; bt++) { /* halve the step while the residual grows */
+      for (size_t i = 0; i < n; i++) wk->Ut[i] = U[i] + t * wk->x[i];
+      charges(m, s, EF0, wk->Ut, wk->q, wk->dq, NULL);
+      rt = residual(m, EF0, wk->Ut, wk->q, wk->R);
+      if (rt <= rn * (1.0 - 1e-4 * t) || mx * t < NEWTON_TOL_EV) break;
+      t *= 0.5;
+    }
+    memcpy(U, wk->Ut, n * sizeof *U);
+    rn = rt;
+    if (t == 1.0 && mx < NEWTON_TOL_EV) return EW_OK;
+    if (t * mx < 1e-15 && mx < 1e-9) return EW_OK; /* at the floating-point floor */
+  }
+  return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                 "self-consistent solve: the nonlinear Poisson step of outer iteration %d did "
+                 "not converge in %d Newton iterations (last step %.3g eV, residual %.3g)",
+                 outer, EW_SP_NEWTON_MAX, last, rn);
+}
+
+/* ---- set-up -------------------------------------------------------------------------- */
+static ew_status check_eps(const ew_stack *st, ew_error *err) {
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    int ok = ly->bands.eps_r > 0 && isfinite(ly->bands.eps_r);
+    if (ly->profile)
+      for (int j = 0; j < EW_GRADE_SAMPLES && ok; j++) ok = ly->profile[j].eps_r > 0;
+    if (!ok)
+      return ew_fail(err, EW_ERR_INPUT, st->path, ly->line,
+                     "layer '%s' (material '%s') has no static permittivity: the "
+                     "self-consistent (doped) solve needs eps_static for every layer; give "
+                     "'eps_static' in its user-defined material",
+                     ly->name, ly->material);
+  }
+  return EW_OK;
+}
+
+/* U of a flat, charge-neutral bulk at half h relative to its Fermi level (E_F = 0). */
+static double neutral_offset(const half *h, double kT) {
+  double lo = -h->Ec - 3.0, hi = -h->Evtop + 3.0; /* Ec + U 3 eV below E_F … Ev + U above */
+  for (int it = 0; it < 200; it++) { /* ρ(U) increases with U */
+    double mid = 0.5 * (lo + hi);
+    double r = half_rho(h, mid, 0.0, NULL, kT, NULL, NULL);
+    if (r > 0) hi = mid;
+    else if (r < 0) lo = mid;
+    else { /* both densities underflow: the midgap of the intrinsic bulk */
+      return -0.5 * (h->Ec + h->Evtop);
+    }
+  }
+  return 0.5 * (lo + hi);
+}
+
+/* Fermi level of global neutrality with U given, classical bulk bands (the first guess). */
+static double neutral_fermi(const model *m, const double *U, double *q) {
+  double lo = INFINITY, hi = -INFINITY;
+  for (size_t i = 0; i < 2 * m->n; i++) {
+    lo = fmin(lo, m->hc[i].Evtop + U[i / 2]);
+    hi = fmax(hi, m->hc[i].Ec + U[i / 2]);
+  }
+  lo -= 2.0;
+  hi += 2.0;
+  for (int it = 0; it < 200; it++) { /* total charge decreases with E_F */
+    double mid = 0.5 * (lo + hi), tot = 0.0;
+    charges(m, NULL, mid, U, q, NULL, NULL);
+    for (size_t i = 0; i < m->n; i++) tot += q[i];
+    if (tot > 0) lo = mid;
+    else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+static void model_free(model *m) {
+  free(m->hc);
+  free(m->ec);
+  free(m->box);
+  free(m->sh);
+}
+
+static ew_status model_build(model *m, const ew_stack *st, const ew_grid *g, double T,
+                             ew_error *err) {
+  memset(m, 0, sizeof *m);
+  m->st = st;
+  m->n = g->n;
+  m->z = g->z;
+  m->w = g->w;
+  m->L = g->length_nm;
+  m->kT = EW_KB_EVK * T;
+  m->dir_left = st->surface_given || st->bias_given;
+  m->dir_right = st->bias_given;
+  m->bias_eV = st->bias_given ? st->bias_V : 0.0; /* e·V in eV for V in volts */
+  size_t n = g->n;
+  m->hc = calloc(2 * n, sizeof *m->hc);
+  m->ec = malloc((n + 1) * sizeof *m->ec);
+  m->box = malloc(n * sizeof *m->box);
+  size_t ns = 0;
+  for (size_t k = 0; k < st->n_layers; k++)
+    ns += (st->layers[k].donor_sheet_cm2 > 0) + (st->layers[k].acceptor_sheet_cm2 > 0);
+  m->sh = calloc(ns ? ns : 1, sizeof *m->sh);
+  if (!m->hc || !m->ec || !m->box || !m->sh) {
+    model_free(m);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson model, n = %zu)", n);
+  }
+  for (size_t c = 0; c <= n; c++) { /* cells: εr / h (one layer per cell) */
+    double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c];
+    size_t k;
+    ew_bands bb;
+    bands_at(st, 0.5 * (a + b), &k, &bb);
+    m->ec[c] = bb.eps_r / g->h[c];
+  }
+  for (size_t i = 0; i < n; i++) { /* the two halves of each box */
+    double a = i == 0 && !m->dir_left ? 0.0 : g->z[i] - 0.5 * g->h[i];
+    double b = i + 1 == n && !m->dir_right ? g->length_nm : g->z[i] + 0.5 * g->h[i + 1];
+    fill_half(m, &m->hc[2 * i], a, g->z[i]);
+    fill_half(m, &m->hc[2 * i + 1], g->z[i], b);
+    m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
+    m->box[i] = b - a;
+  }
+  for (size_t k = 0; k < st->n_layers; k++) { /* delta layers on the node nearest the centre */
+    const ew_layer *ly = &st->layers[k];
+    double zc = ly->z_start_nm + 0.5 * ly->thickness_nm;
+    size_t best = 0;
+    for (size_t i = 1; i < n; i++)
+      if (fabs(g->z[i] - zc) < fabs(g->z[best] - zc)) best = i;
+    for (int d = 0; d < 2; d++) {
+      double dens = d == 0 ? ly->donor_sheet_cm2 : ly->acceptor_sheet_cm2;
+      if (!(dens > 0)) continue;
+      sheet *sh = &m->sh[m->n_sheets++];
+      sh->node = best;
+      sh->dens = dens * NM2_PER_CM2;
+      sh->Ec = ew_stack_edge_at(st, EW_BAND_E, zc);
+      sh->Evtop = fmax(ew_stack_edge_at(st, EW_BAND_HH, zc), ew_stack_edge_at(st, EW_BAND_LH, zc));
+      sh->eion = d == 0 ? ly->donor_energy_eV : ly->acceptor_energy_eV;
+      sh->donor = d == 0;
+    }
+  }
+  /* Dirichlet offsets U(face) − E_F(face) */
+  if (st->surface_given) m->off_left = st->surface_barrier_eV - ew_stack_edge_at(st, EW_BAND_E, 0.0);
+  if (st->bias_given) {
+    half h;
+    fill_half(m, &h, 0.0, fmin(1e-3, 0.5 * g->z[0]));
+    m->off_left = neutral_offset(&h, m->kT);
+    fill_half(m, &h, fmax(g->length_nm - 1e-3, 0.5 * (g->z[n - 1] + g->length_nm)), g->length_nm);
+    m->off_right = neutral_offset(&h, m->kT);
+  }
+  double nd = 0.0, na = 0.0;
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    nd += ly->donors_cm3 * ly->thickness_nm * 1e-7 + ly->donor_sheet_cm2;
+    na += ly->acceptors_cm3 * ly->thickness_nm * 1e-7 + ly->acceptor_sheet_cm2;
+  }
+  m->holes_major = na > nd;
+  return EW_OK;
+}
+
+/* ---- the gauge --------------------------------------------------------------------------- */
+static double interp(const model *m, const double *U, double z) {
+  size_t n = m->n;
+  if (z <= m->z[0]) return U[0];
+  if (z >= m->z[n - 1]) return U[n - 1];
+  size_t lo = 0, hi = n - 1;
+  while (hi - lo > 1) {
+    size_t mid = (lo + hi) / 2;
+    if (m->z[mid] <= z) lo = mid;
+    else hi = mid;
+  }
+  double t = (z - m->z[lo]) / (m->z[hi] - m->z[lo]);
+  return U[lo] + t * (U[hi] - U[lo]);
+}
+
+/* The bound window of a band in its positive-mass form (Ec, or −Ev for holes) with U added
+ * (U == NULL: without), sampled as ew_solve_potential does: the lower of the outer layers'
+ * highest values. */
+static double window_with(const model *m, ew_band band, const double *U) {
+  const ew_stack *st = m->st;
+  double best[2];
+  for (int side = 0; side < 2; side++) {
+    const ew_layer *ly = &st->layers[side ? st->n_layers - 1 : 0];
+    double mx = -INFINITY;
+    for (int j = 0; j <= 32; j++) {
+      double u = fmin(fmax(j / 32.0, 1e-9), 1.0 - 1e-9);
+      double z = ly->z_start_nm + u * ly->thickness_nm;
+      double e = ew_stack_edge_at(st, band, z) + (U ? interp(m, U, z) : 0.0);
+      mx = fmax(mx, band == EW_BAND_E ? e : -e);
+    }
+    best[side] = mx;
+  }
+  return fmin(best[0], best[1]);
+}
+
+/* The constant c for (U, E_F) → (U + c, E_F + c) that puts the reference band's window with
+ * U at its window without U. */
+static double gauge_shift(const model *m, const double *U) {
+  if (m->holes_major) return window_with(m, EW_BAND_HH, U) - window_with(m, EW_BAND_HH, NULL);
+  return window_with(m, EW_BAND_E, NULL) - window_with(m, EW_BAND_E, U);
+}
+
+/* ---- from a result to the predictor's states ------------------------------------------ */
+static ew_status snap_of(const ew_result *r, const model *m, const double *Us, snap *s,
+                         ew_error *err) {
+  const ew_stack *st = r->stack;
+  s->ns = r->n_states;
+  s->s = calloc(s->ns ? s->ns : 1, sizeof *s->s);
+  if (!s->s) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (states)");
+  s->Us = Us;
+  for (int b = 0; b < EW_BAND_COUNT; b++) s->W[b] = r->window_eV[b];
+  for (size_t j = 0; j < s->ns; j++) {
+    const ew_state *q = &r->states[j];
+    const ew_bands *bb = &st->layers[q->layer].bands;
+    qstate *o = &s->s[j];
+    o->hole = q->band != EW_BAND_E;
+    o->E = q->energy_eV;
+    double mp = q->band == EW_BAND_E ? bb->me : q->band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
+    if (!(mp > 0)) mp = q->band == EW_BAND_HH ? bb->mhh_z : bb->mlh_z;
+    o->D = d2_of(mp, m->kT);
+    o->psi = r->psi + j * r->grid->n;
+    double zc = 0.0;
+    for (size_t i = 0; i < m->n; i++) zc += m->w[i] * o->psi[i] * o->psi[i] * m->z[i];
+    o->zc = zc;
+    double depth = o->hole ? o->E - s->W[q->band] : s->W[EW_BAND_E] - o->E;
+    o->chi = smoothstep(depth / (EW_SP_BLEND_KT * m->kT));
+  }
+  return EW_OK;
+}
+
+/* ---- results ------------------------------------------------------------------------ */
+void ew_sp_info_free(struct ew_sp_info *sp) {
+  if (!sp) return;
+  free(sp->sheet_cm2);
+  free(sp->depol_eV);
+  for (int k = 0; k < EW_SP_PROFILE_COUNT; k++) free(sp->prof[k]);
+  free(sp);
+}
+
+/* Depolarisation integral S = ∫ dz [∫_0^z ψ_j ψ_i dz']² (nm), box rule on the nodes. */
+static double depol_integral(const ew_grid *g, const double *pi, const double *pj) {
+  double c = 0.0, S = 0.0;
+  for (size_t k = 0; k < g->n; k++) {
+    double c1 = c + g->w[k] * pi[k] * pj[k];
+    double mid = 0.5 * (c + c1);
+    S += g->w[k] * mid * mid;
+    c = c1;
+  }
+  return S;
+}
+
+static int add_warning(ew_result *r, const char *msg) {
+  char (*w)[EW_WARNING_MAX] = realloc(r->warnings, (r->n_warnings + 1) * sizeof *w);
+  if (!w) return 0;
+  r->warnings = w;
+  snprintf(r->warnings[r->n_warnings++], EW_WARNING_MAX, "%s", msg);
+  return 1;
+}
+
+/* Attach the self-consistent information to the final result r (solved at U). */
+static ew_status attach(ew_result *r, const model *m, double EF0, const double *U,
+                        double *parts[4], const double *q, int iters, double resid, double T,
+                        ew_error *err) {
+  size_t n = m->n;
+  ew_sp_info *sp = calloc(1, sizeof *sp);
+  if (!sp) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  r->sp = sp; /* freed with r from here on */
+  sp->fermi_eV = EF0;
+  sp->fermi_last_eV = fermi_at(m, EF0, m->L);
+  sp->temperature_K = T;
+  sp->iterations = iters;
+  sp->residual_eV = resid;
+  sp->n = n;
+  sp->n_states = r->n_states;
+  sp->n_lines = r->n_lines;
+  sp->sheet_cm2 = calloc(r->n_states ? r->n_states : 1, sizeof *sp->sheet_cm2);
+  sp->depol_eV = calloc(r->n_lines ? r->n_lines : 1, sizeof *sp->depol_eV);
+  int ok = sp->sheet_cm2 && sp->depol_eV;
+  for (int k = 0; k < EW_SP_PROFILE_COUNT && ok; k++) ok = (sp->prof[k] = malloc(n * sizeof(double))) != NULL;
+  if (!ok) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  for (size_t i = 0; i < n; i++) { /* box integrals → densities in cm^-3 */
+    double to = 1.0 / (m->box[i] * NM3_PER_CM3);
+    sp->prof[EW_SP_POTENTIAL_EV][i] = U[i];
+    sp->prof[EW_SP_CHARGE_CM3][i] = q[i] * to;
+    sp->prof[EW_SP_N_CM3][i] = parts[0][i] * to;
+    sp->prof[EW_SP_P_CM3][i] = parts[1][i] * to;
+    sp->prof[EW_SP_DONORS_ION_CM3][i] = parts[2][i] * to;
+    sp->prof[EW_SP_ACCEPTORS_ION_CM3][i] = parts[3][i] * to;
+    sp->electrons_cm2 += parts[0][i] / NM2_PER_CM2;
+    sp->holes_cm2 += parts[1][i] / NM2_PER_CM2;
+    sp->donors_ion_cm2 += parts[2][i] / NM2_PER_CM2;
+    sp->acceptors_ion_cm2 += parts[3][i] / NM2_PER_CM2;
+  }
+  /* per-state sheet densities from the final states (their reported energies) */
+  snap s;
+  ew_status rc = snap_of(r, m, U, &s, err);
+  if (rc != EW_OK) return rc;
+  for (size_t j = 0; j < r->n_states; j++) {
+    const qstate *o = &s.s[j];
+    double EF = fermi_at(m, EF0, o->zc);
+    double x = o->hole ? (o->E - EF) / m->kT : (EF - o->E) / m->kT;
+    sp->sheet_cm2[j] = o->chi * o->D * log1pexp(x) / NM2_PER_CM2;
+    if (o->hole) sp->holes_bound_cm2 += sp->sheet_cm2[j];
+    else sp->electrons_bound_cm2 += sp->sheet_cm2[j];
+  }
+  free(s.s);
+  for (size_t k = 0; k < r->n_lines; k++) {
+    const ew_line *ln = &r->lines[k];
+    sp->depol_eV[k] = NAN;
+    if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+    const ew_state *lo = &r->states[ln->lower];
+    double dN = (sp->sheet_cm2[ln->lower] - sp->sheet_cm2[ln->upper]) * NM2_PER_CM2;
+    double S = depol_integral(r->grid, r->psi + ln->lower * n, r->psi + ln->upper * n);
+    double eps = r->stack->layers[lo->layer].bands.eps_r, E = ln->energy_eV;
+    double alpha = 2.0 * E2_EPS0_EVNM * dN * S / (eps * E);
+    sp->depol_eV[k] = 1.0 + alpha > 0 ? E * sqrt(1.0 + alpha) - E : NAN;
+  }
+  if (r->stack->temperature_K < EW_SP_T_FLOOR_K &&
+      !add_warning(r, "self-consistent solve: the Fermi–Dirac occupations use a 1 K floor "
+                      "for the stack's temperature below 1 K"))
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  return EW_OK;
+}
+
+/* ---- the solve ---------------------------------------------------------------------- */
+ew_status ew_solve_self_consistent(const ew_stack *st, const ew_options *optin, ew_result **out,
+                                   ew_error *err) {
+  *out = NULL;
+  /* Undoped with charge-neutral ends: no fixed charge, so the band is flat (intrinsic
+     carriers aside) and the plain solve is the self-consistent one. */
+  if (!st->doped && !st->surface_given && !st->bias_given)
+    return ew_solve_potential(st, optin, NULL, out, err);
+  ew_status rc = check_eps(st, err);
+  if (rc != EW_OK) return rc;
+  ew_options uopt, iopt;
+  if (optin) uopt = *optin;
+  else ew_options_default(&uopt);
+  iopt = uopt; /* the iterations need the states only: no error estimate, excitons, lines */
+  iopt.error_estimate = 0;
+  iopt.excitons = 0;
+  iopt.lowest_levels = 1;
+  double T = fmax(st->temperature_K, EW_SP_T_FLOOR_K);
+
+  ew_grid *g = ew_solve_grid(st, &uopt);
+  if (!g) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (grid)");
+  if (g->n < 3) {
+    ew_grid_free(g);
+    return ew_fail(err, EW_ERR_INPUT, st->path, 0, "the stack is too thin for the grid");
+  }
+  model m;
+  rc = model_build(&m, st, g, T, err);
+  if (rc != EW_OK) {
+    ew_grid_free(g);
+    return rc;
+  }
+  size_t n = m.n;
+  work wk = {0};
+  double *U = calloc(n, sizeof *U), *Un = malloc(n * sizeof *Un), *pbuf = malloc(4 * n * sizeof *pbuf);
+  double **wf[] = {&wk.q, &wk.dq, &wk.R, &wk.lo, &wk.di, &wk.up, &wk.x, &wk.Ut};
+  int ok = U && Un && pbuf;
+  for (size_t k = 0; k < sizeof wf / sizeof *wf; k++) ok = ok && (*wf[k] = malloc(n * sizeof(double)));
+  ew_result *res = NULL;
+  snap s = {0};
+  if (!ok) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson, n = %zu)", n);
+    goto done;
+  }
+  /* first guess: flat bands at global neutrality; with a bias the two contact levels and a
+     linear U between them */
+  double EF;
+  if (st->bias_given) {
+    EF = -m.off_left; /* U(first face) = 0 */
+    double Ur = fermi_at(&m, EF, m.L) + m.off_right;
+    for (size_t i = 0; i < n; i++) U[i] = Ur * m.z[i] / m.L;
+  } else {
+    EF = neutral_fermi(&m, U, wk.q);
+  }
+  double c0 = gauge_shift(&m, U);
+  for (size_t i = 0; i < n; i++) U[i] += c0;
+  EF += c0;
+  rc = ew_solve_potential(st, &iopt, U, &res, err);
+  if (rc != EW_OK) goto done;
+  int it = 0, conv = 0;
+  double dU = INFINITY;
+  double *parts[4] = {pbuf, pbuf + n, pbuf + 2 * n, pbuf + 3 * n};
+  while (it < EW_SP_MAX_ITER) {
+    it++;
+    free(s.s);
+    s.s = NULL;
+    rc = snap_of(res, &m, U, &s, err);
+    if (rc != EW_OK) goto done;
+    memcpy(Un, U, n * sizeof *Un);
+    rc = poisson_step(&m, &s, EF, Un, &wk, it, err);
+    if (rc != EW_OK) goto done;
+    /* the charges the Poisson step satisfied (gauge invariant: kept for the profiles) */
+    charges(&m, &s, EF, Un, wk.q, NULL, parts);
+    double c = gauge_shift(&m, Un);
+    dU = 0.0;
+    for (size_t i = 0; i < n; i++) {
+      Un[i] += c;
+      dU = fmax(dU, fabs(Un[i] - U[i]));
+    }
+    EF += c;
+    memcpy(U, Un, n * sizeof *U);
+    if (dU < EW_SP_TOL_EV) {
+      conv = 1;
+      break;
+    }
+    ew_result_free(res);
+    res = NULL;
+    rc = ew_solve_potential(st, &iopt, U, &res, err);
+    if (rc != EW_OK) goto done;
+  }
+  if (!conv) {
+    rc = ew_fail(err, EW_ERR_NUMERIC, st->path, 0,
+                 "self-consistent Schrödinger–Poisson solve did not converge: after %d outer "
+                 "iterations max|ΔU| = %.3g eV (tolerance %.0e eV)",
+                 it, dU, EW_SP_TOL_EV);
+    goto done;
+  }
+  ew_result_free(res);
+  res = NULL;
+  rc = ew_solve_potential(st, &uopt, U, &res, err);
+  if (rc != EW_OK) goto done;
+  if (res->grid->n != n) {
+    rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "self-consistent solve: grid mismatch");
+    goto done;
+  }
+  rc = attach(res, &m, EF, U, parts, wk.q, it, dU, T, err);
+  if (rc != EW_OK) goto done;
+  *out = res;
+  res = NULL;
+done:
+  ew_result_free(res);
+  free(s.s);
+  free(U);
+  free(Un);
+  free(pbuf);
+  for (size_t k = 0; k < sizeof wf / sizeof *wf; k++) free(*wf[k]);
+  model_free(&m);
+  ew_grid_free(g);
+  return rc;
+}
+
+/* ---- accessors (epiwell.h) ------------------------------------------------------------- */
+double ew_result_fermi_energy_eV(const ew_result *r) { return r->sp ? r->sp->fermi_eV : NAN; }
+double ew_result_fermi_energy_last_eV(const ew_result *r) {
+  return r->sp ? r->sp->fermi_last_eV : NAN;
+}
+int ew_result_sp_iterations(const ew_result *r) { return r->sp ? r->sp->iterations : 0; }
+double ew_result_sp_residual_eV(const ew_result *r) { return r->sp ? r->sp->residual_eV : NAN; }
+double ew_result_state_sheet_density_cm2(const ew_result *r, size_t i) {
+  return r->sp && i < r->sp->n_states ? r->sp->sheet_cm2[i] : NAN;
+}
+double ew_result_line_depolarization_eV(const ew_result *r, size_t j) {
+  return r->sp && j < r->sp->n_lines ? r->sp->depol_eV[j] : NAN;
+}
+const double *ew_result_sp_profile(const ew_result *r, ew_sp_profile which) {
+  return r->sp && (int)which >= 0 && which < EW_SP_PROFILE_COUNT ? r->sp->prof[which] : NULL;
+}
