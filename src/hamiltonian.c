@@ -1,6 +1,7 @@
 /* hamiltonian.c — assembly of the BenDaniel–Duke pencil (see hamiltonian.h). */
 #include "hamiltonian.h"
 
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 
@@ -11,6 +12,8 @@ void ew_pencil_free(ew_pencil *p) {
   free(p->diag);
   free(p->off);
   free(p->b);
+  free(p->std_d);
+  free(p->std_e2);
   free(p);
 }
 
@@ -26,7 +29,9 @@ ew_pencil *ew_pencil_build_mass(const ew_grid *g, ew_band band, const double *M)
   p->diag = malloc(n * sizeof *p->diag);
   p->off = malloc((n > 1 ? n - 1 : 1) * sizeof *p->off);
   p->b = malloc(n * sizeof *p->b);
-  if (!p->diag || !p->off || !p->b) {
+  p->std_d = malloc(n * sizeof *p->std_d);
+  p->std_e2 = malloc((n > 1 ? n - 1 : 1) * sizeof *p->std_e2);
+  if (!p->diag || !p->off || !p->b || !p->std_d || !p->std_e2) {
     ew_pencil_free(p);
     return NULL;
   }
@@ -41,6 +46,22 @@ ew_pencil *ew_pencil_build_mass(const ew_grid *g, ew_band band, const double *M)
     p->vmin = fmin(p->vmin, V[i]);
     p->vmax = fmax(p->vmax, V[i]);
   }
+  double emax = 0.0, norm = 0.0;
+  for (size_t i = 0; i < n; i++) {
+    p->std_d[i] = p->diag[i] / p->b[i];
+    if (i + 1 < n) {
+      p->std_e2[i] = p->off[i] * p->off[i] / (p->b[i] * p->b[i + 1]);
+      emax = fmax(emax, p->std_e2[i]);
+    }
+  }
+  for (size_t i = 0; i < n; i++) {
+    double r = fabs(p->std_d[i]);
+    if (i > 0) r += sqrt(p->std_e2[i - 1]);
+    if (i + 1 < n) r += sqrt(p->std_e2[i]);
+    norm = fmax(norm, r);
+  }
+  p->std_pivmin = DBL_MIN * fmax(1.0, emax);
+  p->std_norm = norm;
   return p;
 }
 

@@ -16,6 +16,9 @@ typedef struct {
   double *off;  /* [n−1] H_i,i+1, eV·nm */
   double *b;    /* [n]   B_ii, nm */
   double vmin, vmax; /* range of the node potentials, eV */
+  /* the standard form T = B^{-1/2} H B^{-1/2} the inertia counts run on, computed once at
+     build: diagonal, squared off-diagonal, Gershgorin norm, smallest allowed pivot */
+  double *std_d, *std_e2, std_norm, std_pivmin;
 } ew_pencil;
 
 /* Allocate and fill the pencil of band on g; NULL when out of memory. */

@@ -54,15 +54,96 @@ void ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E,
   }
 }
 
-static ew_pencil *pencil_at(const ew_stack *st, const ew_grid *g, double E, double *M) {
-  ew_nonparabolic_cell_masses(st, g, E, M);
-  return ew_pencil_build_mass(g, EW_BAND_E, M);
+/* The cell ∩ layer pieces of a grid with what the Kane mass needs at each piece's midpoint,
+ * built once per grid: a fixed-point iteration then re-evaluates only the masses (the same
+ * numbers as ew_nonparabolic_cell_masses, without the layer search for every cell). */
+typedef struct {
+  const ew_grid *g;
+  size_t n, cap;
+  size_t *cell;
+  double *len, *me, *Ep, *Eg, *D, *ec; /* ec: conduction edge at the midpoint (field, U) */
+  int *np;
+} np_ctx;
+
+static void ctx_free(np_ctx *c) {
+  free(c->cell), free(c->len), free(c->me), free(c->Ep), free(c->Eg), free(c->D), free(c->ec);
+  free(c->np);
+  memset(c, 0, sizeof *c);
+}
+
+static int ctx_push(np_ctx *c, size_t cell, double len, const ew_bands *b, double ec) {
+  if (c->n == c->cap) {
+    size_t nc = c->cap ? 2 * c->cap : 1024;
+    size_t *ce = realloc(c->cell, nc * sizeof *ce);
+    if (ce) c->cell = ce;
+    double **arr[] = {&c->len, &c->me, &c->Ep, &c->Eg, &c->D, &c->ec};
+    int ok = ce != NULL;
+    for (int k = 0; k < 6 && ok; k++) {
+      double *q = realloc(*arr[k], nc * sizeof **arr[k]);
+      if (q) *arr[k] = q;
+      else ok = 0;
+    }
+    int *npn = ok ? realloc(c->np, nc * sizeof *npn) : NULL;
+    if (!npn) return 0;
+    c->np = npn;
+    c->cap = nc;
+  }
+  size_t k = c->n++;
+  c->cell[k] = cell, c->len[k] = len, c->me[k] = b->me, c->Ep[k] = b->Ep_eV;
+  c->Eg[k] = b->Eg_G_eV, c->D[k] = b->Dso_eV > 0 ? b->Dso_eV : 0.0, c->ec[k] = ec;
+  c->np[k] = layer_np(b);
+  return 1;
+}
+
+static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
+  memset(c, 0, sizeof *c);
+  c->g = g;
+  size_t n = g->n, k0 = 0;
+  for (size_t cc = 0; cc <= n; cc++) {
+    double a = cc == 0 ? 0.0 : g->z[cc - 1], b = cc == n ? g->length_nm : g->z[cc];
+    while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
+    for (size_t k = k0; k < st->n_layers; k++) {
+      const ew_layer *ly = &st->layers[k];
+      if (ly->z_start_nm >= b) break;
+      double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
+      if (hi <= lo) continue;
+      double zm = 0.5 * (lo + hi), u = 0.0;
+      ew_bands bb;
+      ew_layer_bands_at(ly, (zm - ly->z_start_nm) / ly->thickness_nm, &bb);
+      if (g->U) u = cc == 0 ? g->U[0] : cc == n ? g->U[n - 1] : 0.5 * (g->U[cc - 1] + g->U[cc]);
+      if (!ctx_push(c, cc, hi - lo, &bb, ew_stack_edge_at(st, EW_BAND_E, zm) + u)) {
+        ctx_free(c);
+        return 0;
+      }
+    }
+  }
+  return 1;
+}
+
+/* the Kane mass of ew_kane_mass from the cached numbers */
+static void ctx_masses(const np_ctx *c, double E, double *M) {
+  memset(M, 0, (c->g->n + 1) * sizeof *M);
+  for (size_t k = 0; k < c->n; k++) {
+    double m = c->me[k];
+    if (c->np[k]) {
+      double Eg = c->Eg[k], D = c->D[k], e = fmax(E - c->ec[k], -0.5 * Eg);
+      double inv = 1.0 / m + c->Ep[k] / 3.0 * (2.0 / (Eg + e) + 1.0 / (Eg + D + e) - 2.0 / Eg -
+                                               1.0 / (Eg + D));
+      if (inv > 0) m = 1.0 / inv;
+    }
+    M[c->cell[k]] += c->len[k] * m;
+  }
+}
+
+static ew_pencil *pencil_at(const np_ctx *c, double E, double *M) {
+  ctx_masses(c, E, M);
+  return ew_pencil_build_mass(c->g, EW_BAND_E, M);
 }
 
 /* λ_idx(H(E)) − E */
-static double gap_fn(const ew_stack *st, const ew_grid *g, double E, size_t idx, double *M,
-                     size_t *counts, int *ok) {
-  ew_pencil *p = pencil_at(st, g, E, M);
+static double gap_fn(const np_ctx *c, double E, size_t idx, double *M, size_t *counts,
+                     int *ok) {
+  ew_pencil *p = pencil_at(c, E, M);
   if (!p) {
     *ok = 0;
     return 0.0;
@@ -77,10 +158,10 @@ static double gap_fn(const ew_stack *st, const ew_grid *g, double E, size_t idx,
  * *slope (in/out): the slope of g(E) = λ(E) − E; 0 on entry means unknown (the first step is
  * then the plain fixed-point step, slope −1).  The coarse grid starts from the fine grid's
  * slope, which is nearly the same, and usually converges in two evaluations. */
-static int fixed_point(const ew_stack *st, const ew_grid *g, size_t idx, double start, double *M,
-                       size_t *counts, double *E_out, double *last_step, double *slope) {
+static int fixed_point(const np_ctx *c, size_t idx, double start, double *M, size_t *counts,
+                       double *E_out, double *last_step, double *slope) {
   int ok = 1;
-  double E0 = start, g0 = gap_fn(st, g, E0, idx, M, counts, &ok);
+  double E0 = start, g0 = gap_fn(c, E0, idx, M, counts, &ok);
   double s0 = *slope < 0 ? *slope : -1.0;
   double E1 = E0 - g0 / s0, g1 = 0.0;
   *last_step = fabs(g0);
@@ -89,7 +170,7 @@ static int fixed_point(const ew_stack *st, const ew_grid *g, size_t idx, double 
     return !ok;
   }
   for (int it = 0; it < NP_MAX_IT && ok; it++) {
-    g1 = gap_fn(st, g, E1, idx, M, counts, &ok);
+    g1 = gap_fn(c, E1, idx, M, counts, &ok);
     if (E1 != E0 && g1 != g0) *slope = (g1 - g0) / (E1 - E0);
     double step = (g1 - g0) != 0.0 ? -g1 * (E1 - E0) / (g1 - g0) : g1;
     if (!isfinite(step)) step = g1;
@@ -113,12 +194,24 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
   size_t nmax = (g->n > (coarse ? coarse->n : 0) ? g->n : coarse->n) + 1, dummy = 0;
   if (!work_counts) work_counts = &dummy;
   double *M = malloc(nmax * sizeof *M);
-  if (!M) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic masses)");
+  np_ctx cf, cc;
+  memset(&cc, 0, sizeof cc);
+  int built = M && ctx_build(&cf, st, g);
+  if (built && coarse && !ctx_build(&cc, st, coarse)) {
+    ctx_free(&cf);
+    built = 0;
+  }
+  if (!built) {
+    free(M);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic masses)");
+  }
   ew_status rc = EW_OK;
   /* bound count: eigenvalues of H(top) below top (see the header) */
-  ew_pencil *pt = pencil_at(st, g, top, M);
+  ew_pencil *pt = pencil_at(&cf, top, M);
   if (!pt) {
     free(M);
+    ctx_free(&cf);
+    ctx_free(&cc);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   }
   size_t clo = ew_eigen_count_below(pt, lo), nb = ew_eigen_count_below(pt, top) - clo;
@@ -145,7 +238,7 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
     double start = ew_eigen_index(pp, idx, 0.5 * (lo + top), 1e-9, work_counts), E, step;
     if (!isfinite(start) || start > top) start = top;
     double slope = 0.0;
-    if (fixed_point(st, g, idx, start, M, work_counts, &E, &step, &slope)) {
+    if (fixed_point(&cf, idx, start, M, work_counts, &E, &step, &slope)) {
       ew_pencil_free(pp);
       rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
                    "non-parabolic level e%zu did not converge in %d steps (reached %.9f eV, "
@@ -153,7 +246,7 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
       goto done;
     }
     /* the eigenvector of H(E) at its eigenvalue E, through the shift-invert backend */
-    ew_pencil *p = pencil_at(st, g, E, M);
+    ew_pencil *p = pencil_at(&cf, E, M);
     ew_eigenpairs one;
     double w = 1e-4;
     size_t cnt = 0;
@@ -182,7 +275,7 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
       cv[j] = NAN;
     } else if (coarse) {
       double Ec;
-      if (fixed_point(st, coarse, idx, E, M, work_counts, &Ec, &step, &slope)) {
+      if (fixed_point(&cc, idx, E, M, work_counts, &Ec, &step, &slope)) {
         ew_pencil_free(pp);
         rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu did not converge "
                      "on the coarse grid (last change %.2e eV)", j + 1, step);
@@ -194,6 +287,8 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
   ew_pencil_free(pp);
 done:
   free(M);
+  ctx_free(&cf);
+  ctx_free(&cc);
   if (rc != EW_OK) {
     ew_eigenpairs_free(fine);
     free(cv);
