@@ -9,6 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "cli_common.h"
 #include "epiwell.h"
 #include "materials.h"
 #include "output.h"
@@ -42,26 +43,9 @@ static const char usage[] =
     "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"
     "too large, 5 file I/O error, 6 numerical failure\n";
 
-static int report(const ew_error *err) {
-  char buf[2048];
-  fprintf(stderr, "epiwell: %s\n", ew_error_text(err, buf, sizeof buf));
-  return (int)err->code;
-}
-
-static int bad_usage(const char *fmt, const char *arg) {
-  fprintf(stderr, "epiwell: ");
-  fprintf(stderr, fmt, arg);
-  fprintf(stderr, "\n%s", usage);
-  return EW_ERR_USAGE;
-}
-
-/* strict number parsing: the whole argument must be a finite number */
-static int parse_num(const char *s, double *v) {
-  char *end;
-  errno = 0;
-  *v = strtod(s, &end);
-  return s[0] && *end == '\0' && errno == 0 && isfinite(*v);
-}
+static int report(const ew_error *err) { return ew_cli_report(err); }
+static int bad_usage(const char *fmt, const char *arg) { return ew_cli_bad(usage, fmt, arg); }
+static int parse_num(const char *s, double *v) { return ew_cli_parse_num(s, v); }
 
 static int cmd_materials(int argc, char **argv) {
   const char *name = NULL, *substrate = NULL;

@@ -13,6 +13,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include "cli_common.h"
 #include "epiwell.h"
 #include "error.h"
 #include "plot.h"
@@ -47,25 +48,11 @@ static const char tolerance_usage[] =
     "usage: epiwell tolerance STACK [--dx DX] [--ladder LAYER] [--json] [--threads N]\n"
     "                         [--grid-step NM] [--no-estimate]\n";
 
-static int report(const ew_error *err) {
-  char buf[2048];
-  fprintf(stderr, "epiwell: %s\n", ew_error_text(err, buf, sizeof buf));
-  return (int)err->code;
-}
-
+static int report(const ew_error *err) { return ew_cli_report(err); }
 static int bad(const char *usage, const char *fmt, const char *arg) {
-  fprintf(stderr, "epiwell: ");
-  fprintf(stderr, fmt, arg);
-  fprintf(stderr, "\n%s", usage);
-  return EW_ERR_USAGE;
+  return ew_cli_bad(usage, fmt, arg);
 }
-
-static int parse_num(const char *s, double *v) {
-  char *end;
-  errno = 0;
-  *v = strtod(s, &end);
-  return s[0] && *end == '\0' && errno == 0 && isfinite(*v);
-}
+static int parse_num(const char *s, double *v) { return ew_cli_parse_num(s, v); }
 
 static int parse_whole(const char *s, double lo, double hi, size_t *out) {
   double v;
