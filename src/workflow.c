@@ -1770,7 +1770,8 @@ static double ml_of(const ew_layer *ly, int *dflt) {
   /* a layer written in whole monolayers: the reader's own monolayer */
   if (ly->thickness_ml > 0) return ly->thickness_nm / ly->thickness_ml;
   *dflt = !(ly->bands.a_nm > 0);
-  return *dflt ? EW_WF_DEFAULT_ML_NM : 0.5 * ly->bands.a_nm; /* one monolayer = a/2 (zinc blende, [001]) */
+  /* one monolayer = a/2 (zinc blende, [001]); a pseudomorphic layer has a(1 + ε⊥) along z */
+  return *dflt ? EW_WF_DEFAULT_ML_NM : 0.5 * ly->bands.a_nm * (1.0 + ly->bands.eps_perp);
 }
 
 /* The key that sets a layer's thickness and its value for thickness t_nm: thickness_ml
