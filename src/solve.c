@@ -62,20 +62,19 @@ size_t ew_result_band_count(const ew_result *r, ew_band b) { return r->band_coun
 double ew_result_window_eV(const ew_result *r, ew_band b) { return r->window_eV[b]; }
 
 /* Upper end of the bound window in the positive-mass potential of a band: the lower of the
- * two outer layers' highest potentials (a state above it leaks out of the structure).  In a
- * field or a graded outer layer the potential varies across the layer: take its maximum. */
-static double window_top(const ew_stack *st, ew_band band) {
-  double best[2];
-  for (int side = 0; side < 2; side++) {
-    const ew_layer *ly = &st->layers[side ? st->n_layers - 1 : 0];
-    double m = -INFINITY;
-    for (int j = 0; j <= 32; j++) {
-      double u = fmin(fmax(j / 32.0, 1e-9), 1.0 - 1e-9);
-      double e = ew_stack_edge_at(st, band, ly->z_start_nm + u * ly->thickness_nm);
-      m = fmax(m, band == EW_BAND_E ? e : -e);
-    }
-    best[side] = m;
+ * two outer layers' highest potentials (a state above it leaks out of the structure).  Read
+ * off the grid's node edges, so a field, a graded outer layer and a self-consistent
+ * potential all count. */
+static double window_top(const ew_stack *st, const ew_grid *g, ew_band band) {
+  double best[2] = {-INFINITY, -INFINITY};
+  size_t last = st->n_layers - 1;
+  for (size_t i = 0; i < g->n; i++) {
+    int side = g->layer[i] == 0 ? 0 : g->layer[i] == last ? 1 : -1;
+    if (side < 0) continue;
+    double v = band == EW_BAND_E ? g->edge[band][i] : -g->edge[band][i];
+    if (v > best[side]) best[side] = v;
   }
+  if (st->n_layers == 1) best[1] = best[0];
   return fmin(best[0], best[1]);
 }
 
@@ -187,7 +186,7 @@ static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band,
   const ew_grid *g = r->grid;
   ew_pencil *p = ew_pencil_build(g, band);
   if (!p) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (pencil, n = %zu)", g->n);
-  double top = window_top(r->stack, band);
+  double top = window_top(r->stack, g, band);
   double lo = p->vmin - 1e-9 * (1.0 + fabs(p->vmin));
   ew_status rc = EW_OK;
   if (top <= lo) { /* no well at all: an empty window */
@@ -382,7 +381,7 @@ ew_status ew_solve_potential(const ew_stack *st, const ew_options *optin, const 
     rc = solve_band(r, coarse, (ew_band)b, &fine[b], &cvals[b], &ncv[b], err);
     if (rc != EW_OK) goto fail;
     r->band_count[b] = fine[b].count;
-    double top = window_top(st, (ew_band)b);
+    double top = window_top(st, r->grid, (ew_band)b);
     r->window_eV[b] = b == EW_BAND_E ? top : -top;
     total += fine[b].count;
   }
