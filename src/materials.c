@@ -1029,9 +1029,10 @@ static ew_status bands_at(const ew_catalogue *cat, const entry *e, double x, dou
   out->lowest_valley = 0;
   for (int g = 1; g < 3; g++)
     if (have_gap[g] && gaps[g] < gaps[out->lowest_valley]) out->lowest_valley = g;
-  if (!(out->Eg_G_eV > 0.0))
-    return ew_fail(err, EW_ERR_CATALOGUE, e->path, 0,
-                   "%s at %s, T = %g K has a Γ gap of %g eV (must be > 0)", name, ct, T_K,
+  if (!(out->Eg_G_eV > 0.0)) /* the requested (x, T) is outside the model's range: an input error */
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "%s at %s, T = %g K has a Γ gap of %g eV (must be > 0): outside the "
+                   "range of the catalogue's Varshni and bowing parameters", name, ct, T_K,
                    out->Eg_G_eV);
   /* VBO is temperature independent; the gap's T shift goes entirely into Ec
    * (Vurgaftman 2001, Sec. II) */

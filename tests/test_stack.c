@@ -272,6 +272,9 @@ static const stack_case cat_cases[] = {
   {"user and catalogue materials mix",
    UMATS "layers = (\n { material = \"AlGaAs\"; x = 0.3; thickness = 20; },\n"
    " { material = \"wellmat\"; thickness = 8; }\n);\n", EW_OK, 0, NULL},
+  {"a temperature beyond the catalogue's gap model is an input error at the layer",
+   "temperature = 1500.0;\nlayers = (\n { material = \"InSb\"; thickness = 5; }\n);\n",
+   EW_ERR_INPUT, 3, "must be > 0"},
   /* extensions: substrate, field, grades, monolayers, quaternaries, user alloys */
   {"substrate by name accepted",
    "substrate = \"GaAs\";\nlayers = (\n { material = \"InGaAs\"; x = 0.2; thickness = 6; }\n);\n",
