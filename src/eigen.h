@@ -8,11 +8,12 @@
  *     many eigenvalues the window holds, independently of the eigen-solve.
  *  2. Isolate.  Bisection on the count splits the window into intervals holding one
  *     eigenvalue each (or a cluster narrower than the count can resolve, ~16 ε‖T‖).
- *  3. Shift-invert.  Each interval is narrowed until its width is a small fraction of the gap
- *     to its neighbours; H − σB is factorized once by SuperLU at its midpoint σ and inverse
- *     iteration x ← (H − σB)⁻¹ B x (one triangular solve pair per step) converges at the rate
- *     |λ − σ| / gap; the eigenvalue is the Rayleigh quotient.  Vectors of a cluster are
- *     B-orthogonalized against each other.
+ *  3. Shift-invert.  Inside each single-eigenvalue interval Newton's method on det(T − σ)
+ *     (count and step from one pass of the recurrence, bisection when a step would leave the
+ *     interval) brings σ within ~1e-12 eV of the eigenvalue; H − σB is factorized once by
+ *     SuperLU there and inverse iteration x ← (H − σB)⁻¹ B x (one triangular solve pair per
+ *     step) converges at the rate |λ − σ| / gap; the eigenvalue is the Rayleigh quotient.
+ *     Clusters use the interval's midpoint and their vectors are B-orthogonalized.
  *  Values-only mode stops after step 2, bisecting each interval to 1e-12 eV.
  *  ew_eigen_values_near() serves the coarse grid of the error estimate: given good
  *  approximate vectors (the fine-grid eigenvectors sampled on the coarse nodes), each
