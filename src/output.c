@@ -26,7 +26,14 @@ void ew_output_table(const ew_result *r, FILE *out) {
   if (st->substrate[0]) fprintf(out, "; pseudomorphic on %s", st->substrate);
   fprintf(out, "\n\n");
   fprintf(out, "Layers (growth order)\n");
-  fprintf(out, "  %-3s %-14s %-14s %6s %10s %9s %9s %9s %9s %7s %7s %7s %8s\n", "#", "name",
+  /* name columns as wide as the longest name (at least 14), so long names keep the grid */
+  int wn = 14, wm = 14;
+  for (size_t k = 0; k < st->n_layers; k++) {
+    int ln = (int)strlen(st->layers[k].name), lm = (int)strlen(st->layers[k].material);
+    if (ln > wn) wn = ln;
+    if (lm > wm) wm = lm;
+  }
+  fprintf(out, "  %-3s %-*s %-*s %6s %10s %9s %9s %9s %9s %7s %7s %7s %8s\n", "#", wn, "name", wm,
           "material", "x", "from_nm", "thick_nm", "Ec_eV", "Ev_hh_eV", "Ev_lh_eV", "me", "mhh",
           "mlh", "strain_%");
   for (size_t k = 0; k < st->n_layers; k++) {
@@ -34,24 +41,25 @@ void ew_output_table(const ew_result *r, FILE *out) {
     char x[16] = "-";
     if (ly->has_x) snprintf(x, sizeof x, "%.3f", ly->x);
     if (ly->grade) snprintf(x, sizeof x, "graded");
-    fprintf(out, "  %-3zu %-14s %-14s %6s %10.3f %9.3f %9.4f %9.4f %9.4f %7.4f %7.4f %7.4f %8.3f\n",
-            k + 1, ly->name, ly->material, x, ly->z_start_nm, ly->thickness_nm, ly->bands.Ec_eV,
+    fprintf(out, "  %-3zu %-*s %-*s %6s %10.3f %9.3f %9.4f %9.4f %9.4f %7.4f %7.4f %7.4f %8.3f\n",
+            k + 1, wn, ly->name, wm, ly->material, x, ly->z_start_nm, ly->thickness_nm, ly->bands.Ec_eV,
             ly->bands.Ev_hh_eV, ly->bands.Ev_lh_eV, ly->bands.me, ly->bands.mhh_z,
             ly->bands.mlh_z, 100.0 * ly->bands.eps_par);
   }
   fprintf(out, "\nBound levels (%zu e, %zu hh, %zu lh; count certified by inertia)\n",
           r->band_count[0], r->band_count[1], r->band_count[2]);
-  fprintf(out, "  %-6s %12s %11s %11s  %-14s %6s\n", "state", "energy_eV", "depth_meV",
-          "error_meV", "mostly in", "prob");
+  fprintf(out, "  %-6s %12s %11s %11s  %-*s %6s\n", "state", "energy_eV", "depth_meV",
+          "error_meV", wn, "mostly in", "prob");
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *s = st_of(r, i);
     char e[24] = "n/a";
     if (s->error_eV >= 0) snprintf(e, sizeof e, "%.2e", s->error_eV * 1e3);
-    fprintf(out, "  %-6s %12.6f %11.3f %11s  %-14s %6.3f%s\n", s->label, s->energy_eV,
-            s->depth_eV * 1e3, e, st->layers[s->layer].name, s->layer_probability,
+    fprintf(out, "  %-6s %12.6f %11.3f %11s  %-*s %6.3f%s\n", s->label, s->energy_eV,
+            s->depth_eV * 1e3, e, wn, st->layers[s->layer].name, s->layer_probability,
             s->flagged ? "  RESIDUAL CHECK FAILED" : "");
   }
-  if (r->n_states == 0) fprintf(out, "  (none: no band has a well deeper than its outer layers)\n");
+  if (r->n_states == 0)
+    fprintf(out, "  (none: no band binds a state below the edges of its outer layers)\n");
   int head = 0;
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
