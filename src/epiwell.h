@@ -81,7 +81,8 @@ void ew_stack_free(ew_stack *stack); /* NULL is a no-op */
 
 /* ---- solving (solve.c) ---------------------------------------------------------------- */
 typedef struct {
-  double grid_step_nm; /* > 0 overrides the stack's grid_step; 0 = stack's or default */
+  double grid_step_nm; /* > 0 overrides the stack's grid_step; 0 = stack's or default;
+                          negative or NaN is refused (EW_ERR_USAGE) */
   int lowest_levels;   /* lines start from the lowest K levels of each band; 0 = all pairs */
   int error_estimate;  /* 1: Richardson estimate from a second grid of step 2h (default) */
   double residual_tol; /* relative residual ||Hψ − EBψ|| / (||H|| ||ψ||) above which a

@@ -332,6 +332,10 @@ ew_status ew_solve_potential(const ew_stack *st, const ew_options *optin, const 
   ew_options opt;
   if (optin) opt = *optin;
   else ew_options_default(&opt);
+  if (isnan(opt.grid_step_nm) || opt.grid_step_nm < 0)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "grid step %g nm: give a positive step, or 0 for the stack's or the default",
+                   opt.grid_step_nm);
   double step = step_of(st, &opt);
   if (!(step > 0) || !isfinite(step))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "grid step must be a positive number of nm");

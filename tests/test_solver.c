@@ -346,6 +346,28 @@ static void states_and_parity(void **state) {
   tu_stack_free(st);
 }
 
+
+/* A NaN or negative grid step through the API is refused (EW_ERR_USAGE), not replaced by
+ * the default; the error names the step (analytic: nothing to compare, a contract). */
+static void bad_grid_step_refused(void **state) {
+  (void)state;
+  tu_layer ly[] = {{20, 0.3, -1, 0.092, 0.4, 0.1}, {7, 0, -1, 0.067, 0.35, 0.09}, {20, 0.3, -1, 0.092, 0.4, 0.1}};
+  ew_stack *st = tu_stack(3, ly);
+  ew_options opt;
+  ew_options_default(&opt);
+  const double bad[] = {NAN, -0.05};
+  for (int k = 0; k < 2; k++) {
+    opt.grid_step_nm = bad[k];
+    ew_result *r = (ew_result *)1;
+    ew_error err;
+    memset(&err, 0, sizeof err);
+    assert_int_equal(ew_solve(st, &opt, &r, &err), EW_ERR_USAGE);
+    assert_null(r);
+    assert_non_null(strstr(err.message, "grid step"));
+  }
+  tu_stack_free(st);
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(infinite_well),
@@ -354,6 +376,7 @@ int main(void) {
       cmocka_unit_test(lapack_single_and_double_wells),
       cmocka_unit_test(trk_sum_rule),
       cmocka_unit_test(states_and_parity),
+      cmocka_unit_test(bad_grid_step_refused),
   };
   return cmocka_run_group_tests_name("solver", tests, NULL, NULL);
 }
