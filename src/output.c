@@ -347,20 +347,45 @@ static void write_waves(const ew_result *r, sink *s) {
   }
 }
 
-ew_status ew_output_check_dir(const char *dir, ew_error *err) {
+/* dir exists and is a writable directory (create = 1: make it first when missing), or, with
+ * create = 0, it is missing but its parent is a writable directory (made when writing). */
+static ew_status dir_ready(const char *dir, int create, ew_error *err) {
   struct stat sb;
   if (stat(dir, &sb) != 0) {
-    if (errno != ENOENT || mkdir(dir, 0777) != 0)
-      return ew_fail(err, EW_ERR_IO, dir, 0, "cannot create output directory: %s",
-                     strerror(errno));
-  } else if (!S_ISDIR(sb.st_mode)) {
-    return ew_fail(err, EW_ERR_IO, dir, 0, "output path exists and is not a directory");
+    if (errno != ENOENT)
+      return ew_fail(err, EW_ERR_IO, dir, 0, "cannot use output directory: %s", strerror(errno));
+    if (create) {
+      if (mkdir(dir, 0777) != 0)
+        return ew_fail(err, EW_ERR_IO, dir, 0, "cannot create output directory: %s",
+                       strerror(errno));
+      return EW_OK;
+    }
+    char parent[1200];
+    snprintf(parent, sizeof parent, "%s", dir);
+    size_t len = strlen(parent);
+    while (len > 1 && parent[len - 1] == '/') parent[--len] = '\0';
+    char *slash = strrchr(parent, '/');
+    if (!slash) snprintf(parent, sizeof parent, ".");
+    else if (slash == parent) parent[1] = '\0';
+    else *slash = '\0';
+    if (stat(parent, &sb) != 0 || !S_ISDIR(sb.st_mode))
+      return ew_fail(err, EW_ERR_IO, dir, 0, "cannot create output directory: %s does not exist",
+                     parent);
+    if (access(parent, W_OK) != 0)
+      return ew_fail(err, EW_ERR_IO, dir, 0, "cannot create output directory: %s is not "
+                     "writable", parent);
+    return EW_OK;
   }
+  if (!S_ISDIR(sb.st_mode))
+    return ew_fail(err, EW_ERR_IO, dir, 0, "output path exists and is not a directory");
   if (access(dir, W_OK) != 0)
     return ew_fail(err, EW_ERR_IO, dir, 0, "output directory is not writable: %s",
                    strerror(errno));
   return EW_OK;
 }
+
+ew_status ew_output_check_dir(const char *dir, ew_error *err) { return dir_ready(dir, 0, err); }
+ew_status ew_output_make_dir(const char *dir, ew_error *err) { return dir_ready(dir, 1, err); }
 
 ew_status ew_output_csv_dir(const ew_result *r, const char *dir, int gzip, ew_error *err) {
   if (gzip < 0) gzip = (double)r->grid->n * (double)(r->n_states + 1) > 2e5;
@@ -374,7 +399,7 @@ ew_status ew_output_csv_dir(const ew_result *r, const char *dir, int gzip, ew_er
                {gzip ? "wavefunctions.csv.gz" : "wavefunctions.csv", write_waves, gzip}};
   enum { NF = 4 };
   char tmp[NF][1200], fin[NF][1200];
-  ew_status rc = ew_output_check_dir(dir, err);
+  ew_status rc = ew_output_make_dir(dir, err);
   if (rc != EW_OK) return rc;
   for (int k = 0; k < NF; k++) { /* a target that is there must be a plain file */
     struct stat sb;

@@ -14,7 +14,10 @@ void ew_output_json(const ew_result *r, FILE *out);
  * temporary name first and all are renamed only when all were written, so an error leaves
  * no partial file and the previous result intact.  Returns EW_OK or EW_ERR_IO. */
 ew_status ew_output_csv_dir(const ew_result *r, const char *dir, int gzip, ew_error *err);
-/* EW_OK when dir exists (or can be created) and is writable: checked before any work. */
+/* EW_OK when dir is a writable directory, or is missing and its parent is writable (checked
+ * before any work; nothing is created, so a failed run leaves no empty directory). */
 ew_status ew_output_check_dir(const char *dir, ew_error *err);
+/* The same, creating dir when it is missing (the writers call it). */
+ew_status ew_output_make_dir(const char *dir, ew_error *err);
 
 #endif

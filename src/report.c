@@ -306,7 +306,7 @@ static ew_status write_page(FILE *f, const ew_result *r, const ew_catalogue *cat
 ew_status ew_report_write(const ew_result *r, const ew_catalogue *cat, const char *dir,
                           ew_error *err) {
   if (!r || !dir) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_report_write: NULL argument");
-  ew_status rc = ew_output_check_dir(dir, err);
+  ew_status rc = ew_output_make_dir(dir, err);
   if (rc != EW_OK) return rc;
   char fin[1200], tmp[1300];
   snprintf(fin, sizeof fin, "%s/report.html", dir);
