@@ -401,5 +401,14 @@ else
 fi
 cd "$root" || exit 1
 
+# a failed run creates no output directory (it is checked first, made only when written)
+rm -rf "$tmp/never_made"
+run "$bin" solve "$root/tests/data/cli/syntax_error.cfg" -o "$tmp/never_made" --report "$tmp/never_made_r"
+if [ "$rc" -eq 2 ] && [ ! -e "$tmp/never_made" ] && [ ! -e "$tmp/never_made_r" ]; then
+  ok "a stack error with -o/--report leaves no output directory behind"
+else
+  nok "a stack error with -o/--report leaves no output directory behind" "exit $rc; $(ls -d "$tmp"/never_made* 2>&1)"
+fi
+
 echo "cli: $pass passed, $fail failed"
 [ "$fail" -eq 0 ]
