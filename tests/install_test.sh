@@ -1,0 +1,46 @@
+#!/bin/sh
+# install_test.sh BINARY — `make install PREFIX=…` into a temporary prefix: every installed
+# piece is there, a program built with `pkg-config --libs epiwell` links and solves, and the
+# installed binary finds the installed catalogue.  Last line: "install: N passed, M failed".
+set -u
+pass=0
+fail=0
+ok() { pass=$((pass + 1)); printf 'ok - %s\n' "$1"; }
+nok() { fail=$((fail + 1)); printf 'not ok - %s\n' "$1"; [ $# -gt 1 ] && printf '#   %s\n' "$2"; }
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT
+prefix="$tmp/prefix"
+if make -s install PREFIX="$prefix" >"$tmp/log" 2>&1; then ok "make install PREFIX=…"; else nok "make install PREFIX=…" "$(tail -3 "$tmp/log")"; fi
+for f in bin/epiwell lib/libepiwell.a include/epiwell.h lib/pkgconfig/epiwell.pc \
+         share/man/man1/epiwell.1 share/epiwell/materials/GaAs.cfg share/epiwell/materials/AlGaAs.cfg; do
+  if [ -s "$prefix/$f" ]; then ok "installed $f"; else nok "installed $f"; fi
+done
+cat >"$tmp/use.c" <<'C'
+#include <epiwell.h>
+#include <stdio.h>
+int main(int argc, char **argv) {
+  ew_catalogue *cat; ew_stack *st; ew_result *r; ew_error err;
+  if (argc < 2 || ew_catalogue_load(NULL, &cat, &err) || ew_stack_read_file(argv[1], cat, &st, &err) ||
+      ew_solve(st, NULL, &r, &err)) return 1;
+  printf("%s %.6f\n", ew_result_state(r, 0)->label, ew_result_state(r, 0)->energy_eV);
+  ew_result_free(r); ew_stack_free(st); ew_catalogue_free(cat);
+  return 0;
+}
+C
+if cc "$tmp/use.c" -o "$tmp/use" $(PKG_CONFIG_PATH="$prefix/lib/pkgconfig" pkg-config --cflags --libs epiwell) 2>"$tmp/cc"; then
+  ok "a program links with pkg-config --libs epiwell"
+else
+  nok "a program links with pkg-config --libs epiwell" "$(head -3 "$tmp/cc")"
+fi
+if [ -x "$tmp/use" ] && EPIWELL_MATERIALS="$prefix/share/epiwell/materials" "$tmp/use" examples/detector_well.cfg | grep -q '^e1 0\.7'; then
+  ok "the linked program solves examples/detector_well.cfg (e1 near 0.77 eV)"
+else
+  nok "the linked program solves examples/detector_well.cfg"
+fi
+if (cd "$tmp" && env -u EPIWELL_MATERIALS "$prefix/bin/epiwell" materials | grep -q "$prefix/bin/../share/epiwell/materials"); then
+  ok "the installed binary finds the installed catalogue from any directory"
+else
+  nok "the installed binary finds the installed catalogue from any directory"
+fi
+echo "install: $pass passed, $fail failed"
+[ "$fail" -eq 0 ]
