@@ -10,7 +10,9 @@ nok() { fail=$((fail + 1)); printf 'not ok - %s\n' "$1"; [ $# -gt 1 ] && printf 
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 prefix="$tmp/prefix"
-if make -s install PREFIX="$prefix" >"$tmp/log" 2>&1; then ok "make install PREFIX=…"; else nok "make install PREFIX=…" "$(tail -3 "$tmp/log")"; fi
+# the plain build, whatever the calling make was asked for (make check SANITIZE=1 passes its
+# variables down through MAKEFLAGS)
+if env -u MAKEFLAGS -u MAKELEVEL make -s install SANITIZE=0 PREFIX="$prefix" >"$tmp/log" 2>&1; then ok "make install PREFIX=…"; else nok "make install PREFIX=…" "$(tail -3 "$tmp/log")"; fi
 for f in bin/epiwell lib/libepiwell.a include/epiwell.h lib/pkgconfig/epiwell.pc \
          share/man/man1/epiwell.1 share/epiwell/materials/GaAs.cfg share/epiwell/materials/AlGaAs.cfg; do
   if [ -s "$prefix/$f" ]; then ok "installed $f"; else nok "installed $f"; fi
