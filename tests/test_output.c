@@ -49,34 +49,12 @@ static int group_setup(void **state) {
   return 0;
 }
 
-/* Remove path and, for a directory, everything under it (restoring write permission). */
-static void rm_tree(const char *path) {
-  struct stat sb;
-  if (lstat(path, &sb) != 0) return;
-  if (S_ISDIR(sb.st_mode)) {
-    chmod(path, 0700);
-    DIR *d = opendir(path);
-    if (d) {
-      struct dirent *e;
-      while ((e = readdir(d)) != NULL) {
-        if (!strcmp(e->d_name, ".") || !strcmp(e->d_name, "..")) continue;
-        char sub[1200];
-        snprintf(sub, sizeof sub, "%s/%s", path, e->d_name);
-        rm_tree(sub);
-      }
-      closedir(d);
-    }
-    rmdir(path);
-  } else {
-    remove(path);
-  }
-}
 
 static int group_teardown(void **state) {
   fixture *fx = *state;
   ew_result_free(fx->res);
   tu_stack_free(fx->st);
-  rm_tree(fx->base);
+  tu_rm_tree(fx->base);
   return 0;
 }
 

@@ -60,32 +60,12 @@ static int group_setup(void **state) {
   return 0;
 }
 
-static void rm_tree(const char *path) {
-  struct stat sb;
-  if (lstat(path, &sb) != 0) return;
-  if (S_ISDIR(sb.st_mode)) {
-    DIR *d = opendir(path);
-    if (d) {
-      struct dirent *e;
-      while ((e = readdir(d)) != NULL) {
-        if (!strcmp(e->d_name, ".") || !strcmp(e->d_name, "..")) continue;
-        char sub[1200];
-        snprintf(sub, sizeof sub, "%s/%s", path, e->d_name);
-        rm_tree(sub);
-      }
-      closedir(d);
-    }
-    rmdir(path);
-  } else {
-    remove(path);
-  }
-}
 
 static int group_teardown(void **state) {
   fixture *fx = *state;
   ew_result_free(fx->res);
   tu_stack_free(fx->st);
-  rm_tree(fx->base);
+  tu_rm_tree(fx->base);
   return 0;
 }
 

@@ -9,6 +9,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <dirent.h>
+#include <sys/stat.h>
+#include <unistd.h>
 
 #include <cmocka.h>
 
@@ -86,6 +89,30 @@ static inline ew_result *tu_solve_text(const ew_catalogue *cat, const char *text
 static inline int tu_load_catalogue(ew_catalogue **cat) {
   ew_error err;
   return ew_catalogue_load("materials", cat, &err) == EW_OK ? 0 : -1;
+}
+
+/* Remove path and, for a directory, everything under it (restoring write permission first,
+ * so read-only test directories go too). */
+static inline void tu_rm_tree(const char *path) {
+  struct stat sb;
+  if (lstat(path, &sb) != 0) return;
+  if (S_ISDIR(sb.st_mode)) {
+    chmod(path, 0700);
+    DIR *d = opendir(path);
+    if (d) {
+      struct dirent *e;
+      while ((e = readdir(d)) != NULL) {
+        if (!strcmp(e->d_name, ".") || !strcmp(e->d_name, "..")) continue;
+        char sub[1200];
+        int len = snprintf(sub, sizeof sub, "%s/%s", path, e->d_name);
+        if (len > 0 && (size_t)len < sizeof sub) tu_rm_tree(sub); /* test paths are short */
+      }
+      closedir(d);
+    }
+    rmdir(path);
+  } else {
+    remove(path);
+  }
 }
 
 #endif
