@@ -105,6 +105,7 @@ typedef struct {
   double layer_probability; /* ∫|ψ|² over that layer */
   double residual;      /* relative residual of the fine-grid eigenpair */
   int flagged;          /* 1 when residual > residual_tol */
+  double inplane_mass;  /* in-plane mass of the subband at k∥ = 0, m0 (README "In-plane mass") */
 } ew_state;
 
 typedef enum { EW_LINE_INTERSUBBAND = 0, EW_LINE_INTERBAND = 1 } ew_line_kind;

@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "constants.h"
 #include "error.h"
 
 #define NP_TOL_EV 1e-11 /* fixed point of each level */
@@ -52,6 +53,60 @@ void ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E,
     }
     M[c] = sum;
   }
+}
+
+#define NP_SLOPE_DE 1e-4
+
+double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, const double *psi,
+                             double *work) {
+  size_t n = g->n;
+  double *M = work, *Mp = M + n + 1, *Mm = Mp + n + 1;
+  ew_nonparabolic_cell_masses(st, g, E, M);
+  ew_nonparabolic_cell_masses(st, g, E + NP_SLOPE_DE, Mp);
+  ew_nonparabolic_cell_masses(st, g, E - NP_SLOPE_DE, Mm);
+  double dl = 0.0;
+  for (size_t c = 0; c <= n; c++) {
+    double J = ((c < n ? psi[c] : 0.0) - (c ? psi[c - 1] : 0.0)) / M[c];
+    dl -= EW_HB2M0_EVNM2 * (Mp[c] - Mm[c]) / (2.0 * NP_SLOPE_DE) * J * J;
+  }
+  return dl;
+}
+
+double ew_subband_inplane_mass(const ew_stack *st, const ew_grid *g, ew_band band,
+                               int nonparabolic, double E, const double *psi) {
+  size_t n = g->n, k0 = 0;
+  double inv = 0.0; /* Σ_c ∫_c m0/m∥ dz · (ψ_{c−1}² + ψ_c²)/2: the box quadrature of B */
+  for (size_t c = 0; c <= n; c++) {
+    double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c], q = 0.0;
+    while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
+    for (size_t k = k0; k < st->n_layers; k++) {
+      const ew_layer *ly = &st->layers[k];
+      double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
+      if (ly->z_start_nm >= b) break;
+      if (hi <= lo) continue;
+      double zm = 0.5 * (lo + hi), m;
+      ew_bands bb;
+      ew_layer_bands_at(ly, (zm - ly->z_start_nm) / ly->thickness_nm, &bb);
+      if (band == EW_BAND_E) {
+        double u = 0.0;
+        if (g->U) u = c == 0 ? g->U[0] : c == n ? g->U[n - 1] : 0.5 * (g->U[c - 1] + g->U[c]);
+        m = nonparabolic ? ew_kane_mass(&bb, E - ew_stack_edge_at(st, EW_BAND_E, zm) - u) : bb.me;
+      } else {
+        m = band == EW_BAND_HH ? bb.mhh_par : bb.mlh_par;
+      }
+      q += (hi - lo) / m;
+    }
+    double pl = c ? psi[c - 1] : 0.0, pr = c < n ? psi[c] : 0.0;
+    inv += q * 0.5 * (pl * pl + pr * pr);
+  }
+  double denom = 1.0;
+  if (band == EW_BAND_E && nonparabolic) {
+    double *work = malloc(3 * (n + 1) * sizeof *work);
+    if (!work) return NAN;
+    denom = 1.0 - ew_nonparabolic_slope(st, g, E, psi, work);
+    free(work);
+  }
+  return denom / inv;
 }
 
 /* The cell ∩ layer pieces of a grid with what the Kane mass needs at each piece's midpoint,

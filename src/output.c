@@ -48,15 +48,15 @@ void ew_output_table(const ew_result *r, FILE *out) {
   }
   fprintf(out, "\nBound levels (%zu e, %zu hh, %zu lh; count certified by inertia)\n",
           r->band_count[0], r->band_count[1], r->band_count[2]);
-  fprintf(out, "  %-6s %12s %11s %11s  %-*s %6s\n", "state", "energy_eV", "depth_meV",
-          "error_meV", wn, "mostly in", "prob");
+  fprintf(out, "  %-6s %12s %11s %11s  %-*s %6s %8s\n", "state", "energy_eV", "depth_meV",
+          "error_meV", wn, "mostly in", "prob", "m_inpl");
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *s = st_of(r, i);
     char e[24] = "n/a";
     if (s->error_eV >= 0) snprintf(e, sizeof e, "%.2e", s->error_eV * 1e3);
-    fprintf(out, "  %-6s %12.6f %11.3f %11s  %-*s %6.3f%s\n", s->label, s->energy_eV,
+    fprintf(out, "  %-6s %12.6f %11.3f %11s  %-*s %6.3f %8.4f%s\n", s->label, s->energy_eV,
             s->depth_eV * 1e3, e, wn, st->layers[s->layer].name, s->layer_probability,
-            s->flagged ? "  RESIDUAL CHECK FAILED" : "");
+            s->inplane_mass, s->flagged ? "  RESIDUAL CHECK FAILED" : "");
   }
   if (r->n_states == 0)
     fprintf(out, "  (none: no band binds a state below the edges of its outer layers)\n");
@@ -206,6 +206,7 @@ void ew_output_json(const ew_result *r, FILE *out) {
     fprintf(out, ",\"layer_probability\":"), jnum(out, s->layer_probability);
     fprintf(out, ",\"residual\":"), jnum(out, s->residual);
     fprintf(out, ",\"flagged\":%s", s->flagged ? "true" : "false");
+    fprintf(out, ",\"inplane_mass_m0\":"), jnum(out, s->inplane_mass);
     fprintf(out, ",\"sheet_density_cm2\":");
     if (r->sp) jnum(out, r->sp->sheet_cm2[i]);
     else fputs("null", out);
@@ -308,14 +309,14 @@ static void write_profile(const ew_result *r, sink *s) {
 }
 
 static void write_levels(const ew_result *r, sink *s) {
-  sk_printf(s, "label,band,n,energy_eV,error_eV,edge_eV,depth_eV,layer,layer_probability,residual,flagged,sheet_density_cm2\n");
+  sk_printf(s, "label,band,n,energy_eV,error_eV,edge_eV,depth_eV,layer,layer_probability,residual,flagged,sheet_density_cm2,inplane_mass_m0\n");
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *q = st_of(r, i);
     sk_printf(s, "%s,%s,%d,%.10f,%.3e,%.8f,%.10f,%s,%.6f,%.3e,%d,", q->label,
               ew_band_name(q->band), q->n, q->energy_eV, q->error_eV, q->edge_eV, q->depth_eV,
               r->stack->layers[q->layer].name, q->layer_probability, q->residual, q->flagged);
-    if (r->sp) sk_printf(s, "%.6e\n", r->sp->sheet_cm2[i]);
-    else sk_printf(s, "\n");
+    if (r->sp) sk_printf(s, "%.6e", r->sp->sheet_cm2[i]);
+    sk_printf(s, ",%.6f\n", q->inplane_mass);
   }
 }
 

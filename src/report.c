@@ -160,8 +160,8 @@ static void levels_table(FILE *f, const ew_result *r) {
     return;
   }
   fputs("<table>\n<tr><th>state</th><th>energy (eV)</th><th>depth (meV)</th>"
-        "<th>error (meV)</th><th>mostly in</th><th>probability there</th><th>residual</th>"
-        "<th>check</th></tr>\n",
+        "<th>error (meV)</th><th>mostly in</th><th>probability there</th>"
+        "<th>in-plane mass (m<sub>0</sub>)</th><th>residual</th><th>check</th></tr>\n",
         f);
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *s = &r->states[i];
@@ -174,6 +174,7 @@ static void levels_table(FILE *f, const ew_result *r) {
     h(f, st->layers[s->layer].name);
     fputs("</td>", f);
     num(f, "%.3f", s->layer_probability);
+    num(f, "%.4f", s->inplane_mass);
     num(f, "%.2e", s->residual);
     fprintf(f, "<td>%s</td></tr>\n", s->flagged ? "<b>FAILED</b>" : "ok");
   }

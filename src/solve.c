@@ -451,6 +451,13 @@ ew_status ew_solve_potential(const ew_stack *st, const ew_options *optin, const 
       q->layer = best;
       q->layer_probability = prob[best];
       free(prob);
+      q->inplane_mass = ew_subband_inplane_mass(st, r->grid, (ew_band)b, r->nonparabolic,
+                                                sign * fine[b].values[j], psi);
+      if (isnan(q->inplane_mass)) {
+        ew_pencil_free(p);
+        rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+        goto fail;
+      }
       q->edge_eV = ew_layer_edge(&st->layers[best], (ew_band)b);
       q->depth_eV = fabs(q->energy_eV - q->edge_eV);
     }

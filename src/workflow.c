@@ -1587,10 +1587,9 @@ static int hf_applies(const ew_stack *st) {
 }
 
 /* Energy-dependent (Kane) electron mass: the level solves E = λ(H(E)), so
- *   dE/dp = (∂λ/∂p at fixed E) / (1 − ∂λ/∂E),  ∂λ/∂E = ⟨ψ|∂H/∂E|ψ⟩ = −K Σ_c (∂M_c/∂E) J_c²
- * (implicit differentiation of the fixed point; the masses at fixed E enter every formula
- * above).  ∂M_c/∂E by a central difference of ew_nonparabolic_cell_masses (δE = 1e-4 eV: the
- * Kane mass varies on the scale of the gap, so the O(δE²) error is ~1e-8 relative). */
+ *   dE/dp = (∂λ/∂p at fixed E) / (1 − ∂λ/∂E)
+ * (implicit differentiation of the fixed point, ∂λ/∂E from ew_nonparabolic_slope; the masses
+ * at fixed E enter every formula above). */
 typedef struct {
   ew_band b;
   double sign, E;  /* E on the positive-mass scale (holes: −E) */
@@ -1599,8 +1598,6 @@ typedef struct {
   double *own;     /* storage of M when energy-dependent */
   double denom;    /* 1 − ∂λ/∂E (1 when parabolic) */
 } hf_state;
-
-#define WF_NP_DE 1e-4
 
 static int hf_begin(const ew_result *r, size_t s, hf_state *h) {
   const ew_grid *g = r->grid;
@@ -1618,17 +1615,8 @@ static int hf_begin(const ew_result *r, size_t s, hf_state *h) {
   if (!h->np) return 1;
   h->own = malloc(3 * (n + 1) * sizeof *h->own);
   if (!h->own) return 0;
-  double *M = h->own, *Mp = M + n + 1, *Mm = Mp + n + 1;
-  ew_nonparabolic_cell_masses(r->stack, g, h->E, M);
-  ew_nonparabolic_cell_masses(r->stack, g, h->E + WF_NP_DE, Mp);
-  ew_nonparabolic_cell_masses(r->stack, g, h->E - WF_NP_DE, Mm);
-  double dl = 0.0;
-  for (size_t c = 0; c <= n; c++) {
-    double J = ((c < n ? h->psi[c] : 0.0) - (c ? h->psi[c - 1] : 0.0)) / M[c];
-    dl -= K_EVNM2 * (Mp[c] - Mm[c]) / (2.0 * WF_NP_DE) * J * J;
-  }
-  h->M = M;
-  h->denom = 1.0 - dl;
+  h->denom = 1.0 - ew_nonparabolic_slope(r->stack, g, h->E, h->psi, h->own);
+  h->M = h->own; /* the cell masses at E */
   return 1;
 }
 

@@ -98,6 +98,8 @@ static const char *fuzz_check_one(const uint8_t *data, size_t size, const ew_cat
       bad = "state located in a layer that does not exist";
     else if (!(s->layer_probability >= 0 && s->layer_probability <= 1 + 1e-9))
       bad = "layer probability outside [0, 1]";
+    else if (!(s->inplane_mass > 0 && isfinite(s->inplane_mass)))
+      bad = "in-plane mass not finite and positive";
     for (size_t k = 0; !bad && k < nodes; k++)
       if (!isfinite(psi[k])) bad = "non-finite wavefunction value";
   }
