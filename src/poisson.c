@@ -18,8 +18,9 @@
  * Free carriers.
  *  - Subbands (2D): n_i = (m∥ kT / (π ħ²)) ln(1 + exp((E_F − E_i)/kT)) distributed as |ψ_i|²
  *    (T. Ando, A. B. Fowler, F. Stern, Rev. Mod. Phys. 54, 437 (1982), the 2D density of
- *    states m∥/(πħ²) with spin); holes likewise with E_i − E_F.  m∥: electrons the layer's
- *    me where the state is most probable; heavy / light holes mhh_par / mlh_par there.
+ *    states m∥/(πħ²) with spin); holes likewise with E_i − E_F.  m∥: the subband's in-plane
+ *    mass at k∥ = 0 (ew_state.inplane_mass: Kane electrons get heavier with confinement and
+ *    barrier penetration; holes the layers' Luttinger in-plane masses weighted by |ψ|²).
  *  - Continuum (3D, Thomas–Fermi): n = N_c ℱ_{1/2}((E_F − max(Ec + U, W_e)) / kT),
  *    N_c = 2 (m kT / (2π ħ²))^{3/2}, with W_e the top of the electrons' bound window: the
  *    continuum is the states above the confined ones, and in a thick doped contact (where
@@ -621,7 +622,8 @@ static ew_status snap_of(const ew_result *r, const model *m, const double *Us, s
     qstate *o = &s->s[j];
     o->hole = q->band != EW_BAND_E;
     o->E = q->energy_eV;
-    double mp = q->band == EW_BAND_E ? bb->me : q->band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
+    double mp = q->inplane_mass; /* the subband's own curvature (solve.c) */
+    if (!(mp > 0)) mp = q->band == EW_BAND_E ? bb->me : q->band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
     if (!(mp > 0)) mp = q->band == EW_BAND_HH ? bb->mhh_z : bb->mlh_z;
     o->D = d2_of(mp, m->kT);
     o->psi = r->psi + j * r->grid->n;
