@@ -183,6 +183,15 @@ static void detector_neutrality_and_depolarisation(void **state) {
   for (size_t i = 0; i < ew_result_state_count(r); i++)
     if (ew_result_state(r, i)->band == EW_BAND_E) ns += ew_result_state_sheet_density_cm2(r, i);
   TU_NEAR(ns / fixed, 1.0, 0.05, "subbands vs continuum: continuum < 5 % (estimate n ~ N_c e^-4.7)");
+  /* e1 (deep, no hand-over to the continuum) holds n_1 = (m∥ kT/πħ²) ln(1 + e^{(E_F − E_1)/kT})
+     with its own in-plane mass (Ando, Fowler & Stern 1982); 1e-9 relative (same formula) */
+  const ew_state *e1 = ew_result_state(r, 0);
+  assert_int_equal(e1->band, EW_BAND_E);
+  double kT = EW_KB_EVK * 300.0, EF = ew_result_fermi_energy_eV(r);
+  double n1 = e1->inplane_mass * kT / (2.0 * M_PI * EW_HB2M0_EVNM2) *
+              log1p(exp((EF - e1->energy_eV) / kT)) * 1e14;
+  TU_NEAR(ew_result_state_sheet_density_cm2(r, 0), n1, 1e-9 * n1, "2D density, subband mass");
+  assert_true(e1->inplane_mass > st->layers[1].bands.me * 1.03); /* Kane: heavier than GaAs' */
   /* West & Eglash 1985: measured peak 152 meV (from memory).  The bare e1→e2 line lies
      below it; the depolarisation shift of the 2.6e12 cm^-2 in e1 moves it up by tens of meV
      (Helm 2000: about 10–20 meV at a few 1e12 cm^-2, from memory) to within 8 meV of the
