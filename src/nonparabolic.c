@@ -55,60 +55,6 @@ void ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E,
   }
 }
 
-#define NP_SLOPE_DE 1e-4
-
-double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, const double *psi,
-                             double *work) {
-  size_t n = g->n;
-  double *M = work, *Mp = M + n + 1, *Mm = Mp + n + 1;
-  ew_nonparabolic_cell_masses(st, g, E, M);
-  ew_nonparabolic_cell_masses(st, g, E + NP_SLOPE_DE, Mp);
-  ew_nonparabolic_cell_masses(st, g, E - NP_SLOPE_DE, Mm);
-  double dl = 0.0;
-  for (size_t c = 0; c <= n; c++) {
-    double J = ((c < n ? psi[c] : 0.0) - (c ? psi[c - 1] : 0.0)) / M[c];
-    dl -= EW_HB2M0_EVNM2 * (Mp[c] - Mm[c]) / (2.0 * NP_SLOPE_DE) * J * J;
-  }
-  return dl;
-}
-
-double ew_subband_inplane_mass(const ew_stack *st, const ew_grid *g, ew_band band,
-                               int nonparabolic, double E, const double *psi) {
-  size_t n = g->n, k0 = 0;
-  double inv = 0.0; /* Σ_c ∫_c m0/m∥ dz · (ψ_{c−1}² + ψ_c²)/2: the box quadrature of B */
-  for (size_t c = 0; c <= n; c++) {
-    double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c], q = 0.0;
-    while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
-    for (size_t k = k0; k < st->n_layers; k++) {
-      const ew_layer *ly = &st->layers[k];
-      double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
-      if (ly->z_start_nm >= b) break;
-      if (hi <= lo) continue;
-      double zm = 0.5 * (lo + hi), m;
-      ew_bands bb;
-      ew_layer_bands_at(ly, (zm - ly->z_start_nm) / ly->thickness_nm, &bb);
-      if (band == EW_BAND_E) {
-        double u = 0.0;
-        if (g->U) u = c == 0 ? g->U[0] : c == n ? g->U[n - 1] : 0.5 * (g->U[c - 1] + g->U[c]);
-        m = nonparabolic ? ew_kane_mass(&bb, E - ew_stack_edge_at(st, EW_BAND_E, zm) - u) : bb.me;
-      } else {
-        m = band == EW_BAND_HH ? bb.mhh_par : bb.mlh_par;
-      }
-      q += (hi - lo) / m;
-    }
-    double pl = c ? psi[c - 1] : 0.0, pr = c < n ? psi[c] : 0.0;
-    inv += q * 0.5 * (pl * pl + pr * pr);
-  }
-  double denom = 1.0;
-  if (band == EW_BAND_E && nonparabolic) {
-    double *work = malloc(3 * (n + 1) * sizeof *work);
-    if (!work) return NAN;
-    denom = 1.0 - ew_nonparabolic_slope(st, g, E, psi, work);
-    free(work);
-  }
-  return denom / inv;
-}
-
 /* The cell ∩ layer pieces of a grid with what the Kane mass needs at each piece's midpoint,
  * built once per grid: a fixed-point iteration then re-evaluates only the masses (the same
  * numbers as ew_nonparabolic_cell_masses, without the layer search for every cell). */
@@ -188,6 +134,107 @@ static void ctx_masses(const np_ctx *c, double E, double *M) {
     }
     M[c->cell[k]] += c->len[k] * m;
   }
+}
+
+/* Cell masses M_c = ∫_c m dz, their energy derivatives dM_c = ∂M_c/∂E and Q_c = ∫_c m0/m dz
+ * at energy E.  From the Kane form, ∂m/∂ε = m² (E_P/3) [2/(E_g + ε)² + 1/(E_g + Δ + ε)²]
+ * (zero where ε is held at −E_g/2 and where the mass falls back to the band edge's). */
+static void ctx_masses_d(const np_ctx *c, double E, double *M, double *dM, double *Q) {
+  size_t nc = c->g->n + 1;
+  memset(M, 0, nc * sizeof *M);
+  memset(dM, 0, nc * sizeof *dM);
+  memset(Q, 0, nc * sizeof *Q);
+  for (size_t k = 0; k < c->n; k++) {
+    double m = c->me[k], dm = 0.0;
+    if (c->np[k]) {
+      double Eg = c->Eg[k], D = c->D[k], eps = E - c->ec[k], e = fmax(eps, -0.5 * Eg);
+      double inv = 1.0 / m + c->Ep[k] / 3.0 * (2.0 / (Eg + e) + 1.0 / (Eg + D + e) - 2.0 / Eg -
+                                               1.0 / (Eg + D));
+      if (inv > 0) {
+        m = 1.0 / inv;
+        if (eps > -0.5 * Eg)
+          dm = m * m * c->Ep[k] / 3.0 * (2.0 / ((Eg + e) * (Eg + e)) + 1.0 / ((Eg + D + e) * (Eg + D + e)));
+      }
+    }
+    size_t cc = c->cell[k];
+    M[cc] += c->len[k] * m;
+    dM[cc] += c->len[k] * dm;
+    Q[cc] += c->len[k] / m;
+  }
+}
+
+/* −K Σ_c dM_c J_c², J_c = (ψ_c − ψ_{c−1})/M_c */
+static double slope_of(size_t n, const double *M, const double *dM, const double *psi) {
+  double dl = 0.0;
+  for (size_t c = 0; c <= n; c++) {
+    double J = ((c < n ? psi[c] : 0.0) - (c ? psi[c - 1] : 0.0)) / M[c];
+    dl -= EW_HB2M0_EVNM2 * dM[c] * J * J;
+  }
+  return dl;
+}
+
+/* Σ_c Q_c (ψ_{c−1}² + ψ_c²)/2: ⟨ψ|m0/m|ψ⟩ in the box quadrature of B */
+static double inverse_mass_of(size_t n, const double *Q, const double *psi) {
+  double inv = 0.0;
+  for (size_t c = 0; c <= n; c++) {
+    double pl = c ? psi[c - 1] : 0.0, pr = c < n ? psi[c] : 0.0;
+    inv += Q[c] * 0.5 * (pl * pl + pr * pr);
+  }
+  return inv;
+}
+
+double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, const double *psi,
+                             double *work) {
+  size_t nc = g->n + 1;
+  np_ctx c;
+  if (!ctx_build(&c, st, g)) return NAN;
+  ctx_masses_d(&c, E, work, work + nc, work + 2 * nc);
+  ctx_free(&c);
+  return slope_of(g->n, work, work + nc, psi);
+}
+
+int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int nonparabolic,
+                      size_t count, const double *E, const double *psi, double *out) {
+  size_t n = g->n, nc = n + 1;
+  if (!count) return 1;
+  double *w = malloc(3 * nc * sizeof *w);
+  if (!w) return 0;
+  double *M = w, *dM = w + nc, *Q = w + 2 * nc;
+  if (band == EW_BAND_E && nonparabolic) {
+    np_ctx c;
+    if (!ctx_build(&c, st, g)) {
+      free(w);
+      return 0;
+    }
+    for (size_t j = 0; j < count; j++) {
+      const double *v = psi + j * n;
+      ctx_masses_d(&c, E[j], M, dM, Q);
+      out[j] = (1.0 - slope_of(n, M, dM, v)) / inverse_mass_of(n, Q, v);
+    }
+    ctx_free(&c);
+    free(w);
+    return 1;
+  }
+  /* parabolic: Q_c once for the band (m_e, or the holes' Luttinger in-plane masses) */
+  size_t k0 = 0;
+  for (size_t cc = 0; cc <= n; cc++) {
+    double a = cc == 0 ? 0.0 : g->z[cc - 1], b = cc == n ? g->length_nm : g->z[cc];
+    Q[cc] = 0.0;
+    while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
+    for (size_t k = k0; k < st->n_layers; k++) {
+      const ew_layer *ly = &st->layers[k];
+      if (ly->z_start_nm >= b) break;
+      double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
+      if (hi <= lo) continue;
+      ew_bands bb;
+      ew_layer_bands_at(ly, (0.5 * (lo + hi) - ly->z_start_nm) / ly->thickness_nm, &bb);
+      double m = band == EW_BAND_E ? bb.me : band == EW_BAND_HH ? bb.mhh_par : bb.mlh_par;
+      Q[cc] += (hi - lo) / m;
+    }
+  }
+  for (size_t j = 0; j < count; j++) out[j] = 1.0 / inverse_mass_of(n, Q, psi + j * n);
+  free(w);
+  return 1;
 }
 
 static ew_pencil *pencil_at(const np_ctx *c, double E, double *M) {

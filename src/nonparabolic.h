@@ -27,22 +27,22 @@ void ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E,
 
 /* ∂λ/∂E = ⟨ψ|∂H/∂E|ψ⟩ = −K Σ_c (∂M_c/∂E) J_c², J_c = (ψ_c − ψ_{c−1})/M_c, of a Kane electron
  * state psi (B-normalised, level E) on grid g: the slope of the fixed point E = λ(H(E)), so
- * that derivatives of E carry the factor 1/(1 − ∂λ/∂E).  ∂M_c/∂E by a central difference
- * (δE = 1e-4 eV: the Kane mass varies on the scale of the gap, O(δE²) ~ 1e-8 relative).
- * work: [3(n+1)]; on return work[0..n] holds the cell masses M_c at E. */
+ * that derivatives of E carry the factor 1/(1 − ∂λ/∂E); ∂M_c/∂E from the analytic derivative
+ * of the Kane mass.  work: [3(n+1)]; on return work[0..n] holds the cell masses M_c at E.
+ * NaN when out of memory. */
 double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, const double *psi,
                              double *work);
 
-/* In-plane mass (m0) of a subband at k∥ = 0: E(k∥) = E + K k∥² m0/m∥ with
+/* In-plane masses (m0) of count subbands of one band at k∥ = 0: E(k∥) = E + K k∥² m0/m∥ with
  *   m0/m∥ = ⟨ψ| m0/m∥(z, E) |ψ⟩ / (1 − ∂λ/∂E)
  * (first order in k∥²; U. Ekenberg, Phys. Rev. B 40, 7714 (1989)): electrons use the Kane
  * mass at the level's kinetic energy in every layer when nonparabolic (else me), so the
  * mass grows with confinement and penetration into the barriers; heavy and light holes the
  * Luttinger in-plane masses m0/(γ1 ± γ2) of each layer (no valence mixing: a k∥ = 0
- * curvature only).  E on the electron energy scale; psi B-normalised on g.  Returns NaN when
- * out of memory. */
-double ew_subband_inplane_mass(const ew_stack *st, const ew_grid *g, ew_band band,
-                               int nonparabolic, double E, const double *psi);
+ * curvature only).  E[count] on the electron energy scale; psi: count B-normalised vectors of
+ * g->n values, one after another.  out[count].  Returns 0 when out of memory. */
+int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int nonparabolic,
+                      size_t count, const double *E, const double *psi, double *out);
 
 /* Electron levels on grid g (vectors) and, if coarse != NULL, the same levels' values on the
  * coarse grid, with the Kane mass; window (lo, top) as for the parabolic solve.

@@ -238,6 +238,18 @@ static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band,
   return EW_OK;
 }
 
+/* in-plane masses of the count states of band b from state first on (see nonparabolic.h) */
+static int inplane_masses(ew_result *r, ew_band b, size_t first, size_t count) {
+  double *E = malloc((count ? count : 1) * 2 * sizeof *E), *m = E + (count ? count : 1);
+  if (!E) return 0;
+  for (size_t j = 0; j < count; j++) E[j] = r->states[first + j].energy_eV;
+  int ok = ew_inplane_masses(r->stack, r->grid, b, r->nonparabolic, count, E,
+                             r->psi + first * r->grid->n, m);
+  for (size_t j = 0; ok && j < count; j++) r->states[first + j].inplane_mass = m[j];
+  free(E);
+  return ok;
+}
+
 static ew_status add_lines(ew_result *r, ew_error *err) {
   const ew_grid *g = r->grid;
   size_t cap = 0, first[EW_BAND_COUNT], cnt[EW_BAND_COUNT], s0 = 0;
@@ -451,18 +463,15 @@ ew_status ew_solve_potential(const ew_stack *st, const ew_options *optin, const 
       q->layer = best;
       q->layer_probability = prob[best];
       free(prob);
-      q->inplane_mass = ew_subband_inplane_mass(st, r->grid, (ew_band)b, r->nonparabolic,
-                                                sign * fine[b].values[j], psi);
-      if (isnan(q->inplane_mass)) {
-        ew_pencil_free(p);
-        rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
-        goto fail;
-      }
       q->edge_eV = ew_layer_edge(&st->layers[best], (ew_band)b);
       q->depth_eV = fabs(q->energy_eV - q->edge_eV);
     }
     ew_pencil_free(p);
     r->band_count[b] = kept;
+    if (!inplane_masses(r, (ew_band)b, s - kept, kept)) {
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+      goto fail;
+    }
     if (r->dropped[b] &&
         !add_warning(r, "%zu %s state(s) of the field-tilted continuum (box states against the "
                      "outer walls) were dropped; the listed states are the quasi-bound ones",

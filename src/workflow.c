@@ -1615,7 +1615,13 @@ static int hf_begin(const ew_result *r, size_t s, hf_state *h) {
   if (!h->np) return 1;
   h->own = malloc(3 * (n + 1) * sizeof *h->own);
   if (!h->own) return 0;
-  h->denom = 1.0 - ew_nonparabolic_slope(r->stack, g, h->E, h->psi, h->own);
+  double dl = ew_nonparabolic_slope(r->stack, g, h->E, h->psi, h->own);
+  if (isnan(dl)) {
+    free(h->own);
+    h->own = NULL;
+    return 0;
+  }
+  h->denom = 1.0 - dl;
   h->M = h->own; /* the cell masses at E */
   return 1;
 }
