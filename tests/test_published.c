@@ -133,7 +133,7 @@ static void strained_ingaas_980nm(void **state) {
  *   two published values (0.42 … 0.55 eV).
  * - Intersubband line: B. F. Levine, A. Y. Cho, J. Walker, R. J. Malik, D. A. Kleinman,
  *   D. L. Sivco, Appl. Phys. Lett. 52, 1481 (1988): e1→e2 absorption at λ = 4.4 µm in 5.0 nm
- *   In0.53Ga0.47As wells at room temperature (well width from memory).  The bare line lacks
+ *   In0.53Ga0.47As wells at room temperature (citation, line and well width all from memory).  The bare line lacks
  *   the depolarization shift of the doped wells, which moves the measured line to shorter
  *   wavelength, so the check is one-sided: 4.4 µm ≤ λ ≤ 4.4 µm × 1.15 (15 %: the shift, a
  *   monolayer of width and the 0.08 eV spread of the published ΔEc). */
