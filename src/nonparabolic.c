@@ -21,54 +21,42 @@ int ew_nonparabolic_applies(const ew_stack *st) {
   return 0;
 }
 
+/* The Kane mass at kinetic energy eps and, when dm != NULL, ∂m/∂ε =
+ * m² (E_P/3) [2/(E_g + ε)² + 1/(E_g + Δ + ε)²].  Deep in a barrier ε → −E_g would send the
+ * denominators to zero: the two-band picture is meaningless there anyway, so the kinetic
+ * energy is held above −E_g/2 (derivative 0 there), and a mass that would turn negative
+ * falls back to the band edge's. */
+static double kane_m(double me, double Ep, double Eg, double D, double eps, double *dm) {
+  double e = fmax(eps, -0.5 * Eg);
+  double inv = 1.0 / me + Ep / 3.0 * (2.0 / (Eg + e) + 1.0 / (Eg + D + e) - 2.0 / Eg - 1.0 / (Eg + D));
+  double m = inv > 0 ? 1.0 / inv : me;
+  if (dm)
+    *dm = inv > 0 && eps > -0.5 * Eg
+              ? m * m * Ep / 3.0 * (2.0 / ((Eg + e) * (Eg + e)) + 1.0 / ((Eg + D + e) * (Eg + D + e)))
+              : 0.0;
+  return m;
+}
+
 double ew_kane_mass(const ew_bands *b, double eps) {
   if (!layer_np(b)) return b->me;
-  double Eg = b->Eg_G_eV, D = b->Dso_eV > 0 ? b->Dso_eV : 0.0;
-  /* deep in a barrier ε → −E_g would send the denominators to zero: the two-band picture
-     is meaningless there anyway, so the kinetic energy is held above −E_g/2 */
-  double e = fmax(eps, -0.5 * Eg);
-  double inv = 1.0 / b->me +
-               b->Ep_eV / 3.0 * (2.0 / (Eg + e) + 1.0 / (Eg + D + e) - 2.0 / Eg - 1.0 / (Eg + D));
-  return inv > 0 ? 1.0 / inv : b->me;
+  return kane_m(b->me, b->Ep_eV, b->Eg_G_eV, b->Dso_eV > 0 ? b->Dso_eV : 0.0, eps, NULL);
 }
 
-/* ∫_cell m(E − Ec(z)) dz for every cell, midpoint rule on each cell ∩ layer piece (cells are
- * a few hundredths of a nm: second order like the rest of the scheme). */
-void ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E, double *M) {
-  size_t n = g->n, k0 = 0;
-  for (size_t c = 0; c <= n; c++) {
-    double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c], sum = 0.0;
-    while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
-    for (size_t k = k0; k < st->n_layers; k++) {
-      const ew_layer *ly = &st->layers[k];
-      double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
-      if (ly->z_start_nm >= b) break;
-      if (hi <= lo) continue;
-      double zm = 0.5 * (lo + hi);
-      ew_bands bb;
-      ew_layer_bands_at(ly, (zm - ly->z_start_nm) / ly->thickness_nm, &bb);
-      double u = 0.0; /* self-consistent potential: mean of the cell's end nodes */
-      if (g->U) u = c == 0 ? g->U[0] : c == n ? g->U[n - 1] : 0.5 * (g->U[c - 1] + g->U[c]);
-      sum += (hi - lo) * ew_kane_mass(&bb, E - ew_stack_edge_at(st, EW_BAND_E, zm) - u);
-    }
-    M[c] = sum;
-  }
-}
-
-/* The cell ∩ layer pieces of a grid with what the Kane mass needs at each piece's midpoint,
- * built once per grid: a fixed-point iteration then re-evaluates only the masses (the same
- * numbers as ew_nonparabolic_cell_masses, without the layer search for every cell). */
+/* The cell ∩ layer pieces of a grid with what the masses need at each piece's midpoint (cells
+ * are a few hundredths of a nm: the midpoint rule is second order like the rest of the
+ * scheme), built once per grid: a fixed-point iteration then re-evaluates only the masses. */
 typedef struct {
   const ew_grid *g;
   size_t n, cap;
   size_t *cell;
   double *len, *me, *Ep, *Eg, *D, *ec; /* ec: conduction edge at the midpoint (field, U) */
+  double *mhp, *mlp;                   /* hole in-plane masses */
   int *np;
 } np_ctx;
 
 static void ctx_free(np_ctx *c) {
   free(c->cell), free(c->len), free(c->me), free(c->Ep), free(c->Eg), free(c->D), free(c->ec);
-  free(c->np);
+  free(c->mhp), free(c->mlp), free(c->np);
   memset(c, 0, sizeof *c);
 }
 
@@ -77,9 +65,9 @@ static int ctx_push(np_ctx *c, size_t cell, double len, const ew_bands *b, doubl
     size_t nc = c->cap ? 2 * c->cap : 1024;
     size_t *ce = realloc(c->cell, nc * sizeof *ce);
     if (ce) c->cell = ce;
-    double **arr[] = {&c->len, &c->me, &c->Ep, &c->Eg, &c->D, &c->ec};
+    double **arr[] = {&c->len, &c->me, &c->Ep, &c->Eg, &c->D, &c->ec, &c->mhp, &c->mlp};
     int ok = ce != NULL;
-    for (int k = 0; k < 6 && ok; k++) {
+    for (int k = 0; k < 8 && ok; k++) {
       double *q = realloc(*arr[k], nc * sizeof **arr[k]);
       if (q) *arr[k] = q;
       else ok = 0;
@@ -92,6 +80,7 @@ static int ctx_push(np_ctx *c, size_t cell, double len, const ew_bands *b, doubl
   size_t k = c->n++;
   c->cell[k] = cell, c->len[k] = len, c->me[k] = b->me, c->Ep[k] = b->Ep_eV;
   c->Eg[k] = b->Eg_G_eV, c->D[k] = b->Dso_eV > 0 ? b->Dso_eV : 0.0, c->ec[k] = ec;
+  c->mhp[k] = b->mhh_par, c->mlp[k] = b->mlh_par;
   c->np[k] = layer_np(b);
   return 1;
 }
@@ -121,45 +110,20 @@ static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
   return 1;
 }
 
-/* the Kane mass of ew_kane_mass from the cached numbers */
-static void ctx_masses(const np_ctx *c, double E, double *M) {
-  memset(M, 0, (c->g->n + 1) * sizeof *M);
-  for (size_t k = 0; k < c->n; k++) {
-    double m = c->me[k];
-    if (c->np[k]) {
-      double Eg = c->Eg[k], D = c->D[k], e = fmax(E - c->ec[k], -0.5 * Eg);
-      double inv = 1.0 / m + c->Ep[k] / 3.0 * (2.0 / (Eg + e) + 1.0 / (Eg + D + e) - 2.0 / Eg -
-                                               1.0 / (Eg + D));
-      if (inv > 0) m = 1.0 / inv;
-    }
-    M[c->cell[k]] += c->len[k] * m;
-  }
-}
-
-/* Cell masses M_c = ∫_c m dz, their energy derivatives dM_c = ∂M_c/∂E and Q_c = ∫_c m0/m dz
- * at energy E.  From the Kane form, ∂m/∂ε = m² (E_P/3) [2/(E_g + ε)² + 1/(E_g + Δ + ε)²]
- * (zero where ε is held at −E_g/2 and where the mass falls back to the band edge's). */
-static void ctx_masses_d(const np_ctx *c, double E, double *M, double *dM, double *Q) {
+/* At energy E: cell masses M_c = ∫_c m dz and, when not NULL, dM_c = ∂M_c/∂E and
+ * Q_c = ∫_c m0/m dz (electrons; the Kane mass where the piece has one). */
+static void ctx_eval(const np_ctx *c, double E, double *M, double *dM, double *Q) {
   size_t nc = c->g->n + 1;
   memset(M, 0, nc * sizeof *M);
-  memset(dM, 0, nc * sizeof *dM);
-  memset(Q, 0, nc * sizeof *Q);
+  if (dM) memset(dM, 0, nc * sizeof *dM);
+  if (Q) memset(Q, 0, nc * sizeof *Q);
   for (size_t k = 0; k < c->n; k++) {
     double m = c->me[k], dm = 0.0;
-    if (c->np[k]) {
-      double Eg = c->Eg[k], D = c->D[k], eps = E - c->ec[k], e = fmax(eps, -0.5 * Eg);
-      double inv = 1.0 / m + c->Ep[k] / 3.0 * (2.0 / (Eg + e) + 1.0 / (Eg + D + e) - 2.0 / Eg -
-                                               1.0 / (Eg + D));
-      if (inv > 0) {
-        m = 1.0 / inv;
-        if (eps > -0.5 * Eg)
-          dm = m * m * c->Ep[k] / 3.0 * (2.0 / ((Eg + e) * (Eg + e)) + 1.0 / ((Eg + D + e) * (Eg + D + e)));
-      }
-    }
+    if (c->np[k]) m = kane_m(m, c->Ep[k], c->Eg[k], c->D[k], E - c->ec[k], dM ? &dm : NULL);
     size_t cc = c->cell[k];
     M[cc] += c->len[k] * m;
-    dM[cc] += c->len[k] * dm;
-    Q[cc] += c->len[k] / m;
+    if (dM) dM[cc] += c->len[k] * dm;
+    if (Q) Q[cc] += c->len[k] / m;
   }
 }
 
@@ -183,12 +147,20 @@ static double inverse_mass_of(size_t n, const double *Q, const double *psi) {
   return inv;
 }
 
+int ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E, double *M) {
+  np_ctx c;
+  if (!ctx_build(&c, st, g)) return 0;
+  ctx_eval(&c, E, M, NULL, NULL);
+  ctx_free(&c);
+  return 1;
+}
+
 double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, const double *psi,
                              double *work) {
   size_t nc = g->n + 1;
   np_ctx c;
   if (!ctx_build(&c, st, g)) return NAN;
-  ctx_masses_d(&c, E, work, work + nc, work + 2 * nc);
+  ctx_eval(&c, E, work, work + nc, work + 2 * nc);
   ctx_free(&c);
   return slope_of(g->n, work, work + nc, psi);
 }
@@ -198,47 +170,31 @@ int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int no
   size_t n = g->n, nc = n + 1;
   if (!count) return 1;
   double *w = malloc(3 * nc * sizeof *w);
-  if (!w) return 0;
+  np_ctx c;
+  if (!w || !ctx_build(&c, st, g)) {
+    free(w);
+    return 0;
+  }
   double *M = w, *dM = w + nc, *Q = w + 2 * nc;
   if (band == EW_BAND_E && nonparabolic) {
-    np_ctx c;
-    if (!ctx_build(&c, st, g)) {
-      free(w);
-      return 0;
-    }
     for (size_t j = 0; j < count; j++) {
       const double *v = psi + j * n;
-      ctx_masses_d(&c, E[j], M, dM, Q);
+      ctx_eval(&c, E[j], M, dM, Q);
       out[j] = (1.0 - slope_of(n, M, dM, v)) / inverse_mass_of(n, Q, v);
     }
-    ctx_free(&c);
-    free(w);
-    return 1;
+  } else { /* parabolic: Q_c once for the band (m_e, or the holes' Luttinger in-plane masses) */
+    memset(Q, 0, nc * sizeof *Q);
+    for (size_t k = 0; k < c.n; k++)
+      Q[c.cell[k]] += c.len[k] / (band == EW_BAND_E ? c.me[k] : band == EW_BAND_HH ? c.mhp[k] : c.mlp[k]);
+    for (size_t j = 0; j < count; j++) out[j] = 1.0 / inverse_mass_of(n, Q, psi + j * n);
   }
-  /* parabolic: Q_c once for the band (m_e, or the holes' Luttinger in-plane masses) */
-  size_t k0 = 0;
-  for (size_t cc = 0; cc <= n; cc++) {
-    double a = cc == 0 ? 0.0 : g->z[cc - 1], b = cc == n ? g->length_nm : g->z[cc];
-    Q[cc] = 0.0;
-    while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
-    for (size_t k = k0; k < st->n_layers; k++) {
-      const ew_layer *ly = &st->layers[k];
-      if (ly->z_start_nm >= b) break;
-      double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
-      if (hi <= lo) continue;
-      ew_bands bb;
-      ew_layer_bands_at(ly, (0.5 * (lo + hi) - ly->z_start_nm) / ly->thickness_nm, &bb);
-      double m = band == EW_BAND_E ? bb.me : band == EW_BAND_HH ? bb.mhh_par : bb.mlh_par;
-      Q[cc] += (hi - lo) / m;
-    }
-  }
-  for (size_t j = 0; j < count; j++) out[j] = 1.0 / inverse_mass_of(n, Q, psi + j * n);
+  ctx_free(&c);
   free(w);
   return 1;
 }
 
 static ew_pencil *pencil_at(const np_ctx *c, double E, double *M) {
-  ctx_masses(c, E, M);
+  ctx_eval(c, E, M, NULL, NULL);
   return ew_pencil_build_mass(c->g, EW_BAND_E, M);
 }
 

@@ -267,8 +267,10 @@ static ew_status add_lines(ew_result *r, ew_error *err) {
       double invm;
       if (b == EW_BAND_E && r->nonparabolic) { /* the masses at the lower state's energy */
         double *M = malloc((g->n + 1) * sizeof *M);
-        if (!M) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (lines)");
-        ew_nonparabolic_cell_masses(r->stack, g, r->states[si].energy_eV, M);
+        if (!M || !ew_nonparabolic_cell_masses(r->stack, g, r->states[si].energy_eV, M)) {
+          free(M);
+          return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (lines)");
+        }
         invm = ew_obs_inverse_mass_M(g, M, pi);
         free(M);
       } else {
