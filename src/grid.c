@@ -26,6 +26,10 @@ double ew_layer_mass(const ew_layer *ly, ew_band band) {
  * keeps absolute energies near their field-free values. */
 static double field_slope(const ew_stack *st) { return st->field_kV_cm * 1e-4; }
 
+double ew_stack_field_eV(const ew_stack *st, double z) {
+  return field_slope(st) * (z - 0.5 * st->total_nm);
+}
+
 static double edge_of(const ew_bands *b, ew_band band) {
   return band == EW_BAND_E ? b->Ec_eV : band == EW_BAND_HH ? b->Ev_hh_eV : b->Ev_lh_eV;
 }
@@ -46,15 +50,21 @@ static double layer_value(const ew_layer *ly, ew_band band, int what, double u) 
 /* ∫_a^b f dz over the layers: exact for piecewise-constant layers and for graded layers
  * (whose parameters are piecewise linear between their samples: trapezoid per piece), and
  * exact for the linear field term. */
-static double integrate(const ew_stack *st, ew_band band, int what, double a, double b) {
+static double integrate(const ew_stack *st, ew_band band, int what, double a, double b,
+                        size_t *k0) {
   double sum = 0.0;
-  for (size_t k = 0; k < st->n_layers; k++) {
+  /* calls come in increasing a: *k0 is the first layer that can still overlap [a, b] */
+  while (*k0 + 1 < st->n_layers && st->layers[*k0].z_start_nm + st->layers[*k0].thickness_nm <= a)
+    ++*k0;
+  for (size_t k = *k0; k < st->n_layers; k++) {
     const ew_layer *ly = &st->layers[k];
     double z0 = ly->z_start_nm, t = ly->thickness_nm;
+    if (z0 >= b) break;
     double lo = fmax(a, z0), hi = fmin(b, z0 + t);
     if (hi <= lo) continue;
     if (!ly->profile) {
-      sum += (hi - lo) * (what == 0 ? ew_layer_mass(ly, band) : layer_value(ly, band, 1, 0.5));
+      double e = ew_layer_edge(ly, band);
+      sum += (hi - lo) * (what == 0 ? ew_layer_mass(ly, band) : band == EW_BAND_E ? e : -e);
     } else {
       double piece = t / (EW_GRADE_SAMPLES - 1);
       double p = lo;
@@ -75,17 +85,32 @@ static double integrate(const ew_stack *st, ew_band band, int what, double a, do
   return sum;
 }
 
-double ew_stack_edge_at(const ew_stack *st, ew_band band, double z) {
-  size_t k = 0;
-  while (k + 1 < st->n_layers && z >= st->layers[k + 1].z_start_nm) k++;
+/* band edge in layer k at z (absolute eV, with grading and the field) */
+static double edge_in(const ew_stack *st, size_t k, ew_band band, double z) {
   const ew_layer *ly = &st->layers[k];
-  ew_bands b;
-  ew_layer_bands_at(ly, (z - ly->z_start_nm) / ly->thickness_nm, &b);
-  return edge_of(&b, band) + field_slope(st) * (z - 0.5 * st->total_nm);
+  double e;
+  if (!ly->profile) {
+    e = ew_layer_edge(ly, band);
+  } else {
+    ew_bands b;
+    ew_layer_bands_at(ly, (z - ly->z_start_nm) / ly->thickness_nm, &b);
+    e = edge_of(&b, band);
+  }
+  return e + ew_stack_field_eV(st, z);
 }
 
-static size_t layer_of(const ew_stack *st, double z) {
-  size_t k = 0;
+/* the layer ew_stack_edge_at reads at z, searched on from *k (z increasing) */
+static size_t edge_layer(const ew_stack *st, double z, size_t k) {
+  while (k + 1 < st->n_layers && z >= st->layers[k + 1].z_start_nm) k++;
+  return k;
+}
+
+double ew_stack_edge_at(const ew_stack *st, ew_band band, double z) {
+  return edge_in(st, edge_layer(st, z, 0), band, z);
+}
+
+/* the layer holding z (the right one at an interface), searched on from k (z increasing) */
+static size_t layer_from(const ew_stack *st, double z, size_t k) {
   while (k + 1 < st->n_layers && z >= st->layers[k + 1].z_start_nm - 1e-12) k++;
   return k;
 }
@@ -148,24 +173,31 @@ static ew_grid *finish(const ew_stack *st, ew_grid *g) {
     double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c];
     g->h[c] = b - a;
   }
+  size_t kl = 0; /* nodes are increasing: the layer searches move on, never restart */
   for (size_t i = 0; i < n; i++) {
     g->w[i] = 0.5 * (g->h[i] + g->h[i + 1]);
-    g->layer[i] = layer_of(st, g->z[i]);
+    g->layer[i] = kl = layer_from(st, g->z[i], kl);
   }
   for (int band = 0; band < EW_BAND_COUNT; band++) {
+    size_t k0 = 0, ke = 0;
     for (size_t c = 0; c <= n; c++) {
       double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c];
-      g->cell_mass[band][c] = integrate(st, (ew_band)band, 0, a, b);
+      g->cell_mass[band][c] = integrate(st, (ew_band)band, 0, a, b, &k0);
     }
+    k0 = 0;
     for (size_t i = 0; i < n; i++) {
       double a = g->z[i] - 0.5 * g->h[i], b = g->z[i] + 0.5 * g->h[i + 1];
-      g->pot[band][i] = integrate(st, (ew_band)band, 1, a, b) / (b - a);
+      g->pot[band][i] = integrate(st, (ew_band)band, 1, a, b, &k0) / (b - a);
       const ew_layer *ly = &st->layers[g->layer[i]];
-      double u = (g->z[i] - ly->z_start_nm) / ly->thickness_nm;
-      ew_bands bb;
-      ew_layer_bands_at(ly, u, &bb);
-      g->edge[band][i] = ew_stack_edge_at(st, (ew_band)band, g->z[i]);
-      g->mass[band][i] = mass_of(&bb, (ew_band)band);
+      if (!ly->profile) {
+        g->mass[band][i] = ew_layer_mass(ly, (ew_band)band);
+      } else {
+        ew_bands bb;
+        ew_layer_bands_at(ly, (g->z[i] - ly->z_start_nm) / ly->thickness_nm, &bb);
+        g->mass[band][i] = mass_of(&bb, (ew_band)band);
+      }
+      ke = edge_layer(st, g->z[i], ke);
+      g->edge[band][i] = edge_in(st, ke, (ew_band)band, g->z[i]);
     }
   }
   return g;

@@ -48,6 +48,10 @@ void ew_grid_free(ew_grid *g);
  * grid of every second node (step 2h) has the same interfaces — used for Richardson. */
 void ew_grid_cells_for_step(const ew_stack *st, double step_nm, size_t *cells_per_layer);
 
+/* An electron's potential energy from the applied field at z, eV: F·(z − L/2) (both edges
+ * move by it). */
+double ew_stack_field_eV(const ew_stack *st, double z);
+
 /* Band edge of a band at position z (absolute eV), with grading and the applied field. */
 double ew_stack_edge_at(const ew_stack *st, ew_band band, double z);
 

@@ -98,10 +98,14 @@ static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
       double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
       if (hi <= lo) continue;
       double zm = 0.5 * (lo + hi), u = 0.0;
-      ew_bands bb;
-      ew_layer_bands_at(ly, (zm - ly->z_start_nm) / ly->thickness_nm, &bb);
+      ew_bands tmp;
+      const ew_bands *bb = &ly->bands; /* the midpoint lies inside layer k */
+      if (ly->profile) {
+        ew_layer_bands_at(ly, (zm - ly->z_start_nm) / ly->thickness_nm, &tmp);
+        bb = &tmp;
+      }
       if (g->U) u = cc == 0 ? g->U[0] : cc == n ? g->U[n - 1] : 0.5 * (g->U[cc - 1] + g->U[cc]);
-      if (!ctx_push(c, cc, hi - lo, &bb, ew_stack_edge_at(st, EW_BAND_E, zm) + u)) {
+      if (!ctx_push(c, cc, hi - lo, bb, bb->Ec_eV + ew_stack_field_eV(st, zm) + u)) {
         ctx_free(c);
         return 0;
       }
