@@ -89,6 +89,8 @@ typedef struct {
                           state is flagged (default 1e-8) */
   int excitons;        /* 1: exciton binding and PL peak of every interband line (default);
                           0 skips them (sweeps that report no PL peaks) */
+  int sp_max_iterations; /* doped stacks: outer Schrödinger–Poisson iterations at most before
+                            EW_ERR_NUMERIC; <= 0 means the default, 100 */
 } ew_options;
 
 void ew_options_default(ew_options *opt);

@@ -789,9 +789,10 @@ ew_status ew_solve_self_consistent(const ew_stack *st, const ew_options *optin, 
   rc = ew_solve_potential(st, &iopt, U, &res, err);
   if (rc != EW_OK) goto done;
   int it = 0, conv = 0;
+  const int max_it = uopt.sp_max_iterations > 0 ? uopt.sp_max_iterations : EW_SP_MAX_ITER;
   double dU = INFINITY;
   double *parts[4] = {pbuf, pbuf + n, pbuf + 2 * n, pbuf + 3 * n};
-  while (it < EW_SP_MAX_ITER) {
+  while (it < max_it) {
     it++;
     free(s.s);
     s.s = NULL;

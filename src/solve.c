@@ -19,6 +19,7 @@
 #include "exciton.h"
 #include "nonparabolic.h"
 #include "observables.h"
+#include "poisson.h"
 #include "strain.h"
 
 #define EW_DEFAULT_STEP_NM 0.05
@@ -29,6 +30,7 @@ void ew_options_default(ew_options *opt) {
   opt->error_estimate = 1;
   opt->residual_tol = 1e-8;
   opt->excitons = 1;
+  opt->sp_max_iterations = EW_SP_MAX_ITER;
 }
 
 void ew_result_free(ew_result *r) {

@@ -369,6 +369,30 @@ static void heavy_doping_converges(void **state) {
   ew_stack_free(st);
 }
 
+/* The outer loop's failure path: the same well with a budget of 2 outer iterations (it needs 5)
+ * must fail with EW_ERR_NUMERIC, say how far it got, and return no result. */
+static void non_convergence_reported(void **state) {
+  (void)state;
+  ew_stack *st = read_text(
+      "temperature = 77.0;\nlayers = (\n"
+      " { name = \"b1\"; material = \"AlGaAs\"; x = 0.30; thickness = 30.0; },\n"
+      " { name = \"well\"; material = \"GaAs\"; thickness = 10.0; doping = { donors = 1e19; }; },\n"
+      " { name = \"b2\"; material = \"AlGaAs\"; x = 0.30; thickness = 30.0; }\n);\n");
+  assert_non_null(st);
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.sp_max_iterations = 2;
+  ew_result *r = NULL;
+  ew_error err;
+  char buf[2048];
+  assert_int_equal(ew_solve(st, &opt, &r, &err), EW_ERR_NUMERIC);
+  assert_null(r);
+  const char *msg = ew_error_text(&err, buf, sizeof buf);
+  print_message("%s\n", msg);
+  assert_non_null(strstr(msg, "did not converge: after 2 outer iterations"));
+  ew_stack_free(st);
+}
+
 /* Incomplete ionisation by formula: a thick uniform n-GaAs layer is a flat neutral bulk;
  * at its centre N_D⁺ = N_D / (1 + 2 exp((E_F − E_D)/kT)), E_D = Ec + U − E_d (brief, Sze);
  * 1e-9 relative (same formula, evaluated from the exported profiles), and n = N_D⁺ there
@@ -462,6 +486,7 @@ int main(void) {
       cmocka_unit_test(gauss_law),
       cmocka_unit_test(hemt_sheet_density),
       cmocka_unit_test(heavy_doping_converges),
+      cmocka_unit_test(non_convergence_reported),
       cmocka_unit_test(incomplete_ionisation_bulk),
       cmocka_unit_test(bias_sign),
       cmocka_unit_test(delta_doping),
