@@ -60,35 +60,34 @@ static void ctx_free(np_ctx *c) {
   memset(c, 0, sizeof *c);
 }
 
-static int ctx_push(np_ctx *c, size_t cell, double len, const ew_bands *b, double ec) {
-  if (c->n == c->cap) {
-    size_t nc = c->cap ? 2 * c->cap : 1024;
-    size_t *ce = realloc(c->cell, nc * sizeof *ce);
-    if (ce) c->cell = ce;
-    double **arr[] = {&c->len, &c->me, &c->Ep, &c->Eg, &c->D, &c->ec, &c->mhp, &c->mlp};
-    int ok = ce != NULL;
-    for (int k = 0; k < 8 && ok; k++) {
-      double *q = realloc(*arr[k], nc * sizeof **arr[k]);
-      if (q) *arr[k] = q;
-      else ok = 0;
-    }
-    int *npn = ok ? realloc(c->np, nc * sizeof *npn) : NULL;
-    if (!npn) return 0;
-    c->np = npn;
-    c->cap = nc;
-  }
+/* room for every piece at once: a cell holds one piece per layer it touches, so there are at
+ * most (cells) + (layers) pieces */
+static int ctx_alloc(np_ctx *c, size_t cap) {
+  c->cap = cap;
+  c->cell = malloc(cap * sizeof *c->cell);
+  c->np = malloc(cap * sizeof *c->np);
+  double **arr[] = {&c->len, &c->me, &c->Ep, &c->Eg, &c->D, &c->ec, &c->mhp, &c->mlp};
+  int ok = c->cell && c->np;
+  for (size_t k = 0; k < sizeof arr / sizeof *arr; k++) ok = (*arr[k] = malloc(cap * sizeof **arr[k])) && ok;
+  return ok;
+}
+
+static void ctx_push(np_ctx *c, size_t cell, double len, const ew_bands *b, double ec) {
   size_t k = c->n++;
   c->cell[k] = cell, c->len[k] = len, c->me[k] = b->me, c->Ep[k] = b->Ep_eV;
   c->Eg[k] = b->Eg_G_eV, c->D[k] = b->Dso_eV > 0 ? b->Dso_eV : 0.0, c->ec[k] = ec;
   c->mhp[k] = b->mhh_par, c->mlp[k] = b->mlh_par;
   c->np[k] = layer_np(b);
-  return 1;
 }
 
 static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
   memset(c, 0, sizeof *c);
   c->g = g;
   size_t n = g->n, k0 = 0;
+  if (!ctx_alloc(c, n + 1 + st->n_layers)) {
+    ctx_free(c);
+    return 0;
+  }
   for (size_t cc = 0; cc <= n; cc++) {
     double a = cc == 0 ? 0.0 : g->z[cc - 1], b = cc == n ? g->length_nm : g->z[cc];
     while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
@@ -105,10 +104,7 @@ static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
         bb = &tmp;
       }
       if (g->U) u = cc == 0 ? g->U[0] : cc == n ? g->U[n - 1] : 0.5 * (g->U[cc - 1] + g->U[cc]);
-      if (!ctx_push(c, cc, hi - lo, bb, bb->Ec_eV + ew_stack_field_eV(st, zm) + u)) {
-        ctx_free(c);
-        return 0;
-      }
+      ctx_push(c, cc, hi - lo, bb, bb->Ec_eV + ew_stack_field_eV(st, zm) + u);
     }
   }
   return 1;
