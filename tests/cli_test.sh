@@ -11,36 +11,10 @@
 # unsets it and checks that the binary finds its catalogue by itself from another directory
 # (next to the binary or its parent directory, or under the install prefix).
 
-bin=${1:?usage: sh tests/cli_test.sh path/to/epiwell}
-case $bin in
-/*) ;;
-*) bin=$(pwd)/$bin ;;
-esac
-root=$(cd "$(dirname "$0")/.." && pwd) || exit 1
-EPIWELL_MATERIALS=$root/materials
-export EPIWELL_MATERIALS
+. "$(dirname "$0")/lib.sh"
+use_binary "${1:?usage: sh tests/cli_test.sh path/to/epiwell}"
+make_tmp cli "cli: cannot make a temp dir"
 
-tmp=$(mktemp -d "${TMPDIR:-/tmp}/epiwell-cli.XXXXXX") || { echo "cli: cannot make a temp dir"; exit 1; }
-cleanup() { chmod -R u+w "$tmp" 2>/dev/null; rm -rf "$tmp"; }
-trap cleanup EXIT
-trap 'exit 1' INT TERM HUP
-
-pass=0
-fail=0
-ok() { pass=$((pass + 1)); printf 'ok - %s\n' "$1"; }
-nok() {
-  fail=$((fail + 1))
-  printf 'not ok - %s\n' "$1"
-  shift
-  for why in "$@"; do printf '#   %s\n' "$why"; done
-}
-skip() { printf 'skip - %s\n' "$1"; }
-
-# run CMD...: stdout to $tmp/out, stderr to $tmp/err, exit status in $rc.
-run() {
-  "$@" </dev/null >"$tmp/out" 2>"$tmp/err"
-  rc=$?
-}
 # ran: the last command line, for failure details
 ran() { printf 'command: %s; exit %s; stderr: %s' "$*" "$rc" "$(head -n 3 "$tmp/err" | tr '\n' '|')"; }
 
@@ -410,5 +384,4 @@ else
   nok "a stack error with -o/--report leaves no output directory behind" "exit $rc; $(ls -d "$tmp"/never_made* 2>&1)"
 fi
 
-echo "cli: $pass passed, $fail failed"
-[ "$fail" -eq 0 ]
+finish cli

@@ -3,12 +3,10 @@
 # piece is there, a program built with `pkg-config --libs epiwell` links and solves, and the
 # installed binary finds the installed catalogue.  Last line: "install: N passed, M failed".
 set -u
-pass=0
-fail=0
-ok() { pass=$((pass + 1)); printf 'ok - %s\n' "$1"; }
-nok() { fail=$((fail + 1)); printf 'not ok - %s\n' "$1"; [ $# -gt 1 ] && printf '#   %s\n' "$2"; }
-tmp=$(mktemp -d)
-trap 'rm -rf "$tmp"' EXIT
+. "$(dirname "$0")/lib.sh"
+# make install and examples/ are relative to the root
+cd "$root" || exit 1
+make_tmp install "install: cannot make a temp dir"
 prefix="$tmp/prefix"
 # the plain build, whatever the calling make was asked for (make check SANITIZE=1 passes its
 # variables down through MAKEFLAGS)
@@ -44,5 +42,4 @@ if (cd "$tmp" && env -u EPIWELL_MATERIALS "$prefix/bin/epiwell" materials | grep
 else
   nok "the installed binary finds the installed catalogue from any directory"
 fi
-echo "install: $pass passed, $fail failed"
-[ "$fail" -eq 0 ]
+finish install

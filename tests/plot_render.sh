@@ -10,28 +10,9 @@
 # lines) and last "plot: N passed, M failed"; exits 1 when M > 0.  A missing renderer is a
 # failure that names the Debian package to install.
 
-bin=${1:?usage: sh tests/plot_render.sh path/to/epiwell}
-case $bin in
-/*) ;;
-*) bin=$(pwd)/$bin ;;
-esac
-root=$(cd "$(dirname "$0")/.." && pwd) || exit 1
-EPIWELL_MATERIALS=$root/materials
-export EPIWELL_MATERIALS
-
-tmp=$(mktemp -d "${TMPDIR:-/tmp}/epiwell-render.XXXXXX") || { echo "plot: cannot make a temp dir"; exit 1; }
-trap 'rm -rf "$tmp"' EXIT
-trap 'exit 1' INT TERM HUP
-
-pass=0
-fail=0
-ok() { pass=$((pass + 1)); printf 'ok - %s\n' "$1"; }
-nok() {
-  fail=$((fail + 1))
-  printf 'not ok - %s\n' "$1"
-  shift
-  for why in "$@"; do printf '#   %s\n' "$why"; done
-}
+. "$(dirname "$0")/lib.sh"
+use_binary "${1:?usage: sh tests/plot_render.sh path/to/epiwell}"
+make_tmp render "plot: cannot make a temp dir"
 
 # The checker: "W H NONWHITE E HH" for a PNG — size, pixels that are not near-white, and
 # pixels near the electron (#1b7a3d) and heavy-hole (#6a2c91) colours of plot.c.
@@ -72,8 +53,7 @@ EOF
 cc=${CC:-cc}
 if ! $cc -std=c11 -O1 -o "$tmp/pngstat" "$tmp/pngstat.c" $(pkg-config --cflags --libs cairo) 2>"$tmp/cc.err"; then
   nok "build the PNG checker against cairo" "$(head -n 3 "$tmp/cc.err")" "needs libcairo2-dev"
-  echo "plot: $pass passed, $fail failed"
-  exit 1
+  finish plot
 fi
 
 # check_png WHAT FILE [W H]: decodes, has the expected size, is not blank, shows both band
@@ -152,5 +132,4 @@ else
   nok "chromium renders the report page" "chromium not found: apt-get install chromium"
 fi
 
-echo "plot: $pass passed, $fail failed"
-[ "$fail" -eq 0 ]
+finish plot

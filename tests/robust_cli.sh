@@ -15,30 +15,10 @@
 # Prints "ok - WHAT" / "not ok - WHAT" lines and ends with "robust_cli: N passed, M failed";
 # exits 1 when M > 0.
 
-bin=${1:?usage: sh tests/robust_cli.sh path/to/epiwell}
-case $bin in
-/*) ;;
-*) bin=$(pwd)/$bin ;;
-esac
-root=$(cd "$(dirname "$0")/.." && pwd) || exit 1
-EPIWELL_MATERIALS=$root/materials
-export EPIWELL_MATERIALS
+. "$(dirname "$0")/lib.sh"
+use_binary "${1:?usage: sh tests/robust_cli.sh path/to/epiwell}"
 cd "$root" || exit 1
-
-tmp=$(mktemp -d "${TMPDIR:-/tmp}/epiwell-robust.XXXXXX") || { echo "robust_cli: no temp dir"; exit 1; }
-cleanup() { chmod -R u+w "$tmp" 2>/dev/null; rm -rf "$tmp"; }
-trap cleanup EXIT
-trap 'exit 1' INT TERM HUP
-
-pass=0
-fail=0
-ok() { pass=$((pass + 1)); printf 'ok - %s\n' "$1"; }
-nok() {
-  fail=$((fail + 1))
-  printf 'not ok - %s\n' "$1"
-  shift
-  for why in "$@"; do printf '#   %s\n' "$why"; done
-}
+make_tmp robust "robust_cli: no temp dir"
 
 # a timer that works in dash: nanoseconds when date supports %N, else seconds * 1e9
 now_ns() {
@@ -191,5 +171,4 @@ else
   nok "coarse grid (1 nm) on a deep GaAs/AlAs well finishes within 1 s" "exit $rc after $ms ms (124: killed by timeout)" "stderr: $(head -n 1 "$tmp/stderr")"
 fi
 
-echo "robust_cli: $pass passed, $fail failed"
-[ "$fail" -eq 0 ]
+finish robust_cli

@@ -3,33 +3,11 @@
 # (POSIX sh).  Prints one "ok - WHAT" / "not ok - WHAT" line per check and ends with exactly
 # one line "workflow: N passed, M failed"; exits 1 when M > 0.  Runs from the project root
 # (the examples and materials/ are there).
-bin=${1:-build/epiwell}
-case $bin in
-/*) ;;
-*) bin=$(pwd)/$bin ;;
-esac
-root=$(cd "$(dirname "$0")/.." && pwd) || exit 1
+. "$(dirname "$0")/lib.sh"
+use_binary "${1:-build/epiwell}"
 cd "$root" || exit 1
-EPIWELL_MATERIALS=$root/materials
-export EPIWELL_MATERIALS
-tmp=$(mktemp -d "${TMPDIR:-/tmp}/epiwell-wf.XXXXXX") || { echo "workflow: 0 passed, 1 failed"; exit 1; }
-trap 'rm -rf "$tmp"' EXIT
-trap 'exit 1' INT TERM HUP
+make_tmp wf "workflow: 0 passed, 1 failed"
 
-pass=0
-fail=0
-ok() { pass=$((pass + 1)); printf 'ok - %s\n' "$1"; }
-nok() {
-  fail=$((fail + 1))
-  printf 'not ok - %s\n' "$1"
-  shift
-  for why in "$@"; do printf '#   %s\n' "$why"; done
-}
-# run CMD...: stdout to $tmp/out, stderr to $tmp/err, status in $rc
-run() {
-  "$@" </dev/null >"$tmp/out" 2>"$tmp/err"
-  rc=$?
-}
 check() { # check WHAT CONDITION-COMMAND...
   what=$1
   shift
@@ -210,5 +188,4 @@ if command -v python3 >/dev/null 2>&1; then
   check "match --line e1-e2:pl (not interband): exit 1 naming --line" sh -c "[ $rc -eq 1 ] && grep -q -- '--line' '$tmp/err'"
 fi
 
-echo "workflow: $pass passed, $fail failed"
-[ "$fail" -eq 0 ]
+finish workflow
