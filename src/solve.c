@@ -63,11 +63,18 @@ double ew_result_grid_step_nm(const ew_result *r) { return r->step_nm; }
 size_t ew_result_band_count(const ew_result *r, ew_band b) { return r->band_count[b]; }
 double ew_result_window_eV(const ew_result *r, ew_band b) { return r->window_eV[b]; }
 
-/* Upper end of the bound window in the positive-mass potential of a band: the lower of the
- * two outer layers' highest potentials (a state above it leaks out of the structure).  Read
- * off the grid's node edges, so a field, a graded outer layer and a self-consistent
- * potential all count. */
+/* Top of the bound window of a band (positive-mass scale): the continuum of each side starts
+ * at the band edge the outer layer has at its outer face (the outer layers stand for
+ * semi-infinite material), the lower of the two sides.  Edges read off the grid's nodes, so
+ * they include grading and the self-consistent potential: a barrier that band bending lifts
+ * next to the well does not make its flat far part "bound" (its box states against the
+ * outer walls would pass as levels).  In a field the faces' edges differ by the tilt and
+ * every state is a resonance: each side then counts up to its highest point, and the box
+ * states are dropped by their location (inner_probability). */
 static double window_top(const ew_stack *st, const ew_grid *g, ew_band band) {
+  double sgn = band == EW_BAND_E ? 1.0 : -1.0;
+  if (st->field_kV_cm == 0.0)
+    return fmin(sgn * g->edge[band][0], sgn * g->edge[band][g->n - 1]);
   double best[2] = {-INFINITY, -INFINITY};
   size_t last = st->n_layers - 1;
   for (size_t i = 0; i < g->n; i++) {

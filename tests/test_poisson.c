@@ -369,6 +369,33 @@ static void heavy_doping_converges(void **state) {
   ew_stack_free(st);
 }
 
+/* Bound window of a band-bent stack (examples/doped_detector.cfg): the barriers' valence edge
+ * bends by ~1 meV next to the doped well, and a window read at that bump once let the flat
+ * barriers' box states (hh4, hh5: half their probability in a barrier, 0.6 meV deep) pass as
+ * bound levels.  Every bound state must lie inside the edges at the outer faces (README
+ * "Bound window"; exact: the window's definition), and no level may live mostly in an outer
+ * layer. */
+static void band_bent_window(void **state) {
+  (void)state;
+  ew_stack *st = read_text("temperature = 77.0;\nlayers = (\n"
+                           " { name = \"lower_barrier\"; material = \"AlGaAs\"; x = 0.30; thickness = 40.0; },\n"
+                           " { name = \"well\"; material = \"GaAs\"; thickness = 6.0; doping = { donors = 3e18; }; },\n"
+                           " { name = \"upper_barrier\"; material = \"AlGaAs\"; x = 0.30; thickness = 40.0; }\n);\n");
+  assert_non_null(st);
+  ew_result *r = sc_solve(st);
+  assert_non_null(r);
+  size_t n = r->grid->n;
+  for (size_t i = 0; i < ew_result_state_count(r); i++) {
+    const ew_state *q = ew_result_state(r, i);
+    const double *edge = ew_result_edge_eV(r, q->band);
+    if (q->band == EW_BAND_E) assert_true(q->energy_eV < fmin(edge[0], edge[n - 1]));
+    else assert_true(q->energy_eV > fmax(edge[0], edge[n - 1]));
+    assert_true(q->layer == 1);
+  }
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
 /* The outer loop's failure path: the same well with a budget of 2 outer iterations (it needs 5)
  * must fail with EW_ERR_NUMERIC, say how far it got, and return no result. */
 static void non_convergence_reported(void **state) {
@@ -487,6 +514,7 @@ int main(void) {
       cmocka_unit_test(hemt_sheet_density),
       cmocka_unit_test(heavy_doping_converges),
       cmocka_unit_test(non_convergence_reported),
+      cmocka_unit_test(band_bent_window),
       cmocka_unit_test(incomplete_ionisation_bulk),
       cmocka_unit_test(bias_sign),
       cmocka_unit_test(delta_doping),
