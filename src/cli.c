@@ -31,7 +31,7 @@ static const char usage[] =
     "      (default 3.3, GaAs near 10 um); --spectra-plot FILE: interband chart, and\n"
     "      FILE-intersubband.EXT the intersubband one; peaks are listed after the table\n"
     "  epiwell materials [NAME [--x X] [--y Y] [--temperature K] [--substrate SUB\n"
-    "                    [--substrate-x X] [--match-gap EV]]]\n"
+    "                    [--substrate-x X] [--lattice-match] [--match-gap EV]]]\n"
     "  epiwell sweep STACK --vary KEY=FROM:TO:STEP [--vary ...] [--csv FILE] [--json]\n"
     "                      [--threads N] [--shard K/N] [--no-header] [--levels N]\n"
     "                      [--plot FILE.svg|FILE.png]  (epiwell sweep --help: the pictures)\n"
@@ -63,6 +63,9 @@ static int cmd_materials(int argc, char **argv) {
     } else if (!strcmp(a, "--substrate")) {
       if (i + 1 >= argc) return bad_usage("%s needs a value", a);
       substrate = argv[++i];
+    } else if (!strcmp(a, "--lattice-match")) {
+      match = 1;
+      if (!(gap > 0)) gap = NAN; /* ternaries: the composition alone */
     } else if (!strcmp(a, "--match-gap")) {
       if (i + 1 >= argc) return bad_usage("%s needs a value", a);
       if (!parse_num(argv[i + 1], &gap) || gap <= 0)
@@ -89,7 +92,7 @@ static int cmd_materials(int argc, char **argv) {
   double a_sub = 0.0;
   if (match && (!name || !substrate)) {
     ew_catalogue_free(cat);
-    return bad_usage("%s", "--match-gap needs a material NAME and --substrate");
+    return bad_usage("%s", "--lattice-match and --match-gap need a material NAME and --substrate");
   }
   if (substrate && ew_lattice_nm(cat, substrate, sx, 0.0, &a_sub, &err) != EW_OK) {
     rc = report(&err);
@@ -98,8 +101,11 @@ static int cmd_materials(int argc, char **argv) {
     if (ew_lattice_match(cat, name, substrate, sx, gap, T, &x, &y, &err) != EW_OK) {
       rc = report(&err);
     } else {
-      printf("%s lattice-matched to %s with a Γ gap of %g eV at %g K: x = %.5f, y = %.5f\n\n",
-             name, substrate, gap, T, x, y);
+      if (isnan(gap))
+        printf("%s lattice-matched to %s: x = %.5f\n\n", name, substrate, x);
+      else
+        printf("%s lattice-matched to %s with a Γ gap of %g eV at %g K: x = %.5f, y = %.5f\n\n",
+               name, substrate, gap, T, x, y);
       if (ew_material_print_on(cat, name, x, y, T, a_sub, stdout, &err) != EW_OK) rc = report(&err);
     }
   } else if (!name) {

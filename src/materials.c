@@ -1235,6 +1235,15 @@ ew_status ew_lattice_match(const ew_catalogue *cat, const char *name, const char
                      substrate, a_sub_A / 10.0);
     *x = u;
     *y = 0.0;
+    /* one composition only: a requested gap is either that composition's or unreachable */
+    double g;
+    if (isfinite(target_gap_eV) && entry_value(cat, e, -1, 0, u, 0.0, T_K, &g) &&
+        fabs(g - target_gap_eV) > EW_MATCH_GAP_TOL_EV)
+      return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                     "%s is a ternary: lattice matching to %s fixes x = %.5f, whose Γ gap at "
+                     "%g K is %.4f eV, not %g eV; a gap of choice needs a quaternary "
+                     "(InGaAsP, AlGaInAs)",
+                     name, substrate, u, T_K, g, target_gap_eV);
     return EW_OK;
   }
   if (!isfinite(target_gap_eV))

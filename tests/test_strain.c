@@ -290,6 +290,14 @@ static void test_lattice_match(void **state) {
   CHECK_NEAR(y, 0.0, 0.0, "ternary: y = 0");
   CHECK_NEAR(lattice(cat, "InGaAs", 0.53, 0) / a_inp, 1.0, 2e-3, "a(In0.53Ga0.47As)/a(InP)");
   CHECK_NEAR(lattice(cat, "InGaAs", x, 0), a_inp, 1e-12, "ternary match exact");
+  /* a ternary has one matched composition: its own gap is accepted (to 1 meV), another is
+   * refused with x and its gap in the message (the definition of the helper) */
+  double g = on(cat, "InGaAs", x, 0, 300, 0).Eg_G_eV, x2, y2;
+  if (ew_lattice_match(cat, "InGaAs", "InP", 0, g + 5e-4, 300, &x2, &y2, &err) != EW_OK)
+    fail_msg("InGaAs match at its own gap: %s", err.message);
+  CHECK_NEAR(x2, x, 0.0, "same composition");
+  assert_int_equal(ew_lattice_match(cat, "InGaAs", "InP", 0, 0.90, 300, &x2, &y2, &err), EW_ERR_INPUT);
+  assert_non_null(strstr(err.message, "fixes x = 0.53"));
   /* AlGaInAs on InP: (AlzGa1−z)0.48In0.52As (common practice, from memory): the In
    * fraction 1 − x − y within 0.02 of 0.52, at any gap between the two ends */
   if (ew_lattice_match(cat, "AlGaInAs", "InP", 0, 1.0, 300, &x, &y, &err) != EW_OK)
