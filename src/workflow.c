@@ -146,7 +146,12 @@ void ew_wf_model_free(ew_wf_model *m) {
 
 const ew_stack *ew_wf_model_stack(const ew_wf_model *m) { return m->nominal; }
 
-/* Find the group and setting name a key refers to.  *group is NULL on error. */
+/* Find the group and setting name a key refers to.  *group is NULL on error.
+ *   KEY                 a top-level setting (temperature, field, ...)
+ *   GROUP.KEY           a setting of a top-level group (surface.barrier)
+ *   NAME.KEY            a setting of the layer or user material NAME (the longest name that
+ *                       prefixes the key: names may hold dots)
+ *   NAME.GROUP.KEY      a setting of one of its groups (well.grade.x_end, well.doping.donors) */
 static ew_status locate(const ew_wf_model *m, config_t *cfg, const char *key, const char *opt,
                         config_setting_t **group, const char **name, ew_error *err) {
   *group = NULL;
@@ -161,37 +166,64 @@ static ew_status locate(const ew_wf_model *m, config_t *cfg, const char *key, co
     *name = key;
     return EW_OK;
   }
-  size_t plen = (size_t)(dot - key);
-  *name = dot + 1;
   const ew_stack *st = m->nominal;
-  for (size_t k = 0; k < st->n_layers; k++) {
-    if (strlen(st->layers[k].name) == plen && !strncmp(st->layers[k].name, key, plen)) {
-      config_setting_t *list = config_setting_get_member(root, "layers");
-      *group = list ? config_setting_get_elem(list, (unsigned)k) : NULL;
-      if (*group) return EW_OK;
+  config_setting_t *best = NULL;
+  size_t plen = 0;
+  config_setting_t *list = config_setting_get_member(root, "layers");
+  for (size_t k = 0; list && k < st->n_layers; k++) {
+    size_t L = strlen(st->layers[k].name);
+    if (L > plen && !strncmp(st->layers[k].name, key, L) && key[L] == '.' && key[L + 1]) {
+      config_setting_t *g = config_setting_get_elem(list, (unsigned)k);
+      if (g) best = g, plen = L;
     }
   }
-  /* a user-defined material's group, by its name */
   config_setting_t *mats = config_setting_get_member(root, "materials");
   for (int i = 0; mats && i < config_setting_length(mats); i++) {
     config_setting_t *g = config_setting_get_elem(mats, (unsigned)i);
     const char *nm = NULL;
-    if (g && config_setting_lookup_string(g, "name", &nm) && strlen(nm) == plen &&
-        !strncmp(nm, key, plen)) {
-      *group = g;
-      return EW_OK;
-    }
+    size_t L;
+    if (g && config_setting_lookup_string(g, "name", &nm) && (L = strlen(nm)) > plen &&
+        !strncmp(nm, key, L) && key[L] == '.' && key[L + 1])
+      best = g, plen = L;
   }
-  char list[512];
+  const char *rest = key;
+  config_setting_t *owner = root;
+  if (best) {
+    owner = best;
+    rest = key + plen + 1;
+  }
+  const char *sub = strchr(rest, '.');
+  if (!sub && best) {
+    *group = owner;
+    *name = rest;
+    return EW_OK;
+  }
+  if (sub && !strchr(sub + 1, '.')) { /* GROUP.KEY inside the owner */
+    size_t glen = (size_t)(sub - rest);
+    for (int i = 0; i < config_setting_length(owner); i++) {
+      config_setting_t *g = config_setting_get_elem(owner, (unsigned)i);
+      const char *gn = g ? config_setting_name(g) : NULL;
+      if (gn && strlen(gn) == glen && !strncmp(gn, rest, glen) && config_setting_is_group(g)) {
+        *group = g;
+        *name = sub + 1;
+        return EW_OK;
+      }
+    }
+    if (best)
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: '%.*s' has no group '%.*s' in %s", opt,
+                     key, (int)plen, key, (int)glen, rest, st->path);
+  }
+  char names[512];
   size_t used = 0;
-  list[0] = '\0';
-  for (size_t k = 0; k < st->n_layers && used + 1 < sizeof list; k++) {
-    int w = snprintf(list + used, sizeof list - used, "%s%s", k ? ", " : "", st->layers[k].name);
+  names[0] = '\0';
+  for (size_t k = 0; k < st->n_layers && used + 1 < sizeof names; k++) {
+    int w = snprintf(names + used, sizeof names - used, "%s%s", k ? ", " : "", st->layers[k].name);
     if (w < 0) break;
     used += (size_t)w;
   }
-  return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: no layer or material named '%.*s' in %s "
-                 "(layers: %s)", opt, key, (int)plen, key, st->path, list);
+  size_t head = (size_t)(strchr(key, '.') - key);
+  return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: no layer, material or group named '%.*s' in "
+                 "%s (layers: %s)", opt, key, (int)head, key, st->path, names);
 }
 
 static int numeric_type(int t) {
@@ -252,6 +284,11 @@ ew_status ew_wf_stack_at(const ew_wf_model *m, size_t nkeys, const char *const *
       rc = ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: that setting is not a number", keys[i]);
       goto done;
     }
+    /* a layer's thickness is given one way: setting one form replaces the other */
+    const char *other = !strcmp(name, "thickness") ? "thickness_ml"
+                        : !strcmp(name, "thickness_ml") ? "thickness" : NULL;
+    if (other && g != config_root_setting(&cfg) && config_setting_get_member(g, other))
+      config_setting_remove(g, other);
     /* An integer literal cannot hold the new value: replace it by a float setting. */
     if (s && config_setting_type(s) != CONFIG_TYPE_FLOAT) {
       config_setting_remove(g, name);

@@ -220,6 +220,42 @@ static void keys_are_checked(void **state) {
   assert_non_null(strstr(err.message, "thickness"));
 }
 
+/* Keys inside a layer's groups and the two thickness forms: NAME.grade.KEY and
+ * NAME.doping.KEY reach the nested settings, and varying thickness_ml of a layer written in
+ * nm (or the reverse) replaces the other form.  Checked against the stack read back: the
+ * graded layer's end composition and the monolayer thickness (23 ML of GaAs = 23 a/2 with
+ * a = 0.565325 nm: I. Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), from memory). */
+static void nested_keys_and_thickness_forms(void **state) {
+  fixture *fx = *state;
+  char path[64];
+  write_tmp(path, sizeof path,
+            "temperature = 77.0;\nlayers = (\n"
+            " { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 10.0; },\n"
+            " { name = \"ramp\"; material = \"AlGaAs\"; thickness = 5.0;\n"
+            "   grade = { profile = \"linear\"; x_start = 0.3; x_end = 0.1; }; },\n"
+            " { name = \"w\"; material = \"GaAs\"; thickness = 6.0; doping = { donors = 1e18; }; },\n"
+            " { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 10.0; } );\n");
+  ew_wf_model *m = NULL;
+  ew_error err = {0};
+  assert_int_equal(ew_wf_model_open(path, fx->cat, NULL, &m, &err), EW_OK);
+  double nominal;
+  assert_int_equal(ew_wf_key_check(m, "ramp.grade.x_end", "--vary", &nominal, &err), EW_OK);
+  TU_NEAR(nominal, 0.1, 0.0, "the stack text: x_end = 0.1");
+  assert_int_equal(ew_wf_key_check(m, "w.doping.donors", "--vary", &nominal, &err), EW_OK);
+  TU_NEAR(nominal, 1e18, 0.0, "the stack text: donors = 1e18");
+  assert_int_equal(ew_wf_key_check(m, "ramp.grad.x_end", "--vary", &nominal, &err), EW_ERR_USAGE);
+  assert_non_null(strstr(err.message, "no group 'grad'"));
+  const char *keys[2] = {"ramp.grade.x_end", "w.thickness_ml"};
+  double v[2] = {0.0, 23.0};
+  ew_stack *st = NULL;
+  assert_int_equal(ew_wf_stack_at(m, 2, keys, v, &st, &err), EW_OK);
+  TU_NEAR(st->layers[1].x_end, 0.0, 0.0, "x_end replaced");
+  TU_NEAR(st->layers[2].thickness_nm, 23 * 0.565325 / 2, 1e-9, "23 ML of GaAs");
+  ew_stack_free(st);
+  unlink(path);
+  ew_wf_model_free(m);
+}
+
 /* ---- sweeps ---------------------------------------------------------------------------- */
 static void sweep_monotonic_and_identity(void **state) {
   fixture *fx = *state;
@@ -732,6 +768,7 @@ int main(void) {
       cmocka_unit_test(ranges_include_both_ends),
       cmocka_unit_test(quantities_parse_units),
       cmocka_unit_test(keys_are_checked),
+      cmocka_unit_test(nested_keys_and_thickness_forms),
       cmocka_unit_test(sweep_monotonic_and_identity),
       cmocka_unit_test(shards_concatenate_to_the_full_sweep),
       cmocka_unit_test(thread_count_does_not_change_output),
