@@ -50,7 +50,7 @@ static int parse_num(const char *s, double *v) { return ew_cli_parse_num(s, v); 
 static int cmd_materials(int argc, char **argv) {
   const char *name = NULL, *substrate = NULL;
   double x = 0.0, y = 0.0, T = 300.0, sx = 0.0, gap = 0.0;
-  int match = 0;
+  int match = 0, given_x = 0, given_sx = 0;
   for (int i = 0; i < argc; i++) {
     const char *a = argv[i];
     if (!strcmp(a, "--x") || !strcmp(a, "--y") || !strcmp(a, "--temperature") ||
@@ -59,6 +59,8 @@ static int cmd_materials(int argc, char **argv) {
       double *dst = !strcmp(a, "--x") ? &x : !strcmp(a, "--y") ? &y
                     : !strcmp(a, "--temperature") ? &T : &sx;
       if (!parse_num(argv[i + 1], dst)) return bad_usage("not a number: %s", argv[i + 1]);
+      if (dst == &x || dst == &y) given_x = 1;
+      if (dst == &sx) given_sx = 1;
       i++;
     } else if (!strcmp(a, "--substrate")) {
       if (i + 1 >= argc) return bad_usage("%s needs a value", a);
@@ -90,6 +92,18 @@ static int cmd_materials(int argc, char **argv) {
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK) return report(&err);
   int rc = 0;
   double a_sub = 0.0;
+  /* the stack file's rules: an alloy substrate needs its x, a binary takes none */
+  const char *why = NULL, *what = NULL;
+  if (substrate && !given_sx && ew_catalogue_is_alloy(cat, substrate) > 0)
+    why = "--substrate %s is an alloy: give its composition with --substrate-x", what = substrate;
+  else if (substrate && given_sx && ew_catalogue_is_alloy(cat, substrate) == 0)
+    why = "--substrate %s is a binary: it takes no --substrate-x", what = substrate;
+  else if (name && given_x && ew_catalogue_is_alloy(cat, name) == 0)
+    why = "%s is a binary: it takes no --x or --y", what = name;
+  if (why) {
+    ew_catalogue_free(cat);
+    return bad_usage(why, what);
+  }
   if (match && (!name || !substrate)) {
     ew_catalogue_free(cat);
     return bad_usage("%s", "--lattice-match and --match-gap need a material NAME and --substrate");

@@ -234,6 +234,55 @@ const char *ew_catalogue_nearest(const ew_catalogue *cat, const char *name) {
   return best;
 }
 
+/* element symbols of a name (capital + lower-case letters), sorted; 0 when it is not made
+ * of symbols only or has too many */
+static int element_key(const char *name, char out[8][3]) {
+  int n = 0;
+  for (const char *p = name; *p;) {
+    if (!isupper((unsigned char)*p) || n == 8) return 0;
+    out[n][0] = *p++;
+    out[n][1] = islower((unsigned char)*p) ? *p++ : '\0';
+    out[n][2] = '\0';
+    if (islower((unsigned char)*p)) return 0;
+    n++;
+  }
+  for (int i = 1; i < n; i++) /* insertion sort: a handful of symbols */
+    for (int j = i; j > 0 && strcmp(out[j - 1], out[j]) > 0; j--) {
+      char t[3];
+      memcpy(t, out[j], 3), memcpy(out[j], out[j - 1], 3), memcpy(out[j - 1], t, 3);
+    }
+  return n;
+}
+
+long ew_catalogue_reordered(const ew_catalogue *cat, const char *name) {
+  char a[8][3], b[8][3];
+  int na = name ? element_key(name, a) : 0;
+  if (!cat || na < 2) return -1;
+  for (size_t i = 0; i < cat->n; i++) {
+    if (!strcmp(cat->e[i].name, name) || element_key(cat->e[i].name, b) != na) continue;
+    if (!memcmp(a, b, sizeof(char[3]) * (size_t)na)) return (long)i;
+  }
+  return -1;
+}
+
+void ew_catalogue_hint(const ew_catalogue *cat, const char *name, char *buf, size_t size) {
+  if (!size) return;
+  buf[0] = '\0';
+  long i = ew_catalogue_reordered(cat, name);
+  if (i >= 0) {
+    const entry *e = &cat->e[i];
+    if (e->y_is)
+      snprintf(buf, size, "the catalogue writes it '%s', x = %s, y = %s", e->name, e->x_is, e->y_is);
+    else if (e->x_is)
+      snprintf(buf, size, "the catalogue writes it '%s', x = %s", e->name, e->x_is);
+    else
+      snprintf(buf, size, "did you mean '%s'?", e->name);
+    return;
+  }
+  const char *near = ew_catalogue_nearest(cat, name);
+  if (near) snprintf(buf, size, "did you mean '%s'?", near);
+}
+
 const char *ew_catalogue_dir(const ew_catalogue *cat) { return cat ? cat->dir : NULL; }
 
 /* ---- reading one file ----------------------------------------------------------------- */
@@ -921,10 +970,11 @@ static int entry_value(const ew_catalogue *cat, const entry *e, int p, int g, do
 }
 
 static ew_status unknown_name(const ew_catalogue *cat, const char *name, ew_error *err) {
-  const char *near = ew_catalogue_nearest(cat, name);
-  if (near)
-    return ew_fail(err, EW_ERR_INPUT, NULL, 0, "unknown material '%s' (did you mean '%s'?)",
-                   name ? name : "(null)", near);
+  char hint[160];
+  ew_catalogue_hint(cat, name, hint, sizeof hint);
+  if (hint[0])
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0, "unknown material '%s' (%s)",
+                   name ? name : "(null)", hint);
   return ew_fail(err, EW_ERR_INPUT, NULL, 0, "unknown material '%s'", name ? name : "(null)");
 }
 

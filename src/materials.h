@@ -114,6 +114,13 @@ const char *ew_catalogue_y_is(const ew_catalogue *cat, size_t i);
 long ew_catalogue_find(const ew_catalogue *cat, const char *name);
 /* The catalogue name closest to name (edit distance), for "did you mean" messages. */
 const char *ew_catalogue_nearest(const ew_catalogue *cat, const char *name);
+/* Index of the catalogue entry made of the same elements as name in another order (InAlAs
+ * → AlInAs, GaInAsP → InGaAsP), or -1: alloy names are written both ways in the trade, and
+ * the catalogue's x then means something else, so the message must say which is which. */
+long ew_catalogue_reordered(const ew_catalogue *cat, const char *name);
+/* A "did you mean" hint for an unknown material name into buf: the reordered catalogue
+ * spelling with what its x (and y) are, else the nearest name; "" when there is none. */
+void ew_catalogue_hint(const ew_catalogue *cat, const char *name, char *buf, size_t size);
 /* Directory actually loaded. */
 const char *ew_catalogue_dir(const ew_catalogue *cat);
 

@@ -367,6 +367,7 @@ static ew_status read_user_material(reader *r, const config_setting_t *g, size_t
   b->eps_r = ge > 0 ? eps : 0.0;
   b->a_nm = 0.0;
   b->lowest_valley = 0;
+  b->critical_thickness_nm = INFINITY; /* unstrained: no critical thickness */
   r->n_umat++;
   return EW_OK;
 }
@@ -525,6 +526,11 @@ static ew_status resolve_bands(const reader *r, const char *material, double x, 
 
 /* "unknown material" with the closest user or catalogue name. */
 static ew_status unknown_material(const reader *r, int line, const char *name, const char *layer) {
+  if (r->cat && ew_catalogue_reordered(r->cat, name) >= 0) {
+    char hint[160];
+    ew_catalogue_hint(r->cat, name, hint, sizeof hint);
+    return fail(r, line, "unknown material '%s' in layer '%s'; %s", name, layer, hint);
+  }
   const char *best = NULL;
   size_t best_d = (size_t)-1;
   for (size_t i = 0; i < r->n_umat; i++) {
@@ -799,8 +805,15 @@ static ew_status read_substrate(reader *r, const config_setting_t *root, ew_stac
     got = get_name(r, sub, "material", "in 'substrate'", s->substrate, &l);
     if (got < 0) return EW_ERR_INPUT;
     if (got == 0) return fail(r, line, "'substrate' needs a 'material'");
+    int lm = l;
     got = get_number(r, sub, "x", "in 'substrate'", &s->substrate_x, &l);
     if (got < 0) return EW_ERR_INPUT;
+    if (got == 0 && r->cat && ew_catalogue_is_alloy(r->cat, s->substrate) > 0)
+      return fail(r, lm, "substrate alloy '%s' needs its composition: add x = ...; to the "
+                  "'substrate' group", s->substrate);
+    if (got > 0 && r->cat && ew_catalogue_find(r->cat, s->substrate) >= 0 &&
+        !ew_catalogue_is_alloy(r->cat, s->substrate))
+      return fail(r, l, "substrate '%s' is a binary: it takes no x", s->substrate);
   } else {
     return fail(r, line, "'substrate' must be a material name (\"GaAs\") or a group "
                 "{ material = ...; x = ...; }, not %s", type_word(sub));

@@ -134,6 +134,9 @@ check "materials --x 2"         1 "--x"           materials AlGaAs --x 2
 check "materials --x nan"       1 "not a number"  materials AlGaAs --x nan
 check "materials --temperature -5" 1 "--temperature" materials AlGaAs --temperature -5
 check "materials with an unknown name" 1 "unknown material 'GaAss'.*GaAs" materials GaAss
+check "materials: a binary takes no --x" 1 "GaAs is a binary" materials GaAs --x 0.2
+check "materials: an alloy substrate needs --substrate-x" 1 "--substrate-x" materials InGaAs --x 0.2 --substrate InGaAs
+check "materials: --match-gap a ternary cannot reach" 1 "fixes x = 0.53" materials InGaAs --substrate InP --match-gap 0.90
 check "unknown option"          1 "--frobnicate"  solve "$ex" --frobnicate
 
 # ---- unwritable output fails before any work ----------------------------------------------
