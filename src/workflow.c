@@ -1487,6 +1487,14 @@ void ew_wf_match_result_free(ew_wf_match_result *r) {
   r->n = 0;
 }
 
+/* "e1-e2", "hh1-hh3": both ends in one band (an intersubband line, read in µm) */
+static int same_band_line(const char *line) {
+  size_t a = strcspn(line, "0123456789"), d = strcspn(line, "-");
+  if (!line[d]) return 0;
+  const char *b = line + d + 1;
+  return a > 0 && a < d && strcspn(b, "0123456789") == a && !strncmp(line, b, a);
+}
+
 void ew_wf_match_print(const ew_wf_match_result *r, FILE *out) {
   for (size_t i = 0; i < r->nkeys; i++) {
     char t[64];
@@ -1504,7 +1512,8 @@ void ew_wf_match_print(const ew_wf_match_result *r, FILE *out) {
   fprintf(out, "\n  %-3s", "#");
   for (size_t i = 0; i < r->nkeys; i++) fprintf(out, " %16s", r->key[i]);
   if (r->have_tolerance) fprintf(out, " %12s %14s %14s", "uncertainty", "at_target-tol", "at_target+tol");
-  for (size_t i = 0; i < r->nkeys; i++) fprintf(out, " %13s %13s", "energy_eV", "lambda_nm");
+  for (size_t i = 0; i < r->nkeys; i++)
+    fprintf(out, " %13s %13s", "energy_eV", same_band_line(r->line[i]) ? "lambda_um" : "lambda_nm");
   fputc('\n', out);
   for (size_t k = 0; k < r->n; k++) {
     const ew_wf_solution *s = &r->sol[k];
@@ -1512,8 +1521,11 @@ void ew_wf_match_print(const ew_wf_match_result *r, FILE *out) {
     for (size_t i = 0; i < r->nkeys; i++) fprintf(out, " %16.8g", s->value[i]);
     if (r->have_tolerance)
       fprintf(out, " %12.4g %14.8g %14.8g", s->uncertainty, s->value_minus, s->value_plus);
-    for (size_t i = 0; i < r->nkeys; i++)
-      fprintf(out, " %13.7f %13.3f", s->energy_eV[i], s->wavelength_nm[i]);
+    for (size_t i = 0; i < r->nkeys; i++) {
+      int um = same_band_line(r->line[i]);
+      fprintf(out, um ? " %13.7f %13.5f" : " %13.7f %13.3f", s->energy_eV[i],
+              um ? s->wavelength_nm[i] * 1e-3 : s->wavelength_nm[i]);
+    }
     fputc('\n', out);
   }
 }
