@@ -286,6 +286,12 @@ int main(int argc, char **argv) {
     fputs(usage, stdout);
     return 0;
   }
+  if (!strcmp(argv[1], "solve") || !strcmp(argv[1], "materials"))
+    for (int i = 2; i < argc; i++)
+      if (!strcmp(argv[i], "--help") || !strcmp(argv[i], "-h")) { /* their usage is the main one */
+        fputs(usage, stdout);
+        return 0;
+      }
   if (!strcmp(argv[1], "solve")) return cmd_solve(argc - 2, argv + 2);
   if (!strcmp(argv[1], "materials")) return cmd_materials(argc - 2, argv + 2);
   if (!strcmp(argv[1], "sweep")) { int ew_cli_sweep(int, char **); return ew_cli_sweep(argc - 2, argv + 2); }

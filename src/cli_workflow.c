@@ -349,6 +349,10 @@ int ew_cli_match(int argc, char **argv) {
     int r = common_option(match_usage, argc, argv, &i, &c);
     if (r < 0) return EW_ERR_USAGE;
     if (r > 0) continue;
+    if (!strcmp(a, "--help") || !strcmp(a, "-h")) {
+      fputs(match_usage, stdout);
+      return 0;
+    }
     if (!strcmp(a, "--vary") || !strcmp(a, "--line") || !strcmp(a, "--target") ||
         !strcmp(a, "--tolerance") || !strcmp(a, "--samples")) {
       if (i + 1 >= argc) return bad(match_usage, "%s needs a value", a);
@@ -426,6 +430,10 @@ int ew_cli_tolerance(int argc, char **argv) {
     int r = common_option(tolerance_usage, argc, argv, &i, &c);
     if (r < 0) return EW_ERR_USAGE;
     if (r > 0) continue;
+    if (!strcmp(a, "--help") || !strcmp(a, "-h")) {
+      fputs(tolerance_usage, stdout);
+      return 0;
+    }
     if (!strcmp(a, "--dx") || !strcmp(a, "--ladder")) {
       if (i + 1 >= argc) return bad(tolerance_usage, "%s needs a value", a);
       const char *v = argv[++i];

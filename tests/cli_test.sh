@@ -61,6 +61,15 @@ else
   nok "--help prints the usage and the exit codes on stdout" "stdout: $(head -n 3 "$tmp/out" | tr '\n' '|')"
 fi
 
+for c in solve materials sweep match tolerance; do
+  run "$bin" $c --help
+  if [ "$rc" -eq 0 ] && grep -q "usage" "$tmp/out" && grep -q "epiwell $c" "$tmp/out"; then
+    ok "$c --help prints its usage on stdout (exit 0)"
+  else
+    nok "$c --help prints its usage on stdout (exit 0)" "exit $rc" "stdout: $(head -n 2 "$tmp/out" | tr '\n' '|')"
+  fi
+done
+
 # ---- solve the examples, from the project root and from a temp dir ------------------
 for ex in $examples; do
   for where in root tmpdir; do
