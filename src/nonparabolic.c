@@ -8,6 +8,7 @@
 
 #include "constants.h"
 #include "error.h"
+#include "observables.h"
 
 #define NP_TOL_EV 1e-11 /* fixed point of each level */
 #define NP_MAX_IT 60
@@ -166,7 +167,8 @@ double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, con
 }
 
 int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int nonparabolic,
-                      size_t count, const double *E, const double *psi, double *out) {
+                      size_t count, const double *E, const double *psi, double *out,
+                      double *trk) {
   size_t n = g->n, nc = n + 1;
   if (!count) return 1;
   double *w = malloc(3 * nc * sizeof *w);
@@ -181,12 +183,16 @@ int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int no
       const double *v = psi + j * n;
       ctx_eval(&c, E[j], M, dM, Q);
       out[j] = (1.0 - slope_of(n, M, dM, v)) / inverse_mass_of(n, Q, v);
+      if (trk) trk[j] = ew_obs_inverse_mass_M(g, M, v);
     }
   } else { /* parabolic: Q_c once for the band (m_e, or the holes' Luttinger in-plane masses) */
     memset(Q, 0, nc * sizeof *Q);
     for (size_t k = 0; k < c.n; k++)
       Q[c.cell[k]] += c.len[k] / (band == EW_BAND_E ? c.me[k] : band == EW_BAND_HH ? c.mhp[k] : c.mlp[k]);
-    for (size_t j = 0; j < count; j++) out[j] = 1.0 / inverse_mass_of(n, Q, psi + j * n);
+    for (size_t j = 0; j < count; j++) {
+      out[j] = 1.0 / inverse_mass_of(n, Q, psi + j * n);
+      if (trk) trk[j] = ew_obs_inverse_mass(g, band, psi + j * n);
+    }
   }
   ctx_free(&c);
   free(w);

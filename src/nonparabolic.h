@@ -41,9 +41,12 @@ double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, con
  * mass grows with confinement and penetration into the barriers; heavy and light holes the
  * Luttinger in-plane masses m0/(γ1 ± γ2) of each layer (no valence mixing: a k∥ = 0
  * curvature only).  E[count] on the electron energy scale; psi: count B-normalised vectors of
- * g->n values, one after another.  out[count].  Returns 0 when out of memory. */
+ * g->n values, one after another.  out[count]; trk[count] (may be NULL): ⟨m0/m⟩ of each
+ * state in the discrete Thomas–Reiche–Kuhn form of ew_obs_inverse_mass_M, with the growth-
+ * axis masses at its energy.  Returns 0 when out of memory. */
 int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int nonparabolic,
-                      size_t count, const double *E, const double *psi, double *out);
+                      size_t count, const double *E, const double *psi, double *out,
+                      double *trk);
 
 /* Electron levels on grid g (vectors) and, if coarse != NULL, the same levels' values on the
  * coarse grid, with the Kane mass; window (lo, top) as for the parabolic solve.

@@ -39,6 +39,7 @@ void ew_result_free(ew_result *r) {
   free(r->warnings);
   free(r->states);
   free(r->psi);
+  free(r->mean_inv_mass);
   free(r->lines);
   ew_sp_info_free(r->sp);
   free(r);
@@ -253,7 +254,7 @@ static int inplane_masses(ew_result *r, ew_band b, size_t first, size_t count) {
   if (!E) return 0;
   for (size_t j = 0; j < count; j++) E[j] = r->states[first + j].energy_eV;
   int ok = ew_inplane_masses(r->stack, r->grid, b, r->nonparabolic, count, E,
-                             r->psi + first * r->grid->n, m);
+                             r->psi + first * r->grid->n, m, r->mean_inv_mass + first);
   for (size_t j = 0; ok && j < count; j++) r->states[first + j].inplane_mass = m[j];
   free(E);
   return ok;
@@ -273,18 +274,7 @@ static ew_status add_lines(ew_result *r, ew_error *err) {
     for (size_t i = 0; i < cnt[b] && i < K; i++) {
       size_t si = first[b] + i;
       const double *pi = r->psi + si * g->n;
-      double invm;
-      if (b == EW_BAND_E && r->nonparabolic) { /* the masses at the lower state's energy */
-        double *M = malloc((g->n + 1) * sizeof *M);
-        if (!M || !ew_nonparabolic_cell_masses(r->stack, g, r->states[si].energy_eV, M)) {
-          free(M);
-          return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (lines)");
-        }
-        invm = ew_obs_inverse_mass_M(g, M, pi);
-        free(M);
-      } else {
-        invm = ew_obs_inverse_mass(g, (ew_band)b, pi);
-      }
+      double invm = r->mean_inv_mass[si]; /* Kane: the masses at the lower state's energy */
       for (size_t j = i + 1; j < cnt[b]; j++) {
         size_t sj = first[b] + j;
         if (!grow((void **)&r->lines, &cap, r->n_lines + 1, sizeof *r->lines))
@@ -416,7 +406,8 @@ ew_status ew_solve_potential(const ew_stack *st, const ew_options *optin, const 
   r->n_states = total;
   r->states = calloc(total ? total : 1, sizeof *r->states);
   r->psi = malloc((total ? total : 1) * n * sizeof *r->psi);
-  if (!r->states || !r->psi) {
+  r->mean_inv_mass = malloc((total ? total : 1) * sizeof *r->mean_inv_mass);
+  if (!r->states || !r->psi || !r->mean_inv_mass) {
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu states)", total);
     goto fail;
   }

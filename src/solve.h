@@ -13,6 +13,9 @@ struct ew_result {
   size_t n_states;
   ew_state *states;        /* e…, hh…, lh…, each band ascending in confinement */
   double *psi;             /* [grid->n × n_states] */
+  double *mean_inv_mass;   /* [n_states] ⟨m0/m⟩ in the discrete Thomas–Reiche–Kuhn form
+                              (ew_obs_inverse_mass_M; Kane electrons: the masses at the
+                              state's own energy), for oscillator strengths */
   size_t n_lines;
   ew_line *lines;
   size_t band_count[EW_BAND_COUNT];
