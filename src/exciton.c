@@ -407,8 +407,11 @@ ew_status ew_line_exciton_params(const ew_result *r, const ew_line *ln, double *
     return ew_fail(err, EW_ERR_INPUT, NULL, 0, "exciton: not an interband line of this result");
   const ew_state *se = &r->states[ln->upper], *sh = &r->states[ln->lower];
   const ew_layer *ly = &r->stack->layers[se->layer];
-  double me = ly->bands.me;
-  double mh = sh->band == EW_BAND_HH ? ly->bands.mhh_par : ly->bands.mlh_par;
+  /* the subbands' own in-plane masses (Kane electrons heavier with confinement, barrier
+     penetration weighted in); the layer's band-edge masses if a result lacks them */
+  double me = se->inplane_mass > 0 ? se->inplane_mass : ly->bands.me;
+  double mh = sh->inplane_mass > 0 ? sh->inplane_mass
+              : sh->band == EW_BAND_HH ? ly->bands.mhh_par : ly->bands.mlh_par;
   if (!(me > 0) || !(mh > 0))
     return ew_fail(err, EW_ERR_INPUT, NULL, 0,
                    "exciton: layer '%s' has a non-positive in-plane mass (me %g, m%s,par %g)",

@@ -55,9 +55,9 @@ double ew_exciton_coulomb_G_ws(const ew_exciton_ws *ws, double d_nm, double lamb
  * hole_band EW_BAND_E (not a hole) gives 0, 0. */
 void ew_interband_polarisation(ew_band hole_band, double overlap, double *te, double *tm);
 
-/* In-plane reduced mass μ∥ = 1/(1/me + 1/m_h,∥) (m0) and relative permittivity (0 when the
- * material has none) of an interband line, from the layer where its electron state is most
- * probable (me, mhh_par or mlh_par, eps_r of r->stack->layers[state.layer].bands).  Fails
+/* In-plane reduced mass μ∥ = 1/(1/m_e,∥ + 1/m_h,∥) (m0) of an interband line from the two
+ * subbands' in-plane masses (ew_state.inplane_mass), and the relative permittivity (0 when
+ * the material has none) of the layer where its electron state is most probable.  Fails
  * with EW_ERR_INPUT when the line is not interband or a mass is not positive. */
 ew_status ew_line_exciton_params(const ew_result *r, const ew_line *ln, double *mu_par,
                                  double *eps_r, ew_error *err);

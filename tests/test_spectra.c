@@ -154,16 +154,15 @@ static void intersubband_errors(void **state) {
 
 /* ---- interband -----------------------------------------------------------------------------
  * Step heights S = te_strength · μ∥/m0 (TE weight × overlap: Chuang (2009) ch. 9, from
- * memory; μ∥ from the electron layer's me and in-plane hole mass), computed here
- * independently from the stack's masses. */
+ * memory; μ∥ from the two subbands' in-plane masses), computed here independently of the
+ * spectra code. */
 static double step_sum(const ew_result *r) {
   double s = 0.0;
   for (size_t j = 0; j < r->n_lines; j++) {
     const ew_line *ln = &r->lines[j];
     if (ln->kind != EW_LINE_INTERBAND) continue;
-    const ew_bands *b = &r->stack->layers[r->states[ln->upper].layer].bands;
     int hh = r->states[ln->lower].band == EW_BAND_HH;
-    double mh = hh ? b->mhh_par : b->mlh_par, mu = 1.0 / (1.0 / b->me + 1.0 / mh);
+    double mu = 1.0 / (1.0 / r->states[ln->upper].inplane_mass + 1.0 / r->states[ln->lower].inplane_mass);
     s += (hh ? 0.5 : 1.0 / 6.0) * ln->overlap * mu;
   }
   return s;
@@ -225,9 +224,9 @@ static void interband_staircase_and_peaks(void **state) {
     for (size_t j = 0; j < r->n_lines; j++) {
       const ew_line *ln = &r->lines[j];
       if (ln->kind != EW_LINE_INTERBAND) continue;
-      const ew_bands *b = &r->stack->layers[r->states[ln->upper].layer].bands;
       int hh = r->states[ln->lower].band == EW_BAND_HH;
-      double mu = 1.0 / (1.0 / b->me + 1.0 / (hh ? b->mhh_par : b->mlh_par));
+      double mu = 1.0 / (1.0 / r->states[ln->upper].inplane_mass +
+                         1.0 / r->states[ln->lower].inplane_mass);
       want += (hh ? 0.5 : 1.0 / 6.0) * ln->overlap * mu *
               (0.5 + atan((Es[k] - ln->energy_eV) / g) / M_PI);
     }
