@@ -148,14 +148,6 @@ static double inverse_mass_of(size_t n, const double *Q, const double *psi) {
   return inv;
 }
 
-int ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E, double *M) {
-  np_ctx c;
-  if (!ctx_build(&c, st, g)) return 0;
-  ctx_eval(&c, E, M, NULL, NULL);
-  ctx_free(&c);
-  return 1;
-}
-
 double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, const double *psi,
                              double *work) {
   size_t nc = g->n + 1;

@@ -22,9 +22,6 @@ int ew_nonparabolic_applies(const ew_stack *st);
  * parabolic m_e when the layer has no Kane energy. */
 double ew_kane_mass(const ew_bands *b, double eps_eV);
 
-/* ∫_cell m(E − Ec(z)) dz for the n+1 cells of g at total energy E (m0·nm), midpoint rule on
- * each cell ∩ layer piece.  Returns 0 when out of memory. */
-int ew_nonparabolic_cell_masses(const ew_stack *st, const ew_grid *g, double E, double *M);
 
 /* ∂λ/∂E = ⟨ψ|∂H/∂E|ψ⟩ = −K Σ_c (∂M_c/∂E) J_c², J_c = (ψ_c − ψ_{c−1})/M_c, of a Kane electron
  * state psi (B-normalised, level E) on grid g: the slope of the fixed point E = λ(H(E)), so

@@ -75,7 +75,9 @@ ew_status ew_intersubband_absorption(const ew_result *r, double sheet_density_cm
       break;
     }
   if (e1 == r->n_states) return EW_OK; /* no bound electron: nothing absorbs (bound-bound) */
-  double invm = ew_obs_inverse_mass(r->grid, EW_BAND_E, r->psi + e1 * r->grid->n);
+  /* the same ⟨e1|m0/m|e1⟩ the oscillator strengths were made with, so that f/m* is exactly
+     2ΔE|z|²/ħ² (Kane electrons: the masses at e1's energy) */
+  double invm = r->mean_inv_mass[e1];
   if (!(invm > 0) || !isfinite(invm))
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "intersubband absorption: <e1|m0/m|e1> = %g",
                    invm);
