@@ -437,7 +437,11 @@ static double newton_index(const tri *t, size_t idx, double x0, double w, double
     if (c > idx) b = fmin(b, x);
     else a = fmax(a, x);
     double nx = x + step;
-    int inside = nx > a && nx < b && step != 0.0 && isfinite(nx);
+    /* Newton on a determinant with many roots can wander without closing the bracket (seen
+       with a poor start far above the index's eigenvalue): after a few steps an open bracket
+       is closed by expansion instead */
+    int inside = nx > a && nx < b && step != 0.0 && isfinite(nx) &&
+                 (it < 30 || (isfinite(a) && isfinite(b)));
     if (inside && fabs(step) < 0.25 * tol) { /* converged: confirm the count brackets it */
       size_t cl = tri_count(t, nx - tol), ch = tri_count(t, nx + tol);
       *counts += 2;
@@ -455,7 +459,8 @@ static double newton_index(const tri *t, size_t idx, double x0, double w, double
     }
     x = nx;
   }
-  return 0.5 * (a + b);
+  double mid = 0.5 * (a + b);
+  return isfinite(mid) ? mid : NAN; /* never an infinity: NaN is "not found" to callers */
 }
 
 ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *guess, size_t k,

@@ -72,6 +72,8 @@ double ew_result_window_eV(const ew_result *r, ew_band b) { return r->window_eV[
  * outer walls would pass as levels).  In a field the faces' edges differ by the tilt and
  * every state is a resonance: each side then counts up to its highest point, and the box
  * states are dropped by their location (inner_probability). */
+#define EW_RICHARDSON_MAX_REL 0.02 /* see the estimate in ew_solve_potential */
+
 static double window_top(const ew_stack *st, const ew_grid *g, ew_band band) {
   double sgn = band == EW_BAND_E ? 1.0 : -1.0;
   if (st->field_kV_cm == 0.0)
@@ -443,7 +445,13 @@ ew_status ew_solve_potential(const ew_stack *st, const ew_options *optin, const 
       q->n = (int)kept;
       snprintf(q->label, sizeof q->label, "%s%u", ew_band_name((ew_band)b), (unsigned)(kept % 1000000u));
       q->error_eV = -1.0;
-      if (opt.error_estimate && j < ncv[b] && isnan(cvals[b][j])) {
+      /* Richardson needs the asymptotic regime: a coarse value that is missing, or that
+         differs from the fine one by more than 2 % of the level's height above the
+         potential minimum (a state whose oscillations the grid of step 2h cannot follow:
+         aliasing, not an O(h²) error; resolved levels differ by ~1e-4 of it), gives no
+         estimate and leaves the fine value as it is */
+      if (opt.error_estimate && j < ncv[b] &&
+          !(fabs(e - cvals[b][j]) <= EW_RICHARDSON_MAX_REL * (e - p->vmin))) {
         r->unestimated++;
       } else if (opt.error_estimate && j < ncv[b]) {
         double corr = (e - cvals[b][j]) / 3.0;
@@ -484,8 +492,9 @@ ew_status ew_solve_potential(const ew_stack *st, const ew_options *optin, const 
   }
   r->n_states = s;
   if (r->unestimated &&
-      !add_warning(r, "%zu state(s) have no error estimate: the grid of step 2h has fewer "
-                   "nodes than there are bound states; use a smaller grid step", r->unestimated)) {
+      !add_warning(r, "%zu state(s) have no error estimate: the grid of step 2h cannot resolve "
+                   "them (fewer nodes than bound states, or oscillations finer than its step); "
+                   "use a smaller grid step", r->unestimated)) {
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
     goto fail;
   }
