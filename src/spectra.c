@@ -23,7 +23,6 @@
 #include "constants.h"
 #include "error.h"
 #include "exciton.h"
-#include "observables.h"
 
 #ifndef M_PI
 #define M_PI 3.14159265358979323846
