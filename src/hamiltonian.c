@@ -37,29 +37,31 @@ ew_pencil *ew_pencil_build_mass(const ew_grid *g, ew_band band, const double *M)
   }
   const double K = EW_HB2M0_EVNM2;
   const double *V = g->pot[band];
-  p->vmin = INFINITY;
-  p->vmax = -INFINITY;
+  /* one pass (the values are finite: plain comparisons instead of fmin/fmax calls, and each
+     off-diagonal's square root once) — this runs for every level of every Kane iteration */
+  double vmin = INFINITY, vmax = -INFINITY, emax = 0.0, norm = 0.0, s_prev = 0.0;
+  double inv_prev = 1.0 / M[0];
   for (size_t i = 0; i < n; i++) {
-    p->diag[i] = K * (1.0 / M[i] + 1.0 / M[i + 1]) + g->w[i] * V[i];
+    double inv_next = 1.0 / M[i + 1];
+    p->diag[i] = K * (inv_prev + inv_next) + g->w[i] * V[i];
     p->b[i] = g->w[i];
-    if (i + 1 < n) p->off[i] = -K / M[i + 1];
-    p->vmin = fmin(p->vmin, V[i]);
-    p->vmax = fmax(p->vmax, V[i]);
-  }
-  double emax = 0.0, norm = 0.0;
-  for (size_t i = 0; i < n; i++) {
+    if (V[i] < vmin) vmin = V[i];
+    if (V[i] > vmax) vmax = V[i];
     p->std_d[i] = p->diag[i] / p->b[i];
+    double r = fabs(p->std_d[i]) + s_prev, s_next = 0.0;
     if (i + 1 < n) {
-      p->std_e2[i] = p->off[i] * p->off[i] / (p->b[i] * p->b[i + 1]);
-      emax = fmax(emax, p->std_e2[i]);
+      p->off[i] = -K / M[i + 1];
+      p->std_e2[i] = p->off[i] * p->off[i] / (p->b[i] * g->w[i + 1]);
+      if (p->std_e2[i] > emax) emax = p->std_e2[i];
+      s_next = sqrt(p->std_e2[i]);
+      r += s_next;
     }
+    if (r > norm) norm = r;
+    s_prev = s_next;
+    inv_prev = inv_next;
   }
-  for (size_t i = 0; i < n; i++) {
-    double r = fabs(p->std_d[i]);
-    if (i > 0) r += sqrt(p->std_e2[i - 1]);
-    if (i + 1 < n) r += sqrt(p->std_e2[i]);
-    norm = fmax(norm, r);
-  }
+  p->vmin = vmin;
+  p->vmax = vmax;
   p->std_pivmin = DBL_MIN * fmax(1.0, emax);
   p->std_norm = norm;
   return p;

@@ -28,7 +28,7 @@ int ew_nonparabolic_applies(const ew_stack *st) {
  * energy is held above −E_g/2 (derivative 0 there), and a mass that would turn negative
  * falls back to the band edge's. */
 static double kane_m(double me, double Ep, double Eg, double D, double eps, double *dm) {
-  double e = fmax(eps, -0.5 * Eg);
+  double e = eps > -0.5 * Eg ? eps : -0.5 * Eg; /* finite inputs: no fmax call in this hot path */
   double inv = 1.0 / me + Ep / 3.0 * (2.0 / (Eg + e) + 1.0 / (Eg + D + e) - 2.0 / Eg - 1.0 / (Eg + D));
   double m = inv > 0 ? 1.0 / inv : me;
   if (dm)
