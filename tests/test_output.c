@@ -30,21 +30,8 @@ static int group_setup(void **state) {
                    {6.0, 0.70, -0.80, 0.067, 0.35, 0.090},
                    {15.0, 1.00, -0.95, 0.090, 0.38, 0.105}};
   fx.st = tu_stack(3, ly);
-  ew_options opt;
-  ew_options_default(&opt);
-  opt.grid_step_nm = 0.1;
-  ew_error err;
-  memset(&err, 0, sizeof err);
-  if (ew_solve(fx.st, &opt, &fx.res, &err) != EW_OK) {
-    fprintf(stderr, "test_output: solving the fixture failed: %s\n", err.message);
+  if (tu_fixture_solve("test_output", fx.st, 0.1, &fx.res) || tu_mkdtemp("output", fx.base, sizeof fx.base))
     return -1;
-  }
-  const char *t = getenv("TMPDIR");
-  snprintf(fx.base, sizeof fx.base, "%s/epiwell-test-output.XXXXXX", t && *t ? t : "/tmp");
-  if (!mkdtemp(fx.base)) {
-    fprintf(stderr, "test_output: mkdtemp(%s): %s\n", fx.base, strerror(errno));
-    return -1;
-  }
   *state = &fx;
   return 0;
 }

@@ -41,21 +41,8 @@ static int group_setup(void **state) {
   snprintf(fx.st->layers[0].name, sizeof fx.st->layers[0].name, "left<b>");
   snprintf(fx.st->layers[1].name, sizeof fx.st->layers[1].name, "well & \"co\"");
   snprintf(fx.st->path, sizeof fx.st->path, "tests/in-memory.cfg");
-  ew_options opt;
-  ew_options_default(&opt);
-  opt.grid_step_nm = 0.1;
-  ew_error err;
-  memset(&err, 0, sizeof err);
-  if (ew_solve(fx.st, &opt, &fx.res, &err) != EW_OK) {
-    fprintf(stderr, "test_plot: solving the fixture failed: %s\n", err.message);
+  if (tu_fixture_solve("test_plot", fx.st, 0.1, &fx.res) || tu_mkdtemp("plot", fx.base, sizeof fx.base))
     return -1;
-  }
-  const char *t = getenv("TMPDIR");
-  snprintf(fx.base, sizeof fx.base, "%s/epiwell-test-plot.XXXXXX", t && *t ? t : "/tmp");
-  if (!mkdtemp(fx.base)) {
-    fprintf(stderr, "test_plot: mkdtemp(%s): %s\n", fx.base, strerror(errno));
-    return -1;
-  }
   *state = &fx;
   return 0;
 }

@@ -10,6 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <dirent.h>
+#include <errno.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
@@ -83,6 +84,30 @@ static inline ew_result *tu_solve_text(const ew_catalogue *cat, const char *text
   ew_result *r = NULL;
   if (ew_solve(*st, opt, &r, &err) != EW_OK) print_error("%s\n", ew_error_text(&err, buf, sizeof buf));
   return r;
+}
+
+/* Solve st at grid step step_nm into *res for a group fixture; 0 ok, −1 with the reason on
+ * stderr naming the test program who. */
+static inline int tu_fixture_solve(const char *who, const ew_stack *st, double step_nm,
+                                   ew_result **res) {
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.grid_step_nm = step_nm;
+  ew_error err;
+  memset(&err, 0, sizeof err);
+  if (ew_solve(st, &opt, res, &err) == EW_OK) return 0;
+  fprintf(stderr, "%s: solving the fixture failed: %s\n", who, err.message);
+  return -1;
+}
+
+/* A fresh temporary directory $TMPDIR/epiwell-test-TAG.XXXXXX (or under /tmp) into buf;
+ * 0 ok, −1 with the reason on stderr. */
+static inline int tu_mkdtemp(const char *tag, char *buf, size_t size) {
+  const char *t = getenv("TMPDIR");
+  snprintf(buf, size, "%s/epiwell-test-%s.XXXXXX", t && *t ? t : "/tmp", tag);
+  if (mkdtemp(buf)) return 0;
+  fprintf(stderr, "test_%s: mkdtemp(%s): %s\n", tag, buf, strerror(errno));
+  return -1;
 }
 
 /* Catalogue from the project's materials/ (tests run from the project root). */
