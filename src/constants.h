@@ -11,6 +11,9 @@
 #define EW_KB_EVK 8.617333262e-5        /* Boltzmann constant, eV/K (exact) */
 #define EW_EPS0_FM 8.8541878128e-12     /* vacuum permittivity, F/m */
 
+/* pi (the one definition: M_PI is not C11) */
+#define EW_PI 3.14159265358979323846
+
 /* hbar^2 / (2 m0) in eV nm^2 = 0.0380998212 */
 #define EW_HB2M0_EVNM2 (EW_HBAR_JS * EW_HBAR_JS / (2.0 * EW_M0_KG) / EW_E_C * 1e18)
 /* h c in eV nm = 1239.84198 */

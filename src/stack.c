@@ -193,6 +193,7 @@ static const char *type_word(const config_setting_t *s) {
  * report whether it agrees with the stored value; 1 when the literal cannot be located
  * (value on another line than its key), since then there is nothing better to compare. */
 static int int_is_exact(const reader *r, const char *key, int line, long long stored) {
+  if (!r->text) return 1; /* values set in the tree after parsing are stored exactly */
   const char *p = r->text;
   for (int l = 1; l < line && p; l++) {
     p = strchr(p, '\n');
@@ -959,8 +960,11 @@ static int include_line(const char *text) {
   return 0;
 }
 
-static ew_status read_text(const char *text, const char *name, const ew_catalogue *cat,
-                           ew_stack **out, ew_error *err) {
+/* Build the stack from a parsed tree.  text, when not NULL, is the source the tree was parsed
+ * from (to re-check integer literals, see int_is_exact); NULL when values were set in the tree
+ * after parsing (stack editing), where every stored integer is exact. */
+static ew_status read_tree(const config_t *cfg, const char *text, const char *name,
+                           const ew_catalogue *cat, ew_stack **out, ew_error *err) {
   reader r = {name, text, cat, err, NULL, 0, NULL, 0, 0.0};
   ew_stack *s = calloc(1, sizeof *s);
   if (!s) return ew_fail(err, EW_ERR_NOMEM, name, 0, "out of memory");
@@ -968,28 +972,14 @@ static ew_status read_text(const char *text, const char *name, const ew_catalogu
   if (nl >= sizeof s->path) nl = sizeof s->path - 1;
   memcpy(s->path, name, nl);
   s->path[nl] = '\0';
-
-  config_t cfg;
-  config_init(&cfg);
-  ew_status st = EW_OK;
-  int inc = include_line(text); /* robustness: see include_line */
-  if (inc > 0) {
-    st = fail(&r, inc, "'@include' is not supported in stack files: put every setting in "
-              "the one file");
-  } else if (!config_read_string(&cfg, text)) {
-    int line = config_error_line(&cfg);
-    const char *why = config_error_text(&cfg);
-    st = fail(&r, line > 0 ? line : 1, "cannot parse the stack file: %s (libconfig syntax: "
-              "key = value; groups in { }, lists in ( ))", why ? why : "syntax error");
-  } else {
-    const config_setting_t *root = config_root_setting(&cfg);
-    if (config_setting_length(root) == 0)
-      st = fail(&r, 1, text_is_blank(text) ? "the stack file is empty"
-                                           : "the stack file holds no settings (only comments)");
-    else
-      st = read_top(&r, root, s);
-  }
-  config_destroy(&cfg);
+  const config_setting_t *root = config_root_setting(cfg);
+  ew_status st;
+  if (config_setting_length(root) == 0)
+    st = fail(&r, 1, !text || text_is_blank(text)
+                         ? "the stack file is empty"
+                         : "the stack file holds no settings (only comments)");
+  else
+    st = read_top(&r, root, s);
   free(r.umat);
   free(r.ualloy);
   if (st) {
@@ -998,6 +988,38 @@ static ew_status read_text(const char *text, const char *name, const ew_catalogu
   }
   *out = s;
   return EW_OK;
+}
+
+ew_status ew_stack_from_config(const config_t *cfg, const char *display_name,
+                               const ew_catalogue *cat, ew_stack **out, ew_error *err) {
+  const char *name = display_name ? display_name : "<config>";
+  if (out) *out = NULL;
+  if (!out || !cfg)
+    return ew_fail(err, EW_ERR_INPUT, name, 0, "ew_stack_from_config: NULL %s",
+                   !out ? "output pointer" : "config");
+  return read_tree(cfg, NULL, name, cat, out, err);
+}
+
+static ew_status read_text(const char *text, const char *name, const ew_catalogue *cat,
+                           ew_stack **out, ew_error *err) {
+  config_t cfg;
+  config_init(&cfg);
+  ew_status st;
+  int inc = include_line(text); /* robustness: see include_line */
+  if (inc > 0) {
+    st = ew_fail(err, EW_ERR_INPUT, name, inc, "'@include' is not supported in stack files: "
+                 "put every setting in the one file");
+  } else if (!config_read_string(&cfg, text)) {
+    int line = config_error_line(&cfg);
+    const char *why = config_error_text(&cfg);
+    st = ew_fail(err, EW_ERR_INPUT, name, line > 0 ? line : 1, "cannot parse the stack file: "
+                 "%s (libconfig syntax: key = value; groups in { }, lists in ( ))",
+                 why ? why : "syntax error");
+  } else {
+    st = read_tree(&cfg, text, name, cat, out, err);
+  }
+  config_destroy(&cfg);
+  return st;
 }
 
 ew_status ew_stack_read_string(const char *text, const char *display_name,

@@ -59,6 +59,14 @@ struct ew_stack {
   double bias_V;           /* V(last face) − V(first face), volts */
 };
 
+/* Build and validate a stack from a libconfig tree that was parsed from a stack file and
+ * possibly edited since (stack editing: set a value in the tree, then call this).  Errors
+ * name display_name and the line each setting had in the parsed text.  Same checks and
+ * ownership as ew_stack_read_string; *out = NULL on error.  The tree is not changed. */
+struct config_t;
+ew_status ew_stack_from_config(const struct config_t *cfg, const char *display_name,
+                               const ew_catalogue *cat, ew_stack **out, ew_error *err);
+
 /* Band parameters of layer ly at fraction f ∈ [0, 1] of its thickness (graded layers are
  * interpolated linearly between samples). */
 void ew_layer_bands_at(const ew_layer *ly, double f, ew_bands *out);
