@@ -1,8 +1,10 @@
-# epiwell — build, demo, tests, benchmark, install.  `make demo` and `make check` install
-# missing Debian packages first (as root) or print the apt-get line to run.
+# epiwell — build, demo, tests, benchmark, install.  `make deps`, `make demo` and `make check`
+# install missing Debian packages first (as root) or print the apt-get line to run; a plain
+# `make` only builds.
 CC      ?= cc
 PREFIX  ?= /usr/local
 SANITIZE ?= 0
+WERROR  ?= 0
 BUILD   := build
 OPT     := -O2
 ifeq ($(SANITIZE),1)
@@ -10,12 +12,18 @@ ifeq ($(SANITIZE),1)
   OPT   := -O1 -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined
 endif
 
-PKGS      := superlu libconfig zlib lapacke lapack cairo
-# deferred (=): evaluated only after the deps step has run
+# what the library links against; LAPACK(E) only for the tests and the benchmark (references)
+PKGS      := superlu libconfig zlib cairo
+TEST_PKGS := lapacke lapack cmocka
+# deferred (=): evaluated only when a compile or link runs, after any deps step
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS))
 PKG_LIBS   = $(shell pkg-config --libs $(PKGS)) -lblas -lm
+TEST_LIBS  = $(shell pkg-config --libs $(TEST_PKGS))
 CFLAGS    += -std=c11 -Wall -Wextra -Wpedantic -g $(OPT) -fopenmp -D_POSIX_C_SOURCE=200809L \
-             -DEW_PREFIX='"$(PREFIX)"'
+             -DEW_PREFIX='"$(PREFIX)"' -MMD -MP
+ifeq ($(WERROR),1)
+  CFLAGS  += -Wformat=2 -Werror
+endif
 LDFLAGS   += $(filter -fsanitize=%,$(OPT)) -fopenmp
 
 # src/cli*.c make the command; everything else is the library
@@ -25,39 +33,57 @@ LIB_SRC := $(filter-out $(CLI_SRC),$(wildcard src/*.c))
 LIB_OBJ := $(patsubst src/%.c,$(BUILD)/obj/%.o,$(LIB_SRC))
 TESTS   := $(patsubst tests/%.c,$(BUILD)/tests/%,$(wildcard tests/test_*.c))
 
-.PHONY: all deps deps-check demo check bench install clean
+.PHONY: all deps deps-check demo check bench install clean FORCE
 all: $(BUILD)/epiwell
 
+# Only deps, demo and check install packages (as root) or print the apt-get line; a plain
+# build just says what is missing.
 deps:
 	@sh .ci/deps.sh
 deps-check:
 	@sh .ci/deps.sh check
 
-$(BUILD)/obj/%.o: src/%.c src/*.h | deps
+# The compiled-in catalogue prefix (and the flags) are part of every object: rebuild when
+# `make PREFIX=…` changes them.
+$(BUILD)/flags: FORCE
+	@mkdir -p $(BUILD)
+	@echo '$(CC) $(CFLAGS) $(PREFIX)' | cmp -s - $@ || echo '$(CC) $(CFLAGS) $(PREFIX)' > $@
+$(BUILD)/pkgs-ok:
+	@pkg-config --exists $(PKGS) || { echo "epiwell: missing build packages; run 'make deps' (as root) first" >&2; exit 1; }
+	@mkdir -p $(BUILD) && touch $@
+
+$(BUILD)/obj/%.o: src/%.c $(BUILD)/flags | $(BUILD)/pkgs-ok
 	@mkdir -p $(dir $@)
 	$(CC) $(CFLAGS) $(PKG_CFLAGS) -c $< -o $@
 
 $(BUILD)/libepiwell.a: $(LIB_OBJ)
+	rm -f $@
 	ar rcs $@ $^
 
 $(BUILD)/epiwell: $(CLI_OBJ) $(BUILD)/libepiwell.a
 	$(CC) $(LDFLAGS) -o $@ $^ $(PKG_LIBS)
 
-$(BUILD)/tests/%: tests/%.c tests/*.h $(BUILD)/libepiwell.a | deps-check
+$(BUILD)/tests/%: tests/%.c $(BUILD)/libepiwell.a $(BUILD)/flags
 	@mkdir -p $(dir $@)
 	$(CC) $(CFLAGS) $(PKG_CFLAGS) -Isrc -o $@ $< $(BUILD)/libepiwell.a $(LDFLAGS) \
-	  $(PKG_LIBS) $$(pkg-config --libs cmocka)
+	  $(PKG_LIBS) $(TEST_LIBS)
 
-demo: $(BUILD)/epiwell
+-include $(wildcard $(BUILD)/obj/*.d $(BUILD)/tests/*.d $(BUILD)/*.d)
+
+demo: deps
+	@$(MAKE) --no-print-directory $(BUILD)/epiwell
 	$(BUILD)/epiwell solve examples/detector_well.cfg
 
-check: $(BUILD)/epiwell $(TESTS)
+check: deps-check
+	@$(MAKE) --no-print-directory $(BUILD)/epiwell $(TESTS)
 	@sh tests/run_all.sh $(BUILD)
 
-$(BUILD)/bench: tests/bench.c $(BUILD)/libepiwell.a | deps
-	$(CC) $(CFLAGS) $(PKG_CFLAGS) -Isrc -o $@ $< $(BUILD)/libepiwell.a $(LDFLAGS) $(PKG_LIBS)
+$(BUILD)/bench: tests/bench.c $(BUILD)/libepiwell.a $(BUILD)/flags
+	$(CC) $(CFLAGS) $(PKG_CFLAGS) -Isrc -o $@ $< $(BUILD)/libepiwell.a $(LDFLAGS) $(PKG_LIBS) \
+	  $(TEST_LIBS)
 
-bench: $(BUILD)/bench $(BUILD)/epiwell
+bench: deps-check
+	@$(MAKE) --no-print-directory $(BUILD)/bench $(BUILD)/epiwell
 	$(BUILD)/bench $(BUILD)/epiwell
 
 install: $(BUILD)/epiwell $(BUILD)/libepiwell.a
@@ -89,7 +115,7 @@ FUZZ_CFLAGS = -std=c11 -Wall -Wextra -Wpedantic -g -O1 $(FUZZ_SAN) -D_POSIX_C_SO
               -DEW_PREFIX='"$(PREFIX)"' $(PKG_CFLAGS)
 FUZZ_OBJ   := $(patsubst src/%.c,$(FUZZ_BUILD)/obj/%.o,$(LIB_SRC))
 .PHONY: fuzz valgrind
-$(FUZZ_BUILD)/obj/%.o: src/%.c src/*.h | deps
+$(FUZZ_BUILD)/obj/%.o: src/%.c $(BUILD)/flags | $(BUILD)/pkgs-ok
 	@mkdir -p $(dir $@)
 	$(FUZZ_CC) $(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link -c $< -o $@
 $(FUZZ_BUILD)/fuzz_stack: tests/fuzz_stack.c $(FUZZ_OBJ)

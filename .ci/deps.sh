@@ -1,10 +1,14 @@
 #!/bin/sh
 # deps.sh — make sure the Debian packages epiwell builds against are present.
 # As root: apt-get update, then install what is missing.  Otherwise: print the exact
-# apt-get line and fail.  Usage: deps.sh [check]   (check also wants the test runner)
+# apt-get line and fail.  Usage: deps.sh [check|ci]   (check also wants the test runner and
+# the picture renderers; ci also the leak checker)
 set -u
 pkgs="gcc make pkg-config libsuperlu-dev libconfig-dev zlib1g-dev liblapack-dev liblapacke-dev libblas-dev libcairo2-dev"
-[ "${1:-}" = check ] && pkgs="$pkgs libcmocka-dev librsvg2-bin chromium"
+case "${1:-}" in
+check) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium" ;;
+ci) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium valgrind" ;;
+esac
 missing=""
 for p in $pkgs; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing="$missing $p"
