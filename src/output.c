@@ -21,7 +21,18 @@
 static const ew_state *st_of(const ew_result *r, size_t i) { return &r->states[i]; }
 
 /* ---- table ---------------------------------------------------------------------------- */
-void ew_output_table(const ew_result *r, FILE *out) {
+/* Width of the name column: the longest layer name, at least 14, so long names keep the
+ * grid (also the "mostly in" column of the levels). */
+static int name_width(const ew_stack *st, int material) {
+  int w = 14;
+  for (size_t k = 0; k < st->n_layers; k++) {
+    int len = (int)strlen(material ? st->layers[k].material : st->layers[k].name);
+    if (len > w) w = len;
+  }
+  return w;
+}
+
+static void table_head(const ew_result *r, FILE *out) {
   const ew_stack *st = r->stack;
   fprintf(out, "epiwell %s  %s  T = %g K  grid %.4g nm (%zu nodes)\n", EW_VERSION, st->path,
           st->temperature_K, r->step_nm, r->grid->n);
@@ -29,14 +40,11 @@ void ew_output_table(const ew_result *r, FILE *out) {
   if (st->field_kV_cm != 0.0) fprintf(out, "; field %g kV/cm along +z", st->field_kV_cm);
   if (st->substrate[0]) fprintf(out, "; pseudomorphic on %s", st->substrate);
   fprintf(out, "\n\n");
+}
+
+static void table_layers(const ew_stack *st, FILE *out) {
+  int wn = name_width(st, 0), wm = name_width(st, 1);
   fprintf(out, "Layers (growth order)\n");
-  /* name columns as wide as the longest name (at least 14), so long names keep the grid */
-  int wn = 14, wm = 14;
-  for (size_t k = 0; k < st->n_layers; k++) {
-    int ln = (int)strlen(st->layers[k].name), lm = (int)strlen(st->layers[k].material);
-    if (ln > wn) wn = ln;
-    if (lm > wm) wm = lm;
-  }
   fprintf(out, "  %-3s %-*s %-*s %6s %10s %9s %9s %9s %9s %7s %7s %7s %8s\n", "#", wn, "name", wm,
           "material", "x", "from_nm", "thick_nm", "Ec_eV", "Ev_hh_eV", "Ev_lh_eV", "me", "mhh",
           "mlh", "strain_%");
@@ -50,6 +58,11 @@ void ew_output_table(const ew_result *r, FILE *out) {
             ly->bands.Ev_hh_eV, ly->bands.Ev_lh_eV, ly->bands.me, ly->bands.mhh_z,
             ly->bands.mlh_z, 100.0 * ly->bands.eps_par);
   }
+}
+
+static void table_levels(const ew_result *r, FILE *out) {
+  const ew_stack *st = r->stack;
+  int wn = name_width(st, 0);
   fprintf(out, "\nBound levels (%zu e, %zu hh, %zu lh; count certified by inertia)\n",
           r->band_count[0], r->band_count[1], r->band_count[2]);
   fprintf(out, "  %-6s %12s %11s %11s  %-*s %6s %8s\n", "state", "energy_eV", "depth_meV",
@@ -64,6 +77,9 @@ void ew_output_table(const ew_result *r, FILE *out) {
   }
   if (r->n_states == 0)
     fprintf(out, "  (none: no band binds a state below the edges of its outer layers)\n");
+}
+
+static void table_lines(const ew_result *r, FILE *out) {
   int head = 0;
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
@@ -91,38 +107,50 @@ void ew_output_table(const ew_result *r, FILE *out) {
             ln->pl_peak_eV, ln->te_strength, ln->tm_strength,
             ln->allowed ? "allowed" : "forbidden");
   }
-  if (r->sp) { /* self-consistent Schrödinger–Poisson (doped stacks) */
-    const ew_sp_info *sp = r->sp;
-    fprintf(out, "\nSelf-consistent Schrödinger–Poisson (%s)\n",
-            st->bias_given ? "bias between the two faces"
-            : st->surface_given ? "pinned first face, neutral last face"
-                                : "charge-neutral, flat ends");
-    fprintf(out, "  Fermi level %.6f eV", sp->fermi_eV);
-    if (st->bias_given) fprintf(out, " (first face), %.6f eV (last face)", sp->fermi_last_eV);
-    fprintf(out, "; %d iterations, residual max|dU| %.2e eV; T = %g K\n", sp->iterations,
-            sp->residual_eV, sp->temperature_K);
-    fprintf(out, "  free electrons %.4e cm^-2 (subbands %.4e), holes %.4e cm^-2 (subbands %.4e)\n",
-            sp->electrons_cm2, sp->electrons_bound_cm2, sp->holes_cm2, sp->holes_bound_cm2);
-    fprintf(out, "  ionised donors %.4e cm^-2, ionised acceptors %.4e cm^-2\n", sp->donors_ion_cm2,
-            sp->acceptors_ion_cm2);
-    fprintf(out, "  %-6s %12s %14s\n", "state", "energy_eV", "sheet_cm^-2");
-    for (size_t i = 0; i < r->n_states; i++)
-      fprintf(out, "  %-6s %12.6f %14.4e\n", st_of(r, i)->label, st_of(r, i)->energy_eV,
-              sp->sheet_cm2[i]);
-    int dh = 0;
-    for (size_t i = 0; i < r->n_lines; i++) {
-      const ew_line *ln = &r->lines[i];
-      if (ln->kind != EW_LINE_INTERSUBBAND) continue;
-      if (!dh++)
-        fprintf(out, "  Depolarised intersubband lines\n  %-10s %11s %11s %11s %10s\n", "line",
-                "bare_meV", "shift_meV", "depol_meV", "lambda_um");
-      char nm[40];
-      snprintf(nm, sizeof nm, "%s-%s", st_of(r, ln->lower)->label, st_of(r, ln->upper)->label);
-      double d = sp->depol_eV[i], e = ln->energy_eV + d;
-      fprintf(out, "  %-10s %11.3f %11.3f %11.3f %10.4f\n", nm, ln->energy_eV * 1e3, d * 1e3,
-              e * 1e3, EW_HC_EVNM / e / 1e3);
-    }
+}
+
+/* Self-consistent Schrödinger–Poisson (doped stacks): Fermi level, densities, sheet
+ * densities and the depolarised intersubband lines. */
+static void table_sp(const ew_result *r, FILE *out) {
+  const ew_stack *st = r->stack;
+  const ew_sp_info *sp = r->sp;
+  fprintf(out, "\nSelf-consistent Schrödinger–Poisson (%s)\n",
+          st->bias_given ? "bias between the two faces"
+          : st->surface_given ? "pinned first face, neutral last face"
+                              : "charge-neutral, flat ends");
+  fprintf(out, "  Fermi level %.6f eV", sp->fermi_eV);
+  if (st->bias_given) fprintf(out, " (first face), %.6f eV (last face)", sp->fermi_last_eV);
+  fprintf(out, "; %d iterations, residual max|dU| %.2e eV; T = %g K\n", sp->iterations,
+          sp->residual_eV, sp->temperature_K);
+  fprintf(out, "  free electrons %.4e cm^-2 (subbands %.4e), holes %.4e cm^-2 (subbands %.4e)\n",
+          sp->electrons_cm2, sp->electrons_bound_cm2, sp->holes_cm2, sp->holes_bound_cm2);
+  fprintf(out, "  ionised donors %.4e cm^-2, ionised acceptors %.4e cm^-2\n", sp->donors_ion_cm2,
+          sp->acceptors_ion_cm2);
+  fprintf(out, "  %-6s %12s %14s\n", "state", "energy_eV", "sheet_cm^-2");
+  for (size_t i = 0; i < r->n_states; i++)
+    fprintf(out, "  %-6s %12.6f %14.4e\n", st_of(r, i)->label, st_of(r, i)->energy_eV,
+            sp->sheet_cm2[i]);
+  int dh = 0;
+  for (size_t i = 0; i < r->n_lines; i++) {
+    const ew_line *ln = &r->lines[i];
+    if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+    if (!dh++)
+      fprintf(out, "  Depolarised intersubband lines\n  %-10s %11s %11s %11s %10s\n", "line",
+              "bare_meV", "shift_meV", "depol_meV", "lambda_um");
+    char nm[40];
+    snprintf(nm, sizeof nm, "%s-%s", st_of(r, ln->lower)->label, st_of(r, ln->upper)->label);
+    double d = sp->depol_eV[i], e = ln->energy_eV + d;
+    fprintf(out, "  %-10s %11.3f %11.3f %11.3f %10.4f\n", nm, ln->energy_eV * 1e3, d * 1e3,
+            e * 1e3, EW_HC_EVNM / e / 1e3);
   }
+}
+
+void ew_output_table(const ew_result *r, FILE *out) {
+  table_head(r, out);
+  table_layers(r->stack, out);
+  table_levels(r, out);
+  table_lines(r, out);
+  if (r->sp) table_sp(r, out);
   if (r->n_warnings) {
     fprintf(out, "\nWarnings\n");
     for (size_t i = 0; i < r->n_warnings; i++) fprintf(out, "  - %s\n", r->warnings[i]);
