@@ -1,14 +1,16 @@
 /* plot.h — pictures of a result: the band diagram (band edges along z, every bound level
  * with its wavefunction) and a generic line chart for sweeps and spectra.
  *
- * Both are drawn once, by one set of drawing calls, onto either of two back ends chosen by
- * the file name's extension: ".svg" is written by our own code as plain, escaped SVG text
- * (labels stay searchable and the report can inline it), ".png" is rasterised by cairo —
- * the only cairo user in the library.  Layout never depends on the back end (text widths
+ * Both are drawn once, by one set of drawing calls (band_diagram.c, xy_chart.c), onto the
+ * canvas of canvas.h with either of two back ends chosen by the file name's extension:
+ * ".svg" is written by our own code as plain, escaped SVG text (canvas_svg.c; labels stay
+ * searchable and the report can inline it), ".png" is rasterised by cairo (canvas_png.c,
+ * the only cairo user in the library).  Layout never depends on the back end (text widths
  * are estimated, not measured), so the two formats show the same picture.
  *
  * Every file is written under a temporary name in the target's directory and renamed into
- * place only when complete: an error leaves no file behind and a previous picture intact. */
+ * place only when complete (atomic.c): an error leaves no file behind and a previous
+ * picture intact. */
 #ifndef EW_PLOT_H
 #define EW_PLOT_H
 

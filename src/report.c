@@ -1,14 +1,13 @@
 /* report.c — the HTML report (see report.h).  Pure formatting of numbers the result
- * already holds, plus the catalogue's parameter table; the picture comes from plot.c. */
+ * already holds, plus the catalogue's parameter table; the picture comes from plot.c, the
+ * whole-or-nothing file from atomic.c. */
 #include "report.h"
 
-#include <errno.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
-#include <unistd.h>
 
+#include "atomic.h"
 #include "error.h"
 #include "grid.h"
 #include "materials.h"
@@ -222,6 +221,45 @@ static void lines_tables(FILE *f, const ew_result *r) {
   if (!head && !head2) fputs("<p>None.</p>\n", f);
 }
 
+/* The parameters of one catalogue material at the layer's x, each with its source. */
+static void params_table(FILE *f, const ew_catalogue *cat, const ew_layer *ly) {
+  ew_params p;
+  ew_error e = {0};
+  if (ew_material_params(cat, ly->material, ly->x, &p, &e) != EW_OK) {
+    /* the page still helps without this one table: say why it is missing */
+    fputs("<p class=\"warn\">Parameters unavailable: ", f);
+    h(f, e.message);
+    fputs("</p>\n", f);
+    return;
+  }
+  fputs("<table>\n<tr><th>parameter</th><th>value</th><th>unit</th><th>source</th></tr>\n", f);
+  for (int q = 0; q < EW_P_COUNT; q++) {
+    if (!p.have[q]) continue;
+    fputs("<tr><td>", f);
+    h(f, ew_param_key((ew_param)q));
+    fputs("</td>", f);
+    num(f, "%.6g", p.v[q]);
+    fputs("<td>", f);
+    h(f, ew_param_unit((ew_param)q));
+    fputs("</td><td class=\"src\">", f);
+    h(f, p.source[q] ? p.source[q] : "");
+    fputs("</td></tr>\n", f);
+  }
+  fputs("</table>\n", f);
+}
+
+/* Layer k has the material and x of an earlier layer (its table is already there). */
+static int seen_before(const ew_stack *st, size_t k) {
+  const ew_layer *ly = &st->layers[k];
+  for (size_t j = 0; j < k; j++) {
+    const ew_layer *o = &st->layers[j];
+    if (!strcmp(o->material, ly->material) && o->has_x == ly->has_x &&
+        (!ly->has_x || o->x == ly->x))
+      return 1;
+  }
+  return 0;
+}
+
 /* One parameter table per distinct (material, x) in the stack, in stack order. */
 static void params_tables(FILE *f, const ew_result *r, const ew_catalogue *cat) {
   const ew_stack *st = r->stack;
@@ -238,46 +276,17 @@ static void params_tables(FILE *f, const ew_result *r, const ew_catalogue *cat) 
         f);
   for (size_t k = 0; k < st->n_layers; k++) {
     const ew_layer *ly = &st->layers[k];
-    int seen = 0;
-    for (size_t j = 0; j < k && !seen; j++) {
-      const ew_layer *o = &st->layers[j];
-      seen = !strcmp(o->material, ly->material) && o->has_x == ly->has_x &&
-             (!ly->has_x || o->x == ly->x);
-    }
-    if (seen) continue;
+    if (seen_before(st, k)) continue;
     fputs("<h3>", f);
     h(f, ly->material);
     if (ly->has_x) fprintf(f, ", x = %.3f", ly->x);
     fputs("</h3>\n", f);
-    if (ly->user_material) {
+    if (ly->user_material)
       fputs("<p>User-defined in the stack file: Ec, Ev and the masses are as given there "
             "(see the layer table); no source.</p>\n",
             f);
-      continue;
-    }
-    ew_params p;
-    ew_error e = {0};
-    if (ew_material_params(cat, ly->material, ly->x, &p, &e) != EW_OK) {
-      /* the page still helps without this one table: say why it is missing */
-      fputs("<p class=\"warn\">Parameters unavailable: ", f);
-      h(f, e.message);
-      fputs("</p>\n", f);
-      continue;
-    }
-    fputs("<table>\n<tr><th>parameter</th><th>value</th><th>unit</th><th>source</th></tr>\n", f);
-    for (int q = 0; q < EW_P_COUNT; q++) {
-      if (!p.have[q]) continue;
-      fputs("<tr><td>", f);
-      h(f, ew_param_key((ew_param)q));
-      fputs("</td>", f);
-      num(f, "%.6g", p.v[q]);
-      fputs("<td>", f);
-      h(f, ew_param_unit((ew_param)q));
-      fputs("</td><td class=\"src\">", f);
-      h(f, p.source[q] ? p.source[q] : "");
-      fputs("</td></tr>\n", f);
-    }
-    fputs("</table>\n", f);
+    else
+      params_table(f, cat, ly);
   }
 }
 
@@ -309,20 +318,13 @@ ew_status ew_report_write(const ew_result *r, const ew_catalogue *cat, const cha
   if (!r || !dir) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_report_write: NULL argument");
   ew_status rc = ew_output_make_dir(dir, err);
   if (rc != EW_OK) return rc;
-  char fin[1200], tmp[1300];
+  char fin[1200];
   snprintf(fin, sizeof fin, "%s/report.html", dir);
-  snprintf(tmp, sizeof tmp, "%s/.report.html.tmp%ld", dir, (long)getpid());
-  struct stat sb;
-  if (stat(fin, &sb) == 0 && !S_ISREG(sb.st_mode))
-    return ew_fail(err, EW_ERR_IO, fin, 0, "exists and is not a regular file");
-  FILE *f = fopen(tmp, "w");
-  if (!f) return ew_fail(err, EW_ERR_IO, tmp, 0, "cannot write: %s", strerror(errno));
-  rc = write_page(f, r, cat, err);
-  if (rc == EW_OK && ferror(f)) rc = ew_fail(err, EW_ERR_IO, fin, 0, "write failed (disk full?)");
-  if (fclose(f) != 0 && rc == EW_OK)
-    rc = ew_fail(err, EW_ERR_IO, fin, 0, "write failed (disk full?)");
-  if (rc == EW_OK && rename(tmp, fin) != 0)
-    rc = ew_fail(err, EW_ERR_IO, fin, 0, "cannot rename into place: %s", strerror(errno));
-  if (rc != EW_OK) remove(tmp);
+  ew_atomic_file a;
+  rc = ew_atomic_open(&a, fin, err);
+  if (rc != EW_OK) return rc;
+  rc = write_page(a.f, r, cat, err);
+  if (rc == EW_OK) return ew_atomic_commit(&a, err);
+  ew_atomic_abort(&a);
   return rc;
 }

@@ -11,6 +11,7 @@
 
 #include "testutil.h"
 
+#include "grid.h"
 #include "output.h"
 #include "solve.h"
 
@@ -435,6 +436,143 @@ static void csv_rename_failure_keeps_previous(void **state) {
   }
 }
 
+/* ---- 3b. RFC 4180 quoting ------------------------------------------------------------------ */
+/* A small RFC 4180 reader, independent of the writer (RFC 4180 section 2: fields separated by
+ * commas, records by line breaks; a field in double quotes may hold commas, quotes written
+ * twice, CR and LF).  Records end in LF or CRLF.  Fills rows[r][c] with malloc'd cells;
+ * returns the number of records, or −1 on a syntax error (a quote inside an unquoted field,
+ * text after a closing quote, an unterminated quoted field). */
+enum { CSV_MAX_ROWS = 2048, CSV_MAX_COLS = 32 };
+typedef struct {
+  char *cell[CSV_MAX_ROWS][CSV_MAX_COLS];
+  size_t ncols[CSV_MAX_ROWS];
+} csv_table;
+
+static long rfc4180_parse(const char *t, csv_table *tab) {
+  long nr = 0;
+  const char *p = t;
+  while (*p) {
+    if (nr >= CSV_MAX_ROWS) return -1;
+    size_t nc = 0;
+    for (;;) { /* one field */
+      char *buf = malloc(strlen(p) + 1);
+      size_t n = 0;
+      if (!buf) return -1;
+      if (*p == '"') {
+        for (p++;; p++) {
+          if (!*p) return free(buf), -1;
+          if (*p == '"') {
+            if (p[1] != '"') break;
+            p++;
+          }
+          buf[n++] = *p;
+        }
+        p++; /* the closing quote */
+        if (*p && *p != ',' && *p != '\n' && !(*p == '\r' && p[1] == '\n')) return free(buf), -1;
+      } else {
+        for (; *p && *p != ',' && *p != '\n' && !(*p == '\r' && p[1] == '\n'); p++) {
+          if (*p == '"') return free(buf), -1;
+          buf[n++] = *p;
+        }
+      }
+      buf[n] = '\0';
+      if (nc >= CSV_MAX_COLS) return free(buf), -1;
+      tab->cell[nr][nc++] = buf;
+      if (*p == ',') {
+        p++;
+        continue;
+      }
+      if (*p == '\r') p++;
+      if (*p == '\n') p++;
+      break;
+    }
+    tab->ncols[nr++] = nc;
+  }
+  return nr;
+}
+
+static void csv_table_free(csv_table *tab, long nr) {
+  for (long r = 0; r < nr; r++)
+    for (size_t c = 0; c < tab->ncols[r]; c++) free(tab->cell[r][c]);
+}
+
+/* Column index of name in the header row; fails when missing. */
+static size_t csv_col(const csv_table *tab, const char *name) {
+  for (size_t c = 0; c < tab->ncols[0]; c++)
+    if (!strcmp(tab->cell[0][c], name)) return c;
+  fail_msg("no column %s", name);
+  return 0;
+}
+
+static csv_table *read_csv(const char *dir, const char *name, long *nr) {
+  char p[1200];
+  path_in(p, sizeof p, dir, name);
+  char *t = slurp(p, NULL);
+  assert_non_null(t);
+  csv_table *tab = calloc(1, sizeof *tab);
+  assert_non_null(tab);
+  *nr = rfc4180_parse(t, tab);
+  free(t);
+  if (*nr < 1) fail_msg("%s is not RFC 4180 CSV", name);
+  for (long r = 1; r < *nr; r++) /* every record has the header's field count (RFC 4180 2.4) */
+    if (tab->ncols[r] != tab->ncols[0])
+      fail_msg("%s record %ld: %zu fields, header %zu", name, r, tab->ncols[r], tab->ncols[0]);
+  return tab;
+}
+
+/* Layer names with a comma, a quote and a line break: profile.csv and levels.csv still parse
+ * into the documented columns, and the parsed cells are the library's values.  Tolerances:
+ * half a unit in the last printed decimal (%.6f, %.8f, %.10f), doubled for safety. */
+static void csv_quotes_layer_names(void **state) {
+  fixture *fx = *state;
+  static const char *const names[3] = {"left, barrier", "well \"A\"", "right\r\nbarrier"};
+  char saved[3][EW_NAME_MAX];
+  for (int k = 0; k < 3; k++) {
+    memcpy(saved[k], fx->st->layers[k].name, EW_NAME_MAX);
+    snprintf(fx->st->layers[k].name, EW_NAME_MAX, "%s", names[k]);
+  }
+  char dir[1024];
+  fresh_dir(fx, "quoted", dir, sizeof dir);
+  ew_status rc = ew_output_csv_dir(fx->res, dir, 0, NULL);
+  for (int k = 0; k < 3; k++) memcpy(fx->st->layers[k].name, saved[k], EW_NAME_MAX);
+  assert_int_equal(rc, EW_OK);
+
+  const ew_result *r = fx->res;
+  size_t nodes = ew_result_node_count(r);
+  const double *z = ew_result_z_nm(r), *ec = ew_result_edge_eV(r, EW_BAND_E);
+  long nr;
+  csv_table *tab = read_csv(dir, "profile.csv", &nr);
+  assert_int_equal(nr, (long)nodes + 1);
+  assert_int_equal(tab->ncols[0], 14);
+  size_t cz = csv_col(tab, "z_nm"), cec = csv_col(tab, "Ec_eV"), cl = csv_col(tab, "layer");
+  for (size_t i = 0; i < nodes; i++) {
+    char **row = tab->cell[i + 1];
+    TU_NEAR(strtod(row[cz], NULL), z[i], 1e-6, "z_nm printed with %.6f");
+    TU_NEAR(strtod(row[cec], NULL), ec[i], 1e-8, "Ec_eV printed with %.8f");
+    const char *want = names[r->grid->layer[i]];
+    if (strcmp(row[cl], want))
+      fail_msg("profile.csv node %zu: layer \"%s\", want \"%s\"", i, row[cl], want);
+  }
+  csv_table_free(tab, nr);
+  free(tab);
+
+  size_t ns = ew_result_state_count(r);
+  tab = read_csv(dir, "levels.csv", &nr);
+  assert_int_equal(nr, (long)ns + 1);
+  assert_int_equal(tab->ncols[0], 13);
+  size_t clab = csv_col(tab, "label"), ce = csv_col(tab, "energy_eV");
+  cl = csv_col(tab, "layer");
+  for (size_t i = 0; i < ns; i++) {
+    const ew_state *s = ew_result_state(r, i);
+    char **row = tab->cell[i + 1];
+    assert_string_equal(row[clab], s->label);
+    TU_NEAR(strtod(row[ce], NULL), s->energy_eV, 1e-10, "energy_eV printed with %.10f");
+    assert_string_equal(row[cl], names[s->layer]);
+  }
+  csv_table_free(tab, nr);
+  free(tab);
+}
+
 /* ---- 4. JSON and table ------------------------------------------------------------------------ */
 /* Brackets and braces balance outside strings, never close below zero, and the text is one
  * object followed only by whitespace. */
@@ -521,6 +659,21 @@ static void json_escapes_names(void **state) {
   free(t);
 }
 
+/* RFC 8259 section 7: control characters must be escaped, and the text must be UTF-8
+ * (section 8.1), so a byte that is not part of valid UTF-8 becomes U+FFFD; valid multibyte
+ * characters pass through unchanged. */
+static void json_escapes_controls_and_bad_utf8(void **state) {
+  fixture *fx = *state;
+  char saved[EW_NAME_MAX];
+  memcpy(saved, fx->st->layers[1].name, sizeof saved);
+  snprintf(fx->st->layers[1].name, sizeof fx->st->layers[1].name, "a\x01\tb\xff\xc3\xa9\xe2\x82");
+  char *t = capture(ew_output_json, fx->res);
+  memcpy(fx->st->layers[1].name, saved, sizeof saved);
+  check_balanced(t);
+  assert_non_null(strstr(t, "\"a\\u0001\\u0009b\\ufffd\xc3\xa9\\ufffd\\ufffd\""));
+  free(t);
+}
+
 static void table_output(void **state) {
   fixture *fx = *state;
   char *t = capture(ew_output_table, fx->res);
@@ -546,8 +699,10 @@ int main(void) {
       cmocka_unit_test(csv_readonly_dir),
       cmocka_unit_test(csv_overwrite),
       cmocka_unit_test(csv_rename_failure_keeps_previous),
+      cmocka_unit_test(csv_quotes_layer_names),
       cmocka_unit_test(json_output),
       cmocka_unit_test(json_escapes_names),
+      cmocka_unit_test(json_escapes_controls_and_bad_utf8),
       cmocka_unit_test(table_output),
   };
   return cmocka_run_group_tests_name("output", tests, group_setup, group_teardown);
