@@ -258,6 +258,68 @@ static void nested_keys_and_thickness_forms(void **state) {
   ew_wf_model_free(m);
 }
 
+/* A stack error at a swept value names the file and the line of the setting that was set,
+ * and the value: the lines are those of the text written here (the well's thickness, an
+ * integer literal, on line 5; the barrier b2's thickness_ml on line 6).  Points run 2, 1, 0, …:
+ * the first one the reader refuses (a thickness must be > 0) is 0. */
+static void sweep_error_names_the_setting_line(void **state) {
+  fixture *fx = *state;
+  char path[64];
+  write_tmp(path, sizeof path,
+            "temperature = 77.0;\n"
+            "layers = (\n"
+            " { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 10.0; },\n"
+            " { name = \"well\"; material = \"GaAs\";\n   thickness = 6; },\n"
+            " { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness_ml = 36; } );\n");
+  ew_wf_model *m = NULL;
+  ew_error err = {0};
+  assert_int_equal(ew_wf_model_open(path, fx->cat, NULL, &m, &err), EW_OK);
+  ew_wf_range r = range("well.thickness=2:-2:1");
+  char *csv = sweep_csv(m, &r, 1, NULL, &err);
+  assert_null(csv);
+  assert_int_equal(err.code, EW_ERR_INPUT);
+  assert_string_equal(err.file, path);
+  assert_int_equal(err.line, 5);
+  assert_non_null(strstr(err.message, "well.thickness = 0"));
+  assert_non_null(strstr(err.message, "positive"));
+  /* thickness replaces thickness_ml and reports its line */
+  r = range("b2.thickness=1:-1:1");
+  memset(&err, 0, sizeof err);
+  assert_null(sweep_csv(m, &r, 1, NULL, &err));
+  assert_int_equal(err.code, EW_ERR_INPUT);
+  assert_int_equal(err.line, 6);
+  assert_non_null(strstr(err.message, "b2.thickness = 0"));
+  /* one editor, many builds: each build puts the tree back as parsed (a failed one too), so
+   * a key set before does not linger into the next point */
+  ew_stack_editor *ed = NULL;
+  char text[1024];
+  FILE *f = fopen(path, "r");
+  assert_non_null(f);
+  text[fread(text, 1, sizeof text - 1, f)] = '\0';
+  fclose(f);
+  assert_int_equal(ew_stack_editor_open(text, ew_wf_model_stack(m), fx->cat, &ed, &err), EW_OK);
+  const char *kt[2] = {"b2.thickness", "well.thickness"}, *kx = "b1.x";
+  double vt[2] = {0.0, 7.5}, vx = 0.25;
+  ew_stack *st = NULL;
+  assert_int_equal(ew_stack_editor_build(ed, 1, kt, vt, &st, &err), EW_ERR_INPUT);
+  assert_int_equal(err.line, 6);
+  assert_int_equal(ew_stack_editor_build(ed, 1, kt + 1, vt + 1, &st, &err), EW_OK);
+  TU_NEAR(st->layers[1].thickness_nm, 7.5, 0.0, "well set");
+  ew_stack_free(st);
+  assert_int_equal(ew_stack_editor_build(ed, 1, &kx, &vx, &st, &err), EW_OK);
+  TU_NEAR(st->layers[0].x, 0.25, 0.0, "b1.x set");
+  TU_NEAR(st->layers[1].thickness_nm, 6.0, 0.0, "well back to the file's 6");
+  TU_NEAR(st->layers[2].thickness_ml, 36.0, 0.0, "b2 back to the file's 36 ML");
+  ew_stack_free(st);
+  /* and the restored integer setting keeps its line */
+  vt[1] = -1.0;
+  assert_int_equal(ew_stack_editor_build(ed, 1, kt + 1, vt + 1, &st, &err), EW_ERR_INPUT);
+  assert_int_equal(err.line, 5);
+  ew_stack_editor_free(ed);
+  unlink(path);
+  ew_wf_model_free(m);
+}
+
 /* ---- sweeps ---------------------------------------------------------------------------- */
 static void sweep_monotonic_and_identity(void **state) {
   fixture *fx = *state;
@@ -771,6 +833,7 @@ int main(void) {
       cmocka_unit_test(quantities_parse_units),
       cmocka_unit_test(keys_are_checked),
       cmocka_unit_test(nested_keys_and_thickness_forms),
+      cmocka_unit_test(sweep_error_names_the_setting_line),
       cmocka_unit_test(sweep_monotonic_and_identity),
       cmocka_unit_test(shards_concatenate_to_the_full_sweep),
       cmocka_unit_test(thread_count_does_not_change_output),
