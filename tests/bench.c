@@ -97,14 +97,38 @@ static double run_dstemr(const ew_pencil *p, double lo, double hi, int vectors, 
   return t;
 }
 
-int main(int argc, char **argv) {
-#ifdef __GLIBC__
-  /* as the CLI does (src/cli.c): keep freed arrays in the heap between solves */
-  mallopt(M_MMAP_THRESHOLD, 256 * 1024 * 1024);
-  mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
-#endif
-  const char *cli = argc > 1 ? argv[1] : "build/epiwell";
-  /* ---- 1. superlattice --------------------------------------------------------------- */
+/* LAPACK dstemr on the superlattice's matrices (fine grid with vectors, coarse grid values
+ * only), per band; returns the total seconds. */
+static double dstemr_same_matrices(const ew_stack *st, const ew_result *res) {
+  double t_lap = 0.0;
+  size_t cells[512];
+  ew_grid_cells_for_step(st, 0.01, cells);
+  ew_grid *fine = ew_grid_layered(st, cells);
+  for (size_t k = 0; k < st->n_layers; k++) cells[k] /= 2;
+  ew_grid *coarse = ew_grid_layered(st, cells);
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    double top = b == 0 ? res->window_eV[b] : -res->window_eV[b];
+    ew_pencil *pf = ew_pencil_build(fine, (ew_band)b), *pc = ew_pencil_build(coarse, (ew_band)b);
+    size_t mf, mc;
+    double lo = pf->vmin - 1e-9 * (1.0 + fabs(pf->vmin));
+    double tf = run_dstemr(pf, lo, top, 1, &mf);
+    double tc = run_dstemr(pc, lo, top, 0, &mc);
+    printf("  dstemr %-2s: fine (vectors) %.3f s for %zu, coarse (values) %.3f s for %zu\n",
+           ew_band_name((ew_band)b), tf, mf, tc, mc);
+    if (mf != ew_result_band_count(res, (ew_band)b))
+      printf("  WARNING: dstemr found %zu %s levels, epiwell %zu\n", mf,
+             ew_band_name((ew_band)b), ew_result_band_count(res, (ew_band)b));
+    t_lap += tf + tc;
+    ew_pencil_free(pf);
+    ew_pencil_free(pc);
+  }
+  ew_grid_free(fine);
+  ew_grid_free(coarse);
+  return t_lap;
+}
+
+/* 1. the superlattice eigen-solve against dstemr on the same matrices */
+static int bench_superlattice(void) {
   size_t cap = 64 * 1024, len = 0;
   char *text = malloc(cap);
   len += (size_t)snprintf(text + len, cap - len,
@@ -143,43 +167,23 @@ int main(int argc, char **argv) {
          t_ours);
   printf("    work: %zu factorizations, %zu solves, %zu inertia counts; peak memory %.0f MB\n",
          res->work_factorizations, res->work_solves, res->work_counts, mem_ours);
-  /* the same matrices for dstemr: fine grid with vectors, coarse grid values only */
-  size_t cells[512];
-  ew_grid_cells_for_step(st, 0.01, cells);
-  ew_grid *fine = ew_grid_layered(st, cells);
-  for (size_t k = 0; k < st->n_layers; k++) cells[k] /= 2;
-  ew_grid *coarse = ew_grid_layered(st, cells);
-  double t_lap = 0.0;
-  for (int b = 0; b < EW_BAND_COUNT; b++) {
-    double top = b == 0 ? res->window_eV[b] : -res->window_eV[b];
-    ew_pencil *pf = ew_pencil_build(fine, (ew_band)b), *pc = ew_pencil_build(coarse, (ew_band)b);
-    size_t mf, mc;
-    double lo = pf->vmin - 1e-9 * (1.0 + fabs(pf->vmin));
-    double tf = run_dstemr(pf, lo, top, 1, &mf);
-    double tc = run_dstemr(pc, lo, top, 0, &mc);
-    printf("  dstemr %-2s: fine (vectors) %.3f s for %zu, coarse (values) %.3f s for %zu\n",
-           ew_band_name((ew_band)b), tf, mf, tc, mc);
-    if (mf != ew_result_band_count(res, (ew_band)b))
-      printf("  WARNING: dstemr found %zu %s levels, epiwell %zu\n", mf,
-             ew_band_name((ew_band)b), ew_result_band_count(res, (ew_band)b));
-    t_lap += tf + tc;
-    ew_pencil_free(pf);
-    ew_pencil_free(pc);
-  }
+  double t_lap = dstemr_same_matrices(st, res);
   printf("  LAPACK dstemr, same matrices: %.3f s; peak memory after both %.0f MB\n", t_lap,
          peak_mb());
   printf("  ratio dstemr / epiwell = %.2f (target >= 1)\n", t_lap / t_ours);
-  ew_grid_free(fine);
-  ew_grid_free(coarse);
   ew_result_free(res);
   ew_stack_free(st);
   ew_catalogue_free(cat);
   free(text);
-  /* ---- 2. single well end to end --------------------------------------------------- */
+  return 0;
+}
+
+/* 2. a single-well solve end to end through the CLI */
+static int bench_single_well(const char *cli) {
   char cmd[1024];
   snprintf(cmd, sizeof cmd, "%s solve examples/detector_well.cfg --json > /dev/null", cli);
   int runs = 20;
-  t0 = now();
+  double t0 = now();
   for (int i = 0; i < runs; i++)
     if (system(cmd) != 0) {
       fprintf(stderr, "bench: '%s' failed\n", cmd);
@@ -188,8 +192,14 @@ int main(int argc, char **argv) {
   double per = (now() - t0) / runs;
   printf("single well end to end (%s): %.1f ms per run over %d runs (target < 20 ms)\n", cmd,
          per * 1e3, runs);
-  /* ---- 3. well-width sweep throughput ------------------------------------------------ */
+  return 0;
+}
+
+/* 3. well-width sweep throughput with 1 and 2 threads */
+static int bench_sweep_throughput(void) {
   {
+    ew_error err = {0};
+    char msg[2048];
     ew_catalogue *wcat = NULL;
     ew_wf_model *wm = NULL;
     sweep_bench br;
@@ -215,7 +225,11 @@ int main(int argc, char **argv) {
     ew_wf_model_free(wm);
     ew_catalogue_free(wcat);
   }
-  /* ---- 4. self-consistent Schrödinger–Poisson at 1e19 cm^-3 ------------------------- */
+  return 0;
+}
+
+/* 4. self-consistent Schrödinger–Poisson at 1e19 cm^-3 */
+static int bench_self_consistent(void) {
   { /* 10 nm GaAs doped 1e19 cm^-3 between Al0.3Ga0.7As barriers, 77 K: the outer iterations
        (target <= 30) */
     ew_catalogue *scat = NULL;
@@ -240,4 +254,16 @@ int main(int argc, char **argv) {
     ew_catalogue_free(scat);
   }
   return 0;
+}
+
+int main(int argc, char **argv) {
+#ifdef __GLIBC__
+  /* as the CLI does (src/cli.c): keep freed arrays in the heap between solves */
+  mallopt(M_MMAP_THRESHOLD, 256 * 1024 * 1024);
+  mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
+#endif
+  const char *cli = argc > 1 ? argv[1] : "build/epiwell";
+  if (bench_superlattice() != 0 || bench_single_well(cli) != 0 || bench_sweep_throughput() != 0)
+    return 1;
+  return bench_self_consistent();
 }

@@ -1,8 +1,9 @@
-/* test_workflow.c — sweeps, inverse matching and tolerances (src/workflow.c).
+/* test_workflow.c — the workflow modules (src/workflow.h lists them): stack editing, ranges,
+ * sweeps, inverse matching, tolerances, sweep pictures and spectra.
  *
  * Runs from the project root: the catalogue is materials/, the stacks are the examples
- * (examples/NAME.cfg) and small stacks written to temporary files.  Every numeric check names its reference and its
- * tolerance beside it. */
+ * (examples/NAME.cfg) and small stacks written to temporary files.  Every numeric check names
+ * its reference and its tolerance beside it. */
 #include <math.h>
 #include <unistd.h>
 
