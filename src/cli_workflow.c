@@ -1,5 +1,6 @@
 /* cli_workflow.c — the `epiwell sweep`, `epiwell match` and `epiwell tolerance` commands:
- * options → workflow.h calls → exit codes (the same codes as the rest of the CLI).
+ * options → calls of the workflow modules (workflow.h lists them) → exit codes (the same
+ * codes as the rest of the CLI).
  *
  * Output discipline (README "Exit codes"): on any error nothing is written to standard
  * output and no output file is left half-written, so standard output is assembled in memory
@@ -17,8 +18,17 @@
 #include "epiwell.h"
 #include "error.h"
 #include "plot.h"
+#include "chart_file.h"
+#include "line_name.h"
+#include "match.h"
+#include "output_set.h"
+#include "parallel.h"
+#include "range.h"
 #include "stack.h"
-#include "workflow.h"
+#include "stack_model.h"
+#include "sweep.h"
+#include "sweep_plot.h"
+#include "tolerance.h"
 
 int ew_cli_sweep(int argc, char **argv);
 int ew_cli_match(int argc, char **argv);

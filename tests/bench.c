@@ -19,6 +19,7 @@
 #include <time.h>
 
 #include "eigen.h"
+#include "error.h"
 #include "solve.h"
 #include "workflow.h"
 
@@ -32,6 +33,46 @@ static double peak_mb(void) {
   struct rusage ru;
   getrusage(RUSAGE_SELF, &ru);
   return (double)ru.ru_maxrss / 1024.0;
+}
+
+/* The sweep throughput: key over `points` values of [from, to] (CSV written to a null sink,
+ * everything else as `epiwell sweep`) with 1 thread and with `threads`, wall clock. */
+typedef struct {
+  size_t points;                /* well widths solved per run */
+  int threads;                  /* threads of the parallel run */
+  double seconds_1, seconds_n;  /* wall time with 1 and with `threads` threads */
+  double per_s_1, per_s_n;      /* single-well solves per second */
+} sweep_bench;
+
+static ew_status bench_sweep(const ew_wf_model *m, const char *key, double from, double to,
+                             size_t points, int threads, sweep_bench *out, ew_error *err) {
+  memset(out, 0, sizeof *out);
+  if (points < 2) points = 2;
+  ew_wf_range r;
+  memset(&r, 0, sizeof r);
+  snprintf(r.key, sizeof r.key, "%s", key);
+  r.from = from;
+  r.to = to;
+  r.step = (to - from) / (double)(points - 1);
+  if (!(r.step > 0)) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "benchmark: need from < to");
+  out->points = ew_wf_range_count(&r);
+  out->threads = ew_wf_threads(threads);
+  ew_wf_sweep_opt o;
+  ew_wf_sweep_opt_default(&o);
+  o.threads = 1;
+  double t0 = now();
+  ew_status rc = ew_wf_sweep(m, &r, 1, &o, NULL, NULL, err);
+  double t1 = now();
+  if (rc != EW_OK) return rc;
+  o.threads = out->threads;
+  rc = ew_wf_sweep(m, &r, 1, &o, NULL, NULL, err);
+  double t2 = now();
+  if (rc != EW_OK) return rc;
+  out->seconds_1 = t1 - t0;
+  out->seconds_n = t2 - t1;
+  out->per_s_1 = (double)out->points / out->seconds_1;
+  out->per_s_n = (double)out->points / out->seconds_n;
+  return EW_OK;
 }
 
 /* dstemr on the standard form of one pencil, eigenvalues in (lo, hi); returns seconds */
@@ -56,14 +97,38 @@ static double run_dstemr(const ew_pencil *p, double lo, double hi, int vectors, 
   return t;
 }
 
-int main(int argc, char **argv) {
-#ifdef __GLIBC__
-  /* as the CLI does (src/cli.c): keep freed arrays in the heap between solves */
-  mallopt(M_MMAP_THRESHOLD, 256 * 1024 * 1024);
-  mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
-#endif
-  const char *cli = argc > 1 ? argv[1] : "build/epiwell";
-  /* ---- 1. superlattice --------------------------------------------------------------- */
+/* LAPACK dstemr on the superlattice's matrices (fine grid with vectors, coarse grid values
+ * only), per band; returns the total seconds. */
+static double dstemr_same_matrices(const ew_stack *st, const ew_result *res) {
+  double t_lap = 0.0;
+  size_t cells[512];
+  ew_grid_cells_for_step(st, 0.01, cells);
+  ew_grid *fine = ew_grid_layered(st, cells);
+  for (size_t k = 0; k < st->n_layers; k++) cells[k] /= 2;
+  ew_grid *coarse = ew_grid_layered(st, cells);
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    double top = b == 0 ? res->window_eV[b] : -res->window_eV[b];
+    ew_pencil *pf = ew_pencil_build(fine, (ew_band)b), *pc = ew_pencil_build(coarse, (ew_band)b);
+    size_t mf, mc;
+    double lo = pf->vmin - 1e-9 * (1.0 + fabs(pf->vmin));
+    double tf = run_dstemr(pf, lo, top, 1, &mf);
+    double tc = run_dstemr(pc, lo, top, 0, &mc);
+    printf("  dstemr %-2s: fine (vectors) %.3f s for %zu, coarse (values) %.3f s for %zu\n",
+           ew_band_name((ew_band)b), tf, mf, tc, mc);
+    if (mf != ew_result_band_count(res, (ew_band)b))
+      printf("  WARNING: dstemr found %zu %s levels, epiwell %zu\n", mf,
+             ew_band_name((ew_band)b), ew_result_band_count(res, (ew_band)b));
+    t_lap += tf + tc;
+    ew_pencil_free(pf);
+    ew_pencil_free(pc);
+  }
+  ew_grid_free(fine);
+  ew_grid_free(coarse);
+  return t_lap;
+}
+
+/* 1. the superlattice eigen-solve against dstemr on the same matrices */
+static int bench_superlattice(void) {
   size_t cap = 64 * 1024, len = 0;
   char *text = malloc(cap);
   len += (size_t)snprintf(text + len, cap - len,
@@ -102,43 +167,23 @@ int main(int argc, char **argv) {
          t_ours);
   printf("    work: %zu factorizations, %zu solves, %zu inertia counts; peak memory %.0f MB\n",
          res->work_factorizations, res->work_solves, res->work_counts, mem_ours);
-  /* the same matrices for dstemr: fine grid with vectors, coarse grid values only */
-  size_t cells[512];
-  ew_grid_cells_for_step(st, 0.01, cells);
-  ew_grid *fine = ew_grid_layered(st, cells);
-  for (size_t k = 0; k < st->n_layers; k++) cells[k] /= 2;
-  ew_grid *coarse = ew_grid_layered(st, cells);
-  double t_lap = 0.0;
-  for (int b = 0; b < EW_BAND_COUNT; b++) {
-    double top = b == 0 ? res->window_eV[b] : -res->window_eV[b];
-    ew_pencil *pf = ew_pencil_build(fine, (ew_band)b), *pc = ew_pencil_build(coarse, (ew_band)b);
-    size_t mf, mc;
-    double lo = pf->vmin - 1e-9 * (1.0 + fabs(pf->vmin));
-    double tf = run_dstemr(pf, lo, top, 1, &mf);
-    double tc = run_dstemr(pc, lo, top, 0, &mc);
-    printf("  dstemr %-2s: fine (vectors) %.3f s for %zu, coarse (values) %.3f s for %zu\n",
-           ew_band_name((ew_band)b), tf, mf, tc, mc);
-    if (mf != ew_result_band_count(res, (ew_band)b))
-      printf("  WARNING: dstemr found %zu %s levels, epiwell %zu\n", mf,
-             ew_band_name((ew_band)b), ew_result_band_count(res, (ew_band)b));
-    t_lap += tf + tc;
-    ew_pencil_free(pf);
-    ew_pencil_free(pc);
-  }
+  double t_lap = dstemr_same_matrices(st, res);
   printf("  LAPACK dstemr, same matrices: %.3f s; peak memory after both %.0f MB\n", t_lap,
          peak_mb());
   printf("  ratio dstemr / epiwell = %.2f (target >= 1)\n", t_lap / t_ours);
-  ew_grid_free(fine);
-  ew_grid_free(coarse);
   ew_result_free(res);
   ew_stack_free(st);
   ew_catalogue_free(cat);
   free(text);
-  /* ---- 2. single well end to end --------------------------------------------------- */
+  return 0;
+}
+
+/* 2. a single-well solve end to end through the CLI */
+static int bench_single_well(const char *cli) {
   char cmd[1024];
   snprintf(cmd, sizeof cmd, "%s solve examples/detector_well.cfg --json > /dev/null", cli);
   int runs = 20;
-  t0 = now();
+  double t0 = now();
   for (int i = 0; i < runs; i++)
     if (system(cmd) != 0) {
       fprintf(stderr, "bench: '%s' failed\n", cmd);
@@ -147,18 +192,24 @@ int main(int argc, char **argv) {
   double per = (now() - t0) / runs;
   printf("single well end to end (%s): %.1f ms per run over %d runs (target < 20 ms)\n", cmd,
          per * 1e3, runs);
-  /* ---- 3. well-width sweep throughput ------------------------------------------------ */
+  return 0;
+}
+
+/* 3. well-width sweep throughput with 1 and 2 threads */
+static int bench_sweep_throughput(void) {
   {
+    ew_error err = {0};
+    char msg[2048];
     ew_catalogue *wcat = NULL;
     ew_wf_model *wm = NULL;
-    ew_wf_bench_result br;
+    sweep_bench br;
     const size_t points = 800;
     ew_options wo; /* as `epiwell sweep` solves: its columns carry no PL peaks */
     ew_options_default(&wo);
     wo.excitons = 0;
     if (ew_catalogue_load(NULL, &wcat, &err) != EW_OK ||
         ew_wf_model_open("examples/detector_well.cfg", wcat, &wo, &wm, &err) != EW_OK ||
-        ew_wf_benchmark(wm, "well.thickness", 4.0, 12.0, points, 2, &br, &err) != EW_OK) {
+        bench_sweep(wm, "well.thickness", 4.0, 12.0, points, 2, &br, &err) != EW_OK) {
       fprintf(stderr, "bench: sweep: %s\n", ew_error_text(&err, msg, sizeof msg));
       ew_wf_model_free(wm);
       ew_catalogue_free(wcat);
@@ -174,7 +225,11 @@ int main(int argc, char **argv) {
     ew_wf_model_free(wm);
     ew_catalogue_free(wcat);
   }
-  /* ---- 4. self-consistent Schrödinger–Poisson at 1e19 cm^-3 ------------------------- */
+  return 0;
+}
+
+/* 4. self-consistent Schrödinger–Poisson at 1e19 cm^-3 */
+static int bench_self_consistent(void) {
   { /* 10 nm GaAs doped 1e19 cm^-3 between Al0.3Ga0.7As barriers, 77 K: the outer iterations
        (target <= 30) */
     ew_catalogue *scat = NULL;
@@ -199,4 +254,16 @@ int main(int argc, char **argv) {
     ew_catalogue_free(scat);
   }
   return 0;
+}
+
+int main(int argc, char **argv) {
+#ifdef __GLIBC__
+  /* as the CLI does (src/cli.c): keep freed arrays in the heap between solves */
+  mallopt(M_MMAP_THRESHOLD, 256 * 1024 * 1024);
+  mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
+#endif
+  const char *cli = argc > 1 ? argv[1] : "build/epiwell";
+  if (bench_superlattice() != 0 || bench_single_well(cli) != 0 || bench_sweep_throughput() != 0)
+    return 1;
+  return bench_self_consistent();
 }

@@ -1,8 +1,9 @@
-/* test_workflow.c — sweeps, inverse matching and tolerances (src/workflow.c).
+/* test_workflow.c — the workflow modules (src/workflow.h lists them): stack editing, ranges,
+ * sweeps, inverse matching, tolerances, sweep pictures and spectra.
  *
  * Runs from the project root: the catalogue is materials/, the stacks are the examples
- * (examples/NAME.cfg) and small stacks written to temporary files.  Every numeric check names its reference and its
- * tolerance beside it. */
+ * (examples/NAME.cfg) and small stacks written to temporary files.  Every numeric check names
+ * its reference and its tolerance beside it. */
 #include <math.h>
 #include <unistd.h>
 
@@ -209,13 +210,15 @@ static void keys_are_checked(void **state) {
   assert_non_null(strstr(err.message, "upper_barrier")); /* lists the layers */
   assert_int_equal(ew_wf_key_check(fx->det, "well.material", "--vary", &nominal, &err), EW_ERR_USAGE);
   /* an unknown key is refused by the stack reader itself, with its suggestion, naming the
-   * value instead of a line of the generated text */
+   * value and, for a setting the file does not have, the line of its layer (line 6 of
+   * examples/detector_well.cfg is the well's entry) */
   const char *k = "well.thicknes";
   double v = 5.0;
   ew_stack *st = NULL;
   assert_int_equal(ew_wf_stack_at(fx->det, 1, &k, &v, &st, &err), EW_ERR_INPUT);
   assert_null(st);
-  assert_int_equal(err.line, 0);
+  assert_string_equal(err.file, DETECTOR);
+  assert_int_equal(err.line, 6);
   assert_non_null(strstr(err.message, "well.thicknes = 5"));
   assert_non_null(strstr(err.message, "thickness"));
 }
@@ -252,6 +255,68 @@ static void nested_keys_and_thickness_forms(void **state) {
   TU_NEAR(st->layers[1].x_end, 0.0, 0.0, "x_end replaced");
   TU_NEAR(st->layers[2].thickness_nm, 23 * 0.565325 / 2, 1e-9, "23 ML of GaAs");
   ew_stack_free(st);
+  unlink(path);
+  ew_wf_model_free(m);
+}
+
+/* A stack error at a swept value names the file and the line of the setting that was set,
+ * and the value: the lines are those of the text written here (the well's thickness, an
+ * integer literal, on line 5; the barrier b2's thickness_ml on line 6).  Points run 2, 1, 0, …:
+ * the first one the reader refuses (a thickness must be > 0) is 0. */
+static void sweep_error_names_the_setting_line(void **state) {
+  fixture *fx = *state;
+  char path[64];
+  write_tmp(path, sizeof path,
+            "temperature = 77.0;\n"
+            "layers = (\n"
+            " { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 10.0; },\n"
+            " { name = \"well\"; material = \"GaAs\";\n   thickness = 6; },\n"
+            " { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness_ml = 36; } );\n");
+  ew_wf_model *m = NULL;
+  ew_error err = {0};
+  assert_int_equal(ew_wf_model_open(path, fx->cat, NULL, &m, &err), EW_OK);
+  ew_wf_range r = range("well.thickness=2:-2:1");
+  char *csv = sweep_csv(m, &r, 1, NULL, &err);
+  assert_null(csv);
+  assert_int_equal(err.code, EW_ERR_INPUT);
+  assert_string_equal(err.file, path);
+  assert_int_equal(err.line, 5);
+  assert_non_null(strstr(err.message, "well.thickness = 0"));
+  assert_non_null(strstr(err.message, "positive"));
+  /* thickness replaces thickness_ml and reports its line */
+  r = range("b2.thickness=1:-1:1");
+  memset(&err, 0, sizeof err);
+  assert_null(sweep_csv(m, &r, 1, NULL, &err));
+  assert_int_equal(err.code, EW_ERR_INPUT);
+  assert_int_equal(err.line, 6);
+  assert_non_null(strstr(err.message, "b2.thickness = 0"));
+  /* one editor, many builds: each build puts the tree back as parsed (a failed one too), so
+   * a key set before does not linger into the next point */
+  ew_stack_editor *ed = NULL;
+  char text[1024];
+  FILE *f = fopen(path, "r");
+  assert_non_null(f);
+  text[fread(text, 1, sizeof text - 1, f)] = '\0';
+  fclose(f);
+  assert_int_equal(ew_stack_editor_open(text, ew_wf_model_stack(m), fx->cat, &ed, &err), EW_OK);
+  const char *kt[2] = {"b2.thickness", "well.thickness"}, *kx = "b1.x";
+  double vt[2] = {0.0, 7.5}, vx = 0.25;
+  ew_stack *st = NULL;
+  assert_int_equal(ew_stack_editor_build(ed, 1, kt, vt, &st, &err), EW_ERR_INPUT);
+  assert_int_equal(err.line, 6);
+  assert_int_equal(ew_stack_editor_build(ed, 1, kt + 1, vt + 1, &st, &err), EW_OK);
+  TU_NEAR(st->layers[1].thickness_nm, 7.5, 0.0, "well set");
+  ew_stack_free(st);
+  assert_int_equal(ew_stack_editor_build(ed, 1, &kx, &vx, &st, &err), EW_OK);
+  TU_NEAR(st->layers[0].x, 0.25, 0.0, "b1.x set");
+  TU_NEAR(st->layers[1].thickness_nm, 6.0, 0.0, "well back to the file's 6");
+  TU_NEAR(st->layers[2].thickness_ml, 36.0, 0.0, "b2 back to the file's 36 ML");
+  ew_stack_free(st);
+  /* and the restored integer setting keeps its line */
+  vt[1] = -1.0;
+  assert_int_equal(ew_stack_editor_build(ed, 1, kt + 1, vt + 1, &st, &err), EW_ERR_INPUT);
+  assert_int_equal(err.line, 5);
+  ew_stack_editor_free(ed);
   unlink(path);
   ew_wf_model_free(m);
 }
@@ -700,9 +765,9 @@ static void spectra_grids_and_intersubband_peak(void **state) {
    * sin²θ/cos θ · f / (π γ) (Helm 2000), where <m0/m>·f = 2 m0 ΔE |z12|²/ħ² = ΔE |z12|²/K
    * whatever the mass model (the mass cancels: Helm 2000), less the Lorentzian's fall over
    * the offset from the grid point (|δ| ≤ step/2: (δ/γ)² ≤ 1e-4 relative at γ = 4 meV) */
-  double th = 45.0 * M_PI / 180.0, g = 0.5 * 8.0e-3;
+  double th = 45.0 * EW_PI / 180.0, g = 0.5 * 8.0e-3;
   double want = ew_intersubband_prefactor_eVcm2() / 3.3 * 5e11 * sin(th) * sin(th) / cos(th) *
-                (e12 * z12 * z12 / EW_HB2M0_EVNM2) / (M_PI * g);
+                (e12 * z12 * z12 / EW_HB2M0_EVNM2) / (EW_PI * g);
   TU_NEAR(pk[0].value, want, 2e-4 * want, "Lorentzian peak height, offset below half a step");
   /* interband: every peak lies inside the grid, and the lowest is the e1-hh1 exciton, near
    * its PL peak (within the linewidth: the step below it tilts the maximum) */
@@ -769,6 +834,7 @@ int main(void) {
       cmocka_unit_test(quantities_parse_units),
       cmocka_unit_test(keys_are_checked),
       cmocka_unit_test(nested_keys_and_thickness_forms),
+      cmocka_unit_test(sweep_error_names_the_setting_line),
       cmocka_unit_test(sweep_monotonic_and_identity),
       cmocka_unit_test(shards_concatenate_to_the_full_sweep),
       cmocka_unit_test(thread_count_does_not_change_output),

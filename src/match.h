@@ -1,0 +1,59 @@
+/* match.h — inverse matching: which value of a stack key (or which pair of values of two
+ * keys) puts a line (or two lines) at a target energy or wavelength. */
+#ifndef EW_MATCH_H
+#define EW_MATCH_H
+
+#include <stddef.h>
+#include <stdio.h>
+
+#include "epiwell.h"
+#include "range.h"
+#include "stack_model.h"
+
+typedef struct {
+  double value[2];        /* varied value(s) */
+  double energy_eV[2];    /* line energy there */
+  double wavelength_nm[2];
+  double residual_eV[2];  /* line − target at the solution */
+  /* 1D with a tolerance: values at target −/+ tolerance (NaN when not reached in the range)
+   * and the uncertainty = half their distance (NaN when one is missing) */
+  double value_minus, value_plus, uncertainty;
+} ew_wf_solution;
+
+typedef struct {
+  size_t nkeys;            /* 1 or 2 */
+  char key[2][EW_WF_KEY_MAX];
+  char line[2][40];
+  ew_wf_quantity target[2];
+  int have_tolerance;
+  ew_wf_quantity tolerance;
+  size_t n;                /* solutions found */
+  ew_wf_solution *sol;
+  /* what the range reaches: line energy min/max over the samples (1D), NaN if never bound */
+  double reached_min_eV[2], reached_max_eV[2];
+  char message[512];       /* "no value … reaches …" when n == 0, otherwise empty */
+} ew_wf_match_result;
+
+typedef struct {
+  int threads;     /* 0: every core */
+  size_t samples;  /* samples per range; 0: from STEP if given, else 41 (1D) / 11 (2D) */
+} ew_wf_match_opt;
+
+/* Every value of ranges[0] (1D; nranges = 1, nlines = 1) or pair of values (2D; nranges =
+ * nlines = 2) that puts the line(s) at the target(s).  Lines are "A-B" with A, B level labels
+ * of one band (intersubband, |E_A − E_B|) or an electron and a hole level (interband,
+ * E_e − E_h).  1D: sampling, bracketing of sign changes (a line that becomes bound inside the
+ * range is bracketed from the point where it appears, located by bisection) and Brent's
+ * method to 1e-6 relative in the value.  2D: a coarse grid search, then Newton's method with a
+ * central finite-difference Jacobian from the best grid cells, clamped to the box.
+ * tolerance (may be NULL, 1D only): also solve at target ± tolerance.  No solution is not an
+ * error: n = 0 and message says what range of the line the range reaches. */
+ew_status ew_wf_match(const ew_wf_model *m, const ew_wf_range *ranges, size_t nranges,
+                      const char *const *lines, const ew_wf_quantity *targets, size_t nlines,
+                      const ew_wf_quantity *tolerance, const ew_wf_match_opt *o,
+                      ew_wf_match_result *out, ew_error *err);
+void ew_wf_match_result_free(ew_wf_match_result *r); /* frees sol; NULL is a no-op */
+void ew_wf_match_print(const ew_wf_match_result *r, FILE *out);      /* table */
+void ew_wf_match_print_json(const ew_wf_match_result *r, FILE *out); /* one JSON object */
+
+#endif

@@ -1,0 +1,308 @@
+/* stack_edit.c — set numeric keys of a stack in its parsed libconfig tree, build the stack,
+ * restore the tree (see stack_edit.h).  libconfig is used here, as in stack.c, so that every
+ * present and future numeric key of the stack reader stays variable without touching it. */
+#include "stack_edit.h"
+
+#include <libconfig.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "error.h"
+#include "stack.h"
+
+/* How to put one setting back: removed or changed settings are re-created as parsed. */
+typedef struct {
+  config_setting_t *group;
+  const char *name; /* the key's text or a literal: valid during the build */
+  int existed;      /* 0: added by the build, removed on undo */
+  int type;         /* CONFIG_TYPE_INT, _INT64 or _FLOAT */
+  long long ival;
+  double fval;
+  unsigned line;
+} edit_undo;
+
+struct ew_stack_editor {
+  config_t cfg;
+  const ew_stack *nominal;
+  const ew_catalogue *cat;
+  edit_undo *undo; /* the edits of the build in progress, in order */
+  size_t n_undo, cap_undo;
+  int broken; /* a restore failed (out of memory): the tree is no longer the file's */
+};
+
+ew_status ew_stack_editor_open(const char *text, const ew_stack *nominal,
+                               const ew_catalogue *cat, ew_stack_editor **out, ew_error *err) {
+  *out = NULL;
+  ew_stack_editor *ed = calloc(1, sizeof *ed);
+  if (!ed) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (stack editor)");
+  config_init(&ed->cfg);
+  ed->nominal = nominal;
+  ed->cat = cat;
+  if (!config_read_string(&ed->cfg, text)) {
+    ew_stack_editor_free(ed);
+    return ew_fail(err, EW_ERR_IO, nominal->path, 0, "cannot re-read '%s' with libconfig",
+                   nominal->path);
+  }
+  *out = ed;
+  return EW_OK;
+}
+
+void ew_stack_editor_free(ew_stack_editor *ed) {
+  if (!ed) return;
+  config_destroy(&ed->cfg);
+  free(ed->undo);
+  free(ed);
+}
+
+/* ---- finding the setting a key names --------------------------------------------------- */
+/* The layer or user material whose name is the longest prefix of key followed by '.' and
+ * more; NULL when none.  *plen receives the name's length. */
+static config_setting_t *find_owner(const ew_stack_editor *ed, const char *key, size_t *plen) {
+  const ew_stack *st = ed->nominal;
+  config_setting_t *root = config_root_setting(&ed->cfg), *best = NULL;
+  *plen = 0;
+  config_setting_t *list = config_setting_get_member(root, "layers");
+  for (size_t k = 0; list && k < st->n_layers; k++) {
+    size_t L = strlen(st->layers[k].name);
+    if (L > *plen && !strncmp(st->layers[k].name, key, L) && key[L] == '.' && key[L + 1]) {
+      config_setting_t *g = config_setting_get_elem(list, (unsigned)k);
+      if (g) best = g, *plen = L;
+    }
+  }
+  config_setting_t *mats = config_setting_get_member(root, "materials");
+  for (int i = 0; mats && i < config_setting_length(mats); i++) {
+    config_setting_t *g = config_setting_get_elem(mats, (unsigned)i);
+    const char *nm = NULL;
+    size_t L;
+    if (g && config_setting_lookup_string(g, "name", &nm) && (L = strlen(nm)) > *plen &&
+        !strncmp(nm, key, L) && key[L] == '.' && key[L + 1])
+      best = g, *plen = L;
+  }
+  return best;
+}
+
+/* The group named by the first glen characters of name inside owner, or NULL. */
+static config_setting_t *find_group(config_setting_t *owner, const char *name, size_t glen) {
+  for (int i = 0; i < config_setting_length(owner); i++) {
+    config_setting_t *g = config_setting_get_elem(owner, (unsigned)i);
+    const char *gn = g ? config_setting_name(g) : NULL;
+    if (gn && strlen(gn) == glen && !strncmp(gn, name, glen) && config_setting_is_group(g))
+      return g;
+  }
+  return NULL;
+}
+
+static ew_status no_such_owner(const ew_stack *st, const char *key, const char *opt,
+                               ew_error *err) {
+  char names[512];
+  size_t used = 0;
+  names[0] = '\0';
+  for (size_t k = 0; k < st->n_layers && used + 1 < sizeof names; k++) {
+    int w = snprintf(names + used, sizeof names - used, "%s%s", k ? ", " : "", st->layers[k].name);
+    if (w < 0) break;
+    used += (size_t)w;
+  }
+  size_t head = (size_t)(strchr(key, '.') - key);
+  return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: no layer, material or group named '%.*s' in "
+                 "%s (layers: %s)", opt, key, (int)head, key, st->path, names);
+}
+
+/* The group and setting name a key refers to (see stack_edit.h).  *group is NULL on error. */
+static ew_status locate(const ew_stack_editor *ed, const char *key, const char *opt,
+                        config_setting_t **group, const char **name, ew_error *err) {
+  *group = NULL;
+  const char *dot = strrchr(key, '.');
+  if (!key[0] || (dot && !dot[1]) || dot == key)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "%s: '%s' is not a key; write LAYER.KEY (e.g. well.thickness) or a top-level "
+                   "key (e.g. temperature)", opt, key);
+  if (!dot) {
+    *group = config_root_setting(&ed->cfg);
+    *name = key;
+    return EW_OK;
+  }
+  size_t plen;
+  config_setting_t *best = find_owner(ed, key, &plen);
+  const char *rest = best ? key + plen + 1 : key;
+  config_setting_t *owner = best ? best : config_root_setting(&ed->cfg);
+  const char *sub = strchr(rest, '.');
+  if (!sub && best) {
+    *group = owner;
+    *name = rest;
+    return EW_OK;
+  }
+  if (sub && !strchr(sub + 1, '.')) { /* GROUP.KEY inside the owner */
+    size_t glen = (size_t)(sub - rest);
+    config_setting_t *g = find_group(owner, rest, glen);
+    if (g) {
+      *group = g;
+      *name = sub + 1;
+      return EW_OK;
+    }
+    if (best)
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: '%.*s' has no group '%.*s' in %s", opt,
+                     key, (int)plen, key, (int)glen, rest, ed->nominal->path);
+  }
+  return no_such_owner(ed->nominal, key, opt, err);
+}
+
+static int numeric_type(int t) {
+  return t == CONFIG_TYPE_INT || t == CONFIG_TYPE_INT64 || t == CONFIG_TYPE_FLOAT;
+}
+
+ew_status ew_stack_editor_check(const ew_stack_editor *ed, const char *key, const char *opt,
+                                double *nominal, ew_error *err) {
+  config_setting_t *g;
+  const char *name;
+  *nominal = NAN;
+  ew_status rc = locate(ed, key, opt, &g, &name, err);
+  if (rc != EW_OK) return rc;
+  config_setting_t *s = config_setting_get_member(g, name);
+  if (s && !numeric_type(config_setting_type(s)))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: that setting is not a number", opt, key);
+  if (s && config_setting_type(s) == CONFIG_TYPE_FLOAT) *nominal = config_setting_get_float(s);
+  else if (s && config_setting_type(s) == CONFIG_TYPE_INT64)
+    *nominal = (double)config_setting_get_int64(s);
+  else if (s) *nominal = config_setting_get_int(s);
+  return EW_OK;
+}
+
+/* ---- edits and their undo -------------------------------------------------------------- */
+/* Log the state of setting name of group (s = the setting, NULL when absent) before a change. */
+static int log_undo(ew_stack_editor *ed, config_setting_t *group, const char *name,
+                    const config_setting_t *s) {
+  if (ed->n_undo == ed->cap_undo) {
+    size_t cap = ed->cap_undo ? 2 * ed->cap_undo : 8;
+    edit_undo *u = realloc(ed->undo, cap * sizeof *u);
+    if (!u) return 0;
+    ed->undo = u;
+    ed->cap_undo = cap;
+  }
+  edit_undo *u = &ed->undo[ed->n_undo++];
+  memset(u, 0, sizeof *u);
+  u->group = group;
+  u->name = name;
+  u->existed = s != NULL;
+  if (!s) return 1;
+  u->type = config_setting_type(s);
+  u->line = s->line;
+  if (u->type == CONFIG_TYPE_FLOAT) u->fval = config_setting_get_float(s);
+  else if (u->type == CONFIG_TYPE_INT64) u->ival = config_setting_get_int64(s);
+  else u->ival = config_setting_get_int(s);
+  return 1;
+}
+
+/* Put one setting back as logged; 0 when out of memory. */
+static int undo_one(const edit_undo *u) {
+  config_setting_t *s = config_setting_get_member(u->group, u->name);
+  if (!u->existed) return !s || config_setting_remove(u->group, u->name);
+  if (s && u->type == CONFIG_TYPE_FLOAT && config_setting_type(s) == CONFIG_TYPE_FLOAT)
+    return config_setting_set_float(s, u->fval);
+  if (s) config_setting_remove(u->group, u->name);
+  s = config_setting_add(u->group, u->name, u->type);
+  if (!s) return 0;
+  /* config_setting_source_line reads this field: the re-created setting keeps its line */
+  s->line = u->line;
+  if (u->type == CONFIG_TYPE_FLOAT) return config_setting_set_float(s, u->fval);
+  if (u->type == CONFIG_TYPE_INT64) return config_setting_set_int64(s, u->ival);
+  return config_setting_set_int(s, (int)u->ival);
+}
+
+static ew_status undo_all(ew_stack_editor *ed, ew_error *err) {
+  int ok = 1;
+  while (ed->n_undo > 0) ok &= undo_one(&ed->undo[--ed->n_undo]);
+  if (ok) return EW_OK;
+  ed->broken = 1;
+  return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (restoring the stack tree)");
+}
+
+/* Remove setting name of g (logged) and return its line, or `line` when it is absent. */
+static int remove_logged(ew_stack_editor *ed, config_setting_t *g, const char *name,
+                         unsigned *line) {
+  config_setting_t *s = config_setting_get_member(g, name);
+  if (!s) return 1;
+  if (!log_undo(ed, g, name, s)) return 0;
+  *line = s->line;
+  return config_setting_remove(g, name);
+}
+
+/* The value as a stack file holds it when written with 15 significant digits (what
+ * config_write prints): the workflows re-wrote the stack as text before they edited the tree,
+ * and this keeps every sweep, match and tolerance result bit for bit what it was. */
+static double text_value(double v) {
+  char buf[40];
+  snprintf(buf, sizeof buf, "%.15g", v);
+  return strtod(buf, NULL);
+}
+
+static ew_status set_one(ew_stack_editor *ed, const char *key, double value, ew_error *err) {
+  config_setting_t *g;
+  const char *name;
+  ew_status rc = locate(ed, key, "--vary", &g, &name, err);
+  if (rc != EW_OK) return rc;
+  if (!isfinite(value)) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s: value is not finite", key);
+  config_setting_t *s = config_setting_get_member(g, name);
+  if (s && !numeric_type(config_setting_type(s)))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: that setting is not a number", key);
+  unsigned line = g->line; /* an added setting reports its group */
+  int ok = 1;
+  /* a layer's thickness is given one way: setting one form replaces the other */
+  const char *other = !strcmp(name, "thickness") ? "thickness_ml"
+                      : !strcmp(name, "thickness_ml") ? "thickness" : NULL;
+  if (other && g != config_root_setting(&ed->cfg)) ok = remove_logged(ed, g, other, &line);
+  /* An integer literal cannot hold the new value: replace it by a float setting. */
+  if (ok && s && config_setting_type(s) != CONFIG_TYPE_FLOAT) {
+    ok = remove_logged(ed, g, name, &line);
+    s = NULL;
+  } else if (ok && s) {
+    ok = log_undo(ed, g, name, s);
+  } else if (ok) {
+    ok = log_undo(ed, g, name, NULL);
+  }
+  if (!ok) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (stack edit)");
+  if (!s && (s = config_setting_add(g, name, CONFIG_TYPE_FLOAT)) != NULL) s->line = line;
+  if (!s || !config_setting_set_float(s, text_value(value)))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: '%s' cannot be added to the stack",
+                   key, name);
+  return EW_OK;
+}
+
+/* "KEY = VALUE, KEY = VALUE" for messages. */
+static void values_text(char *buf, size_t size, size_t nkeys, const char *const *keys,
+                        const double *values) {
+  size_t used = 0;
+  buf[0] = '\0';
+  for (size_t i = 0; i < nkeys && used + 1 < size; i++) {
+    int w = snprintf(buf + used, size - used, "%s%s = %.10g", i ? ", " : "", keys[i], values[i]);
+    if (w < 0) break;
+    used += (size_t)w;
+  }
+}
+
+ew_status ew_stack_editor_build(ew_stack_editor *ed, size_t nkeys, const char *const *keys,
+                                const double *values, ew_stack **out, ew_error *err) {
+  *out = NULL;
+  if (ed->broken)
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (stack tree lost)");
+  ew_status rc = EW_OK;
+  for (size_t i = 0; i < nkeys && rc == EW_OK; i++) rc = set_one(ed, keys[i], values[i], err);
+  if (rc == EW_OK) {
+    ew_error e2 = {0};
+    const char *path = ed->nominal->path;
+    rc = ew_stack_from_config(&ed->cfg, path, ed->cat, out, &e2);
+    if (rc != EW_OK && err) { /* the reader's words and line, and the values that were set */
+      char what[512];
+      values_text(what, sizeof what, nkeys, keys, values);
+      ew_fail(err, rc, e2.file[0] ? e2.file : path, e2.line, "with %s: %s", what, e2.message);
+    }
+  }
+  ew_status ru = undo_all(ed, rc == EW_OK ? err : NULL);
+  if (ru != EW_OK && rc == EW_OK) {
+    ew_stack_free(*out);
+    *out = NULL;
+    rc = ru;
+  }
+  return rc;
+}

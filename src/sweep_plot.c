@@ -1,0 +1,199 @@
+/* sweep_plot.c — the pictures of a sweep (see sweep_plot.h): the sweep table's columns
+ * picked by kind (level, interband, intersubband) and drawn with ew_plot_xy. */
+#include "sweep_plot.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "chart_file.h"
+#include "error.h"
+#include "range.h"
+
+const char *const EW_WF_PLOT_SUFFIX[EW_WF_PLOT_FILES] = {"", "interband", "intersubband"};
+
+static int ends_with(const char *s, const char *tail) {
+  size_t a = strlen(s), b = strlen(tail);
+  return a >= b && !strcmp(s + a - b, tail);
+}
+
+/* Kind of a sweep column: 0 level (…_eV without '-'), 1 interband λ (…_nm), 2 intersubband
+ * λ (…_um), -1 anything else. */
+static int column_kind(const char *name) {
+  if (ends_with(name, "_eV") && !strchr(name, '-')) return 0;
+  if (ends_with(name, "_nm") && strchr(name, '-')) return 1;
+  if (ends_with(name, "_um") && strchr(name, '-')) return 2;
+  return -1;
+}
+
+/* Axis label of a varied key: the key, with its unit when the key is a known one. */
+static void key_label(const char *key, char *buf, size_t size) {
+  const char *unit = NULL;
+  if (ends_with(key, "thickness") || !strcmp(key, "grid_step")) unit = "nm";
+  else if (!strcmp(key, "temperature")) unit = "K";
+  else if (ends_with(key, ".x") || ends_with(key, ".y")) unit = "composition";
+  else if (ends_with(key, ".Ec") || ends_with(key, ".Ev")) unit = "eV";
+  else if (!strcmp(key, "field")) unit = "kV/cm";
+  if (unit) snprintf(buf, size, "%s (%s)", key, unit);
+  else snprintf(buf, size, "%s", key);
+}
+
+static int cmp_double(const void *pa, const void *pb) {
+  double a = *(const double *)pa, b = *(const double *)pb;
+  return (a > b) - (a < b);
+}
+
+static const char *base_of(const char *path) {
+  const char *sl = strrchr(path, '/');
+  return sl ? sl + 1 : path;
+}
+
+/* The series of one chart and the sweep's axes. */
+typedef struct {
+  size_t R, C, maxs;
+  double *x;         /* [R] x values (two keys: the first key's, in order of appearance) */
+  size_t nx;
+  size_t *ix, *iy;   /* [R] two keys: row i's x index and its second-key value index */
+  double *second;    /* [R] two keys: the distinct second-key values, sorted (n2) */
+  size_t n2;
+  double *ybuf;      /* [maxs × R] the series */
+  const double **ys;
+  char (*labels)[96];
+  const char **names;
+  size_t ns;         /* series of the chart in progress */
+  char title[800];
+} plot_work;
+
+static ew_status work_alloc(plot_work *w, const ew_wf_table *t, ew_error *err) {
+  memset(w, 0, sizeof *w);
+  w->R = t->nrows;
+  w->C = t->ncol;
+  w->maxs = w->C > EW_WF_PLOT_MAX_CURVES ? w->C : EW_WF_PLOT_MAX_CURVES;
+  w->x = malloc(w->R * sizeof *w->x);
+  w->ys = malloc(w->maxs * sizeof *w->ys);
+  w->labels = malloc(w->maxs * sizeof *w->labels);
+  w->names = malloc(w->maxs * sizeof *w->names);
+  w->ix = malloc(w->R * sizeof *w->ix);
+  w->iy = malloc(w->R * sizeof *w->iy);
+  w->second = malloc(w->R * sizeof *w->second);
+  w->ybuf = malloc(w->maxs * w->R * sizeof *w->ybuf);
+  if (!w->x || !w->ys || !w->labels || !w->names || !w->ix || !w->iy || !w->second || !w->ybuf)
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep picture)");
+  return EW_OK;
+}
+
+static void work_free(plot_work *w) {
+  free(w->x);
+  free(w->ys);
+  free(w->labels);
+  free(w->names);
+  free(w->ix);
+  free(w->iy);
+  free(w->second);
+  free(w->ybuf);
+}
+
+/* Two keys: rows run over the second key inside the first, so x = the first key's values in
+ * order of appearance and the curves are the distinct second-key values (sorted). */
+static void axes_two_keys(const ew_wf_table *t, plot_work *w) {
+  size_t R = w->R, C = w->C;
+  for (size_t i = 0; i < R; i++) {
+    double v0 = t->v[i * C];
+    if (w->nx == 0 || w->x[w->nx - 1] != v0) w->x[w->nx++] = v0;
+    w->ix[i] = w->nx - 1;
+    w->second[i] = t->v[i * C + 1];
+  }
+  double *u = w->ybuf; /* scratch: sorted distinct second values */
+  memcpy(u, w->second, R * sizeof *u);
+  qsort(u, R, sizeof *u, cmp_double);
+  for (size_t i = 0; i < R; i++)
+    if (w->n2 == 0 || u[w->n2 - 1] != u[i]) u[w->n2++] = u[i];
+  for (size_t i = 0; i < R; i++) {
+    const double *hit = bsearch(&w->second[i], u, w->n2, sizeof *u, cmp_double);
+    w->iy[i] = (size_t)(hit - u);
+  }
+  memcpy(w->second, u, w->n2 * sizeof *u); /* second[0..n2) = the distinct values */
+}
+
+static const char *const WHAT1[EW_WF_PLOT_FILES] = {"levels", "interband lines",
+                                                    "intersubband lines"};
+static const char *const COL2[EW_WF_PLOT_FILES] = {"e1_eV", "e1-hh1_nm", "e1-e2_um"};
+
+/* One key: every column of kind f is a series. */
+static void series_one_key(const ew_wf_table *t, int f, plot_work *w) {
+  size_t R = w->R, C = w->C;
+  w->ns = 0;
+  for (size_t c = 1; c < C; c++) {
+    if (column_kind(t->names[c]) != f) continue;
+    double *y = w->ybuf + w->ns * R;
+    for (size_t i = 0; i < R; i++) y[i] = t->v[i * C + c];
+    snprintf(w->labels[w->ns], sizeof w->labels[w->ns], "%.*s", (int)(strlen(t->names[c]) - 3),
+             t->names[c]);
+    w->ys[w->ns] = y;
+    w->names[w->ns] = w->labels[w->ns];
+    w->ns++;
+  }
+  snprintf(w->title, sizeof w->title, "%s: %s against %s", base_of(t->stack), WHAT1[f],
+           t->names[0]);
+}
+
+/* Two keys: column COL2[f], one curve per picked value of the second key. */
+static void series_two_keys(const ew_wf_table *t, int f, plot_work *w) {
+  size_t R = w->R, C = w->C, c = 2, nx = w->nx, n2 = w->n2;
+  w->ns = 0;
+  while (c < C && strcmp(t->names[c], COL2[f]) != 0) c++;
+  if (c < C) {
+    size_t S = n2 < EW_WF_PLOT_MAX_CURVES ? n2 : EW_WF_PLOT_MAX_CURVES;
+    size_t pick[EW_WF_PLOT_MAX_CURVES];
+    for (size_t q = 0; q < S; q++) pick[q] = S > 1 ? (q * (n2 - 1) + (S - 1) / 2) / (S - 1) : 0;
+    for (size_t q = 0; q < S; q++) {
+      double *y = w->ybuf + q * nx;
+      for (size_t i = 0; i < nx; i++) y[i] = NAN;
+      w->ys[q] = y;
+      snprintf(w->labels[q], sizeof w->labels[q], "%s=%.6g", t->names[1], w->second[pick[q]]);
+      w->names[q] = w->labels[q];
+    }
+    for (size_t i = 0; i < R; i++)
+      for (size_t q = 0; q < S; q++)
+        if (w->iy[i] == pick[q]) w->ybuf[q * nx + w->ix[i]] = t->v[i * C + c];
+    w->ns = S;
+  }
+  snprintf(w->title, sizeof w->title, "%s: %.*s against %s, one curve per %s", base_of(t->stack),
+           (int)(strlen(COL2[f]) - 3), COL2[f], t->names[0], t->names[1]);
+}
+
+ew_status ew_wf_sweep_plot(const ew_wf_table *t, const char *path, ew_wf_outset *set,
+                           int written[EW_WF_PLOT_FILES], ew_error *err) {
+  for (int f = 0; f < EW_WF_PLOT_FILES; f++) written[f] = 0;
+  if (!t || t->nkeys < 1 || t->nkeys > 2 || t->nrows == 0)
+    return ew_fail(err, EW_ERR_USAGE, path, 0, "--plot: the sweep has no points to draw");
+  char paths[EW_WF_PLOT_FILES][EW_WF_PATH_MAX];
+  for (int f = 0; f < EW_WF_PLOT_FILES; f++) {
+    ew_status rc = ew_wf_plot_companion(path, EW_WF_PLOT_SUFFIX[f], "--plot", paths[f],
+                                        sizeof paths[f], err);
+    if (rc != EW_OK) return rc;
+  }
+  static const char *const ylab[EW_WF_PLOT_FILES] = {"energy (eV)", "wavelength (nm)",
+                                                     "wavelength (\xc2\xb5m)"};
+  char xlabel[EW_WF_KEY_MAX + 32];
+  key_label(t->names[0], xlabel, sizeof xlabel);
+  plot_work w;
+  ew_status rc = work_alloc(&w, t, err);
+  if (rc == EW_OK && t->nkeys == 1) {
+    for (size_t i = 0; i < w.R; i++) w.x[i] = t->v[i * w.C];
+    w.nx = w.R;
+  } else if (rc == EW_OK) {
+    axes_two_keys(t, &w);
+  }
+  for (int f = 0; f < EW_WF_PLOT_FILES && rc == EW_OK; f++) {
+    if (t->nkeys == 1) series_one_key(t, f, &w);
+    else series_two_keys(t, f, &w);
+    if (w.ns == 0) continue; /* no such column in this sweep: no chart */
+    rc = ew_wf_chart_into_set(set, paths[f], "--plot", w.title, xlabel, ylab[f], w.nx, w.x,
+                              w.ns, w.ys, w.names, err);
+    if (rc == EW_OK) written[f] = 1;
+  }
+  work_free(&w);
+  return rc;
+}
