@@ -496,6 +496,80 @@ static void fixtures_exercise_the_fields(void **state) {
   solved_free(&d);
 }
 
+/* ---- --spectra FILE.csv ----------------------------------------------------------------
+ * Intersubband column against the formula of README "Spectra" (after M. Helm, Semicond.
+ * Semimet. 62, 1 (2000)), evaluated here from the public line values alone:
+ *   A(E) = (e² h / (4 ε0 n c)) N_s (sin²θ / cos θ) Σ_j (2 ΔE_j |z_1j|² / ħ²) L_j(E),
+ * (f_1j/m* = 2ΔE|z|²/ħ², README), L_j a normalised Lorentzian of FWHM `linewidth` at the
+ * e1→ej line energy, θ = 45°, n = 3.3 (the defaults); CODATA 2018 constants.  The interband
+ * column (exciton peaks not reconstructible from the public API) is checked for its place:
+ * its maximum lies within one linewidth of an allowed line's PL peak (the 1s exciton peak,
+ * README).  The energy column: the union of the two documented 2001-point grids. */
+static void spectra_csv(void **state) {
+  (void)state;
+  solved sv;
+  assert_int_equal(solve_spec(&strained, &sv), 0);
+  const ew_result *r = sv.r;
+  char csvp[1300], args[2800], out[1300];
+  snprintf(csvp, sizeof csvp, "%s/spectra.csv", env.tmp);
+  snprintf(out, sizeof out, "%s.spectra.table", sv.path);
+  snprintf(args, sizeof args, "solve '%s' --spectra '%s'", sv.path, csvp);
+  assert_int_equal(rt_run(&env, args, out), 0);
+  rcsv c;
+  assert_int_equal(csv_open(env.tmp, "spectra.csv", &c, "E_eV,interband_rel,intersubband_fraction"), 0);
+  const double e = 1.602176634e-19, h = 6.62607015e-34, hbar = 1.054571817e-34;
+  const double eps0 = 8.8541878128e-12, cl = 299792458.0, nr = 3.3, th = 45.0 * M_PI / 180;
+  const double Ns = 4e11 * 1e4, fwhm = 8e-3; /* the stack's sheet_density (m^-2), linewidth */
+  size_t e1 = rt_state_of(r, EW_BAND_E, 1);
+  assert_true(e1 != SIZE_MAX);
+  double Emax_isb = 0, Emin_pl = INFINITY, Emax_ib = 0;
+  for (size_t j = 0; j < ew_result_line_count(r); j++) {
+    const ew_line *ln = ew_result_line(r, j);
+    if (ln->kind == EW_LINE_INTERSUBBAND && ln->lower == e1) Emax_isb = fmax(Emax_isb, ln->energy_eV);
+    if (ln->kind == EW_LINE_INTERBAND) {
+      Emin_pl = fmin(Emin_pl, ln->pl_peak_eV);
+      Emax_ib = fmax(Emax_ib, ln->energy_eV);
+    }
+  }
+  assert_true(Emax_isb > 0);
+  double pref = e * e * h / (4 * eps0 * nr * cl) * Ns * sin(th) * sin(th) / cos(th);
+  double amax = 0, ibmax = -1, E_ibmax = 0;
+  int grid_ends[4] = {0, 0, 0, 0};
+  double ends[4] = {Emin_pl - 0.020, Emax_ib + 0.100, 0.0, 1.5 * Emax_isb};
+  for (size_t k = 0; k < c.nrows; k++) {
+    double E = rcsv_num(&c, k, 0);
+    if (k) assert_true(E > rcsv_num(&c, k - 1, 0)); /* ascending, each energy once */
+    for (int q = 0; q < 4; q++) grid_ends[q] |= fabs(E - ends[q]) <= rt_tol_sig(ends[q], 10) + 1e-12;
+    double A = 0;
+    for (size_t j = 0; j < ew_result_line_count(r); j++) {
+      const ew_line *ln = ew_result_line(r, j);
+      if (ln->kind != EW_LINE_INTERSUBBAND || ln->lower != e1) continue;
+      double dE = ln->energy_eV * e, z = ln->dipole_nm * 1e-9, g = 0.5 * fwhm;
+      double L = g / (M_PI * ((E - ln->energy_eV) * (E - ln->energy_eV) + g * g)) / e; /* 1/J */
+      A += pref * 2 * dE * z * z / (hbar * hbar) * L;
+    }
+    amax = fmax(amax, A);
+    /* 10 digits printed; 1e-6 relative of the peak for the constants' last digits */
+    RT_SAME(rcsv_num(&c, k, 2), A, rt_tol_sig(A, 10) + 1e-6 * amax + 1e-15,
+            "intersubband_fraction against the Helm formula");
+    double ib = rcsv_num(&c, k, 1);
+    if (ib > ibmax) ibmax = ib, E_ibmax = E;
+  }
+  for (int q = 0; q < 4; q++) {
+    if (!grid_ends[q]) print_error("spectra: no row at the grid end %.10g eV\n", ends[q]);
+    assert_true(grid_ends[q]);
+  }
+  assert_true(c.nrows > 2001 && c.nrows <= 4002);
+  int near_pl = 0;
+  for (size_t j = 0; j < ew_result_line_count(r); j++) {
+    const ew_line *ln = ew_result_line(r, j);
+    if (ln->kind == EW_LINE_INTERBAND && ln->allowed && fabs(E_ibmax - ln->pl_peak_eV) <= fwhm) near_pl = 1;
+  }
+  assert_true(ibmax > 0 && near_pl);
+  rcsv_free(&c);
+  solved_free(&sv);
+}
+
 static const char *argv0;
 static int setup(void **state) {
   (void)state;
@@ -521,6 +595,7 @@ int main(int argc, char **argv) {
       cmocka_unit_test(csv_strained),
       cmocka_unit_test(csv_field),
       cmocka_unit_test(csv_doped),
+      cmocka_unit_test(spectra_csv),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
