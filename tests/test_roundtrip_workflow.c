@@ -336,6 +336,72 @@ static void match_one_key_with_tolerance(void **state) {
   rj_free(&doc);
 }
 
+/* two unknowns: each member a pair (README); solved again at the pair found */
+static double line_energy2(double well, double x, const char *a, const char *b) {
+  pt s = solve_pt(well, x, LEFT_NM);
+  const ew_line *ln = line_of(s.r, a, b);
+  double e = ln ? ln->energy_eV : NAN;
+  pt_free(&s);
+  return e;
+}
+
+static void match_two_keys(void **state) {
+  (void)state;
+  char stack[1200], out[1300], args[4096];
+  write_stack(stack, sizeof stack);
+  double t0 = line_energy2(6.3, 0.25, "e1", "hh1"), t1 = line_energy2(6.3, 0.25, "e1", "e2");
+  snprintf(out, sizeof out, "%s/match2.json", env.tmp);
+  snprintf(args, sizeof args,
+           "match '%s' --vary well.thickness=5:8 --vary left.x=0.15:0.35 --line e1-hh1 "
+           "--target %.10feV --line e1-e2 --target %.10feV --json", stack, t0, t1);
+  assert_int_equal(rt_run(&env, args, out), 0);
+  char *text = rt_slurp(out);
+  assert_non_null(text);
+  rj doc;
+  assert_int_equal(rj_parse(text, &doc), 0);
+  free(text);
+  char s0[32], s1[32]; /* the targets as the command read them */
+  snprintf(s0, sizeof s0, "%.10f", t0);
+  snprintf(s1, sizeof s1, "%.10f", t1);
+  double tg[2] = {strtod(s0, NULL), strtod(s1, NULL)};
+  const rj *keys = rj_get(&doc, "keys"), *lines = rj_get(&doc, "lines");
+  assert_true(keys && keys->n == 2 && lines && lines->n == 2);
+  RT_STREQ(keys->item[0].str, "well.thickness", "keys[0]");
+  RT_STREQ(keys->item[1].str, "left.x", "keys[1]");
+  static const char *const ln[2][2] = {{"e1", "hh1"}, {"e1", "e2"}};
+  for (int i = 0; i < 2; i++) {
+    char nm[16];
+    snprintf(nm, sizeof nm, "%s-%s", ln[i][0], ln[i][1]);
+    RT_STREQ(rj_str(&lines->item[i], "line"), nm, "lines[i].line");
+    RT_JSON(&lines->item[i], "target_eV", tg[i], nm);
+    RT_JSON(&lines->item[i], "target_nm", RT_HC_EVNM / tg[i], nm);
+  }
+  const rj *sol = rj_get(&doc, "solutions");
+  assert_true(sol && sol->n >= 1);
+  for (size_t k = 0; k < sol->n; k++) {
+    const rj *s = &sol->item[k];
+    const rj *v = rj_get(s, "value"), *E = rj_get(s, "energy_eV"), *W = rj_get(s, "wavelength_nm"),
+             *R = rj_get(s, "residual_eV");
+    assert_true(v && v->n == 2 && E && E->n == 2 && W && W->n == 2 && R && R->n == 2);
+    for (int i = 0; i < 2; i++) {
+      double e = line_energy2(v->item[0].num, v->item[1].num, ln[i][0], ln[i][1]);
+      RT_SAME(E->item[i].num, e, rt_tol_sig(e, 10) + 1e-10, "2D solution energy_eV[i]");
+      RT_SAME(W->item[i].num, RT_HC_EVNM / e, rt_tol_sig(RT_HC_EVNM / e, 9), "wavelength_nm[i]");
+      RT_SAME(R->item[i].num, e - tg[i], 2e-10, "residual_eV[i] = energy − target");
+    }
+  }
+  /* the pair the targets came from is among the solutions (Newton; 1e-5 eV of residual
+     moves the pair by < 1e-3) */
+  int found = 0;
+  for (size_t k = 0; k < sol->n; k++) {
+    const rj *v = rj_get(&sol->item[k], "value");
+    found |= fabs(v->item[0].num - 6.3) < 1e-3 && fabs(v->item[1].num - 0.25) < 1e-3;
+  }
+  assert_true(found);
+  RT_STREQ(rj_str(&doc, "message"), "", "message");
+  rj_free(&doc);
+}
+
 /* ---- tolerance ------------------------------------------------------------------------ */
 typedef struct {
   double t[3], x[3];
@@ -562,6 +628,7 @@ int main(int argc, char **argv) {
       cmocka_unit_test(sweep_two_keys),
       cmocka_unit_test(sweep_shard),
       cmocka_unit_test(match_one_key_with_tolerance),
+      cmocka_unit_test(match_two_keys),
       cmocka_unit_test(tolerance_json),
       cmocka_unit_test(tolerance_ladder_json),
   };
