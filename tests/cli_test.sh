@@ -265,14 +265,19 @@ else nok "missing stack file: stderr names the file" "stderr: $(head -n 2 "$tmp/
 expect_quiet_stdout "missing stack file" ""
 if no_csv "$d"; then ok "missing stack file: -o DIR holds no csv files"; else nok "missing stack file: -o DIR holds no csv files"; fi
 
-# unreadable stack file (only meaningful when permissions apply, i.e. not as root)
-if [ "$(id -u)" -ne 0 ]; then
-  cp examples/detector_well.cfg "$tmp/unreadable.cfg" && chmod 000 "$tmp/unreadable.cfg"
-  run "$bin" solve "$tmp/unreadable.cfg"
-  expect_rc 5 "unreadable stack file is a file I/O error" "$(ran "$bin" solve "$tmp/unreadable.cfg")"
+# unreadable stack file (permissions apply: as root the check runs as nobody, lib.sh)
+unprivileged_setup
+if [ "$unpriv_ok" -eq 1 ]; then
+  cp examples/detector_well.cfg "$tmp/unreadable.cfg" && own_unprivileged "$tmp/unreadable.cfg"
+  # control: readable, the same user solves it
+  run_unprivileged "$bin" solve "$tmp/unreadable.cfg"
+  expect_rc 0 "control: the permission checks' user reads a readable stack" "$(ran $unpriv "$bin" solve "$tmp/unreadable.cfg")"
+  chmod 000 "$tmp/unreadable.cfg"
+  run_unprivileged "$bin" solve "$tmp/unreadable.cfg"
+  expect_rc 5 "unreadable stack file is a file I/O error" "$(ran $unpriv "$bin" solve "$tmp/unreadable.cfg")"
   chmod 644 "$tmp/unreadable.cfg"
 else
-  skip "unreadable stack file exits 5: running as root, which reads any file"
+  skip "unreadable stack file exits 5: $unpriv_why"
 fi
 
 # ---- unwritable -o paths: exit 5 before any output --------------------------------------
@@ -286,14 +291,26 @@ done
 # before any work: with a broken stack as well, the output path is what gets reported
 run "$bin" solve tests/data/cli/syntax_error.cfg -o "$tmp/regular_file/sub"
 expect_rc 5 "unwritable -o is checked before the stack is read" "$(ran "$bin" solve tests/data/cli/syntax_error.cfg -o "$tmp/regular_file/sub")"
-if [ "$(id -u)" -ne 0 ]; then
-  mkdir "$tmp/readonly" && chmod 555 "$tmp/readonly"
-  run "$bin" solve "$ex" -o "$tmp/readonly"
-  expect_rc 5 "read-only -o directory" "$(ran "$bin" solve "$ex" -o "$tmp/readonly")"
+if [ "$unpriv_ok" -eq 1 ]; then
+  mkdir "$tmp/readonly" && own_unprivileged "$tmp/readonly" && chmod 755 "$tmp/readonly"
+  # control: writable, the same user writes the set there
+  run_unprivileged "$bin" solve "$ex" -o "$tmp/readonly"
+  expect_rc 0 "control: the permission checks' user writes a writable -o directory" "$(ran $unpriv "$bin" solve "$ex" -o "$tmp/readonly")"
+  rm -f "$tmp/readonly"/*
+  chmod 555 "$tmp/readonly"
+  run_unprivileged "$bin" solve "$ex" -o "$tmp/readonly"
+  expect_rc 5 "read-only -o directory" "$(ran $unpriv "$bin" solve "$ex" -o "$tmp/readonly")"
   if no_csv "$tmp/readonly"; then ok "read-only -o directory: nothing written"; else nok "read-only -o directory: nothing written"; fi
+  for opt in "--plot $tmp/readonly/band.svg" "--report $tmp/readonly/rep" "--spectra $tmp/readonly/s.csv"; do
+    # shellcheck disable=SC2086 # option and its value
+    run_unprivileged "$bin" solve "$ex" $opt
+    expect_rc 5 "read-only directory for ${opt%% *}" "$(ran $unpriv "$bin" solve "$ex" $opt)"
+  done
+  if [ -z "$(ls -A "$tmp/readonly")" ]; then ok "read-only directory: nothing written by --plot, --report, --spectra"
+  else nok "read-only directory: nothing written by --plot, --report, --spectra" "found: $(ls -A "$tmp/readonly" | head -n 3 | tr '\n' ' ')"; fi
   chmod 755 "$tmp/readonly"
 else
-  skip "read-only -o directory exits 5: running as root, which ignores directory permissions"
+  skip "read-only -o directory exits 5: $unpriv_why"
 fi
 
 # ---- bad options: exit 1, usage on stderr, nothing on stdout ----------------------------

@@ -56,3 +56,43 @@ finish() {
   [ "$fail" -eq 0 ] || exit 1
   exit 0
 }
+
+# Checks of file permissions (unreadable files, read-only directories) mean nothing to root,
+# which reads and writes anything.  unprivileged_setup: as root, find a way to run as the
+# unprivileged user nobody:nogroup (setpriv or runuser, util-linux) and open $tmp to it (its
+# files are test data); unpriv is then the command prefix, "" when not root (run directly).
+# unpriv_ok=0 (with the reason in unpriv_why) when no way works: skip those checks.
+# The project tree and the binary must be readable by that user: checked with --version.
+unprivileged_setup() {
+  unpriv=
+  unpriv_ok=1
+  unpriv_why=
+  unpriv_owner=
+  [ "$(id -u)" -ne 0 ] && return 0
+  if command -v setpriv >/dev/null 2>&1 &&
+    setpriv --reuid=nobody --regid=nogroup --clear-groups true 2>/dev/null; then
+    unpriv="setpriv --reuid=nobody --regid=nogroup --clear-groups --"
+  elif command -v runuser >/dev/null 2>&1 && runuser -u nobody -- true 2>/dev/null; then
+    unpriv="runuser -u nobody --"
+  else
+    unpriv_ok=0
+    unpriv_why="running as root, and neither setpriv nor runuser can switch to nobody"
+    return 0
+  fi
+  unpriv_owner=nobody:nogroup
+  chmod 755 "$tmp"
+  # shellcheck disable=SC2086 # unpriv is a command prefix, split on purpose
+  if ! $unpriv "$bin" --version >/dev/null 2>&1; then
+    unpriv_ok=0
+    unpriv_why="running as root, and nobody cannot run $bin (is the tree readable by others?)"
+  fi
+}
+# own_unprivileged PATH...: hand PATH to the unprivileged user (as root), so that its mode
+# bits, not its owner, decide what that user may do
+own_unprivileged() { [ -z "$unpriv_owner" ] || chown "$unpriv_owner" "$@"; }
+# run_unprivileged CMD...: run, as the unprivileged user
+run_unprivileged() {
+  # shellcheck disable=SC2086
+  $unpriv "$@" </dev/null >"$tmp/out" 2>"$tmp/err"
+  rc=$?
+}

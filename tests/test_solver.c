@@ -104,8 +104,9 @@ static void finite_well_mass_mismatch(void **state) {
   for (int i = 0; i < n; i++) {
     const ew_state *s = ew_result_state(r, (size_t)i);
     double err = fabs(s->energy_eV - E[i]);
-    /* issue requirement: within 0.1 meV at the default grid */
-    TU_NEAR(s->energy_eV, E[i], 1e-4, "BenDaniel-Duke transcendental, 0.1 meV");
+    /* issue requirement: within 0.1 meV at the default grid; the extrapolated values are
+       fourth order, measured within 1.4e-8 eV of these roots (tests/test_richardson.c) */
+    TU_NEAR(s->energy_eV, E[i], 1e-7, "BenDaniel-Duke transcendental, 1e-7 eV");
     /* the reported estimate bounds the true error (plus 1e-9 eV for the 30 nm walls) */
     if (!(err <= s->error_eV + 1e-9)) {
       print_error("%s: true error %.3g eV exceeds estimate %.3g eV\n", s->label, err,
