@@ -61,6 +61,20 @@ void ew_json_write_string(FILE *out, const char *s) {
   fputc('"', out);
 }
 
+void ew_json_write_number(FILE *out, double v) {
+  if (isfinite(v)) fprintf(out, "%.10g", v);
+  else fputs("null", out);
+}
+
+void ew_json_write_number_array(FILE *out, const char *name, const double *v, size_t n) {
+  fprintf(out, ",\"%s\":[", name);
+  for (size_t i = 0; i < n; i++) {
+    if (i) fputc(',', out);
+    ew_json_write_number(out, v ? v[i] : NAN);
+  }
+  fputc(']', out);
+}
+
 /* Before any value (and before a key): the comma and line break it needs. */
 static void separate(ew_json *j) {
   uint64_t bit = j->depth < EW_JSON_DEPTH ? (uint64_t)1 << j->depth : 0;
@@ -110,8 +124,7 @@ void ew_json_str(ew_json *j, const char *s) {
 
 void ew_json_num(ew_json *j, double v) {
   separate(j);
-  if (isfinite(v)) fprintf(j->out, "%.10g", v);
-  else fputs("null", j->out);
+  ew_json_write_number(j->out, v);
 }
 
 void ew_json_int(ew_json *j, long long v) {

@@ -23,6 +23,7 @@
 #ifndef EW_JSON_WRITER_H
 #define EW_JSON_WRITER_H
 
+#include <stddef.h>
 #include <stdint.h>
 #include <stdio.h>
 
@@ -66,6 +67,10 @@ void ew_json_key_null(ew_json *j, const char *key);
 /* A JSON string literal (quotes included) on out, escaped as above; for writers that lay
  * out their own JSON text. */
 void ew_json_write_string(FILE *out, const char *s);
+/* One number as above (%.10g, null when not finite), for code that lays out its own JSON. */
+void ew_json_write_number(FILE *out, double v);
+/* ,"name":[v0,v1,…] — every value null when v is NULL */
+void ew_json_write_number_array(FILE *out, const char *name, const double *v, size_t n);
 
 /* End the document with a newline.  0 when every call nested properly and the stream had
  * no error, −1 otherwise. */

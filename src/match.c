@@ -10,7 +10,7 @@
 
 #include "constants.h"
 #include "error.h"
-#include "json_text.h"
+#include "json_writer.h"
 #include "line_name.h"
 #include "parallel.h"
 #include "solve.h"
@@ -744,20 +744,20 @@ static void json_lines(const ew_wf_match_result *r, FILE *out) {
   fputs("{\"keys\":[", out);
   for (size_t i = 0; i < r->nkeys; i++) {
     if (i) fputc(',', out);
-    ew_json_str(out, r->key[i]);
+    ew_json_write_string(out, r->key[i]);
   }
   fputs("],\"lines\":[", out);
   for (size_t i = 0; i < r->nkeys; i++) {
     fputs(i ? ",{\"line\":" : "{\"line\":", out);
-    ew_json_str(out, r->line[i]);
+    ew_json_write_string(out, r->line[i]);
     fputs(",\"target_eV\":", out);
-    ew_json_num(out, r->target[i].eV);
+    ew_json_write_number(out, r->target[i].eV);
     fputs(",\"target_nm\":", out);
-    ew_json_num(out, r->target[i].nm);
+    ew_json_write_number(out, r->target[i].nm);
     fputs(",\"reached_eV\":[", out);
-    ew_json_num(out, r->reached_min_eV[i]);
+    ew_json_write_number(out, r->reached_min_eV[i]);
     fputc(',', out);
-    ew_json_num(out, r->reached_max_eV[i]);
+    ew_json_write_number(out, r->reached_max_eV[i]);
     fputs("]}", out);
   }
 }
@@ -769,21 +769,21 @@ static void json_solution(const ew_wf_match_result *r, const ew_wf_solution *s, 
     fprintf(out, "%s\"%s\":", q ? "," : "", f[q]);
     if (r->nkeys == 2) {
       fputc('[', out);
-      ew_json_num(out, a[q][0]);
+      ew_json_write_number(out, a[q][0]);
       fputc(',', out);
-      ew_json_num(out, a[q][1]);
+      ew_json_write_number(out, a[q][1]);
       fputc(']', out);
     } else {
-      ew_json_num(out, a[q][0]);
+      ew_json_write_number(out, a[q][0]);
     }
   }
   if (r->have_tolerance) {
     fputs(",\"uncertainty\":", out);
-    ew_json_num(out, s->uncertainty);
+    ew_json_write_number(out, s->uncertainty);
     fputs(",\"value_at_target_minus_tolerance\":", out);
-    ew_json_num(out, s->value_minus);
+    ew_json_write_number(out, s->value_minus);
     fputs(",\"value_at_target_plus_tolerance\":", out);
-    ew_json_num(out, s->value_plus);
+    ew_json_write_number(out, s->value_plus);
   }
 }
 
@@ -796,6 +796,6 @@ void ew_wf_match_print_json(const ew_wf_match_result *r, FILE *out) {
     fputc('}', out);
   }
   fputs("],\"message\":", out);
-  ew_json_str(out, r->message);
+  ew_json_write_string(out, r->message);
   fputs("}\n", out);
 }

@@ -8,7 +8,7 @@
 #include <string.h>
 
 #include "error.h"
-#include "json_text.h"
+#include "json_writer.h"
 #include "line_name.h"
 #include "parallel.h"
 #include "solve.h"
@@ -205,17 +205,17 @@ static ew_status table_begin(const sweep_plan *P, const char *stack, ew_wf_table
 
 static void json_begin(const sweep_plan *P, const char *stack, FILE *json) {
   fputs("{\"stack\":", json);
-  ew_json_str(json, stack);
+  ew_json_write_string(json, stack);
   fputs(",\"varied\":[", json);
   for (size_t i = 0; i < P->nr; i++) {
     if (i) fputc(',', json);
-    ew_json_str(json, P->keys[i]);
+    ew_json_write_string(json, P->keys[i]);
   }
   fprintf(json, "],\"points_total\":%zu,\"shard\":{\"k\":%zu,\"n\":%zu,\"first\":%zu,"
           "\"count\":%zu},\"columns\":[", P->np, P->sk, P->sn, P->lo, P->hi - P->lo);
   for (size_t j = 0; j < P->ncol; j++) {
     if (j) fputc(',', json);
-    ew_json_str(json, P->names[j]);
+    ew_json_write_string(json, P->names[j]);
   }
   fputs("],\"points\":[", json);
 }
@@ -288,9 +288,9 @@ static void write_row(const sweep_plan *P, size_t p, const double *row, FILE *cs
     fputs(p > P->lo ? ",\n{" : "\n{", json);
     for (size_t k = 0; k < ncol; k++) {
       if (k) fputc(',', json);
-      ew_json_str(json, P->names[k]);
+      ew_json_write_string(json, P->names[k]);
       fputc(':', json);
-      ew_json_num(json, row[k]);
+      ew_json_write_number(json, row[k]);
     }
     fputc('}', json);
   }

@@ -10,7 +10,7 @@
 #include "constants.h"
 #include "error.h"
 #include "hellmann_feynman.h"
-#include "json_text.h"
+#include "json_writer.h"
 #include "line_name.h"
 #include "parallel.h"
 #include "range.h"
@@ -359,44 +359,44 @@ void ew_wf_tolerance_print(const ew_wf_tolerance *t, FILE *out) {
 
 void ew_wf_tolerance_print_json(const ew_wf_tolerance *t, FILE *out) {
   fputs("{\"stack\":", out);
-  ew_json_str(out, t->stack);
+  ew_json_write_string(out, t->stack);
   fputs(",\"items\":[", out);
   for (size_t i = 0; i < t->n_items; i++) {
     fputs(i ? ",{\"name\":" : "{\"name\":", out);
-    ew_json_str(out, t->items[i].name);
+    ew_json_write_string(out, t->items[i].name);
     fprintf(out, ",\"kind\":\"%s\",\"energy_eV\":",
             !t->items[i].is_line ? "level" : t->items[i].interband ? "interband" : "intersubband");
-    ew_json_num(out, t->items[i].energy_eV);
+    ew_json_write_number(out, t->items[i].energy_eV);
     fputc('}', out);
   }
   fputs("],\"layers\":[", out);
   for (size_t k = 0; k < t->n_layers; k++) {
     const ew_wf_tol_layer *L = &t->layers[k];
     fprintf(out, "%s{\"index\":%zu,\"name\":", k ? "," : "", k + 1);
-    ew_json_str(out, L->name);
+    ew_json_write_string(out, L->name);
     fputs(",\"material\":", out);
-    ew_json_str(out, L->material);
+    ew_json_write_string(out, L->material);
     fputs(",\"thickness_nm\":", out);
-    ew_json_num(out, L->thickness_nm);
+    ew_json_write_number(out, L->thickness_nm);
     fputs(",\"monolayer_nm\":", out);
-    ew_json_num(out, L->ml_nm);
+    ew_json_write_number(out, L->ml_nm);
     fprintf(out, ",\"monolayer_default\":%s,\"alloy\":%s,\"x\":", L->ml_default ? "true" : "false",
             L->has_x ? "true" : "false");
-    ew_json_num(out, L->has_x ? L->x : NAN);
+    ew_json_write_number(out, L->has_x ? L->x : NAN);
     fputs(",\"dx\":", out);
-    ew_json_num(out, L->has_x ? L->dx : NAN);
+    ew_json_write_number(out, L->has_x ? L->dx : NAN);
     fputs(",\"fd_step_nm\":", out);
-    ew_json_num(out, L->fd_dt_nm);
+    ew_json_write_number(out, L->fd_dt_nm);
     fputs(",\"fd_step_x\":", out);
-    ew_json_num(out, L->fd_dx);
-    ew_json_arr(out, "shift_minus_1ML_eV", L->ml_minus, t->n_items);
-    ew_json_arr(out, "shift_plus_1ML_eV", L->ml_plus, t->n_items);
-    ew_json_arr(out, "dEdt_HF_eV_per_nm", L->dEdt_hf, t->n_items);
-    ew_json_arr(out, "dEdt_FD_eV_per_nm", L->dEdt_fd, t->n_items);
-    ew_json_arr(out, "shift_minus_dx_eV", L->has_x ? L->dx_minus : NULL, t->n_items);
-    ew_json_arr(out, "shift_plus_dx_eV", L->has_x ? L->dx_plus : NULL, t->n_items);
-    ew_json_arr(out, "dEdx_HF_eV", L->has_x ? L->dEdx_hf : NULL, t->n_items);
-    ew_json_arr(out, "dEdx_FD_eV", L->has_x ? L->dEdx_fd : NULL, t->n_items);
+    ew_json_write_number(out, L->fd_dx);
+    ew_json_write_number_array(out, "shift_minus_1ML_eV", L->ml_minus, t->n_items);
+    ew_json_write_number_array(out, "shift_plus_1ML_eV", L->ml_plus, t->n_items);
+    ew_json_write_number_array(out, "dEdt_HF_eV_per_nm", L->dEdt_hf, t->n_items);
+    ew_json_write_number_array(out, "dEdt_FD_eV_per_nm", L->dEdt_fd, t->n_items);
+    ew_json_write_number_array(out, "shift_minus_dx_eV", L->has_x ? L->dx_minus : NULL, t->n_items);
+    ew_json_write_number_array(out, "shift_plus_dx_eV", L->has_x ? L->dx_plus : NULL, t->n_items);
+    ew_json_write_number_array(out, "dEdx_HF_eV", L->has_x ? L->dEdx_hf : NULL, t->n_items);
+    ew_json_write_number_array(out, "dEdx_FD_eV", L->has_x ? L->dEdx_fd : NULL, t->n_items);
     fputc('}', out);
   }
   fputs("]}\n", out);
@@ -485,25 +485,25 @@ void ew_wf_ladder_print(const ew_wf_ladder *l, const ew_stack *st, FILE *out) {
 
 void ew_wf_ladder_print_json(const ew_wf_ladder *l, const ew_stack *st, FILE *out) {
   fputs("{\"stack\":", out);
-  ew_json_str(out, st->path);
+  ew_json_write_string(out, st->path);
   fputs(",\"layer\":", out);
-  ew_json_str(out, st->layers[l->layer].name);
+  ew_json_write_string(out, st->layers[l->layer].name);
   fputs(",\"monolayer_nm\":", out);
-  ew_json_num(out, l->ml_nm);
+  ew_json_write_number(out, l->ml_nm);
   fprintf(out, ",\"monolayer_default\":%s,\"offsets_ML\":[-2,-1,0,1,2]",
           l->ml_default ? "true" : "false");
-  ew_json_arr(out, "thickness_nm", l->thickness_nm, 5);
+  ew_json_write_number_array(out, "thickness_nm", l->thickness_nm, 5);
   fputs(",\"lines\":[", out);
   for (size_t i = 0; i < l->n_items; i++) {
     fputs(i ? ",{\"name\":" : "{\"name\":", out);
-    ew_json_str(out, l->items[i].name);
+    ew_json_write_string(out, l->items[i].name);
     double e[5], w[5];
     for (int q = 0; q < 5; q++) {
       e[q] = l->energy_eV[(size_t)q * l->n_items + i];
       w[q] = EW_HC_EVNM / e[q];
     }
-    ew_json_arr(out, "energy_eV", e, 5);
-    ew_json_arr(out, "wavelength_nm", w, 5);
+    ew_json_write_number_array(out, "energy_eV", e, 5);
+    ew_json_write_number_array(out, "wavelength_nm", w, 5);
     fputc('}', out);
   }
   fputs("]}\n", out);
