@@ -33,10 +33,6 @@
 #include "error.h"
 #include "observables.h"
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846
-#endif
-
 #define EW_EXC_TAIL 1e-10     /* probability dropped at each end of each envelope */
 #ifndef EW_EXC_STEP_NM /* overridable at build time for convergence studies */
 #define EW_EXC_STEP_NM 0.1    /* target step of the d mesh (binding unchanged to 1 µeV
@@ -62,7 +58,7 @@ struct ew_exciton_ws {
  * W. H. Press et al., Numerical Recipes, 3rd ed. (2007), §4.6). */
 static void gauss_legendre(int n, double *x, double *w) {
   for (int i = 0; i < n; i++) {
-    double z = cos(M_PI * (i + 0.75) / (n + 0.5)), dp = 1.0;
+    double z = cos(EW_PI * (i + 0.75) / (n + 0.5)), dp = 1.0;
     for (int it = 0; it < 100; it++) {
       double p0 = 1.0, p1 = z;
       for (int k = 2; k <= n; k++) {
@@ -335,7 +331,7 @@ ew_status ew_exciton_binding_ws(ew_exciton_ws *ws, const ew_grid *g, const doubl
   /* K = ħ²/(2μ) = (ħ²/2m0)/μ (eV nm²); C = e²/(4πε0 εr) (eV nm) from CODATA e and ε0:
    * e²/(4πε0) in J m divided by e gives eV m, ×1e9 for eV nm (1.43996 eV nm). */
   double K = EW_HB2M0_EVNM2 / mu_par;
-  double C = EW_E_C / (4.0 * M_PI * EW_EPS0_FM) * 1e9 / eps_r;
+  double C = EW_E_C / (4.0 * EW_PI * EW_EPS0_FM) * 1e9 / eps_r;
   double lam2d = K / C; /* = a_B/2, the strict-2D optimum */
   double l0 = log(lam2d / 4.0), l1 = log(lam2d * 2e4);
   double hs = (l1 - l0) / (EW_EXC_SCAN - 1), Es[EW_EXC_SCAN];
