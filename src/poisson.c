@@ -1,4 +1,5 @@
-/* poisson.c — self-consistent Schrödinger–Poisson solve of doped stacks (see poisson.h).
+/* poisson.c — the electrostatics of doped stacks and the Poisson update of the
+ * self-consistent loop (self_consistent.c; see poisson.h).
  *
  * Equations (SI, then in the units of this file: z in nm, energies in eV, densities nm^-3)
  *   Poisson:   d/dz (ε0 εr(z) dφ/dz) = −ρ(z),   ρ = e (p − n + N_D⁺ − N_A⁻).
@@ -51,7 +52,7 @@
  *    at its centroid ⟨z⟩.
  * The gauge: (U, E_F) → (U + c, E_F + c) changes nothing physical.  After every Poisson step
  * c is chosen so that the majority band's bound window with U (the lower of the outer
- * layers' highest edge) equals the window ew_solve_potential computes from the layers, so the
+ * layers' highest edge) equals the window the Schrödinger pass computes from the layers, so the
  * states it returns are exactly the bound ones and the continuum starts where they end.
  *
  * Outer loop: the predictor–corrector of A. Trellakis, A. T. Galick, A. Pacelli,
@@ -80,6 +81,7 @@
 #include <string.h>
 
 #include "constants.h"
+#include "eigen.h"
 #include "error.h"
 
 #define NM3_PER_CM3 1e-21 /* 1 cm^-3 in nm^-3 */
@@ -103,7 +105,7 @@ double ew_fd_half(double eta, double *deriv) {
   const double a = sqrt(1.0 + 3.75 * (j + 1.0) + (j + 1.0) * (j + 1.0) / 40.0);
   const double b = 1.8 + 0.61 * j;
   const double c = 2.0 + (2.0 - sqrt(2.0)) * pow(2.0, -j);
-  const double K = 3.0 * sqrt(acos(-1.0) / 2.0);
+  const double K = 3.0 * sqrt(EW_PI / 2.0);
   double d = fabs(eta - b), ac = pow(a, c);
   double r = pow(pow(d, c) + ac, 1.0 / c);
   double s = b + eta + r;
@@ -202,10 +204,10 @@ static void bands_at(const ew_stack *st, double z, size_t *k, ew_bands *b) {
 
 /* effective density of states 2 (m kT / (2π ħ²))^{3/2} in nm^-3; ħ²/m0 = 2 EW_HB2M0_EVNM2 */
 static double nc_of(double m, double kT) {
-  return 2.0 * pow(m * kT / (4.0 * acos(-1.0) * EW_HB2M0_EVNM2), 1.5);
+  return 2.0 * pow(m * kT / (4.0 * EW_PI * EW_HB2M0_EVNM2), 1.5);
 }
 /* 2D density of states times kT: m kT / (π ħ²) in nm^-2 */
-static double d2_of(double m, double kT) { return m * kT / (2.0 * acos(-1.0) * EW_HB2M0_EVNM2); }
+static double d2_of(double m, double kT) { return m * kT / (2.0 * EW_PI * EW_HB2M0_EVNM2); }
 
 static double fermi_at(const model *m, double EF0, double z) {
   return m->bias_eV != 0.0 ? EF0 - m->bias_eV * z / m->L : EF0;
@@ -233,8 +235,8 @@ static void fill_half(const model *m, half *h, double a, double b) {
   h->Ea = ly->acceptor_energy_eV;
 }
 
-/* Hand-over between subbands and continuum.  solve.c returns the states below a sharp
- * window top W; a state crossing W as U changes would add or remove its whole density at
+/* Hand-over between subbands and continuum.  A Schrödinger pass returns the states below a
+ * sharp window top W; a state crossing W as U changes would add or remove its whole density at
  * once, and the outer iteration could cycle between the two sides for ever.  So the energy
  * axis is shared over the interval δ = EW_SP_BLEND_KT·kT below W (above, for holes) by a
  * partition of unity: a state at depth x = (W − E)/δ counts with χ(x) = 3x² − 2x³ (0 at the
@@ -581,7 +583,7 @@ static double interp(const model *m, const double *U, double z) {
 }
 
 /* The bound window of a band in its positive-mass form (Ec, or −Ev for holes) with U added
- * (U == NULL: without), sampled as ew_solve_potential does: the lower of the outer layers'
+ * (U == NULL: without), sampled as the Schrödinger pass does: the lower of the outer layers'
  * highest values. */
 static double window_with(const model *m, ew_band band, const double *U) {
   const ew_stack *st = m->st;
@@ -622,7 +624,7 @@ static ew_status snap_of(const ew_result *r, const model *m, const double *Us, s
     qstate *o = &s->s[j];
     o->hole = q->band != EW_BAND_E;
     o->E = q->energy_eV;
-    double mp = q->inplane_mass; /* the subband's own curvature (solve.c) */
+    double mp = q->inplane_mass; /* the subband's own curvature (states.c) */
     if (!(mp > 0)) mp = q->band == EW_BAND_E ? bb->me : q->band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
     if (!(mp > 0)) mp = q->band == EW_BAND_HH ? bb->mhh_z : bb->mlh_z;
     o->D = d2_of(mp, m->kT);
@@ -637,14 +639,6 @@ static ew_status snap_of(const ew_result *r, const model *m, const double *Us, s
 }
 
 /* ---- results ------------------------------------------------------------------------ */
-void ew_sp_info_free(struct ew_sp_info *sp) {
-  if (!sp) return;
-  free(sp->sheet_cm2);
-  free(sp->depol_eV);
-  for (int k = 0; k < EW_SP_PROFILE_COUNT; k++) free(sp->prof[k]);
-  free(sp);
-}
-
 /* Depolarisation integral S = ∫ dz [∫_0^z ψ_j ψ_i dz']² (nm), box rule on the nodes. */
 static double depol_integral(const ew_grid *g, const double *pi, const double *pj) {
   double c = 0.0, S = 0.0;
@@ -657,17 +651,9 @@ static double depol_integral(const ew_grid *g, const double *pi, const double *p
   return S;
 }
 
-static int add_warning(ew_result *r, const char *msg) {
-  char (*w)[EW_WARNING_MAX] = realloc(r->warnings, (r->n_warnings + 1) * sizeof *w);
-  if (!w) return 0;
-  r->warnings = w;
-  snprintf(r->warnings[r->n_warnings++], EW_WARNING_MAX, "%s", msg);
-  return 1;
-}
-
 /* Attach the self-consistent information to the final result r (solved at U). */
 static ew_status attach(ew_result *r, const model *m, double EF0, const double *U,
-                        double *parts[4], const double *q, int iters, double resid, double T,
+                        double *const parts[4], const double *q, int iters, double resid, double T,
                         ew_error *err) {
   size_t n = m->n;
   ew_sp_info *sp = calloc(1, sizeof *sp);
@@ -724,146 +710,111 @@ static ew_status attach(ew_result *r, const model *m, double EF0, const double *
     sp->depol_eV[k] = 1.0 + alpha > 0 ? E * sqrt(1.0 + alpha) - E : NAN;
   }
   if (r->stack->temperature_K < EW_SP_T_FLOOR_K &&
-      !add_warning(r, "self-consistent solve: the Fermi–Dirac occupations use a 1 K floor "
+      !ew_result_warn(r, "self-consistent solve: the Fermi–Dirac occupations use a 1 K floor "
                       "for the stack's temperature below 1 K"))
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   return EW_OK;
 }
 
-/* ---- the solve ---------------------------------------------------------------------- */
-ew_status ew_solve_self_consistent(const ew_stack *st, const ew_options *optin, ew_result **out,
-                                   ew_error *err) {
-  *out = NULL;
-  /* Undoped with charge-neutral ends: no fixed charge, so the band is flat (intrinsic
-     carriers aside) and the plain solve is the self-consistent one. */
-  if (!st->doped && !st->surface_given && !st->bias_given)
-    return ew_solve_potential(st, optin, NULL, out, err);
-  ew_status rc = check_eps(st, err);
-  if (rc != EW_OK) return rc;
-  ew_options uopt, iopt;
-  if (optin) uopt = *optin;
-  else ew_options_default(&uopt);
-  iopt = uopt; /* the iterations need the states only: no error estimate, excitons, lines */
-  iopt.error_estimate = 0;
-  iopt.excitons = 0;
-  iopt.lowest_levels = 1;
-  double T = fmax(st->temperature_K, EW_SP_T_FLOOR_K);
-
-  ew_grid *g = ew_solve_grid(st, &uopt);
-  if (!g) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (grid)");
-  if (g->n < 3) {
-    ew_grid_free(g);
-    return ew_fail(err, EW_ERR_INPUT, st->path, 0, "the stack is too thin for the grid");
-  }
+/* ---- the state of the iteration (poisson.h) -------------------------------------------- */
+struct ew_poisson {
   model m;
-  rc = model_build(&m, st, g, T, err);
+  work wk;
+  double *U, *Un;  /* [n] the potential and its next iterate */
+  double *pbuf;    /* [4n] the box-integrated n, p, N_D⁺, N_A⁻ of the last step (parts) */
+  double *parts[4];
+  double EF;       /* Fermi level (of the first face), eV */
+  double T;        /* temperature of the occupations, K */
+};
+
+ew_status ew_poisson_check_stack(const ew_stack *st, ew_error *err) { return check_eps(st, err); }
+
+void ew_poisson_free(ew_poisson *p) {
+  if (!p) return;
+  double **wf[] = {&p->wk.q, &p->wk.dq, &p->wk.R, &p->wk.lo, &p->wk.di, &p->wk.up, &p->wk.x, &p->wk.Ut};
+  for (size_t k = 0; k < sizeof wf / sizeof *wf; k++) free(*wf[k]);
+  free(p->U);
+  free(p->Un);
+  free(p->pbuf);
+  model_free(&p->m);
+  free(p);
+}
+
+/* First guess: flat bands at global neutrality; with a bias the two contact levels and a
+ * linear U between them; then the gauge. */
+static void first_guess(ew_poisson *p) {
+  model *m = &p->m;
+  size_t n = m->n;
+  if (m->st->bias_given) {
+    p->EF = -m->off_left; /* U(first face) = 0 */
+    double Ur = fermi_at(m, p->EF, m->L) + m->off_right;
+    for (size_t i = 0; i < n; i++) p->U[i] = Ur * m->z[i] / m->L;
+  } else {
+    p->EF = neutral_fermi(m, p->U, p->wk.q);
+  }
+  double c0 = gauge_shift(m, p->U);
+  for (size_t i = 0; i < n; i++) p->U[i] += c0;
+  p->EF += c0;
+}
+
+ew_status ew_poisson_new(const ew_stack *st, const ew_grid *g, double T, ew_poisson **out,
+                         ew_error *err) {
+  *out = NULL;
+  ew_poisson *p = calloc(1, sizeof *p);
+  if (!p) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson model, n = %zu)", g->n);
+  ew_status rc = model_build(&p->m, st, g, T, err);
   if (rc != EW_OK) {
-    ew_grid_free(g);
+    free(p);
     return rc;
   }
-  size_t n = m.n;
-  work wk = {0};
-  double *U = calloc(n, sizeof *U), *Un = malloc(n * sizeof *Un), *pbuf = malloc(4 * n * sizeof *pbuf);
-  double **wf[] = {&wk.q, &wk.dq, &wk.R, &wk.lo, &wk.di, &wk.up, &wk.x, &wk.Ut};
-  int ok = U && Un && pbuf;
+  size_t n = p->m.n;
+  p->T = T;
+  p->U = calloc(n, sizeof *p->U);
+  p->Un = malloc(n * sizeof *p->Un);
+  p->pbuf = malloc(4 * n * sizeof *p->pbuf);
+  double **wf[] = {&p->wk.q, &p->wk.dq, &p->wk.R, &p->wk.lo, &p->wk.di, &p->wk.up, &p->wk.x, &p->wk.Ut};
+  int ok = p->U && p->Un && p->pbuf;
   for (size_t k = 0; k < sizeof wf / sizeof *wf; k++) ok = ok && (*wf[k] = malloc(n * sizeof(double)));
-  ew_result *res = NULL;
-  snap s = {0};
   if (!ok) {
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson, n = %zu)", n);
-    goto done;
+    ew_poisson_free(p);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson, n = %zu)", n);
   }
-  /* first guess: flat bands at global neutrality; with a bias the two contact levels and a
-     linear U between them */
-  double EF;
-  if (st->bias_given) {
-    EF = -m.off_left; /* U(first face) = 0 */
-    double Ur = fermi_at(&m, EF, m.L) + m.off_right;
-    for (size_t i = 0; i < n; i++) U[i] = Ur * m.z[i] / m.L;
-  } else {
-    EF = neutral_fermi(&m, U, wk.q);
-  }
-  double c0 = gauge_shift(&m, U);
-  for (size_t i = 0; i < n; i++) U[i] += c0;
-  EF += c0;
-  rc = ew_solve_potential(st, &iopt, U, &res, err);
-  if (rc != EW_OK) goto done;
-  int it = 0, conv = 0;
-  const int max_it = uopt.sp_max_iterations > 0 ? uopt.sp_max_iterations : EW_SP_MAX_ITER;
-  double dU = INFINITY;
-  double *parts[4] = {pbuf, pbuf + n, pbuf + 2 * n, pbuf + 3 * n};
-  while (it < max_it) {
-    it++;
-    free(s.s);
-    s.s = NULL;
-    rc = snap_of(res, &m, U, &s, err);
-    if (rc != EW_OK) goto done;
-    memcpy(Un, U, n * sizeof *Un);
-    rc = poisson_step(&m, &s, EF, Un, &wk, it, err);
-    if (rc != EW_OK) goto done;
+  for (int t = 0; t < 4; t++) p->parts[t] = p->pbuf + t * n;
+  first_guess(p);
+  *out = p;
+  return EW_OK;
+}
+
+const double *ew_poisson_potential(const ew_poisson *p) { return p->U; }
+
+ew_status ew_poisson_update(ew_poisson *p, const ew_result *r, int outer, double *dU,
+                            ew_error *err) {
+  model *m = &p->m;
+  size_t n = m->n;
+  snap s = {0};
+  ew_status rc = snap_of(r, m, p->U, &s, err);
+  if (rc != EW_OK) return rc;
+  memcpy(p->Un, p->U, n * sizeof *p->Un);
+  rc = poisson_step(m, &s, p->EF, p->Un, &p->wk, outer, err);
+  if (rc == EW_OK) {
     /* the charges the Poisson step satisfied (gauge invariant: kept for the profiles) */
-    charges(&m, &s, EF, Un, wk.q, NULL, parts);
-    double c = gauge_shift(&m, Un);
-    dU = 0.0;
+    charges(m, &s, p->EF, p->Un, p->wk.q, NULL, p->parts);
+    double c = gauge_shift(m, p->Un), d = 0.0;
     for (size_t i = 0; i < n; i++) {
-      Un[i] += c;
-      dU = fmax(dU, fabs(Un[i] - U[i]));
+      p->Un[i] += c;
+      d = fmax(d, fabs(p->Un[i] - p->U[i]));
     }
-    EF += c;
-    memcpy(U, Un, n * sizeof *U);
-    if (dU < EW_SP_TOL_EV) {
-      conv = 1;
-      break;
-    }
-    ew_result_free(res);
-    res = NULL;
-    rc = ew_solve_potential(st, &iopt, U, &res, err);
-    if (rc != EW_OK) goto done;
+    p->EF += c;
+    memcpy(p->U, p->Un, n * sizeof *p->U);
+    *dU = d;
   }
-  if (!conv) {
-    rc = ew_fail(err, EW_ERR_NUMERIC, st->path, 0,
-                 "self-consistent Schrödinger–Poisson solve did not converge: after %d outer "
-                 "iterations max|ΔU| = %.3g eV (tolerance %.0e eV)",
-                 it, dU, EW_SP_TOL_EV);
-    goto done;
-  }
-  ew_result_free(res);
-  res = NULL;
-  rc = ew_solve_potential(st, &uopt, U, &res, err);
-  if (rc != EW_OK) goto done;
-  if (res->grid->n != n) {
-    rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "self-consistent solve: grid mismatch");
-    goto done;
-  }
-  rc = attach(res, &m, EF, U, parts, wk.q, it, dU, T, err);
-  if (rc != EW_OK) goto done;
-  *out = res;
-  res = NULL;
-done:
-  ew_result_free(res);
   free(s.s);
-  free(U);
-  free(Un);
-  free(pbuf);
-  for (size_t k = 0; k < sizeof wf / sizeof *wf; k++) free(*wf[k]);
-  model_free(&m);
-  ew_grid_free(g);
   return rc;
 }
 
-/* ---- accessors (epiwell.h) ------------------------------------------------------------- */
-double ew_result_fermi_energy_eV(const ew_result *r) { return r->sp ? r->sp->fermi_eV : NAN; }
-double ew_result_fermi_energy_last_eV(const ew_result *r) {
-  return r->sp ? r->sp->fermi_last_eV : NAN;
-}
-int ew_result_sp_iterations(const ew_result *r) { return r->sp ? r->sp->iterations : 0; }
-double ew_result_sp_residual_eV(const ew_result *r) { return r->sp ? r->sp->residual_eV : NAN; }
-double ew_result_state_sheet_density_cm2(const ew_result *r, size_t i) {
-  return r->sp && i < r->sp->n_states ? r->sp->sheet_cm2[i] : NAN;
-}
-double ew_result_line_depolarization_eV(const ew_result *r, size_t j) {
-  return r->sp && j < r->sp->n_lines ? r->sp->depol_eV[j] : NAN;
-}
-const double *ew_result_sp_profile(const ew_result *r, ew_sp_profile which) {
-  return r->sp && (int)which >= 0 && which < EW_SP_PROFILE_COUNT ? r->sp->prof[which] : NULL;
+ew_status ew_poisson_attach(const ew_poisson *p, ew_result *r, int iterations,
+                            double residual_eV, ew_error *err) {
+  if (r->grid->n != p->m.n)
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "self-consistent solve: grid mismatch");
+  return attach(r, &p->m, p->EF, p->U, p->parts, p->wk.q, iterations, residual_eV, p->T, err);
 }
