@@ -302,13 +302,12 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   return p - n + nd - na;
 }
 
-/* Box charge q_i (nm^-2) of every node and dq_i/dU_i; parts[4][n] (may be NULL) receives the
- * box-integrated n, p, N_D⁺, N_A⁻.  s == NULL: classical bulk bands only (the first guess). */
-static void charges(const model *m, const snap *s, double EF0, const double *U, double *q,
-                    double *dq, double *parts[4]) {
-  size_t n = m->n;
+/* The bulk part of the box charges: continuum carriers and uniform dopants of both halves of
+ * every node's box (q, dq, parts as in charges). */
+static void bulk_charges(const model *m, const snap *s, double EF0, const double *U, double *q,
+                         double *dq, double *const parts[4]) {
   const double kT = m->kT;
-  for (size_t i = 0; i < n; i++) {
+  for (size_t i = 0; i < m->n; i++) {
     double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
     double pa[4] = {0, 0, 0, 0};
     /* the continuum starts at the bound window; like the subbands it is predicted to move
@@ -331,7 +330,13 @@ static void charges(const model *m, const snap *s, double EF0, const double *U, 
     if (parts)
       for (int t = 0; t < 4; t++) parts[t][i] = pa[t];
   }
-  for (size_t k = 0; k < m->n_sheets; k++) { /* delta layers */
+}
+
+/* The delta layers' ionised dopants, added to the box charges. */
+static void sheet_charges(const model *m, double EF0, const double *U, double *q, double *dq,
+                          double *const parts[4]) {
+  const double kT = m->kT;
+  for (size_t k = 0; k < m->n_sheets; k++) {
     const sheet *sh = &m->sh[k];
     size_t i = sh->node;
     double EF = fermi_at(m, EF0, m->z[i]);
@@ -345,8 +350,14 @@ static void charges(const model *m, const snap *s, double EF0, const double *U, 
     if (dq) dq[i] += (sh->donor ? 1.0 : -1.0) * sh->dens * dg;
     if (parts) parts[sh->donor ? 2 : 3][i] += sh->dens * g;
   }
-  if (!s) return;
-  /* subbands, each shifted locally by U − U_S (Trellakis et al. 1997) */
+}
+
+/* The subbands' carriers, each subband shifted locally by U − U_S (Trellakis et al. 1997),
+ * added to the box charges. */
+static void subband_charges(const model *m, const snap *s, double EF0, const double *U,
+                            double *q, double *dq, double *const parts[4]) {
+  const double kT = m->kT;
+  size_t n = m->n;
   double dmax = 0.0;
   for (size_t i = 0; i < n; i++) dmax = fmax(dmax, fabs(U[i] - s->Us[i]));
   for (size_t j = 0; j < s->ns; j++) {
@@ -361,17 +372,20 @@ static void charges(const model *m, const snap *s, double EF0, const double *U, 
       double x = qs->hole ? x0 + du / kT : x0 - du / kT;
       double dens = qs->chi * qs->D * log1pexp(x) * p2 * m->w[i]; /* nm^-2 in this box */
       double f = qs->chi * occ(-x, 1.0);                          /* d ln(1+e^x)/dx */
-      if (qs->hole) {
-        q[i] += dens;
-        if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
-        if (parts) parts[1][i] += dens;
-      } else {
-        q[i] -= dens;
-        if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
-        if (parts) parts[0][i] += dens;
-      }
+      q[i] += qs->hole ? dens : -dens;
+      if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
+      if (parts) parts[qs->hole ? 1 : 0][i] += dens;
     }
   }
+}
+
+/* Box charge q_i (nm^-2) of every node and dq_i/dU_i; parts[4][n] (may be NULL) receives the
+ * box-integrated n, p, N_D⁺, N_A⁻.  s == NULL: classical bulk bands only (the first guess). */
+static void charges(const model *m, const snap *s, double EF0, const double *U, double *q,
+                    double *dq, double *const parts[4]) {
+  bulk_charges(m, s, EF0, U, q, dq, parts);
+  sheet_charges(m, EF0, U, q, dq, parts);
+  if (s) subband_charges(m, s, EF0, U, q, dq, parts);
 }
 
 /* Residual R_i = F_{i+1} − F_i − C q_i of the discrete Poisson equation; returns ||R||_2. */
@@ -491,6 +505,72 @@ static void model_free(model *m) {
   free(m->sh);
 }
 
+/* Cells (εr / h, one layer per cell) and the two halves of every node's box. */
+static void fill_cells_and_boxes(model *m, const ew_grid *g) {
+  size_t n = g->n;
+  for (size_t c = 0; c <= n; c++) {
+    double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c];
+    size_t k;
+    ew_bands bb;
+    bands_at(m->st, 0.5 * (a + b), &k, &bb);
+    m->ec[c] = bb.eps_r / g->h[c];
+  }
+  for (size_t i = 0; i < n; i++) {
+    double a = i == 0 && !m->dir_left ? 0.0 : g->z[i] - 0.5 * g->h[i];
+    double b = i + 1 == n && !m->dir_right ? g->length_nm : g->z[i] + 0.5 * g->h[i + 1];
+    fill_half(m, &m->hc[2 * i], a, g->z[i]);
+    fill_half(m, &m->hc[2 * i + 1], g->z[i], b);
+    m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
+    m->box[i] = b - a;
+  }
+}
+
+/* Delta layers on the node nearest their layer's centre. */
+static void fill_sheets(model *m, const ew_grid *g) {
+  const ew_stack *st = m->st;
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    double zc = ly->z_start_nm + 0.5 * ly->thickness_nm;
+    size_t best = 0;
+    for (size_t i = 1; i < g->n; i++)
+      if (fabs(g->z[i] - zc) < fabs(g->z[best] - zc)) best = i;
+    for (int d = 0; d < 2; d++) {
+      double dens = d == 0 ? ly->donor_sheet_cm2 : ly->acceptor_sheet_cm2;
+      if (!(dens > 0)) continue;
+      sheet *sh = &m->sh[m->n_sheets++];
+      sh->node = best;
+      sh->dens = dens * NM2_PER_CM2;
+      sh->Ec = ew_stack_edge_at(st, EW_BAND_E, zc);
+      sh->Evtop = fmax(ew_stack_edge_at(st, EW_BAND_HH, zc), ew_stack_edge_at(st, EW_BAND_LH, zc));
+      sh->eion = d == 0 ? ly->donor_energy_eV : ly->acceptor_energy_eV;
+      sh->donor = d == 0;
+    }
+  }
+}
+
+/* Dirichlet offsets U(face) − E_F(face), and the gauge's reference band (the majority
+ * carriers' band: heavy holes when the acceptors outnumber the donors). */
+static void fill_faces(model *m, const ew_grid *g) {
+  const ew_stack *st = m->st;
+  size_t n = g->n;
+  if (st->surface_given)
+    m->off_left = st->surface_barrier_eV - ew_stack_edge_at(st, EW_BAND_E, 0.0);
+  if (st->bias_given) {
+    half h;
+    fill_half(m, &h, 0.0, fmin(1e-3, 0.5 * g->z[0]));
+    m->off_left = neutral_offset(&h, m->kT);
+    fill_half(m, &h, fmax(g->length_nm - 1e-3, 0.5 * (g->z[n - 1] + g->length_nm)), g->length_nm);
+    m->off_right = neutral_offset(&h, m->kT);
+  }
+  double nd = 0.0, na = 0.0;
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    nd += ly->donors_cm3 * ly->thickness_nm * 1e-7 + ly->donor_sheet_cm2;
+    na += ly->acceptors_cm3 * ly->thickness_nm * 1e-7 + ly->acceptor_sheet_cm2;
+  }
+  m->holes_major = na > nd;
+}
+
 static ew_status model_build(model *m, const ew_stack *st, const ew_grid *g, double T,
                              ew_error *err) {
   memset(m, 0, sizeof *m);
@@ -515,55 +595,9 @@ static ew_status model_build(model *m, const ew_stack *st, const ew_grid *g, dou
     model_free(m);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson model, n = %zu)", n);
   }
-  for (size_t c = 0; c <= n; c++) { /* cells: εr / h (one layer per cell) */
-    double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c];
-    size_t k;
-    ew_bands bb;
-    bands_at(st, 0.5 * (a + b), &k, &bb);
-    m->ec[c] = bb.eps_r / g->h[c];
-  }
-  for (size_t i = 0; i < n; i++) { /* the two halves of each box */
-    double a = i == 0 && !m->dir_left ? 0.0 : g->z[i] - 0.5 * g->h[i];
-    double b = i + 1 == n && !m->dir_right ? g->length_nm : g->z[i] + 0.5 * g->h[i + 1];
-    fill_half(m, &m->hc[2 * i], a, g->z[i]);
-    fill_half(m, &m->hc[2 * i + 1], g->z[i], b);
-    m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
-    m->box[i] = b - a;
-  }
-  for (size_t k = 0; k < st->n_layers; k++) { /* delta layers on the node nearest the centre */
-    const ew_layer *ly = &st->layers[k];
-    double zc = ly->z_start_nm + 0.5 * ly->thickness_nm;
-    size_t best = 0;
-    for (size_t i = 1; i < n; i++)
-      if (fabs(g->z[i] - zc) < fabs(g->z[best] - zc)) best = i;
-    for (int d = 0; d < 2; d++) {
-      double dens = d == 0 ? ly->donor_sheet_cm2 : ly->acceptor_sheet_cm2;
-      if (!(dens > 0)) continue;
-      sheet *sh = &m->sh[m->n_sheets++];
-      sh->node = best;
-      sh->dens = dens * NM2_PER_CM2;
-      sh->Ec = ew_stack_edge_at(st, EW_BAND_E, zc);
-      sh->Evtop = fmax(ew_stack_edge_at(st, EW_BAND_HH, zc), ew_stack_edge_at(st, EW_BAND_LH, zc));
-      sh->eion = d == 0 ? ly->donor_energy_eV : ly->acceptor_energy_eV;
-      sh->donor = d == 0;
-    }
-  }
-  /* Dirichlet offsets U(face) − E_F(face) */
-  if (st->surface_given) m->off_left = st->surface_barrier_eV - ew_stack_edge_at(st, EW_BAND_E, 0.0);
-  if (st->bias_given) {
-    half h;
-    fill_half(m, &h, 0.0, fmin(1e-3, 0.5 * g->z[0]));
-    m->off_left = neutral_offset(&h, m->kT);
-    fill_half(m, &h, fmax(g->length_nm - 1e-3, 0.5 * (g->z[n - 1] + g->length_nm)), g->length_nm);
-    m->off_right = neutral_offset(&h, m->kT);
-  }
-  double nd = 0.0, na = 0.0;
-  for (size_t k = 0; k < st->n_layers; k++) {
-    const ew_layer *ly = &st->layers[k];
-    nd += ly->donors_cm3 * ly->thickness_nm * 1e-7 + ly->donor_sheet_cm2;
-    na += ly->acceptors_cm3 * ly->thickness_nm * 1e-7 + ly->acceptor_sheet_cm2;
-  }
-  m->holes_major = na > nd;
+  fill_cells_and_boxes(m, g);
+  fill_sheets(m, g);
+  fill_faces(m, g);
   return EW_OK;
 }
 
@@ -625,7 +659,8 @@ static ew_status snap_of(const ew_result *r, const model *m, const double *Us, s
     o->hole = q->band != EW_BAND_E;
     o->E = q->energy_eV;
     double mp = q->inplane_mass; /* the subband's own curvature (states.c) */
-    if (!(mp > 0)) mp = q->band == EW_BAND_E ? bb->me : q->band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
+    if (!(mp > 0))
+      mp = q->band == EW_BAND_E ? bb->me : q->band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
     if (!(mp > 0)) mp = q->band == EW_BAND_HH ? bb->mhh_z : bb->mlh_z;
     o->D = d2_of(mp, m->kT);
     o->psi = r->psi + j * r->grid->n;
@@ -651,10 +686,62 @@ static double depol_integral(const ew_grid *g, const double *pi, const double *p
   return S;
 }
 
+/* The profiles: U, and the box integrals q and parts as densities in cm^-3; their totals. */
+static void fill_profiles(ew_sp_info *sp, const model *m, const double *U,
+                          double *const parts[4], const double *q) {
+  for (size_t i = 0; i < m->n; i++) {
+    double to = 1.0 / (m->box[i] * NM3_PER_CM3);
+    sp->prof[EW_SP_POTENTIAL_EV][i] = U[i];
+    sp->prof[EW_SP_CHARGE_CM3][i] = q[i] * to;
+    sp->prof[EW_SP_N_CM3][i] = parts[0][i] * to;
+    sp->prof[EW_SP_P_CM3][i] = parts[1][i] * to;
+    sp->prof[EW_SP_DONORS_ION_CM3][i] = parts[2][i] * to;
+    sp->prof[EW_SP_ACCEPTORS_ION_CM3][i] = parts[3][i] * to;
+    sp->electrons_cm2 += parts[0][i] / NM2_PER_CM2;
+    sp->holes_cm2 += parts[1][i] / NM2_PER_CM2;
+    sp->donors_ion_cm2 += parts[2][i] / NM2_PER_CM2;
+    sp->acceptors_ion_cm2 += parts[3][i] / NM2_PER_CM2;
+  }
+}
+
+/* Per-state sheet densities from the final states (their reported energies). */
+static ew_status fill_sheet_densities(ew_sp_info *sp, const ew_result *r, const model *m,
+                                      double EF0, const double *U, ew_error *err) {
+  snap s;
+  ew_status rc = snap_of(r, m, U, &s, err);
+  if (rc != EW_OK) return rc;
+  for (size_t j = 0; j < r->n_states; j++) {
+    const qstate *o = &s.s[j];
+    double EF = fermi_at(m, EF0, o->zc);
+    double x = o->hole ? (o->E - EF) / m->kT : (EF - o->E) / m->kT;
+    sp->sheet_cm2[j] = o->chi * o->D * log1pexp(x) / NM2_PER_CM2;
+    if (o->hole) sp->holes_bound_cm2 += sp->sheet_cm2[j];
+    else sp->electrons_bound_cm2 += sp->sheet_cm2[j];
+  }
+  free(s.s);
+  return EW_OK;
+}
+
+/* Depolarisation shift of every intersubband line (header of this file). */
+static void fill_depolarisation(ew_sp_info *sp, const ew_result *r) {
+  size_t n = r->grid->n;
+  for (size_t k = 0; k < r->n_lines; k++) {
+    const ew_line *ln = &r->lines[k];
+    sp->depol_eV[k] = NAN;
+    if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+    const ew_state *lo = &r->states[ln->lower];
+    double dN = (sp->sheet_cm2[ln->lower] - sp->sheet_cm2[ln->upper]) * NM2_PER_CM2;
+    double S = depol_integral(r->grid, r->psi + ln->lower * n, r->psi + ln->upper * n);
+    double eps = r->stack->layers[lo->layer].bands.eps_r, E = ln->energy_eV;
+    double alpha = 2.0 * E2_EPS0_EVNM * dN * S / (eps * E);
+    sp->depol_eV[k] = 1.0 + alpha > 0 ? E * sqrt(1.0 + alpha) - E : NAN;
+  }
+}
+
 /* Attach the self-consistent information to the final result r (solved at U). */
 static ew_status attach(ew_result *r, const model *m, double EF0, const double *U,
-                        double *const parts[4], const double *q, int iters, double resid, double T,
-                        ew_error *err) {
+                        double *const parts[4], const double *q, int iters, double resid,
+                        double T, ew_error *err) {
   size_t n = m->n;
   ew_sp_info *sp = calloc(1, sizeof *sp);
   if (!sp) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
@@ -670,45 +757,13 @@ static ew_status attach(ew_result *r, const model *m, double EF0, const double *
   sp->sheet_cm2 = calloc(r->n_states ? r->n_states : 1, sizeof *sp->sheet_cm2);
   sp->depol_eV = calloc(r->n_lines ? r->n_lines : 1, sizeof *sp->depol_eV);
   int ok = sp->sheet_cm2 && sp->depol_eV;
-  for (int k = 0; k < EW_SP_PROFILE_COUNT && ok; k++) ok = (sp->prof[k] = malloc(n * sizeof(double))) != NULL;
+  for (int k = 0; k < EW_SP_PROFILE_COUNT && ok; k++)
+    ok = (sp->prof[k] = malloc(n * sizeof(double))) != NULL;
   if (!ok) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
-  for (size_t i = 0; i < n; i++) { /* box integrals → densities in cm^-3 */
-    double to = 1.0 / (m->box[i] * NM3_PER_CM3);
-    sp->prof[EW_SP_POTENTIAL_EV][i] = U[i];
-    sp->prof[EW_SP_CHARGE_CM3][i] = q[i] * to;
-    sp->prof[EW_SP_N_CM3][i] = parts[0][i] * to;
-    sp->prof[EW_SP_P_CM3][i] = parts[1][i] * to;
-    sp->prof[EW_SP_DONORS_ION_CM3][i] = parts[2][i] * to;
-    sp->prof[EW_SP_ACCEPTORS_ION_CM3][i] = parts[3][i] * to;
-    sp->electrons_cm2 += parts[0][i] / NM2_PER_CM2;
-    sp->holes_cm2 += parts[1][i] / NM2_PER_CM2;
-    sp->donors_ion_cm2 += parts[2][i] / NM2_PER_CM2;
-    sp->acceptors_ion_cm2 += parts[3][i] / NM2_PER_CM2;
-  }
-  /* per-state sheet densities from the final states (their reported energies) */
-  snap s;
-  ew_status rc = snap_of(r, m, U, &s, err);
+  fill_profiles(sp, m, U, parts, q);
+  ew_status rc = fill_sheet_densities(sp, r, m, EF0, U, err);
   if (rc != EW_OK) return rc;
-  for (size_t j = 0; j < r->n_states; j++) {
-    const qstate *o = &s.s[j];
-    double EF = fermi_at(m, EF0, o->zc);
-    double x = o->hole ? (o->E - EF) / m->kT : (EF - o->E) / m->kT;
-    sp->sheet_cm2[j] = o->chi * o->D * log1pexp(x) / NM2_PER_CM2;
-    if (o->hole) sp->holes_bound_cm2 += sp->sheet_cm2[j];
-    else sp->electrons_bound_cm2 += sp->sheet_cm2[j];
-  }
-  free(s.s);
-  for (size_t k = 0; k < r->n_lines; k++) {
-    const ew_line *ln = &r->lines[k];
-    sp->depol_eV[k] = NAN;
-    if (ln->kind != EW_LINE_INTERSUBBAND) continue;
-    const ew_state *lo = &r->states[ln->lower];
-    double dN = (sp->sheet_cm2[ln->lower] - sp->sheet_cm2[ln->upper]) * NM2_PER_CM2;
-    double S = depol_integral(r->grid, r->psi + ln->lower * n, r->psi + ln->upper * n);
-    double eps = r->stack->layers[lo->layer].bands.eps_r, E = ln->energy_eV;
-    double alpha = 2.0 * E2_EPS0_EVNM * dN * S / (eps * E);
-    sp->depol_eV[k] = 1.0 + alpha > 0 ? E * sqrt(1.0 + alpha) - E : NAN;
-  }
+  fill_depolarisation(sp, r);
   if (r->stack->temperature_K < EW_SP_T_FLOOR_K &&
       !ew_result_warn(r, "self-consistent solve: the Fermi–Dirac occupations use a 1 K floor "
                       "for the stack's temperature below 1 K"))
@@ -729,10 +784,18 @@ struct ew_poisson {
 
 ew_status ew_poisson_check_stack(const ew_stack *st, ew_error *err) { return check_eps(st, err); }
 
+/* the work arrays of the Newton steps, to allocate and free them in one loop */
+#define WORK_ARRAYS 8
+static void work_slots(work *wk, double **slot[WORK_ARRAYS]) {
+  double **all[WORK_ARRAYS] = {&wk->q, &wk->dq, &wk->R, &wk->lo, &wk->di, &wk->up, &wk->x, &wk->Ut};
+  memcpy(slot, all, sizeof all);
+}
+
 void ew_poisson_free(ew_poisson *p) {
   if (!p) return;
-  double **wf[] = {&p->wk.q, &p->wk.dq, &p->wk.R, &p->wk.lo, &p->wk.di, &p->wk.up, &p->wk.x, &p->wk.Ut};
-  for (size_t k = 0; k < sizeof wf / sizeof *wf; k++) free(*wf[k]);
+  double **wf[WORK_ARRAYS];
+  work_slots(&p->wk, wf);
+  for (size_t k = 0; k < WORK_ARRAYS; k++) free(*wf[k]);
   free(p->U);
   free(p->Un);
   free(p->pbuf);
@@ -761,7 +824,8 @@ ew_status ew_poisson_new(const ew_stack *st, const ew_grid *g, double T, ew_pois
                          ew_error *err) {
   *out = NULL;
   ew_poisson *p = calloc(1, sizeof *p);
-  if (!p) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson model, n = %zu)", g->n);
+  if (!p)
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson model, n = %zu)", g->n);
   ew_status rc = model_build(&p->m, st, g, T, err);
   if (rc != EW_OK) {
     free(p);
@@ -772,9 +836,10 @@ ew_status ew_poisson_new(const ew_stack *st, const ew_grid *g, double T, ew_pois
   p->U = calloc(n, sizeof *p->U);
   p->Un = malloc(n * sizeof *p->Un);
   p->pbuf = malloc(4 * n * sizeof *p->pbuf);
-  double **wf[] = {&p->wk.q, &p->wk.dq, &p->wk.R, &p->wk.lo, &p->wk.di, &p->wk.up, &p->wk.x, &p->wk.Ut};
+  double **wf[WORK_ARRAYS];
+  work_slots(&p->wk, wf);
   int ok = p->U && p->Un && p->pbuf;
-  for (size_t k = 0; k < sizeof wf / sizeof *wf; k++) ok = ok && (*wf[k] = malloc(n * sizeof(double)));
+  for (size_t k = 0; k < WORK_ARRAYS; k++) ok = ok && (*wf[k] = malloc(n * sizeof(double)));
   if (!ok) {
     ew_poisson_free(p);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson, n = %zu)", n);
