@@ -33,10 +33,6 @@
 #include "error.h"
 #include "observables.h"
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846
-#endif
-
 #define EW_EXC_TAIL 1e-10     /* probability dropped at each end of each envelope */
 #ifndef EW_EXC_STEP_NM /* overridable at build time for convergence studies */
 #define EW_EXC_STEP_NM 0.1    /* target step of the d mesh (binding unchanged to 1 µeV
@@ -62,7 +58,7 @@ struct ew_exciton_ws {
  * W. H. Press et al., Numerical Recipes, 3rd ed. (2007), §4.6). */
 static void gauss_legendre(int n, double *x, double *w) {
   for (int i = 0; i < n; i++) {
-    double z = cos(M_PI * (i + 0.75) / (n + 0.5)), dp = 1.0;
+    double z = cos(EW_PI * (i + 0.75) / (n + 0.5)), dp = 1.0;
     for (int it = 0; it < 100; it++) {
       double p0 = 1.0, p1 = z;
       for (int k = 2; k <= n; k++) {
@@ -234,108 +230,123 @@ static double energy(const ew_exciton_ws *ws, size_t M, double delta, double K, 
   return K / (lam * lam) - C * (2.0 / lam) * sum;
 }
 
-ew_status ew_exciton_binding_ws(ew_exciton_ws *ws, const ew_grid *g, const double *psi_e,
-                                const double *psi_h, double mu_par, double eps_r,
-                                double *binding_eV, double *radius_nm, ew_error *err) {
-  if (!(mu_par > 0) || !isfinite(mu_par))
-    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
-                   "exciton: in-plane reduced mass %g m0 must be positive", mu_par);
-  if (!(eps_r > 0) || !isfinite(eps_r))
-    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
-                   "exciton: relative permittivity %g must be positive", eps_r);
-  if (!g || g->n == 0 || !psi_e || !psi_h)
-    return ew_fail(err, EW_ERR_INPUT, NULL, 0, "exciton: no grid or no wavefunction");
-  size_t n = g->n;
-  /* weights p_i = w_i ψ_i² / Σ w ψ², recomputed on the fly (no node-sized array) */
-  double ne = 0.0, nh = 0.0;
-  for (size_t i = 0; i < n; i++) {
-    ne += g->w[i] * psi_e[i] * psi_e[i];
-    nh += g->w[i] * psi_h[i] * psi_h[i];
-  }
-  if (!(ne > 0) || !(nh > 0) || !isfinite(ne) || !isfinite(nh))
-    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "exciton: wavefunction of zero norm");
-  /* supports: drop EW_EXC_TAIL of probability at each end of each envelope */
-  size_t ea, eb, ha, hb;
-  support(g, psi_e, ne, &ea, &eb);
-  support(g, psi_h, nh, &ha, &hb);
-  double z0 = fmin(g->z[ea], g->z[ha]), z1 = fmax(g->z[eb], g->z[hb]);
-  double span = z1 - z0;
-  /* mesh step: EW_EXC_STEP_NM, or finer to resolve the narrower envelope (1/20 of its
-   * standard deviation): G has a kink at d = 0, so a distribution narrower than the mesh
-   * would be broadened by it */
+/* One envelope's probability on the grid: its norm Σ w ψ² and its support [a, b]. */
+typedef struct {
+  const double *psi;
+  double nrm;
+  size_t a, b;
+} envelope;
+
+/* Mesh step: EW_EXC_STEP_NM, or finer to resolve the narrower envelope (1/20 of its standard
+ * deviation): G has a kink at d = 0, so a distribution narrower than the mesh would be
+ * broadened by it.  Moments about z0: no cancellation far from z = 0. */
+static double mesh_step(const ew_grid *g, const envelope env[2], double z0) {
   double step = EW_EXC_STEP_NM;
   for (int which = 0; which < 2; which++) {
-    const double *psi = which ? psi_h : psi_e;
-    double nrm = which ? nh : ne, m1 = 0.0, m2 = 0.0;
-    for (size_t i = which ? ha : ea; i <= (which ? hb : eb); i++) {
-      double p = g->w[i] * psi[i] * psi[i] / nrm;
-      m1 += p * (g->z[i] - z0); /* moments about z0: no cancellation far from z = 0 */
+    const envelope *e = &env[which];
+    double m1 = 0.0, m2 = 0.0;
+    for (size_t i = e->a; i <= e->b; i++) {
+      double p = g->w[i] * e->psi[i] * e->psi[i] / e->nrm;
+      m1 += p * (g->z[i] - z0);
       m2 += p * (g->z[i] - z0) * (g->z[i] - z0);
     }
     double sd = sqrt(fmax(m2 - m1 * m1, 0.0));
     if (sd > 0 && sd / 20.0 < step) step = sd / 20.0;
   }
-  size_t M = 1;
-  double delta = 1.0; /* any positive value when the mesh is one node */
-  if (span > 0) {
-    double want = ceil(span / step) + 1.0;
-    M = want > (double)EW_EXC_MESH_MAX ? EW_EXC_MESH_MAX : (size_t)want;
-    if (M < 2) M = 2;
-    delta = span / (double)(M - 1);
+  return step;
+}
+
+/* Cloud-in-cell assignment of an envelope's weights to the M mesh nodes z0 + k delta. */
+static void assign(const ew_grid *g, const envelope *e, size_t M, double z0, double delta,
+                   double *q) {
+  memset(q, 0, M * sizeof *q);
+  for (size_t i = e->a; i <= e->b; i++) {
+    double p = g->w[i] * e->psi[i] * e->psi[i] / e->nrm;
+    if (M == 1) {
+      q[0] += p;
+      continue;
+    }
+    double u = (g->z[i] - z0) / delta;
+    if (u < 0) u = 0;
+    size_t k = (size_t)u;
+    if (k >= M - 1) {
+      q[M - 1] += p;
+      continue;
+    }
+    double f = u - (double)k;
+    q[k] += (1.0 - f) * p;
+    q[k + 1] += f * p;
   }
-  double *pe = ws->pe, *ph = ws->ph, *P = ws->P;
-  memset(pe, 0, M * sizeof *pe);
-  memset(ph, 0, M * sizeof *ph);
+}
+
+/* first and last non-zero entry of q[0 … M−1] (*a = M when all are zero) */
+static void nonzero_range(const double *q, size_t M, size_t *a, size_t *b) {
+  *a = M;
+  *b = 0;
+  for (size_t k = 0; k < M; k++)
+    if (q[k] != 0.0) {
+      if (*a == M) *a = k;
+      *b = k;
+    }
+}
+
+/* The correlation P_m = Σ_{|k−l| = m} pe_k ph_l in ws->P, normalised; 0 when empty. */
+static int correlate(ew_exciton_ws *ws, size_t M) {
+  const double *pe = ws->pe, *ph = ws->ph;
+  double *P = ws->P;
   memset(P, 0, M * sizeof *P);
-  /* cloud-in-cell assignment to the mesh */
-  for (int which = 0; which < 2; which++) {
-    const double *psi = which ? psi_h : psi_e;
-    double nrm = which ? nh : ne, *q = which ? ph : pe;
-    size_t a = which ? ha : ea, b = which ? hb : eb;
-    for (size_t i = a; i <= b; i++) {
-      double p = g->w[i] * psi[i] * psi[i] / nrm;
-      if (M == 1) {
-        q[0] += p;
-        continue;
-      }
-      double u = (g->z[i] - z0) / delta;
-      if (u < 0) u = 0;
-      size_t k = (size_t)u;
-      if (k >= M - 1) {
-        q[M - 1] += p;
-        continue;
-      }
-      double f = u - (double)k;
-      q[k] += (1.0 - f) * p;
-      q[k + 1] += f * p;
-    }
-  }
-  /* correlation P_m = Σ_{|k−l| = m} pe_k ph_l */
-  size_t ka = M, kb = 0, la = M, lb = 0;
-  for (size_t k = 0; k < M; k++) {
-    if (pe[k] != 0.0) {
-      if (ka == M) ka = k;
-      kb = k;
-    }
-    if (ph[k] != 0.0) {
-      if (la == M) la = k;
-      lb = k;
-    }
-  }
-  double tot = 0.0;
+  size_t ka, kb, la, lb;
+  nonzero_range(pe, M, &ka, &kb);
+  nonzero_range(ph, M, &la, &lb);
   for (size_t k = ka; k <= kb && ka < M; k++) {
     double pk = pe[k];
     if (pk == 0.0) continue;
     for (size_t l = la; l <= lb && la < M; l++) P[k > l ? k - l : l - k] += pk * ph[l];
   }
+  double tot = 0.0;
   for (size_t m = 0; m < M; m++) tot += P[m];
-  if (!(tot > 0)) return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "exciton: empty distribution");
+  if (!(tot > 0)) return 0;
   for (size_t m = 0; m < M; m++) P[m] /= tot;
+  return 1;
+}
 
-  /* K = ħ²/(2μ) = (ħ²/2m0)/μ (eV nm²); C = e²/(4πε0 εr) (eV nm) from CODATA e and ε0:
-   * e²/(4πε0) in J m divided by e gives eV m, ×1e9 for eV nm (1.43996 eV nm). */
-  double K = EW_HB2M0_EVNM2 / mu_par;
-  double C = EW_E_C / (4.0 * M_PI * EW_EPS0_FM) * 1e9 / eps_r;
+/* The distribution of d = |ze − zh| on a mesh of *M nodes of step *delta (header of this
+ * file, item 1) in ws->P. */
+static ew_status distance_distribution(ew_exciton_ws *ws, const ew_grid *g, const double *psi_e,
+                                       const double *psi_h, size_t *M, double *delta,
+                                       ew_error *err) {
+  envelope env[2] = {{psi_e, 0.0, 0, 0}, {psi_h, 0.0, 0, 0}};
+  /* weights p_i = w_i ψ_i² / Σ w ψ², recomputed on the fly (no node-sized array) */
+  for (size_t i = 0; i < g->n; i++) {
+    env[0].nrm += g->w[i] * psi_e[i] * psi_e[i];
+    env[1].nrm += g->w[i] * psi_h[i] * psi_h[i];
+  }
+  for (int k = 0; k < 2; k++)
+    if (!(env[k].nrm > 0) || !isfinite(env[k].nrm))
+      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "exciton: wavefunction of zero norm");
+  /* supports: drop EW_EXC_TAIL of probability at each end of each envelope */
+  for (int k = 0; k < 2; k++) support(g, env[k].psi, env[k].nrm, &env[k].a, &env[k].b);
+  double z0 = fmin(g->z[env[0].a], g->z[env[1].a]), z1 = fmax(g->z[env[0].b], g->z[env[1].b]);
+  double span = z1 - z0, step = mesh_step(g, env, z0);
+  *M = 1;
+  *delta = 1.0; /* any positive value when the mesh is one node */
+  if (span > 0) {
+    double want = ceil(span / step) + 1.0;
+    *M = want > (double)EW_EXC_MESH_MAX ? EW_EXC_MESH_MAX : (size_t)want;
+    if (*M < 2) *M = 2;
+    *delta = span / (double)(*M - 1);
+  }
+  assign(g, &env[0], *M, z0, *delta, ws->pe);
+  assign(g, &env[1], *M, z0, *delta, ws->ph);
+  if (!correlate(ws, *M))
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "exciton: empty distribution");
+  return EW_OK;
+}
+
+/* min over λ of E(λ) (header of this file, item 3): scan on ln λ from lam2d/4 to lam2d·2e4,
+ * then golden-section search around the lowest scan point; *lbest = ln λ at the minimum. */
+static double minimise(const ew_exciton_ws *ws, size_t M, double delta, double K, double C,
+                       double *lbest) {
   double lam2d = K / C; /* = a_B/2, the strict-2D optimum */
   double l0 = log(lam2d / 4.0), l1 = log(lam2d * 2e4);
   double hs = (l1 - l0) / (EW_EXC_SCAN - 1), Es[EW_EXC_SCAN];
@@ -365,11 +376,35 @@ ew_status ew_exciton_binding_ws(ew_exciton_ws *ws, const ew_grid *g, const doubl
       f2 = energy(ws, M, delta, K, C, exp(x2));
     }
   }
-  double lbest = f1 < f2 ? x1 : x2, Ebest = fmin(f1, f2);
+  double Ebest = fmin(f1, f2);
+  *lbest = f1 < f2 ? x1 : x2;
   if (Es[kmin] < Ebest) { /* cannot happen for a unimodal E; keep the best value seen */
     Ebest = Es[kmin];
-    lbest = l0 + kmin * hs;
+    *lbest = l0 + kmin * hs;
   }
+  return Ebest;
+}
+
+ew_status ew_exciton_binding_ws(ew_exciton_ws *ws, const ew_grid *g, const double *psi_e,
+                                const double *psi_h, double mu_par, double eps_r,
+                                double *binding_eV, double *radius_nm, ew_error *err) {
+  if (!(mu_par > 0) || !isfinite(mu_par))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "exciton: in-plane reduced mass %g m0 must be positive", mu_par);
+  if (!(eps_r > 0) || !isfinite(eps_r))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "exciton: relative permittivity %g must be positive", eps_r);
+  if (!g || g->n == 0 || !psi_e || !psi_h)
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0, "exciton: no grid or no wavefunction");
+  size_t M = 1;
+  double delta = 1.0;
+  ew_status rc = distance_distribution(ws, g, psi_e, psi_h, &M, &delta, err);
+  if (rc != EW_OK) return rc;
+  /* K = ħ²/(2μ) = (ħ²/2m0)/μ (eV nm²); C = e²/(4πε0 εr) (eV nm) from CODATA e and ε0:
+   * e²/(4πε0) in J m divided by e gives eV m, ×1e9 for eV nm (1.43996 eV nm). */
+  double K = EW_HB2M0_EVNM2 / mu_par;
+  double C = EW_E_C / (4.0 * EW_PI * EW_EPS0_FM) * 1e9 / eps_r;
+  double lbest, Ebest = minimise(ws, M, delta, K, C, &lbest);
   if (!(Ebest < 0) || !isfinite(Ebest))
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
                    "exciton: variational energy did not go below zero (%g eV)", Ebest);

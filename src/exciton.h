@@ -19,7 +19,7 @@
 #define EW_EXCITON_H
 
 #include "grid.h"
-#include "solve.h"
+#include "result.h"
 
 /* Binding energy (eV, > 0) and in-plane radius λ (nm) of the exciton formed by the
  * electron envelope psi_e and the hole envelope psi_h (values on the nodes of g, any

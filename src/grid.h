@@ -14,6 +14,10 @@
 
 #include "stack.h"
 
+/* Largest grid, in nodes (total thickness / step), a solve accepts: every node costs about
+ * 200 bytes per band (vectors, pencils, factorisations), so 5e6 nodes are ~3 GB. */
+#define EW_GRID_MAX_NODES 5e6
+
 typedef struct {
   size_t n;          /* number of nodes (unknowns) */
   double length_nm;  /* L */

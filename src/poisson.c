@@ -1,4 +1,5 @@
-/* poisson.c — self-consistent Schrödinger–Poisson solve of doped stacks (see poisson.h).
+/* poisson.c — the electrostatics of doped stacks and the Poisson update of the
+ * self-consistent loop (self_consistent.c; see poisson.h).
  *
  * Equations (SI, then in the units of this file: z in nm, energies in eV, densities nm^-3)
  *   Poisson:   d/dz (ε0 εr(z) dφ/dz) = −ρ(z),   ρ = e (p − n + N_D⁺ − N_A⁻).
@@ -51,7 +52,7 @@
  *    at its centroid ⟨z⟩.
  * The gauge: (U, E_F) → (U + c, E_F + c) changes nothing physical.  After every Poisson step
  * c is chosen so that the majority band's bound window with U (the lower of the outer
- * layers' highest edge) equals the window ew_solve_potential computes from the layers, so the
+ * layers' highest edge) equals the window the Schrödinger pass computes from the layers, so the
  * states it returns are exactly the bound ones and the continuum starts where they end.
  *
  * Outer loop: the predictor–corrector of A. Trellakis, A. T. Galick, A. Pacelli,
@@ -80,6 +81,7 @@
 #include <string.h>
 
 #include "constants.h"
+#include "eigen.h"
 #include "error.h"
 
 #define NM3_PER_CM3 1e-21 /* 1 cm^-3 in nm^-3 */
@@ -103,7 +105,7 @@ double ew_fd_half(double eta, double *deriv) {
   const double a = sqrt(1.0 + 3.75 * (j + 1.0) + (j + 1.0) * (j + 1.0) / 40.0);
   const double b = 1.8 + 0.61 * j;
   const double c = 2.0 + (2.0 - sqrt(2.0)) * pow(2.0, -j);
-  const double K = 3.0 * sqrt(acos(-1.0) / 2.0);
+  const double K = 3.0 * sqrt(EW_PI / 2.0);
   double d = fabs(eta - b), ac = pow(a, c);
   double r = pow(pow(d, c) + ac, 1.0 / c);
   double s = b + eta + r;
@@ -202,10 +204,10 @@ static void bands_at(const ew_stack *st, double z, size_t *k, ew_bands *b) {
 
 /* effective density of states 2 (m kT / (2π ħ²))^{3/2} in nm^-3; ħ²/m0 = 2 EW_HB2M0_EVNM2 */
 static double nc_of(double m, double kT) {
-  return 2.0 * pow(m * kT / (4.0 * acos(-1.0) * EW_HB2M0_EVNM2), 1.5);
+  return 2.0 * pow(m * kT / (4.0 * EW_PI * EW_HB2M0_EVNM2), 1.5);
 }
 /* 2D density of states times kT: m kT / (π ħ²) in nm^-2 */
-static double d2_of(double m, double kT) { return m * kT / (2.0 * acos(-1.0) * EW_HB2M0_EVNM2); }
+static double d2_of(double m, double kT) { return m * kT / (2.0 * EW_PI * EW_HB2M0_EVNM2); }
 
 static double fermi_at(const model *m, double EF0, double z) {
   return m->bias_eV != 0.0 ? EF0 - m->bias_eV * z / m->L : EF0;
@@ -233,8 +235,8 @@ static void fill_half(const model *m, half *h, double a, double b) {
   h->Ea = ly->acceptor_energy_eV;
 }
 
-/* Hand-over between subbands and continuum.  solve.c returns the states below a sharp
- * window top W; a state crossing W as U changes would add or remove its whole density at
+/* Hand-over between subbands and continuum.  A Schrödinger pass returns the states below a
+ * sharp window top W; a state crossing W as U changes would add or remove its whole density at
  * once, and the outer iteration could cycle between the two sides for ever.  So the energy
  * axis is shared over the interval δ = EW_SP_BLEND_KT·kT below W (above, for holes) by a
  * partition of unity: a state at depth x = (W − E)/δ counts with χ(x) = 3x² − 2x³ (0 at the
@@ -300,13 +302,12 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   return p - n + nd - na;
 }
 
-/* Box charge q_i (nm^-2) of every node and dq_i/dU_i; parts[4][n] (may be NULL) receives the
- * box-integrated n, p, N_D⁺, N_A⁻.  s == NULL: classical bulk bands only (the first guess). */
-static void charges(const model *m, const snap *s, double EF0, const double *U, double *q,
-                    double *dq, double *parts[4]) {
-  size_t n = m->n;
+/* The bulk part of the box charges: continuum carriers and uniform dopants of both halves of
+ * every node's box (q, dq, parts as in charges). */
+static void bulk_charges(const model *m, const snap *s, double EF0, const double *U, double *q,
+                         double *dq, double *const parts[4]) {
   const double kT = m->kT;
-  for (size_t i = 0; i < n; i++) {
+  for (size_t i = 0; i < m->n; i++) {
     double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
     double pa[4] = {0, 0, 0, 0};
     /* the continuum starts at the bound window; like the subbands it is predicted to move
@@ -329,7 +330,13 @@ static void charges(const model *m, const snap *s, double EF0, const double *U, 
     if (parts)
       for (int t = 0; t < 4; t++) parts[t][i] = pa[t];
   }
-  for (size_t k = 0; k < m->n_sheets; k++) { /* delta layers */
+}
+
+/* The delta layers' ionised dopants, added to the box charges. */
+static void sheet_charges(const model *m, double EF0, const double *U, double *q, double *dq,
+                          double *const parts[4]) {
+  const double kT = m->kT;
+  for (size_t k = 0; k < m->n_sheets; k++) {
     const sheet *sh = &m->sh[k];
     size_t i = sh->node;
     double EF = fermi_at(m, EF0, m->z[i]);
@@ -343,8 +350,14 @@ static void charges(const model *m, const snap *s, double EF0, const double *U, 
     if (dq) dq[i] += (sh->donor ? 1.0 : -1.0) * sh->dens * dg;
     if (parts) parts[sh->donor ? 2 : 3][i] += sh->dens * g;
   }
-  if (!s) return;
-  /* subbands, each shifted locally by U − U_S (Trellakis et al. 1997) */
+}
+
+/* The subbands' carriers, each subband shifted locally by U − U_S (Trellakis et al. 1997),
+ * added to the box charges. */
+static void subband_charges(const model *m, const snap *s, double EF0, const double *U,
+                            double *q, double *dq, double *const parts[4]) {
+  const double kT = m->kT;
+  size_t n = m->n;
   double dmax = 0.0;
   for (size_t i = 0; i < n; i++) dmax = fmax(dmax, fabs(U[i] - s->Us[i]));
   for (size_t j = 0; j < s->ns; j++) {
@@ -359,17 +372,20 @@ static void charges(const model *m, const snap *s, double EF0, const double *U, 
       double x = qs->hole ? x0 + du / kT : x0 - du / kT;
       double dens = qs->chi * qs->D * log1pexp(x) * p2 * m->w[i]; /* nm^-2 in this box */
       double f = qs->chi * occ(-x, 1.0);                          /* d ln(1+e^x)/dx */
-      if (qs->hole) {
-        q[i] += dens;
-        if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
-        if (parts) parts[1][i] += dens;
-      } else {
-        q[i] -= dens;
-        if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
-        if (parts) parts[0][i] += dens;
-      }
+      q[i] += qs->hole ? dens : -dens;
+      if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
+      if (parts) parts[qs->hole ? 1 : 0][i] += dens;
     }
   }
+}
+
+/* Box charge q_i (nm^-2) of every node and dq_i/dU_i; parts[4][n] (may be NULL) receives the
+ * box-integrated n, p, N_D⁺, N_A⁻.  s == NULL: classical bulk bands only (the first guess). */
+static void charges(const model *m, const snap *s, double EF0, const double *U, double *q,
+                    double *dq, double *const parts[4]) {
+  bulk_charges(m, s, EF0, U, q, dq, parts);
+  sheet_charges(m, EF0, U, q, dq, parts);
+  if (s) subband_charges(m, s, EF0, U, q, dq, parts);
 }
 
 /* Residual R_i = F_{i+1} − F_i − C q_i of the discrete Poisson equation; returns ||R||_2. */
@@ -489,6 +505,72 @@ static void model_free(model *m) {
   free(m->sh);
 }
 
+/* Cells (εr / h, one layer per cell) and the two halves of every node's box. */
+static void fill_cells_and_boxes(model *m, const ew_grid *g) {
+  size_t n = g->n;
+  for (size_t c = 0; c <= n; c++) {
+    double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c];
+    size_t k;
+    ew_bands bb;
+    bands_at(m->st, 0.5 * (a + b), &k, &bb);
+    m->ec[c] = bb.eps_r / g->h[c];
+  }
+  for (size_t i = 0; i < n; i++) {
+    double a = i == 0 && !m->dir_left ? 0.0 : g->z[i] - 0.5 * g->h[i];
+    double b = i + 1 == n && !m->dir_right ? g->length_nm : g->z[i] + 0.5 * g->h[i + 1];
+    fill_half(m, &m->hc[2 * i], a, g->z[i]);
+    fill_half(m, &m->hc[2 * i + 1], g->z[i], b);
+    m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
+    m->box[i] = b - a;
+  }
+}
+
+/* Delta layers on the node nearest their layer's centre. */
+static void fill_sheets(model *m, const ew_grid *g) {
+  const ew_stack *st = m->st;
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    double zc = ly->z_start_nm + 0.5 * ly->thickness_nm;
+    size_t best = 0;
+    for (size_t i = 1; i < g->n; i++)
+      if (fabs(g->z[i] - zc) < fabs(g->z[best] - zc)) best = i;
+    for (int d = 0; d < 2; d++) {
+      double dens = d == 0 ? ly->donor_sheet_cm2 : ly->acceptor_sheet_cm2;
+      if (!(dens > 0)) continue;
+      sheet *sh = &m->sh[m->n_sheets++];
+      sh->node = best;
+      sh->dens = dens * NM2_PER_CM2;
+      sh->Ec = ew_stack_edge_at(st, EW_BAND_E, zc);
+      sh->Evtop = fmax(ew_stack_edge_at(st, EW_BAND_HH, zc), ew_stack_edge_at(st, EW_BAND_LH, zc));
+      sh->eion = d == 0 ? ly->donor_energy_eV : ly->acceptor_energy_eV;
+      sh->donor = d == 0;
+    }
+  }
+}
+
+/* Dirichlet offsets U(face) − E_F(face), and the gauge's reference band (the majority
+ * carriers' band: heavy holes when the acceptors outnumber the donors). */
+static void fill_faces(model *m, const ew_grid *g) {
+  const ew_stack *st = m->st;
+  size_t n = g->n;
+  if (st->surface_given)
+    m->off_left = st->surface_barrier_eV - ew_stack_edge_at(st, EW_BAND_E, 0.0);
+  if (st->bias_given) {
+    half h;
+    fill_half(m, &h, 0.0, fmin(1e-3, 0.5 * g->z[0]));
+    m->off_left = neutral_offset(&h, m->kT);
+    fill_half(m, &h, fmax(g->length_nm - 1e-3, 0.5 * (g->z[n - 1] + g->length_nm)), g->length_nm);
+    m->off_right = neutral_offset(&h, m->kT);
+  }
+  double nd = 0.0, na = 0.0;
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    nd += ly->donors_cm3 * ly->thickness_nm * 1e-7 + ly->donor_sheet_cm2;
+    na += ly->acceptors_cm3 * ly->thickness_nm * 1e-7 + ly->acceptor_sheet_cm2;
+  }
+  m->holes_major = na > nd;
+}
+
 static ew_status model_build(model *m, const ew_stack *st, const ew_grid *g, double T,
                              ew_error *err) {
   memset(m, 0, sizeof *m);
@@ -513,55 +595,9 @@ static ew_status model_build(model *m, const ew_stack *st, const ew_grid *g, dou
     model_free(m);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson model, n = %zu)", n);
   }
-  for (size_t c = 0; c <= n; c++) { /* cells: εr / h (one layer per cell) */
-    double a = c == 0 ? 0.0 : g->z[c - 1], b = c == n ? g->length_nm : g->z[c];
-    size_t k;
-    ew_bands bb;
-    bands_at(st, 0.5 * (a + b), &k, &bb);
-    m->ec[c] = bb.eps_r / g->h[c];
-  }
-  for (size_t i = 0; i < n; i++) { /* the two halves of each box */
-    double a = i == 0 && !m->dir_left ? 0.0 : g->z[i] - 0.5 * g->h[i];
-    double b = i + 1 == n && !m->dir_right ? g->length_nm : g->z[i] + 0.5 * g->h[i + 1];
-    fill_half(m, &m->hc[2 * i], a, g->z[i]);
-    fill_half(m, &m->hc[2 * i + 1], g->z[i], b);
-    m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
-    m->box[i] = b - a;
-  }
-  for (size_t k = 0; k < st->n_layers; k++) { /* delta layers on the node nearest the centre */
-    const ew_layer *ly = &st->layers[k];
-    double zc = ly->z_start_nm + 0.5 * ly->thickness_nm;
-    size_t best = 0;
-    for (size_t i = 1; i < n; i++)
-      if (fabs(g->z[i] - zc) < fabs(g->z[best] - zc)) best = i;
-    for (int d = 0; d < 2; d++) {
-      double dens = d == 0 ? ly->donor_sheet_cm2 : ly->acceptor_sheet_cm2;
-      if (!(dens > 0)) continue;
-      sheet *sh = &m->sh[m->n_sheets++];
-      sh->node = best;
-      sh->dens = dens * NM2_PER_CM2;
-      sh->Ec = ew_stack_edge_at(st, EW_BAND_E, zc);
-      sh->Evtop = fmax(ew_stack_edge_at(st, EW_BAND_HH, zc), ew_stack_edge_at(st, EW_BAND_LH, zc));
-      sh->eion = d == 0 ? ly->donor_energy_eV : ly->acceptor_energy_eV;
-      sh->donor = d == 0;
-    }
-  }
-  /* Dirichlet offsets U(face) − E_F(face) */
-  if (st->surface_given) m->off_left = st->surface_barrier_eV - ew_stack_edge_at(st, EW_BAND_E, 0.0);
-  if (st->bias_given) {
-    half h;
-    fill_half(m, &h, 0.0, fmin(1e-3, 0.5 * g->z[0]));
-    m->off_left = neutral_offset(&h, m->kT);
-    fill_half(m, &h, fmax(g->length_nm - 1e-3, 0.5 * (g->z[n - 1] + g->length_nm)), g->length_nm);
-    m->off_right = neutral_offset(&h, m->kT);
-  }
-  double nd = 0.0, na = 0.0;
-  for (size_t k = 0; k < st->n_layers; k++) {
-    const ew_layer *ly = &st->layers[k];
-    nd += ly->donors_cm3 * ly->thickness_nm * 1e-7 + ly->donor_sheet_cm2;
-    na += ly->acceptors_cm3 * ly->thickness_nm * 1e-7 + ly->acceptor_sheet_cm2;
-  }
-  m->holes_major = na > nd;
+  fill_cells_and_boxes(m, g);
+  fill_sheets(m, g);
+  fill_faces(m, g);
   return EW_OK;
 }
 
@@ -581,7 +617,7 @@ static double interp(const model *m, const double *U, double z) {
 }
 
 /* The bound window of a band in its positive-mass form (Ec, or −Ev for holes) with U added
- * (U == NULL: without), sampled as ew_solve_potential does: the lower of the outer layers'
+ * (U == NULL: without), sampled as the Schrödinger pass does: the lower of the outer layers'
  * highest values. */
 static double window_with(const model *m, ew_band band, const double *U) {
   const ew_stack *st = m->st;
@@ -622,8 +658,9 @@ static ew_status snap_of(const ew_result *r, const model *m, const double *Us, s
     qstate *o = &s->s[j];
     o->hole = q->band != EW_BAND_E;
     o->E = q->energy_eV;
-    double mp = q->inplane_mass; /* the subband's own curvature (solve.c) */
-    if (!(mp > 0)) mp = q->band == EW_BAND_E ? bb->me : q->band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
+    double mp = q->inplane_mass; /* the subband's own curvature (states.c) */
+    if (!(mp > 0))
+      mp = q->band == EW_BAND_E ? bb->me : q->band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
     if (!(mp > 0)) mp = q->band == EW_BAND_HH ? bb->mhh_z : bb->mlh_z;
     o->D = d2_of(mp, m->kT);
     o->psi = r->psi + j * r->grid->n;
@@ -637,14 +674,6 @@ static ew_status snap_of(const ew_result *r, const model *m, const double *Us, s
 }
 
 /* ---- results ------------------------------------------------------------------------ */
-void ew_sp_info_free(struct ew_sp_info *sp) {
-  if (!sp) return;
-  free(sp->sheet_cm2);
-  free(sp->depol_eV);
-  for (int k = 0; k < EW_SP_PROFILE_COUNT; k++) free(sp->prof[k]);
-  free(sp);
-}
-
 /* Depolarisation integral S = ∫ dz [∫_0^z ψ_j ψ_i dz']² (nm), box rule on the nodes. */
 static double depol_integral(const ew_grid *g, const double *pi, const double *pj) {
   double c = 0.0, S = 0.0;
@@ -657,18 +686,62 @@ static double depol_integral(const ew_grid *g, const double *pi, const double *p
   return S;
 }
 
-static int add_warning(ew_result *r, const char *msg) {
-  char (*w)[EW_WARNING_MAX] = realloc(r->warnings, (r->n_warnings + 1) * sizeof *w);
-  if (!w) return 0;
-  r->warnings = w;
-  snprintf(r->warnings[r->n_warnings++], EW_WARNING_MAX, "%s", msg);
-  return 1;
+/* The profiles: U, and the box integrals q and parts as densities in cm^-3; their totals. */
+static void fill_profiles(ew_sp_info *sp, const model *m, const double *U,
+                          double *const parts[4], const double *q) {
+  for (size_t i = 0; i < m->n; i++) {
+    double to = 1.0 / (m->box[i] * NM3_PER_CM3);
+    sp->prof[EW_SP_POTENTIAL_EV][i] = U[i];
+    sp->prof[EW_SP_CHARGE_CM3][i] = q[i] * to;
+    sp->prof[EW_SP_N_CM3][i] = parts[0][i] * to;
+    sp->prof[EW_SP_P_CM3][i] = parts[1][i] * to;
+    sp->prof[EW_SP_DONORS_ION_CM3][i] = parts[2][i] * to;
+    sp->prof[EW_SP_ACCEPTORS_ION_CM3][i] = parts[3][i] * to;
+    sp->electrons_cm2 += parts[0][i] / NM2_PER_CM2;
+    sp->holes_cm2 += parts[1][i] / NM2_PER_CM2;
+    sp->donors_ion_cm2 += parts[2][i] / NM2_PER_CM2;
+    sp->acceptors_ion_cm2 += parts[3][i] / NM2_PER_CM2;
+  }
+}
+
+/* Per-state sheet densities from the final states (their reported energies). */
+static ew_status fill_sheet_densities(ew_sp_info *sp, const ew_result *r, const model *m,
+                                      double EF0, const double *U, ew_error *err) {
+  snap s;
+  ew_status rc = snap_of(r, m, U, &s, err);
+  if (rc != EW_OK) return rc;
+  for (size_t j = 0; j < r->n_states; j++) {
+    const qstate *o = &s.s[j];
+    double EF = fermi_at(m, EF0, o->zc);
+    double x = o->hole ? (o->E - EF) / m->kT : (EF - o->E) / m->kT;
+    sp->sheet_cm2[j] = o->chi * o->D * log1pexp(x) / NM2_PER_CM2;
+    if (o->hole) sp->holes_bound_cm2 += sp->sheet_cm2[j];
+    else sp->electrons_bound_cm2 += sp->sheet_cm2[j];
+  }
+  free(s.s);
+  return EW_OK;
+}
+
+/* Depolarisation shift of every intersubband line (header of this file). */
+static void fill_depolarisation(ew_sp_info *sp, const ew_result *r) {
+  size_t n = r->grid->n;
+  for (size_t k = 0; k < r->n_lines; k++) {
+    const ew_line *ln = &r->lines[k];
+    sp->depol_eV[k] = NAN;
+    if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+    const ew_state *lo = &r->states[ln->lower];
+    double dN = (sp->sheet_cm2[ln->lower] - sp->sheet_cm2[ln->upper]) * NM2_PER_CM2;
+    double S = depol_integral(r->grid, r->psi + ln->lower * n, r->psi + ln->upper * n);
+    double eps = r->stack->layers[lo->layer].bands.eps_r, E = ln->energy_eV;
+    double alpha = 2.0 * E2_EPS0_EVNM * dN * S / (eps * E);
+    sp->depol_eV[k] = 1.0 + alpha > 0 ? E * sqrt(1.0 + alpha) - E : NAN;
+  }
 }
 
 /* Attach the self-consistent information to the final result r (solved at U). */
 static ew_status attach(ew_result *r, const model *m, double EF0, const double *U,
-                        double *parts[4], const double *q, int iters, double resid, double T,
-                        ew_error *err) {
+                        double *const parts[4], const double *q, int iters, double resid,
+                        double T, ew_error *err) {
   size_t n = m->n;
   ew_sp_info *sp = calloc(1, sizeof *sp);
   if (!sp) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
@@ -684,186 +757,129 @@ static ew_status attach(ew_result *r, const model *m, double EF0, const double *
   sp->sheet_cm2 = calloc(r->n_states ? r->n_states : 1, sizeof *sp->sheet_cm2);
   sp->depol_eV = calloc(r->n_lines ? r->n_lines : 1, sizeof *sp->depol_eV);
   int ok = sp->sheet_cm2 && sp->depol_eV;
-  for (int k = 0; k < EW_SP_PROFILE_COUNT && ok; k++) ok = (sp->prof[k] = malloc(n * sizeof(double))) != NULL;
+  for (int k = 0; k < EW_SP_PROFILE_COUNT && ok; k++)
+    ok = (sp->prof[k] = malloc(n * sizeof(double))) != NULL;
   if (!ok) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
-  for (size_t i = 0; i < n; i++) { /* box integrals → densities in cm^-3 */
-    double to = 1.0 / (m->box[i] * NM3_PER_CM3);
-    sp->prof[EW_SP_POTENTIAL_EV][i] = U[i];
-    sp->prof[EW_SP_CHARGE_CM3][i] = q[i] * to;
-    sp->prof[EW_SP_N_CM3][i] = parts[0][i] * to;
-    sp->prof[EW_SP_P_CM3][i] = parts[1][i] * to;
-    sp->prof[EW_SP_DONORS_ION_CM3][i] = parts[2][i] * to;
-    sp->prof[EW_SP_ACCEPTORS_ION_CM3][i] = parts[3][i] * to;
-    sp->electrons_cm2 += parts[0][i] / NM2_PER_CM2;
-    sp->holes_cm2 += parts[1][i] / NM2_PER_CM2;
-    sp->donors_ion_cm2 += parts[2][i] / NM2_PER_CM2;
-    sp->acceptors_ion_cm2 += parts[3][i] / NM2_PER_CM2;
-  }
-  /* per-state sheet densities from the final states (their reported energies) */
-  snap s;
-  ew_status rc = snap_of(r, m, U, &s, err);
+  fill_profiles(sp, m, U, parts, q);
+  ew_status rc = fill_sheet_densities(sp, r, m, EF0, U, err);
   if (rc != EW_OK) return rc;
-  for (size_t j = 0; j < r->n_states; j++) {
-    const qstate *o = &s.s[j];
-    double EF = fermi_at(m, EF0, o->zc);
-    double x = o->hole ? (o->E - EF) / m->kT : (EF - o->E) / m->kT;
-    sp->sheet_cm2[j] = o->chi * o->D * log1pexp(x) / NM2_PER_CM2;
-    if (o->hole) sp->holes_bound_cm2 += sp->sheet_cm2[j];
-    else sp->electrons_bound_cm2 += sp->sheet_cm2[j];
-  }
-  free(s.s);
-  for (size_t k = 0; k < r->n_lines; k++) {
-    const ew_line *ln = &r->lines[k];
-    sp->depol_eV[k] = NAN;
-    if (ln->kind != EW_LINE_INTERSUBBAND) continue;
-    const ew_state *lo = &r->states[ln->lower];
-    double dN = (sp->sheet_cm2[ln->lower] - sp->sheet_cm2[ln->upper]) * NM2_PER_CM2;
-    double S = depol_integral(r->grid, r->psi + ln->lower * n, r->psi + ln->upper * n);
-    double eps = r->stack->layers[lo->layer].bands.eps_r, E = ln->energy_eV;
-    double alpha = 2.0 * E2_EPS0_EVNM * dN * S / (eps * E);
-    sp->depol_eV[k] = 1.0 + alpha > 0 ? E * sqrt(1.0 + alpha) - E : NAN;
-  }
+  fill_depolarisation(sp, r);
   if (r->stack->temperature_K < EW_SP_T_FLOOR_K &&
-      !add_warning(r, "self-consistent solve: the Fermi–Dirac occupations use a 1 K floor "
+      !ew_result_warn(r, "self-consistent solve: the Fermi–Dirac occupations use a 1 K floor "
                       "for the stack's temperature below 1 K"))
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   return EW_OK;
 }
 
-/* ---- the solve ---------------------------------------------------------------------- */
-ew_status ew_solve_self_consistent(const ew_stack *st, const ew_options *optin, ew_result **out,
-                                   ew_error *err) {
-  *out = NULL;
-  /* Undoped with charge-neutral ends: no fixed charge, so the band is flat (intrinsic
-     carriers aside) and the plain solve is the self-consistent one. */
-  if (!st->doped && !st->surface_given && !st->bias_given)
-    return ew_solve_potential(st, optin, NULL, out, err);
-  ew_status rc = check_eps(st, err);
-  if (rc != EW_OK) return rc;
-  ew_options uopt, iopt;
-  if (optin) uopt = *optin;
-  else ew_options_default(&uopt);
-  iopt = uopt; /* the iterations need the states only: no error estimate, excitons, lines */
-  iopt.error_estimate = 0;
-  iopt.excitons = 0;
-  iopt.lowest_levels = 1;
-  double T = fmax(st->temperature_K, EW_SP_T_FLOOR_K);
-
-  ew_grid *g = ew_solve_grid(st, &uopt);
-  if (!g) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (grid)");
-  if (g->n < 3) {
-    ew_grid_free(g);
-    return ew_fail(err, EW_ERR_INPUT, st->path, 0, "the stack is too thin for the grid");
-  }
+/* ---- the state of the iteration (poisson.h) -------------------------------------------- */
+struct ew_poisson {
   model m;
-  rc = model_build(&m, st, g, T, err);
+  work wk;
+  double *U, *Un;  /* [n] the potential and its next iterate */
+  double *pbuf;    /* [4n] the box-integrated n, p, N_D⁺, N_A⁻ of the last step (parts) */
+  double *parts[4];
+  double EF;       /* Fermi level (of the first face), eV */
+  double T;        /* temperature of the occupations, K */
+};
+
+ew_status ew_poisson_check_stack(const ew_stack *st, ew_error *err) { return check_eps(st, err); }
+
+/* the work arrays of the Newton steps, to allocate and free them in one loop */
+#define WORK_ARRAYS 8
+static void work_slots(work *wk, double **slot[WORK_ARRAYS]) {
+  double **all[WORK_ARRAYS] = {&wk->q, &wk->dq, &wk->R, &wk->lo, &wk->di, &wk->up, &wk->x, &wk->Ut};
+  memcpy(slot, all, sizeof all);
+}
+
+void ew_poisson_free(ew_poisson *p) {
+  if (!p) return;
+  double **wf[WORK_ARRAYS];
+  work_slots(&p->wk, wf);
+  for (size_t k = 0; k < WORK_ARRAYS; k++) free(*wf[k]);
+  free(p->U);
+  free(p->Un);
+  free(p->pbuf);
+  model_free(&p->m);
+  free(p);
+}
+
+/* First guess: flat bands at global neutrality; with a bias the two contact levels and a
+ * linear U between them; then the gauge. */
+static void first_guess(ew_poisson *p) {
+  model *m = &p->m;
+  size_t n = m->n;
+  if (m->st->bias_given) {
+    p->EF = -m->off_left; /* U(first face) = 0 */
+    double Ur = fermi_at(m, p->EF, m->L) + m->off_right;
+    for (size_t i = 0; i < n; i++) p->U[i] = Ur * m->z[i] / m->L;
+  } else {
+    p->EF = neutral_fermi(m, p->U, p->wk.q);
+  }
+  double c0 = gauge_shift(m, p->U);
+  for (size_t i = 0; i < n; i++) p->U[i] += c0;
+  p->EF += c0;
+}
+
+ew_status ew_poisson_new(const ew_stack *st, const ew_grid *g, double T, ew_poisson **out,
+                         ew_error *err) {
+  *out = NULL;
+  ew_poisson *p = calloc(1, sizeof *p);
+  if (!p)
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson model, n = %zu)", g->n);
+  ew_status rc = model_build(&p->m, st, g, T, err);
   if (rc != EW_OK) {
-    ew_grid_free(g);
+    free(p);
     return rc;
   }
-  size_t n = m.n;
-  work wk = {0};
-  double *U = calloc(n, sizeof *U), *Un = malloc(n * sizeof *Un), *pbuf = malloc(4 * n * sizeof *pbuf);
-  double **wf[] = {&wk.q, &wk.dq, &wk.R, &wk.lo, &wk.di, &wk.up, &wk.x, &wk.Ut};
-  int ok = U && Un && pbuf;
-  for (size_t k = 0; k < sizeof wf / sizeof *wf; k++) ok = ok && (*wf[k] = malloc(n * sizeof(double)));
-  ew_result *res = NULL;
-  snap s = {0};
+  size_t n = p->m.n;
+  p->T = T;
+  p->U = calloc(n, sizeof *p->U);
+  p->Un = malloc(n * sizeof *p->Un);
+  p->pbuf = malloc(4 * n * sizeof *p->pbuf);
+  double **wf[WORK_ARRAYS];
+  work_slots(&p->wk, wf);
+  int ok = p->U && p->Un && p->pbuf;
+  for (size_t k = 0; k < WORK_ARRAYS; k++) ok = ok && (*wf[k] = malloc(n * sizeof(double)));
   if (!ok) {
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson, n = %zu)", n);
-    goto done;
+    ew_poisson_free(p);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson, n = %zu)", n);
   }
-  /* first guess: flat bands at global neutrality; with a bias the two contact levels and a
-     linear U between them */
-  double EF;
-  if (st->bias_given) {
-    EF = -m.off_left; /* U(first face) = 0 */
-    double Ur = fermi_at(&m, EF, m.L) + m.off_right;
-    for (size_t i = 0; i < n; i++) U[i] = Ur * m.z[i] / m.L;
-  } else {
-    EF = neutral_fermi(&m, U, wk.q);
-  }
-  double c0 = gauge_shift(&m, U);
-  for (size_t i = 0; i < n; i++) U[i] += c0;
-  EF += c0;
-  rc = ew_solve_potential(st, &iopt, U, &res, err);
-  if (rc != EW_OK) goto done;
-  int it = 0, conv = 0;
-  const int max_it = uopt.sp_max_iterations > 0 ? uopt.sp_max_iterations : EW_SP_MAX_ITER;
-  double dU = INFINITY;
-  double *parts[4] = {pbuf, pbuf + n, pbuf + 2 * n, pbuf + 3 * n};
-  while (it < max_it) {
-    it++;
-    free(s.s);
-    s.s = NULL;
-    rc = snap_of(res, &m, U, &s, err);
-    if (rc != EW_OK) goto done;
-    memcpy(Un, U, n * sizeof *Un);
-    rc = poisson_step(&m, &s, EF, Un, &wk, it, err);
-    if (rc != EW_OK) goto done;
+  for (int t = 0; t < 4; t++) p->parts[t] = p->pbuf + t * n;
+  first_guess(p);
+  *out = p;
+  return EW_OK;
+}
+
+const double *ew_poisson_potential(const ew_poisson *p) { return p->U; }
+
+ew_status ew_poisson_update(ew_poisson *p, const ew_result *r, int outer, double *dU,
+                            ew_error *err) {
+  model *m = &p->m;
+  size_t n = m->n;
+  snap s = {0};
+  ew_status rc = snap_of(r, m, p->U, &s, err);
+  if (rc != EW_OK) return rc;
+  memcpy(p->Un, p->U, n * sizeof *p->Un);
+  rc = poisson_step(m, &s, p->EF, p->Un, &p->wk, outer, err);
+  if (rc == EW_OK) {
     /* the charges the Poisson step satisfied (gauge invariant: kept for the profiles) */
-    charges(&m, &s, EF, Un, wk.q, NULL, parts);
-    double c = gauge_shift(&m, Un);
-    dU = 0.0;
+    charges(m, &s, p->EF, p->Un, p->wk.q, NULL, p->parts);
+    double c = gauge_shift(m, p->Un), d = 0.0;
     for (size_t i = 0; i < n; i++) {
-      Un[i] += c;
-      dU = fmax(dU, fabs(Un[i] - U[i]));
+      p->Un[i] += c;
+      d = fmax(d, fabs(p->Un[i] - p->U[i]));
     }
-    EF += c;
-    memcpy(U, Un, n * sizeof *U);
-    if (dU < EW_SP_TOL_EV) {
-      conv = 1;
-      break;
-    }
-    ew_result_free(res);
-    res = NULL;
-    rc = ew_solve_potential(st, &iopt, U, &res, err);
-    if (rc != EW_OK) goto done;
+    p->EF += c;
+    memcpy(p->U, p->Un, n * sizeof *p->U);
+    *dU = d;
   }
-  if (!conv) {
-    rc = ew_fail(err, EW_ERR_NUMERIC, st->path, 0,
-                 "self-consistent Schrödinger–Poisson solve did not converge: after %d outer "
-                 "iterations max|ΔU| = %.3g eV (tolerance %.0e eV)",
-                 it, dU, EW_SP_TOL_EV);
-    goto done;
-  }
-  ew_result_free(res);
-  res = NULL;
-  rc = ew_solve_potential(st, &uopt, U, &res, err);
-  if (rc != EW_OK) goto done;
-  if (res->grid->n != n) {
-    rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "self-consistent solve: grid mismatch");
-    goto done;
-  }
-  rc = attach(res, &m, EF, U, parts, wk.q, it, dU, T, err);
-  if (rc != EW_OK) goto done;
-  *out = res;
-  res = NULL;
-done:
-  ew_result_free(res);
   free(s.s);
-  free(U);
-  free(Un);
-  free(pbuf);
-  for (size_t k = 0; k < sizeof wf / sizeof *wf; k++) free(*wf[k]);
-  model_free(&m);
-  ew_grid_free(g);
   return rc;
 }
 
-/* ---- accessors (epiwell.h) ------------------------------------------------------------- */
-double ew_result_fermi_energy_eV(const ew_result *r) { return r->sp ? r->sp->fermi_eV : NAN; }
-double ew_result_fermi_energy_last_eV(const ew_result *r) {
-  return r->sp ? r->sp->fermi_last_eV : NAN;
-}
-int ew_result_sp_iterations(const ew_result *r) { return r->sp ? r->sp->iterations : 0; }
-double ew_result_sp_residual_eV(const ew_result *r) { return r->sp ? r->sp->residual_eV : NAN; }
-double ew_result_state_sheet_density_cm2(const ew_result *r, size_t i) {
-  return r->sp && i < r->sp->n_states ? r->sp->sheet_cm2[i] : NAN;
-}
-double ew_result_line_depolarization_eV(const ew_result *r, size_t j) {
-  return r->sp && j < r->sp->n_lines ? r->sp->depol_eV[j] : NAN;
-}
-const double *ew_result_sp_profile(const ew_result *r, ew_sp_profile which) {
-  return r->sp && (int)which >= 0 && which < EW_SP_PROFILE_COUNT ? r->sp->prof[which] : NULL;
+ew_status ew_poisson_attach(const ew_poisson *p, ew_result *r, int iterations,
+                            double residual_eV, ew_error *err) {
+  if (r->grid->n != p->m.n)
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "self-consistent solve: grid mismatch");
+  return attach(r, &p->m, p->EF, p->U, p->parts, p->wk.q, iterations, residual_eV, p->T, err);
 }

@@ -1,15 +1,14 @@
-/* poisson.h — self-consistent Schrödinger–Poisson solve of doped stacks (poisson.c).
- *
- * ew_solve() hands a doped stack to ew_solve_self_consistent() (declared in solve.h), which
- * iterates ew_solve_potential() with the electrostatic potential energy U(z) = −eφ(z) of
- * the Poisson equation d/dz(ε0 εr dφ/dz) = −ρ until max|ΔU| < EW_SP_TOL_EV, and attaches the
- * self-consistent quantities below to the final result (struct ew_result, field sp).
+/* poisson.h — the electrostatics of doped stacks (poisson.c): the electrostatic potential
+ * energy U(z) = −eφ(z) of the Poisson equation d/dz(ε0 εr dφ/dz) = −ρ with the carriers of
+ * the last Schrödinger pass, the Fermi level, contacts, and the self-consistent quantities
+ * of a final result (struct ew_sp_info in result.h).  The loop that alternates Schrödinger
+ * passes and Poisson updates until max|ΔU| < EW_SP_TOL_EV is self_consistent.c.
  * Units inside: nm, eV, densities in nm^-3 (1 cm^-3 = 1e-21 nm^-3) and nm^-2 (1 cm^-2 =
  * 1e-14 nm^-2); everything stored here is converted to the cm units named in the fields. */
 #ifndef EW_POISSON_H
 #define EW_POISSON_H
 
-#include "solve.h"
+#include "result.h"
 
 #define EW_SP_TOL_EV 1e-6     /* outer convergence: max |ΔU| between iterations, eV */
 #define EW_SP_MAX_ITER 100    /* outer (Schrödinger–Poisson) iterations at most */
@@ -18,28 +17,32 @@
 #define EW_SP_BLEND_KT 2.0    /* subbands hand over to the continuum over 2 kT below the
                                  window top (see poisson.c, "Hand-over") */
 
-struct ew_sp_info {
-  double fermi_eV;          /* Fermi level (with a bias: of the first face), absolute eV */
-  double fermi_last_eV;     /* Fermi level of the last face (= fermi_eV without bias) */
-  double temperature_K;     /* temperature used for the occupations (floored at 1 K) */
-  int iterations;           /* outer iterations done */
-  double residual_eV;       /* max |ΔU| of the last outer iteration */
-  size_t n_states;
-  double *sheet_cm2;        /* [n_states] electrons (e) or holes (hh, lh) per state, cm^-2 */
-  size_t n_lines;
-  double *depol_eV;         /* [n_lines] depolarisation shift Ẽ − E, eV (NAN: interband) */
-  size_t n;                 /* nodes */
-  double *prof[EW_SP_PROFILE_COUNT]; /* [n] each: see ew_sp_profile in epiwell.h */
-  double electrons_cm2, holes_cm2;   /* ∫ n dz, ∫ p dz over the stack */
-  double electrons_bound_cm2, holes_bound_cm2; /* in the subbands (sum of sheet_cm2) */
-  double donors_ion_cm2, acceptors_ion_cm2;    /* ∫ N_D⁺ dz, ∫ N_A⁻ dz */
-};
-typedef struct ew_sp_info ew_sp_info;
-
 /* Normalised Fermi–Dirac integral of order 1/2, ℱ(η) = (2/√π) ∫0^∞ √x dx / (1 + e^(x−η))
  * (→ e^η for η → −∞), from the analytic approximation of X. Aymerich-Humet,
  * F. Serra-Mestres, J. Millán, J. Appl. Phys. 54, 2850 (1983); *deriv (may be NULL) receives
  * dℱ/dη of the same approximation (so that Newton's Jacobian matches the residual). */
 double ew_fd_half(double eta, double *deriv);
+
+/* The iteration's state: the static model of the stack on grid g (which must outlive it;
+ * the fine grid of the Schrödinger passes) at temperature T_K (floored already), the
+ * potential U and the Fermi level, starting from flat bands at global neutrality (with a
+ * bias: linear between the contacts). */
+typedef struct ew_poisson ew_poisson;
+/* EW_ERR_INPUT (file:line) when a layer has no static permittivity. */
+ew_status ew_poisson_check_stack(const ew_stack *st, ew_error *err);
+ew_status ew_poisson_new(const ew_stack *st, const ew_grid *g, double T_K, ew_poisson **out,
+                         ew_error *err);
+void ew_poisson_free(ew_poisson *p); /* NULL is a no-op */
+/* The current potential U[n] on the grid's nodes (eV). */
+const double *ew_poisson_potential(const ew_poisson *p);
+/* One Poisson update from the states of a Schrödinger pass r at the current U (the
+ * predictor–corrector step; outer numbers the outer iteration for messages): the new U and
+ * Fermi level, *dU_eV = max|ΔU|. */
+ew_status ew_poisson_update(ew_poisson *p, const ew_result *r, int outer, double *dU_eV,
+                            ew_error *err);
+/* Attach the self-consistent quantities (r->sp, and a warning for a temperature below the
+ * floor) to the final pass r, solved at the current U. */
+ew_status ew_poisson_attach(const ew_poisson *p, ew_result *r, int iterations,
+                            double residual_eV, ew_error *err);
 
 #endif

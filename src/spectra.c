@@ -24,17 +24,13 @@
 #include "error.h"
 #include "exciton.h"
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846
-#endif
-
 double ew_intersubband_prefactor_eVcm2(void) {
   /* C² · eV s / (F m⁻¹ · m s⁻¹ · kg) = eV m²; × 1e4 cm² per m² */
   return EW_E_C * EW_E_C * EW_H_EVS / (4.0 * EW_EPS0_FM * EW_C_MS * EW_M0_KG) * 1e4;
 }
 
 /* normalised Lorentzian of half width at half maximum g */
-static double lorentz(double x, double g) { return g / (M_PI * (x * x + g * g)); }
+static double lorentz(double x, double g) { return g / (EW_PI * (x * x + g * g)); }
 
 static ew_status check_arrays(size_t npts, const double *E, const double *out, ew_error *err) {
   if (npts > 0 && (!E || !out))
@@ -80,7 +76,7 @@ ew_status ew_intersubband_absorption(const ew_result *r, double sheet_density_cm
   if (!(invm > 0) || !isfinite(invm))
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "intersubband absorption: <e1|m0/m|e1> = %g",
                    invm);
-  double th = theta_deg * M_PI / 180.0;
+  double th = theta_deg * EW_PI / 180.0;
   double geom = sin(th) * sin(th) / cos(th);
   /* (e² h / (4 ε0 n c m*)) N_s (sin²θ / cos θ), with 1/m* = ⟨e1|1/m|e1⟩: eV */
   double pref = ew_intersubband_prefactor_eVcm2() * invm / n_refr * sheet_density_cm2 * geom;
@@ -130,7 +126,7 @@ ew_status ew_interband_absorption(const ew_result *r, double linewidth_meV, size
     }
     double E0 = ln->energy_eV, Epl = E0 - bind;
     for (size_t k = 0; k < npts; k++) {
-      double step = 0.5 + atan((E_eV[k] - E0) / g) / M_PI;
+      double step = 0.5 + atan((E_eV[k] - E0) / g) / EW_PI;
       alpha_rel[k] += S * (step + W * lorentz(E_eV[k] - Epl, g));
     }
   }

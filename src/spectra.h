@@ -7,7 +7,7 @@
 #ifndef EW_SPECTRA_H
 #define EW_SPECTRA_H
 
-#include "solve.h"
+#include "result.h"
 
 /* Intersubband absorption of the structure's e1 population: the fraction of the incident
  * power absorbed in one pass (dimensionless) by TM-polarised light (p-polarised: E in the

@@ -8,6 +8,8 @@
 #include "constants.h"
 #include "eigen.h"
 #include "poisson.h"
+#include "schrodinger.h"
+#include "self_consistent.h"
 #include "solve.h"
 
 static ew_catalogue *cat;
@@ -137,7 +139,7 @@ static void tridiagonal_solve(void **state) {
 
 /* ---- the self-consistent solve --------------------------------------------------------- */
 
-/* An undoped stack: ew_solve_self_consistent gives the plain solve exactly (bitwise: no
+/* An undoped stack: ew_solve_self_consistent gives the plain Schrödinger pass exactly (bitwise: no
  * fixed charge and neutral ends mean flat bands; the solve is the same code path), with no
  * self-consistent information attached. */
 static void undoped_is_plain(void **state) {
@@ -150,7 +152,7 @@ static void undoped_is_plain(void **state) {
   ew_result *a = NULL, *b = NULL;
   ew_error err;
   assert_int_equal(ew_solve_self_consistent(st, NULL, &a, &err), EW_OK);
-  assert_int_equal(ew_solve_potential(st, NULL, NULL, &b, &err), EW_OK);
+  assert_int_equal(ew_schrodinger_pass(st, NULL, NULL, &b, &err), EW_OK);
   assert_int_equal(ew_result_state_count(a), ew_result_state_count(b));
   for (size_t i = 0; i < ew_result_state_count(a); i++)
     assert_true(ew_result_state(a, i)->energy_eV == ew_result_state(b, i)->energy_eV);

@@ -1,0 +1,13 @@
+/* options.c — the default solve options (epiwell.h). */
+#include "epiwell.h"
+
+#include "poisson.h"
+
+void ew_options_default(ew_options *opt) {
+  opt->grid_step_nm = 0.0;
+  opt->lowest_levels = 3;
+  opt->error_estimate = 1;
+  opt->residual_tol = 1e-8;
+  opt->excitons = 1;
+  opt->sp_max_iterations = EW_SP_MAX_ITER;
+}

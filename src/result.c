@@ -1,0 +1,84 @@
+/* result.c — the accessors of ew_result (epiwell.h), its warnings and its release. */
+#include "result.h"
+
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+
+void ew_sp_info_free(ew_sp_info *sp) {
+  if (!sp) return;
+  free(sp->sheet_cm2);
+  free(sp->depol_eV);
+  for (int k = 0; k < EW_SP_PROFILE_COUNT; k++) free(sp->prof[k]);
+  free(sp);
+}
+
+void ew_result_free(ew_result *r) {
+  if (!r) return;
+  ew_grid_free(r->grid);
+  free(r->warnings);
+  free(r->states);
+  free(r->psi);
+  free(r->mean_inv_mass);
+  free(r->lines);
+  ew_sp_info_free(r->sp);
+  free(r);
+}
+
+size_t ew_result_state_count(const ew_result *r) { return r->n_states; }
+const ew_state *ew_result_state(const ew_result *r, size_t i) {
+  return i < r->n_states ? &r->states[i] : NULL;
+}
+const double *ew_result_wavefunction(const ew_result *r, size_t i) {
+  return i < r->n_states ? r->psi + i * r->grid->n : NULL;
+}
+size_t ew_result_line_count(const ew_result *r) { return r->n_lines; }
+const ew_line *ew_result_line(const ew_result *r, size_t i) {
+  return i < r->n_lines ? &r->lines[i] : NULL;
+}
+size_t ew_result_node_count(const ew_result *r) { return r->grid->n; }
+const double *ew_result_z_nm(const ew_result *r) { return r->grid->z; }
+const double *ew_result_edge_eV(const ew_result *r, ew_band b) { return r->grid->edge[b]; }
+const double *ew_result_mass(const ew_result *r, ew_band b) { return r->grid->mass[b]; }
+double ew_result_grid_step_nm(const ew_result *r) { return r->step_nm; }
+size_t ew_result_band_count(const ew_result *r, ew_band b) { return r->band_count[b]; }
+double ew_result_window_eV(const ew_result *r, ew_band b) { return r->window_eV[b]; }
+
+int ew_result_warn(ew_result *r, const char *fmt, ...) {
+  char (*w)[EW_WARNING_MAX] = realloc(r->warnings, (r->n_warnings + 1) * sizeof *w);
+  if (!w) return 0;
+  r->warnings = w;
+  va_list ap;
+  va_start(ap, fmt);
+  vsnprintf(r->warnings[r->n_warnings++], EW_WARNING_MAX, fmt, ap);
+  va_end(ap);
+  return 1;
+}
+
+size_t ew_result_warning_count(const ew_result *r) { return r->n_warnings; }
+const char *ew_result_model(const ew_result *r) {
+  return r->nonparabolic ? "BenDaniel-Duke; electrons with the Kane energy-dependent mass "
+                           "(non-parabolic), holes parabolic"
+                         : "BenDaniel-Duke, parabolic bands";
+}
+const char *ew_result_warning(const ew_result *r, size_t i) {
+  return i < r->n_warnings ? r->warnings[i] : NULL;
+}
+
+/* the self-consistent quantities (NAN, 0 or NULL for a plain solve) */
+double ew_result_fermi_energy_eV(const ew_result *r) { return r->sp ? r->sp->fermi_eV : NAN; }
+double ew_result_fermi_energy_last_eV(const ew_result *r) {
+  return r->sp ? r->sp->fermi_last_eV : NAN;
+}
+int ew_result_sp_iterations(const ew_result *r) { return r->sp ? r->sp->iterations : 0; }
+double ew_result_sp_residual_eV(const ew_result *r) { return r->sp ? r->sp->residual_eV : NAN; }
+double ew_result_state_sheet_density_cm2(const ew_result *r, size_t i) {
+  return r->sp && i < r->sp->n_states ? r->sp->sheet_cm2[i] : NAN;
+}
+double ew_result_line_depolarization_eV(const ew_result *r, size_t j) {
+  return r->sp && j < r->sp->n_lines ? r->sp->depol_eV[j] : NAN;
+}
+const double *ew_result_sp_profile(const ew_result *r, ew_sp_profile which) {
+  return r->sp && (int)which >= 0 && which < EW_SP_PROFILE_COUNT ? r->sp->prof[which] : NULL;
+}

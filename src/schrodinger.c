@@ -1,0 +1,206 @@
+/* schrodinger.c — one Schrödinger pass (see schrodinger.h): grids, the eigenpairs of each
+ * band in its bound window, then states (states.c), warnings and lines (lines.c). */
+#include "schrodinger.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "bound.h"
+#include "error.h"
+#include "lines.h"
+#include "nonparabolic.h"
+#include "stack_caveats.h"
+#include "states.h"
+
+/* Eigenpairs of every band on the fine grid, values on the coarse one. */
+typedef struct {
+  ew_eigenpairs fine[EW_BAND_COUNT];
+  double *coarse[EW_BAND_COUNT];
+  size_t n_coarse[EW_BAND_COUNT];
+} band_pairs;
+
+static void band_pairs_free(band_pairs *bp) {
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    ew_eigenpairs_free(&bp->fine[b]);
+    free(bp->coarse[b]);
+  }
+}
+
+/* The eigenvalues of the coarse grid near the fine vectors sampled on its nodes. */
+static ew_status coarse_values(ew_result *r, const ew_grid *coarse, ew_band band, double lo,
+                               const ew_eigenpairs *fine, double **coarse_vals,
+                               size_t *n_coarse, ew_error *err) {
+  const ew_grid *g = r->grid;
+  ew_pencil *pc = ew_pencil_build(coarse, band);
+  size_t nc = coarse->n, k = fine->count;
+  double *guess = pc ? malloc(nc * k * sizeof *guess) : NULL;
+  double *vals = malloc(k * sizeof *vals);
+  if (!pc || !guess || !vals) {
+    ew_pencil_free(pc);
+    free(guess);
+    free(vals);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (coarse grid)");
+  }
+  /* coarse node i is fine node 2i + 1 (every layer has an even number of fine cells) */
+  for (size_t j = 0; j < k; j++)
+    for (size_t i = 0; i < nc; i++) guess[j * nc + i] = fine->vectors[j * g->n + 2 * i + 1];
+  ew_status rc = ew_eigen_values_near(pc, lo, guess, k, 1e-11, vals, &r->work_counts, err);
+  ew_pencil_free(pc);
+  free(guess);
+  if (rc != EW_OK) {
+    free(vals);
+    return rc;
+  }
+  *coarse_vals = vals;
+  *n_coarse = k;
+  return EW_OK;
+}
+
+/* Solve one band on the fine grid (vectors) and, if asked, the coarse grid (values). */
+static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band,
+                            ew_eigenpairs *fine, double **coarse_vals, size_t *n_coarse,
+                            ew_error *err) {
+  const ew_grid *g = r->grid;
+  *coarse_vals = NULL;
+  *n_coarse = 0;
+  ew_pencil *p = ew_pencil_build(g, band);
+  if (!p) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (pencil, n = %zu)", g->n);
+  double top = ew_bound_window_top(r->stack, g, band);
+  double lo = p->vmin - 1e-9 * (1.0 + fabs(p->vmin));
+  if (top <= lo) { /* no well at all: an empty window */
+    memset(fine, 0, sizeof *fine);
+    ew_pencil_free(p);
+    return EW_OK;
+  }
+  if (band == EW_BAND_E && ew_nonparabolic_applies(r->stack)) {
+    ew_pencil_free(p);
+    ew_status rc = ew_nonparabolic_levels(r->stack, g, coarse, lo, top, fine, coarse_vals,
+                                          &r->work_counts, err);
+    *n_coarse = rc == EW_OK && coarse ? fine->count : 0;
+    r->nonparabolic = rc == EW_OK;
+    return rc;
+  }
+  ew_status rc = ew_eigen_window(p, lo, top, 1, fine, err);
+  ew_pencil_free(p);
+  r->work_factorizations += fine->factorizations;
+  r->work_solves += fine->solves;
+  r->work_counts += fine->counts;
+  if (rc != EW_OK || !coarse || fine->count == 0) return rc;
+  return coarse_values(r, coarse, band, lo, fine, coarse_vals, n_coarse, err);
+}
+
+static double step_of(const ew_stack *st, const ew_options *opt) {
+  return opt && opt->grid_step_nm > 0 ? opt->grid_step_nm
+         : st->grid_step_nm > 0      ? st->grid_step_nm
+                                     : EW_DEFAULT_STEP_NM;
+}
+
+ew_grid *ew_schrodinger_grid(const ew_stack *st, const ew_options *opt) {
+  double step = step_of(st, opt);
+  if (!(step > 0) || st->total_nm / step > EW_GRID_MAX_NODES) return NULL;
+  size_t *cells = calloc(st->n_layers, sizeof *cells);
+  if (!cells) return NULL;
+  ew_grid_cells_for_step(st, step, cells);
+  ew_grid *g = ew_grid_layered(st, cells);
+  free(cells);
+  return g;
+}
+
+/* The step of a pass: refuses a negative or non-finite step and a grid beyond
+ * EW_GRID_MAX_NODES. */
+static ew_status check_step(const ew_stack *st, const ew_options *opt, double *step,
+                            ew_error *err) {
+  if (isnan(opt->grid_step_nm) || opt->grid_step_nm < 0)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "grid step %g nm: give a positive step, or 0 for the stack's or the default",
+                   opt->grid_step_nm);
+  *step = step_of(st, opt);
+  if (!(*step > 0) || !isfinite(*step))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "grid step must be a positive number of nm");
+  double nodes = st->total_nm / *step;
+  if (nodes > EW_GRID_MAX_NODES)
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0,
+                   "grid of %.3g nodes (step %g nm over %g nm) is too large: it would need "
+                   "about %.1f GB",
+                   nodes, *step, st->total_nm, nodes * 200.0 * 3 / 1e9);
+  return EW_OK;
+}
+
+/* The fine grid r->grid and, with the error estimate, the coarse grid of every second node,
+ * both with U added (U == NULL: none). */
+static ew_status build_grids(ew_result *r, const double *U, ew_grid **coarse, ew_error *err) {
+  const ew_stack *st = r->stack;
+  size_t *cells = calloc(st->n_layers, sizeof *cells);
+  if (!cells) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  ew_grid_cells_for_step(st, r->step_nm, cells);
+  r->grid = ew_grid_layered(st, cells);
+  if (r->opt.error_estimate) {
+    for (size_t k = 0; k < st->n_layers; k++) cells[k] /= 2; /* cells are even: same faces */
+    *coarse = ew_grid_layered(st, cells);
+  }
+  free(cells);
+  if (!r->grid || (r->opt.error_estimate && !*coarse))
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (grid of %.0f nodes)",
+                   st->total_nm / r->step_nm);
+  if (!U) return EW_OK;
+  /* the self-consistent electrostatic potential, on both grids */
+  double *Uc = *coarse ? malloc((*coarse)->n * sizeof *Uc) : NULL;
+  if (*coarse && Uc) ew_grid_sample_coarse(U, (*coarse)->n, Uc);
+  int ok = ew_grid_add_potential(r->grid, U) &&
+           (!*coarse || (Uc && ew_grid_add_potential(*coarse, Uc)));
+  free(Uc);
+  return ok ? EW_OK : ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (potential)");
+}
+
+/* The warnings of a pass after its states: no estimate, the stack's caveats, residuals. */
+static int pass_warnings(ew_result *r) {
+  if (r->unestimated &&
+      !ew_result_warn(r, "%zu state(s) have no error estimate: the grid of step 2h cannot "
+                      "resolve them (fewer nodes than bound states, or oscillations finer "
+                      "than its step); use a smaller grid step", r->unestimated))
+    return 0;
+  if (!ew_stack_caveats(r)) return 0;
+  for (size_t i = 0; i < r->n_states; i++)
+    if (r->states[i].flagged &&
+        !ew_result_warn(r, "%s failed its residual check (relative residual %.2e)",
+                        r->states[i].label, r->states[i].residual))
+      return 0;
+  return 1;
+}
+
+ew_status ew_schrodinger_pass(const ew_stack *st, const ew_options *optin, const double *U,
+                              ew_result **out, ew_error *err) {
+  *out = NULL;
+  ew_options opt;
+  if (optin) opt = *optin;
+  else ew_options_default(&opt);
+  double step = 0.0;
+  ew_status rc = check_step(st, &opt, &step, err);
+  if (rc != EW_OK) return rc;
+  ew_result *r = calloc(1, sizeof *r);
+  if (!r) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  r->stack = st;
+  r->opt = opt;
+  r->step_nm = step;
+  ew_grid *coarse = NULL;
+  band_pairs bp;
+  memset(&bp, 0, sizeof bp);
+  rc = build_grids(r, U, &coarse, err);
+  for (int b = 0; b < EW_BAND_COUNT && rc == EW_OK; b++) {
+    rc = solve_band(r, coarse, (ew_band)b, &bp.fine[b], &bp.coarse[b], &bp.n_coarse[b], err);
+    double top = ew_bound_window_top(st, r->grid, (ew_band)b);
+    r->window_eV[b] = b == EW_BAND_E ? top : -top;
+  }
+  if (rc == EW_OK) rc = ew_states_build(r, bp.fine, bp.coarse, bp.n_coarse, err);
+  if (rc == EW_OK && !pass_warnings(r)) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  if (rc == EW_OK) rc = ew_lines_build(r, err);
+  band_pairs_free(&bp);
+  ew_grid_free(coarse);
+  if (rc != EW_OK) {
+    ew_result_free(r);
+    return rc;
+  }
+  *out = r;
+  return EW_OK;
+}

@@ -1,0 +1,80 @@
+/* self_consistent.c — the outer loop of the self-consistent Schrödinger–Poisson solve: the
+ * predictor–corrector of A. Trellakis, A. T. Galick, A. Pacelli, U. Ravaioli, J. Appl.
+ * Phys. 81, 7880 (1997) (the Poisson update is poisson.c).  The iterations need the states
+ * only: their passes skip the error estimate and keep one level per band for the lines; the
+ * final pass at the converged potential uses the caller's options. */
+#include "self_consistent.h"
+
+#include <math.h>
+
+#include "error.h"
+#include "poisson.h"
+#include "schrodinger.h"
+
+/* Alternate passes and Poisson updates from p's first guess until converged; *res is the
+ * last pass (caller frees), *iters and *dU the iterations done and the last max|ΔU|. */
+static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson *p,
+                         int *iters, double *dU, ew_error *err) {
+  ew_options iopt = *uopt;
+  iopt.error_estimate = 0;
+  iopt.excitons = 0;
+  iopt.lowest_levels = 1;
+  ew_result *res = NULL;
+  ew_status rc = ew_schrodinger_pass(st, &iopt, ew_poisson_potential(p), &res, err);
+  const int max_it = uopt->sp_max_iterations > 0 ? uopt->sp_max_iterations : EW_SP_MAX_ITER;
+  int it = 0, conv = 0;
+  *dU = INFINITY;
+  while (rc == EW_OK && it < max_it) {
+    it++;
+    rc = ew_poisson_update(p, res, it, dU, err);
+    if (rc != EW_OK) break;
+    if (*dU < EW_SP_TOL_EV) {
+      conv = 1;
+      break;
+    }
+    ew_result_free(res);
+    res = NULL;
+    rc = ew_schrodinger_pass(st, &iopt, ew_poisson_potential(p), &res, err);
+  }
+  ew_result_free(res);
+  *iters = it;
+  if (rc == EW_OK && !conv)
+    rc = ew_fail(err, EW_ERR_NUMERIC, st->path, 0,
+                 "self-consistent Schrödinger–Poisson solve did not converge: after %d outer "
+                 "iterations max|ΔU| = %.3g eV (tolerance %.0e eV)",
+                 it, *dU, EW_SP_TOL_EV);
+  return rc;
+}
+
+ew_status ew_solve_self_consistent(const ew_stack *st, const ew_options *optin, ew_result **out,
+                                   ew_error *err) {
+  *out = NULL;
+  /* Undoped with charge-neutral ends: no fixed charge, so the band is flat (intrinsic
+     carriers aside) and the plain pass is the self-consistent one. */
+  if (!st->doped && !st->surface_given && !st->bias_given)
+    return ew_schrodinger_pass(st, optin, NULL, out, err);
+  ew_status rc = ew_poisson_check_stack(st, err);
+  if (rc != EW_OK) return rc;
+  ew_options uopt;
+  if (optin) uopt = *optin;
+  else ew_options_default(&uopt);
+  ew_grid *g = ew_schrodinger_grid(st, &uopt);
+  if (!g) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (grid)");
+  ew_poisson *p = NULL;
+  ew_result *res = NULL;
+  if (g->n < 3) rc = ew_fail(err, EW_ERR_INPUT, st->path, 0, "the stack is too thin for the grid");
+  else rc = ew_poisson_new(st, g, fmax(st->temperature_K, EW_SP_T_FLOOR_K), &p, err);
+  int it = 0;
+  double dU = INFINITY;
+  if (rc == EW_OK) rc = iterate(st, &uopt, p, &it, &dU, err);
+  if (rc == EW_OK) rc = ew_schrodinger_pass(st, &uopt, ew_poisson_potential(p), &res, err);
+  if (rc == EW_OK) rc = ew_poisson_attach(p, res, it, dU, err);
+  if (rc == EW_OK) {
+    *out = res;
+    res = NULL;
+  }
+  ew_result_free(res);
+  ew_poisson_free(p);
+  ew_grid_free(g);
+  return rc;
+}

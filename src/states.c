@@ -1,0 +1,138 @@
+/* states.c — from eigenpairs to the states of a result (see states.h).
+ *
+ * The scheme is second order, so Richardson extrapolation E = E_h + (E_h − E_2h)/3 removes
+ * the leading error and |E_h − E_2h|/3, the size of that correction, is reported as the
+ * error estimate (L. F. Richardson, Phil. Trans. R. Soc. A 210, 307 (1911)). */
+#include "states.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "bound.h"
+#include "error.h"
+#include "nonparabolic.h"
+
+/* sign convention: the largest lobe positive, so pictures and overlaps repeat */
+static void fix_sign(double *psi, size_t n) {
+  size_t imax = 0;
+  for (size_t i = 1; i < n; i++)
+    if (fabs(psi[i]) > fabs(psi[imax])) imax = i;
+  if (psi[imax] < 0)
+    for (size_t i = 0; i < n; i++) psi[i] = -psi[i];
+}
+
+/* The fine value e extrapolated with the coarse value ec (have_ec: there is one) into
+ * q->error_eV (−1: no estimate); returns the energy on the positive-mass scale.  A coarse
+ * value that differs from the fine one by more than EW_RICHARDSON_MAX_REL of the level's
+ * height above the potential minimum vmin (a state whose oscillations the grid of step 2h
+ * cannot follow: aliasing, not an O(h²) error; resolved levels differ by ~1e-4 of it) gives
+ * no estimate and leaves the fine value as it is. */
+static double richardson(ew_result *r, ew_state *q, double e, int have_ec, double ec,
+                         double vmin) {
+  q->error_eV = -1.0;
+  if (!r->opt.error_estimate || !have_ec) return e;
+  if (!(fabs(e - ec) <= EW_RICHARDSON_MAX_REL * (e - vmin))) {
+    r->unestimated++;
+    return e;
+  }
+  double corr = (e - ec) / 3.0;
+  q->error_eV = fabs(corr);
+  return e + corr;
+}
+
+/* where the state lives: the layer of largest probability (prob: scratch of n_layers) */
+static void locate(const ew_result *r, ew_state *q, const double *psi, double *prob) {
+  const ew_stack *st = r->stack;
+  const ew_grid *g = r->grid;
+  memset(prob, 0, st->n_layers * sizeof *prob);
+  for (size_t i = 0; i < g->n; i++) prob[g->layer[i]] += g->w[i] * psi[i] * psi[i];
+  size_t best = 0;
+  for (size_t k = 1; k < st->n_layers; k++)
+    if (prob[k] > prob[best]) best = k;
+  q->layer = best;
+  q->layer_probability = prob[best];
+  q->edge_eV = ew_layer_edge(&st->layers[best], q->band);
+  q->depth_eV = fabs(q->energy_eV - q->edge_eV);
+}
+
+/* in-plane masses of the count states of band b from state first on (see nonparabolic.h) */
+static int inplane_masses(ew_result *r, ew_band b, size_t first, size_t count) {
+  double *E = malloc((count ? count : 1) * 2 * sizeof *E), *m = E + (count ? count : 1);
+  if (!E) return 0;
+  for (size_t j = 0; j < count; j++) E[j] = r->states[first + j].energy_eV;
+  int ok = ew_inplane_masses(r->stack, r->grid, b, r->nonparabolic, count, E,
+                             r->psi + first * r->grid->n, m, r->mean_inv_mass + first);
+  for (size_t j = 0; ok && j < count; j++) r->states[first + j].inplane_mass = m[j];
+  free(E);
+  return ok;
+}
+
+/* The states of band b from its eigenpairs, appended from state *s on; the pencil p gives
+ * the residuals the eigensolver did not and the potential minimum. */
+static void band_states(ew_result *r, ew_band b, const ew_pencil *p, const ew_eigenpairs *fine,
+                        const double *coarse, size_t n_coarse, size_t *s, double *prob) {
+  const ew_stack *st = r->stack;
+  size_t n = r->grid->n, kept = 0;
+  double sign = b == EW_BAND_E ? 1.0 : -1.0; /* back to the electron energy scale */
+  for (size_t j = 0; j < fine->count; j++) {
+    const double *v = fine->vectors + j * n;
+    if (st->field_kV_cm != 0.0 &&
+        ew_bound_inner_probability(st, r->grid, v) < EW_BOUND_INNER_MIN) {
+      r->dropped[b]++;
+      continue;
+    }
+    ew_state *q = &r->states[*s];
+    kept++;
+    double *psi = r->psi + (*s)++ * n;
+    memcpy(psi, v, n * sizeof *psi);
+    fix_sign(psi, n);
+    double e = fine->values[j];
+    q->residual = fine->residual ? fine->residual[j] : ew_pencil_residual(p, psi, e);
+    q->flagged = !(q->residual <= r->opt.residual_tol);
+    q->band = b;
+    q->n = (int)kept;
+    snprintf(q->label, sizeof q->label, "%s%u", ew_band_name(b), (unsigned)(kept % 1000000u));
+    q->energy_eV = sign * richardson(r, q, e, j < n_coarse, j < n_coarse ? coarse[j] : 0.0,
+                                     p->vmin);
+    locate(r, q, psi, prob);
+  }
+  r->band_count[b] = kept;
+}
+
+ew_status ew_states_build(ew_result *r, const ew_eigenpairs fine[EW_BAND_COUNT],
+                          double *const coarse[EW_BAND_COUNT],
+                          const size_t n_coarse[EW_BAND_COUNT], ew_error *err) {
+  size_t total = 0, n = r->grid->n, s = 0;
+  for (int b = 0; b < EW_BAND_COUNT; b++) total += fine[b].count;
+  r->n_states = total;
+  r->states = calloc(total ? total : 1, sizeof *r->states);
+  r->psi = malloc((total ? total : 1) * n * sizeof *r->psi);
+  r->mean_inv_mass = malloc((total ? total : 1) * sizeof *r->mean_inv_mass);
+  double *prob = malloc(r->stack->n_layers * sizeof *prob);
+  if (!r->states || !r->psi || !r->mean_inv_mass || !prob) {
+    free(prob);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu states)", total);
+  }
+  ew_status rc = EW_OK;
+  for (int b = 0; b < EW_BAND_COUNT && rc == EW_OK; b++) {
+    ew_pencil *p = ew_pencil_build(r->grid, (ew_band)b);
+    if (!p) {
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (pencil)");
+      break;
+    }
+    band_states(r, (ew_band)b, p, &fine[b], coarse[b], n_coarse[b], &s, prob);
+    ew_pencil_free(p);
+    size_t kept = r->band_count[b];
+    if (!inplane_masses(r, (ew_band)b, s - kept, kept) ||
+        (r->dropped[b] &&
+         !ew_result_warn(r, "%zu %s state(s) of the field-tilted continuum (box states against "
+                         "the outer walls) were dropped; the listed states are the quasi-bound "
+                         "ones", r->dropped[b], ew_band_name((ew_band)b))))
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  }
+  free(prob);
+  r->n_states = s;
+  return rc;
+}
