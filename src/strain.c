@@ -2,13 +2,10 @@
  * Formulas, sign convention and sources: see strain.h. */
 #include "strain.h"
 
+#include "constants.h"
 #include "error.h"
 
 #include <math.h>
-
-#ifndef M_PI
-#define M_PI 3.14159265358979323846
-#endif
 
 static int positive(double v) { return isfinite(v) && v > 0.0; }
 
@@ -78,11 +75,11 @@ double ew_mb_critical_thickness_nm(double a_nm, double eps_par, double nu, int n
     return NAN;
   double f = fabs(eps_par);
   if (f == 0.0) return INFINITY;
-  const double alpha = M_PI / 3.0, lambda = M_PI / 3.0; /* 60° dislocations (MB 1974) */
+  const double alpha = EW_PI / 3.0, lambda = EW_PI / 3.0; /* 60° dislocations (MB 1974) */
   double bd = a_nm / sqrt(2.0);
   double ca = cos(alpha);
   /* h_c = A (ln(h_c/b_d) + 1), A = n b_d (1 − ν cos²α)/(8π f (1 + ν) cos λ)  (strain.h) */
-  double A = n_interfaces * bd * (1.0 - nu * ca * ca) / (8.0 * M_PI * f * (1.0 + nu) * cos(lambda));
+  double A = n_interfaces * bd * (1.0 - nu * ca * ca) / (8.0 * EW_PI * f * (1.0 + nu) * cos(lambda));
   if (A < bd) return 0.0; /* h/A − ln(h/b_d) ≥ 1 − ln(A/b_d) > 1: no root */
   /* g(h) = A (ln(h/b_d) + 1) is increasing and concave; g(A) ≥ A lies above the smaller
    * root, so the iteration decreases or increases monotonically to the larger root at the
