@@ -7,12 +7,12 @@
 #include "catalogue.h"
 
 #include "error.h"
+#include "text.h"
 
 #include <ctype.h>
 #include <dirent.h>
 #include <errno.h>
 #include <libconfig.h>
-#include <limits.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -92,42 +92,12 @@ void ew_catalogue_free(ew_catalogue *cat) {
   free(cat);
 }
 
-/* Weighted edit distance: insertion, deletion, substitution cost 2, a change of letter
- * case only 1, so "GaAS" is nearer to "GaAs" than to any name differing in a letter. */
-static int edit_distance(const char *a, const char *b) {
-  enum { MAXL = 127 };
-  size_t la = strlen(a), lb = strlen(b);
-  if (la > MAXL) la = MAXL;
-  if (lb > MAXL) lb = MAXL;
-  int row[MAXL + 1];
-  for (size_t j = 0; j <= lb; j++) row[j] = 2 * (int)j;
-  for (size_t i = 1; i <= la; i++) {
-    int diag = row[0];
-    row[0] = 2 * (int)i;
-    for (size_t j = 1; j <= lb; j++) {
-      unsigned char ca = (unsigned char)a[i - 1], cb = (unsigned char)b[j - 1];
-      int sub = ca == cb ? 0 : (tolower(ca) == tolower(cb) ? 1 : 2);
-      int best = diag + sub;
-      if (row[j] + 2 < best) best = row[j] + 2;
-      if (row[j - 1] + 2 < best) best = row[j - 1] + 2;
-      diag = row[j];
-      row[j] = best;
-    }
-  }
-  return row[lb];
-}
-
-static const char *nearest_key(const char *key) {
-  const char *best = param_keys[0];
-  int bd = INT_MAX;
-  for (int p = 0; p < EW_P_COUNT; p++) {
-    int d = edit_distance(key, param_keys[p]);
-    if (d < bd) {
-      bd = d;
-      best = param_keys[p];
-    }
-  }
-  return best;
+/* " (did you mean 'NEAR'?)" for a message, or "" when the rule of text.h finds nothing
+ * close enough. */
+static const char *mean_text(const char *near, char *buf, size_t size) {
+  if (!near) return "";
+  snprintf(buf, size, " (did you mean '%s'?)", near);
+  return buf;
 }
 
 static int key_index(const char *key) {
@@ -174,17 +144,11 @@ const char *ew_catalogue_y_is(const ew_catalogue *cat, size_t i) {
 }
 
 const char *ew_catalogue_nearest(const ew_catalogue *cat, const char *name) {
-  if (!cat || !name || cat->n == 0) return NULL;
-  const char *best = NULL;
-  int bd = INT_MAX;
-  for (size_t i = 0; i < cat->n; i++) {
-    int d = edit_distance(name, cat->e[i].name);
-    if (d < bd) {
-      bd = d;
-      best = cat->e[i].name;
-    }
-  }
-  return best;
+  if (!cat || !name) return NULL;
+  ew_suggestion sg;
+  ew_suggest_init(&sg, name);
+  for (size_t i = 0; i < cat->n; i++) ew_suggest_offer(&sg, cat->e[i].name);
+  return ew_suggest_best(&sg);
 }
 
 /* element symbols of a name (capital + lower-case letters), sorted; 0 when it is not made
@@ -285,10 +249,11 @@ static ew_status read_params(const config_setting_t *grp, int bowing, const char
     const char *key = config_setting_name(ps);
     int ln = line_of(ps);
     int p = key_index(key);
+    char mean[96];
     if (p < 0)
-      return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
-                     "unknown parameter '%s' in %s (did you mean '%s'?)", key, what,
-                     nearest_key(key));
+      return ew_fail(err, EW_ERR_CATALOGUE, path, ln, "unknown parameter '%s' in %s%s", key,
+                     what, mean_text(ew_text_nearest(key, param_keys, EW_P_COUNT), mean,
+                                     sizeof mean));
     if (bowing && ew_param_no_bowing((ew_param)p))
       return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
                      "no bowing allowed for '%s': %s", key,
@@ -404,22 +369,15 @@ static ew_status read_file(const char *path, ew_cat_entry *e, ew_error *err) {
     for (size_t j = 0; j < sizeof top_keys / sizeof top_keys[0]; j++)
       if (strcmp(key, top_keys[j]) == 0) known = 1;
     if (!known) {
-      const char *best = top_keys[0];
-      int bd = INT_MAX;
-      for (size_t j = 0; j < sizeof top_keys / sizeof top_keys[0]; j++) {
-        int d = edit_distance(key, top_keys[j]);
-        if (d < bd) {
-          bd = d;
-          best = top_keys[j];
-        }
-      }
+      char mean[96];
       int p = key_index(key);
       if (p >= 0)
         st = ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
                      "parameter '%s' must be inside params = { ... } (or bowing)", key);
       else
-        st = ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
-                     "unknown setting '%s' (did you mean '%s'?)", key, best);
+        st = ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s), "unknown setting '%s'%s", key,
+                     mean_text(ew_text_nearest(key, top_keys, sizeof top_keys / sizeof *top_keys),
+                               mean, sizeof mean));
       goto done;
     }
   }
@@ -580,11 +538,11 @@ static ew_status resolve_quaternary(ew_catalogue *cat, ew_cat_entry *e, ew_error
   for (int k = 0; k < e->n_corner; k++) {
     long j = ew_catalogue_find(cat, e->corner[k]);
     if (j < 0) {
-      const char *near = ew_catalogue_nearest(cat, e->corner[k]);
+      char mean[96];
       return ew_fail(err, EW_ERR_CATALOGUE, e->path, e->corners_line,
-                     "corner binary '%s' of quaternary '%s' is not in the catalogue (did you "
-                     "mean '%s'?)",
-                     e->corner[k], e->name, near ? near : "?");
+                     "corner binary '%s' of quaternary '%s' is not in the catalogue%s",
+                     e->corner[k], e->name,
+                     mean_text(ew_catalogue_nearest(cat, e->corner[k]), mean, sizeof mean));
     }
     if (cat->e[j].kind != EW_KIND_BINARY)
       return ew_fail(err, EW_ERR_CATALOGUE, e->path, e->corners_line,
@@ -733,11 +691,10 @@ static ew_status load_dir(const char *dir, ew_catalogue **out, ew_error *err) {
     for (int k = 0; k < 2 && st == EW_OK; k++) {
       long j = ew_catalogue_find(cat, end[k]);
       if (j < 0) {
-        const char *near = ew_catalogue_nearest(cat, end[k]);
+        char mean[96];
         st = ew_fail(err, EW_ERR_CATALOGUE, e->path, lines[k],
-                     "end binary '%s' of alloy '%s' is not in the catalogue (did you mean "
-                     "'%s'?)",
-                     end[k], e->name, near ? near : "?");
+                     "end binary '%s' of alloy '%s' is not in the catalogue%s", end[k], e->name,
+                     mean_text(ew_catalogue_nearest(cat, end[k]), mean, sizeof mean));
       } else if (cat->e[j].is_alloy) {
         st = ew_fail(err, EW_ERR_CATALOGUE, e->path, lines[k],
                      "end '%s' of alloy '%s' must be a binary, not an alloy", end[k], e->name);

@@ -60,7 +60,8 @@ const char *ew_catalogue_x_is(const ew_catalogue *cat, size_t i);
 const char *ew_catalogue_y_is(const ew_catalogue *cat, size_t i);
 /* index of name (exact match, case-sensitive) or -1 */
 long ew_catalogue_find(const ew_catalogue *cat, const char *name);
-/* The catalogue name closest to name (edit distance), for "did you mean" messages. */
+/* The catalogue name closest to name by the "did you mean" rule of text.h; NULL when none
+ * is close enough. */
 const char *ew_catalogue_nearest(const ew_catalogue *cat, const char *name);
 /* Index of the catalogue entry made of the same elements as name in another order (InAlAs
  * → AlInAs, GaInAsP → InGaAsP), or -1: alloy names are written both ways in the trade, and

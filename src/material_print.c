@@ -4,20 +4,13 @@
 
 #include "alloy.h"
 #include "error.h"
+#include "text.h"
 
 #include <math.h>
 
-/* Characters (UTF-8 code points) in s, for column alignment with "Å", "Γ". */
-static int text_width(const char *s) {
-  int w = 0;
-  for (; *s; s++)
-    if (((unsigned char)*s & 0xC0) != 0x80) w++;
-  return w;
-}
-
 static void put_padded(FILE *out, const char *s, int width) {
   fputs(s, out);
-  for (int w = text_width(s); w < width; w++) fputc(' ', out);
+  for (int w = ew_text_width(s); w < width; w++) fputc(' ', out);
 }
 
 static void put_row(FILE *out, const char *label, double v, const char *unit) {
@@ -173,7 +166,7 @@ void ew_catalogue_print(const ew_catalogue *cat, FILE *out) {
   if (!cat || !out) return;
   int w = 8, kw = 8;
   for (size_t i = 0; i < cat->n; i++) {
-    int l = text_width(cat->e[i].name);
+    int l = ew_text_width(cat->e[i].name);
     if (l + 2 > w) w = l + 2;
     if (cat->e[i].kind == EW_KIND_QUATERNARY) kw = 12;
   }

@@ -15,6 +15,7 @@
 #include <string.h>
 
 #include "error.h"
+#include "text.h"
 
 /* Plausibility limits (see the header of this file for why they exist). */
 #define MAX_LAYER_NM 10000.0
@@ -105,48 +106,6 @@ static int line_of(const config_setting_t *s) {
   return s ? (int)config_setting_source_line(s) : 0;
 }
 
-/* Case-insensitive Levenshtein distance, so "Gaas" still finds "GaAs".  Names are at most a
- * few dozen characters; longer inputs are clipped (they get no useful suggestion anyway). */
-static size_t edit_distance(const char *a, const char *b) {
-  enum { N = 128 };
-  size_t la = strlen(a), lb = strlen(b);
-  if (la > N - 1) la = N - 1;
-  if (lb > N - 1) lb = N - 1;
-  size_t row[N];
-  for (size_t j = 0; j <= lb; j++) row[j] = j;
-  for (size_t i = 1; i <= la; i++) {
-    size_t diag = row[0];
-    row[0] = i;
-    for (size_t j = 1; j <= lb; j++) {
-      size_t up = row[j];
-      int same = tolower((unsigned char)a[i - 1]) == tolower((unsigned char)b[j - 1]);
-      size_t best = diag + (same ? 0 : 1);
-      if (up + 1 < best) best = up + 1;
-      if (row[j - 1] + 1 < best) best = row[j - 1] + 1;
-      row[j] = best;
-      diag = up;
-    }
-  }
-  return row[lb];
-}
-
-/* A suggestion is only useful when it is plausibly what was meant. */
-static int close_enough(const char *typed, size_t d) {
-  size_t len = strlen(typed);
-  size_t limit = len / 3 > 2 ? len / 3 : 2;
-  return d <= limit;
-}
-
-static const char *nearest_key(const char *name, const char *const *keys, size_t n) {
-  const char *best = NULL;
-  size_t best_d = (size_t)-1;
-  for (size_t i = 0; i < n; i++) {
-    size_t d = edit_distance(name, keys[i]);
-    if (d < best_d) best_d = d, best = keys[i];
-  }
-  return best && close_enough(name, best_d) ? best : NULL;
-}
-
 static void join_keys(char *buf, size_t size, const char *const *keys, size_t n) {
   size_t used = 0;
   buf[0] = '\0';
@@ -168,7 +127,7 @@ static ew_status check_keys(const reader *r, const config_setting_t *group,
     size_t k = 0;
     while (k < n && strcmp(name, keys[k]) != 0) k++;
     if (k < n) continue;
-    const char *hint = nearest_key(name, keys, n);
+    const char *hint = ew_text_nearest(name, keys, n);
     if (hint) return fail(r, line_of(s), "unknown key '%s' %s; did you mean '%s'?", name, where, hint);
     char list[256];
     join_keys(list, sizeof list, keys, n);
@@ -532,20 +491,13 @@ static ew_status unknown_material(const reader *r, int line, const char *name, c
     ew_catalogue_hint(r->cat, name, hint, sizeof hint);
     return fail(r, line, "unknown material '%s' in layer '%s'; %s", name, layer, hint);
   }
-  const char *best = NULL;
-  size_t best_d = (size_t)-1;
-  for (size_t i = 0; i < r->n_umat; i++) {
-    size_t d = edit_distance(name, r->umat[i].name);
-    if (d < best_d) best_d = d, best = r->umat[i].name;
-  }
+  ew_suggestion sg;
+  ew_suggest_init(&sg, name);
+  for (size_t i = 0; i < r->n_umat; i++) ew_suggest_offer(&sg, r->umat[i].name);
   size_t nc = r->cat ? ew_catalogue_count(r->cat) : 0;
-  for (size_t i = 0; i < nc; i++) {
-    const char *c = ew_catalogue_name(r->cat, i);
-    if (!c) continue;
-    size_t d = edit_distance(name, c);
-    if (d < best_d) best_d = d, best = c;
-  }
-  if (best && close_enough(name, best_d))
+  for (size_t i = 0; i < nc; i++) ew_suggest_offer(&sg, ew_catalogue_name(r->cat, i));
+  const char *best = ew_suggest_best(&sg);
+  if (best)
     return fail(r, line, "unknown material '%s' in layer '%s'; did you mean '%s'?", name,
                 layer, best);
   if (!r->cat)

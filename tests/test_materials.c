@@ -234,6 +234,10 @@ static void test_bad_inputs(void **state) {
   assert_string_equal(ew_catalogue_nearest(cat, "GaAS"), "GaAs");
   assert_string_equal(ew_catalogue_nearest(cat, "AlGaAS"), "AlGaAs");
   assert_string_equal(ew_catalogue_nearest(cat, "Alas"), "AlAs");
+  /* the one "did you mean" rule (src/text.h): nothing within max(2, len/3) edits, no hint */
+  assert_null(ew_catalogue_nearest(cat, "Kryptonite"));
+  assert_int_equal(ew_material_bands(cat, "Kryptonite", 0, 300, &b, &err), EW_ERR_INPUT);
+  assert_string_equal(err.message, "unknown material 'Kryptonite'");
 }
 
 static void test_print(void **state) {
