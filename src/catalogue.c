@@ -235,6 +235,43 @@ static ew_status get_string(const config_setting_t *root, const char *key, int r
   return EW_OK;
 }
 
+/* The fields of one parameter group KEY = { value = ...; [per_x = ...;] source = "..."; }. */
+static ew_status read_param_fields(const config_setting_t *ps, const char *key, int p,
+                                   int bowing, const char *path, ew_cat_entry *e,
+                                   int *have_value, ew_error *err) {
+  int m = config_setting_length(ps);
+  for (int j = 0; j < m; j++) {
+    const config_setting_t *f = config_setting_get_elem(ps, (unsigned)j);
+    const char *fk = config_setting_name(f);
+    int fl = line_of(f);
+    if (strcmp(fk, "value") == 0 || (bowing && strcmp(fk, "per_x") == 0)) {
+      double v;
+      if (!get_number(f, &v))
+        return ew_fail(err, EW_ERR_CATALOGUE, path, fl, "%s.%s must be a number", key, fk);
+      if (!isfinite(v))
+        return ew_fail(err, EW_ERR_CATALOGUE, path, fl, "%s.%s is not finite", key, fk);
+      if (fk[0] == 'v') {
+        e->v[p] = v;
+        *have_value = 1;
+      } else {
+        e->per_x[p] = v;
+      }
+    } else if (strcmp(fk, "source") == 0) {
+      const char *t = config_setting_get_string(f);
+      if (!t || !t[0])
+        return ew_fail(err, EW_ERR_CATALOGUE, path, fl, "%s.source must be a non-empty string",
+                       key);
+      e->source[p] = dup_str(t);
+      if (!e->source[p]) return ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
+    } else {
+      return ew_fail(err, EW_ERR_CATALOGUE, path, fl,
+                     "unknown field '%s' in %s (expected value%s, source)", fk, key,
+                     bowing ? ", per_x" : "");
+    }
+  }
+  return EW_OK;
+}
+
 /* Read the group "params" (binary, bowing = 0) or "bowing" (alloy, bowing = 1). */
 static ew_status read_params(const config_setting_t *grp, int bowing, const char *path,
                              ew_cat_entry *e, ew_error *err) {
@@ -264,36 +301,8 @@ static ew_status read_params(const config_setting_t *grp, int bowing, const char
       return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
                      "'%s' must be a group { value = ...; source = \"...\"; }", key);
     int have_value = 0;
-    int m = config_setting_length(ps);
-    for (int j = 0; j < m; j++) {
-      config_setting_t *f = config_setting_get_elem(ps, (unsigned)j);
-      const char *fk = config_setting_name(f);
-      int fl = line_of(f);
-      if (strcmp(fk, "value") == 0 || (bowing && strcmp(fk, "per_x") == 0)) {
-        double v;
-        if (!get_number(f, &v))
-          return ew_fail(err, EW_ERR_CATALOGUE, path, fl, "%s.%s must be a number", key, fk);
-        if (!isfinite(v))
-          return ew_fail(err, EW_ERR_CATALOGUE, path, fl, "%s.%s is not finite", key, fk);
-        if (fk[0] == 'v') {
-          e->v[p] = v;
-          have_value = 1;
-        } else {
-          e->per_x[p] = v;
-        }
-      } else if (strcmp(fk, "source") == 0) {
-        const char *t = config_setting_get_string(f);
-        if (!t || !t[0])
-          return ew_fail(err, EW_ERR_CATALOGUE, path, fl,
-                         "%s.source must be a non-empty string", key);
-        e->source[p] = dup_str(t);
-        if (!e->source[p]) return ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
-      } else {
-        return ew_fail(err, EW_ERR_CATALOGUE, path, fl,
-                       "unknown field '%s' in %s (expected value%s, source)", fk, key,
-                       bowing ? ", per_x" : "");
-      }
-    }
+    ew_status st = read_param_fields(ps, key, p, bowing, path, e, &have_value, err);
+    if (st) return st;
     if (!have_value)
       return ew_fail(err, EW_ERR_CATALOGUE, path, ln, "%s has no value", key);
     if (!e->source[p])
@@ -339,52 +348,55 @@ static ew_status check_binary(const ew_cat_entry *e, const char *path, int root_
   return EW_OK;
 }
 
-static ew_status read_file(const char *path, ew_cat_entry *e, ew_error *err) {
-  config_t cfg;
-  config_init(&cfg);
-  ew_status st = EW_OK;
-  if (!config_read_file(&cfg, path)) {
-    if (config_error_type(&cfg) == CONFIG_ERR_FILE_IO)
-      st = ew_fail(err, EW_ERR_CATALOGUE, path, 0, "cannot read catalogue file");
-    else
-      st = ew_fail(err, EW_ERR_CATALOGUE, path, config_error_line(&cfg), "syntax error: %s",
-                   config_error_text(&cfg) ? config_error_text(&cfg) : "?");
-    config_destroy(&cfg);
-    return st;
-  }
-  config_setting_t *root = config_root_setting(&cfg);
-  e->path = dup_str(path);
-  if (!e->path) {
-    st = ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
-    goto done;
-  }
-  static const char *const top_keys[] = {"name",   "kind",   "description", "params",
-                                         "first",  "second", "x_is",        "bowing",
-                                         "y_is",   "scheme", "binaries"};
-  int n = config_setting_length(root);
-  for (int k = 0; k < n; k++) {
-    config_setting_t *s = config_setting_get_elem(root, (unsigned)k);
-    const char *key = config_setting_name(s);
-    int known = 0;
-    for (size_t j = 0; j < sizeof top_keys / sizeof top_keys[0]; j++)
-      if (strcmp(key, top_keys[j]) == 0) known = 1;
-    if (!known) {
-      char mean[96];
-      int p = key_index(key);
-      if (p >= 0)
-        st = ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
-                     "parameter '%s' must be inside params = { ... } (or bowing)", key);
-      else
-        st = ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s), "unknown setting '%s'%s", key,
-                     mean_text(ew_text_nearest(key, top_keys, sizeof top_keys / sizeof *top_keys),
-                               mean, sizeof mean));
-      goto done;
+#define COUNT(a) (sizeof(a) / sizeof((a)[0]))
+
+/* The first of keys that root holds (*which = its key), or NULL. */
+static const config_setting_t *first_present(const config_setting_t *root,
+                                             const char *const *keys, size_t n,
+                                             const char **which) {
+  for (size_t j = 0; j < n; j++) {
+    const config_setting_t *s = config_setting_get_member(root, keys[j]);
+    if (s) {
+      *which = keys[j];
+      return s;
     }
   }
+  return NULL;
+}
+
+static const char *const top_keys[] = {"name", "kind",   "description", "params",
+                                       "first", "second", "x_is",        "bowing",
+                                       "y_is", "scheme", "binaries"};
+
+/* Every top-level setting must be one of top_keys (parameters belong in a group). */
+static ew_status check_top_keys(const config_setting_t *root, const char *path,
+                                ew_error *err) {
+  int n = config_setting_length(root);
+  for (int k = 0; k < n; k++) {
+    const config_setting_t *s = config_setting_get_elem(root, (unsigned)k);
+    const char *key = config_setting_name(s);
+    size_t j = 0;
+    while (j < COUNT(top_keys) && strcmp(key, top_keys[j]) != 0) j++;
+    if (j < COUNT(top_keys)) continue;
+    char mean[96];
+    if (key_index(key) >= 0)
+      return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                     "parameter '%s' must be inside params = { ... } (or bowing)", key);
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s), "unknown setting '%s'%s", key,
+                   mean_text(ew_text_nearest(key, top_keys, COUNT(top_keys)), mean,
+                             sizeof mean));
+  }
+  return EW_OK;
+}
+
+/* name, kind and description (required except for ternary alloys). */
+static ew_status read_kind(const config_setting_t *root, const char *path, ew_cat_entry *e,
+                           ew_error *err) {
   char *kind = NULL;
   int kind_line = 0;
-  if ((st = get_string(root, "name", 1, path, &e->name, &e->name_line, err))) goto done;
-  if ((st = get_string(root, "kind", 1, path, &kind, &kind_line, err))) goto done;
+  ew_status st;
+  if ((st = get_string(root, "name", 1, path, &e->name, &e->name_line, err))) return st;
+  if ((st = get_string(root, "kind", 1, path, &kind, &kind_line, err))) return st;
   if (strcmp(kind, "binary") == 0) {
     e->kind = EW_KIND_BINARY;
   } else if (strcmp(kind, "alloy") == 0) {
@@ -395,117 +407,134 @@ static ew_status read_file(const char *path, ew_cat_entry *e, ew_error *err) {
     st = ew_fail(err, EW_ERR_CATALOGUE, path, kind_line,
                  "kind must be \"binary\", \"alloy\" or \"quaternary\", not \"%s\"", kind);
     free(kind);
-    goto done;
+    return st;
   }
   free(kind);
   e->is_alloy = e->kind != EW_KIND_BINARY;
-  if ((st = get_string(root, "description", e->kind != EW_KIND_ALLOY, path, &e->description,
-                       NULL, err)))
-    goto done;
+  return get_string(root, "description", e->kind != EW_KIND_ALLOY, path, &e->description,
+                    NULL, err);
+}
 
-  static const char *const binary_only[] = {"params"};
-  static const char *const alloy_only[] = {"first", "second", "x_is", "bowing"};
-  static const char *const quaternary_only[] = {"y_is", "scheme", "binaries"};
-  if (e->kind != EW_KIND_QUATERNARY)
-    for (size_t j = 0; j < sizeof quaternary_only / sizeof quaternary_only[0]; j++) {
-      config_setting_t *s = config_setting_get_member(root, quaternary_only[j]);
-      if (s) {
-        st = ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
-                     "'%s' belongs to quaternaries (kind = \"quaternary\")",
-                     quaternary_only[j]);
-        goto done;
-      }
-    }
-  if (e->kind == EW_KIND_QUATERNARY) {
-    static const char *const refused[] = {"params", "first", "second", "bowing"};
-    for (size_t j = 0; j < sizeof refused / sizeof refused[0]; j++) {
-      config_setting_t *s = config_setting_get_member(root, refused[j]);
-      if (s) {
-        st = ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
-                     "a quaternary takes its values from its corner binaries and the bowings "
-                     "of the ternaries between them: '%s' is not allowed",
-                     refused[j]);
-        goto done;
-      }
-    }
-    if ((st = get_string(root, "x_is", 1, path, &e->x_is, NULL, err))) goto done;
-    if ((st = get_string(root, "y_is", 1, path, &e->y_is, NULL, err))) goto done;
-    char *scheme = NULL;
-    int scheme_line = 0;
-    if ((st = get_string(root, "scheme", 1, path, &scheme, &scheme_line, err))) goto done;
-    if (strcmp(scheme, "square") == 0) {
-      e->scheme = EW_SCHEME_SQUARE;
-      e->n_corner = 4;
-    } else if (strcmp(scheme, "triangle") == 0) {
-      e->scheme = EW_SCHEME_TRIANGLE;
-      e->n_corner = 3;
-    } else {
-      st = ew_fail(err, EW_ERR_CATALOGUE, path, scheme_line,
-                   "scheme must be \"square\" (A(x)B(1-x)C(y)D(1-y)) or \"triangle\" "
-                   "(A(x)B(y)C(1-x-y)D), not \"%s\"",
-                   scheme);
-      free(scheme);
-      goto done;
-    }
+/* scheme = "square" | "triangle" and the corner binaries of a quaternary. */
+static ew_status read_corners(const config_setting_t *root, const char *path,
+                              ew_cat_entry *e, ew_error *err) {
+  char *scheme = NULL;
+  int scheme_line = 0;
+  ew_status st = get_string(root, "scheme", 1, path, &scheme, &scheme_line, err);
+  if (st) return st;
+  if (strcmp(scheme, "square") == 0) {
+    e->scheme = EW_SCHEME_SQUARE;
+    e->n_corner = 4;
+  } else if (strcmp(scheme, "triangle") == 0) {
+    e->scheme = EW_SCHEME_TRIANGLE;
+    e->n_corner = 3;
+  } else {
+    st = ew_fail(err, EW_ERR_CATALOGUE, path, scheme_line,
+                 "scheme must be \"square\" (A(x)B(1-x)C(y)D(1-y)) or \"triangle\" "
+                 "(A(x)B(y)C(1-x-y)D), not \"%s\"",
+                 scheme);
     free(scheme);
-    e->n_edge = e->scheme == EW_SCHEME_SQUARE ? 4 : 3;
-    config_setting_t *bl = config_setting_get_member(root, "binaries");
-    if (!bl) {
-      st = ew_fail(err, EW_ERR_CATALOGUE, path, 0, "missing required setting 'binaries'");
-      goto done;
-    }
-    e->corners_line = line_of(bl);
-    int nb = config_setting_length(bl);
-    if (!(config_setting_is_array(bl) || config_setting_is_list(bl)) || nb != e->n_corner) {
-      st = ew_fail(err, EW_ERR_CATALOGUE, path, e->corners_line,
+    return st;
+  }
+  free(scheme);
+  e->n_edge = e->scheme == EW_SCHEME_SQUARE ? 4 : 3;
+  const config_setting_t *bl = config_setting_get_member(root, "binaries");
+  if (!bl) return ew_fail(err, EW_ERR_CATALOGUE, path, 0, "missing required setting 'binaries'");
+  e->corners_line = line_of(bl);
+  int nb = config_setting_length(bl);
+  if (!(config_setting_is_array(bl) || config_setting_is_list(bl)) || nb != e->n_corner)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, e->corners_line,
                    "binaries must be an array of %d names: %s", e->n_corner,
                    e->scheme == EW_SCHEME_SQUARE ? "[AC, AD, BC, BD] for A(x)B(1-x)C(y)D(1-y)"
-                                              : "[AD, BD, CD] for A(x)B(y)C(1-x-y)D");
-      goto done;
-    }
-    for (int k = 0; k < nb; k++) {
-      const char *t = config_setting_get_string_elem(bl, (unsigned)k);
-      if (!t || !t[0]) {
-        st = ew_fail(err, EW_ERR_CATALOGUE, path, e->corners_line,
+                                                 : "[AD, BD, CD] for A(x)B(y)C(1-x-y)D");
+  for (int k = 0; k < nb; k++) {
+    const char *t = config_setting_get_string_elem(bl, (unsigned)k);
+    if (!t || !t[0])
+      return ew_fail(err, EW_ERR_CATALOGUE, path, e->corners_line,
                      "binaries[%d] must be a material name", k);
-        goto done;
-      }
-      if (!(e->corner[k] = dup_str(t))) {
-        st = ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
-        goto done;
-      }
-    }
-  } else if (e->is_alloy) {
-    config_setting_t *s = config_setting_get_member(root, binary_only[0]);
-    if (s) {
-      st = ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
-                   "an alloy takes its parameters from its end binaries: use bowing = { ... }");
-      goto done;
-    }
-    if ((st = get_string(root, "first", 1, path, &e->first, &e->first_line, err))) goto done;
-    if ((st = get_string(root, "second", 1, path, &e->second, &e->second_line, err)))
-      goto done;
-    if ((st = get_string(root, "x_is", 1, path, &e->x_is, NULL, err))) goto done;
-    config_setting_t *b = config_setting_get_member(root, "bowing");
-    if (b && (st = read_params(b, 1, path, e, err))) goto done;
-  } else {
-    for (size_t j = 0; j < sizeof alloy_only / sizeof alloy_only[0]; j++) {
-      config_setting_t *s = config_setting_get_member(root, alloy_only[j]);
-      if (s) {
-        st = ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
-                     "'%s' belongs to alloys, not to a binary", alloy_only[j]);
-        goto done;
-      }
-    }
-    config_setting_t *p = config_setting_get_member(root, "params");
-    if (!p) {
-      st = ew_fail(err, EW_ERR_CATALOGUE, path, 0, "binary without params = { ... }");
-      goto done;
-    }
-    if ((st = read_params(p, 0, path, e, err))) goto done;
-    if ((st = check_binary(e, path, line_of(p), err))) goto done;
+    if (!(e->corner[k] = dup_str(t))) return ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
   }
-done:
+  return EW_OK;
+}
+
+static ew_status read_quaternary(const config_setting_t *root, const char *path,
+                                 ew_cat_entry *e, ew_error *err) {
+  static const char *const refused[] = {"params", "first", "second", "bowing"};
+  const char *which;
+  const config_setting_t *s = first_present(root, refused, COUNT(refused), &which);
+  if (s)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                   "a quaternary takes its values from its corner binaries and the bowings "
+                   "of the ternaries between them: '%s' is not allowed",
+                   which);
+  ew_status st;
+  if ((st = get_string(root, "x_is", 1, path, &e->x_is, NULL, err))) return st;
+  if ((st = get_string(root, "y_is", 1, path, &e->y_is, NULL, err))) return st;
+  return read_corners(root, path, e, err);
+}
+
+static ew_status read_alloy(const config_setting_t *root, const char *path, ew_cat_entry *e,
+                            ew_error *err) {
+  const config_setting_t *s = config_setting_get_member(root, "params");
+  if (s)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                   "an alloy takes its parameters from its end binaries: use bowing = { ... }");
+  ew_status st;
+  if ((st = get_string(root, "first", 1, path, &e->first, &e->first_line, err))) return st;
+  if ((st = get_string(root, "second", 1, path, &e->second, &e->second_line, err))) return st;
+  if ((st = get_string(root, "x_is", 1, path, &e->x_is, NULL, err))) return st;
+  const config_setting_t *b = config_setting_get_member(root, "bowing");
+  return b ? read_params(b, 1, path, e, err) : EW_OK;
+}
+
+static ew_status read_binary(const config_setting_t *root, const char *path, ew_cat_entry *e,
+                             ew_error *err) {
+  static const char *const alloy_only[] = {"first", "second", "x_is", "bowing"};
+  const char *which;
+  const config_setting_t *s = first_present(root, alloy_only, COUNT(alloy_only), &which);
+  if (s)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                   "'%s' belongs to alloys, not to a binary", which);
+  const config_setting_t *p = config_setting_get_member(root, "params");
+  if (!p) return ew_fail(err, EW_ERR_CATALOGUE, path, 0, "binary without params = { ... }");
+  ew_status st = read_params(p, 0, path, e, err);
+  return st ? st : check_binary(e, path, line_of(p), err);
+}
+
+/* One parsed catalogue file into e. */
+static ew_status read_entry(const config_setting_t *root, const char *path, ew_cat_entry *e,
+                            ew_error *err) {
+  ew_status st;
+  if ((st = check_top_keys(root, path, err))) return st;
+  if ((st = read_kind(root, path, e, err))) return st;
+  if (e->kind != EW_KIND_QUATERNARY) {
+    static const char *const quaternary_only[] = {"y_is", "scheme", "binaries"};
+    const char *which;
+    const config_setting_t *s = first_present(root, quaternary_only, COUNT(quaternary_only), &which);
+    if (s)
+      return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                     "'%s' belongs to quaternaries (kind = \"quaternary\")", which);
+  }
+  if (e->kind == EW_KIND_QUATERNARY) return read_quaternary(root, path, e, err);
+  if (e->kind == EW_KIND_ALLOY) return read_alloy(root, path, e, err);
+  return read_binary(root, path, e, err);
+}
+
+static ew_status read_file(const char *path, ew_cat_entry *e, ew_error *err) {
+  config_t cfg;
+  config_init(&cfg);
+  ew_status st;
+  if (!config_read_file(&cfg, path)) {
+    if (config_error_type(&cfg) == CONFIG_ERR_FILE_IO)
+      st = ew_fail(err, EW_ERR_CATALOGUE, path, 0, "cannot read catalogue file");
+    else
+      st = ew_fail(err, EW_ERR_CATALOGUE, path, config_error_line(&cfg), "syntax error: %s",
+                   config_error_text(&cfg) ? config_error_text(&cfg) : "?");
+  } else if (!(e->path = dup_str(path))) {
+    st = ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
+  } else {
+    st = read_entry(config_root_setting(&cfg), path, e, err);
+  }
   config_destroy(&cfg);
   return st;
 }
@@ -620,92 +649,103 @@ static int has_catalogue(const char *dir) {
   return found;
 }
 
-static ew_status load_dir(const char *dir, ew_catalogue **out, ew_error *err) {
+/* The *.cfg file names of dir, sorted (so that error reports and the list do not depend on
+ * readdir order); *names is owned by the caller even on failure. */
+static ew_status list_cfg_files(const char *dir, char ***names, size_t *nn, ew_error *err) {
   DIR *d = opendir(dir);
   if (!d)
     return ew_fail(err, EW_ERR_CATALOGUE, dir, 0, "cannot open material directory: %s",
                    strerror(errno));
-  char **names = NULL;
-  size_t nn = 0, cap = 0;
+  size_t cap = 0;
   ew_status st = EW_OK;
   struct dirent *de;
   while ((de = readdir(d)) != NULL) {
     if (!is_cfg_name(de->d_name)) continue;
-    if (nn == cap) {
+    if (*nn == cap) {
       size_t nc = cap ? 2 * cap : 32;
-      char **t = realloc(names, nc * sizeof *t);
+      char **t = realloc(*names, nc * sizeof *t);
       if (!t) {
         st = ew_fail(err, EW_ERR_NOMEM, dir, 0, "out of memory");
         break;
       }
-      names = t;
+      *names = t;
       cap = nc;
     }
-    if (!(names[nn] = dup_str(de->d_name))) {
+    if (!((*names)[*nn] = dup_str(de->d_name))) {
       st = ew_fail(err, EW_ERR_NOMEM, dir, 0, "out of memory");
       break;
     }
-    nn++;
+    (*nn)++;
   }
   closedir(d);
-  ew_catalogue *cat = NULL;
-  if (st == EW_OK && nn == 0)
+  if (st == EW_OK && *nn == 0)
     st = ew_fail(err, EW_ERR_CATALOGUE, dir, 0, "no *.cfg material files in this directory");
+  if (st == EW_OK) qsort(*names, *nn, sizeof **names, cmp_str);
+  return st;
+}
+
+/* Read every file into cat->e (room for nn entries); names must be unique. */
+static ew_status read_files(ew_catalogue *cat, const char *dir, char *const *names, size_t nn,
+                            ew_error *err) {
+  for (size_t i = 0; i < nn; i++) {
+    char path[EW_CATALOGUE_PATH_MAX];
+    if (snprintf(path, sizeof path, "%s/%s", dir, names[i]) >= (int)sizeof path)
+      return ew_fail(err, EW_ERR_CATALOGUE, dir, 0, "path too long: %s", names[i]);
+    ew_status st = read_file(path, &cat->e[cat->n], err);
+    cat->n++; /* counted even on failure so that free releases what was read */
+    if (st) return st;
+    const ew_cat_entry *ne = &cat->e[cat->n - 1];
+    for (size_t j = 0; j + 1 < cat->n; j++)
+      if (strcmp(cat->e[j].name, ne->name) == 0)
+        return ew_fail(err, EW_ERR_CATALOGUE, ne->path, ne->name_line,
+                       "duplicate material name '%s' (already defined in %s:%d)", ne->name,
+                       cat->e[j].path, cat->e[j].name_line);
+  }
+  return EW_OK;
+}
+
+/* The end binaries of ternary alloy e: two distinct binaries of the catalogue. */
+static ew_status resolve_alloy(const ew_catalogue *cat, ew_cat_entry *e, ew_error *err) {
+  const char *end[2] = {e->first, e->second};
+  int lines[2] = {e->first_line, e->second_line};
+  size_t *idx[2] = {&e->i_first, &e->i_second};
+  for (int k = 0; k < 2; k++) {
+    long j = ew_catalogue_find(cat, end[k]);
+    char mean[96];
+    if (j < 0)
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, lines[k],
+                     "end binary '%s' of alloy '%s' is not in the catalogue%s", end[k], e->name,
+                     mean_text(ew_catalogue_nearest(cat, end[k]), mean, sizeof mean));
+    if (cat->e[j].is_alloy)
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, lines[k],
+                     "end '%s' of alloy '%s' must be a binary, not an alloy", end[k], e->name);
+    *idx[k] = (size_t)j;
+  }
+  if (e->i_first == e->i_second)
+    return ew_fail(err, EW_ERR_CATALOGUE, e->path, e->second_line,
+                   "alloy '%s' has the same end binary twice", e->name);
+  return EW_OK;
+}
+
+static ew_status load_dir(const char *dir, ew_catalogue **out, ew_error *err) {
+  char **names = NULL;
+  size_t nn = 0;
+  ew_catalogue *cat = NULL;
+  ew_status st = list_cfg_files(dir, &names, &nn, err);
   if (st == EW_OK && !(cat = calloc(1, sizeof *cat)))
     st = ew_fail(err, EW_ERR_NOMEM, dir, 0, "out of memory");
   if (st == EW_OK && !(cat->e = calloc(nn, sizeof *cat->e)))
     st = ew_fail(err, EW_ERR_NOMEM, dir, 0, "out of memory");
   if (st == EW_OK) {
     snprintf(cat->dir, sizeof cat->dir, "%s", dir);
-    /* sorted so that error reports and the list do not depend on readdir order */
-    qsort(names, nn, sizeof *names, cmp_str);
-  }
-  for (size_t i = 0; st == EW_OK && i < nn; i++) {
-    char path[EW_CATALOGUE_PATH_MAX];
-    if (snprintf(path, sizeof path, "%s/%s", dir, names[i]) >= (int)sizeof path) {
-      st = ew_fail(err, EW_ERR_CATALOGUE, dir, 0, "path too long: %s", names[i]);
-      break;
-    }
-    st = read_file(path, &cat->e[cat->n], err);
-    cat->n++; /* counted even on failure so that free releases what was read */
-    if (st) break;
-    const ew_cat_entry *ne = &cat->e[cat->n - 1];
-    for (size_t j = 0; j + 1 < cat->n; j++)
-      if (strcmp(cat->e[j].name, ne->name) == 0) {
-        st = ew_fail(err, EW_ERR_CATALOGUE, ne->path, ne->name_line,
-                     "duplicate material name '%s' (already defined in %s:%d)", ne->name,
-                     cat->e[j].path, cat->e[j].name_line);
-        break;
-      }
+    st = read_files(cat, dir, names, nn, err);
   }
   for (size_t i = 0; i < nn; i++) free(names[i]);
   free(names);
   if (st == EW_OK) qsort(cat->e, cat->n, sizeof *cat->e, cmp_entry);
-  /* resolve alloy end binaries after sorting, since indices are kept */
-  for (size_t i = 0; st == EW_OK && i < cat->n; i++) {
-    ew_cat_entry *e = &cat->e[i];
-    if (e->kind != EW_KIND_ALLOY) continue;
-    const char *end[2] = {e->first, e->second};
-    int lines[2] = {e->first_line, e->second_line};
-    size_t *idx[2] = {&e->i_first, &e->i_second};
-    for (int k = 0; k < 2 && st == EW_OK; k++) {
-      long j = ew_catalogue_find(cat, end[k]);
-      if (j < 0) {
-        char mean[96];
-        st = ew_fail(err, EW_ERR_CATALOGUE, e->path, lines[k],
-                     "end binary '%s' of alloy '%s' is not in the catalogue%s", end[k], e->name,
-                     mean_text(ew_catalogue_nearest(cat, end[k]), mean, sizeof mean));
-      } else if (cat->e[j].is_alloy) {
-        st = ew_fail(err, EW_ERR_CATALOGUE, e->path, lines[k],
-                     "end '%s' of alloy '%s' must be a binary, not an alloy", end[k], e->name);
-      } else {
-        *idx[k] = (size_t)j;
-      }
-    }
-    if (st == EW_OK && e->i_first == e->i_second)
-      st = ew_fail(err, EW_ERR_CATALOGUE, e->path, e->second_line,
-                   "alloy '%s' has the same end binary twice", e->name);
-  }
+  /* resolve alloys after sorting, since indices are kept; quaternaries need the alloys */
+  for (size_t i = 0; st == EW_OK && i < cat->n; i++)
+    if (cat->e[i].kind == EW_KIND_ALLOY) st = resolve_alloy(cat, &cat->e[i], err);
   for (size_t i = 0; st == EW_OK && i < cat->n; i++)
     if (cat->e[i].kind == EW_KIND_QUATERNARY) st = resolve_quaternary(cat, &cat->e[i], err);
   if (st) {
