@@ -264,8 +264,8 @@ static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double
   out->a_nm = p->have[EW_P_ALC] ? p->v[EW_P_ALC] / 10.0 : 0.0;
   out->Ep_eV = p->have[EW_P_EP] ? p->v[EW_P_EP] : 0.0;
   out->Dso_eV = p->have[EW_P_DSO] ? p->v[EW_P_DSO] : 0.0;
-  out->c11_GPa = p->have[EW_P_C11] ? p->v[EW_P_C11] : 0.0;
-  out->c12_GPa = p->have[EW_P_C12] ? p->v[EW_P_C12] : 0.0;
+  out->c11_kbar = p->have[EW_P_C11] ? p->v[EW_P_C11] : 0.0;
+  out->c12_kbar = p->have[EW_P_C12] ? p->v[EW_P_C12] : 0.0;
   out->critical_thickness_nm = INFINITY;
   return EW_OK;
 }
@@ -283,8 +283,8 @@ static ew_status apply_strain(const ew_cat_entry *e, double x, double y, const e
                      ew_param_key(need[k]));
   /* the catalogue's a_lattice is the 300 K value, used at every temperature */
   ew_strain_input in = {.a_nm = p->v[EW_P_ALC] / 10.0,
-                        .c11_GPa = p->v[EW_P_C11],
-                        .c12_GPa = p->v[EW_P_C12],
+                        .c11_kbar = p->v[EW_P_C11],
+                        .c12_kbar = p->v[EW_P_C12],
                         .a_c_eV = p->v[EW_P_AC],
                         .a_v_eV = p->v[EW_P_AV],
                         .b_eV = p->v[EW_P_B],
@@ -303,7 +303,7 @@ static ew_status apply_strain(const ew_cat_entry *e, double x, double y, const e
   b->Ev_hh_eV += sh.dEhh_eV;
   b->Ev_lh_eV += sh.dElh_eV;
   double hc = ew_mb_critical_thickness_nm(in.a_nm, sh.eps_par,
-                                          ew_strain_poisson(in.c11_GPa, in.c12_GPa), 2);
+                                          ew_strain_poisson(in.c11_kbar, in.c12_kbar), 2);
   b->critical_thickness_nm = isnan(hc) ? INFINITY : hc;
   if (!(b->Ec_eV > b->Ev_hh_eV && b->Ec_eV > b->Ev_lh_eV)) {
     char ct[64];

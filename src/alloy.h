@@ -53,7 +53,7 @@ typedef struct {
   /* added for strain and k·p users (appended: the fields above keep their layout) */
   double Ep_eV;            /* Kane energy, eV (0 if unknown) */
   double Dso_eV;           /* spin-orbit splitting Δso, eV (0 if unknown) */
-  double c11_GPa, c12_GPa; /* elastic stiffness constants, GPa (0 if unknown) */
+  double c11_kbar, c12_kbar; /* elastic stiffness constants, kbar = 10^8 Pa (0 if unknown) */
   double eps_par, eps_perp; /* in-plane ε∥ = (a_sub − a)/a and growth-axis ε⊥ strain (0
                                unstrained); sign convention in strain.h */
   double dEc_strain_eV, dEhh_strain_eV, dElh_strain_eV; /* strain shifts already applied:

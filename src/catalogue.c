@@ -33,7 +33,7 @@ static const char *const param_keys[EW_P_COUNT] = {
 
 static const char *const param_units[EW_P_COUNT] = {
     "eV", "meV/K", "K", "eV", "meV/K", "K", "eV", "meV/K", "K", "eV", "eV", "m0", "-",
-    "-",  "-",     "-", "Å",  "eV",    "-", "eV", "eV",    "eV", "eV", "GPa", "GPa", "GPa"};
+    "-",  "-",     "-", "Å",  "eV",    "-", "eV", "eV",    "eV", "eV", "kbar", "kbar", "kbar"};
 
 const char *ew_param_key(ew_param p) {
   return (p >= 0 && p < EW_P_COUNT) ? param_keys[p] : "?";

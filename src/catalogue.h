@@ -15,7 +15,7 @@
  *   a_lattice                 lattice constant at 300 K, Å
  *   Ep, F                     Kane energy (eV) and remote-band parameter F
  *   a_c, a_v, b_shear, d_shear deformation potentials, eV (sign convention of Vurgaftman 2001)
- *   c11, c12, c44             elastic constants, GPa
+ *   c11, c12, c44             elastic constants, kbar = 10^8 Pa = 0.1 GPa (GaAs c11 = 1221)
  *
  * Catalogue kinds: "binary" (params), "alloy" = ternary (first, second, x_is, bowing; x is
  * the fraction of the first-named binary) and "quaternary" (description, x_is, y_is,

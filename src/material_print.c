@@ -121,8 +121,8 @@ ew_status ew_material_print_on(const ew_catalogue *cat, const char *name, double
       {"a", b.a_nm, "nm", b.a_nm != 0.0},
       {"Ep", b.Ep_eV, "eV", b.Ep_eV != 0.0},
       {"Delta_so", b.Dso_eV, "eV", b.Dso_eV != 0.0},
-      {"c11", b.c11_GPa, "GPa", b.c11_GPa != 0.0},
-      {"c12", b.c12_GPa, "GPa", b.c12_GPa != 0.0},
+      {"c11", b.c11_kbar, "kbar", b.c11_kbar != 0.0},
+      {"c12", b.c12_kbar, "kbar", b.c12_kbar != 0.0},
   };
   for (size_t k = 0; k < sizeof rows / sizeof rows[0]; k++)
     if (rows[k].show) put_row(out, rows[k].label, rows[k].v, rows[k].unit);
