@@ -15,6 +15,8 @@
 #include <string.h>
 
 #include "error.h"
+#include "grid.h" /* EW_GRID_MAX_NODES: the reader refuses a stack the grid cannot hold */
+#include "text.h"
 
 /* Plausibility limits (see the header of this file for why they exist). */
 #define MAX_LAYER_NM 10000.0
@@ -29,7 +31,7 @@
 #define MAX_TOTAL_NM 20000.0
 #define MAX_TEMPERATURE_K 1500.0
 #define MAX_GRID_STEP_NM 1.0
-#define MAX_NODES 5e6
+#define MAX_NODES EW_GRID_MAX_NODES
 #define BYTES_PER_NODE_PER_BAND 200.0 /* solver's rough footprint: matrix, LU fill, vectors */
 #define DEFAULT_TEMPERATURE_K 300.0
 /* Stack files are a few hundred bytes; anything this big is not one. */
@@ -105,48 +107,6 @@ static int line_of(const config_setting_t *s) {
   return s ? (int)config_setting_source_line(s) : 0;
 }
 
-/* Case-insensitive Levenshtein distance, so "Gaas" still finds "GaAs".  Names are at most a
- * few dozen characters; longer inputs are clipped (they get no useful suggestion anyway). */
-static size_t edit_distance(const char *a, const char *b) {
-  enum { N = 128 };
-  size_t la = strlen(a), lb = strlen(b);
-  if (la > N - 1) la = N - 1;
-  if (lb > N - 1) lb = N - 1;
-  size_t row[N];
-  for (size_t j = 0; j <= lb; j++) row[j] = j;
-  for (size_t i = 1; i <= la; i++) {
-    size_t diag = row[0];
-    row[0] = i;
-    for (size_t j = 1; j <= lb; j++) {
-      size_t up = row[j];
-      int same = tolower((unsigned char)a[i - 1]) == tolower((unsigned char)b[j - 1]);
-      size_t best = diag + (same ? 0 : 1);
-      if (up + 1 < best) best = up + 1;
-      if (row[j - 1] + 1 < best) best = row[j - 1] + 1;
-      row[j] = best;
-      diag = up;
-    }
-  }
-  return row[lb];
-}
-
-/* A suggestion is only useful when it is plausibly what was meant. */
-static int close_enough(const char *typed, size_t d) {
-  size_t len = strlen(typed);
-  size_t limit = len / 3 > 2 ? len / 3 : 2;
-  return d <= limit;
-}
-
-static const char *nearest_key(const char *name, const char *const *keys, size_t n) {
-  const char *best = NULL;
-  size_t best_d = (size_t)-1;
-  for (size_t i = 0; i < n; i++) {
-    size_t d = edit_distance(name, keys[i]);
-    if (d < best_d) best_d = d, best = keys[i];
-  }
-  return best && close_enough(name, best_d) ? best : NULL;
-}
-
 static void join_keys(char *buf, size_t size, const char *const *keys, size_t n) {
   size_t used = 0;
   buf[0] = '\0';
@@ -168,7 +128,7 @@ static ew_status check_keys(const reader *r, const config_setting_t *group,
     size_t k = 0;
     while (k < n && strcmp(name, keys[k]) != 0) k++;
     if (k < n) continue;
-    const char *hint = nearest_key(name, keys, n);
+    const char *hint = ew_text_nearest(name, keys, n);
     if (hint) return fail(r, line_of(s), "unknown key '%s' %s; did you mean '%s'?", name, where, hint);
     char list[256];
     join_keys(list, sizeof list, keys, n);
@@ -399,6 +359,16 @@ static const user_alloy *find_ualloy(const reader *r, const char *name) {
   return NULL;
 }
 
+/* Which kind of material a name is, in the order a layer looks them up. */
+typedef enum { MAT_UNKNOWN, MAT_USER, MAT_USER_ALLOY, MAT_CATALOGUE } material_kind;
+
+static material_kind find_material(const reader *r, const char *name) {
+  if (find_user(r, name)) return MAT_USER;
+  if (find_ualloy(r, name)) return MAT_USER_ALLOY;
+  if (r->cat && ew_catalogue_find(r->cat, name) >= 0) return MAT_CATALOGUE;
+  return MAT_UNKNOWN;
+}
+
 static ew_status read_user_alloy(reader *r, const config_setting_t *g, size_t index) {
   int line = line_of(g), kl = line;
   if (config_setting_type(g) != CONFIG_TYPE_GROUP)
@@ -415,8 +385,7 @@ static ew_status read_user_alloy(reader *r, const config_setting_t *g, size_t in
   snprintf(where, sizeof where, "in alloy '%s'", a->name);
   ew_status st = check_keys(r, g, alloy_keys, COUNT(alloy_keys), where);
   if (st) return st;
-  if (find_user(r, a->name) || find_ualloy(r, a->name) ||
-      (r->cat && ew_catalogue_find(r->cat, a->name) >= 0))
+  if (find_material(r, a->name) != MAT_UNKNOWN)
     return fail(r, kl, "alloy name '%s' is already used by a material", a->name);
   const char *ends[2] = {"first", "second"};
   size_t *idx[2] = {&a->first, &a->second};
@@ -532,20 +501,13 @@ static ew_status unknown_material(const reader *r, int line, const char *name, c
     ew_catalogue_hint(r->cat, name, hint, sizeof hint);
     return fail(r, line, "unknown material '%s' in layer '%s'; %s", name, layer, hint);
   }
-  const char *best = NULL;
-  size_t best_d = (size_t)-1;
-  for (size_t i = 0; i < r->n_umat; i++) {
-    size_t d = edit_distance(name, r->umat[i].name);
-    if (d < best_d) best_d = d, best = r->umat[i].name;
-  }
+  ew_suggestion sg;
+  ew_suggest_init(&sg, name);
+  for (size_t i = 0; i < r->n_umat; i++) ew_suggest_offer(&sg, r->umat[i].name);
   size_t nc = r->cat ? ew_catalogue_count(r->cat) : 0;
-  for (size_t i = 0; i < nc; i++) {
-    const char *c = ew_catalogue_name(r->cat, i);
-    if (!c) continue;
-    size_t d = edit_distance(name, c);
-    if (d < best_d) best_d = d, best = c;
-  }
-  if (best && close_enough(name, best_d))
+  for (size_t i = 0; i < nc; i++) ew_suggest_offer(&sg, ew_catalogue_name(r->cat, i));
+  const char *best = ew_suggest_best(&sg);
+  if (best)
     return fail(r, line, "unknown material '%s' in layer '%s'; did you mean '%s'?", name,
                 layer, best);
   if (!r->cat)
@@ -606,40 +568,30 @@ static ew_status read_grade(reader *r, const config_setting_t *g, ew_layer *L,
   return EW_OK;
 }
 
-static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, ew_layer *L,
-                            double T) {
-  int line = line_of(g), l = line;
-  char where[96];
-  memset(L, 0, sizeof *L);
-  L->line = line;
-  if (config_setting_type(g) != CONFIG_TYPE_GROUP)
-    return fail(r, line, "layer %zu must be a group { material = ...; thickness = ...; }, not %s",
-                index + 1, type_word(g));
+/* Where each setting of a layer was, for messages about it. */
+typedef struct {
+  int line, material, thickness_ml, x, y; /* lines */
+  int got_ml;                             /* thickness given in monolayers */
+  const config_setting_t *grade;
+} layer_lines;
 
-  snprintf(where, sizeof where, "of layer %zu", index + 1);
-  int got = get_name(r, g, "name", where, L->name, &l);
+/* thickness (nm) or thickness_ml (whole monolayers, converted once the bands are known). */
+static ew_status read_layer_thickness(reader *r, const config_setting_t *g, const char *where,
+                                      ew_layer *L, layer_lines *ll) {
+  int lth = ll->line;
+  ll->thickness_ml = ll->line;
+  int got = get_number(r, g, "thickness", where, &L->thickness_nm, &lth);
   if (got < 0) return EW_ERR_INPUT;
-  if (got == 0) snprintf(L->name, sizeof L->name, "layer%zu", index + 1);
-  snprintf(where, sizeof where, "in layer '%s'", L->name);
-  ew_status st = check_keys(r, g, layer_keys, COUNT(layer_keys), where);
-  if (st) return st;
-
-  int lmat = line;
-  got = get_name(r, g, "material", where, L->material, &lmat);
-  if (got < 0) return EW_ERR_INPUT;
-  if (got == 0) return fail(r, line, "layer '%s' has no 'material'", L->name);
-
-  int lth = line, lml = line;
-  got = get_number(r, g, "thickness", where, &L->thickness_nm, &lth);
-  if (got < 0) return EW_ERR_INPUT;
-  int got_ml = get_number(r, g, "thickness_ml", where, &L->thickness_ml, &lml);
+  int got_ml = get_number(r, g, "thickness_ml", where, &L->thickness_ml, &ll->thickness_ml);
   if (got_ml < 0) return EW_ERR_INPUT;
+  ll->got_ml = got_ml;
+  int lml = ll->thickness_ml;
   if (got && got_ml)
     return fail(r, lml, "layer '%s' gives both 'thickness' and 'thickness_ml'; give one",
                 L->name);
   if (!got && !got_ml)
-    return fail(r, line, "layer '%s' has no 'thickness' (nm) or 'thickness_ml' (monolayers)",
-                L->name);
+    return fail(r, ll->line, "layer '%s' has no 'thickness' (nm) or 'thickness_ml' "
+                "(monolayers)", L->name);
   if (got_ml && (L->thickness_ml < 1 || L->thickness_ml != floor(L->thickness_ml) ||
                  L->thickness_ml > 1e5))
     return fail(r, lml, "thickness_ml of layer '%s' must be a whole number of monolayers >= 1 "
@@ -654,75 +606,90 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
   if (got && L->thickness_nm > MAX_LAYER_NM)
     return fail(r, lth, "thickness of layer '%s' is %g nm, above the %g nm limit (units are nm)",
                 L->name, L->thickness_nm, MAX_LAYER_NM);
+  return EW_OK;
+}
 
-  int lx = line;
-  got = get_number(r, g, "x", where, &L->x, &lx);
+/* x, y and grade = { ... } as written (checked against the material later). */
+static ew_status read_layer_composition(reader *r, const config_setting_t *g,
+                                        const char *where, ew_layer *L, layer_lines *ll) {
+  ll->x = ll->y = ll->line;
+  int got = get_number(r, g, "x", where, &L->x, &ll->x);
   if (got < 0) return EW_ERR_INPUT;
   L->has_x = got;
-  int ly_ = line;
-  got = get_number(r, g, "y", where, &L->y, &ly_);
+  got = get_number(r, g, "y", where, &L->y, &ll->y);
   if (got < 0) return EW_ERR_INPUT;
   L->has_y = got;
-  const config_setting_t *gr = config_setting_get_member(g, "grade");
-  if (gr) {
-    st = read_grade(r, gr, L, where);
+  ll->grade = config_setting_get_member(g, "grade");
+  if (ll->grade) {
+    ew_status st = read_grade(r, ll->grade, L, where);
     if (st) return st;
     if (L->has_x)
-      return fail(r, lx, "layer '%s' gives both 'x' and a 'grade'; the grade sets x", L->name);
+      return fail(r, ll->x, "layer '%s' gives both 'x' and a 'grade'; the grade sets x", L->name);
   }
+  return EW_OK;
+}
 
+static ew_status read_layer_doping(reader *r, const config_setting_t *g, const char *where,
+                                   ew_layer *L, int line) {
   const config_setting_t *dop = config_setting_get_member(g, "doping");
-  if (dop) {
-    if (config_setting_type(dop) != CONFIG_TYPE_GROUP)
-      return fail(r, line_of(dop), "'doping' %s must be a group { donors = 1e18; }", where);
-    st = check_keys(r, dop, doping_keys, COUNT(doping_keys), "in 'doping'");
-    if (st) return st;
-    double *dst[] = {&L->donors_cm3, &L->acceptors_cm3, &L->donor_sheet_cm2,
-                     &L->acceptor_sheet_cm2, &L->donor_energy_eV, &L->acceptor_energy_eV};
-    const double lim[] = {MAX_DOPING_CM3, MAX_DOPING_CM3, MAX_SHEET_DOPING_CM2,
-                          MAX_SHEET_DOPING_CM2, 1.0, 1.0};
-    const char *unit[] = {"cm^-3", "cm^-3", "cm^-2", "cm^-2", "eV", "eV"};
-    for (size_t k = 0; k < COUNT(doping_keys); k++) {
-      int dl = line;
-      int gd = get_number(r, dop, doping_keys[k], where, dst[k], &dl);
-      if (gd < 0) return EW_ERR_INPUT;
-      if (gd && (*dst[k] < 0 || *dst[k] > lim[k]))
-        return fail(r, dl, "'%s' = %g %s %s must be in [0, %g] %s", doping_keys[k], *dst[k],
-                    unit[k], where, lim[k], unit[k]);
-    }
+  if (!dop) return EW_OK;
+  if (config_setting_type(dop) != CONFIG_TYPE_GROUP)
+    return fail(r, line_of(dop), "'doping' %s must be a group { donors = 1e18; }", where);
+  ew_status st = check_keys(r, dop, doping_keys, COUNT(doping_keys), "in 'doping'");
+  if (st) return st;
+  double *dst[] = {&L->donors_cm3, &L->acceptors_cm3, &L->donor_sheet_cm2,
+                   &L->acceptor_sheet_cm2, &L->donor_energy_eV, &L->acceptor_energy_eV};
+  const double lim[] = {MAX_DOPING_CM3, MAX_DOPING_CM3, MAX_SHEET_DOPING_CM2,
+                        MAX_SHEET_DOPING_CM2, 1.0, 1.0};
+  const char *unit[] = {"cm^-3", "cm^-3", "cm^-2", "cm^-2", "eV", "eV"};
+  for (size_t k = 0; k < COUNT(doping_keys); k++) {
+    int dl = line;
+    int gd = get_number(r, dop, doping_keys[k], where, dst[k], &dl);
+    if (gd < 0) return EW_ERR_INPUT;
+    if (gd && (*dst[k] < 0 || *dst[k] > lim[k]))
+      return fail(r, dl, "'%s' = %g %s %s must be in [0, %g] %s", doping_keys[k], *dst[k],
+                  unit[k], where, lim[k], unit[k]);
   }
+  return EW_OK;
+}
 
+/* The layer's material exists and its composition (x, y or grade) fits what it is. */
+static ew_status check_layer_material(reader *r, ew_layer *L, const layer_lines *ll) {
   int alloy;
-  if (find_user(r, L->material)) alloy = 0;
-  else if (find_ualloy(r, L->material)) alloy = 1;
-  else if (r->cat && ew_catalogue_find(r->cat, L->material) >= 0)
-    alloy = ew_catalogue_is_alloy(r->cat, L->material);
-  else
-    return unknown_material(r, lmat, L->material, L->name);
-  L->user_material = find_user(r, L->material) || find_ualloy(r, L->material);
+  material_kind kind = find_material(r, L->material);
+  if (kind == MAT_USER) alloy = 0;
+  else if (kind == MAT_USER_ALLOY) alloy = 1;
+  else if (kind == MAT_CATALOGUE) alloy = ew_catalogue_is_alloy(r->cat, L->material);
+  else return unknown_material(r, ll->material, L->material, L->name);
+  L->user_material = kind == MAT_USER || kind == MAT_USER_ALLOY;
   if (!alloy && (L->has_x || L->grade))
-    return fail(r, L->has_x ? lx : line_of(gr), "layer '%s': %s given for %s '%s', which has "
-                "no composition", L->name, L->has_x ? "'x'" : "a 'grade'",
+    return fail(r, L->has_x ? ll->x : line_of(ll->grade), "layer '%s': %s given for %s '%s', "
+                "which has no composition", L->name, L->has_x ? "'x'" : "a 'grade'",
                 L->user_material ? "user material" : "binary", L->material);
   if (alloy && !L->has_x && !L->grade)
-    return fail(r, line, "layer '%s': alloy '%s' needs a composition 'x' in [0, 1] or a 'grade'",
-                L->name, L->material);
+    return fail(r, ll->line, "layer '%s': alloy '%s' needs a composition 'x' in [0, 1] or a "
+                "'grade'", L->name, L->material);
   if (L->has_x && (L->x < 0 || L->x > 1))
-    return fail(r, lx, "layer '%s': x = %g is outside [0, 1]", L->name, L->x);
+    return fail(r, ll->x, "layer '%s': x = %g is outside [0, 1]", L->name, L->x);
   int quaternary = !L->user_material && ew_catalogue_needs_y(r->cat, L->material) == 1;
   if (quaternary && !L->has_y)
-    return fail(r, line, "layer '%s': quaternary '%s' needs both 'x' and 'y' in [0, 1] "
+    return fail(r, ll->line, "layer '%s': quaternary '%s' needs both 'x' and 'y' in [0, 1] "
                 "(`epiwell materials %s` says what they are)", L->name, L->material, L->material);
   if (!quaternary && L->has_y)
-    return fail(r, ly_, "layer '%s': 'y' is only for quaternaries; '%s' is not one", L->name,
+    return fail(r, ll->y, "layer '%s': 'y' is only for quaternaries; '%s' is not one", L->name,
                 L->material);
   if (L->has_y && (L->y < 0 || L->y > 1))
-    return fail(r, ly_, "layer '%s': y = %g is outside [0, 1]", L->name, L->y);
+    return fail(r, ll->y, "layer '%s': y = %g is outside [0, 1]", L->name, L->y);
+  return EW_OK;
+}
 
+/* Band parameters at T (graded layers: at the centre and EW_GRADE_SAMPLES samples), then
+ * the thickness of a layer given in monolayers. */
+static ew_status resolve_layer_bands(reader *r, ew_layer *L, double T, const layer_lines *ll) {
   ew_error sub;
   memset(&sub, 0, sizeof sub);
   double xc = L->grade ? grade_x(L, 0.5) : (L->has_x ? L->x : 0.0);
-  st = resolve_bands(r, L->material, xc, L->y, T, &L->bands, &sub);
+  ew_status st = resolve_bands(r, L->material, xc, L->y, T, &L->bands, &sub);
   if (!st && L->grade) {
     L->profile = malloc(EW_GRADE_SAMPLES * sizeof *L->profile);
     if (!L->profile) return ew_fail(r->err, EW_ERR_NOMEM, r->path, 0, "out of memory");
@@ -731,20 +698,50 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
                          T, &L->profile[k], &sub);
   }
   if (st) /* keep the catalogue's code and words, but point at the layer that asked */
-    return ew_fail(r->err, st, r->path, line, "layer '%s' (%s): %s", L->name, L->material,
+    return ew_fail(r->err, st, r->path, ll->line, "layer '%s' (%s): %s", L->name, L->material,
                    sub.message[0] ? sub.message : "band parameters unavailable");
-  if (got_ml) {
-    /* one monolayer of [001] zincblende is half the lattice constant along the growth axis */
-    if (!(L->bands.a_nm > 0))
-      return fail(r, lml, "layer '%s': thickness_ml needs a lattice constant, which '%s' does "
-                  "not have; give 'thickness' in nm", L->name, L->material);
-    /* pseudomorphic: the growth-axis lattice constant is a (1 + ε⊥) */
-    L->thickness_nm = L->thickness_ml * 0.5 * L->bands.a_nm * (1.0 + L->bands.eps_perp);
-    if (L->thickness_nm > MAX_LAYER_NM)
-      return fail(r, lml, "layer '%s' is %g nm thick, above the %g nm limit", L->name,
-                  L->thickness_nm, MAX_LAYER_NM);
-  }
+  if (!ll->got_ml) return EW_OK;
+  /* one monolayer of [001] zincblende is half the lattice constant along the growth axis */
+  if (!(L->bands.a_nm > 0))
+    return fail(r, ll->thickness_ml, "layer '%s': thickness_ml needs a lattice constant, which "
+                "'%s' does not have; give 'thickness' in nm", L->name, L->material);
+  /* pseudomorphic: the growth-axis lattice constant is a (1 + ε⊥) */
+  L->thickness_nm = L->thickness_ml * 0.5 * L->bands.a_nm * (1.0 + L->bands.eps_perp);
+  if (L->thickness_nm > MAX_LAYER_NM)
+    return fail(r, ll->thickness_ml, "layer '%s' is %g nm thick, above the %g nm limit", L->name,
+                L->thickness_nm, MAX_LAYER_NM);
   return EW_OK;
+}
+
+static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, ew_layer *L,
+                            double T) {
+  layer_lines ll = {0};
+  ll.line = line_of(g);
+  int l = ll.line;
+  char where[96];
+  memset(L, 0, sizeof *L);
+  L->line = ll.line;
+  if (config_setting_type(g) != CONFIG_TYPE_GROUP)
+    return fail(r, ll.line, "layer %zu must be a group { material = ...; thickness = ...; }, "
+                "not %s", index + 1, type_word(g));
+
+  snprintf(where, sizeof where, "of layer %zu", index + 1);
+  int got = get_name(r, g, "name", where, L->name, &l);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got == 0) snprintf(L->name, sizeof L->name, "layer%zu", index + 1);
+  snprintf(where, sizeof where, "in layer '%s'", L->name);
+  ew_status st = check_keys(r, g, layer_keys, COUNT(layer_keys), where);
+  if (st) return st;
+
+  ll.material = ll.line;
+  got = get_name(r, g, "material", where, L->material, &ll.material);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got == 0) return fail(r, ll.line, "layer '%s' has no 'material'", L->name);
+  if ((st = read_layer_thickness(r, g, where, L, &ll))) return st;
+  if ((st = read_layer_composition(r, g, where, L, &ll))) return st;
+  if ((st = read_layer_doping(r, g, where, L, ll.line))) return st;
+  if ((st = check_layer_material(r, L, &ll))) return st;
+  return resolve_layer_bands(r, L, T, &ll);
 }
 
 static ew_status read_layers(reader *r, const config_setting_t *root, ew_stack *s) {
@@ -1032,34 +1029,31 @@ ew_status ew_stack_read_string(const char *text, const char *display_name,
   return read_text(text, name, cat, out, err);
 }
 
-ew_status ew_stack_read_file(const char *path, const ew_catalogue *cat, ew_stack **out,
-                             ew_error *err) {
-  if (out) *out = NULL;
-  if (!out || !path)
-    return ew_fail(err, EW_ERR_IO, path, 0, "ew_stack_read_file: NULL %s",
-                   !out ? "output pointer" : "path");
-  /* Read the bytes ourselves rather than config_read_file: it lets us tell an unreadable file
-   * (EW_ERR_IO, with errno) from a malformed one and reject binary data before parsing. */
+/* The whole file into *buf (NUL-terminated, *len bytes, owned by the caller even on
+ * failure).  Read here rather than by config_read_file: it tells an unreadable file
+ * (EW_ERR_IO, with errno) from a malformed one and stops at MAX_FILE_BYTES. */
+static ew_status read_bytes(const char *path, char **buf, size_t *len, ew_error *err) {
   FILE *f = fopen(path, "rb");
   if (!f) return ew_fail(err, EW_ERR_IO, path, 0, "cannot open '%s': %s", path, strerror(errno));
-  size_t cap = 4096, len = 0;
-  char *buf = malloc(cap);
+  size_t cap = 4096;
+  *len = 0;
+  *buf = malloc(cap);
   ew_status st = EW_OK;
-  if (!buf) st = ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
+  if (!*buf) st = ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
   while (!st) {
-    if (len + 1 >= cap) {
+    if (*len + 1 >= cap) {
       if (cap >= (size_t)MAX_FILE_BYTES) {
         st = ew_fail(err, EW_ERR_INPUT, path, 1, "file is larger than %ld bytes; not a stack file",
                      MAX_FILE_BYTES);
         break;
       }
-      char *nb = realloc(buf, cap * 2);
+      char *nb = realloc(*buf, cap * 2);
       if (!nb) { st = ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory"); break; }
-      buf = nb;
+      *buf = nb;
       cap *= 2;
     }
-    size_t got = fread(buf + len, 1, cap - 1 - len, f);
-    len += got;
+    size_t got = fread(*buf + *len, 1, cap - 1 - *len, f);
+    *len += got;
     if (got == 0) {
       if (ferror(f)) st = ew_fail(err, EW_ERR_IO, path, 0, "cannot read '%s': %s", path,
                                   errno ? strerror(errno) : "read error");
@@ -1067,8 +1061,20 @@ ew_status ew_stack_read_file(const char *path, const ew_catalogue *cat, ew_stack
     }
   }
   fclose(f);
+  if (!st) (*buf)[*len] = '\0';
+  return st;
+}
+
+ew_status ew_stack_read_file(const char *path, const ew_catalogue *cat, ew_stack **out,
+                             ew_error *err) {
+  if (out) *out = NULL;
+  if (!out || !path)
+    return ew_fail(err, EW_ERR_IO, path, 0, "ew_stack_read_file: NULL %s",
+                   !out ? "output pointer" : "path");
+  char *buf = NULL;
+  size_t len = 0;
+  ew_status st = read_bytes(path, &buf, &len, err);
   if (!st) {
-    buf[len] = '\0';
     /* A NUL byte would silently end the text early; report binary data where it starts. */
     const char *nul = memchr(buf, '\0', len);
     if (nul) {

@@ -47,7 +47,7 @@ static int strain_caveats(ew_result *r) {
     sum_et += b->eps_par * ly->thickness_nm;
     n_strained++;
     if (a == 0.0)
-      a = b->a_nm, nu = b->c11_GPa + b->c12_GPa > 0 ? b->c12_GPa / (b->c11_GPa + b->c12_GPa) : 0.3;
+      a = b->a_nm, nu = b->c11_kbar + b->c12_kbar > 0 ? b->c12_kbar / (b->c11_kbar + b->c12_kbar) : 0.3;
   }
   if (n_strained > 1 && sum_et != 0.0) { /* a single layer is judged by its own thickness */
     double mean = sum_et / sum_t, hc = ew_mb_critical_thickness_nm(a, mean, nu, 1);

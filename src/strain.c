@@ -2,13 +2,10 @@
  * Formulas, sign convention and sources: see strain.h. */
 #include "strain.h"
 
+#include "constants.h"
 #include "error.h"
 
 #include <math.h>
-
-#ifndef M_PI
-#define M_PI 3.14159265358979323846
-#endif
 
 static int positive(double v) { return isfinite(v) && v > 0.0; }
 
@@ -19,10 +16,10 @@ ew_status ew_strain_biaxial(const ew_strain_input *m, double a_sub_nm, ew_strain
     return ew_fail(err, EW_ERR_INPUT, NULL, 0,
                    "strain needs positive lattice constants (layer %g nm, substrate %g nm)",
                    m->a_nm, a_sub_nm);
-  if (!positive(m->c11_GPa) || !positive(m->c12_GPa))
+  if (!positive(m->c11_kbar) || !positive(m->c12_kbar))
     return ew_fail(err, EW_ERR_INPUT, NULL, 0,
-                   "strain needs positive elastic constants (c11 = %g, c12 = %g GPa)",
-                   m->c11_GPa, m->c12_GPa);
+                   "strain needs positive elastic constants (c11 = %g, c12 = %g kbar)",
+                   m->c11_kbar, m->c12_kbar);
   if (!positive(m->Dso_eV))
     return ew_fail(err, EW_ERR_INPUT, NULL, 0,
                    "strain needs a positive spin-orbit splitting (Delta_so = %g eV)", m->Dso_eV);
@@ -33,7 +30,7 @@ ew_status ew_strain_biaxial(const ew_strain_input *m, double a_sub_nm, ew_strain
    * growth axis relaxes with zero normal stress, σ_zz = c12 (ε_xx + ε_yy) + c11 ε_zz = 0
    * (Chuang 2009, strain effects on band structures; from memory) */
   double ep = (a_sub_nm - m->a_nm) / m->a_nm;
-  double ez = -2.0 * (m->c12_GPa / m->c11_GPa) * ep;
+  double ez = -2.0 * (m->c12_kbar / m->c11_kbar) * ep;
   double tr = 2.0 * ep + ez;
   out->eps_par = ep;
   out->eps_perp = ez;
@@ -67,9 +64,9 @@ ew_status ew_strain_biaxial(const ew_strain_input *m, double a_sub_nm, ew_strain
   return EW_OK;
 }
 
-double ew_strain_poisson(double c11_GPa, double c12_GPa) {
+double ew_strain_poisson(double c11_kbar, double c12_kbar) {
   /* ν = c12/(c11 + c12) for (001) biaxial strain, as used in the MB formula */
-  return c12_GPa / (c11_GPa + c12_GPa);
+  return c12_kbar / (c11_kbar + c12_kbar);
 }
 
 double ew_mb_critical_thickness_nm(double a_nm, double eps_par, double nu, int n_interfaces) {
@@ -78,11 +75,11 @@ double ew_mb_critical_thickness_nm(double a_nm, double eps_par, double nu, int n
     return NAN;
   double f = fabs(eps_par);
   if (f == 0.0) return INFINITY;
-  const double alpha = M_PI / 3.0, lambda = M_PI / 3.0; /* 60° dislocations (MB 1974) */
+  const double alpha = EW_PI / 3.0, lambda = EW_PI / 3.0; /* 60° dislocations (MB 1974) */
   double bd = a_nm / sqrt(2.0);
   double ca = cos(alpha);
   /* h_c = A (ln(h_c/b_d) + 1), A = n b_d (1 − ν cos²α)/(8π f (1 + ν) cos λ)  (strain.h) */
-  double A = n_interfaces * bd * (1.0 - nu * ca * ca) / (8.0 * M_PI * f * (1.0 + nu) * cos(lambda));
+  double A = n_interfaces * bd * (1.0 - nu * ca * ca) / (8.0 * EW_PI * f * (1.0 + nu) * cos(lambda));
   if (A < bd) return 0.0; /* h/A − ln(h/b_d) ≥ 1 − ln(A/b_d) > 1: no root */
   /* g(h) = A (ln(h/b_d) + 1) is increasing and concave; g(A) ≥ A lies above the smaller
    * root, so the iteration decreases or increases monotonically to the larger root at the

@@ -44,7 +44,7 @@
 /* What the strain calculation needs from a material (all at the layer's composition). */
 typedef struct {
   double a_nm;            /* relaxed lattice constant, nm (the catalogue's is at 300 K) */
-  double c11_GPa, c12_GPa; /* elastic stiffness constants */
+  double c11_kbar, c12_kbar; /* elastic stiffness constants, kbar = 10^8 Pa (only their ratio enters) */
   double a_c_eV, a_v_eV, b_eV; /* deformation potentials, Vurgaftman-table signs (above) */
   double Dso_eV;          /* spin-orbit splitting Δso (> 0) */
 } ew_strain_input;
@@ -66,7 +66,7 @@ ew_status ew_strain_biaxial(const ew_strain_input *m, double a_sub_nm, ew_strain
                             ew_error *err);
 
 /* Poisson ratio of the Matthews–Blakeslee formula, ν = c12/(c11 + c12). */
-double ew_strain_poisson(double c11_GPa, double c12_GPa);
+double ew_strain_poisson(double c11_kbar, double c12_kbar);
 
 /* Matthews–Blakeslee critical thickness (J. W. Matthews, A. E. Blakeslee, J. Cryst.
  * Growth 27, 118 (1974)), force balance on a 60° dislocation (α = λ = 60°, Burgers vector

@@ -234,6 +234,16 @@ static void test_bad_inputs(void **state) {
   assert_string_equal(ew_catalogue_nearest(cat, "GaAS"), "GaAs");
   assert_string_equal(ew_catalogue_nearest(cat, "AlGaAS"), "AlGaAs");
   assert_string_equal(ew_catalogue_nearest(cat, "Alas"), "AlAs");
+  /* the one "did you mean" rule (src/text.h): nothing within max(2, len/3) edits, no hint */
+  assert_null(ew_catalogue_nearest(cat, "Kryptonite"));
+  /* elastic constants are stored in kbar = 10^8 Pa: GaAs c11 = 122.1 GPa (Vurgaftman et al.,
+   * J. Appl. Phys. 89, 5815 (2001), Table I, from memory) is the catalogue's 1221 */
+  assert_string_equal(ew_param_unit(EW_P_C11), "kbar");
+  assert_string_equal(ew_param_unit(EW_P_C44), "kbar");
+  assert_int_equal(ew_material_params(cat, "GaAs", 0, &p, &err), EW_OK);
+  assert_true(fabs(p.v[EW_P_C11] * 1e8 / 1e9 - 122.1) <= 0.05); /* GPa, Vurgaftman 2001 Table I */
+  assert_int_equal(ew_material_bands(cat, "Kryptonite", 0, 300, &b, &err), EW_ERR_INPUT);
+  assert_string_equal(err.message, "unknown material 'Kryptonite'");
 }
 
 static void test_print(void **state) {

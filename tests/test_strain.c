@@ -111,8 +111,8 @@ static void test_compressive_ingaas_on_gaas(void **state) {
    * values in the catalogue, from memory): Ep = 0.2·21.5 + 0.8·28.8 − 0.16·(−1.48),
    * c11 = 0.2·832.9 + 0.8·1221; tolerance 1e-9 */
   CHECK_NEAR(u.Ep_eV, 0.2 * 21.5 + 0.8 * 28.8 + 0.16 * 1.48, 1e-9, "In0.2Ga0.8As Ep, Vegard + bowing");
-  CHECK_NEAR(u.c11_GPa, 0.2 * 832.9 + 0.8 * 1221, 1e-9, "In0.2Ga0.8As c11, linear");
-  CHECK_NEAR(u.c12_GPa, 0.2 * 452.6 + 0.8 * 566, 1e-9, "In0.2Ga0.8As c12, linear");
+  CHECK_NEAR(u.c11_kbar, 0.2 * 832.9 + 0.8 * 1221, 1e-9, "In0.2Ga0.8As c11, linear");
+  CHECK_NEAR(u.c12_kbar, 0.2 * 452.6 + 0.8 * 566, 1e-9, "In0.2Ga0.8As c12, linear");
   CHECK_NEAR(u.Dso_eV, 0.2 * 0.39 + 0.8 * 0.341 - 0.16 * 0.15, 1e-9, "In0.2Ga0.8As Δso, Vegard + bowing");
   if (!isinf(u.critical_thickness_nm)) fail_msg("unstrained critical thickness should be INFINITY");
   CHECK_NEAR(u.eps_par, 0.0, 0.0, "unstrained ε∥ = 0");
@@ -181,7 +181,7 @@ static void test_formulas_by_hand(void **state) {
      * tolerance 1e-12 */
     CHECK_NEAR(s.dEc_strain_eV - hyd, (p.v[EW_P_AC] + p.v[EW_P_AV]) * tr, 1e-12,
                "hydrostatic gap shift a tr ε");
-    CHECK_NEAR(s.c11_GPa, p.v[EW_P_C11], 0.0, "c11 copied");
+    CHECK_NEAR(s.c11_kbar, p.v[EW_P_C11], 0.0, "c11 copied");
   }
   /* GaAs gap deformation potential a = a_c − a_v' = −7.17 − 1.16 = −8.33 eV (Vurgaftman
    * 2001 values, from memory); tolerance 1e-12 eV */
@@ -194,7 +194,7 @@ static void test_lh_so_block(void **state) {
   /* the light-hole and split-off shifts are the eigenvalues of the 2×2 block
    * [[Q, √2 Q], [√2 Q, −Δ]] on top of δEv,hyd (Bir–Pikus; Chuang 2009): their sum is the
    * trace Q − Δ and their product the determinant −QΔ − 2Q²; tolerance 1e-12 eV (eV²) */
-  ew_strain_input m = {.a_nm = 0.573, .c11_GPa = 1143, .c12_GPa = 543, .a_c_eV = -6.75,
+  ew_strain_input m = {.a_nm = 0.573, .c11_kbar = 1143, .c12_kbar = 543, .a_c_eV = -6.75,
                        .a_v_eV = -1.13, .b_eV = -1.96, .Dso_eV = 0.35};
   ew_strain_shifts s;
   ew_error err;
@@ -220,7 +220,7 @@ static void test_lh_so_block(void **state) {
   assert_int_equal(ew_strain_biaxial(&m, 0.5653, &s, &err), EW_ERR_INPUT);
   m.Dso_eV = 0.35;
   assert_int_equal(ew_strain_biaxial(&m, -1.0, &s, &err), EW_ERR_INPUT);
-  m.c11_GPa = NAN;
+  m.c11_kbar = NAN;
   assert_int_equal(ew_strain_biaxial(&m, 0.5653, &s, &err), EW_ERR_INPUT);
 }
 
@@ -229,7 +229,7 @@ static void test_lh_so_block(void **state) {
 static void test_critical_thickness(void **state) {
   const ew_catalogue *cat = *state;
   ew_bands s = on(cat, "InGaAs", 0.2, 0, 300, lattice(cat, "GaAs", 0, 0));
-  double nu = s.c12_GPa / (s.c11_GPa + s.c12_GPa), f = fabs(s.eps_par), bd = s.a_nm / sqrt(2.0);
+  double nu = s.c12_kbar / (s.c11_kbar + s.c12_kbar), f = fabs(s.eps_par), bd = s.a_nm / sqrt(2.0);
   double geo = (1 - nu * 0.25) / ((1 + nu) * 0.5); /* cos²60° = 1/4, cos 60° = 1/2 */
   /* buried layer (two interfaces, strain.h): h = 2 b_d geo/(8π f) (ln(h/b_d) + 1); the
    * fixed point must solve it to 1e-10 nm */

@@ -1,0 +1,355 @@
+/* alloy.c — a catalogue material at a composition and a temperature.
+ *
+ * Alloy rule (Vegard's law with bowing, as used throughout I. Vurgaftman, J. R. Meyer,
+ * L. R. Ram-Mohan, J. Appl. Phys. 89, 5815 (2001), Sec. II):
+ *     P(x) = x P_first + (1 − x) P_second − x (1 − x) C(x),   C(x) = C0 + C1 x,
+ * where x is the fraction of the first-named element and a missing bowing means C = 0.
+ * Gaps at T follow the same review: each end binary's gap is taken at T (Varshni) and then
+ * interpolated with a temperature-independent bowing.
+ * Quaternaries ("square" and "triangle" schemes) interpolate their corner binaries and
+ * take the bowings of their bounding ternaries from the catalogue: formulas in alloy.h.
+ * Strain on a substrate (ew_material_bands_on) is computed in strain.c.
+ */
+#include "alloy.h"
+
+#include "error.h"
+#include "strain.h"
+
+#include <math.h>
+#include <string.h>
+
+static const char linear_source[] = "linear interpolation (no bowing in this catalogue)";
+static const char varshni_alloy_source[] =
+    "linear interpolation, for display only: gaps at T use each end binary's Varshni law "
+    "(I. Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001))";
+
+double ew_varshni(double Eg0_eV, double alpha_meV_K, double beta_K, double T_K) {
+  double den = T_K + beta_K;
+  if (den == 0.0) return Eg0_eV;
+  return Eg0_eV - 1e-3 * alpha_meV_K * T_K * T_K / den;
+}
+
+/* Bowing coefficient C(t) = C0 + C1 t of parameter p of alloy e (0 without bowing). */
+static double bow_coeff(const ew_cat_entry *e, int p, double t) {
+  if (!e->have[p]) return 0.0;
+  return e->v[p] + e->per_x[p] * t;
+}
+
+/* x (1 − x) C(x) for parameter p of alloy e (0 without bowing). */
+static double bow_term(const ew_cat_entry *e, int p, double x) {
+  return x * (1.0 - x) * bow_coeff(e, p, x);
+}
+
+/* Weights of a quaternary's corners, and per edge the composition along it (fraction of
+ * the edge's first corner) and the weight of the edge ternary's bowing (alloy.h). */
+typedef struct {
+  double w[4], t[4], coef[4];
+} qgeom;
+
+static void quat_geom(const ew_cat_entry *e, double x, double y, qgeom *g) {
+  memset(g, 0, sizeof *g);
+  if (e->scheme == EW_SCHEME_SQUARE) {
+    /* corners (1,1) (1,0) (0,1) (0,0); edges y = 1, y = 0 (along x), x = 1, x = 0 (along y):
+     * −x(1−x)[y C_ABC + (1−y) C_ABD] − y(1−y)[x C_ACD + (1−x) C_BCD] */
+    g->w[0] = x * y;
+    g->w[1] = x * (1.0 - y);
+    g->w[2] = (1.0 - x) * y;
+    g->w[3] = (1.0 - x) * (1.0 - y);
+    g->t[0] = g->t[1] = x;
+    g->t[2] = g->t[3] = y;
+    g->coef[0] = y * x * (1.0 - x);
+    g->coef[1] = (1.0 - y) * x * (1.0 - x);
+    g->coef[2] = x * y * (1.0 - y);
+    g->coef[3] = (1.0 - x) * y * (1.0 - y);
+  } else {
+    /* corners A, B, C with weights x, y, z; −xy C_AB(u) − yz C_BC(v) − xz C_AC(w), each at
+     * the orthogonal projection of (x, y, z) on its edge */
+    double z = 1.0 - x - y;
+    if (z < 0.0) z = 0.0;
+    g->w[0] = x;
+    g->w[1] = y;
+    g->w[2] = z;
+    g->t[0] = 0.5 * (1.0 + x - y);
+    g->t[1] = 0.5 * (1.0 + y - z);
+    g->t[2] = 0.5 * (1.0 + x - z);
+    g->coef[0] = x * y;
+    g->coef[1] = y * z;
+    g->coef[2] = x * z;
+  }
+}
+
+/* Value of a binary: parameter p (g < 0) or its gap g (0 Γ, 1 X, 2 L) at T by Varshni. */
+static int binary_value(const ew_cat_entry *b, int p, int g, double T_K, double *out) {
+  if (g < 0) {
+    if (!b->have[p]) return 0;
+    *out = b->v[p];
+    return 1;
+  }
+  if (!b->have[ew_gap_param[g]]) return 0;
+  *out = ew_varshni(b->v[ew_gap_param[g]], b->v[ew_alpha_param[g]], b->v[ew_beta_param[g]], T_K);
+  return 1;
+}
+
+/* Parameter p (g < 0) or gap g at T of any entry at (x, y); 0 if unknown.  Ternaries:
+ * Vegard + bowing; quaternaries: alloy.h; gaps at T: end values at T, then the
+ * T-independent bowing (Vurgaftman 2001, Sec. II). */
+int ew_entry_value(const ew_catalogue *cat, const ew_cat_entry *e, int p, int g, double x,
+                   double y, double T_K, double *out) {
+  int bp = g < 0 ? p : (int)ew_gap_param[g];
+  if (e->kind == EW_KIND_BINARY) return binary_value(e, p, g, T_K, out);
+  if (e->kind == EW_KIND_ALLOY) {
+    double va, vb;
+    if (!binary_value(&cat->e[e->i_first], p, g, T_K, &va) ||
+        !binary_value(&cat->e[e->i_second], p, g, T_K, &vb))
+      return 0;
+    *out = x * va + (1.0 - x) * vb - bow_term(e, bp, x);
+    return 1;
+  }
+  qgeom q;
+  quat_geom(e, x, y, &q);
+  double sum = 0.0;
+  for (int k = 0; k < e->n_corner; k++) {
+    double v;
+    if (!binary_value(&cat->e[e->i_corner[k]], p, g, T_K, &v)) return 0;
+    sum += q.w[k] * v;
+  }
+  for (int k = 0; k < e->n_edge; k++) {
+    const ew_cat_entry *t = &cat->e[e->i_edge[k]];
+    double tt = e->edge_flip[k] ? 1.0 - q.t[k] : q.t[k];
+    sum -= q.coef[k] * bow_coeff(t, bp, tt);
+  }
+  *out = sum;
+  return 1;
+}
+
+static ew_status unknown_name(const ew_catalogue *cat, const char *name, ew_error *err) {
+  char hint[160];
+  ew_catalogue_hint(cat, name, hint, sizeof hint);
+  if (hint[0])
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0, "unknown material '%s' (%s)",
+                   name ? name : "(null)", hint);
+  return ew_fail(err, EW_ERR_INPUT, NULL, 0, "unknown material '%s'", name ? name : "(null)");
+}
+
+/* Find name and check (x, y, T).  with_y = 0: the caller has no y (old API), so a
+ * quaternary is refused; with_y = 1: y is checked for quaternaries, ignored otherwise. */
+ew_status ew_material_lookup(const ew_catalogue *cat, const char *name, double x, double y,
+                             int with_y, double T_K, const ew_cat_entry **e, ew_error *err) {
+  long i = ew_catalogue_find(cat, name);
+  if (i < 0) return unknown_name(cat, name, err);
+  *e = &cat->e[i];
+  const ew_cat_entry *m = *e;
+  if (m->kind == EW_KIND_QUATERNARY && !with_y)
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "%s is a quaternary, %s (x = %s, y = %s): it needs a composition y as well "
+                   "as x",
+                   name, m->description, m->x_is, m->y_is);
+  if (m->is_alloy && !(x >= 0.0 && x <= 1.0))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "composition x = %g of %s (%s) is outside [0, 1]", x, name, m->x_is);
+  if (m->kind == EW_KIND_QUATERNARY) {
+    if (!(y >= 0.0 && y <= 1.0))
+      return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                     "composition y = %g of %s (%s) is outside [0, 1]", y, name, m->y_is);
+    if (m->scheme == EW_SCHEME_TRIANGLE && x + y > 1.0 + 1e-12)
+      return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                     "x + y = %g of %s (%s) exceeds 1 (x = %s, y = %s)", x + y, name,
+                     m->description, m->x_is, m->y_is);
+  }
+  if (!(T_K >= 0.0) || !isfinite(T_K))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0, "temperature %g K must be >= 0", T_K);
+  return EW_OK;
+}
+
+static void params_of(const ew_catalogue *cat, const ew_cat_entry *e, double x, double y,
+                      ew_params *out) {
+  memset(out, 0, sizeof *out);
+  for (int p = 0; p < EW_P_COUNT; p++) {
+    double v;
+    if (!ew_entry_value(cat, e, p, -1, x, y, 0.0, &v)) continue;
+    out->have[p] = 1;
+    out->v[p] = v;
+    if (e->kind != EW_KIND_ALLOY) {
+      out->source[p] = e->source[p];
+    } else {
+      int varshni = ew_param_is_varshni((ew_param)p);
+      out->source[p] =
+          e->have[p] ? e->source[p] : varshni ? varshni_alloy_source : linear_source;
+    }
+  }
+}
+
+ew_status ew_material_params(const ew_catalogue *cat, const char *name, double x,
+                             ew_params *out, ew_error *err) {
+  const ew_cat_entry *e;
+  ew_status st = ew_material_lookup(cat, name, x, 0.0, 0, 0.0, &e, err);
+  if (st) return st;
+  params_of(cat, e, x, 0.0, out);
+  return EW_OK;
+}
+
+ew_status ew_material_params2(const ew_catalogue *cat, const char *name, double x, double y,
+                              ew_params *out, ew_error *err) {
+  const ew_cat_entry *e;
+  ew_status st = ew_material_lookup(cat, name, x, y, 1, 0.0, &e, err);
+  if (st) return st;
+  params_of(cat, e, x, y, out);
+  return EW_OK;
+}
+
+/* Line of parameter p for error messages: the binary's line, 0 for mixtures. */
+static int param_line(const ew_cat_entry *e, int p) { return e->kind == EW_KIND_BINARY ? e->line[p] : 0; }
+
+/* Composition text for messages: "x = 0.3" or "x = 0.4, y = 0.9". */
+static const char *comp_text(const ew_cat_entry *e, double x, double y, char *buf, size_t n) {
+  if (e->kind == EW_KIND_QUATERNARY) snprintf(buf, n, "x = %g, y = %g", x, y);
+  else snprintf(buf, n, "x = %g", x);
+  return buf;
+}
+
+/* Unstrained band parameters of entry e at (x, y, T); (x, y, T) already checked. */
+static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double x, double y,
+                          double T_K, const ew_params *p, ew_bands *out, ew_error *err) {
+  const char *name = e->name;
+  char ct[64];
+  comp_text(e, x, y, ct, sizeof ct);
+  static const ew_param need[] = {EW_P_EG_G, EW_P_VBO, EW_P_ME, EW_P_GAMMA1, EW_P_GAMMA2};
+  for (size_t k = 0; k < sizeof need / sizeof need[0]; k++)
+    if (!p->have[need[k]])
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, 0, "%s lacks %s (needed for bands)",
+                     name, ew_param_key(need[k]));
+  memset(out, 0, sizeof *out);
+  double gaps[3];
+  int have_gap[3];
+  for (int g = 0; g < 3; g++) {
+    have_gap[g] = ew_entry_value(cat, e, -1, g, x, y, T_K, &gaps[g]);
+    if (!have_gap[g]) gaps[g] = 0.0;
+  }
+  out->Eg_G_eV = gaps[0];
+  out->Eg_X_eV = gaps[1];
+  out->Eg_L_eV = gaps[2];
+  out->lowest_valley = 0;
+  for (int g = 1; g < 3; g++)
+    if (have_gap[g] && gaps[g] < gaps[out->lowest_valley]) out->lowest_valley = g;
+  if (!(out->Eg_G_eV > 0.0)) /* the requested (x, T) is outside the model's range: an input error */
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "%s at %s, T = %g K has a Γ gap of %g eV (must be > 0): outside the "
+                   "range of the catalogue's Varshni and bowing parameters", name, ct, T_K,
+                   out->Eg_G_eV);
+  /* VBO is temperature independent; the gap's T shift goes entirely into Ec
+   * (Vurgaftman 2001, Sec. II) */
+  out->Ev_eV = p->v[EW_P_VBO];
+  out->Ec_eV = out->Ev_eV + out->Eg_G_eV;
+  out->Ev_hh_eV = out->Ev_eV; /* unstrained */
+  out->Ev_lh_eV = out->Ev_eV;
+  out->me = p->v[EW_P_ME];
+  if (!(out->me > 0.0))
+    return ew_fail(err, EW_ERR_CATALOGUE, e->path, param_line(e, EW_P_ME),
+                   "%s at %s has electron mass %g (must be > 0)", name, ct, out->me);
+  /* Hole masses from the Luttinger parameters (J. M. Luttinger, Phys. Rev. 102, 1030
+   * (1956)): along [001] 1/(γ1 ∓ 2γ2), in plane 1/(γ1 ± γ2) */
+  double g1 = p->v[EW_P_GAMMA1], g2 = p->v[EW_P_GAMMA2];
+  double den[4] = {g1 - 2.0 * g2, g1 + 2.0 * g2, g1 + g2, g1 - g2};
+  static const char *const den_name[4] = {"γ1 − 2γ2", "γ1 + 2γ2", "γ1 + γ2", "γ1 − γ2"};
+  for (int k = 0; k < 4; k++)
+    if (!(den[k] > 0.0))
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, param_line(e, EW_P_GAMMA2),
+                     "%s at %s: %s = %g <= 0 would give a non-positive hole mass", name, ct,
+                     den_name[k], den[k]);
+  out->mhh_z = 1.0 / den[0];
+  out->mlh_z = 1.0 / den[1];
+  out->mhh_par = 1.0 / den[2];
+  out->mlh_par = 1.0 / den[3];
+  out->eps_r = p->have[EW_P_EPS_S] ? p->v[EW_P_EPS_S] : 0.0;
+  out->a_nm = p->have[EW_P_ALC] ? p->v[EW_P_ALC] / 10.0 : 0.0;
+  out->Ep_eV = p->have[EW_P_EP] ? p->v[EW_P_EP] : 0.0;
+  out->Dso_eV = p->have[EW_P_DSO] ? p->v[EW_P_DSO] : 0.0;
+  out->c11_kbar = p->have[EW_P_C11] ? p->v[EW_P_C11] : 0.0;
+  out->c12_kbar = p->have[EW_P_C12] ? p->v[EW_P_C12] : 0.0;
+  out->critical_thickness_nm = INFINITY;
+  return EW_OK;
+}
+
+/* Strain of a layer on a substrate of lattice constant a_sub_nm > 0 (strain.h), applied to
+ * the unstrained bands b. */
+static ew_status apply_strain(const ew_cat_entry *e, double x, double y, const ew_params *p,
+                              double a_sub_nm, ew_bands *b, ew_error *err) {
+  static const ew_param need[] = {EW_P_ALC, EW_P_C11, EW_P_C12, EW_P_AC,
+                                  EW_P_AV,  EW_P_B,   EW_P_DSO};
+  for (size_t k = 0; k < sizeof need / sizeof need[0]; k++)
+    if (!p->have[need[k]])
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, 0,
+                     "%s lacks %s (needed for the strain on a substrate)", e->name,
+                     ew_param_key(need[k]));
+  /* the catalogue's a_lattice is the 300 K value, used at every temperature */
+  ew_strain_input in = {.a_nm = p->v[EW_P_ALC] / 10.0,
+                        .c11_kbar = p->v[EW_P_C11],
+                        .c12_kbar = p->v[EW_P_C12],
+                        .a_c_eV = p->v[EW_P_AC],
+                        .a_v_eV = p->v[EW_P_AV],
+                        .b_eV = p->v[EW_P_B],
+                        .Dso_eV = p->v[EW_P_DSO]};
+  ew_strain_shifts sh;
+  ew_error sub;
+  memset(&sub, 0, sizeof sub);
+  if (ew_strain_biaxial(&in, a_sub_nm, &sh, &sub))
+    return ew_fail(err, EW_ERR_CATALOGUE, e->path, 0, "%s: %s", e->name, sub.message);
+  b->eps_par = sh.eps_par;
+  b->eps_perp = sh.eps_perp;
+  b->dEc_strain_eV = sh.dEc_eV;
+  b->dEhh_strain_eV = sh.dEhh_eV;
+  b->dElh_strain_eV = sh.dElh_eV;
+  b->Ec_eV += sh.dEc_eV;
+  b->Ev_hh_eV += sh.dEhh_eV;
+  b->Ev_lh_eV += sh.dElh_eV;
+  double hc = ew_mb_critical_thickness_nm(in.a_nm, sh.eps_par,
+                                          ew_strain_poisson(in.c11_kbar, in.c12_kbar), 2);
+  b->critical_thickness_nm = isnan(hc) ? INFINITY : hc;
+  if (!(b->Ec_eV > b->Ev_hh_eV && b->Ec_eV > b->Ev_lh_eV)) {
+    char ct[64];
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "%s at %s on a substrate with a = %g nm: strain ε∥ = %.4g closes the gap "
+                   "(Ec = %g, Ev_hh = %g, Ev_lh = %g eV)",
+                   e->name, comp_text(e, x, y, ct, sizeof ct), a_sub_nm, sh.eps_par, b->Ec_eV,
+                   b->Ev_hh_eV, b->Ev_lh_eV);
+  }
+  return EW_OK;
+}
+
+ew_status ew_material_bands(const ew_catalogue *cat, const char *name, double x, double T_K,
+                            ew_bands *out, ew_error *err) {
+  const ew_cat_entry *e;
+  ew_status st = ew_material_lookup(cat, name, x, 0.0, 0, T_K, &e, err);
+  if (st) return st;
+  ew_params p;
+  params_of(cat, e, x, 0.0, &p);
+  return bands_at(cat, e, x, 0.0, T_K, &p, out, err);
+}
+
+ew_status ew_material_bands_on(const ew_catalogue *cat, const char *name, double x, double y,
+                               double T_K, double a_sub_nm, ew_bands *out, ew_error *err) {
+  const ew_cat_entry *e;
+  ew_status st = ew_material_lookup(cat, name, x, y, 1, T_K, &e, err);
+  if (st) return st;
+  if (!isfinite(a_sub_nm))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0, "substrate lattice constant %g nm is not finite",
+                   a_sub_nm);
+  ew_params p;
+  params_of(cat, e, x, y, &p);
+  if ((st = bands_at(cat, e, x, y, T_K, &p, out, err))) return st;
+  if (a_sub_nm <= 0.0) return EW_OK;
+  return apply_strain(e, x, y, &p, a_sub_nm, out, err);
+}
+
+ew_status ew_lattice_nm(const ew_catalogue *cat, const char *name, double x, double y,
+                        double *a_nm, ew_error *err) {
+  const ew_cat_entry *e;
+  ew_status st = ew_material_lookup(cat, name, x, y, 1, 0.0, &e, err);
+  if (st) return st;
+  double v;
+  if (!ew_entry_value(cat, e, EW_P_ALC, -1, x, y, 0.0, &v) || !(v > 0.0))
+    return ew_fail(err, EW_ERR_CATALOGUE, e->path, 0, "%s has no lattice constant a_lattice",
+                   name);
+  *a_nm = v / 10.0;
+  return EW_OK;
+}

@@ -1,0 +1,818 @@
+/* catalogue.c — the material catalogue: one libconfig file per material in a directory
+ * (materials/NAME.cfg), validated on load (known keys, a source for every value, complete
+ * Varshni sets, the end binaries of alloys, the corners and edge ternaries of quaternaries),
+ * and the queries on names.  Evaluation at a composition is alloy.c; the parameter table is
+ * in catalogue.h.
+ */
+#include "catalogue.h"
+
+#include "error.h"
+#include "text.h"
+
+#include <ctype.h>
+#include <dirent.h>
+#include <errno.h>
+#include <libconfig.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#ifndef EW_PREFIX
+#define EW_PREFIX "/usr/local"
+#endif
+
+/* ---- parameter table ------------------------------------------------------------------ */
+
+static const char *const param_keys[EW_P_COUNT] = {
+    "Eg_G",   "alpha_G", "beta_G",   "Eg_X",   "alpha_X", "beta_X",   "Eg_L",
+    "alpha_L", "beta_L", "VBO",      "Delta_so", "me",    "gamma1",   "gamma2",
+    "gamma3", "eps_static", "a_lattice", "Ep",  "F",       "a_c",      "a_v",
+    "b_shear", "d_shear", "c11",     "c12",    "c44"};
+
+static const char *const param_units[EW_P_COUNT] = {
+    "eV", "meV/K", "K", "eV", "meV/K", "K", "eV", "meV/K", "K", "eV", "eV", "m0", "-",
+    "-",  "-",     "-", "Å",  "eV",    "-", "eV", "eV",    "eV", "eV", "kbar", "kbar", "kbar"};
+
+const char *ew_param_key(ew_param p) {
+  return (p >= 0 && p < EW_P_COUNT) ? param_keys[p] : "?";
+}
+
+const char *ew_param_unit(ew_param p) {
+  return (p >= 0 && p < EW_P_COUNT) ? param_units[p] : "?";
+}
+
+const ew_param ew_gap_param[3] = {EW_P_EG_G, EW_P_EG_X, EW_P_EG_L};
+const ew_param ew_alpha_param[3] = {EW_P_ALPHA_G, EW_P_ALPHA_X, EW_P_ALPHA_L};
+const ew_param ew_beta_param[3] = {EW_P_BETA_G, EW_P_BETA_X, EW_P_BETA_L};
+
+int ew_param_is_varshni(ew_param p) {
+  return p == EW_P_ALPHA_G || p == EW_P_BETA_G || p == EW_P_ALPHA_X || p == EW_P_BETA_X ||
+         p == EW_P_ALPHA_L || p == EW_P_BETA_L;
+}
+
+/* The Luttinger parameters are interpolated linearly (the brief's rule, following
+ * Vurgaftman 2001, who give no γ bowings), and Varshni α, β are not used for alloys at all
+ * (the end binaries' gaps are taken at T instead). */
+int ew_param_no_bowing(ew_param p) {
+  return p == EW_P_GAMMA1 || p == EW_P_GAMMA2 || p == EW_P_GAMMA3 || ew_param_is_varshni(p);
+}
+
+/* ---- catalogue ------------------------------------------------------------------------ */
+
+/* Corner pairs of the edges of each scheme (see alloy.h). */
+static const int edge_a[2][4] = {{0, 1, 0, 2}, {0, 1, 0, -1}};
+static const int edge_b[2][4] = {{2, 3, 1, 3}, {1, 2, 2, -1}};
+
+static char *dup_str(const char *s) {
+  size_t n = strlen(s) + 1;
+  char *d = malloc(n);
+  if (d) memcpy(d, s, n);
+  return d;
+}
+
+static void entry_clear(ew_cat_entry *e) {
+  free(e->name);
+  free(e->description);
+  free(e->x_is);
+  free(e->path);
+  free(e->first);
+  free(e->second);
+  free(e->y_is);
+  for (int k = 0; k < 4; k++) free(e->corner[k]);
+  for (int p = 0; p < EW_P_COUNT; p++) free(e->source[p]);
+  memset(e, 0, sizeof *e);
+}
+
+void ew_catalogue_free(ew_catalogue *cat) {
+  if (!cat) return;
+  for (size_t i = 0; i < cat->n; i++) entry_clear(&cat->e[i]);
+  free(cat->e);
+  free(cat);
+}
+
+/* " (did you mean 'NEAR'?)" for a message, or "" when the rule of text.h finds nothing
+ * close enough. */
+static const char *mean_text(const char *near, char *buf, size_t size) {
+  if (!near) return "";
+  snprintf(buf, size, " (did you mean '%s'?)", near);
+  return buf;
+}
+
+static int key_index(const char *key) {
+  for (int p = 0; p < EW_P_COUNT; p++)
+    if (strcmp(key, param_keys[p]) == 0) return p;
+  return -1;
+}
+
+size_t ew_catalogue_count(const ew_catalogue *cat) { return cat ? cat->n : 0; }
+
+const char *ew_catalogue_name(const ew_catalogue *cat, size_t i) {
+  return (cat && i < cat->n) ? cat->e[i].name : NULL;
+}
+
+long ew_catalogue_find(const ew_catalogue *cat, const char *name) {
+  if (!cat || !name) return -1;
+  for (size_t i = 0; i < cat->n; i++)
+    if (strcmp(cat->e[i].name, name) == 0) return (long)i;
+  return -1;
+}
+
+int ew_catalogue_is_alloy(const ew_catalogue *cat, const char *name) {
+  long i = ew_catalogue_find(cat, name);
+  return i < 0 ? -1 : cat->e[i].is_alloy;
+}
+
+int ew_catalogue_needs_y(const ew_catalogue *cat, const char *name) {
+  long i = ew_catalogue_find(cat, name);
+  return i < 0 ? -1 : cat->e[i].kind == EW_KIND_QUATERNARY;
+}
+
+const char *ew_catalogue_description(const ew_catalogue *cat, size_t i) {
+  if (!cat || i >= cat->n) return NULL;
+  const ew_cat_entry *e = &cat->e[i];
+  return e->kind == EW_KIND_ALLOY ? e->x_is : e->description;
+}
+
+const char *ew_catalogue_x_is(const ew_catalogue *cat, size_t i) {
+  return (cat && i < cat->n) ? cat->e[i].x_is : NULL;
+}
+
+const char *ew_catalogue_y_is(const ew_catalogue *cat, size_t i) {
+  return (cat && i < cat->n) ? cat->e[i].y_is : NULL;
+}
+
+const char *ew_catalogue_nearest(const ew_catalogue *cat, const char *name) {
+  if (!cat || !name) return NULL;
+  ew_suggestion sg;
+  ew_suggest_init(&sg, name);
+  for (size_t i = 0; i < cat->n; i++) ew_suggest_offer(&sg, cat->e[i].name);
+  return ew_suggest_best(&sg);
+}
+
+/* element symbols of a name (capital + lower-case letters), sorted; 0 when it is not made
+ * of symbols only or has too many */
+static int element_key(const char *name, char out[8][3]) {
+  int n = 0;
+  for (const char *p = name; *p;) {
+    if (!isupper((unsigned char)*p) || n == 8) return 0;
+    out[n][0] = *p++;
+    out[n][1] = islower((unsigned char)*p) ? *p++ : '\0';
+    out[n][2] = '\0';
+    if (islower((unsigned char)*p)) return 0;
+    n++;
+  }
+  for (int i = 1; i < n; i++) /* insertion sort: a handful of symbols */
+    for (int j = i; j > 0 && strcmp(out[j - 1], out[j]) > 0; j--) {
+      char t[3];
+      memcpy(t, out[j], 3), memcpy(out[j], out[j - 1], 3), memcpy(out[j - 1], t, 3);
+    }
+  return n;
+}
+
+long ew_catalogue_reordered(const ew_catalogue *cat, const char *name) {
+  char a[8][3], b[8][3];
+  int na = name ? element_key(name, a) : 0;
+  if (!cat || na < 2) return -1;
+  for (size_t i = 0; i < cat->n; i++) {
+    if (!strcmp(cat->e[i].name, name) || element_key(cat->e[i].name, b) != na) continue;
+    if (!memcmp(a, b, sizeof(char[3]) * (size_t)na)) return (long)i;
+  }
+  return -1;
+}
+
+void ew_catalogue_hint(const ew_catalogue *cat, const char *name, char *buf, size_t size) {
+  if (!size) return;
+  buf[0] = '\0';
+  long i = ew_catalogue_reordered(cat, name);
+  if (i >= 0) {
+    const ew_cat_entry *e = &cat->e[i];
+    if (e->y_is)
+      snprintf(buf, size, "the catalogue writes it '%s', x = %s, y = %s", e->name, e->x_is, e->y_is);
+    else if (e->x_is)
+      snprintf(buf, size, "the catalogue writes it '%s', x = %s", e->name, e->x_is);
+    else
+      snprintf(buf, size, "did you mean '%s'?", e->name);
+    return;
+  }
+  const char *near = ew_catalogue_nearest(cat, name);
+  if (near) snprintf(buf, size, "did you mean '%s'?", near);
+}
+
+const char *ew_catalogue_dir(const ew_catalogue *cat) { return cat ? cat->dir : NULL; }
+
+/* ---- reading one file ----------------------------------------------------------------- */
+
+static int line_of(const config_setting_t *s) { return (int)config_setting_source_line(s); }
+
+/* A number setting (int or float) → *v; 0 if not a number. */
+static int get_number(const config_setting_t *s, double *v) {
+  switch (config_setting_type(s)) {
+  case CONFIG_TYPE_INT: *v = config_setting_get_int(s); return 1;
+  case CONFIG_TYPE_INT64: *v = (double)config_setting_get_int64(s); return 1;
+  case CONFIG_TYPE_FLOAT: *v = config_setting_get_float(s); return 1;
+  default: return 0;
+  }
+}
+
+/* A required or optional top-level string; returns EW_OK and *out = NULL when optional and
+ * absent. */
+static ew_status get_string(const config_setting_t *root, const char *key, int required,
+                            const char *path, char **out, int *line, ew_error *err) {
+  *out = NULL;
+  config_setting_t *s = config_setting_get_member(root, key);
+  if (!s) {
+    if (!required) return EW_OK;
+    return ew_fail(err, EW_ERR_CATALOGUE, path, 0, "missing required setting '%s'", key);
+  }
+  if (line) *line = line_of(s);
+  const char *t = config_setting_get_string(s);
+  if (!t) return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s), "'%s' must be a string", key);
+  if (!t[0]) return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s), "'%s' is empty", key);
+  *out = dup_str(t);
+  if (!*out) return ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
+  return EW_OK;
+}
+
+/* The fields of one parameter group KEY = { value = ...; [per_x = ...;] source = "..."; }. */
+static ew_status read_param_fields(const config_setting_t *ps, const char *key, int p,
+                                   int bowing, const char *path, ew_cat_entry *e,
+                                   int *have_value, ew_error *err) {
+  int m = config_setting_length(ps);
+  for (int j = 0; j < m; j++) {
+    const config_setting_t *f = config_setting_get_elem(ps, (unsigned)j);
+    const char *fk = config_setting_name(f);
+    int fl = line_of(f);
+    if (strcmp(fk, "value") == 0 || (bowing && strcmp(fk, "per_x") == 0)) {
+      double v;
+      if (!get_number(f, &v))
+        return ew_fail(err, EW_ERR_CATALOGUE, path, fl, "%s.%s must be a number", key, fk);
+      if (!isfinite(v))
+        return ew_fail(err, EW_ERR_CATALOGUE, path, fl, "%s.%s is not finite", key, fk);
+      if (fk[0] == 'v') {
+        e->v[p] = v;
+        *have_value = 1;
+      } else {
+        e->per_x[p] = v;
+      }
+    } else if (strcmp(fk, "source") == 0) {
+      const char *t = config_setting_get_string(f);
+      if (!t || !t[0])
+        return ew_fail(err, EW_ERR_CATALOGUE, path, fl, "%s.source must be a non-empty string",
+                       key);
+      e->source[p] = dup_str(t);
+      if (!e->source[p]) return ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
+    } else {
+      return ew_fail(err, EW_ERR_CATALOGUE, path, fl,
+                     "unknown field '%s' in %s (expected value%s, source)", fk, key,
+                     bowing ? ", per_x" : "");
+    }
+  }
+  return EW_OK;
+}
+
+/* Read the group "params" (binary, bowing = 0) or "bowing" (alloy, bowing = 1). */
+static ew_status read_params(const config_setting_t *grp, int bowing, const char *path,
+                             ew_cat_entry *e, ew_error *err) {
+  const char *what = bowing ? "bowing" : "params";
+  if (!config_setting_is_group(grp))
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(grp),
+                   "'%s' must be a group { KEY = { value = ...; source = \"...\"; }; ... }",
+                   what);
+  int n = config_setting_length(grp);
+  for (int k = 0; k < n; k++) {
+    config_setting_t *ps = config_setting_get_elem(grp, (unsigned)k);
+    const char *key = config_setting_name(ps);
+    int ln = line_of(ps);
+    int p = key_index(key);
+    char mean[96];
+    if (p < 0)
+      return ew_fail(err, EW_ERR_CATALOGUE, path, ln, "unknown parameter '%s' in %s%s", key,
+                     what, mean_text(ew_text_nearest(key, param_keys, EW_P_COUNT), mean,
+                                     sizeof mean));
+    if (bowing && ew_param_no_bowing((ew_param)p))
+      return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
+                     "no bowing allowed for '%s': %s", key,
+                     (p == EW_P_GAMMA1 || p == EW_P_GAMMA2 || p == EW_P_GAMMA3)
+                         ? "Luttinger parameters are interpolated linearly"
+                         : "alloy gaps at T use the end binaries' Varshni parameters");
+    if (!config_setting_is_group(ps))
+      return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
+                     "'%s' must be a group { value = ...; source = \"...\"; }", key);
+    int have_value = 0;
+    ew_status st = read_param_fields(ps, key, p, bowing, path, e, &have_value, err);
+    if (st) return st;
+    if (!have_value)
+      return ew_fail(err, EW_ERR_CATALOGUE, path, ln, "%s has no value", key);
+    if (!e->source[p])
+      return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
+                     "%s has no source (every value must say where it comes from)", key);
+    e->have[p] = 1;
+    e->line[p] = ln;
+  }
+  return EW_OK;
+}
+
+/* Checks on a binary's values that the band calculation relies on. */
+static ew_status check_binary(const ew_cat_entry *e, const char *path, int root_line,
+                              ew_error *err) {
+  static const ew_param need[] = {EW_P_EG_G, EW_P_VBO, EW_P_ME, EW_P_GAMMA1, EW_P_GAMMA2};
+  for (size_t k = 0; k < sizeof need / sizeof need[0]; k++)
+    if (!e->have[need[k]])
+      return ew_fail(err, EW_ERR_CATALOGUE, path, root_line,
+                     "binary '%s' lacks %s (needed for the band edges and masses)", e->name,
+                     param_keys[need[k]]);
+  for (int g = 0; g < 3; g++) {
+    int hg = e->have[ew_gap_param[g]], ha = e->have[ew_alpha_param[g]], hb = e->have[ew_beta_param[g]];
+    if (hg && (!ha || !hb))
+      return ew_fail(err, EW_ERR_CATALOGUE, path, e->line[ew_gap_param[g]],
+                     "%s needs %s and %s (Varshni temperature dependence)",
+                     param_keys[ew_gap_param[g]], param_keys[ew_alpha_param[g]], param_keys[ew_beta_param[g]]);
+    if (!hg && (ha || hb))
+      return ew_fail(err, EW_ERR_CATALOGUE, path,
+                     e->line[ha ? ew_alpha_param[g] : ew_beta_param[g]],
+                     "Varshni parameters given without %s", param_keys[ew_gap_param[g]]);
+    if (hb && e->v[ew_beta_param[g]] <= 0)
+      return ew_fail(err, EW_ERR_CATALOGUE, path, e->line[ew_beta_param[g]],
+                     "%s must be > 0 K", param_keys[ew_beta_param[g]]);
+  }
+  /* one sign convention for a_v in the whole catalogue: mixing them would silently swap
+   * the direction of the hydrostatic valence shift (strain.h) */
+  if (e->have[EW_P_AV] && e->v[EW_P_AV] > 0)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, e->line[EW_P_AV],
+                   "a_v = %g eV > 0: this catalogue stores a_v with the sign of the tables of "
+                   "Vurgaftman et al. 2001 (negative, GaAs -1.16 eV; the valence band then "
+                   "moves down under hydrostatic compression, see src/strain.h)",
+                   e->v[EW_P_AV]);
+  return EW_OK;
+}
+
+#define COUNT(a) (sizeof(a) / sizeof((a)[0]))
+
+/* The first of keys that root holds (*which = its key), or NULL. */
+static const config_setting_t *first_present(const config_setting_t *root,
+                                             const char *const *keys, size_t n,
+                                             const char **which) {
+  for (size_t j = 0; j < n; j++) {
+    const config_setting_t *s = config_setting_get_member(root, keys[j]);
+    if (s) {
+      *which = keys[j];
+      return s;
+    }
+  }
+  return NULL;
+}
+
+static const char *const top_keys[] = {"name", "kind",   "description", "params",
+                                       "first", "second", "x_is",        "bowing",
+                                       "y_is", "scheme", "binaries"};
+
+/* Every top-level setting must be one of top_keys (parameters belong in a group). */
+static ew_status check_top_keys(const config_setting_t *root, const char *path,
+                                ew_error *err) {
+  int n = config_setting_length(root);
+  for (int k = 0; k < n; k++) {
+    const config_setting_t *s = config_setting_get_elem(root, (unsigned)k);
+    const char *key = config_setting_name(s);
+    size_t j = 0;
+    while (j < COUNT(top_keys) && strcmp(key, top_keys[j]) != 0) j++;
+    if (j < COUNT(top_keys)) continue;
+    char mean[96];
+    if (key_index(key) >= 0)
+      return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                     "parameter '%s' must be inside params = { ... } (or bowing)", key);
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s), "unknown setting '%s'%s", key,
+                   mean_text(ew_text_nearest(key, top_keys, COUNT(top_keys)), mean,
+                             sizeof mean));
+  }
+  return EW_OK;
+}
+
+/* name, kind and description (required except for ternary alloys). */
+static ew_status read_kind(const config_setting_t *root, const char *path, ew_cat_entry *e,
+                           ew_error *err) {
+  char *kind = NULL;
+  int kind_line = 0;
+  ew_status st;
+  if ((st = get_string(root, "name", 1, path, &e->name, &e->name_line, err))) return st;
+  if ((st = get_string(root, "kind", 1, path, &kind, &kind_line, err))) return st;
+  if (strcmp(kind, "binary") == 0) {
+    e->kind = EW_KIND_BINARY;
+  } else if (strcmp(kind, "alloy") == 0) {
+    e->kind = EW_KIND_ALLOY;
+  } else if (strcmp(kind, "quaternary") == 0) {
+    e->kind = EW_KIND_QUATERNARY;
+  } else {
+    st = ew_fail(err, EW_ERR_CATALOGUE, path, kind_line,
+                 "kind must be \"binary\", \"alloy\" or \"quaternary\", not \"%s\"", kind);
+    free(kind);
+    return st;
+  }
+  free(kind);
+  e->is_alloy = e->kind != EW_KIND_BINARY;
+  return get_string(root, "description", e->kind != EW_KIND_ALLOY, path, &e->description,
+                    NULL, err);
+}
+
+/* scheme = "square" | "triangle" and the corner binaries of a quaternary. */
+static ew_status read_corners(const config_setting_t *root, const char *path,
+                              ew_cat_entry *e, ew_error *err) {
+  char *scheme = NULL;
+  int scheme_line = 0;
+  ew_status st = get_string(root, "scheme", 1, path, &scheme, &scheme_line, err);
+  if (st) return st;
+  if (strcmp(scheme, "square") == 0) {
+    e->scheme = EW_SCHEME_SQUARE;
+    e->n_corner = 4;
+  } else if (strcmp(scheme, "triangle") == 0) {
+    e->scheme = EW_SCHEME_TRIANGLE;
+    e->n_corner = 3;
+  } else {
+    st = ew_fail(err, EW_ERR_CATALOGUE, path, scheme_line,
+                 "scheme must be \"square\" (A(x)B(1-x)C(y)D(1-y)) or \"triangle\" "
+                 "(A(x)B(y)C(1-x-y)D), not \"%s\"",
+                 scheme);
+    free(scheme);
+    return st;
+  }
+  free(scheme);
+  e->n_edge = e->scheme == EW_SCHEME_SQUARE ? 4 : 3;
+  const config_setting_t *bl = config_setting_get_member(root, "binaries");
+  if (!bl) return ew_fail(err, EW_ERR_CATALOGUE, path, 0, "missing required setting 'binaries'");
+  e->corners_line = line_of(bl);
+  int nb = config_setting_length(bl);
+  if (!(config_setting_is_array(bl) || config_setting_is_list(bl)) || nb != e->n_corner)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, e->corners_line,
+                   "binaries must be an array of %d names: %s", e->n_corner,
+                   e->scheme == EW_SCHEME_SQUARE ? "[AC, AD, BC, BD] for A(x)B(1-x)C(y)D(1-y)"
+                                                 : "[AD, BD, CD] for A(x)B(y)C(1-x-y)D");
+  for (int k = 0; k < nb; k++) {
+    const char *t = config_setting_get_string_elem(bl, (unsigned)k);
+    if (!t || !t[0])
+      return ew_fail(err, EW_ERR_CATALOGUE, path, e->corners_line,
+                     "binaries[%d] must be a material name", k);
+    if (!(e->corner[k] = dup_str(t))) return ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
+  }
+  return EW_OK;
+}
+
+static ew_status read_quaternary(const config_setting_t *root, const char *path,
+                                 ew_cat_entry *e, ew_error *err) {
+  static const char *const refused[] = {"params", "first", "second", "bowing"};
+  const char *which;
+  const config_setting_t *s = first_present(root, refused, COUNT(refused), &which);
+  if (s)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                   "a quaternary takes its values from its corner binaries and the bowings "
+                   "of the ternaries between them: '%s' is not allowed",
+                   which);
+  ew_status st;
+  if ((st = get_string(root, "x_is", 1, path, &e->x_is, NULL, err))) return st;
+  if ((st = get_string(root, "y_is", 1, path, &e->y_is, NULL, err))) return st;
+  return read_corners(root, path, e, err);
+}
+
+static ew_status read_alloy(const config_setting_t *root, const char *path, ew_cat_entry *e,
+                            ew_error *err) {
+  const config_setting_t *s = config_setting_get_member(root, "params");
+  if (s)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                   "an alloy takes its parameters from its end binaries: use bowing = { ... }");
+  ew_status st;
+  if ((st = get_string(root, "first", 1, path, &e->first, &e->first_line, err))) return st;
+  if ((st = get_string(root, "second", 1, path, &e->second, &e->second_line, err))) return st;
+  if ((st = get_string(root, "x_is", 1, path, &e->x_is, NULL, err))) return st;
+  const config_setting_t *b = config_setting_get_member(root, "bowing");
+  return b ? read_params(b, 1, path, e, err) : EW_OK;
+}
+
+static ew_status read_binary(const config_setting_t *root, const char *path, ew_cat_entry *e,
+                             ew_error *err) {
+  static const char *const alloy_only[] = {"first", "second", "x_is", "bowing"};
+  const char *which;
+  const config_setting_t *s = first_present(root, alloy_only, COUNT(alloy_only), &which);
+  if (s)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                   "'%s' belongs to alloys, not to a binary", which);
+  const config_setting_t *p = config_setting_get_member(root, "params");
+  if (!p) return ew_fail(err, EW_ERR_CATALOGUE, path, 0, "binary without params = { ... }");
+  ew_status st = read_params(p, 0, path, e, err);
+  return st ? st : check_binary(e, path, line_of(p), err);
+}
+
+/* One parsed catalogue file into e. */
+static ew_status read_entry(const config_setting_t *root, const char *path, ew_cat_entry *e,
+                            ew_error *err) {
+  ew_status st;
+  if ((st = check_top_keys(root, path, err))) return st;
+  if ((st = read_kind(root, path, e, err))) return st;
+  if (e->kind != EW_KIND_QUATERNARY) {
+    static const char *const quaternary_only[] = {"y_is", "scheme", "binaries"};
+    const char *which;
+    const config_setting_t *s = first_present(root, quaternary_only, COUNT(quaternary_only), &which);
+    if (s)
+      return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s),
+                     "'%s' belongs to quaternaries (kind = \"quaternary\")", which);
+  }
+  if (e->kind == EW_KIND_QUATERNARY) return read_quaternary(root, path, e, err);
+  if (e->kind == EW_KIND_ALLOY) return read_alloy(root, path, e, err);
+  return read_binary(root, path, e, err);
+}
+
+static ew_status read_file(const char *path, ew_cat_entry *e, ew_error *err) {
+  config_t cfg;
+  config_init(&cfg);
+  ew_status st;
+  if (!config_read_file(&cfg, path)) {
+    if (config_error_type(&cfg) == CONFIG_ERR_FILE_IO)
+      st = ew_fail(err, EW_ERR_CATALOGUE, path, 0, "cannot read catalogue file");
+    else
+      st = ew_fail(err, EW_ERR_CATALOGUE, path, config_error_line(&cfg), "syntax error: %s",
+                   config_error_text(&cfg) ? config_error_text(&cfg) : "?");
+  } else if (!(e->path = dup_str(path))) {
+    st = ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
+  } else {
+    st = read_entry(config_root_setting(&cfg), path, e, err);
+  }
+  config_destroy(&cfg);
+  return st;
+}
+
+/* ---- quaternaries: corners, bounding ternaries, source texts -------------------------- */
+
+const char ew_quaternary_ref[] =
+    "I. Vurgaftman, J. R. Meyer, L. R. Ram-Mohan, J. Appl. Phys. 89, 5815 (2001), section on "
+    "quaternary alloys, interpolation form as recalled (from memory)";
+
+/* Find the ternary alloy whose end binaries are corners ia and ib (either order). */
+static ew_status find_edge(const ew_catalogue *cat, ew_cat_entry *e, int k, ew_error *err) {
+  size_t ia = e->i_corner[edge_a[e->scheme][k]], ib = e->i_corner[edge_b[e->scheme][k]];
+  for (size_t j = 0; j < cat->n; j++) {
+    const ew_cat_entry *t = &cat->e[j];
+    if (t->kind != EW_KIND_ALLOY) continue;
+    if ((t->i_first == ia && t->i_second == ib) || (t->i_first == ib && t->i_second == ia)) {
+      e->i_edge[k] = j;
+      e->edge_flip[k] = t->i_first != ia;
+      return EW_OK;
+    }
+  }
+  return ew_fail(err, EW_ERR_CATALOGUE, e->path, e->corners_line,
+                 "quaternary '%s' needs the ternary alloy of %s and %s in the catalogue (for "
+                 "its bowing): add materials/%s%s.cfg or similar with kind = \"alloy\"",
+                 e->name, cat->e[ia].name, cat->e[ib].name, cat->e[ia].name, cat->e[ib].name);
+}
+
+static ew_status resolve_quaternary(ew_catalogue *cat, ew_cat_entry *e, ew_error *err) {
+  for (int k = 0; k < e->n_corner; k++) {
+    long j = ew_catalogue_find(cat, e->corner[k]);
+    if (j < 0) {
+      char mean[96];
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, e->corners_line,
+                     "corner binary '%s' of quaternary '%s' is not in the catalogue%s",
+                     e->corner[k], e->name,
+                     mean_text(ew_catalogue_nearest(cat, e->corner[k]), mean, sizeof mean));
+    }
+    if (cat->e[j].kind != EW_KIND_BINARY)
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, e->corners_line,
+                     "corner '%s' of quaternary '%s' must be a binary", e->corner[k], e->name);
+    for (int m = 0; m < k; m++)
+      if (e->i_corner[m] == (size_t)j)
+        return ew_fail(err, EW_ERR_CATALOGUE, e->path, e->corners_line,
+                       "quaternary '%s' names the binary '%s' twice", e->name, e->corner[k]);
+    e->i_corner[k] = (size_t)j;
+  }
+  for (int k = 0; k < e->n_edge; k++) {
+    ew_status st = find_edge(cat, e, k, err);
+    if (st) return st;
+  }
+  /* per-parameter source text: which binaries, which ternaries bow it */
+  char corners[256] = "";
+  for (int k = 0; k < e->n_corner; k++) {
+    size_t l = strlen(corners);
+    snprintf(corners + l, sizeof corners - l, "%s%s", k ? ", " : "", e->corner[k]);
+  }
+  const char *how = e->scheme == EW_SCHEME_SQUARE ? "bilinear interpolation" : "linear interpolation";
+  for (int p = 0; p < EW_P_COUNT; p++) {
+    char buf[1024];
+    if (ew_param_is_varshni((ew_param)p)) {
+      snprintf(buf, sizeof buf,
+               "%s of %s, for display only: gaps at T use each corner binary's Varshni law "
+               "(%s)",
+               how, corners, ew_quaternary_ref);
+    } else {
+      char bows[256] = "";
+      for (int k = 0; k < e->n_edge; k++) {
+        const ew_cat_entry *t = &cat->e[e->i_edge[k]];
+        if (!t->have[p]) continue;
+        size_t l = strlen(bows);
+        snprintf(bows + l, sizeof bows - l, "%s%s", bows[0] ? ", " : "", t->name);
+      }
+      if (bows[0])
+        snprintf(buf, sizeof buf, "%s of %s with the bowing of %s (%s)", how, corners, bows,
+                 ew_quaternary_ref);
+      else
+        snprintf(buf, sizeof buf, "%s of %s, no ternary bowing in this catalogue (%s)", how,
+                 corners, ew_quaternary_ref);
+    }
+    if (!(e->source[p] = dup_str(buf)))
+      return ew_fail(err, EW_ERR_NOMEM, e->path, 0, "out of memory");
+  }
+  return EW_OK;
+}
+
+/* ---- loading a directory -------------------------------------------------------------- */
+
+static int cmp_str(const void *a, const void *b) {
+  return strcmp(*(char *const *)a, *(char *const *)b);
+}
+
+static int cmp_entry(const void *a, const void *b) {
+  const ew_cat_entry *x = a, *y = b;
+  if (x->kind != y->kind) return x->kind - y->kind;
+  return strcmp(x->name, y->name);
+}
+
+static int is_cfg_name(const char *n) {
+  size_t l = strlen(n);
+  return n[0] != '.' && l > 4 && strcmp(n + l - 4, ".cfg") == 0;
+}
+
+/* 1 if dir is a directory holding at least one *.cfg file. */
+static int has_catalogue(const char *dir) {
+  DIR *d = opendir(dir);
+  if (!d) return 0;
+  int found = 0;
+  struct dirent *de;
+  while (!found && (de = readdir(d)) != NULL) found = is_cfg_name(de->d_name);
+  closedir(d);
+  return found;
+}
+
+/* The *.cfg file names of dir, sorted (so that error reports and the list do not depend on
+ * readdir order); *names is owned by the caller even on failure. */
+static ew_status list_cfg_files(const char *dir, char ***names, size_t *nn, ew_error *err) {
+  DIR *d = opendir(dir);
+  if (!d)
+    return ew_fail(err, EW_ERR_CATALOGUE, dir, 0, "cannot open material directory: %s",
+                   strerror(errno));
+  size_t cap = 0;
+  ew_status st = EW_OK;
+  struct dirent *de;
+  while ((de = readdir(d)) != NULL) {
+    if (!is_cfg_name(de->d_name)) continue;
+    if (*nn == cap) {
+      size_t nc = cap ? 2 * cap : 32;
+      char **t = realloc(*names, nc * sizeof *t);
+      if (!t) {
+        st = ew_fail(err, EW_ERR_NOMEM, dir, 0, "out of memory");
+        break;
+      }
+      *names = t;
+      cap = nc;
+    }
+    if (!((*names)[*nn] = dup_str(de->d_name))) {
+      st = ew_fail(err, EW_ERR_NOMEM, dir, 0, "out of memory");
+      break;
+    }
+    (*nn)++;
+  }
+  closedir(d);
+  if (st == EW_OK && *nn == 0)
+    st = ew_fail(err, EW_ERR_CATALOGUE, dir, 0, "no *.cfg material files in this directory");
+  if (st == EW_OK) qsort(*names, *nn, sizeof **names, cmp_str);
+  return st;
+}
+
+/* Read every file into cat->e (room for nn entries); names must be unique. */
+static ew_status read_files(ew_catalogue *cat, const char *dir, char *const *names, size_t nn,
+                            ew_error *err) {
+  for (size_t i = 0; i < nn; i++) {
+    char path[EW_CATALOGUE_PATH_MAX];
+    if (snprintf(path, sizeof path, "%s/%s", dir, names[i]) >= (int)sizeof path)
+      return ew_fail(err, EW_ERR_CATALOGUE, dir, 0, "path too long: %s", names[i]);
+    ew_status st = read_file(path, &cat->e[cat->n], err);
+    cat->n++; /* counted even on failure so that free releases what was read */
+    if (st) return st;
+    const ew_cat_entry *ne = &cat->e[cat->n - 1];
+    for (size_t j = 0; j + 1 < cat->n; j++)
+      if (strcmp(cat->e[j].name, ne->name) == 0)
+        return ew_fail(err, EW_ERR_CATALOGUE, ne->path, ne->name_line,
+                       "duplicate material name '%s' (already defined in %s:%d)", ne->name,
+                       cat->e[j].path, cat->e[j].name_line);
+  }
+  return EW_OK;
+}
+
+/* The end binaries of ternary alloy e: two distinct binaries of the catalogue. */
+static ew_status resolve_alloy(const ew_catalogue *cat, ew_cat_entry *e, ew_error *err) {
+  const char *end[2] = {e->first, e->second};
+  int lines[2] = {e->first_line, e->second_line};
+  size_t *idx[2] = {&e->i_first, &e->i_second};
+  for (int k = 0; k < 2; k++) {
+    long j = ew_catalogue_find(cat, end[k]);
+    char mean[96];
+    if (j < 0)
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, lines[k],
+                     "end binary '%s' of alloy '%s' is not in the catalogue%s", end[k], e->name,
+                     mean_text(ew_catalogue_nearest(cat, end[k]), mean, sizeof mean));
+    if (cat->e[j].is_alloy)
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, lines[k],
+                     "end '%s' of alloy '%s' must be a binary, not an alloy", end[k], e->name);
+    *idx[k] = (size_t)j;
+  }
+  if (e->i_first == e->i_second)
+    return ew_fail(err, EW_ERR_CATALOGUE, e->path, e->second_line,
+                   "alloy '%s' has the same end binary twice", e->name);
+  return EW_OK;
+}
+
+static ew_status load_dir(const char *dir, ew_catalogue **out, ew_error *err) {
+  char **names = NULL;
+  size_t nn = 0;
+  ew_catalogue *cat = NULL;
+  ew_status st = list_cfg_files(dir, &names, &nn, err);
+  if (st == EW_OK && !(cat = calloc(1, sizeof *cat)))
+    st = ew_fail(err, EW_ERR_NOMEM, dir, 0, "out of memory");
+  if (st == EW_OK && !(cat->e = calloc(nn, sizeof *cat->e)))
+    st = ew_fail(err, EW_ERR_NOMEM, dir, 0, "out of memory");
+  if (st == EW_OK) {
+    snprintf(cat->dir, sizeof cat->dir, "%s", dir);
+    st = read_files(cat, dir, names, nn, err);
+  }
+  for (size_t i = 0; i < nn; i++) free(names[i]);
+  free(names);
+  if (st == EW_OK) qsort(cat->e, cat->n, sizeof *cat->e, cmp_entry);
+  /* resolve alloys after sorting, since indices are kept; quaternaries need the alloys */
+  for (size_t i = 0; st == EW_OK && i < cat->n; i++)
+    if (cat->e[i].kind == EW_KIND_ALLOY) st = resolve_alloy(cat, &cat->e[i], err);
+  for (size_t i = 0; st == EW_OK && i < cat->n; i++)
+    if (cat->e[i].kind == EW_KIND_QUATERNARY) st = resolve_quaternary(cat, &cat->e[i], err);
+  if (st) {
+    ew_catalogue_free(cat);
+    return st;
+  }
+  *out = cat;
+  return EW_OK;
+}
+
+/* dirname of the running executable, via /proc/self/exe (Linux); 0 when unknown. */
+static int exe_dir(char *buf, size_t size) {
+  ssize_t n = readlink("/proc/self/exe", buf, size - 1);
+  if (n <= 0 || (size_t)n >= size - 1) return 0;
+  buf[n] = '\0';
+  char *slash = strrchr(buf, '/');
+  if (!slash) return 0;
+  if (slash == buf) slash[1] = '\0';
+  else *slash = '\0';
+  return 1;
+}
+
+ew_status ew_catalogue_load(const char *dir, ew_catalogue **out, ew_error *err) {
+  if (!out) return ew_fail(err, EW_ERR_INPUT, NULL, 0, "ew_catalogue_load: out is NULL");
+  *out = NULL;
+  if (dir) return load_dir(dir, out, err);
+
+  /* An explicit $EPIWELL_MATERIALS is the only place looked at: silently falling back to
+   * an installed catalogue would hide a mistyped path. */
+  const char *env = getenv("EPIWELL_MATERIALS");
+  if (env && env[0]) {
+    if (!has_catalogue(env))
+      return ew_fail(err, EW_ERR_CATALOGUE, NULL, 0,
+                     "no material catalogue: $EPIWELL_MATERIALS=%s is not a directory with "
+                     "*.cfg files",
+                     env);
+    return load_dir(env, out, err);
+  }
+  char cand[5][EW_CATALOGUE_PATH_MAX];
+  size_t nc = 0;
+  char exe[EW_CATALOGUE_PATH_MAX];
+  if (exe_dir(exe, sizeof exe)) {
+    snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "%.4000s/materials", exe);
+    /* an installed tree moved as a whole: PREFIX/bin/epiwell → PREFIX/share/epiwell */
+    snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "%.4000s/../share/epiwell/materials", exe);
+    /* build/epiwell → ./materials and build/sanitize/epiwell → ./materials: the parent and
+       grandparent of the binary's directory */
+    for (int up = 0; up < 2; up++) {
+      char *slash = strrchr(exe, '/');
+      if (slash && slash != exe) {
+        *slash = '\0';
+        snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "%.4000s/materials", exe);
+      } else {
+        if (slash) snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "/materials");
+        break;
+      }
+    }
+  }
+  snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "%s", EW_PREFIX "/share/epiwell/materials");
+  for (size_t i = 0; i < nc; i++)
+    if (has_catalogue(cand[i])) return load_dir(cand[i], out, err);
+  char list[EW_CATALOGUE_PATH_MAX];
+  list[0] = '\0';
+  for (size_t i = 0; i < nc; i++) {
+    size_t l = strlen(list);
+    snprintf(list + l, sizeof list - l, "%s%s", i ? ", " : "", cand[i]);
+  }
+  return ew_fail(err, EW_ERR_CATALOGUE, NULL, 0,
+                 "no material catalogue found (set $EPIWELL_MATERIALS); searched: %s", list);
+}

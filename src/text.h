@@ -1,0 +1,42 @@
+/* text.h — small text helpers shared by the readers and printers: the one "did you mean"
+ * rule of the program (stack keys, catalogue keys, material names) and the display width of
+ * UTF-8 text for aligned columns.  Internal. */
+#ifndef EW_TEXT_H
+#define EW_TEXT_H
+
+#include <stddef.h>
+
+/* The "did you mean" rule, for keys and for material names alike:
+ *   - distance: Levenshtein edits (insert, delete or substitute one character; V. I.
+ *     Levenshtein, Sov. Phys. Dokl. 10, 707 (1966)) with letter case ignored, so "Gaas"
+ *     is 0 edits from "GaAs";
+ *   - among candidates at the same distance the one whose letters' case matches more
+ *     often wins ("GaAS" → "GaAs" before "GAAS"), then the earlier candidate;
+ *   - a candidate is suggested only when it is at most max(2, strlen(typed) / 3) edits
+ *     away: a farther one is rarely what was meant, and a wrong hint misleads.
+ * Texts longer than 127 bytes are compared on their first 127 (they get no useful
+ * suggestion anyway). */
+
+/* Case-insensitive Levenshtein distance (edits) between a and b. */
+int ew_text_distance(const char *a, const char *b);
+
+/* The best candidate so far for a typed word: offer candidates one by one (from any number
+ * of lists), then ask for the suggestion. */
+typedef struct {
+  const char *typed;
+  const char *best; /* NULL until a candidate was offered */
+  long best_cost;   /* edits, then case mismatches (see text.c) */
+} ew_suggestion;
+
+void ew_suggest_init(ew_suggestion *s, const char *typed);
+void ew_suggest_offer(ew_suggestion *s, const char *candidate); /* NULL is ignored */
+/* The suggestion by the rule above, or NULL when no candidate is close enough. */
+const char *ew_suggest_best(const ew_suggestion *s);
+
+/* The suggestion for typed among keys[0..n-1], or NULL. */
+const char *ew_text_nearest(const char *typed, const char *const *keys, size_t n);
+
+/* Characters (UTF-8 code points) in s, for aligning columns that hold "Å" or "Γ". */
+int ew_text_codepoints(const char *s);
+
+#endif
