@@ -196,12 +196,12 @@ static ew_pencil *pencil_at(const np_ctx *c, double E, double *M) {
   return ew_pencil_build_mass(c->g, EW_BAND_E, M);
 }
 
-/* λ_idx(H(E)) − E */
+/* λ_idx(H(E)) − E; *ok becomes 0 when the eigenvalue is not found, −1 when out of memory */
 static double gap_fn(const np_ctx *c, double E, size_t idx, double *M, size_t *counts,
                      int *ok) {
   ew_pencil *p = pencil_at(c, E, M);
   if (!p) {
-    *ok = 0;
+    *ok = -1;
     return 0.0;
   }
   double lam = ew_eigen_index(p, idx, E, 1e-13, counts);
@@ -210,7 +210,8 @@ static double gap_fn(const np_ctx *c, double E, size_t idx, double *M, size_t *c
   return lam - E;
 }
 
-/* Secant iteration for the fixed point of level idx from start; returns 0 on success.
+/* Secant iteration for the fixed point of level idx from start; returns 0 on success, 1 when
+ * it does not converge, −1 when out of memory.
  * *slope (in/out): the slope of g(E) = λ(E) − E; 0 on entry means unknown (the first step is
  * then the plain fixed-point step, slope −1).  The coarse grid starts from the fine grid's
  * slope, which is nearly the same, and usually converges in two evaluations. */
@@ -221,12 +222,12 @@ static int fixed_point(const np_ctx *c, size_t idx, double start, double *M, siz
   double s0 = *slope < 0 ? *slope : -1.0;
   double E1 = E0 - g0 / s0, g1 = 0.0;
   *last_step = fabs(g0);
-  if (fabs(g0) < NP_TOL_EV) {
-    *E_out = E1;
-    return !ok;
-  }
-  for (int it = 0; it < NP_MAX_IT && ok; it++) {
+  *E_out = E1;
+  if (ok != 1) return ok < 0 ? -1 : 1;
+  if (fabs(g0) < NP_TOL_EV) return 0;
+  for (int it = 0; it < NP_MAX_IT; it++) {
     g1 = gap_fn(c, E1, idx, M, counts, &ok);
+    if (ok != 1) return ok < 0 ? -1 : 1;
     if (E1 != E0 && g1 != g0) *slope = (g1 - g0) / (E1 - E0);
     double step = (g1 - g0) != 0.0 ? -g1 * (E1 - E0) / (g1 - g0) : g1;
     if (!isfinite(step)) step = g1;
@@ -262,16 +263,18 @@ static ew_status level_energies(const np_ctx *cf, const np_ctx *cc, size_t clo, 
     double start = ew_eigen_index(pp, idx, 0.5 * (lo + top), 1e-9, work_counts), step;
     if (!isfinite(start) || start > top) start = top;
     double slope = 0.0;
-    if (fixed_point(cf, idx, start, M, work_counts, &E[j], &step, &slope)) {
+    int fp = fixed_point(cf, idx, start, M, work_counts, &E[j], &step, &slope), fc = 0;
+    if (fp == 0 && cc && idx >= cc->g->n) cv[j] = NAN; /* the coarse grid cannot hold it */
+    else if (fp == 0 && cc) fc = fixed_point(cc, idx, E[j], M, work_counts, &cv[j], &step, &slope);
+    if (fp < 0 || fc < 0)
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
+    else if (fp)
       rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
                    "non-parabolic level e%zu did not converge in %d steps (reached %.9f eV, "
                    "last change %.2e eV)", j + 1, NP_MAX_IT, E[j], step);
-    } else if (cc && idx >= cc->g->n) { /* the coarse grid cannot hold this level */
-      cv[j] = NAN;
-    } else if (cc && fixed_point(cc, idx, E[j], M, work_counts, &cv[j], &step, &slope)) {
+    else if (fc)
       rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu did not converge "
                    "on the coarse grid (last change %.2e eV)", j + 1, step);
-    }
   }
   ew_pencil_free(pp);
   return rc;
