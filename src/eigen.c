@@ -1,14 +1,15 @@
-/* eigen.c — spectrum slicing with Sturm counts and SuperLU shift-invert (see eigen.h).
- * This file is the only one that touches SuperLU. */
+/* eigen.c — spectrum slicing: Sturm counts, isolation, Newton on the LDLᵀ recurrence, and
+ * inverse iteration with the shift-invert factorizations of superlu_adapter.c (see eigen.h). */
 #include "eigen.h"
 
 #include <float.h>
 #include <math.h>
-#include <slu_ddefs.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "error.h"
+#include "superlu_adapter.h"
 
 /* Eigenvalues closer than this have their vectors explicitly re-orthogonalized (measured:
    a pair 1e-7 eV apart came out 1.4e-10 non-orthogonal without it). */
@@ -72,109 +73,6 @@ void ew_eigenpairs_free(ew_eigenpairs *e) {
   free(e->residual);
   e->values = e->vectors = e->residual = NULL;
   e->count = 0;
-}
-
-/* ---- SuperLU adapter: factor H − σB once, solve many ------------------------------- */
-typedef struct {
-  int n;
-  double *nz;
-  int *row, *col;
-  int *perm_c, *perm_r, *etree;
-  SuperMatrix A, AC, L, U; /* AC: A with the column order applied; shares A's values */
-  int have_lu, have_ac;
-  superlu_options_t opt;
-  SuperLUStat_t stat;
-  GlobalLU_t glu;
-} slu;
-
-static int slu_init(slu *s, const ew_pencil *p) {
-  memset(s, 0, sizeof *s);
-  int n = (int)p->n, nnz = 3 * n - 2;
-  s->n = n;
-  s->nz = doubleMalloc(nnz);
-  s->row = intMalloc(nnz);
-  s->col = intMalloc(n + 1);
-  s->perm_c = intMalloc(n);
-  s->perm_r = intMalloc(n);
-  s->etree = intMalloc(n);
-  if (!s->nz || !s->row || !s->col || !s->perm_c || !s->perm_r || !s->etree) return 0;
-  int k = 0;
-  for (int j = 0; j < n; j++) { /* compressed columns of the tridiagonal */
-    s->col[j] = k;
-    if (j > 0) s->row[k++] = j - 1;
-    s->row[k++] = j;
-    if (j + 1 < n) s->row[k++] = j + 1;
-  }
-  s->col[n] = k;
-  dCreate_CompCol_Matrix(&s->A, n, n, nnz, s->nz, s->row, s->col, SLU_NC, SLU_D, SLU_GE);
-  set_default_options(&s->opt);
-  /* A tridiagonal needs no fill-reducing ordering; partial pivoting keeps it stable. */
-  s->opt.ColPerm = NATURAL;
-  for (int j = 0; j < n; j++) s->perm_c[j] = j;
-  StatInit(&s->stat);
-  /* the pattern never changes between shifts: order and elimination tree once (this saves a
-     third of each factorization's cost on a tridiagonal) */
-  sp_preorder(&s->opt, &s->A, s->perm_c, s->etree, &s->AC);
-  s->have_ac = 1;
-  return 1;
-}
-
-static void slu_drop_lu(slu *s) {
-  if (s->have_lu) {
-    Destroy_SuperNode_Matrix(&s->L);
-    Destroy_CompCol_Matrix(&s->U);
-    s->have_lu = 0;
-  }
-}
-
-static void slu_free(slu *s) {
-  slu_drop_lu(s);
-  if (s->have_ac) Destroy_CompCol_Permuted(&s->AC);
-  if (s->A.Store) Destroy_SuperMatrix_Store(&s->A);
-  if (s->stat.ops) StatFree(&s->stat);
-  SUPERLU_FREE(s->nz);
-  SUPERLU_FREE(s->row);
-  SUPERLU_FREE(s->col);
-  SUPERLU_FREE(s->perm_c);
-  SUPERLU_FREE(s->perm_r);
-  SUPERLU_FREE(s->etree);
-}
-
-/* Factor H − σB.  Returns 0 ok, i in 1..n when U(i,i) is exactly zero (σ is an eigenvalue
- * to working precision), −1 when SuperLU ran out of memory. */
-static int slu_factor(slu *s, const ew_pencil *p, double sigma) {
-  int n = s->n, k = 0;
-  for (int j = 0; j < n; j++) {
-    if (j > 0) s->nz[k++] = p->off[j - 1];
-    s->nz[k++] = p->diag[j] - sigma * p->b[j];
-    if (j + 1 < n) s->nz[k++] = p->off[j];
-  }
-  slu_drop_lu(s);
-  int info = 0;
-  s->opt.Fact = DOFACT;
-  /* small relax / panel sizes: a tridiagonal has no supernodes worth the bookkeeping */
-  dgstrf(&s->opt, &s->AC, 1, 1, s->etree, NULL, 0, s->perm_c, s->perm_r, &s->L, &s->U,
-         &s->glu, &s->stat, &info);
-  if (info == 0) {
-    s->have_lu = 1;
-    return 0;
-  }
-  if (info > 0 && info <= n) {
-    s->have_lu = 1; /* L and U are allocated even for an exactly singular U */
-    slu_drop_lu(s);
-    return info;
-  }
-  return -1;
-}
-
-/* x ← (H − σB)⁻¹ x in place. */
-static int slu_solve(slu *s, double *x) {
-  SuperMatrix X;
-  int info = 0;
-  dCreate_Dense_Matrix(&X, s->n, 1, x, s->n, SLU_DN, SLU_D, SLU_GE);
-  dgstrs(NOTRANS, &s->L, &s->U, s->perm_c, s->perm_r, &X, &s->stat, &info);
-  Destroy_SuperMatrix_Store(&X);
-  return info;
 }
 
 /* ---- helpers --------------------------------------------------------------------------- */
@@ -266,6 +164,229 @@ static void narrow(const tri *t, slice *s, double target, size_t *counts) {
   }
 }
 
+/* Values only: each slice bisected to 1e-12 eV (or the count's resolution). */
+static void window_values(const tri *t, slice *sl, size_t ns, double tol, ew_eigenpairs *out) {
+  size_t j = 0;
+  for (size_t q = 0; q < ns; q++) {
+    narrow(t, &sl[q], fmax(tol, 1e-12), &out->counts);
+    for (size_t m = sl[q].ca; m < sl[q].cb; m++) out->values[j++] = 0.5 * (sl[q].a + sl[q].b);
+  }
+  out->count = j;
+}
+
+/* Factor H − σB, perturbing σ when it hits an eigenvalue exactly (a zero pivot). */
+static ew_status factor_near(ew_shift_lu *lu, const ew_pencil *p, double *sigma, double tol,
+                             ew_eigenpairs *out, ew_error *err) {
+  ew_status rc = EW_OK;
+  for (int attempt = 0; attempt < 8; attempt++) {
+    rc = ew_shift_lu_factor(lu, p, *sigma, err);
+    out->factorizations++;
+    if (rc != EW_ERR_NUMERIC) return rc;
+    *sigma += (1e-10 + 4.0 * tol) * (attempt + 1);
+  }
+  return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "shift %.12g eV stays singular after perturbation",
+                 *sigma);
+}
+
+/* Inverse iteration with the current factorization for vector j, B-orthogonal to the vectors
+ * first..j−1 of its slice: x (normalised, xᵀBx = 1) and its Rayleigh quotient *theta; *res
+ * the relative residual.  Returns 1 when converged, 0 when not, −1 when a solve failed (err
+ * set). */
+static int inverse_iteration(const ew_pencil *p, ew_shift_lu *lu, ew_eigenpairs *out,
+                             size_t first, size_t j, double *x, double *y, double *theta,
+                             double *res, ew_error *err) {
+  size_t n = p->n;
+  start_vector(x, n, j + 1);
+  int conv = 0, extra = 1; /* after the residual settles, one more step polishes the vector
+                              (each shrinks its error by |λ − σ| / gap) */
+  for (int it = 0; it < 60 && extra > 0; it++) {
+    if (conv) extra--;
+    for (size_t i = 0; i < n; i++) y[i] = p->b[i] * x[i];
+    if (ew_shift_lu_solve(lu, y, err) != EW_OK) return -1;
+    out->solves++;
+    for (size_t r = first; r < j; r++) { /* B-orthogonal to this slice's vectors so far */
+      double *u = out->vectors + r * n, a = bdot(p, u, y);
+      for (size_t i = 0; i < n; i++) y[i] -= a * u[i];
+    }
+    double nb = sqrt(bdot(p, y, y));
+    if (!(nb > 0) || !isfinite(nb)) break;
+    for (size_t i = 0; i < n; i++) x[i] = y[i] / nb;
+    *theta = hquad(p, x);
+    *res = ew_pencil_residual(p, x, *theta);
+    if (!conv) conv = *res < 64.0 * DBL_EPSILON * sqrt((double)n) || (it > 4 && *res < 1e-11);
+  }
+  return conv;
+}
+
+/* Vectors of eigenvalues closer than EW_ORTH_GAP lose orthogonality to rounding
+   (~ ε‖T‖/gap): one final B-orthogonalization of x (value theta) against those before j. */
+static double orthogonalize_close(const ew_pencil *p, const ew_eigenpairs *out, size_t j,
+                                  double *x, double theta) {
+  size_t n = p->n;
+  int again = 0;
+  for (size_t r = j; r-- > 0 && theta - out->values[r] < EW_ORTH_GAP_EV;) {
+    double *u = out->vectors + r * n, a = bdot(p, u, x);
+    for (size_t i = 0; i < n; i++) x[i] -= a * u[i];
+    again = 1;
+  }
+  if (!again) return theta;
+  double nb = sqrt(bdot(p, x, x));
+  for (size_t i = 0; i < n; i++) x[i] /= nb;
+  return hquad(p, x);
+}
+
+/* The mult eigenvectors of slice c (values in out->values[j…]) from one factorization. */
+static ew_status slice_vectors(const ew_pencil *p, const tri *t, ew_shift_lu *lu, slice *c,
+                               double tol, size_t clo, size_t j, double *x, double *y,
+                               ew_eigenpairs *out, ew_error *err) {
+  size_t mult = c->cb - c->ca, n = p->n;
+  /* A single eigenvalue is refined by Newton on the LDLᵀ recurrence inside its slice (which
+     holds it alone): the shift then sits within ~1e-12 of it and inverse iteration converges
+     in one or two solves. */
+  double sigma = mult == 1 ? refine_newton(t, c, fmax(tol, 1e-12), &out->counts)
+                           : 0.5 * (c->a + c->b);
+  ew_status rc = factor_near(lu, p, &sigma, tol, out, err);
+  if (rc != EW_OK) return rc;
+  for (size_t m = 0; m < mult; m++, j++) {
+    double theta = sigma, res = INFINITY;
+    int conv = inverse_iteration(p, lu, out, j - m, j, x, y, &theta, &res, err);
+    if (conv < 0) return EW_ERR_NOMEM;
+    double slack = 1e3 * tol + 1e-9 * fabs(theta);
+    if (!conv || theta < c->a - slack || theta > c->b + slack)
+      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                     "inverse iteration did not converge to eigenvalue %zu in [%.12g, %.12g] eV "
+                     "(reached %.12g eV, relative residual %.3g)",
+                     c->ca + m + 1 - clo, c->a, c->b, theta, res);
+    theta = orthogonalize_close(p, out, j, x, theta);
+    memcpy(out->vectors + j * n, x, n * sizeof *x);
+    out->values[j] = theta;
+  }
+  return EW_OK;
+}
+
+/* Cyclic Jacobi on the symmetric m × m matrix a (row-major, destroyed): eigenvectors into the
+ * columns of q, eigenvalues left on a's diagonal (G. H. Golub, C. F. Van Loan, Matrix
+ * Computations, 4th ed., §8.5.2). */
+static void jacobi_eigen(size_t m, double *a, double *q) {
+  for (size_t i = 0; i < m * m; i++) q[i] = i % (m + 1) == 0;
+  for (int sweep = 0; sweep < 60; sweep++) {
+    double off = 0.0, diag = 0.0;
+    for (size_t i = 0; i < m; i++)
+      for (size_t k = 0; k < m; k++) *(i == k ? &diag : &off) += a[i * m + k] * a[i * m + k];
+    if (off <= DBL_EPSILON * DBL_EPSILON * diag) return;
+    for (size_t r = 0; r + 1 < m; r++)
+      for (size_t s = r + 1; s < m; s++) {
+        double apq = a[r * m + s];
+        if (apq == 0.0) continue;
+        double tau = (a[s * m + s] - a[r * m + r]) / (2.0 * apq);
+        double tn = (tau >= 0 ? 1.0 : -1.0) / (fabs(tau) + sqrt(1.0 + tau * tau));
+        double c = 1.0 / sqrt(1.0 + tn * tn), sn = tn * c;
+        for (size_t k = 0; k < m; k++) { /* a ← Jᵀ a J, q ← q J */
+          double akr = a[k * m + r], aks = a[k * m + s];
+          a[k * m + r] = c * akr - sn * aks, a[k * m + s] = sn * akr + c * aks;
+        }
+        for (size_t k = 0; k < m; k++) {
+          double ark = a[r * m + k], ask = a[s * m + k];
+          a[r * m + k] = c * ark - sn * ask, a[s * m + k] = sn * ark + c * ask;
+          double qkr = q[k * m + r], qks = q[k * m + s];
+          q[k * m + r] = c * qkr - sn * qks, q[k * m + s] = sn * qkr + c * qks;
+        }
+      }
+  }
+}
+
+/* Rotate the m B-orthonormal vectors v[j·n …] of one degenerate group to the basis that
+ * diagonalises the node index i (a position along z) within their span, ordered by ascending
+ * position, each with its largest component positive.  Returns 0 when out of memory. */
+static int rotate_to_position(const double *b, size_t n, size_t m, double *v) {
+  double *z = malloc(2 * m * m * sizeof *z + m * sizeof *z), *q = z ? z + m * m : NULL;
+  size_t *ord = malloc(m * sizeof *ord);
+  if (!z || !ord) {
+    free(z);
+    free(ord);
+    return 0;
+  }
+  double *row = q + m * m;
+  for (size_t r = 0; r < m; r++)
+    for (size_t s = r; s < m; s++) {
+      double acc = 0.0;
+      for (size_t i = 0; i < n; i++) acc += v[r * n + i] * b[i] * (double)i * v[s * n + i];
+      z[r * m + s] = z[s * m + r] = acc;
+    }
+  jacobi_eigen(m, z, q);
+  for (size_t r = 0; r < m; r++) ord[r] = r; /* insertion sort by position (m is small) */
+  for (size_t r = 1; r < m; r++)
+    for (size_t s = r; s > 0 && z[ord[s] * (m + 1)] < z[ord[s - 1] * (m + 1)]; s--) {
+      size_t tmp = ord[s];
+      ord[s] = ord[s - 1], ord[s - 1] = tmp;
+    }
+  for (size_t i = 0; i < n; i++) { /* row i of V ← row i of V Q (columns in position order) */
+    for (size_t s = 0; s < m; s++) {
+      double acc = 0.0;
+      for (size_t r = 0; r < m; r++) acc += v[r * n + i] * q[r * m + ord[s]];
+      row[s] = acc;
+    }
+    for (size_t s = 0; s < m; s++) v[s * n + i] = row[s];
+  }
+  for (size_t s = 0; s < m; s++) {
+    double *u = v + s * n, big = 0.0;
+    for (size_t i = 0; i < n; i++)
+      if (fabs(u[i]) > fabs(big)) big = u[i];
+    if (big < 0)
+      for (size_t i = 0; i < n; i++) u[i] = -u[i];
+  }
+  free(z);
+  free(ord);
+  return 1;
+}
+
+/* Eigenvalues closer than the count and the vectors can resolve (a few times the count's
+ * resolution) are degenerate to working precision: any orthonormal basis of their space is as
+ * right as any other, and the one the iteration happened to produce depends on start vectors
+ * and rounding.  Decoupled identical wells (the usual multi-well case) give such groups.  Each
+ * group is rotated to the basis that diagonalises the node position within it (localised
+ * states, one per well, ordered along z): deterministic and what a user expects of decoupled
+ * wells.  Returns 0 when out of memory. */
+static int localise_degenerate(const ew_pencil *p, ew_eigenpairs *out, double gap) {
+  size_t n = p->n;
+  for (size_t a = 0; a < out->count;) {
+    size_t b = a + 1;
+    while (b < out->count && out->values[b] - out->values[b - 1] <= gap) b++;
+    if (b - a > 1 && !rotate_to_position(p->b, n, b - a, out->vectors + a * n)) return 0;
+    for (size_t r = a; b - a > 1 && r < b; r++) out->values[r] = hquad(p, out->vectors + r * n);
+    for (size_t r = a + 1; r < b; r++) /* keep the values ascending (they agree to rounding) */
+      if (out->values[r] < out->values[r - 1]) out->values[r] = out->values[r - 1];
+    a = b;
+  }
+  return 1;
+}
+
+/* The vectors of every slice, then the degenerate groups localised. */
+static ew_status window_vectors(const ew_pencil *p, const tri *t, slice *sl, size_t ns,
+                                double tol, size_t clo, ew_eigenpairs *out, ew_error *err) {
+  size_t n = p->n, k = out->certified;
+  if (k > 0 && n > SIZE_MAX / sizeof(double) / k)
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "too many eigenvectors (%zu of size %zu)", k, n);
+  out->vectors = malloc((k ? k : 1) * n * sizeof *out->vectors);
+  double *x = malloc(n * sizeof *x), *y = malloc(n * sizeof *y);
+  ew_shift_lu *lu = out->vectors && x && y ? ew_shift_lu_create(n) : NULL;
+  ew_status rc = EW_OK;
+  if (!lu)
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvectors of size %zu)", k, n);
+  size_t j = 0;
+  for (size_t q = 0; rc == EW_OK && q < ns; q++) {
+    rc = slice_vectors(p, t, lu, &sl[q], tol, clo, j, x, y, out, err);
+    j += sl[q].cb - sl[q].ca;
+  }
+  out->count = rc == EW_OK ? j : 0;
+  if (rc == EW_OK && !localise_degenerate(p, out, 64.0 * tol))
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (degenerate eigenvectors)");
+  ew_shift_lu_free(lu);
+  free(x);
+  free(y);
+  return rc;
+}
+
 ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vectors,
                           ew_eigenpairs *out, ew_error *err) {
   memset(out, 0, sizeof *out);
@@ -273,129 +394,22 @@ ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vec
   if (p->n < 2 || !(lo < hi))
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "eigen-solve needs n >= 2 and lo < hi");
   tri t;
-  slice *sl = NULL;
-  slu s;
-  int have_slu = 0;
-  double *x = NULL, *y = NULL;
-  ew_status rc = EW_OK;
-  if (!tri_init(&t, p)) {
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (eigen workspace, n = %zu)", p->n);
-    goto done;
-  }
+  if (!tri_init(&t, p))
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (eigen workspace, n = %zu)", p->n);
   size_t clo = tri_count(&t, lo), chi = tri_count(&t, hi);
   out->counts = 2;
   out->certified = chi - clo;
   const double tol = 16.0 * DBL_EPSILON * t.norm; /* resolution of the count */
-  size_t ns = isolate(&t, lo, hi, clo, chi, tol, &sl, &out->counts);
-  if (ns == (size_t)-1) {
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvalues)", chi - clo);
-    goto done;
-  }
-  size_t k = out->certified;
-  out->values = malloc((k ? k : 1) * sizeof *out->values);
-  if (!out->values) {
+  slice *sl = NULL;
+  size_t ns = isolate(&t, lo, hi, clo, chi, tol, &sl, &out->counts), k = out->certified;
+  ew_status rc = EW_OK;
+  if (ns != (size_t)-1) out->values = malloc((k ? k : 1) * sizeof *out->values);
+  if (ns == (size_t)-1 || !out->values)
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvalues)", k);
-    goto done;
-  }
-  if (!want_vectors) {
-    size_t j = 0;
-    for (size_t q = 0; q < ns; q++) {
-      narrow(&t, &sl[q], fmax(tol, 1e-12), &out->counts);
-      for (size_t m = sl[q].ca; m < sl[q].cb; m++) out->values[j++] = 0.5 * (sl[q].a + sl[q].b);
-    }
-    out->count = j;
-    goto done;
-  }
-  if (k > 0 && p->n > SIZE_MAX / sizeof(double) / k) {
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "too many eigenvectors (%zu of size %zu)", k, p->n);
-    goto done;
-  }
-  out->vectors = malloc((k ? k : 1) * p->n * sizeof *out->vectors);
-  x = malloc(p->n * sizeof *x);
-  y = malloc(p->n * sizeof *y);
-  if (out->vectors && x && y) {
-    have_slu = 1; /* slu_free copes with a partly initialised adapter */
-    if (!slu_init(&s, p)) free(x), x = NULL;
-  }
-  if (!out->vectors || !x || !y) {
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvectors of size %zu)", k,
-                 p->n);
-    goto done;
-  }
-  size_t n = p->n, j = 0;
-  for (size_t q = 0; q < ns; q++) {
-    slice *c = &sl[q];
-    size_t mult = c->cb - c->ca;
-    /* A single eigenvalue is refined by Newton on the LDLᵀ recurrence inside its slice (which
-       holds it alone): the shift then sits within ~1e-12 of it and inverse iteration
-       converges in one or two solves. */
-    double sigma = mult == 1 ? refine_newton(&t, c, fmax(tol, 1e-12), &out->counts)
-                             : 0.5 * (c->a + c->b);
-    int info = 0;
-    for (int attempt = 0; attempt < 8; attempt++) {
-      info = slu_factor(&s, p, sigma);
-      out->factorizations++;
-      if (info <= 0) break;
-      sigma += (1e-10 + 4.0 * tol) * (attempt + 1); /* hit the eigenvalue exactly: perturb */
-    }
-    if (info != 0) {
-      rc = info < 0 ? ew_fail(err, EW_ERR_NOMEM, NULL, 0, "SuperLU ran out of memory (n = %zu)", n)
-                    : ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
-                              "shift %.12g eV stays singular after perturbation", sigma);
-      goto done;
-    }
-    for (size_t m = 0; m < mult; m++, j++) {
-      double *v = out->vectors + j * n, theta = sigma, res = INFINITY;
-      start_vector(x, n, j + 1);
-      int conv = 0, extra = 1; /* after the residual settles, one more step polishes the
-                                  vector (each shrinks its error by |λ − σ| / gap) */
-      for (int it = 0; it < 60 && extra > 0; it++) {
-        if (conv) extra--;
-        for (size_t i = 0; i < n; i++) y[i] = p->b[i] * x[i];
-        slu_solve(&s, y);
-        out->solves++;
-        /* B-orthogonalize against the vectors of this cluster found so far */
-        for (size_t r = j - m; r < j; r++) {
-          double *u = out->vectors + r * n, a = bdot(p, u, y);
-          for (size_t i = 0; i < n; i++) y[i] -= a * u[i];
-        }
-        double nb = sqrt(bdot(p, y, y));
-        if (!(nb > 0) || !isfinite(nb)) break;
-        for (size_t i = 0; i < n; i++) x[i] = y[i] / nb;
-        theta = hquad(p, x);
-        res = ew_pencil_residual(p, x, theta);
-        if (!conv) conv = res < 64.0 * DBL_EPSILON * sqrt((double)n) || (it > 4 && res < 1e-11);
-      }
-      double slack = 1e3 * tol + 1e-9 * fabs(theta);
-      if (!conv || theta < c->a - slack || theta > c->b + slack) {
-        rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
-                     "inverse iteration did not converge to eigenvalue %zu in [%.12g, %.12g] eV "
-                     "(reached %.12g eV, relative residual %.3g)",
-                     c->ca + m + 1 - clo, c->a, c->b, theta, res);
-        goto done;
-      }
-      /* Vectors of eigenvalues closer than EW_ORTH_GAP lose orthogonality to rounding
-         (~ ε‖T‖/gap): one final B-orthogonalization against those found before. */
-      int again = 0;
-      for (size_t r = j; r-- > 0 && theta - out->values[r] < EW_ORTH_GAP_EV;) {
-        double *u = out->vectors + r * n, a = bdot(p, u, x);
-        for (size_t i = 0; i < n; i++) x[i] -= a * u[i];
-        again = 1;
-      }
-      if (again) {
-        double nb = sqrt(bdot(p, x, x));
-        for (size_t i = 0; i < n; i++) x[i] /= nb;
-        theta = hquad(p, x);
-      }
-      memcpy(v, x, n * sizeof *v);
-      out->values[j] = theta;
-    }
-  }
-  out->count = j;
-done:
-  if (have_slu) slu_free(&s);
-  free(x);
-  free(y);
+  else if (!want_vectors)
+    window_values(&t, sl, ns, tol, out);
+  else
+    rc = window_vectors(p, &t, sl, ns, tol, clo, out, err);
   free(sl);
   tri_free(&t);
   if (rc != EW_OK) ew_eigenpairs_free(out);
@@ -523,71 +537,4 @@ double ew_eigen_index(const ew_pencil *p, size_t idx, double guess, double tol_e
   double v = newton_index(&t, idx, guess, 1e-3, fmax(tol_eV, 4.0 * DBL_EPSILON * t.norm), counts);
   tri_free(&t);
   return v;
-}
-
-/* ---- general tridiagonal linear solve (the self-consistent Poisson step) ---------------- */
-ew_status ew_sparse_tridiag_solve(size_t n, const double *lower, const double *diag,
-                                  const double *upper, double *rhs_inout, ew_error *err) {
-  if (n == 0) return EW_OK;
-  if (n > 100000000u)
-    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "tridiagonal system of %zu unknowns is too large", n);
-  for (size_t i = 0; i < n; i++) /* SuperLU is only given finite, well-formed input */
-    if (!isfinite(diag[i]) || !isfinite(rhs_inout[i]) ||
-        (i + 1 < n && (!isfinite(lower[i]) || !isfinite(upper[i]))))
-      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
-                     "tridiagonal solve: non-finite coefficient at row %zu", i);
-  int m = (int)n, nnz = 3 * m - 2;
-  double *nz = doubleMalloc(nnz);
-  int *row = intMalloc(nnz), *col = intMalloc(m + 1);
-  int *perm_c = intMalloc(m), *perm_r = intMalloc(m);
-  ew_status rc = EW_OK;
-  if (!nz || !row || !col || !perm_c || !perm_r) {
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (tridiagonal solve, n = %zu)", n);
-    goto done;
-  }
-  int k = 0;
-  for (int j = 0; j < m; j++) { /* compressed columns: A(j−1,j) = upper[j−1], A(j+1,j) = lower[j] */
-    col[j] = k;
-    if (j > 0) row[k] = j - 1, nz[k++] = upper[j - 1];
-    row[k] = j, nz[k++] = diag[j];
-    if (j + 1 < m) row[k] = j + 1, nz[k++] = lower[j];
-    perm_c[j] = j;
-  }
-  col[m] = k;
-  SuperMatrix A, L, U, B;
-  superlu_options_t opt;
-  SuperLUStat_t stat;
-  dCreate_CompCol_Matrix(&A, m, m, nnz, nz, row, col, SLU_NC, SLU_D, SLU_GE);
-  dCreate_Dense_Matrix(&B, m, 1, rhs_inout, m, SLU_DN, SLU_D, SLU_GE);
-  set_default_options(&opt);
-  opt.ColPerm = NATURAL; /* a tridiagonal needs no fill-reducing order; partial pivoting */
-  StatInit(&stat);
-  int info = 0;
-  dgssv(&opt, &A, perm_c, perm_r, &L, &U, &B, &stat, &info);
-  if (info == 0 || (info > 0 && info <= m)) { /* L and U exist in both cases */
-    Destroy_SuperNode_Matrix(&L);
-    Destroy_CompCol_Matrix(&U);
-  }
-  Destroy_SuperMatrix_Store(&A);
-  Destroy_SuperMatrix_Store(&B);
-  StatFree(&stat);
-  if (info > 0 && info <= m)
-    rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
-                 "tridiagonal solve: the matrix is singular (zero pivot in column %d of %d)",
-                 info, m);
-  else if (info != 0)
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "SuperLU ran out of memory (tridiagonal, n = %zu)", n);
-  else
-    for (size_t i = 0; i < n; i++)
-      if (!isfinite(rhs_inout[i])) {
-        rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "tridiagonal solve: non-finite solution");
-        break;
-      }
-done:
-  SUPERLU_FREE(nz);
-  SUPERLU_FREE(row);
-  SUPERLU_FREE(col);
-  SUPERLU_FREE(perm_c);
-  SUPERLU_FREE(perm_r);
-  return rc;
 }

@@ -21,12 +21,14 @@
  *  the expected one, in (θ − γ, θ + γ)) and by the Kato–Temple bound |θ − λ| ≤ ‖r‖²/γ
  *  (T. Kato, J. Phys. Soc. Japan 4, 334 (1949)); where that bound is not tight enough the
  *  eigenvalue is bisected instead.
- * SuperLU is used only through this file (it may abort the process on internal errors; the
- * inputs given to it here are always valid: square, finite, structurally non-singular). */
+ *  Eigenvalues degenerate to working precision (decoupled identical wells) get the basis that
+ *  is localised along z (see localise_degenerate in eigen.c).
+ * The factorizations and solves go through superlu_adapter.h. */
 #ifndef EW_EIGEN_H
 #define EW_EIGEN_H
 
 #include "hamiltonian.h"
+#include "superlu_adapter.h" /* ew_sparse_tridiag_solve, for the callers of eigen.h */
 
 typedef struct {
   size_t n;          /* problem size */
@@ -64,12 +66,5 @@ size_t ew_eigen_count_below(const ew_pencil *p, double sigma);
  * idx >= n. */
 double ew_eigen_index(const ew_pencil *p, size_t idx, double guess, double tol_eV,
                       size_t *counts);
-
-/* Solve the general (not necessarily symmetric) tridiagonal system A x = rhs through SuperLU
- * (partial pivoting, natural column order): lower[i] = A(i+1, i), diag[i] = A(i, i),
- * upper[i] = A(i, i+1) (lower and upper have n − 1 entries).  rhs_inout is overwritten with x.
- * EW_OK, EW_ERR_NOMEM, or EW_ERR_NUMERIC (non-finite input, exactly singular matrix). */
-ew_status ew_sparse_tridiag_solve(size_t n, const double *lower, const double *diag,
-                                  const double *upper, double *rhs_inout, ew_error *err);
 
 #endif

@@ -196,12 +196,12 @@ static ew_pencil *pencil_at(const np_ctx *c, double E, double *M) {
   return ew_pencil_build_mass(c->g, EW_BAND_E, M);
 }
 
-/* λ_idx(H(E)) − E */
+/* λ_idx(H(E)) − E; *ok becomes 0 when the eigenvalue is not found, −1 when out of memory */
 static double gap_fn(const np_ctx *c, double E, size_t idx, double *M, size_t *counts,
                      int *ok) {
   ew_pencil *p = pencil_at(c, E, M);
   if (!p) {
-    *ok = 0;
+    *ok = -1;
     return 0.0;
   }
   double lam = ew_eigen_index(p, idx, E, 1e-13, counts);
@@ -210,7 +210,8 @@ static double gap_fn(const np_ctx *c, double E, size_t idx, double *M, size_t *c
   return lam - E;
 }
 
-/* Secant iteration for the fixed point of level idx from start; returns 0 on success.
+/* Secant iteration for the fixed point of level idx from start; returns 0 on success, 1 when
+ * it does not converge, −1 when out of memory.
  * *slope (in/out): the slope of g(E) = λ(E) − E; 0 on entry means unknown (the first step is
  * then the plain fixed-point step, slope −1).  The coarse grid starts from the fine grid's
  * slope, which is nearly the same, and usually converges in two evaluations. */
@@ -221,12 +222,12 @@ static int fixed_point(const np_ctx *c, size_t idx, double start, double *M, siz
   double s0 = *slope < 0 ? *slope : -1.0;
   double E1 = E0 - g0 / s0, g1 = 0.0;
   *last_step = fabs(g0);
-  if (fabs(g0) < NP_TOL_EV) {
-    *E_out = E1;
-    return !ok;
-  }
-  for (int it = 0; it < NP_MAX_IT && ok; it++) {
+  *E_out = E1;
+  if (ok != 1) return ok < 0 ? -1 : 1;
+  if (fabs(g0) < NP_TOL_EV) return 0;
+  for (int it = 0; it < NP_MAX_IT; it++) {
     g1 = gap_fn(c, E1, idx, M, counts, &ok);
+    if (ok != 1) return ok < 0 ? -1 : 1;
     if (E1 != E0 && g1 != g0) *slope = (g1 - g0) / (E1 - E0);
     double step = (g1 - g0) != 0.0 ? -g1 * (E1 - E0) / (g1 - g0) : g1;
     if (!isfinite(step)) step = g1;
@@ -242,6 +243,127 @@ static int fixed_point(const np_ctx *c, size_t idx, double start, double *M, siz
   return 1;
 }
 
+/* Fixed points closer than this are one cluster whose vectors come from one pencil (see
+ * cluster_vectors).  Vectors of separate pencils are orthogonal only to ~1e-17 eV / gap
+ * (measured in eigen.c), so 1e-8 eV keeps them orthogonal to ~1e-9; far below any splitting
+ * that can be measured and above the fixed points' own accuracy (NP_TOL_EV). */
+#define NP_CLUSTER_EV 1e-8
+
+/* The self-consistent energy of each of the nb levels from index clo (fine grid: E[j]) and,
+ * with a coarse context, the same level's coarse value cv[j]. */
+static ew_status level_energies(const np_ctx *cf, const np_ctx *cc, size_t clo, size_t nb,
+                                double lo, double top, double *M, double *E, double *cv,
+                                size_t *work_counts, ew_error *err) {
+  /* start each level from the parabolic value (one solve of the plain pencil) */
+  ew_pencil *pp = ew_pencil_build(cf->g, EW_BAND_E);
+  if (!pp) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  ew_status rc = EW_OK;
+  for (size_t j = 0; j < nb && rc == EW_OK; j++) {
+    size_t idx = clo + j;
+    double start = ew_eigen_index(pp, idx, 0.5 * (lo + top), 1e-9, work_counts), step;
+    if (!isfinite(start) || start > top) start = top;
+    double slope = 0.0;
+    int fp = fixed_point(cf, idx, start, M, work_counts, &E[j], &step, &slope), fc = 0;
+    if (fp == 0 && cc && idx >= cc->g->n) cv[j] = NAN; /* the coarse grid cannot hold it */
+    else if (fp == 0 && cc) fc = fixed_point(cc, idx, E[j], M, work_counts, &cv[j], &step, &slope);
+    if (fp < 0 || fc < 0)
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
+    else if (fp)
+      rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                   "non-parabolic level e%zu did not converge in %d steps (reached %.9f eV, "
+                   "last change %.2e eV)", j + 1, NP_MAX_IT, E[j], step);
+    else if (fc)
+      rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu did not converge "
+                   "on the coarse grid (last change %.2e eV)", j + 1, step);
+  }
+  ew_pencil_free(pp);
+  return rc;
+}
+
+/* The vectors of the m levels j0… (indices idx0…, energies fine->values[j0…], within
+ * NP_CLUSTER_EV of each other): all from the one pencil H(Ē), Ē their mean, so that they are
+ * B-orthonormal however close the levels are (identical decoupled wells: e1, e2 of two
+ * wells agree to far below the fixed points' accuracy, and separate pencils would each pick
+ * an arbitrary, possibly the same, vector of the pair).  A single level keeps the eigenvalue
+ * of its own pencil; a cluster keeps each level's fixed point, with the residual of its
+ * vector in the level's own pencil H(E_j). */
+static ew_status cluster_vectors(const np_ctx *cf, size_t idx0, size_t j0, size_t m, double *M,
+                                 ew_eigenpairs *fine, ew_error *err) {
+  size_t n = cf->g->n;
+  double *E = fine->values + j0, mean = 0.0;
+  for (size_t r = 0; r < m; r++) mean += E[r] / (double)m;
+  ew_pencil *p = pencil_at(cf, m == 1 ? E[0] : mean, M);
+  if (!p) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
+  double w = 1e-4; /* a window holding exactly the cluster's indices */
+  int isolated = 0;
+  for (int t = 0; t < 40 && !isolated; t++, w *= 0.25)
+    isolated = ew_eigen_count_below(p, E[0] - w) == idx0 &&
+               ew_eigen_count_below(p, E[m - 1] + w) == idx0 + m;
+  w *= 4.0;
+  ew_eigenpairs grp;
+  ew_status rc = isolated ? ew_eigen_window(p, E[0] - w, E[m - 1] + w, 1, &grp, err)
+                          : ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu: "
+                                    "cannot isolate its eigenvalue", j0 + 1);
+  if (rc == EW_OK && grp.count != m)
+    rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic levels e%zu-e%zu: %zu vectors "
+                 "for %zu levels", j0 + 1, j0 + m, grp.count, m);
+  for (size_t r = 0; rc == EW_OK && r < m; r++) {
+    double *v = fine->vectors + (j0 + r) * n;
+    memcpy(v, grp.vectors + r * n, n * sizeof *v);
+    if (m == 1) {
+      E[r] = grp.values[r];
+      fine->residual[j0 + r] = ew_pencil_residual(p, v, E[r]);
+      continue;
+    }
+    ew_pencil *pj = pencil_at(cf, E[r], M);
+    if (!pj) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
+    else fine->residual[j0 + r] = ew_pencil_residual(pj, v, E[r]);
+    ew_pencil_free(pj);
+  }
+  if (rc == EW_OK || isolated) {
+    fine->factorizations += grp.factorizations;
+    fine->solves += grp.solves;
+    ew_eigenpairs_free(&grp);
+  }
+  ew_pencil_free(p);
+  return rc;
+}
+
+/* Levels of separate clusters closer than this are B-orthogonalised against each other, as
+ * eigen.c does for the eigenvalues of one pencil closer than its EW_ORTH_GAP_EV (same value). */
+#define NP_ORTH_GAP_EV 1e-5
+
+/* The vectors of levels j0…j0+m−1 B-orthogonalised against the earlier levels closer than
+ * NP_ORTH_GAP_EV (Gram–Schmidt), residuals recomputed in each level's own pencil.  Why: the
+ * vector of a level whose neighbour lies Δ away is determined only to ~ε‖T‖/Δ, and two levels
+ * of different pencils do not share that rounding (a resolved 2.5e-7 eV pair of 40 nm-apart
+ * wells came out 1.3e-7 non-orthogonal); the exact non-orthogonality of an energy-dependent
+ * H, ψiᵀ[H(Ej) − H(Ei)]/(Ej − Ei)ψj, is that of nearly identical, nearly decoupled wells
+ * here (close levels arise no other way), far below that. */
+static ew_status orthogonalize_near(const np_ctx *cf, size_t j0, size_t m, double *M,
+                                    ew_eigenpairs *fine, ew_error *err) {
+  size_t n = cf->g->n;
+  for (size_t j = j0; j < j0 + m; j++) {
+    double *x = fine->vectors + j * n;
+    const double *w = cf->g->w;
+    int again = 0;
+    for (size_t r = j0; r-- > 0 && fine->values[j] - fine->values[r] < NP_ORTH_GAP_EV;) {
+      const double *u = fine->vectors + r * n;
+      double a = 0.0, nb = 0.0;
+      for (size_t i = 0; i < n; i++) a += u[i] * w[i] * x[i];
+      for (size_t i = 0; i < n; i++) x[i] -= a * u[i], nb += x[i] * w[i] * x[i];
+      for (size_t i = 0; i < n; i++) x[i] /= sqrt(nb);
+      again = 1;
+    }
+    if (!again) continue;
+    ew_pencil *p = pencil_at(cf, fine->values[j], M);
+    if (!p) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
+    fine->residual[j] = ew_pencil_residual(p, x, fine->values[j]);
+    ew_pencil_free(p);
+  }
+  return EW_OK;
+}
+
 ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_grid *coarse,
                                  double lo, double top, ew_eigenpairs *fine,
                                  double **coarse_vals, size_t *work_counts, ew_error *err) {
@@ -249,27 +371,18 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
   *coarse_vals = NULL;
   size_t nmax = (g->n > (coarse ? coarse->n : 0) ? g->n : coarse->n) + 1, dummy = 0;
   if (!work_counts) work_counts = &dummy;
-  double *M = malloc(nmax * sizeof *M);
+  double *M = malloc(nmax * sizeof *M), *cv = NULL;
   np_ctx cf, cc;
+  memset(&cf, 0, sizeof cf);
   memset(&cc, 0, sizeof cc);
-  int built = M && ctx_build(&cf, st, g);
-  if (built && coarse && !ctx_build(&cc, st, coarse)) {
-    ctx_free(&cf);
-    built = 0;
-  }
-  if (!built) {
-    free(M);
-    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic masses)");
-  }
   ew_status rc = EW_OK;
-  /* bound count: eigenvalues of H(top) below top (see the header) */
-  ew_pencil *pt = pencil_at(&cf, top, M);
-  if (!pt) {
-    free(M);
-    ctx_free(&cf);
-    ctx_free(&cc);
-    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+  ew_pencil *pt = NULL;
+  if (!M || !ctx_build(&cf, st, g) || (coarse && !ctx_build(&cc, st, coarse)) ||
+      !(pt = pencil_at(&cf, top, M))) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic masses)");
+    goto done;
   }
+  /* bound count: eigenvalues of H(top) below top (see the header) */
   size_t clo = ew_eigen_count_below(pt, lo), nb = ew_eigen_count_below(pt, top) - clo;
   ew_pencil_free(pt);
   size_t n = g->n;
@@ -278,69 +391,19 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
   fine->values = malloc((nb ? nb : 1) * sizeof *fine->values);
   fine->vectors = malloc((nb ? nb : 1) * n * sizeof *fine->vectors);
   fine->residual = malloc((nb ? nb : 1) * sizeof *fine->residual);
-  double *cv = coarse ? malloc((nb ? nb : 1) * sizeof *cv) : NULL;
+  cv = coarse ? malloc((nb ? nb : 1) * sizeof *cv) : NULL;
   if (!fine->values || !fine->vectors || !fine->residual || (coarse && !cv)) {
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
     goto done;
   }
-  /* start each level from the parabolic value (one solve of the plain pencil) */
-  ew_pencil *pp = ew_pencil_build(g, EW_BAND_E);
-  if (!pp) {
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
-    goto done;
+  rc = level_energies(&cf, coarse ? &cc : NULL, clo, nb, lo, top, M, fine->values, cv,
+                      work_counts, err);
+  for (size_t j0 = 0, j1; rc == EW_OK && j0 < nb; j0 = j1) {
+    for (j1 = j0 + 1; j1 < nb && fine->values[j1] - fine->values[j1 - 1] < NP_CLUSTER_EV;) j1++;
+    rc = cluster_vectors(&cf, clo + j0, j0, j1 - j0, M, fine, err);
+    if (rc == EW_OK) rc = orthogonalize_near(&cf, j0, j1 - j0, M, fine, err);
+    if (rc == EW_OK) fine->count = j1;
   }
-  for (size_t j = 0; j < nb; j++) {
-    size_t idx = clo + j;
-    double start = ew_eigen_index(pp, idx, 0.5 * (lo + top), 1e-9, work_counts), E, step;
-    if (!isfinite(start) || start > top) start = top;
-    double slope = 0.0;
-    if (fixed_point(&cf, idx, start, M, work_counts, &E, &step, &slope)) {
-      ew_pencil_free(pp);
-      rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
-                   "non-parabolic level e%zu did not converge in %d steps (reached %.9f eV, "
-                   "last change %.2e eV)", j + 1, NP_MAX_IT, E, step);
-      goto done;
-    }
-    /* the eigenvector of H(E) at its eigenvalue E, through the shift-invert backend */
-    ew_pencil *p = pencil_at(&cf, E, M);
-    ew_eigenpairs one;
-    double w = 1e-4;
-    size_t cnt = 0;
-    for (int t = 0; t < 40; t++, w *= 0.25) {
-      cnt = ew_eigen_count_below(p, E + w) - ew_eigen_count_below(p, E - w);
-      if (cnt == 1) break;
-    }
-    rc = cnt == 1 ? ew_eigen_window(p, E - w, E + w, 1, &one, err)
-                  : ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu: cannot "
-                            "isolate its eigenvalue", j + 1);
-    if (rc == EW_OK) {
-      fine->values[j] = one.values[0];
-      memcpy(fine->vectors + j * n, one.vectors, n * sizeof(double));
-      fine->residual[j] = ew_pencil_residual(p, one.vectors, one.values[0]);
-      fine->factorizations += one.factorizations;
-      fine->solves += one.solves;
-      ew_eigenpairs_free(&one);
-    }
-    ew_pencil_free(p);
-    if (rc != EW_OK) {
-      ew_pencil_free(pp);
-      goto done;
-    }
-    fine->count = j + 1;
-    if (coarse && idx >= coarse->n) { /* the coarse grid cannot hold this level */
-      cv[j] = NAN;
-    } else if (coarse) {
-      double Ec;
-      if (fixed_point(&cc, idx, E, M, work_counts, &Ec, &step, &slope)) {
-        ew_pencil_free(pp);
-        rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu did not converge "
-                     "on the coarse grid (last change %.2e eV)", j + 1, step);
-        goto done;
-      }
-      cv[j] = Ec;
-    }
-  }
-  ew_pencil_free(pp);
 done:
   free(M);
   ctx_free(&cf);

@@ -1,0 +1,35 @@
+/* superlu_adapter.h — the one door to SuperLU: factor a shifted tridiagonal pencil H − σB once
+ * and solve with it many times, and solve a general tridiagonal system.
+ *
+ * SuperLU 5 is given only valid input here (square, finite, tridiagonal).  Its memory and its
+ * ABORT are routed back to this adapter (see superlu_adapter.c), so every failure inside
+ * SuperLU comes back as a status: EW_ERR_NOMEM for memory, never an exit. */
+#ifndef EW_SUPERLU_ADAPTER_H
+#define EW_SUPERLU_ADAPTER_H
+
+#include "hamiltonian.h"
+
+/* A factorization workspace for the pencils of one pattern (n × n tridiagonal). */
+typedef struct ew_shift_lu ew_shift_lu;
+
+/* Workspace for pencils of size n (column order and elimination tree computed once: the
+ * pattern never changes between shifts).  NULL when out of memory. */
+ew_shift_lu *ew_shift_lu_create(size_t n);
+void ew_shift_lu_free(ew_shift_lu *s);
+
+/* Factor H − σB of p (p->n must be the workspace's n).
+ * EW_OK; EW_ERR_NUMERIC when U has an exactly zero pivot (σ is an eigenvalue to working
+ * precision: the caller perturbs σ); EW_ERR_NOMEM when SuperLU ran out of memory. */
+ew_status ew_shift_lu_factor(ew_shift_lu *s, const ew_pencil *p, double sigma, ew_error *err);
+
+/* x ← (H − σB)⁻¹ x in place with the last successful factorization.  EW_OK or EW_ERR_NOMEM. */
+ew_status ew_shift_lu_solve(ew_shift_lu *s, double *x, ew_error *err);
+
+/* Solve the general (not necessarily symmetric) tridiagonal system A x = rhs (partial
+ * pivoting, natural column order): lower[i] = A(i+1, i), diag[i] = A(i, i),
+ * upper[i] = A(i, i+1) (lower and upper have n − 1 entries).  rhs_inout is overwritten with x.
+ * EW_OK, EW_ERR_NOMEM, or EW_ERR_NUMERIC (non-finite input, exactly singular matrix). */
+ew_status ew_sparse_tridiag_solve(size_t n, const double *lower, const double *diag,
+                                  const double *upper, double *rhs_inout, ew_error *err);
+
+#endif
