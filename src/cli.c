@@ -44,7 +44,6 @@ static const char usage[] =
     "too large, 5 file I/O error, 6 numerical failure\n";
 
 static int report(const ew_error *err) { return ew_cli_report(err); }
-static int bad_usage(const char *fmt, const char *arg) { return ew_cli_bad(usage, fmt, arg); }
 static int parse_num(const char *s, double *v) { return ew_cli_parse_num(s, v); }
 
 static int cmd_materials(int argc, char **argv) {
@@ -55,58 +54,59 @@ static int cmd_materials(int argc, char **argv) {
     const char *a = argv[i];
     if (!strcmp(a, "--x") || !strcmp(a, "--y") || !strcmp(a, "--temperature") ||
         !strcmp(a, "--substrate-x")) {
-      if (i + 1 >= argc) return bad_usage("%s needs a value", a);
+      if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
       double *dst = !strcmp(a, "--x") ? &x : !strcmp(a, "--y") ? &y
                     : !strcmp(a, "--temperature") ? &T : &sx;
-      if (!parse_num(argv[i + 1], dst)) return bad_usage("not a number: %s", argv[i + 1]);
+      if (!parse_num(argv[i + 1], dst)) return ew_cli_bad(usage, "not a number: %s", argv[i + 1]);
       if (dst == &x || dst == &y) given_x = 1;
       if (dst == &sx) given_sx = 1;
       i++;
     } else if (!strcmp(a, "--substrate")) {
-      if (i + 1 >= argc) return bad_usage("%s needs a value", a);
+      if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
       substrate = argv[++i];
     } else if (!strcmp(a, "--lattice-match")) {
       match = 1;
       if (!(gap > 0)) gap = NAN; /* ternaries: the composition alone */
     } else if (!strcmp(a, "--match-gap")) {
-      if (i + 1 >= argc) return bad_usage("%s needs a value", a);
+      if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
       if (!parse_num(argv[i + 1], &gap) || gap <= 0)
-        return bad_usage("--match-gap wants a gap in eV, got %s", argv[i + 1]);
+        return ew_cli_bad(usage, "--match-gap wants a gap in eV, got %s", argv[i + 1]);
       match = 1;
       i++;
     } else if (a[0] == '-') {
-      return bad_usage("unknown option %s", a);
+      return ew_cli_bad(usage, "unknown option %s", a);
     } else if (!name) {
       name = a;
     } else {
-      return bad_usage("unexpected argument %s", a);
+      return ew_cli_bad(usage, "unexpected argument %s", a);
     }
   }
   /* option values are checked here so that a bad one is a usage error naming the option */
-  if (x < 0 || x > 1) return bad_usage("--x wants a composition in [0, 1]%s", "");
-  if (y < 0 || y > 1) return bad_usage("--y wants a composition in [0, 1]%s", "");
-  if (sx < 0 || sx > 1) return bad_usage("--substrate-x wants a composition in [0, 1]%s", "");
-  if (T < 0 || T > 1500) return bad_usage("--temperature wants kelvin in [0, 1500]%s", "");
+  if (x < 0 || x > 1) return ew_cli_bad(usage, "--x wants a composition in [0, 1]%s", "");
+  if (y < 0 || y > 1) return ew_cli_bad(usage, "--y wants a composition in [0, 1]%s", "");
+  if (sx < 0 || sx > 1) return ew_cli_bad(usage, "--substrate-x wants a composition in [0, 1]%s", "");
+  if (T < 0 || T > 1500) return ew_cli_bad(usage, "--temperature wants kelvin in [0, 1500]%s", "");
   ew_catalogue *cat = NULL;
   ew_error err = {0};
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK) return report(&err);
   int rc = 0;
   double a_sub = 0.0;
   /* the stack file's rules: an alloy substrate needs its x, a binary takes none */
+  /* The composition flags must fit the materials named: an alloy needs its x, a binary none. */
   const char *why = NULL, *what = NULL;
   if (substrate && !given_sx && ew_catalogue_is_alloy(cat, substrate) > 0)
-    why = "--substrate %s is an alloy: give its composition with --substrate-x", what = substrate;
+    why = "is an alloy: give its composition with --substrate-x", what = substrate;
   else if (substrate && given_sx && ew_catalogue_is_alloy(cat, substrate) == 0)
-    why = "--substrate %s is a binary: it takes no --substrate-x", what = substrate;
+    why = "is a binary: it takes no --substrate-x", what = substrate;
   else if (name && given_x && ew_catalogue_is_alloy(cat, name) == 0)
-    why = "%s is a binary: it takes no --x or --y", what = name;
+    why = "is a binary: it takes no --x or --y", what = name;
   if (why) {
     ew_catalogue_free(cat);
-    return bad_usage(why, what);
+    return ew_cli_bad(usage, "%s%s %s", what == substrate ? "--substrate " : "", what, why);
   }
   if (match && (!name || !substrate)) {
     ew_catalogue_free(cat);
-    return bad_usage("%s", "--lattice-match and --match-gap need a material NAME and --substrate");
+    return ew_cli_bad(usage, "%s", "--lattice-match and --match-gap need a material NAME and --substrate");
   }
   if (substrate && ew_lattice_nm(cat, substrate, sx, 0.0, &a_sub, &err) != EW_OK) {
     rc = report(&err);
@@ -150,55 +150,55 @@ static int cmd_solve(int argc, char **argv) {
     } else if (!strcmp(a, "-o") || !strcmp(a, "--grid-step") || !strcmp(a, "--lines") ||
                !strcmp(a, "--plot") || !strcmp(a, "--report") || !strcmp(a, "--spectra") ||
                !strcmp(a, "--spectra-plot") || !strcmp(a, "--angle") || !strcmp(a, "--index")) {
-      if (i + 1 >= argc) return bad_usage("%s needs a value", a);
+      if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
       const char *v = argv[++i];
       if (!strcmp(a, "--spectra")) {
-        if (!v[0]) return bad_usage("%s", "--spectra wants a file name, got an empty one");
+        if (!v[0]) return ew_cli_bad(usage, "%s", "--spectra wants a file name, got an empty one");
         spectra = v;
       } else if (!strcmp(a, "--spectra-plot")) {
         if (!ew_plot_format(v))
-          return bad_usage("--spectra-plot wants a file name ending in .svg or .png, got %s", v);
+          return ew_cli_bad(usage, "--spectra-plot wants a file name ending in .svg or .png, got %s", v);
         spectra_plot = v;
       } else if (!strcmp(a, "--angle")) {
         if (!parse_num(v, &angle) || angle < 0 || angle >= 90)
-          return bad_usage("--angle wants the internal angle to the growth axis in degrees, "
+          return ew_cli_bad(usage, "--angle wants the internal angle to the growth axis in degrees, "
                            "in [0, 90), got %s", v);
         angle_opt = a;
       } else if (!strcmp(a, "--index")) {
         if (!parse_num(v, &index) || index <= 0 || index > 100)
-          return bad_usage("--index wants a refractive index in (0, 100], got %s", v);
+          return ew_cli_bad(usage, "--index wants a refractive index in (0, 100], got %s", v);
         index_opt = a;
       } else if (!strcmp(a, "-o")) {
-        if (!v[0]) return bad_usage("%s", "-o wants a directory name, got an empty one"); /* robustness */
+        if (!v[0]) return ew_cli_bad(usage, "%s", "-o wants a directory name, got an empty one"); /* robustness */
         outdir = v;
       } else if (!strcmp(a, "--plot")) {
         if (!ew_plot_format(v))
-          return bad_usage("--plot wants a file name ending in .svg or .png, got %s", v);
+          return ew_cli_bad(usage, "--plot wants a file name ending in .svg or .png, got %s", v);
         plot = v;
       } else if (!strcmp(a, "--report")) {
         repdir = v;
       } else if (!strcmp(a, "--grid-step")) {
         if (!parse_num(v, &opt.grid_step_nm) || opt.grid_step_nm <= 0 || opt.grid_step_nm > 1)
-          return bad_usage("--grid-step wants a step in nm in (0, 1], got %s", v);
+          return ew_cli_bad(usage, "--grid-step wants a step in nm in (0, 1], got %s", v);
       } else if (!strcmp(v, "all")) {
         opt.lowest_levels = 0;
       } else {
         double k;
         if (!parse_num(v, &k) || k < 1 || k > 1e6 || k != floor(k))
-          return bad_usage("--lines wants a whole number >= 1 or 'all', got %s", v);
+          return ew_cli_bad(usage, "--lines wants a whole number >= 1 or 'all', got %s", v);
         opt.lowest_levels = (int)k;
       }
     } else if (a[0] == '-') {
-      return bad_usage("unknown option %s", a);
+      return ew_cli_bad(usage, "unknown option %s", a);
     } else if (!path) {
       path = a;
     } else {
-      return bad_usage("unexpected argument %s", a);
+      return ew_cli_bad(usage, "unexpected argument %s", a);
     }
   }
-  if (!path) return bad_usage("%s", "solve needs a stack file");
+  if (!path) return ew_cli_bad(usage, "%s", "solve needs a stack file");
   if ((angle_opt || index_opt) && !spectra && !spectra_plot)
-    return bad_usage("%s needs --spectra or --spectra-plot", angle_opt ? angle_opt : index_opt);
+    return ew_cli_bad(usage, "%s needs --spectra or --spectra-plot", angle_opt ? angle_opt : index_opt);
   ew_error err = {0};
   /* unwritable outputs (directories, picture file) fail before any work is done */
   if (outdir && ew_output_check_dir(outdir, &err) != EW_OK) return report(&err);
@@ -277,7 +277,7 @@ int main(int argc, char **argv) {
   mallopt(M_MMAP_THRESHOLD, 256 * 1024 * 1024);
   mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
 #endif
-  if (argc < 2) return bad_usage("%s", "no command given");
+  if (argc < 2) return ew_cli_bad(usage, "%s", "no command given");
   if (!strcmp(argv[1], "--version")) {
     printf("epiwell %s\n", EW_VERSION);
     return 0;
@@ -297,5 +297,5 @@ int main(int argc, char **argv) {
   if (!strcmp(argv[1], "sweep")) { int ew_cli_sweep(int, char **); return ew_cli_sweep(argc - 2, argv + 2); }
   if (!strcmp(argv[1], "match")) { int ew_cli_match(int, char **); return ew_cli_match(argc - 2, argv + 2); }
   if (!strcmp(argv[1], "tolerance")) { int ew_cli_tolerance(int, char **); return ew_cli_tolerance(argc - 2, argv + 2); }
-  return bad_usage("unknown command %s", argv[1]);
+  return ew_cli_bad(usage, "unknown command %s", argv[1]);
 }

@@ -3,6 +3,7 @@
 
 #include <errno.h>
 #include <math.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 
@@ -12,9 +13,12 @@ int ew_cli_report(const ew_error *err) {
   return (int)err->code;
 }
 
-int ew_cli_bad(const char *usage, const char *fmt, const char *arg) {
+int ew_cli_bad(const char *usage, const char *fmt, ...) {
+  va_list ap;
+  va_start(ap, fmt);
   fprintf(stderr, "epiwell: ");
-  fprintf(stderr, fmt, arg);
+  vfprintf(stderr, fmt, ap);
+  va_end(ap);
   fprintf(stderr, "\n%s", usage);
   return EW_ERR_USAGE;
 }

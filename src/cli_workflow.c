@@ -59,9 +59,6 @@ static const char tolerance_usage[] =
     "                         [--grid-step NM] [--no-estimate]\n";
 
 static int report(const ew_error *err) { return ew_cli_report(err); }
-static int bad(const char *usage, const char *fmt, const char *arg) {
-  return ew_cli_bad(usage, fmt, arg);
-}
 static int parse_num(const char *s, double *v) { return ew_cli_parse_num(s, v); }
 
 static int parse_whole(const char *s, double lo, double hi, size_t *out) {
@@ -90,16 +87,16 @@ static int common_option(const char *usage, int argc, char **argv, int *i, commo
     return 1;
   }
   if (strcmp(a, "--threads") && strcmp(a, "--grid-step")) return 0;
-  if (*i + 1 >= argc) return bad(usage, "%s needs a value", a), -1;
+  if (*i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a), -1;
   const char *v = argv[++*i];
   if (!strcmp(a, "--threads")) {
     size_t n;
     if (!parse_whole(v, 1, 4096, &n))
-      return bad(usage, "--threads wants a whole number of threads >= 1, got %s", v), -1;
+      return ew_cli_bad(usage, "--threads wants a whole number of threads >= 1, got %s", v), -1;
     c->threads = (int)n;
   } else if (!parse_num(v, &c->solve.grid_step_nm) || c->solve.grid_step_nm <= 0 ||
              c->solve.grid_step_nm > 1) {
-    return bad(usage, "--grid-step wants a step in nm in (0, 1], got %s", v), -1;
+    return ew_cli_bad(usage, "--grid-step wants a step in nm in (0, 1], got %s", v), -1;
   }
   return 1;
 }
@@ -241,35 +238,35 @@ int ew_cli_sweep(int argc, char **argv) {
       so.header = 0;
     } else if (!strcmp(a, "--vary") || !strcmp(a, "--csv") || !strcmp(a, "--shard") ||
                !strcmp(a, "--levels") || !strcmp(a, "--plot")) {
-      if (i + 1 >= argc) return bad(sweep_usage, "%s needs a value", a);
+      if (i + 1 >= argc) return ew_cli_bad(sweep_usage, "%s needs a value", a);
       const char *v = argv[++i];
       if (!strcmp(a, "--plot")) {
         if (!ew_plot_format(v))
-          return bad(sweep_usage, "--plot wants a file name ending in .svg or .png, got %s", v);
+          return ew_cli_bad(sweep_usage, "--plot wants a file name ending in .svg or .png, got %s", v);
         plot_path = v;
       } else if (!strcmp(a, "--levels")) {
         if (!parse_whole(v, 0, 10000, &so.min_levels))
-          return bad(sweep_usage, "--levels wants a whole number of levels per band, got %s", v);
+          return ew_cli_bad(sweep_usage, "--levels wants a whole number of levels per band, got %s", v);
       } else if (!strcmp(a, "--csv")) {
         csv_path = v;
       } else if (!strcmp(a, "--shard")) {
         if (!parse_shard(v, &so.shard_k, &so.shard_n))
-          return bad(sweep_usage, "--shard wants K/N with 1 <= K <= N (e.g. 3/8), got %s", v);
+          return ew_cli_bad(sweep_usage, "--shard wants K/N with 1 <= K <= N (e.g. 3/8), got %s", v);
       } else {
-        if (nr == 2) return bad(sweep_usage, "%s", "--vary: at most two ranges (a grid)");
+        if (nr == 2) return ew_cli_bad(sweep_usage, "%s", "--vary: at most two ranges (a grid)");
         if (ew_wf_range_parse(v, 1, "--vary", &ranges[nr], &err) != EW_OK) return report(&err);
         nr++;
       }
     } else if (a[0] == '-' && a[1]) {
-      return bad(sweep_usage, "unknown option %s", a);
+      return ew_cli_bad(sweep_usage, "unknown option %s", a);
     } else if (!path) {
       path = a;
     } else {
-      return bad(sweep_usage, "unexpected argument %s", a);
+      return ew_cli_bad(sweep_usage, "unexpected argument %s", a);
     }
   }
-  if (!path) return bad(sweep_usage, "%s", "sweep needs a stack file");
-  if (nr == 0) return bad(sweep_usage, "%s", "sweep needs --vary KEY=FROM:TO:STEP");
+  if (!path) return ew_cli_bad(sweep_usage, "%s", "sweep needs a stack file");
+  if (nr == 0) return ew_cli_bad(sweep_usage, "%s", "sweep needs --vary KEY=FROM:TO:STEP");
   /* every picture file must be writable before any point is solved */
   if (plot_path) {
     for (int f = 0; f < EW_WF_PLOT_FILES; f++) {
@@ -365,19 +362,19 @@ int ew_cli_match(int argc, char **argv) {
     }
     if (!strcmp(a, "--vary") || !strcmp(a, "--line") || !strcmp(a, "--target") ||
         !strcmp(a, "--tolerance") || !strcmp(a, "--samples")) {
-      if (i + 1 >= argc) return bad(match_usage, "%s needs a value", a);
+      if (i + 1 >= argc) return ew_cli_bad(match_usage, "%s needs a value", a);
       const char *v = argv[++i];
       if (!strcmp(a, "--vary")) {
-        if (nr == 2) return bad(match_usage, "%s", "--vary: at most two unknowns");
+        if (nr == 2) return ew_cli_bad(match_usage, "%s", "--vary: at most two unknowns");
         if (ew_wf_range_parse(v, 0, "--vary", &ranges[nr], &err) != EW_OK) return report(&err);
         nr++;
       } else if (!strcmp(a, "--line")) {
-        if (nl == 2) return bad(match_usage, "%s", "--line: at most two lines");
+        if (nl == 2) return ew_cli_bad(match_usage, "%s", "--line: at most two lines");
         double dummy;
         if (ew_wf_line_energy(NULL, v, &dummy, &err) != EW_OK) return report(&err);
         lines[nl++] = v;
       } else if (!strcmp(a, "--target")) {
-        if (nt == 2) return bad(match_usage, "%s", "--target: at most two targets");
+        if (nt == 2) return ew_cli_bad(match_usage, "%s", "--target: at most two targets");
         if (ew_wf_quantity_parse(v, 0, "--target", &targets[nt], &err) != EW_OK)
           return report(&err);
         nt++;
@@ -385,21 +382,21 @@ int ew_cli_match(int argc, char **argv) {
         if (ew_wf_quantity_parse(v, 1, "--tolerance", &tol, &err) != EW_OK) return report(&err);
         have_tol = 1;
       } else if (!parse_whole(v, 2, 1e6, &mo.samples)) {
-        return bad(match_usage, "--samples wants a whole number >= 2, got %s", v);
+        return ew_cli_bad(match_usage, "--samples wants a whole number >= 2, got %s", v);
       }
     } else if (a[0] == '-' && a[1]) {
-      return bad(match_usage, "unknown option %s", a);
+      return ew_cli_bad(match_usage, "unknown option %s", a);
     } else if (!path) {
       path = a;
     } else {
-      return bad(match_usage, "unexpected argument %s", a);
+      return ew_cli_bad(match_usage, "unexpected argument %s", a);
     }
   }
-  if (!path) return bad(match_usage, "%s", "match needs a stack file");
-  if (nr == 0) return bad(match_usage, "%s", "match needs --vary KEY=FROM:TO");
+  if (!path) return ew_cli_bad(match_usage, "%s", "match needs a stack file");
+  if (nr == 0) return ew_cli_bad(match_usage, "%s", "match needs --vary KEY=FROM:TO");
   if (nl != nr || nt != nr)
-    return bad(match_usage, "%s", "match needs one --line and one --target per --vary");
-  if (have_tol && nr == 2) return bad(match_usage, "%s", "--tolerance works with one --vary only");
+    return ew_cli_bad(match_usage, "%s", "match needs one --line and one --target per --vary");
+  if (have_tol && nr == 2) return ew_cli_bad(match_usage, "%s", "--tolerance works with one --vary only");
   threads_note(c.threads);
   mo.threads = c.threads;
   c.solve.excitons = 0; /* only a PL-peak target (A-B:pl) needs the exciton binding */
@@ -445,20 +442,20 @@ int ew_cli_tolerance(int argc, char **argv) {
       return 0;
     }
     if (!strcmp(a, "--dx") || !strcmp(a, "--ladder")) {
-      if (i + 1 >= argc) return bad(tolerance_usage, "%s needs a value", a);
+      if (i + 1 >= argc) return ew_cli_bad(tolerance_usage, "%s needs a value", a);
       const char *v = argv[++i];
       if (!strcmp(a, "--ladder")) ladder = v;
       else if (!parse_num(v, &dx) || dx <= 0 || dx > 0.5)
-        return bad(tolerance_usage, "--dx wants a composition step in (0, 0.5], got %s", v);
+        return ew_cli_bad(tolerance_usage, "--dx wants a composition step in (0, 0.5], got %s", v);
     } else if (a[0] == '-' && a[1]) {
-      return bad(tolerance_usage, "unknown option %s", a);
+      return ew_cli_bad(tolerance_usage, "unknown option %s", a);
     } else if (!path) {
       path = a;
     } else {
-      return bad(tolerance_usage, "unexpected argument %s", a);
+      return ew_cli_bad(tolerance_usage, "unexpected argument %s", a);
     }
   }
-  if (!path) return bad(tolerance_usage, "%s", "tolerance needs a stack file");
+  if (!path) return ew_cli_bad(tolerance_usage, "%s", "tolerance needs a stack file");
   threads_note(c.threads);
   ew_catalogue *cat = NULL;
   ew_wf_model *m = NULL;

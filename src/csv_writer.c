@@ -2,6 +2,7 @@
 #include "csv_writer.h"
 
 #include <math.h>
+#include <stdarg.h>
 #include <string.h>
 
 void ew_csv_init(ew_csv *c, ew_csv_write_fn write, void *ctx) {
@@ -43,10 +44,13 @@ void ew_csv_text(ew_csv *c, const char *s) {
   put(c, "\"", 1);
 }
 
-void ew_csv_format(ew_csv *c, const char *fmt, double v) {
+void ew_csv_format(ew_csv *c, const char *fmt, ...) {
   char buf[512];
+  va_list ap;
   begin_cell(c);
-  int n = snprintf(buf, sizeof buf, fmt, v);
+  va_start(ap, fmt);
+  int n = vsnprintf(buf, sizeof buf, fmt, ap);
+  va_end(ap);
   if (n < 0 || (size_t)n >= sizeof buf) c->bad = 1;
   else put(c, buf, (size_t)n);
 }

@@ -7,7 +7,7 @@
  *     ew_csv c;  ew_csv_init_file(&c, f);        // or ew_csv_init(&c, my_write, ctx)
  *     ew_csv_header(&c, ncol, names);              // one row of text cells
  *     ew_csv_text(&c, layer_name);                 // quoted when needed
- *     ew_csv_format(&c, "%.6f", z);                // printf of one double (nan prints "nan")
+ *     ew_csv_format(&c, "%.6f", z);                // printf-formatted cell (nan prints "nan")
  *     ew_csv_number(&c, v);                        // "%.10g", empty cell when not finite
  *     ew_csv_int(&c, n);  ew_csv_empty(&c);
  *     ew_csv_end_row(&c);
@@ -36,7 +36,7 @@ void ew_csv_init(ew_csv *c, ew_csv_write_fn write, void *ctx);
 void ew_csv_init_file(ew_csv *c, FILE *f);
 
 void ew_csv_text(ew_csv *c, const char *s); /* NULL: empty cell */
-void ew_csv_format(ew_csv *c, const char *fmt, double v);
+void ew_csv_format(ew_csv *c, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
 void ew_csv_number(ew_csv *c, double v);
 void ew_csv_int(ew_csv *c, long long v);
 void ew_csv_empty(ew_csv *c);

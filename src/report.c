@@ -33,10 +33,11 @@ static void h(FILE *f, const char *s) {
   }
 }
 
-/* A number cell; non-finite values show as an em dash rather than "nan". */
-static void num(FILE *f, const char *fmt, double v) {
+/* A number cell with `digits` in printf style 'f', 'e' or 'g'; non-finite values show as an em
+ * dash rather than "nan". */
+static void num(FILE *f, int digits, char style, double v) {
   fputs("<td class=\"n\">", f);
-  if (isfinite(v)) fprintf(f, fmt, v);
+  if (isfinite(v)) fprintf(f, style == 'e' ? "%.*e" : style == 'g' ? "%.*g" : "%.*f", digits, v);
   else fputs("&#8212;", f);
   fputs("</td>", f);
 }
@@ -132,16 +133,16 @@ static void layers_table(FILE *f, const ew_result *r) {
     h(f, ly->material);
     if (ly->user_material) fputs(" <i>(user-defined)</i>", f);
     fputs("</td>", f);
-    if (ly->has_x) num(f, "%.3f", ly->x);
+    if (ly->has_x) num(f, 3, 'f', ly->x);
     else fputs("<td class=\"n\">&#8212;</td>", f);
-    num(f, "%.3f", ly->z_start_nm);
-    num(f, "%.3f", ly->thickness_nm);
-    num(f, "%.4f", ly->bands.Ec_eV);
-    num(f, "%.4f", ly->bands.Ev_hh_eV);
-    num(f, "%.4f", ly->bands.Ev_lh_eV);
-    num(f, "%.4f", ly->bands.me);
-    num(f, "%.4f", ly->bands.mhh_z);
-    num(f, "%.4f", ly->bands.mlh_z);
+    num(f, 3, 'f', ly->z_start_nm);
+    num(f, 3, 'f', ly->thickness_nm);
+    num(f, 4, 'f', ly->bands.Ec_eV);
+    num(f, 4, 'f', ly->bands.Ev_hh_eV);
+    num(f, 4, 'f', ly->bands.Ev_lh_eV);
+    num(f, 4, 'f', ly->bands.me);
+    num(f, 4, 'f', ly->bands.mhh_z);
+    num(f, 4, 'f', ly->bands.mlh_z);
     int v = ly->bands.lowest_valley;
     fprintf(f, "<td>%s</td></tr>\n", v >= 0 && v <= 2 ? valley_name[v] : "?");
   }
@@ -165,16 +166,16 @@ static void levels_table(FILE *f, const ew_result *r) {
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *s = &r->states[i];
     fprintf(f, "<tr><td>%s</td>", s->label);
-    num(f, "%.6f", s->energy_eV);
-    num(f, "%.3f", s->depth_eV * 1e3);
-    if (s->error_eV >= 0) num(f, "%.2e", s->error_eV * 1e3);
+    num(f, 6, 'f', s->energy_eV);
+    num(f, 3, 'f', s->depth_eV * 1e3);
+    if (s->error_eV >= 0) num(f, 2, 'e', s->error_eV * 1e3);
     else fputs("<td class=\"n\">n/a</td>", f);
     fputs("<td>", f);
     h(f, st->layers[s->layer].name);
     fputs("</td>", f);
-    num(f, "%.3f", s->layer_probability);
-    num(f, "%.4f", s->inplane_mass);
-    num(f, "%.2e", s->residual);
+    num(f, 3, 'f', s->layer_probability);
+    num(f, 4, 'f', s->inplane_mass);
+    num(f, 2, 'e', s->residual);
     fprintf(f, "<td>%s</td></tr>\n", s->flagged ? "<b>FAILED</b>" : "ok");
   }
   fputs("</table>\n<p class=\"meta\">Depth is |E &#8722; edge| from the band edge of the layer "
@@ -195,10 +196,10 @@ static void lines_tables(FILE *f, const ew_result *r) {
             "<th>oscillator strength</th></tr>\n",
             f);
     fprintf(f, "<tr><td>%s&#8211;%s</td>", S[ln->lower].label, S[ln->upper].label);
-    num(f, "%.3f", ln->energy_eV * 1e3);
-    num(f, "%.4f", ln->wavelength_nm / 1e3);
-    num(f, "%.4f", ln->dipole_nm);
-    num(f, "%.4f", ln->oscillator_strength);
+    num(f, 3, 'f', ln->energy_eV * 1e3);
+    num(f, 4, 'f', ln->wavelength_nm / 1e3);
+    num(f, 4, 'f', ln->dipole_nm);
+    num(f, 4, 'f', ln->oscillator_strength);
     fputs("</tr>\n", f);
   }
   if (head) fputs("</table>\n", f);
@@ -212,9 +213,9 @@ static void lines_tables(FILE *f, const ew_result *r) {
             "&#10217;|&#178;</th><th></th></tr>\n",
             f);
     fprintf(f, "<tr><td>%s&#8211;%s</td>", S[ln->upper].label, S[ln->lower].label);
-    num(f, "%.5f", ln->energy_eV);
-    num(f, "%.2f", ln->wavelength_nm);
-    num(f, "%.4f", ln->overlap);
+    num(f, 5, 'f', ln->energy_eV);
+    num(f, 2, 'f', ln->wavelength_nm);
+    num(f, 4, 'f', ln->overlap);
     fprintf(f, "<td>%s</td></tr>\n", ln->allowed ? "allowed" : "forbidden");
   }
   if (head2) fputs("</table>\n", f);
@@ -238,7 +239,7 @@ static void params_table(FILE *f, const ew_catalogue *cat, const ew_layer *ly) {
     fputs("<tr><td>", f);
     h(f, ew_param_key((ew_param)q));
     fputs("</td>", f);
-    num(f, "%.6g", p.v[q]);
+    num(f, 6, 'g', p.v[q]);
     fputs("<td>", f);
     h(f, ew_param_unit((ew_param)q));
     fputs("</td><td class=\"src\">", f);

@@ -315,8 +315,9 @@ void ew_wf_tolerance_free(ew_wf_tolerance *t) {
   free(t);
 }
 
-static void cell(FILE *out, const char *fmt, int width, double v) {
-  if (isfinite(v)) fprintf(out, fmt, width, v);
+/* One right-aligned fixed-point column: `width` characters, `digits` decimals, "-" when not finite. */
+static void cell(FILE *out, int width, int digits, double v) {
+  if (isfinite(v)) fprintf(out, " %*.*f", width, digits, v);
   else fprintf(out, "%*s", width, "-");
 }
 
@@ -341,15 +342,15 @@ void ew_wf_tolerance_print(const ew_wf_tolerance *t, FILE *out) {
       const ew_wf_item *it = &t->items[i];
       if (!it->is_line) continue;
       fprintf(out, "  %-10s %10.6f", it->name, it->energy_eV);
-      cell(out, " %*.3f", 9, 1e3 * L->ml_minus[i]);
-      cell(out, " %*.3f", 9, 1e3 * L->ml_plus[i]);
-      cell(out, " %*.4f", 11, 1e3 * L->dEdt_hf[i]);
-      cell(out, " %*.4f", 11, 1e3 * L->dEdt_fd[i]);
+      cell(out, 9, 3, 1e3 * L->ml_minus[i]);
+      cell(out, 9, 3, 1e3 * L->ml_plus[i]);
+      cell(out, 11, 4, 1e3 * L->dEdt_hf[i]);
+      cell(out, 11, 4, 1e3 * L->dEdt_fd[i]);
       if (L->has_x) {
-        cell(out, " %*.3f", 9, 1e3 * L->dx_minus[i]);
-        cell(out, " %*.3f", 9, 1e3 * L->dx_plus[i]);
-        cell(out, " %*.2f", 11, 1e3 * L->dEdx_hf[i]);
-        cell(out, " %*.2f", 11, 1e3 * L->dEdx_fd[i]);
+        cell(out, 9, 3, 1e3 * L->dx_minus[i]);
+        cell(out, 9, 3, 1e3 * L->dx_plus[i]);
+        cell(out, 11, 2, 1e3 * L->dEdx_hf[i]);
+        cell(out, 11, 2, 1e3 * L->dEdx_fd[i]);
       }
       fputc('\n', out);
     }
@@ -471,13 +472,13 @@ void ew_wf_ladder_print(const ew_wf_ladder *l, const ew_stack *st, FILE *out) {
     char nm[64];
     snprintf(nm, sizeof nm, "%s_eV", l->items[i].name);
     fprintf(out, "  %-16s", nm);
-    for (int q = 0; q < 5; q++) cell(out, " %*.6f", 11, l->energy_eV[(size_t)q * l->n_items + i]);
+    for (int q = 0; q < 5; q++) cell(out, 11, 6, l->energy_eV[(size_t)q * l->n_items + i]);
     snprintf(nm, sizeof nm, "%s_%s", l->items[i].name, l->items[i].interband ? "nm" : "um");
     fprintf(out, "\n  %-16s", nm);
     for (int q = 0; q < 5; q++) {
       double e = l->energy_eV[(size_t)q * l->n_items + i];
       double w = EW_HC_EVNM / e / (l->items[i].interband ? 1.0 : 1e3);
-      cell(out, l->items[i].interband ? " %*.2f" : " %*.4f", 11, isfinite(e) ? w : NAN);
+      cell(out, 11, l->items[i].interband ? 2 : 4, isfinite(e) ? w : NAN);
     }
     fputc('\n', out);
   }

@@ -79,16 +79,17 @@ static double stark_formula(double F, double L, double m) {
 
 static void stark_shift(void **state) {
   (void)state;
-  const char *fmt = "temperature = 300.0; field = %g;\n"
-                    "materials = ( { name = \"bar\"; Ec = 10.0; Ev = -10.0; me = 0.067; mhh = 0.4; mlh = 0.1; },\n"
-                    "              { name = \"w\"; Ec = 0.0; Ev = -1.5; me = 0.067; mhh = 0.4; mlh = 0.1; } );\n"
-                    "layers = ( { material = \"bar\"; thickness = 6.0; },\n"
-                    "           { material = \"w\"; thickness = 10.0; },\n"
-                    "           { material = \"bar\"; thickness = 6.0; } );\n";
+/* A literal template so that -Wformat=2 checks its arguments. */
+#define STACK_TEMPLATE_1 "temperature = 300.0; field = %g;\n" \
+                    "materials = ( { name = \"bar\"; Ec = 10.0; Ev = -10.0; me = 0.067; mhh = 0.4; mlh = 0.1; },\n" \
+                    "              { name = \"w\"; Ec = 0.0; Ev = -1.5; me = 0.067; mhh = 0.4; mlh = 0.1; } );\n" \
+                    "layers = ( { material = \"bar\"; thickness = 6.0; },\n" \
+                    "           { material = \"w\"; thickness = 10.0; },\n" \
+                    "           { material = \"bar\"; thickness = 6.0; } );\n"
   char text[1024];
   double E[2];
   for (int k = 0; k < 2; k++) {
-    snprintf(text, sizeof text, fmt, k ? 10.0 : 0.0);
+    snprintf(text, sizeof text, STACK_TEMPLATE_1, k ? 10.0 : 0.0);
     ew_stack *st;
     ew_result *r = solve_text(text, &st, NULL);
     assert_non_null(r);
@@ -166,16 +167,17 @@ static void linear_grade_and_monolayers(void **state) {
  * size. */
 static void kane_deep_well(void **state) {
   (void)state;
-  const char *fmt = "temperature = 300.0; nonparabolic = %s;\n"
-                    "materials = ( { name = \"wall\"; Ec = 10.0; Ev = -2.0; me = 0.01; mhh = 0.4; mlh = 0.1; } );\n"
-                    "layers = ( { material = \"wall\"; thickness = 4.0; },\n"
-                    "           { name = \"w\"; material = \"GaAs\"; thickness = 8.0; },\n"
-                    "           { material = \"wall\"; thickness = 4.0; } );\n";
+/* A literal template so that -Wformat=2 checks its arguments. */
+#define STACK_TEMPLATE_2 "temperature = 300.0; nonparabolic = %s;\n" \
+                    "materials = ( { name = \"wall\"; Ec = 10.0; Ev = -2.0; me = 0.01; mhh = 0.4; mlh = 0.1; } );\n" \
+                    "layers = ( { material = \"wall\"; thickness = 4.0; },\n" \
+                    "           { name = \"w\"; material = \"GaAs\"; thickness = 8.0; },\n" \
+                    "           { material = \"wall\"; thickness = 4.0; } );\n"
   char text[1024];
   ew_stack *st[2];
   ew_result *r[2];
   for (int k = 0; k < 2; k++) {
-    snprintf(text, sizeof text, fmt, k ? "true" : "false");
+    snprintf(text, sizeof text, STACK_TEMPLATE_2, k ? "true" : "false");
     r[k] = solve_text(text, &st[k], NULL);
     assert_non_null(r[k]);
   }
@@ -259,15 +261,16 @@ static void inplane_mass_finite_well(void **state) {
  * the e1–hh1 PL peak must red-shift by 96.5 ± 8 meV (common practice: "about 0.1 eV"). */
 static void pl_temperature_shift(void **state) {
   (void)state;
-  const char *fmt = "temperature = %g;\n"
-                    "layers = ( { material = \"AlGaAs\"; x = 0.3; thickness = 25.0; },\n"
-                    "           { name = \"w\"; material = \"GaAs\"; thickness = 10.0; },\n"
-                    "           { material = \"AlGaAs\"; x = 0.3; thickness = 25.0; } );\n";
+/* A literal template so that -Wformat=2 checks its arguments. */
+#define STACK_TEMPLATE_3 "temperature = %g;\n" \
+                    "layers = ( { material = \"AlGaAs\"; x = 0.3; thickness = 25.0; },\n" \
+                    "           { name = \"w\"; material = \"GaAs\"; thickness = 10.0; },\n" \
+                    "           { material = \"AlGaAs\"; x = 0.3; thickness = 25.0; } );\n"
   double pl[2];
   const double T[2] = {10.0, 300.0};
   for (int k = 0; k < 2; k++) {
     char text[1024];
-    snprintf(text, sizeof text, fmt, T[k]);
+    snprintf(text, sizeof text, STACK_TEMPLATE_3, T[k]);
     ew_stack *st;
     ew_result *r = solve_text(text, &st, NULL);
     assert_non_null(r);
