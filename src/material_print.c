@@ -29,15 +29,9 @@ ew_status ew_material_print(const ew_catalogue *cat, const char *name, double x,
   return ew_material_print_on(cat, name, x, 0.0, T_K, 0.0, out, err);
 }
 
-ew_status ew_material_print_on(const ew_catalogue *cat, const char *name, double x, double y,
-                               double T_K, double a_sub_nm, FILE *out, ew_error *err) {
-  const ew_cat_entry *e;
-  ew_status st = ew_material_lookup(cat, name, x, y, 1, T_K, &e, err);
-  if (st) return st;
-  ew_params p;
-  ew_bands b;
-  if ((st = ew_material_params2(cat, name, x, y, &p, err))) return st;
-  if ((st = ew_material_bands_on(cat, name, x, y, T_K, a_sub_nm, &b, err))) return st;
+/* Who the material is: binary, ternary or quaternary, the interpolation rule and its files. */
+static void print_identity(const ew_catalogue *cat, const ew_cat_entry *e, double x, double y,
+                           double T_K, FILE *out) {
   if (e->kind == EW_KIND_QUATERNARY) {
     fprintf(out, "%s: quaternary %s, x = %s, y = %s\n", e->name, e->description, e->x_is,
             e->y_is);
@@ -72,6 +66,11 @@ ew_status ew_material_print_on(const ew_catalogue *cat, const char *name, double
     fprintf(out, "T = %g K\n", T_K);
   }
   fprintf(out, "file: %s\n\n", e->path);
+}
+
+/* The catalogue parameters at the composition, with each one's source (or bowing). */
+static void print_params(const ew_cat_entry *e, const ew_params *pp, FILE *out) {
+  const ew_params p = *pp;
   fprintf(out, "parameters%s (gaps at 0 K)\n",
           e->kind == EW_KIND_QUATERNARY ? " at (x, y)" : e->is_alloy ? " at x" : "");
   fputs("parameter   value          unit    source\n", out);
@@ -89,6 +88,12 @@ ew_status ew_material_print_on(const ew_catalogue *cat, const char *name, double
     else
       fprintf(out, "%s\n", p.source[k] ? p.source[k] : "");
   }
+}
+
+/* The band parameters the solver uses at T (and on the substrate when strained). */
+static void print_bands(const ew_cat_entry *e, const ew_bands *bp, double T_K, double a_sub_nm,
+                        FILE *out) {
+  const ew_bands b = *bp;
   static const char *const valley[3] = {"Γ", "X", "L"};
   fprintf(out, "\nband parameters at T = %g K (gaps by Varshni%s; VBO independent of T)\n",
           T_K,
@@ -128,7 +133,11 @@ ew_status ew_material_print_on(const ew_catalogue *cat, const char *name, double
     if (rows[k].show) put_row(out, rows[k].label, rows[k].v, rows[k].unit);
   put_padded(out, "lowest", 12);
   fprintf(out, "%s valley%s\n", valley[b.lowest_valley], a_sub_nm > 0.0 ? " (unstrained gaps)" : "");
-  if (!strained) return EW_OK;
+}
+
+/* The strain block: the pseudomorphic strain, its shifts, the top valence band and h_c. */
+static void print_strain(const ew_bands *bp, double a_sub_nm, FILE *out) {
+  const ew_bands b = *bp;
   fprintf(out,
           "\nstrain: pseudomorphic on (001), substrate a = %g nm (lattice constants at 300 K)\n",
           a_sub_nm);
@@ -159,6 +168,21 @@ ew_status ew_material_print_on(const ew_catalogue *cat, const char *name, double
           "between two interfaces\n",
           out);
   }
+}
+
+ew_status ew_material_print_on(const ew_catalogue *cat, const char *name, double x, double y,
+                               double T_K, double a_sub_nm, FILE *out, ew_error *err) {
+  const ew_cat_entry *e;
+  ew_status st = ew_material_lookup(cat, name, x, y, 1, T_K, &e, err);
+  if (st) return st;
+  ew_params p;
+  ew_bands b;
+  if ((st = ew_material_params2(cat, name, x, y, &p, err))) return st;
+  if ((st = ew_material_bands_on(cat, name, x, y, T_K, a_sub_nm, &b, err))) return st;
+  print_identity(cat, e, x, y, T_K, out);
+  print_params(e, &p, out);
+  print_bands(e, &b, T_K, a_sub_nm, out);
+  if (a_sub_nm > 0.0) print_strain(&b, a_sub_nm, out);
   return EW_OK;
 }
 
