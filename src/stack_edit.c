@@ -194,20 +194,32 @@ static int log_undo(ew_stack_editor *ed, config_setting_t *group, const char *na
   return 1;
 }
 
+/* Give numeric setting s the type and value (no allocation).  libconfig 1.5 has no setter that
+ * changes a scalar's type, and remove-then-add allocates inside its constructor, which does not
+ * survive an allocation failure; config_setting_t is a public struct, and type and value are
+ * all a scalar is. */
+static void set_scalar(config_setting_t *s, int type, long long ival, double fval) {
+  s->type = (short)type;
+  if (type == CONFIG_TYPE_FLOAT) s->value.fval = fval;
+  else if (type == CONFIG_TYPE_INT64) s->value.llval = ival;
+  else s->value.ival = (int)ival;
+}
+
 /* Put one setting back as logged; 0 when out of memory. */
 static int undo_one(const edit_undo *u) {
   config_setting_t *s = config_setting_get_member(u->group, u->name);
   if (!u->existed) return !s || config_setting_remove(u->group, u->name);
-  if (s && u->type == CONFIG_TYPE_FLOAT && config_setting_type(s) == CONFIG_TYPE_FLOAT)
-    return config_setting_set_float(s, u->fval);
+  if (s && numeric_type(config_setting_type(s))) {
+    set_scalar(s, u->type, u->ival, u->fval);
+    return 1;
+  }
   if (s) config_setting_remove(u->group, u->name);
   s = config_setting_add(u->group, u->name, u->type);
   if (!s) return 0;
   /* config_setting_source_line reads this field: the re-created setting keeps its line */
   s->line = u->line;
-  if (u->type == CONFIG_TYPE_FLOAT) return config_setting_set_float(s, u->fval);
-  if (u->type == CONFIG_TYPE_INT64) return config_setting_set_int64(s, u->ival);
-  return config_setting_set_int(s, (int)u->ival);
+  set_scalar(s, u->type, u->ival, u->fval);
+  return 1;
 }
 
 static ew_status undo_all(ew_stack_editor *ed, ew_error *err) {
@@ -252,20 +264,16 @@ static ew_status set_one(ew_stack_editor *ed, const char *key, double value, ew_
   const char *other = !strcmp(name, "thickness") ? "thickness_ml"
                       : !strcmp(name, "thickness_ml") ? "thickness" : NULL;
   if (other && g != config_root_setting(&ed->cfg)) ok = remove_logged(ed, g, other, &line);
-  /* An integer literal cannot hold the new value: replace it by a float setting. */
-  if (ok && s && config_setting_type(s) != CONFIG_TYPE_FLOAT) {
-    ok = remove_logged(ed, g, name, &line);
-    s = NULL;
-  } else if (ok && s) {
-    ok = log_undo(ed, g, name, s);
-  } else if (ok) {
-    ok = log_undo(ed, g, name, NULL);
-  }
+  if (ok) ok = log_undo(ed, g, name, s);
   if (!ok) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (stack edit)");
+  /* A key the file leaves out is added (libconfig allocates here: the one edit that can meet
+   * an allocation it does not survive; keys present in the file never do). */
   if (!s && (s = config_setting_add(g, name, CONFIG_TYPE_FLOAT)) != NULL) s->line = line;
-  if (!s || !config_setting_set_float(s, text_value(value)))
+  if (!s)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: '%s' cannot be added to the stack",
                    key, name);
+  /* an integer literal becomes a float setting in place: it must hold the new value */
+  set_scalar(s, CONFIG_TYPE_FLOAT, 0, text_value(value));
   return EW_OK;
 }
 

@@ -3,6 +3,7 @@
 #include "stack_model.h"
 
 #include <errno.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -17,7 +18,14 @@ struct ew_wf_model {
   const ew_catalogue *cat;
   ew_stack *nominal;
   char *text;              /* the stack file as read */
-  ew_stack_editor *probe;  /* only read: the key checks */
+  /* The file's parsed tree, edited for every point under `lock`.  One tree parsed once when
+   * the model opens, because libconfig 1.5 does not survive an allocation failure (its
+   * scanner exits, its setting constructor dereferences NULL): no parse happens inside a
+   * sweep, match or tolerance run.  A build is tens of microseconds against milliseconds per
+   * solve, so the lock costs the parallel loops little. */
+  ew_stack_editor *ed;
+  pthread_mutex_t lock;
+  int have_lock;
   ew_options opt;
 };
 
@@ -61,7 +69,10 @@ ew_status ew_wf_model_open(const char *path, const ew_catalogue *cat, const ew_o
   /* The reader validates first, so a broken file is reported with its own file:line. */
   ew_status rc = ew_stack_read_file(path, cat, &m->nominal, err);
   if (rc == EW_OK) rc = slurp(path, &m->text, err);
-  if (rc == EW_OK) rc = ew_stack_editor_open(m->text, m->nominal, cat, &m->probe, err);
+  if (rc == EW_OK) rc = ew_stack_editor_open(m->text, m->nominal, cat, &m->ed, err);
+  if (rc == EW_OK && pthread_mutex_init(&m->lock, NULL) != 0)
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (stack editor lock)");
+  if (rc == EW_OK) m->have_lock = 1;
   if (rc != EW_OK) {
     ew_wf_model_free(m);
     return rc;
@@ -72,7 +83,8 @@ ew_status ew_wf_model_open(const char *path, const ew_catalogue *cat, const ew_o
 
 void ew_wf_model_free(ew_wf_model *m) {
   if (!m) return;
-  ew_stack_editor_free(m->probe);
+  if (m->have_lock) pthread_mutex_destroy(&m->lock);
+  ew_stack_editor_free(m->ed);
   ew_stack_free(m->nominal);
   free(m->text);
   free(m);
@@ -83,37 +95,32 @@ const ew_options *ew_wf_model_options(const ew_wf_model *m) { return &m->opt; }
 
 ew_status ew_wf_key_check(const ew_wf_model *m, const char *key, const char *opt,
                           double *nominal, ew_error *err) {
-  return ew_stack_editor_check(m->probe, key, opt, nominal, err);
+  ew_wf_model *w = (ew_wf_model *)m; /* the lock is the model's only mutable part */
+  pthread_mutex_lock(&w->lock);
+  ew_status rc = ew_stack_editor_check(w->ed, key, opt, nominal, err);
+  pthread_mutex_unlock(&w->lock);
+  return rc;
 }
 
 ew_status ew_wf_stack_at(const ew_wf_model *m, size_t nkeys, const char *const *keys,
                          const double *values, ew_stack **out, ew_error *err) {
-  *out = NULL;
-  ew_stack_editor *ed = NULL;
-  ew_status rc = ew_stack_editor_open(m->text, m->nominal, m->cat, &ed, err);
-  if (rc == EW_OK) rc = ew_stack_editor_build(ed, nkeys, keys, values, out, err);
-  ew_stack_editor_free(ed);
+  ew_wf_model *w = (ew_wf_model *)m; /* the lock is the model's only mutable part */
+  pthread_mutex_lock(&w->lock);
+  ew_status rc = ew_stack_editor_build(w->ed, nkeys, keys, values, out, err);
+  pthread_mutex_unlock(&w->lock);
   return rc;
 }
 
 /* ---- pools ------------------------------------------------------------------------------ */
 ew_status ew_wf_pool_open(const ew_wf_model *m, int threads, ew_wf_pool *p, ew_error *err) {
+  (void)err;
   p->m = m;
   p->n = threads > 0 ? (size_t)threads : 1;
-  p->ed = calloc(p->n, sizeof *p->ed);
-  if (!p->ed) {
-    p->n = 0;
-    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (stack editors)");
-  }
   return EW_OK;
 }
 
 void ew_wf_pool_free(ew_wf_pool *p) {
-  if (!p || !p->ed) return;
-  for (size_t i = 0; i < p->n; i++) ew_stack_editor_free(p->ed[i]);
-  free(p->ed);
-  p->ed = NULL;
-  p->n = 0;
+  if (p) p->m = NULL, p->n = 0;
 }
 
 ew_status ew_wf_pool_stack(const ew_wf_pool *p, size_t nkeys, const char *const *keys,
@@ -123,13 +130,7 @@ ew_status ew_wf_pool_stack(const ew_wf_pool *p, size_t nkeys, const char *const 
   if (t >= p->n) /* a loop with more threads than the pool was opened for */
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "internal: thread %zu of a pool of %zu", t,
                    p->n);
-  /* only thread t touches slot t */
-  if (!p->ed[t]) {
-    const ew_wf_model *m = p->m;
-    ew_status rc = ew_stack_editor_open(m->text, m->nominal, m->cat, &p->ed[t], err);
-    if (rc != EW_OK) return rc;
-  }
-  return ew_stack_editor_build(p->ed[t], nkeys, keys, values, out, err);
+  return ew_wf_stack_at(p->m, nkeys, keys, values, out, err);
 }
 
 void ew_wf_point_text(char *buf, size_t size, size_t nk, const char *const *keys,

@@ -1,6 +1,6 @@
 /* stack_model.h — a stack file opened for the workflows: its nominal stack, its text, the
  * solver options of every point, and the solving of the stack at given key values (keys as in
- * stack_edit.h), one stack editor per thread. */
+ * stack_edit.h) from its one parsed tree. */
 #ifndef EW_STACK_MODEL_H
 #define EW_STACK_MODEL_H
 
@@ -27,17 +27,18 @@ ew_status ew_wf_key_check(const ew_wf_model *m, const char *key, const char *opt
                           double *nominal, ew_error *err);
 
 /* The model's stack with keys[i] set to values[i] (i < nkeys), errors as
- * ew_stack_editor_build (file, line of the setting, the values).  Parses the file's text
- * anew: for many points use a pool. */
+ * ew_stack_editor_build (file, line of the setting, the values).  Edits the model's one
+ * parsed tree under its lock (no parse, so no libconfig allocation that could end the process);
+ * safe from several threads. */
 ew_status ew_wf_stack_at(const ew_wf_model *m, size_t nkeys, const char *const *keys,
                          const double *values, ew_stack **out, ew_error *err);
 
 /* ---- many points on many threads ------------------------------------------------------- */
-/* One stack editor per thread of a parallel loop, each opened by its thread on first use. */
+/* The solving of a model's points on the threads of a parallel loop (the stacks are built
+ * from the model's one tree, in turn; the solves run in parallel). */
 typedef struct {
   const ew_wf_model *m;
-  size_t n;
-  ew_stack_editor **ed; /* [n], NULL until used */
+  size_t n; /* threads the loop may use */
 } ew_wf_pool;
 
 /* For loops of up to `threads` threads (as resolved by ew_wf_threads). */

@@ -45,6 +45,7 @@ static long fail_at;            /* 0: none fails */
 static atomic_int armed;
 static void *fail_trace[32];
 static int fail_depth;
+static int trace_each; /* EW_FAULTS_TRACE=1: every child prints its failed allocation's stack */
 extern char __executable_start; /* the linker's start of this program's image (its load base) */
 
 /* 1 when this allocation is to fail (the k-th after arming) */
@@ -54,6 +55,7 @@ static int inject(void) {
   if (k != fail_at) return 0;
   atomic_store(&armed, 0); /* backtrace() must not recurse into a failure */
   fail_depth = backtrace(fail_trace, 32);
+  if (trace_each) backtrace_symbols_fd(fail_trace, fail_depth, 2); /* no allocation */
   atomic_store(&armed, 1);
   return 1;
 }
@@ -296,5 +298,11 @@ int main(void) {
       cmocka_unit_test(faults_doped_well),
       cmocka_unit_test(faults_sweep),
   };
+  /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
+  const char *only = getenv("EW_FAULTS_ONLY");
+#if FAULTS_POSSIBLE
+  trace_each = getenv("EW_FAULTS_TRACE") != NULL;
+#endif
+  if (only && *only) cmocka_set_test_filter(only);
   return cmocka_run_group_tests(tests, setup, teardown);
 }
