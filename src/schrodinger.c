@@ -156,14 +156,14 @@ static ew_status build_grids(ew_result *r, const double *U, ew_grid **coarse, ew
 /* The warnings of a pass after its states: no estimate, the stack's caveats, residuals. */
 static int pass_warnings(ew_result *r) {
   if (r->unestimated &&
-      !ew_result_warn(r, "%zu state(s) have no error estimate: the grid of step 2h cannot "
+      !ew_result_warn_code(r, "no-error-estimate", "%zu state(s) have no error estimate: the grid of step 2h cannot "
                       "resolve them (fewer nodes than bound states, or oscillations finer "
                       "than its step); use a smaller grid step", r->unestimated))
     return 0;
   if (!ew_stack_caveats(r)) return 0;
   for (size_t i = 0; i < r->n_states; i++)
     if (r->states[i].flagged &&
-        !ew_result_warn(r, "%s failed its residual check (relative residual %.2e)",
+        !ew_result_warn_code(r, "residual", "%s failed its residual check (relative residual %.2e)",
                         r->states[i].label, r->states[i].residual))
       return 0;
   return 1;

@@ -12,7 +12,7 @@ static int valley_caveats(ew_result *r) {
     const ew_bands *b = &st->layers[k].bands;
     if (b->lowest_valley > 0 && b->lowest_valley < 3) {
       double eg = b->lowest_valley == 1 ? b->Eg_X_eV : b->Eg_L_eV;
-      if (!ew_result_warn(r,
+      if (!ew_result_warn_code(r, "indirect-layer",
                        "layer '%s' (%s): the lowest conduction minimum is %s (%.3f eV) below Γ "
                        "(%.3f eV): electrons there scatter into %s states, which this Γ-valley "
                        "model does not contain; the layer's effective barrier for electrons is "
@@ -37,7 +37,7 @@ static int strain_caveats(ew_result *r) {
     const ew_bands *b = &ly->bands;
     if (b->eps_par == 0.0) continue;
     if (ly->thickness_nm > b->critical_thickness_nm &&
-        !ew_result_warn(r, "layer '%s' (%s): %.2f nm exceeds its Matthews–Blakeslee critical "
+        !ew_result_warn_code(r, "critical-thickness", "layer '%s' (%s): %.2f nm exceeds its Matthews–Blakeslee critical "
                      "thickness %.2f nm at strain %.3f %%: it is likely to relax by misfit "
                      "dislocations, and the strained band edges used here would not apply",
                      ly->name, ly->material, ly->thickness_nm, b->critical_thickness_nm,
@@ -52,7 +52,7 @@ static int strain_caveats(ew_result *r) {
   if (n_strained > 1 && sum_et != 0.0) { /* a single layer is judged by its own thickness */
     double mean = sum_et / sum_t, hc = ew_mb_critical_thickness_nm(a, mean, nu, 1);
     if (sum_t > hc &&
-        !ew_result_warn(r, "cumulative strain: the strained layers add up to %.1f nm at a mean "
+        !ew_result_warn_code(r, "critical-thickness", "cumulative strain: the strained layers add up to %.1f nm at a mean "
                      "strain of %.3f %%, beyond the %.1f nm a single layer of that strain "
                      "could keep coherent (Matthews–Blakeslee); strain-balance the stack or "
                      "expect relaxation", sum_t, 100.0 * mean, hc))
