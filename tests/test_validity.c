@@ -107,11 +107,165 @@ static void codes_library_and_json(void **state) {
   solved_free(&s);
 }
 
+/* ---- 2. strain and substrate ------------------------------------------------------------
+ * Matthews–Blakeslee force balance on a 60° dislocation (J. W. Matthews, A. E. Blakeslee,
+ * J. Cryst. Growth 27, 118 (1974)): h = n b (1 − ν cos²α)/(8π f (1 + ν) cos λ) (ln(h/b) + 1),
+ * b = a/√2, α = λ = 60°, n = 1 for a layer with a free surface, 2 for a buried one (two
+ * interfaces); written out here, independently of strain.c. */
+static double mb_hc_nm(double a_nm, double f, double nu, int n) {
+  double b = a_nm / sqrt(2.0), A = n * b * (1.0 - nu * 0.25) / (8.0 * M_PI * fabs(f) * (1.0 + nu) * 0.5);
+  double h = 10.0 * A;
+  for (int i = 0; i < 500; i++) h = A * (log(h / b) + 1.0); /* contraction: rate A/h < 1 */
+  return h;
+}
+
+/* catalogue parameters of a material (the inputs, not the function under test) */
+typedef struct {
+  double a_nm, c11, c12;
+} mat;
+static mat mat_of(const char *name, double x) {
+  ew_params p;
+  ew_error err;
+  if (ew_material_params2(cat, name, x, 0.0, &p, &err) != EW_OK) fail_msg("%s: %s", name, err.message);
+  mat m = {p.v[EW_P_ALC] / 10.0, p.v[EW_P_C11], p.v[EW_P_C12]};
+  return m;
+}
+static double nu_of(mat m) { return m.c12 / (m.c11 + m.c12); }
+static double eps_on(mat m, mat sub) { return (sub.a_nm - m.a_nm) / m.a_nm; }
+/* biaxial modulus of the zero-stress strain balance, A = c11 + c12 − 2 c12²/c11
+ * (N. J. Ekins-Daukes et al., Cryst. Growth Des. 2, 287 (2002)) */
+static double biax(mat m) { return m.c11 + m.c12 - 2.0 * m.c12 * m.c12 / m.c11; }
+
+/* In0.2Ga0.8As on GaAs, a coarse grid (strain warnings do not depend on it) */
+static solved solve_ingaas(double t_nm, int buried) {
+  char text[1024];
+  snprintf(text, sizeof text,
+           "substrate = \"GaAs\";\ngrid_step = 0.1;\nlayers = (\n"
+           "  { name = \"below\"; material = \"GaAs\"; thickness = 20.0; },\n"
+           "  { name = \"well\"; material = \"InGaAs\"; x = 0.2; thickness = %.17g; }%s\n);\n",
+           t_nm, buried ? ",\n  { name = \"cap\"; material = \"GaAs\"; thickness = 20.0; }" : "");
+  return solve_text(text);
+}
+
+/* The issue quotes 14.6 nm (buried) and 5.8 nm (one interface) for In0.2Ga0.8As/GaAs; our
+ * own evaluation must agree with them to their printed digits, and the library must warn
+ * exactly past them (±1 %: a constant off by 1 % moves h_c by about 0.9 %, see below). */
+static void critical_thickness_buried_and_surface(void **state) {
+  (void)state;
+  mat w = mat_of("InGaAs", 0.2), g = mat_of("GaAs", 0.0);
+  double f = eps_on(w, g), nu = nu_of(w);
+  double hc2 = mb_hc_nm(w.a_nm, f, nu, 2), hc1 = mb_hc_nm(w.a_nm, f, nu, 1);
+  TU_NEAR(hc2, 14.6, 0.05, "issue 10 quotes 14.6 nm buried (Matthews–Blakeslee)");
+  TU_NEAR(hc1, 5.8, 0.05, "issue 10 quotes 5.8 nm one-interface (Matthews–Blakeslee)");
+  const double k[2] = {0.99, 1.01};
+  for (int buried = 0; buried < 2; buried++)
+    for (int j = 0; j < 2; j++) {
+      solved s = solve_ingaas(k[j] * (buried ? hc2 : hc1), buried);
+      if (count_code(s.r, "critical-thickness") != (size_t)j)
+        fail_msg("%s layer at %.2f h_c: %zu critical-thickness warnings, want %d",
+                 buried ? "buried" : "surface", k[j], count_code(s.r, "critical-thickness"), j);
+      solved_free(&s);
+    }
+  /* the issue's inconsistency: a 12 nm buried well is fine, a 12 nm surface layer is not */
+  solved a = solve_ingaas(12.0, 1), b = solve_ingaas(12.0, 0);
+  assert_int_equal(count_code(a.r, "critical-thickness"), 0);
+  assert_int_equal(count_code(b.r, "critical-thickness"), 1);
+  assert_non_null(strstr(ew_result_warning(b.r, find_code(b.r, "critical-thickness")), "uncapped"));
+  solved_free(&a);
+  solved_free(&b);
+}
+
+/* Two 4 nm In0.2Ga0.8As wells 1 µm apart: each below 14.6 nm, and the block's mean strain
+ * (spacer included) allows far more than 1008 nm — no warning; one 20 nm buried well warns. */
+static void multilayer_with_spacers(void **state) {
+  (void)state;
+  mat w = mat_of("InGaAs", 0.2), g = mat_of("GaAs", 0.0);
+  double ew = eps_on(w, g), Aw = biax(w), Ag = biax(g);
+  double mean = Aw * ew * 8.0 / (Aw * 8.0 + Ag * 1000.0);
+  double hc_block = mb_hc_nm(w.a_nm, mean, nu_of(w), 2);
+  if (!(hc_block > 1008.0)) fail_msg("premise: block h_c %.1f nm should exceed 1008 nm", hc_block);
+  solved s = solve_text("substrate = \"GaAs\";\ngrid_step = 0.25;\nlayers = (\n"
+                        "  { name = \"b1\"; material = \"GaAs\"; thickness = 20.0; },\n"
+                        "  { name = \"w1\"; material = \"InGaAs\"; x = 0.2; thickness = 4.0; },\n"
+                        "  { name = \"sp\"; material = \"GaAs\"; thickness = 1000.0; },\n"
+                        "  { name = \"w2\"; material = \"InGaAs\"; x = 0.2; thickness = 4.0; },\n"
+                        "  { name = \"b2\"; material = \"GaAs\"; thickness = 20.0; }\n);\n");
+  assert_int_equal(count_code(s.r, "critical-thickness"), 0);
+  solved_free(&s);
+  solved t = solve_ingaas(20.0, 1);
+  assert_int_equal(count_code(t.r, "critical-thickness"), 1);
+  solved_free(&t);
+}
+
+/* Five periods of 5 nm In0.2Ga0.8As and GaAs0.8P0.2 of the thickness that balances the
+ * stress (A_w ε_w t_w + A_b ε_b t_b = 0, Ekins-Daukes et al. 2002): no warning.  The same
+ * block with GaAs spacers is beyond the h_c of its mean strain and warns once (the block). */
+static void strain_balanced(void **state) {
+  (void)state;
+  mat w = mat_of("InGaAs", 0.2), p = mat_of("GaAsP", 0.8), g = mat_of("GaAs", 0.0);
+  double ew = eps_on(w, g), ep = eps_on(p, g);
+  double tb = -biax(w) * ew * 5.0 / (biax(p) * ep);
+  double tw_mean = biax(w) * ew * 25.0 / (biax(w) * 25.0 + biax(g) * 5.0 * tb);
+  double T = 25.0 + 5.0 * tb, hc = mb_hc_nm(w.a_nm, tw_mean, nu_of(w), 2);
+  if (!(T > hc)) fail_msg("premise: unbalanced block %.1f nm should exceed its h_c %.1f nm", T, hc);
+  for (int balanced = 1; balanced >= 0; balanced--) {
+    char text[4096];
+    size_t n = (size_t)snprintf(text, sizeof text, "substrate = \"GaAs\";\ngrid_step = 0.1;\n"
+                                "layers = (\n  { name = \"lo\"; material = \"GaAs\"; thickness = 20.0; },\n");
+    for (int k = 0; k < 5; k++)
+      n += (size_t)snprintf(text + n, sizeof text - n,
+                            "  { name = \"w%d\"; material = \"InGaAs\"; x = 0.2; thickness = 5.0; },\n"
+                            "  { name = \"s%d\"; material = \"%s\"; %s thickness = %.17g; },\n",
+                            k, k, balanced ? "GaAsP" : "GaAs", balanced ? "x = 0.8;" : "", tb);
+    snprintf(text + n, sizeof text - n, "  { name = \"cap\"; material = \"GaAs\"; thickness = 20.0; }\n);\n");
+    solved s = solve_text(text);
+    assert_int_equal(count_code(s.r, "critical-thickness"), balanced ? 0 : 1);
+    if (!balanced)
+      assert_non_null(strstr(ew_result_warning(s.r, find_code(s.r, "critical-thickness")),
+                             "cumulative strain"));
+    solved_free(&s);
+  }
+}
+
+/* Without a substrate: In0.2Ga0.8As/GaAs warns with the mismatch (Vegard's law from the
+ * catalogue's lattice constants) and the key to set; GaAs/Al0.3Ga0.7As (0.04 %, below the
+ * 0.2 % threshold, common practice) and the same stack with its substrate do not. */
+static void no_substrate(void **state) {
+  (void)state;
+  const char *fmt = "%slayers = (\n"
+                    "  { name = \"b1\"; material = \"GaAs\"; thickness = 20.0; },\n"
+                    "  { name = \"w\"; material = \"%s\"; x = %g; thickness = 7.0; },\n"
+                    "  { name = \"b2\"; material = \"GaAs\"; thickness = 20.0; }\n);\n";
+  char text[1024];
+  snprintf(text, sizeof text, fmt, "", "InGaAs", 0.2);
+  solved s = solve_text(text);
+  assert_int_equal(count_code(s.r, "no-substrate"), 1);
+  const char *m = ew_result_warning(s.r, find_code(s.r, "no-substrate"));
+  mat w = mat_of("InGaAs", 0.2), g = mat_of("GaAs", 0.0);
+  char want[64];
+  snprintf(want, sizeof want, "by %.2f %%", 100.0 * (w.a_nm - g.a_nm) / g.a_nm);
+  if (!strstr(m, want)) fail_msg("no-substrate text lacks '%s': %s", want, m);
+  assert_non_null(strstr(m, "substrate = \"GaAs\";"));
+  solved_free(&s);
+  snprintf(text, sizeof text, fmt, "", "AlGaAs", 0.3);
+  s = solve_text(text);
+  assert_int_equal(count_code(s.r, "no-substrate"), 0);
+  solved_free(&s);
+  snprintf(text, sizeof text, fmt, "substrate = \"GaAs\";\n", "InGaAs", 0.2);
+  s = solve_text(text);
+  assert_int_equal(count_code(s.r, "no-substrate"), 0);
+  solved_free(&s);
+}
+
 int main(int argc, char **argv) {
   (void)argc;
   argv0 = argv[0];
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(codes_library_and_json),
+      cmocka_unit_test(critical_thickness_buried_and_surface),
+      cmocka_unit_test(multilayer_with_spacers),
+      cmocka_unit_test(strain_balanced),
+      cmocka_unit_test(no_substrate),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
