@@ -257,6 +257,136 @@ static void no_substrate(void **state) {
   solved_free(&s);
 }
 
+/* ---- 3. levels against the single-band model ---------------------------------------------
+ * A. T. da Cunha Lima, I. C. da Cunha Lima, A. Ferreira da Silva, Phys. Rev. B 55, 15420
+ * (1997): in GaAs/AlAs wells the Γ ground state crosses the AlAs X edge for a GaAs width
+ * near 37 Å (type II below); L. J. Blue et al., Superlattices Microstruct. 21, 187 (1997)
+ * see both type-I and type-II lines at 35 Å.  So a 3.0 nm well warns "level-above-x" for e1
+ * and a 5.0 nm well does not; the X edge in the text is AlAs's Ev + Eg_X from the catalogue. */
+static solved gaas_in_alas(double w_nm) {
+  char text[1024];
+  snprintf(text, sizeof text,
+           "temperature = 4.0;\nlayers = (\n"
+           "  { name = \"b1\"; material = \"AlAs\"; thickness = 20.0; },\n"
+           "  { name = \"well\"; material = \"GaAs\"; thickness = %.17g; },\n"
+           "  { name = \"b2\"; material = \"AlAs\"; thickness = 20.0; }\n);\n", w_nm);
+  return solve_text(text);
+}
+static double edge_of(const char *name, double x, double T, int valley) {
+  ew_bands b;
+  ew_error err;
+  if (ew_material_bands(cat, name, x, T, &b, &err) != EW_OK) fail_msg("%s: %s", name, err.message);
+  return b.Ev_eV + (valley == 1 ? b.Eg_X_eV : valley == 2 ? b.Eg_L_eV : b.Eg_G_eV);
+}
+
+static void gaas_alas_gamma_x(void **state) {
+  (void)state;
+  double X = edge_of("AlAs", 0.0, 4.0, 1);
+  solved n = gaas_in_alas(3.0), w = gaas_in_alas(5.0);
+  double e1n = ew_result_state(n.r, 0)->energy_eV, e1w = ew_result_state(w.r, 0)->energy_eV;
+  if (!(e1n > X && e1w < X))
+    fail_msg("premise (da Cunha Lima 1997): e1 %.4f (3 nm) above and %.4f (5 nm) below X %.4f",
+             e1n, e1w, X);
+  assert_int_equal(count_code(n.r, "level-above-x"), 1);
+  const char *m = ew_result_warning(n.r, find_code(n.r, "level-above-x"));
+  char want[96];
+  snprintf(want, sizeof want, "e1 (%.4f eV)", e1n);
+  if (!strstr(m, want)) fail_msg("'%s' missing in: %s", want, m);
+  snprintf(want, sizeof want, "lies %.1f meV above the X edge (%.4f eV) of layer 'b", 1e3 * (e1n - X), X);
+  if (!strstr(m, want)) fail_msg("'%s' missing in: %s", want, m);
+  assert_non_null(strstr(m, "(AlAs)"));
+  /* 5 nm: e1 is below X; only its excited levels (e2 at ~1.12 eV) reach above it */
+  assert_int_equal(count_code(w.r, "level-above-x"), 0);
+  assert_int_equal(count_code(w.r, "excited-level-above-x"), 1);
+  assert_non_null(strstr(ew_result_warning(w.r, find_code(w.r, "excited-level-above-x")), "e2 ("));
+  solved_free(&n);
+  solved_free(&w);
+}
+
+/* InAs/GaSb: the InAs conduction edge lies below the GaSb valence edge (broken gap, type III:
+ * I. Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), from memory); the warning says the
+ * single-band model does not apply and names the 8-band k·p model. */
+static void inas_gasb_broken_gap(void **state) {
+  (void)state;
+  double ec = edge_of("InAs", 0.0, 4.0, 0), ev = edge_of("GaSb", 0.0, 4.0, -1);
+  if (!(ec < ev)) fail_msg("premise: InAs Ec %.4f below GaSb Ev %.4f", ec, ev);
+  solved s = solve_text("temperature = 4.0;\nlayers = (\n"
+                        "  { name = \"b1\"; material = \"AlSb\"; thickness = 20.0; },\n"
+                        "  { name = \"inas\"; material = \"InAs\"; thickness = 8.0; },\n"
+                        "  { name = \"gasb\"; material = \"GaSb\"; thickness = 8.0; },\n"
+                        "  { name = \"b2\"; material = \"AlSb\"; thickness = 20.0; }\n);\n");
+  assert_int_equal(count_code(s.r, "broken-gap"), 1);
+  const char *m = ew_result_warning(s.r, find_code(s.r, "broken-gap"));
+  assert_non_null(strstr(m, "'inas'"));
+  assert_non_null(strstr(m, "'gasb'"));
+  assert_non_null(strstr(m, "8-band k·p"));
+  assert_int_equal(count_code(s.r, "type-ii"), 0); /* broken gap says it all */
+  solved_free(&s);
+}
+
+/* An InP well in Al0.48In0.52As on InP: staggered (type II), electrons in InP, holes pushed
+ * into AlInAs (J. S. Weiner et al., Appl. Phys. Lett. 46, 619 (1985) on the band offsets of
+ * this lattice-matched system; staggered alignment from memory): no hole is bound and both
+ * warnings say why. */
+static void inp_alinas_no_holes(void **state) {
+  (void)state;
+  solved s = solve_text("temperature = 77.0;\nsubstrate = \"InP\";\nlayers = (\n"
+                        "  { name = \"b1\"; material = \"AlInAs\"; x = 0.48; thickness = 20.0; },\n"
+                        "  { name = \"well\"; material = \"InP\"; thickness = 6.0; },\n"
+                        "  { name = \"b2\"; material = \"AlInAs\"; x = 0.48; thickness = 20.0; }\n);\n");
+  assert_int_equal(ew_result_band_count(s.r, EW_BAND_HH) + ew_result_band_count(s.r, EW_BAND_LH), 0);
+  assert_int_equal(count_code(s.r, "no-bound-holes"), 1);
+  assert_int_equal(count_code(s.r, "type-ii"), 1);
+  const char *m = ew_result_warning(s.r, find_code(s.r, "type-ii"));
+  assert_non_null(strstr(m, "electrons are confined in 'well' (InP"));
+  assert_non_null(strstr(m, "(AlInAs"));
+  solved_free(&s);
+}
+
+/* Both bound in a staggered stack (outer barriers of a user material high in Ec and low in
+ * Ev): the spatially indirect e1–hh1 line is listed, its overlap small but not zero, and the
+ * warning quotes that line's overlap. */
+static void type_ii_indirect_line(void **state) {
+  (void)state;
+  solved s = solve_text("temperature = 77.0;\nsubstrate = \"InP\";\n"
+                        "materials = ( { name = \"wall\"; Ec = 1.3; Ev = -1.3; me = 0.1; mhh = 0.4; mlh = 0.1; } );\n"
+                        "layers = (\n  { name = \"o1\"; material = \"wall\"; thickness = 20.0; },\n"
+                        "  { name = \"inp\"; material = \"InP\"; thickness = 6.0; },\n"
+                        "  { name = \"alinas\"; material = \"AlInAs\"; x = 0.48; thickness = 6.0; },\n"
+                        "  { name = \"o2\"; material = \"wall\"; thickness = 20.0; }\n);\n");
+  const ew_result *r = s.r;
+  assert_int_equal(count_code(r, "type-ii"), 1);
+  const char *m = ew_result_warning(r, find_code(r, "type-ii"));
+  assert_non_null(strstr(m, "electrons are confined in 'inp'"));
+  assert_non_null(strstr(m, "holes in 'alinas'"));
+  const ew_line *ln = NULL;
+  for (size_t j = 0; j < ew_result_line_count(r); j++) {
+    const ew_line *l = ew_result_line(r, j);
+    if (l->kind == EW_LINE_INTERBAND && !strcmp(ew_result_state(r, l->upper)->label, "e1") &&
+        !strcmp(ew_result_state(r, l->lower)->label, "hh1"))
+      ln = l;
+  }
+  assert_non_null(ln);
+  if (!(ln->overlap > 1e-4 && ln->overlap < 0.5)) fail_msg("indirect overlap %g", ln->overlap);
+  char want[80];
+  snprintf(want, sizeof want, "overlap %.3g", ln->overlap);
+  if (!strstr(m, want)) fail_msg("'%s' missing in: %s", want, m);
+  solved_free(&s);
+}
+
+/* The detector example, a plain GaAs/Al0.28Ga0.72As well (type I, Γ-like, unstrained, 62:38
+ * offsets, README): no warning at all. */
+static void plain_well_has_none(void **state) {
+  (void)state;
+  char *text = rt_slurp("examples/detector_well.cfg");
+  assert_non_null(text);
+  solved s = solve_text(text);
+  free(text);
+  for (size_t i = 0; i < ew_result_warning_count(s.r); i++)
+    fail_msg("unexpected warning [%s] %s", ew_result_warning_code(s.r, i), ew_result_warning(s.r, i));
+  solved_free(&s);
+}
+
 int main(int argc, char **argv) {
   (void)argc;
   argv0 = argv[0];
@@ -266,6 +396,11 @@ int main(int argc, char **argv) {
       cmocka_unit_test(multilayer_with_spacers),
       cmocka_unit_test(strain_balanced),
       cmocka_unit_test(no_substrate),
+      cmocka_unit_test(gaas_alas_gamma_x),
+      cmocka_unit_test(inas_gasb_broken_gap),
+      cmocka_unit_test(inp_alinas_no_holes),
+      cmocka_unit_test(type_ii_indirect_line),
+      cmocka_unit_test(plain_well_has_none),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
