@@ -5,6 +5,7 @@
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 void ew_sp_info_free(ew_sp_info *sp) {
   if (!sp) return;
@@ -86,6 +87,22 @@ const char *ew_result_warning(const ew_result *r, size_t i) {
 }
 const char *ew_result_warning_code(const ew_result *r, size_t i) {
   return r && i < r->n_warnings ? r->warning_codes[i] : NULL;
+}
+
+void ew_result_warning_codes_join(const ew_result *r, char *buf, size_t size) {
+  if (!size) return;
+  buf[0] = '\0';
+  size_t len = 0;
+  for (size_t i = 0; r && i < r->n_warnings; i++) {
+    const char *c = r->warning_codes[i];
+    int seen = 0;
+    for (size_t k = 0; k < i && !seen; k++) seen = !strcmp(r->warning_codes[k], c);
+    size_t n = strlen(c);
+    if (seen || len + (len > 0) + n + 1 > size) continue;
+    if (len) buf[len++] = ';';
+    memcpy(buf + len, c, n + 1);
+    len += n;
+  }
 }
 
 /* the self-consistent quantities (NAN, 0 or NULL for a plain solve) */

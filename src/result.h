@@ -70,6 +70,12 @@ int ew_result_warn(ew_result *r, const char *fmt, ...)
 #endif
     ;
 
+/* Room for a result's distinct warning codes joined by ';' (sweeps, matches, tolerances). */
+#define EW_WARNING_CODES_MAX 256
+/* The distinct codes of r's warnings in order of first appearance, joined by ';' ("" when
+ * none); a code that would not fit whole is left out. */
+void ew_result_warning_codes_join(const ew_result *r, char *buf, size_t size);
+
 /* Release a result's self-consistent information; NULL is a no-op. */
 void ew_sp_info_free(ew_sp_info *sp);
 

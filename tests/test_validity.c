@@ -232,12 +232,13 @@ static void strain_balanced(void **state) {
  * 0.2 % threshold, common practice) and the same stack with its substrate do not. */
 static void no_substrate(void **state) {
   (void)state;
-  const char *fmt = "%slayers = (\n"
-                    "  { name = \"b1\"; material = \"GaAs\"; thickness = 20.0; },\n"
-                    "  { name = \"w\"; material = \"%s\"; x = %g; thickness = 7.0; },\n"
-                    "  { name = \"b2\"; material = \"GaAs\"; thickness = 20.0; }\n);\n";
+#define NO_SUB_FMT                                                                  \
+  "%slayers = (\n"                                                                  \
+  "  { name = \"b1\"; material = \"GaAs\"; thickness = 20.0; },\n"                  \
+  "  { name = \"w\"; material = \"%s\"; x = %g; thickness = 7.0; },\n"               \
+  "  { name = \"b2\"; material = \"GaAs\"; thickness = 20.0; }\n);\n"
   char text[1024];
-  snprintf(text, sizeof text, fmt, "", "InGaAs", 0.2);
+  snprintf(text, sizeof text, NO_SUB_FMT, "", "InGaAs", 0.2);
   solved s = solve_text(text);
   assert_int_equal(count_code(s.r, "no-substrate"), 1);
   const char *m = ew_result_warning(s.r, find_code(s.r, "no-substrate"));
@@ -247,11 +248,11 @@ static void no_substrate(void **state) {
   if (!strstr(m, want)) fail_msg("no-substrate text lacks '%s': %s", want, m);
   assert_non_null(strstr(m, "substrate = \"GaAs\";"));
   solved_free(&s);
-  snprintf(text, sizeof text, fmt, "", "AlGaAs", 0.3);
+  snprintf(text, sizeof text, NO_SUB_FMT, "", "AlGaAs", 0.3);
   s = solve_text(text);
   assert_int_equal(count_code(s.r, "no-substrate"), 0);
   solved_free(&s);
-  snprintf(text, sizeof text, fmt, "substrate = \"GaAs\";\n", "InGaAs", 0.2);
+  snprintf(text, sizeof text, NO_SUB_FMT, "substrate = \"GaAs\";\n", "InGaAs", 0.2);
   s = solve_text(text);
   assert_int_equal(count_code(s.r, "no-substrate"), 0);
   solved_free(&s);
@@ -387,6 +388,121 @@ static void plain_well_has_none(void **state) {
   solved_free(&s);
 }
 
+/* ---- 4. warnings reach sweeps, matches and tolerances ------------------------------------
+ * The stack: an In0.2Ga0.8As well buried in GaAs on GaAs; its buried Matthews–Blakeslee
+ * thickness (14.6 nm, mb_hc_nm above) is the reference for which points carry the code. */
+#define WF_STACK                                                                     \
+    "substrate = \"GaAs\";\ngrid_step = 0.1;\nlayers = (\n" \
+    "  { name = \"lower\"; material = \"GaAs\"; thickness = 20.0; },\n" \
+    "  { name = \"well\"; material = \"InGaAs\"; x = 0.2; thickness = %.17g; },\n" \
+    "  { name = \"upper\"; material = \"GaAs\"; thickness = 20.0; }\n);\n"
+static double hc_buried(void) {
+  mat w = mat_of("InGaAs", 0.2), g = mat_of("GaAs", 0.0);
+  return mb_hc_nm(w.a_nm, eps_on(w, g), nu_of(w), 2);
+}
+static void write_wf_stack(const char *name, double t_nm, char *path, size_t size) {
+  char text[1024];
+  snprintf(text, sizeof text, WF_STACK, t_nm);
+  assert_int_equal(rt_write(&env, name, text, path, size), 0);
+}
+static rj run_json(const char *args, const char *out) {
+  assert_int_equal(rt_run(&env, args, out), 0);
+  char *text = rt_slurp(out);
+  assert_non_null(text);
+  rj doc;
+  assert_int_equal(rj_parse(text, &doc), 0);
+  free(text);
+  return doc;
+}
+/* a JSON array of codes equals the expected single code (NULL: empty) */
+static void codes_are(const rj *a, const char *want, const char *what) {
+  if (!a || a->t != RJ_ARR) fail_msg("%s: no array of codes", what);
+  if (!want) {
+    if (a->n) fail_msg("%s: %zu codes, want none (first '%s')", what, a->n, a->item[0].str);
+    return;
+  }
+  if (a->n != 1) fail_msg("%s: %zu codes, want 1 (%s)", what, a->n, want);
+  RT_STREQ(a->item[0].str, want, what);
+}
+
+/* Sweep the well from 10 to 20 nm: exactly the points thicker than h_c carry the code, in
+ * the CSV's last column "warnings" and in each JSON point. */
+static void sweep_flags_thick_points(void **state) {
+  (void)state;
+  double hc = hc_buried();
+  char stack[1200], csvp[1300], out[1300], args[4096];
+  write_wf_stack("sweep.cfg", 12.0, stack, sizeof stack);
+  snprintf(csvp, sizeof csvp, "%s/sweep.csv", env.tmp);
+  snprintf(out, sizeof out, "%s/sweep.json", env.tmp);
+  snprintf(args, sizeof args, "sweep '%s' --vary well.thickness=10:20:1 --csv '%s' --json", stack, csvp);
+  rj doc = run_json(args, out);
+  rcsv c;
+  assert_int_equal(rcsv_read(csvp, &c), 0);
+  int wc = rcsv_col(&c, "warnings");
+  assert_int_equal(wc, (int)c.ncol - 1); /* the last column */
+  assert_int_equal(c.nrows, 11);
+  const rj *pts = rj_get(&doc, "points");
+  assert_true(pts && pts->n == 11);
+  size_t thick = 0;
+  for (size_t i = 0; i < c.nrows; i++) {
+    double t = rcsv_num(&c, i, 0);
+    TU_NEAR(t, 10.0 + (double)i, 1e-9, "the sweep's values");
+    const char *want = t > hc ? "critical-thickness" : "";
+    thick += t > hc;
+    char what[64];
+    snprintf(what, sizeof what, "CSV warnings at %g nm", t);
+    RT_STREQ(rcsv_at(&c, i, wc), want, what);
+    snprintf(what, sizeof what, "JSON warnings at %g nm", t);
+    codes_are(rj_get(&pts->item[i], "warnings"), t > hc ? want : NULL, what);
+  }
+  assert_int_equal(thick, 6); /* 15 … 20 nm */
+  rcsv_free(&c);
+  rj_free(&doc);
+}
+
+/* match: e1–hh1 at 1025 nm needs a well past h_c (about 25 nm), and the solution says so;
+ * at 960 nm the well is below h_c and carries nothing. */
+static void match_carries_codes(void **state) {
+  (void)state;
+  double hc = hc_buried();
+  char stack[1200], out[1300], args[4096];
+  write_wf_stack("match.cfg", 8.0, stack, sizeof stack);
+  const double target_nm[2] = {1025.0, 960.0};
+  for (int k = 0; k < 2; k++) {
+    snprintf(out, sizeof out, "%s/match%d.json", env.tmp, k);
+    snprintf(args, sizeof args, "match '%s' --vary well.thickness=3:30 --line e1-hh1 --target %gnm --json",
+             stack, target_nm[k]);
+    rj doc = run_json(args, out);
+    const rj *sol = rj_get(&doc, "solutions");
+    assert_true(sol && sol->n == 1);
+    double v = rj_num(&sol->item[0], "value");
+    if (k == 0 ? !(v > hc) : !(v < hc)) fail_msg("premise: %g nm against h_c %g nm", v, hc);
+    codes_are(rj_get(&sol->item[0], "warnings"), k == 0 ? "critical-thickness" : NULL, "match");
+    rj_free(&doc);
+  }
+}
+
+/* tolerance: a well 0.15 nm below h_c is fine, one monolayer more is not. */
+static void tolerance_carries_codes(void **state) {
+  (void)state;
+  double hc = hc_buried(), t = hc - 0.15;
+  char stack[1200], out[1300], args[4096];
+  write_wf_stack("tol.cfg", t, stack, sizeof stack);
+  snprintf(out, sizeof out, "%s/tol.json", env.tmp);
+  snprintf(args, sizeof args, "tolerance '%s' --json", stack);
+  rj doc = run_json(args, out);
+  codes_are(rj_get(&doc, "warnings"), NULL, "tolerance nominal");
+  const rj *L = rj_get(&doc, "layers");
+  assert_true(L && L->n == 3);
+  const rj *w = &L->item[1];
+  RT_STREQ(rj_str(w, "name"), "well", "layer 2");
+  if (!(t + rj_num(w, "monolayer_nm") > hc)) fail_msg("premise: +1 ML should pass h_c");
+  codes_are(rj_get(w, "warnings_minus_1ML"), NULL, "well -1 ML");
+  codes_are(rj_get(w, "warnings_plus_1ML"), "critical-thickness", "well +1 ML");
+  codes_are(rj_get(&L->item[0], "warnings_plus_1ML"), NULL, "lower +1 ML");
+  rj_free(&doc);
+}
+
 int main(int argc, char **argv) {
   (void)argc;
   argv0 = argv[0];
@@ -401,6 +517,9 @@ int main(int argc, char **argv) {
       cmocka_unit_test(inp_alinas_no_holes),
       cmocka_unit_test(type_ii_indirect_line),
       cmocka_unit_test(plain_well_has_none),
+      cmocka_unit_test(sweep_flags_thick_points),
+      cmocka_unit_test(match_carries_codes),
+      cmocka_unit_test(tolerance_carries_codes),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
