@@ -5,6 +5,7 @@
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
+#include <stdlib.h>
 
 #include "constants.h"
 
@@ -22,91 +23,86 @@ static double valley_offset_eV(const ew_layer *ly, double f, int valley) {
   return b.Ev_eV + eg - b.Ec_eV;
 }
 
-/* Lowest X or L edge over the nodes of layer k (absolute eV, with field and potential);
- * NAN when unknown. */
-static double valley_edge_min(const ew_result *r, size_t k, int valley) {
+/* Scratch of the valley checks, per layer: the lowest X and L edges (absolute eV, with
+ * field and potential; NAN when unknown), and for the state in hand its probability and the
+ * WKB attenuation from its own layer.  Every array is filled in one pass over the nodes, so
+ * the checks cost O(states × nodes). */
+typedef struct {
+  double *edge[3]; /* [1] X, [2] L */
+  double *prob, *att;
+} valley_work;
+
+static void edges_fill(const ew_result *r, valley_work *w) {
   const ew_grid *g = r->grid;
-  const ew_layer *ly = &r->stack->layers[k];
-  double lo = NAN;
+  for (int v = 1; v <= 2; v++)
+    for (size_t k = 0; k < r->stack->n_layers; k++) w->edge[v][k] = NAN;
   for (size_t j = 0; j < g->n; j++) {
-    if (g->layer[j] != k) continue;
+    const ew_layer *ly = &r->stack->layers[g->layer[j]];
     double f = ly->thickness_nm > 0 ? (g->z[j] - ly->z_start_nm) / ly->thickness_nm : 0.5;
-    double e = g->edge[EW_BAND_E][j] + valley_offset_eV(ly, f, valley);
-    if (isnan(lo) || e < lo) lo = e;
+    for (int v = 1; v <= 2; v++) {
+      double e = g->edge[EW_BAND_E][j] + valley_offset_eV(ly, f, v), *lo = &w->edge[v][g->layer[j]];
+      if (isnan(*lo) || e < *lo) *lo = e;
+    }
   }
-  return lo;
 }
 
-/* ∫|ψ_i|² over layer k */
-static double layer_prob(const ew_result *r, size_t i, size_t k) {
+/* WKB decay constant κ = √(2m(Ec − E))/ħ at node j (0 where E is above the Γ edge) */
+static double kappa(const ew_grid *g, size_t j, double E) {
+  double dv = g->edge[EW_BAND_E][j] - E;
+  return dv > 0 ? sqrt(g->mass[EW_BAND_E][j] * dv / EW_HB2M0_EVNM2) : 0.0;
+}
+
+/* prob[k] = ∫|ψ_i|² over layer k; att[k] = ∫κ dz over the layers strictly between state i's
+ * own layer and layer k (0 for its own and adjacent layers). */
+static void state_fill(const ew_result *r, size_t i, valley_work *w) {
   const ew_grid *g = r->grid;
   const double *psi = r->psi + i * g->n;
-  double p = 0.0;
-  for (size_t j = 0; j < g->n; j++)
-    if (g->layer[j] == k) p += g->w[j] * psi[j] * psi[j];
-  return p;
-}
-
-/* WKB attenuation ∫κ dz of state i's energy from its own layer to layer k, over the nodes in
- * between (κ = 0 where the level is above the Γ edge). */
-static double attenuation(const ew_result *r, size_t i, size_t k) {
-  const ew_grid *g = r->grid;
-  size_t home = r->states[i].layer;
-  if (k == home) return 0.0;
-  size_t lo = home < k ? home : k, hi = home < k ? k : home;
-  double E = r->states[i].energy_eV, sum = 0.0, zprev = NAN, kprev = 0.0;
-  for (size_t j = 0; j < g->n; j++) {
-    if (g->layer[j] < lo || g->layer[j] > hi) continue;
-    double dv = g->edge[EW_BAND_E][j] - E;
-    double kap = dv > 0 ? sqrt(g->mass[EW_BAND_E][j] * dv / EW_HB2M0_EVNM2) : 0.0;
-    if (g->layer[j] == lo || g->layer[j] == hi) kap = 0.0; /* only the layers in between */
-    if (!isnan(zprev)) sum += 0.5 * (kap + kprev) * (g->z[j] - zprev);
-    zprev = g->z[j];
-    kprev = kap;
+  size_t nl = r->stack->n_layers, home = r->states[i].layer;
+  double E = r->states[i].energy_eV;
+  for (size_t k = 0; k < nl; k++) w->prob[k] = w->att[k] = 0.0;
+  for (size_t j = 0; j < g->n; j++) w->prob[g->layer[j]] += g->w[j] * psi[j] * psi[j];
+  for (int dir = -1; dir <= 1; dir += 2) { /* outward from home, to each side */
+    double sum = 0.0, zprev = NAN, kprev = 0.0;
+    size_t last = home;
+    for (size_t s = 0; s < g->n; s++) {
+      size_t j = dir > 0 ? s : g->n - 1 - s, k = g->layer[j];
+      if (dir > 0 ? k <= home : k >= home) continue;
+      if (k != last) { /* entering layer k: what lies between home and k is summed */
+        w->att[k] = sum;
+        last = k;
+      }
+      double kap = kappa(g, j, E);
+      if (!isnan(zprev)) sum += 0.5 * (kap + kprev) * fabs(g->z[j] - zprev);
+      zprev = g->z[j];
+      kprev = kap;
+    }
   }
-  return sum;
 }
 
 /* The reachable layer of lowest X or L edge below state i's energy (SIZE_MAX: none). */
-static size_t valley_layer(const ew_result *r, size_t i, int v, double *edge_out, double *p_out) {
+static size_t valley_layer(const ew_result *r, size_t i, int v, const valley_work *w,
+                           double *edge_out, double *p_out) {
   size_t best = SIZE_MAX;
   for (size_t k = 0; k < r->stack->n_layers; k++) {
-    double edge = valley_edge_min(r, k, v);
+    double edge = w->edge[v][k];
     if (!(edge < r->states[i].energy_eV)) continue;
-    double p = layer_prob(r, i, k);
-    if (p < EW_LEVEL_PROB_MIN && attenuation(r, i, k) > EW_LEVEL_DECAY_LENGTHS) continue;
-    if (best == SIZE_MAX || edge < *edge_out) best = k, *edge_out = edge, *p_out = p;
+    if (w->prob[k] < EW_LEVEL_PROB_MIN && w->att[k] > EW_LEVEL_DECAY_LENGTHS) continue;
+    if (best == SIZE_MAX || edge < *edge_out) best = k, *edge_out = edge, *p_out = w->prob[k];
   }
   return best;
 }
 
-/* One warning per valley: the lowest electron level above a reachable X (L) edge, with the
- * count of higher ones.  e1 there decides what the well is (the Γ–X crossover of narrow
- * GaAs/AlAs wells): "level-above-x"; only excited levels: "excited-level-above-x". */
-static int valley_levels(ew_result *r) {
+/* The warning of valley v for its lowest level `first` (layer, edge, probability). */
+static int valley_warn(ew_result *r, int v, size_t first, size_t layer, double edge, double p,
+                       size_t higher) {
   static const char *vname[] = {"", "X", "L"};
   static const char *code[2][3] = {{"", "excited-level-above-x", "excited-level-above-l"},
                                    {"", "level-above-x", "level-above-l"}};
-  for (int v = 1; v <= 2; v++) {
-    size_t first = SIZE_MAX, layer = SIZE_MAX, higher = 0;
-    double edge = 0.0, p = 0.0;
-    for (size_t i = 0; i < r->n_states; i++) {
-      if (r->states[i].band != EW_BAND_E) continue;
-      double e_i = 0.0, p_i = 0.0;
-      size_t k = valley_layer(r, i, v, &e_i, &p_i);
-      if (k == SIZE_MAX) continue;
-      if (first != SIZE_MAX) {
-        higher++;
-        continue;
-      }
-      first = i, layer = k, edge = e_i, p = p_i;
-    }
-    if (first == SIZE_MAX) continue;
-    const ew_state *s = &r->states[first];
-    const ew_layer *ly = &r->stack->layers[layer];
-    char more[64] = "";
-    if (higher) snprintf(more, sizeof more, " (with %zu higher level%s)", higher, higher > 1 ? "s" : "");
-    if (!ew_result_warn_code(r, code[s->n == 1][v], "%s (%.4f eV)%s lies %.1f meV above the %s "
+  const ew_state *s = &r->states[first];
+  const ew_layer *ly = &r->stack->layers[layer];
+  char more[64] = "";
+  if (higher) snprintf(more, sizeof more, " (with %zu higher level%s)", higher, higher > 1 ? "s" : "");
+  return ew_result_warn_code(r, code[s->n == 1][v], "%s (%.4f eV)%s lies %.1f meV above the %s "
                              "edge (%.4f eV) of layer '%s' (%s), where it has %.2g of its "
                              "probability: this Γ-valley model leaves out the %s states, with "
                              "which the level mixes%s; treat %s and its lines with care",
@@ -114,9 +110,35 @@ static int valley_levels(ew_result *r) {
                              edge, ly->name, ly->material, p, vname[v],
                              s->n == 1 ? ", so the lowest electron state may be X- or L-like "
                                          "(type II in space or in k)" : "",
-                             s->label))
-      return 0;
+                             s->label);
+}
+
+/* One warning per valley: the lowest electron level above a reachable X (L) edge, with the
+ * count of higher ones.  e1 there decides what the well is (the Γ–X crossover of narrow
+ * GaAs/AlAs wells): "level-above-x"; only excited levels: "excited-level-above-x". */
+static int valley_levels(ew_result *r) {
+  size_t nl = r->stack->n_layers;
+  double *buf = malloc(4 * nl * sizeof *buf);
+  if (!buf) return 0;
+  valley_work w = {{NULL, buf, buf + nl}, buf + 2 * nl, buf + 3 * nl};
+  edges_fill(r, &w);
+  size_t first[3] = {SIZE_MAX, SIZE_MAX, SIZE_MAX}, layer[3] = {0, 0, 0}, higher[3] = {0, 0, 0};
+  double edge[3] = {0, 0, 0}, p[3] = {0, 0, 0};
+  for (size_t i = 0; i < r->n_states; i++) {
+    if (r->states[i].band != EW_BAND_E) continue;
+    state_fill(r, i, &w);
+    for (int v = 1; v <= 2; v++) {
+      double e_i = 0.0, p_i = 0.0;
+      size_t k = valley_layer(r, i, v, &w, &e_i, &p_i);
+      if (k == SIZE_MAX) continue;
+      if (first[v] != SIZE_MAX) higher[v]++;
+      else first[v] = i, layer[v] = k, edge[v] = e_i, p[v] = p_i;
+    }
   }
+  free(buf);
+  for (int v = 1; v <= 2; v++)
+    if (first[v] != SIZE_MAX && !valley_warn(r, v, first[v], layer[v], edge[v], p[v], higher[v]))
+      return 0;
   return 1;
 }
 
