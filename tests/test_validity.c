@@ -6,6 +6,7 @@
  * (mb_hc_nm), not with the library's function. */
 #include <math.h>
 
+#include "constants.h"
 #include "roundtrip.h"
 
 static rt_env env;
@@ -304,6 +305,45 @@ static void gaas_alas_gamma_x(void **state) {
   solved_free(&w);
 }
 
+/* The reach of a level: a 0.5 nm AlAs layer d nm beyond a 2 nm GaAs well in Al0.4Ga0.6As
+ * holds less than 1e-3 of e1 at d = 4 nm, but lies within three WKB decay lengths
+ * (κd < 3, κ = √(2m_b(Ec_b − E1))/ħ with the barrier's catalogue mass and edge: the
+ * textbook tunnelling exponent), so e1 above its X edge is warned about; at d = 8 nm
+ * (κd > 3) it is not. */
+static void level_reach_decay_lengths(void **state) {
+  (void)state;
+  ew_bands b;
+  ew_error err;
+  assert_int_equal(ew_material_bands(cat, "AlGaAs", 0.4, 4.0, &b, &err), EW_OK);
+  const double K = EW_HB2M0_EVNM2; /* ħ²/2m0 in eV nm² (CODATA 2018, src/constants.h) */
+  const double d[2] = {4.0, 8.0};
+  for (int q = 0; q < 2; q++) {
+    char text[1024];
+    snprintf(text, sizeof text,
+             "temperature = 4.0;\nlayers = (\n"
+             "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.4; thickness = 25.0; },\n"
+             "  { name = \"well\"; material = \"GaAs\"; thickness = 2.0; },\n"
+             "  { name = \"sp\"; material = \"AlGaAs\"; x = 0.4; thickness = %.17g; },\n"
+             "  { name = \"alas\"; material = \"AlAs\"; thickness = 0.5; },\n"
+             "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.4; thickness = 25.0; }\n);\n", d[q]);
+    solved s = solve_text(text);
+    double e1 = ew_result_state(s.r, 0)->energy_eV, X = edge_of("AlAs", 0.0, 4.0, 1);
+    double kd = sqrt(b.me * (b.Ec_eV - e1) / K) * d[q];
+    if (!(e1 > X) || (q == 0 ? !(kd < 3.0) : !(kd > 3.0)))
+      fail_msg("premise: e1 %.4f above X %.4f, κd = %.3g %s 3", e1, X, kd, q ? ">" : "<");
+    assert_int_equal(count_code(s.r, "level-above-x"), q == 0 ? 1 : 0);
+    if (q == 0) {
+      const char *m = ew_result_warning(s.r, find_code(s.r, "level-above-x"));
+      assert_non_null(strstr(m, "'alas'"));
+      const char *ph = strstr(m, "it has ");
+      assert_non_null(ph);
+      double p = strtod(ph + 7, NULL);
+      if (!(p > 0.0 && p < 1e-3)) fail_msg("probability %g should be below 1e-3: %s", p, m);
+    }
+    solved_free(&s);
+  }
+}
+
 /* InAs/GaSb: the InAs conduction edge lies below the GaSb valence edge (broken gap, type III:
  * I. Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), from memory); the warning says the
  * single-band model does not apply and names the 8-band k·p model. */
@@ -513,6 +553,7 @@ int main(int argc, char **argv) {
       cmocka_unit_test(strain_balanced),
       cmocka_unit_test(no_substrate),
       cmocka_unit_test(gaas_alas_gamma_x),
+      cmocka_unit_test(level_reach_decay_lengths),
       cmocka_unit_test(inas_gasb_broken_gap),
       cmocka_unit_test(inp_alinas_no_holes),
       cmocka_unit_test(type_ii_indirect_line),
