@@ -228,6 +228,35 @@ static void strain_balanced(void **state) {
   }
 }
 
+/* Three 5 nm In0.2Ga0.8As wells with 10 nm GaAs spacers (a 35 nm block of mean strain about
+ * −0.6 %) lie between the one-interface and the buried h_c of that mean: buried under a cap,
+ * no warning; uncapped (the last well at the surface), the block warns. */
+static void block_surface_or_buried(void **state) {
+  (void)state;
+  mat w = mat_of("InGaAs", 0.2), g = mat_of("GaAs", 0.0);
+  double ew = eps_on(w, g), Aw = biax(w), Ag = biax(g);
+  double T = 35.0, mean = Aw * ew * 15.0 / (Aw * 15.0 + Ag * 20.0);
+  double hc1 = mb_hc_nm(w.a_nm, mean, nu_of(w), 1), hc2 = mb_hc_nm(w.a_nm, mean, nu_of(w), 2);
+  if (!(hc1 < T && T < hc2)) fail_msg("premise: %g < %g < %g nm", hc1, T, hc2);
+  for (int capped = 1; capped >= 0; capped--) {
+    char text[2048];
+    snprintf(text, sizeof text, "substrate = \"GaAs\";\ngrid_step = 0.1;\nlayers = (\n"
+             "  { name = \"lo\"; material = \"GaAs\"; thickness = 20.0; },\n"
+             "  { name = \"w1\"; material = \"InGaAs\"; x = 0.2; thickness = 5.0; },\n"
+             "  { name = \"s1\"; material = \"GaAs\"; thickness = 10.0; },\n"
+             "  { name = \"w2\"; material = \"InGaAs\"; x = 0.2; thickness = 5.0; },\n"
+             "  { name = \"s2\"; material = \"GaAs\"; thickness = 10.0; },\n"
+             "  { name = \"w3\"; material = \"InGaAs\"; x = 0.2; thickness = 5.0; }%s\n);\n",
+             capped ? ",\n  { name = \"cap\"; material = \"GaAs\"; thickness = 20.0; }" : "");
+    solved s = solve_text(text);
+    assert_int_equal(count_code(s.r, "critical-thickness"), capped ? 0 : 1);
+    if (!capped)
+      assert_non_null(strstr(ew_result_warning(s.r, find_code(s.r, "critical-thickness")),
+                             "cumulative strain"));
+    solved_free(&s);
+  }
+}
+
 /* Without a substrate: In0.2Ga0.8As/GaAs warns with the mismatch (Vegard's law from the
  * catalogue's lattice constants) and the key to set; GaAs/Al0.3Ga0.7As (0.04 %, below the
  * 0.2 % threshold, common practice) and the same stack with its substrate do not. */
@@ -551,6 +580,7 @@ int main(int argc, char **argv) {
       cmocka_unit_test(critical_thickness_buried_and_surface),
       cmocka_unit_test(multilayer_with_spacers),
       cmocka_unit_test(strain_balanced),
+      cmocka_unit_test(block_surface_or_buried),
       cmocka_unit_test(no_substrate),
       cmocka_unit_test(gaas_alas_gamma_x),
       cmocka_unit_test(level_reach_decay_lengths),
