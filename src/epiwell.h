@@ -159,6 +159,9 @@ size_t ew_result_warning_count(const ew_result *res);
 /* One line naming the band model used (parabolic or Kane non-parabolic electrons). */
 const char *ew_result_model(const ew_result *res);
 const char *ew_result_warning(const ew_result *res, size_t i);
+/* The stable machine-readable code of warning i (kebab-case, e.g. "critical-thickness";
+ * README "Warnings" lists every code); NULL when i is out of range. */
+const char *ew_result_warning_code(const ew_result *res, size_t i);
 
 /* ---- self-consistent Schrödinger–Poisson results (poisson.c) ---------------------------
  * ew_solve() solves doped stacks self-consistently (see README "Doped structures").  These

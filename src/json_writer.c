@@ -2,6 +2,7 @@
 #include "json_writer.h"
 
 #include <math.h>
+#include <string.h>
 
 void ew_json_init(ew_json *j, FILE *out) {
   j->out = out;
@@ -180,4 +181,17 @@ void ew_json_key_null(ew_json *j, const char *key) {
 int ew_json_finish(ew_json *j) {
   fputc('\n', j->out);
   return j->bad || j->depth != 0 || ferror(j->out) ? -1 : 0;
+}
+
+void ew_json_write_codes(FILE *out, const char *codes) {
+  fputc('[', out);
+  for (const char *c = codes; *c;) {
+    size_t n = strcspn(c, ";");
+    char one[128];
+    snprintf(one, sizeof one, "%.*s", (int)(n < sizeof one ? n : sizeof one - 1), c);
+    if (c != codes) fputc(',', out);
+    ew_json_write_string(out, one);
+    c += n + (c[n] == ';');
+  }
+  fputc(']', out);
 }

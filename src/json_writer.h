@@ -71,6 +71,8 @@ void ew_json_write_string(FILE *out, const char *s);
 void ew_json_write_number(FILE *out, double v);
 /* ,"name":[v0,v1,…] — every value null when v is NULL */
 void ew_json_write_number_array(FILE *out, const char *name, const double *v, size_t n);
+/* Warning codes joined by ';' ("a;b", "" for none) as the JSON array ["a","b"]. */
+void ew_json_write_codes(FILE *out, const char *codes);
 
 /* End the document with a newline.  0 when every call nested properly and the stream had
  * no error, −1 otherwise. */

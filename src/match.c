@@ -654,6 +654,20 @@ static ew_status match_setup(const ew_wf_model *m, const ew_wf_range *ranges, si
   return EW_OK;
 }
 
+/* The warning codes of the stack at every solution (README "Warnings"). */
+static ew_status solution_codes(const wf_eval *ev, ew_wf_match_result *out, ew_error *err) {
+  for (size_t k = 0; k < out->n; k++) {
+    ew_stack *st = NULL;
+    ew_result *res = NULL;
+    ew_status rc = ew_wf_pool_solve(ev->pool, ev->nk, ev->keys, out->sol[k].value, &st, &res, err);
+    if (rc != EW_OK) return rc;
+    ew_result_warning_codes_join(res, out->sol[k].warnings, sizeof out->sol[k].warnings);
+    ew_result_free(res);
+    ew_stack_free(st);
+  }
+  return EW_OK;
+}
+
 ew_status ew_wf_match(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr,
                       const char *const *lines, const ew_wf_quantity *targets, size_t nlines,
                       const ew_wf_quantity *tolerance, const ew_wf_match_opt *oin,
@@ -680,6 +694,7 @@ ew_status ew_wf_match(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
   ev.pool = &pool;
   rc = nr == 1 ? match_1d(&ev, ranges, tolerance, S[0], nt, out, err)
                : match_2d(&ev, ranges, S[0], S[1], nt, out, err);
+  if (rc == EW_OK) rc = solution_codes(&ev, out, err);
   ew_wf_pool_free(&pool);
   if (rc != EW_OK) {
     free(out->sol);
@@ -738,6 +753,8 @@ void ew_wf_match_print(const ew_wf_match_result *r, FILE *out) {
     }
     fputc('\n', out);
   }
+  for (size_t k = 0; k < r->n; k++)
+    if (r->sol[k].warnings[0]) fprintf(out, "  warnings of #%zu: %s\n", k + 1, r->sol[k].warnings);
 }
 
 static void json_lines(const ew_wf_match_result *r, FILE *out) {
@@ -785,6 +802,8 @@ static void json_solution(const ew_wf_match_result *r, const ew_wf_solution *s, 
     fputs(",\"value_at_target_plus_tolerance\":", out);
     ew_json_write_number(out, s->value_plus);
   }
+  fputs(",\"warnings\":", out);
+  ew_json_write_codes(out, s->warnings);
 }
 
 void ew_wf_match_print_json(const ew_wf_match_result *r, FILE *out) {

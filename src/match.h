@@ -8,6 +8,7 @@
 
 #include "epiwell.h"
 #include "range.h"
+#include "result.h"
 #include "stack_model.h"
 
 typedef struct {
@@ -18,6 +19,7 @@ typedef struct {
   /* 1D with a tolerance: values at target −/+ tolerance (NaN when not reached in the range)
    * and the uncertainty = half their distance (NaN when one is missing) */
   double value_minus, value_plus, uncertainty;
+  char warnings[EW_WARNING_CODES_MAX]; /* the stack's warning codes at value, ';'-joined */
 } ew_wf_solution;
 
 typedef struct {

@@ -153,7 +153,8 @@ void ew_output_table(const ew_result *r, FILE *out) {
   if (r->sp) table_sp(r, out);
   if (r->n_warnings) {
     fprintf(out, "\nWarnings\n");
-    for (size_t i = 0; i < r->n_warnings; i++) fprintf(out, "  - %s\n", r->warnings[i]);
+    for (size_t i = 0; i < r->n_warnings; i++)
+      fprintf(out, "  - [%s] %s\n", r->warning_codes[i], r->warnings[i]);
   }
   fputc('\n', out);
 }
@@ -288,6 +289,10 @@ void ew_output_json(const ew_result *r, FILE *out) {
   ew_json_key(&j, "warnings");
   ew_json_begin_array(&j);
   for (size_t i = 0; i < r->n_warnings; i++) ew_json_str(&j, r->warnings[i]);
+  ew_json_end_array(&j);
+  ew_json_key(&j, "warning_codes"); /* parallel to warnings: code i belongs to warning i */
+  ew_json_begin_array(&j);
+  for (size_t i = 0; i < r->n_warnings; i++) ew_json_str(&j, r->warning_codes[i]);
   ew_json_end_array(&j);
   json_layers(&j, st);
   json_bands(&j, r);

@@ -5,6 +5,7 @@
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 void ew_sp_info_free(ew_sp_info *sp) {
   if (!sp) return;
@@ -18,6 +19,7 @@ void ew_result_free(ew_result *r) {
   if (!r) return;
   ew_grid_free(r->grid);
   free(r->warnings);
+  free(r->warning_codes);
   free(r->states);
   free(r->psi);
   free(r->mean_inv_mass);
@@ -45,15 +47,33 @@ double ew_result_grid_step_nm(const ew_result *r) { return r->step_nm; }
 size_t ew_result_band_count(const ew_result *r, ew_band b) { return r->band_count[b]; }
 double ew_result_window_eV(const ew_result *r, ew_band b) { return r->window_eV[b]; }
 
-int ew_result_warn(ew_result *r, const char *fmt, ...) {
-  char (*w)[EW_WARNING_MAX] = realloc(r->warnings, (r->n_warnings + 1) * sizeof *w);
+static int warn_v(ew_result *r, const char *code, const char *fmt, va_list ap) {
+  size_t n = r->n_warnings + 1;
+  char (*w)[EW_WARNING_MAX] = realloc(r->warnings, n * sizeof *w);
   if (!w) return 0;
   r->warnings = w;
+  const char **c = realloc(r->warning_codes, n * sizeof *c);
+  if (!c) return 0; /* the text array only grew: n_warnings still counts both */
+  r->warning_codes = c;
+  vsnprintf(r->warnings[r->n_warnings], EW_WARNING_MAX, fmt, ap);
+  r->warning_codes[r->n_warnings++] = code;
+  return 1;
+}
+
+int ew_result_warn_code(ew_result *r, const char *code, const char *fmt, ...) {
   va_list ap;
   va_start(ap, fmt);
-  vsnprintf(r->warnings[r->n_warnings++], EW_WARNING_MAX, fmt, ap);
+  int ok = warn_v(r, code, fmt, ap);
   va_end(ap);
-  return 1;
+  return ok;
+}
+
+int ew_result_warn(ew_result *r, const char *fmt, ...) {
+  va_list ap;
+  va_start(ap, fmt);
+  int ok = warn_v(r, "self-consistent", fmt, ap);
+  va_end(ap);
+  return ok;
 }
 
 size_t ew_result_warning_count(const ew_result *r) { return r->n_warnings; }
@@ -64,6 +84,25 @@ const char *ew_result_model(const ew_result *r) {
 }
 const char *ew_result_warning(const ew_result *r, size_t i) {
   return i < r->n_warnings ? r->warnings[i] : NULL;
+}
+const char *ew_result_warning_code(const ew_result *r, size_t i) {
+  return r && i < r->n_warnings ? r->warning_codes[i] : NULL;
+}
+
+void ew_result_warning_codes_join(const ew_result *r, char *buf, size_t size) {
+  if (!size) return;
+  buf[0] = '\0';
+  size_t len = 0;
+  for (size_t i = 0; r && i < r->n_warnings; i++) {
+    const char *c = r->warning_codes[i];
+    int seen = 0;
+    for (size_t k = 0; k < i && !seen; k++) seen = !strcmp(r->warning_codes[k], c);
+    size_t n = strlen(c);
+    if (seen || len + (len > 0) + n + 1 > size) continue;
+    if (len) buf[len++] = ';';
+    memcpy(buf + len, c, n + 1);
+    len += n;
+  }
 }
 
 /* the self-consistent quantities (NAN, 0 or NULL for a plain solve) */

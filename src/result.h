@@ -49,16 +49,32 @@ struct ew_result {
   size_t dropped[EW_BAND_COUNT];   /* box states of a field-tilted continuum left out */
   size_t n_warnings;
   char (*warnings)[EW_WARNING_MAX];
+  const char **warning_codes;      /* [n_warnings] stable kebab-case codes (static strings;
+                                      README "Warnings" lists them) */
   ew_sp_info *sp;                  /* self-consistent Schrödinger–Poisson results (owned;
                                       NULL for a plain solve) */
 };
 
-/* Append a printf-formatted warning to r; returns 0 when out of memory. */
+/* Append a printf-formatted warning with its machine-readable code (a string with static
+ * storage, kebab-case, listed in README "Warnings") to r; returns 0 when out of memory. */
+int ew_result_warn_code(ew_result *r, const char *code, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 3, 4)))
+#endif
+    ;
+/* The same with the code "self-consistent": the entry of the self-consistent solve's
+ * warnings (poisson.c), which do not name a finer code yet. */
 int ew_result_warn(ew_result *r, const char *fmt, ...)
 #if defined(__GNUC__)
     __attribute__((format(printf, 2, 3)))
 #endif
     ;
+
+/* Room for a result's distinct warning codes joined by ';' (sweeps, matches, tolerances). */
+#define EW_WARNING_CODES_MAX 256
+/* The distinct codes of r's warnings in order of first appearance, joined by ';' ("" when
+ * none); a code that would not fit whole is left out. */
+void ew_result_warning_codes_join(const ew_result *r, char *buf, size_t size);
 
 /* Release a result's self-consistent information; NULL is a no-op. */
 void ew_sp_info_free(ew_sp_info *sp);

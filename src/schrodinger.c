@@ -8,6 +8,7 @@
 
 #include "bound.h"
 #include "error.h"
+#include "level_caveats.h"
 #include "lines.h"
 #include "nonparabolic.h"
 #include "stack_caveats.h"
@@ -153,17 +154,18 @@ static ew_status build_grids(ew_result *r, const double *U, ew_grid **coarse, ew
   return ok ? EW_OK : ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (potential)");
 }
 
-/* The warnings of a pass after its states: no estimate, the stack's caveats, residuals. */
+/* The warnings of a pass after its states and lines: no estimate, the stack's caveats, the
+ * levels' caveats (level_caveats.h), residuals. */
 static int pass_warnings(ew_result *r) {
   if (r->unestimated &&
-      !ew_result_warn(r, "%zu state(s) have no error estimate: the grid of step 2h cannot "
+      !ew_result_warn_code(r, "no-error-estimate", "%zu state(s) have no error estimate: the grid of step 2h cannot "
                       "resolve them (fewer nodes than bound states, or oscillations finer "
                       "than its step); use a smaller grid step", r->unestimated))
     return 0;
-  if (!ew_stack_caveats(r)) return 0;
+  if (!ew_stack_caveats(r) || !ew_level_caveats(r)) return 0;
   for (size_t i = 0; i < r->n_states; i++)
     if (r->states[i].flagged &&
-        !ew_result_warn(r, "%s failed its residual check (relative residual %.2e)",
+        !ew_result_warn_code(r, "residual", "%s failed its residual check (relative residual %.2e)",
                         r->states[i].label, r->states[i].residual))
       return 0;
   return 1;
@@ -193,8 +195,8 @@ ew_status ew_schrodinger_pass(const ew_stack *st, const ew_options *optin, const
     r->window_eV[b] = b == EW_BAND_E ? top : -top;
   }
   if (rc == EW_OK) rc = ew_states_build(r, bp.fine, bp.coarse, bp.n_coarse, err);
-  if (rc == EW_OK && !pass_warnings(r)) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   if (rc == EW_OK) rc = ew_lines_build(r, err);
+  if (rc == EW_OK && !pass_warnings(r)) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   band_pairs_free(&bp);
   ew_grid_free(coarse);
   if (rc != EW_OK) {

@@ -127,7 +127,7 @@ ew_status ew_states_build(ew_result *r, const ew_eigenpairs fine[EW_BAND_COUNT],
     size_t kept = r->band_count[b];
     if (!inplane_masses(r, (ew_band)b, s - kept, kept) ||
         (r->dropped[b] &&
-         !ew_result_warn(r, "%zu %s state(s) of the field-tilted continuum (box states against "
+         !ew_result_warn_code(r, "box-states-dropped", "%zu %s state(s) of the field-tilted continuum (box states against "
                          "the outer walls) were dropped; the listed states are the quasi-bound "
                          "ones", r->dropped[b], ew_band_name((ew_band)b))))
       rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");

@@ -25,6 +25,7 @@ void ew_wf_table_free(ew_wf_table *t) {
   if (!t) return;
   free(t->names);
   free(t->v);
+  free(t->warnings);
   memset(t, 0, sizeof *t);
 }
 
@@ -161,16 +162,20 @@ static void column_name(const sweep_plan *P, size_t j, char *buf, size_t size) {
     }
     j -= c->nlev[b];
   }
+  if (j / 3 >= P->nl) {
+    snprintf(buf, size, "warnings");
+    return;
+  }
   const ew_wf_linedef *d = &P->lines[j / 3];
   static const char *const isb[] = {"eV", "um", "f"}, *const ib[] = {"eV", "nm", "overlap"};
   snprintf(buf, size, "%s_%s", d->name, (d->interband ? ib : isb)[j % 3]);
 }
 
-/* Columns: keys, levels, then per main line three values. */
+/* Columns: keys, levels, per main line three values, then the warning codes. */
 static ew_status plan_names(sweep_plan *P, ew_error *err) {
   const ew_wf_cols *c = &P->cols;
   P->nl = ew_wf_main_lines(c, NULL, 0);
-  P->ncol = P->nr + c->nlev[0] + c->nlev[1] + c->nlev[2] + 3 * P->nl;
+  P->ncol = P->nr + c->nlev[0] + c->nlev[1] + c->nlev[2] + 3 * P->nl + 1;
   P->lines = malloc((P->nl ? P->nl : 1) * sizeof *P->lines);
   P->names = malloc(P->ncol * sizeof *P->names);
   if (!P->lines || !P->names)
@@ -193,8 +198,10 @@ static ew_status table_begin(const sweep_plan *P, const char *stack, ew_wf_table
   tab->nkeys = P->nr;
   tab->ncol = P->ncol;
   tab->names = malloc(P->ncol * sizeof *tab->names);
-  tab->v = malloc(((P->hi - P->lo) ? (P->hi - P->lo) : 1) * P->ncol * sizeof *tab->v);
-  if (!tab->names || !tab->v) {
+  size_t rows = (P->hi - P->lo) ? (P->hi - P->lo) : 1;
+  tab->v = malloc(rows * P->ncol * sizeof *tab->v);
+  tab->warnings = malloc(rows * sizeof *tab->warnings);
+  if (!tab->names || !tab->v || !tab->warnings) {
     ew_wf_table_free(tab);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep table of %zu points for "
                    "the picture)", P->hi - P->lo);
@@ -220,7 +227,10 @@ static void json_begin(const sweep_plan *P, const char *stack, FILE *json) {
   fputs("],\"points\":[", json);
 }
 
-static void fill_row(const ew_result *r, const sweep_plan *P, const double *vals, double *row) {
+static void fill_row(const ew_result *r, const sweep_plan *P, const double *vals, double *row,
+                     char *codes) {
+  ew_result_warning_codes_join(r, codes, EW_WARNING_CODES_MAX);
+  row[P->ncol - 1] = NAN; /* the codes column: text, held in codes */
   size_t j = 0;
   for (size_t i = 0; i < P->nr; i++) row[j++] = vals[i];
   for (int b = 0; b < EW_BAND_COUNT; b++)
@@ -259,7 +269,7 @@ static ew_status check_counts(const ew_result *r, const sweep_plan *P, const dou
 }
 
 /* One point into its row; failures recorded in point order. */
-static void solve_row(const sweep_plan *P, size_t p, double *row, ew_wf_fail *fl) {
+static void solve_row(const sweep_plan *P, size_t p, double *row, char *codes, ew_wf_fail *fl) {
   double vals[2];
   ew_error e = {0};
   ew_stack *st = NULL;
@@ -267,30 +277,34 @@ static void solve_row(const sweep_plan *P, size_t p, double *row, ew_wf_fail *fl
   point_values(P, p, vals);
   ew_status rc = ew_wf_pool_solve(&P->pool, P->nr, P->keys, vals, &st, &res, &e);
   if (rc == EW_OK) rc = check_counts(res, P, vals, &e);
-  if (rc == EW_OK) fill_row(res, P, vals, row);
+  if (rc == EW_OK) fill_row(res, P, vals, row, codes);
   else ew_wf_fail_record(fl, p, rc, &e);
   ew_result_free(res);
   ew_stack_free(st);
 }
 
-static void write_row(const sweep_plan *P, size_t p, const double *row, FILE *csv, FILE *json,
-                      ew_wf_table *tab) {
+static void write_row(const sweep_plan *P, size_t p, const double *row, const char *codes,
+                      FILE *csv, FILE *json, ew_wf_table *tab) {
   size_t ncol = P->ncol;
   if (csv) {
-    for (size_t j = 0; j < ncol; j++) {
+    for (size_t j = 0; j + 1 < ncol; j++) {
       if (j) fputc(',', csv);
       if (isfinite(row[j])) fprintf(csv, "%.10g", row[j]);
     }
-    fputc('\n', csv);
+    fprintf(csv, ",%s\n", codes); /* codes hold no comma or quote: a plain RFC 4180 cell */
   }
-  if (tab) memcpy(tab->v + (tab->nrows++) * ncol, row, ncol * sizeof *row);
+  if (tab) {
+    memcpy(tab->warnings[tab->nrows], codes, EW_WARNING_CODES_MAX);
+    memcpy(tab->v + (tab->nrows++) * ncol, row, ncol * sizeof *row);
+  }
   if (json) {
     fputs(p > P->lo ? ",\n{" : "\n{", json);
     for (size_t k = 0; k < ncol; k++) {
       if (k) fputc(',', json);
       ew_json_write_string(json, P->names[k]);
       fputc(':', json);
-      ew_json_write_number(json, row[k]);
+      if (k + 1 < ncol) ew_json_write_number(json, row[k]);
+      else ew_json_write_codes(json, codes);
     }
     fputc('}', json);
   }
@@ -301,7 +315,12 @@ static ew_status sweep_rows(const sweep_plan *P, const ew_wf_sweep_opt *o, FILE 
                             FILE *json, ew_wf_table *tab, ew_error *err) {
   const size_t chunk = 64 * (size_t)P->nt, ncol = P->ncol;
   double *rows = malloc(chunk * ncol * sizeof *rows);
-  if (!rows) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep rows)");
+  char (*codes)[EW_WARNING_CODES_MAX] = malloc(chunk * sizeof *codes);
+  if (!rows || !codes) {
+    free(rows);
+    free(codes);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep rows)");
+  }
   ew_wf_fail fl = EW_WF_FAIL_NONE;
   size_t done = 0, todo = P->hi - P->lo;
   for (size_t c0 = P->lo; c0 < P->hi && fl.index == SIZE_MAX; c0 += chunk) {
@@ -309,16 +328,17 @@ static ew_status sweep_rows(const sweep_plan *P, const ew_wf_sweep_opt *o, FILE 
     EW_OMP(omp parallel for num_threads(P->nt) schedule(dynamic, 1))
     for (size_t j = 0; j < cn; j++) {
       if (c0 + j > ew_wf_fail_index(&fl)) continue;
-      solve_row(P, c0 + j, rows + j * ncol, &fl);
+      solve_row(P, c0 + j, rows + j * ncol, codes[j], &fl);
       if (o->progress) {
         EW_OMP(omp critical(ew_wf_progress))
         o->progress(o->progress_ctx, ++done, todo);
       }
     }
     if (fl.index != SIZE_MAX) break;
-    for (size_t j = 0; j < cn; j++) write_row(P, c0 + j, rows + j * ncol, csv, json, tab);
+    for (size_t j = 0; j < cn; j++) write_row(P, c0 + j, rows + j * ncol, codes[j], csv, json, tab);
   }
   free(rows);
+  free(codes);
   return fl.index != SIZE_MAX ? ew_wf_fail_report(&fl, err) : EW_OK;
 }
 

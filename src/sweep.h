@@ -16,6 +16,7 @@
 
 #include "epiwell.h"
 #include "range.h"
+#include "result.h"
 #include "stack_model.h"
 
 typedef struct {
@@ -37,7 +38,8 @@ typedef struct ew_wf_table {
   size_t nkeys;        /* the first nkeys columns are the varied keys */
   size_t ncol, nrows;
   char (*names)[64];   /* [ncol] column names as in the CSV header */
-  double *v;           /* [nrows × ncol], row-major */
+  double *v;           /* [nrows × ncol], row-major (NaN in the last column, "warnings") */
+  char (*warnings)[EW_WARNING_CODES_MAX]; /* [nrows] the point's warning codes, ';'-joined */
 } ew_wf_table;
 void ew_wf_table_free(ew_wf_table *t); /* frees the contents, keeps t; NULL is a no-op */
 
@@ -46,7 +48,8 @@ void ew_wf_sweep_opt_default(ew_wf_sweep_opt *o);
 /* Sweep one or two ranges (outer loop the first) and write CSV to csv and/or JSON to json
  * (either may be NULL).  Columns: the varied keys, then every level (e1_eV, …, hh1_eV, …,
  * lh1_eV, …) and every main line (intersubband NAME_eV, NAME_um, NAME_f; interband NAME_eV,
- * NAME_nm, NAME_overlap).  The column set is fixed before any row is written, identically
+ * NAME_nm, NAME_overlap), and last "warnings": the point's warning codes joined by ';' (JSON:
+ * an array of codes).  The column set is fixed before any row is written, identically
  * in every shard: the levels bound on a fixed sub-grid of the sweep (up to 9 evenly spaced
  * values per axis, both ends included; all values of an axis with at most 9), raised to
  * min_levels per band; interband columns e_n–h_n for n up to the smaller of the two

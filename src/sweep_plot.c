@@ -3,6 +3,7 @@
 #include "sweep_plot.h"
 
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -69,7 +70,8 @@ static ew_status work_alloc(plot_work *w, const ew_wf_table *t, ew_error *err) {
   memset(w, 0, sizeof *w);
   w->R = t->nrows;
   w->C = t->ncol;
-  w->maxs = w->C > EW_WF_PLOT_MAX_CURVES ? w->C : EW_WF_PLOT_MAX_CURVES;
+  /* + 1: the series that marks the points with warnings (flag_series) */
+  w->maxs = (w->C > EW_WF_PLOT_MAX_CURVES ? w->C : EW_WF_PLOT_MAX_CURVES) + 1;
   w->x = malloc(w->R * sizeof *w->x);
   w->ys = malloc(w->maxs * sizeof *w->ys);
   w->labels = malloc(w->maxs * sizeof *w->labels);
@@ -163,6 +165,29 @@ static void series_two_keys(const ew_wf_table *t, int f, plot_work *w) {
            (int)(strlen(COL2[f]) - 3), COL2[f], t->names[0], t->names[1]);
 }
 
+/* The points with warnings: one more series over the chart's first curve, finite only where
+ * the point's stack has warnings (a dot, or a line in its own colour over a run of them),
+ * named after the codes, so that flagged values stand out in the legend and on the curve.
+ * Two keys: the first curve is the first value of the second key (rows with iy == 0). */
+static void flag_series(const ew_wf_table *t, plot_work *w) {
+  if (w->ns == 0 || !t->warnings) return;
+  size_t R = w->R, n = t->nkeys == 1 ? R : w->nx, any = SIZE_MAX;
+  double *y = w->ybuf + w->ns * R;
+  for (size_t i = 0; i < n; i++) y[i] = NAN;
+  for (size_t i = 0; i < R; i++) {
+    if (!t->warnings[i][0]) continue;
+    size_t at = t->nkeys == 1 ? i : w->ix[i];
+    if (t->nkeys == 2 && w->iy[i] != 0) continue;
+    y[at] = w->ys[0][at];
+    if (any == SIZE_MAX) any = i;
+  }
+  if (any == SIZE_MAX) return;
+  snprintf(w->labels[w->ns], sizeof w->labels[w->ns], "warnings: %.80s", t->warnings[any]);
+  w->ys[w->ns] = y;
+  w->names[w->ns] = w->labels[w->ns];
+  w->ns++;
+}
+
 ew_status ew_wf_sweep_plot(const ew_wf_table *t, const char *path, ew_wf_outset *set,
                            int written[EW_WF_PLOT_FILES], ew_error *err) {
   for (int f = 0; f < EW_WF_PLOT_FILES; f++) written[f] = 0;
@@ -189,6 +214,7 @@ ew_status ew_wf_sweep_plot(const ew_wf_table *t, const char *path, ew_wf_outset 
   for (int f = 0; f < EW_WF_PLOT_FILES && rc == EW_OK; f++) {
     if (t->nkeys == 1) series_one_key(t, f, &w);
     else series_two_keys(t, f, &w);
+    flag_series(t, &w);
     if (w.ns == 0) continue; /* no such column in this sweep: no chart */
     rc = ew_wf_chart_into_set(set, paths[f], "--plot", w.title, xlabel, ylab[f], w.nx, w.x,
                               w.ns, w.ys, w.names, err);

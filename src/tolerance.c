@@ -97,6 +97,7 @@ typedef struct {
   int ok;
   double *E;          /* [n_items] */
   ew_bands bands;     /* the varied layer's band parameters in that stack */
+  char codes[EW_WARNING_CODES_MAX]; /* its warning codes ("" when not solved) */
 } wf_job;
 
 
@@ -115,6 +116,7 @@ static ew_status run_jobs(const ew_wf_model *m, wf_job *jobs, size_t nj, const w
     ew_stack *st = NULL;
     ew_result *res = NULL;
     jb->ok = 0;
+    jb->codes[0] = '\0';
     for (size_t i = 0; i < ni; i++) jb->E[i] = NAN;
     ew_status q = ew_wf_pool_stack(&pool, 1, &key, &jb->value, &st, &e);
     if (q == EW_ERR_INPUT) continue;
@@ -127,6 +129,7 @@ static ew_status run_jobs(const ew_wf_model *m, wf_job *jobs, size_t nj, const w
     jb->ok = 1;
     for (size_t i = 0; i < ni; i++) jb->E[i] = item_energy(res, &defs[i]);
     jb->bands = st->layers[jb->layer].bands;
+    ew_result_warning_codes_join(res, jb->codes, sizeof jb->codes);
     ew_result_free(res);
     ew_stack_free(st);
   }
@@ -207,6 +210,8 @@ static void thickness_row(const ew_result *res, const wf_itemdef *defs,
     if (!J[2].ok) L->dEdt_fd[i] = (J[3].E[i] - E0) / WF_FD_DT_NM;
     L->dEdt_hf[i] = item_deriv(res, &defs[i], dS);
   }
+  snprintf(L->warn_ml_minus, sizeof L->warn_ml_minus, "%s", J[0].codes);
+  snprintf(L->warn_ml_plus, sizeof L->warn_ml_plus, "%s", J[1].codes);
 }
 
 /* The composition columns of alloy layer k from its jobs J[4..7]: the band-parameter
@@ -228,6 +233,8 @@ static void composition_row(const ew_result *res, const wf_itemdef *defs,
     L->dEdx_fd[i] = hi_x > lo_x ? (eh - el) / (hi_x - lo_x) : NAN;
     L->dEdx_hf[i] = item_deriv(res, &defs[i], dS);
   }
+  snprintf(L->warn_dx_minus, sizeof L->warn_dx_minus, "%s", J[4].codes);
+  snprintf(L->warn_dx_plus, sizeof L->warn_dx_plus, "%s", J[5].codes);
 }
 
 /* Scratch of a tolerance run. */
@@ -277,6 +284,7 @@ ew_status ew_wf_tolerance_run(const ew_wf_model *m, double dx, int threads,
   tol_work w = {NULL, NULL, NULL, NULL, 0};
   if (!t) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   if (rc == EW_OK) rc = tolerance_plan(st, res, dx, t, &w, err);
+  if (rc == EW_OK) ew_result_warning_codes_join(res, t->warnings, sizeof t->warnings);
   if (rc == EW_OK) rc = run_jobs(m, w.jobs, w.nj, w.defs, t->n_items, ew_wf_threads(threads), err);
   const wf_job *J = w.jobs;
   for (size_t k = 0; rc == EW_OK && k < st->n_layers; k++) {
@@ -326,6 +334,7 @@ void ew_wf_tolerance_print(const ew_wf_tolerance *t, FILE *out) {
   fprintf(out, "Shifts of the main lines for one monolayer (ML) more or less of each layer and "
                "for x -/+ dx of alloy layers;\n"
                "dE/dt and dE/dx by Hellmann-Feynman (HF) and by central differences (FD).\n");
+  if (t->warnings[0]) fprintf(out, "warnings: %s\n", t->warnings);
   for (size_t k = 0; k < t->n_layers; k++) {
     const ew_wf_tol_layer *L = &t->layers[k];
     fprintf(out, "\nlayer %zu %s (%s, %.3f nm)  1 ML = %.4f nm%s", k + 1, L->name, L->material,
@@ -354,6 +363,10 @@ void ew_wf_tolerance_print(const ew_wf_tolerance *t, FILE *out) {
       }
       fputc('\n', out);
     }
+    const char *wl[4] = {L->warn_ml_minus, L->warn_ml_plus, L->warn_dx_minus, L->warn_dx_plus};
+    static const char *const at[4] = {"-1 ML", "+1 ML", "-dx", "+dx"};
+    for (int q = 0; q < 4; q++)
+      if (wl[q][0]) fprintf(out, "  warnings at %s: %s\n", at[q], wl[q]);
   }
 }
 
@@ -398,9 +411,18 @@ void ew_wf_tolerance_print_json(const ew_wf_tolerance *t, FILE *out) {
     ew_json_write_number_array(out, "shift_plus_dx_eV", L->has_x ? L->dx_plus : NULL, t->n_items);
     ew_json_write_number_array(out, "dEdx_HF_eV", L->has_x ? L->dEdx_hf : NULL, t->n_items);
     ew_json_write_number_array(out, "dEdx_FD_eV", L->has_x ? L->dEdx_fd : NULL, t->n_items);
+    const char *wl[4] = {L->warn_ml_minus, L->warn_ml_plus, L->warn_dx_minus, L->warn_dx_plus};
+    static const char *const wk[4] = {"warnings_minus_1ML", "warnings_plus_1ML",
+                                      "warnings_minus_dx", "warnings_plus_dx"};
+    for (int q = 0; q < 4; q++) {
+      fprintf(out, ",\"%s\":", wk[q]);
+      ew_json_write_codes(out, q < 2 || L->has_x ? wl[q] : "");
+    }
     fputc('}', out);
   }
-  fputs("]}\n", out);
+  fputs("],\"warnings\":", out);
+  ew_json_write_codes(out, t->warnings);
+  fputs("}\n", out);
 }
 
 /* ---- monolayer ladder ----------------------------------------------------------------- */
@@ -439,6 +461,8 @@ ew_status ew_wf_ladder_run(const ew_wf_model *m, const char *layer, int threads,
       jobs[q].E = l->energy_eV + (size_t)q * l->n_items;
     }
     rc = run_jobs(m, jobs, 5, defs, l->n_items, ew_wf_threads(threads), err);
+    for (int q = 0; q < 5 && rc == EW_OK; q++)
+      snprintf(l->warnings[q], sizeof l->warnings[q], "%s", jobs[q].codes);
   }
   free(defs);
   ew_result_free(res);
@@ -482,6 +506,8 @@ void ew_wf_ladder_print(const ew_wf_ladder *l, const ew_stack *st, FILE *out) {
     }
     fputc('\n', out);
   }
+  for (int q = 0; q < 5; q++)
+    if (l->warnings[q][0]) fprintf(out, "  warnings at %s: %s\n", hd[q], l->warnings[q]);
 }
 
 void ew_wf_ladder_print_json(const ew_wf_ladder *l, const ew_stack *st, FILE *out) {
@@ -506,6 +532,11 @@ void ew_wf_ladder_print_json(const ew_wf_ladder *l, const ew_stack *st, FILE *ou
     ew_json_write_number_array(out, "energy_eV", e, 5);
     ew_json_write_number_array(out, "wavelength_nm", w, 5);
     fputc('}', out);
+  }
+  fputs("],\"warnings\":[", out); /* one array of codes per offset */
+  for (int q = 0; q < 5; q++) {
+    if (q) fputc(',', out);
+    ew_json_write_codes(out, l->warnings[q]);
   }
   fputs("]}\n", out);
 }

@@ -9,6 +9,7 @@
 #include <stdio.h>
 
 #include "epiwell.h"
+#include "result.h"
 #include "stack_model.h"
 
 /* GaAs half lattice constant (a = 0.56533 nm at 300 K, Vurgaftman et al., J. Appl. Phys. 89,
@@ -38,6 +39,9 @@ typedef struct {
   double *dx_minus, *dx_plus;   /* E(x − dx) − E(x), E(x + dx) − E(x) */
   double *dEdt_hf, *dEdt_fd;    /* eV/nm: Hellmann–Feynman, central difference */
   double *dEdx_hf, *dEdx_fd;    /* eV per unit x */
+  /* the stack's warning codes (';'-joined) at t − ML, t + ML, x − dx, x + dx */
+  char warn_ml_minus[EW_WARNING_CODES_MAX], warn_ml_plus[EW_WARNING_CODES_MAX];
+  char warn_dx_minus[EW_WARNING_CODES_MAX], warn_dx_plus[EW_WARNING_CODES_MAX];
 } ew_wf_tol_layer;
 
 typedef struct {
@@ -46,6 +50,7 @@ typedef struct {
   ew_wf_item *items;   /* levels first, then main lines */
   size_t n_layers;
   ew_wf_tol_layer *layers;
+  char warnings[EW_WARNING_CODES_MAX]; /* the nominal stack's warning codes, ';'-joined */
 } ew_wf_tolerance;
 
 /* Shifts of every level and main line for ±1 monolayer of every layer and ±dx of every alloy
@@ -65,6 +70,7 @@ typedef struct {
   size_t n_items;
   ew_wf_item *items;       /* main lines at nominal */
   double *energy_eV;       /* [5 × n_items], NaN when not bound */
+  char warnings[5][EW_WARNING_CODES_MAX]; /* warning codes at each offset, ';'-joined */
 } ew_wf_ladder;
 
 ew_status ew_wf_ladder_run(const ew_wf_model *m, const char *layer, int threads,
