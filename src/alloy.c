@@ -207,6 +207,21 @@ static const char *comp_text(const ew_cat_entry *e, double x, double y, char *bu
   return buf;
 }
 
+/* Bulk density-of-states hole masses in the spherical approximation: the warped heavy- and
+ * light-hole bands replaced by spheres with γ̄ = (γ2 + γ3)/2, m = 1/(γ1 ∓ 2γ̄) (A. Baldereschi,
+ * N. O. Lipari, Phys. Rev. B 8, 2697 (1973); S. L. Chuang, Physics of Photonic Devices (Wiley,
+ * 2009), ch. 4; as recalled, from memory).  Bulk carrier densities integrate over all
+ * directions of k, so neither the [001] mass 1/(γ1 ∓ 2γ2) nor the k∥ = 0 in-plane mass
+ * 1/(γ1 ± γ2) is right for them; the in-plane masses stay for the 2D subband densities of
+ * states (a subband disperses in the plane only).  Left 0 without γ3 or when a denominator
+ * is not positive (poisson.c then falls back). */
+static void dos_masses(const ew_params *p, ew_bands *out) {
+  if (!p->have[EW_P_GAMMA3]) return;
+  double g1 = p->v[EW_P_GAMMA1], gbar = 0.5 * (p->v[EW_P_GAMMA2] + p->v[EW_P_GAMMA3]);
+  if (g1 - 2.0 * gbar > 0.0) out->mhh_dos = 1.0 / (g1 - 2.0 * gbar);
+  if (g1 + 2.0 * gbar > 0.0) out->mlh_dos = 1.0 / (g1 + 2.0 * gbar);
+}
+
 /* Unstrained band parameters of entry e at (x, y, T); (x, y, T) already checked. */
 static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double x, double y,
                           double T_K, const ew_params *p, ew_bands *out, ew_error *err) {
@@ -260,6 +275,7 @@ static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double
   out->mlh_z = 1.0 / den[1];
   out->mhh_par = 1.0 / den[2];
   out->mlh_par = 1.0 / den[3];
+  dos_masses(p, out);
   out->eps_r = p->have[EW_P_EPS_S] ? p->v[EW_P_EPS_S] : 0.0;
   out->a_nm = p->have[EW_P_ALC] ? p->v[EW_P_ALC] / 10.0 : 0.0;
   out->Ep_eV = p->have[EW_P_EP] ? p->v[EW_P_EP] : 0.0;

@@ -61,6 +61,10 @@ typedef struct {
                                Eg_*_eV stay the relaxed material's */
   double critical_thickness_nm; /* Matthews–Blakeslee, layer buried between two interfaces
                                    (strain.h); INFINITY when unstrained or unknown */
+  /* bulk (3D) density-of-states hole masses, spherical approximation 1/(γ1 ∓ 2γ̄),
+     γ̄ = (γ2 + γ3)/2, m0 (alloy.c); 0 when unknown (no γ3, user materials): poisson.c then
+     uses the ellipsoid (m_z m∥²)^{1/3} */
+  double mhh_dos, mlh_dos;
 } ew_bands;
 
 /* Parameters at composition x in [0,1].  Fails (EW_ERR_INPUT) for an unknown name, x out

@@ -1115,6 +1115,8 @@ void ew_layer_bands_at(const ew_layer *ly, double f, ew_bands *out) {
   LERP(mlh_z);
   LERP(mhh_par);
   LERP(mlh_par);
+  LERP(mhh_dos);
+  LERP(mlh_dos);
   LERP(eps_r);
   LERP(a_nm);
 #undef LERP

@@ -445,6 +445,69 @@ static void incomplete_ionisation_bulk(void **state) {
   ew_stack_free(st);
 }
 
+/* Bulk valence density of states of GaAs at 300 K.  Expected value built here from the review's
+ * Luttinger parameters (I. Vurgaftman, J. R. Meyer, L. R. Ram-Mohan, J. Appl. Phys. 89, 5815
+ * (2001), GaAs: γ1 = 6.98, γ2 = 2.06, γ3 = 2.93, from memory) in the spherical approximation
+ * m = 1/(γ1 ∓ (γ2 + γ3)) (A. Baldereschi, N. O. Lipari, Phys. Rev. B 8, 2697 (1973), from
+ * memory) and N_v = 2 (2π m_dos kT/h²)^{3/2}, m_dos^{3/2} = m_hh^{3/2} + m_lh^{3/2}, with the
+ * CODATA 2018 constants written out in SI (not constants.h): 1e-6 relative (same formula; the
+ * digits of ħ²/2m0 in constants.h).
+ * Against handbooks: S. M. Sze, Physics of Semiconductor Devices (Wiley), N_v(GaAs, 300 K)
+ * ≈ 9.0e18 cm^-3 (from memory), and the Ioffe NSM archive, "AlGaAs - Basic Parameters at
+ * 300 K" (http://www.ioffe.ru/SVA/NSM/Semicond/AlGaAs/basic.html), hole DOS mass 0.51 m0 at
+ * x = 0, i.e. 2.509e19 · 0.51^{3/2} = 9.14e18 cm^-3: within 10 % (the spherical average leaves
+ * out the warping, which makes the measured heavy-hole DOS mass about 5 % lighter).  The old
+ * k∥ = 0 in-plane masses gave 3.2e18 and fail this. */
+static void gaas_valence_dos(void **state) {
+  (void)state;
+  ew_bands b;
+  ew_error err;
+  assert_int_equal(ew_material_bands(cat, "GaAs", 0.0, 300.0, &b, &err), EW_OK);
+  const double g1 = 6.98, g2 = 2.06, g3 = 2.93, gb = 0.5 * (g2 + g3);
+  const double mhh = 1.0 / (g1 - 2.0 * gb), mlh = 1.0 / (g1 + 2.0 * gb);
+  const double h = 6.62607015e-34, kB = 1.380649e-23, m0 = 9.1093837015e-31; /* CODATA 2018 */
+  double mdos32 = pow(mhh, 1.5) + pow(mlh, 1.5);
+  double nv_m3 = 2.0 * pow(2.0 * M_PI * m0 * kB * 300.0 / (h * h), 1.5) * mdos32;
+  double want = nv_m3 * 1e-6;
+  double md[2];
+  ew_hole_dos_masses(&b, md);
+  TU_NEAR(md[0], mhh, 1e-12, "m_hh = 1/(γ1 − 2γ̄), Baldereschi–Lipari");
+  TU_NEAR(md[1], mlh, 1e-12, "m_lh = 1/(γ1 + 2γ̄)");
+  TU_NEAR(ew_valence_nv_cm3(&b, 300.0) / want, 1.0, 1e-6, "N_v from the review's γ's");
+  TU_NEAR(ew_valence_nv_cm3(&b, 300.0) / 9.0e18, 1.0, 0.10, "Sze: N_v(GaAs, 300 K) ~ 9e18 (from memory)");
+  TU_NEAR(ew_valence_nv_cm3(&b, 300.0) / (2.509e19 * pow(0.51, 1.5)), 1.0, 0.10,
+          "Ioffe NSM AlGaAs basic parameters, m_h = 0.51 m0 at x = 0");
+}
+
+/* The Poisson solve uses that density of states: a flat, fully ionised p-type GaAs bulk
+ * (200 nm, N_A = 1e17 cm^-3, 300 K) holds at its centre p = Σ N_v,i ℱ_{1/2}((E_v + U − E_F)/kT)
+ * over heavy and light holes, N_v,i from the masses of gaas_valence_dos (review's γ's,
+ * spherical approximation), ℱ by quadrature (fd_quad): 1e-3 relative (quadrature and the
+ * 0.6 % accuracy of the analytic ℱ at η ≈ −4.5 is far better, about 1e-4); local
+ * neutrality gives p = N_A there (1e-6). */
+static void bulk_holes_use_dos_masses(void **state) {
+  (void)state;
+  ew_stack *st = read_text("temperature = 300.0;\nlayers = (\n"
+                           " { name = \"bulk\"; material = \"GaAs\"; thickness = 200.0;\n"
+                           "   doping = { acceptors = 1e17; }; }\n);\n");
+  assert_non_null(st);
+  ew_result *r = sc_solve(st);
+  assert_non_null(r);
+  size_t n = ew_result_node_count(r), c = n / 2;
+  double kT = EW_KB_EVK * 300.0, EF = ew_result_fermi_energy_eV(r);
+  double Ev = st->layers[0].bands.Ev_eV + ew_result_sp_profile(r, EW_SP_POTENTIAL_EV)[c];
+  const double g1 = 6.98, gb = 0.5 * (2.06 + 2.93);
+  const double h = 6.62607015e-34, kB = 1.380649e-23, m0 = 9.1093837015e-31; /* CODATA 2018 */
+  double n1 = 2.0 * pow(2.0 * M_PI * m0 * kB * 300.0 / (h * h), 1.5) * 1e-6;
+  double want = n1 * (pow(1.0 / (g1 - 2.0 * gb), 1.5) + pow(1.0 / (g1 + 2.0 * gb), 1.5)) *
+                fd_quad((Ev - EF) / kT);
+  double got = ew_result_sp_profile(r, EW_SP_P_CM3)[c];
+  TU_NEAR(got / want, 1.0, 1e-3, "p = N_v F_1/2((Ev - E_F)/kT), spherical DOS masses");
+  TU_NEAR(got / 1e17, 1.0, 1e-6, "local neutrality of a flat bulk");
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
 /* Bias: E_F(last) = E_F(first) − eV (the documented sign), and with identical contacts the
  * potential energy of an electron drops by eV across the stack (5 mV: the faces are half a
  * cell outside the end nodes and the contacts' charge tails). */
@@ -517,6 +580,8 @@ int main(void) {
       cmocka_unit_test(non_convergence_reported),
       cmocka_unit_test(band_bent_window),
       cmocka_unit_test(incomplete_ionisation_bulk),
+      cmocka_unit_test(gaas_valence_dos),
+      cmocka_unit_test(bulk_holes_use_dos_masses),
       cmocka_unit_test(bias_sign),
       cmocka_unit_test(delta_doping),
       cmocka_unit_test(needs_permittivity),
