@@ -42,9 +42,10 @@
 static const char *const top_keys[] = {"temperature", "grid_step",    "materials",
                                        "alloys",      "layers",       "substrate",
                                        "field",       "nonparabolic", "sheet_density",
-                                       "linewidth",   "surface",      "bias"};
+                                       "linewidth",   "surface",      "bias",
+                                       "conduction_share", "offset_reference"};
 static const char *const layer_keys[] = {"name", "material", "x", "y", "thickness",
-                                         "thickness_ml", "grade", "doping"};
+                                         "thickness_ml", "grade", "doping", "conduction_share"};
 static const char *const doping_keys[] = {"donors", "acceptors", "donor_sheet",
                                           "acceptor_sheet", "donor_energy", "acceptor_energy"};
 #define MAX_DOPING_CM3 1e21
@@ -61,6 +62,7 @@ static const char *const umat_keys[] = {"name", "Ec", "Ev", "me", "mhh", "mlh",
                                         "mhh_par", "mlh_par", "eps_static"};
 static const char *const umat_required[] = {"Ec", "Ev", "me", "mhh", "mlh"};
 #define COUNT(a) (sizeof(a) / sizeof((a)[0]))
+#define MAX_OFFSET_HINT 256 /* layers searched for a "did you mean" of offset_reference */
 
 typedef struct {
   char name[EW_NAME_MAX];
@@ -713,6 +715,24 @@ static ew_status resolve_layer_bands(reader *r, ew_layer *L, double T, const lay
   return EW_OK;
 }
 
+/* conduction_share = S; in group g (top level or a layer): S in [0, 1] into *share, its line
+ * into *line; *share = −1 when not given. */
+static ew_status read_share(reader *r, const config_setting_t *g, const char *where,
+                            double *share, int *line) {
+  *share = -1.0;
+  *line = line_of(g);
+  int got = get_number(r, g, "conduction_share", where, share, line);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got == 0) {
+    *share = -1.0;
+    return EW_OK;
+  }
+  if (!(*share >= 0.0 && *share <= 1.0))
+    return fail(r, *line, "conduction_share = %g must be in [0, 1] (the conduction band's part "
+                "of the band-gap difference, e.g. 0.65)", *share);
+  return EW_OK;
+}
+
 static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, ew_layer *L,
                             double T) {
   layer_lines ll = {0};
@@ -740,6 +760,7 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
   if ((st = read_layer_thickness(r, g, where, L, &ll))) return st;
   if ((st = read_layer_composition(r, g, where, L, &ll))) return st;
   if ((st = read_layer_doping(r, g, where, L, ll.line))) return st;
+  if ((st = read_share(r, g, where, &L->conduction_share, &L->conduction_share_line))) return st;
   if ((st = check_layer_material(r, L, &ll))) return st;
   return resolve_layer_bands(r, L, T, &ll);
 }
@@ -841,6 +862,72 @@ static ew_status read_substrate(reader *r, const config_setting_t *root, ew_stac
   return EW_OK;
 }
 
+/* ---- Band offsets: the designer's own conduction-band share ---------------------------
+ * The catalogue's offsets come from its valence-band offsets (VBO) on one absolute scale
+ * (Vurgaftman 2001).  Where a designer trusts a measured split more (InGaAs/GaAs: the review's
+ * VBO gives a conduction share of about 0.38, many measurements 0.6–0.7), conduction_share = S
+ * (top level for every layer, or per layer) moves each such layer rigidly so that against the
+ * reference layer (offset_reference = "name", default the first layer)
+ *     Ec − Ec_ref = S (Eg − Eg_ref),   Ev_ref − Ev = (1 − S)(Eg − Eg_ref),
+ * with the relaxed Γ gaps at the stack temperature; the strain shifts of each layer stay on
+ * top (a rigid shift keeps them).  Graded layers are moved sample by sample. */
+static void share_shift(ew_bands *b, const ew_bands *ref, double S) {
+  double Ev = ref->Ev_eV - (1.0 - S) * (b->Eg_G_eV - ref->Eg_G_eV), d = Ev - b->Ev_eV;
+  b->Ev_eV += d, b->Ev_hh_eV += d, b->Ev_lh_eV += d, b->Ec_eV += d;
+}
+
+static ew_status offset_reference(reader *r, const config_setting_t *root, ew_stack *s) {
+  s->offset_reference = 0;
+  if (!config_setting_get_member(root, "offset_reference")) return EW_OK;
+  char name[EW_NAME_MAX];
+  int l = 1;
+  if (get_name(r, root, "offset_reference", "", name, &l) < 0) return EW_ERR_INPUT;
+  const char *names[MAX_OFFSET_HINT];
+  size_t k = 0, n = s->n_layers < MAX_OFFSET_HINT ? s->n_layers : MAX_OFFSET_HINT;
+  for (k = 0; k < s->n_layers && strcmp(s->layers[k].name, name) != 0; k++) continue;
+  if (k == s->n_layers) {
+    for (size_t i = 0; i < n; i++) names[i] = s->layers[i].name;
+    const char *hint = ew_text_nearest(name, names, n);
+    return fail(r, l, "offset_reference '%s' is not a layer of this stack%s%s%s", name,
+                hint ? "; did you mean '" : "", hint ? hint : "", hint ? "'?" : "");
+  }
+  if (s->layers[k].grade)
+    return fail(r, l, "offset_reference '%s' is a graded layer; name an ungraded one", name);
+  s->offset_reference = k;
+  return EW_OK;
+}
+
+static ew_status apply_offsets(reader *r, const config_setting_t *root, ew_stack *s) {
+  ew_status st = read_share(r, root, "", &s->conduction_share, &(int){0});
+  if (st || (st = offset_reference(r, root, s))) return st;
+  const ew_bands ref = s->layers[s->offset_reference].bands;
+  for (size_t k = 0; k < s->n_layers; k++) {
+    ew_layer *L = &s->layers[k];
+    if (k == s->offset_reference && L->conduction_share >= 0)
+      return fail(r, L->conduction_share_line, "layer '%s' is the offset reference: its own "
+                  "conduction_share has nothing to split against (give it to the other layers, "
+                  "or name another offset_reference)", L->name);
+    double S = L->conduction_share >= 0 ? L->conduction_share : s->conduction_share;
+    if (S < 0 || k == s->offset_reference) continue;
+    s->offsets_set = 1;
+    share_shift(&L->bands, &ref, S);
+    for (int j = 0; L->profile && j < EW_GRADE_SAMPLES; j++) share_shift(&L->profile[j], &ref, S);
+  }
+  return EW_OK;
+}
+
+void ew_stack_interface(const ew_stack *st, size_t k, ew_interface *out) {
+  ew_bands a, b;
+  ew_layer_bands_at(&st->layers[k], 1.0, &a);
+  ew_layer_bands_at(&st->layers[k + 1], 0.0, &b);
+  out->first = k;
+  out->z_nm = st->layers[k + 1].z_start_nm;
+  out->dEc_eV = a.Ec_eV - b.Ec_eV;
+  out->dEv_eV = b.Ev_hh_eV - a.Ev_hh_eV;
+  double sum = out->dEc_eV + out->dEv_eV;
+  out->conduction_share = fabs(sum) > 1e-9 ? out->dEc_eV / sum : NAN;
+}
+
 static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) {
   ew_status st = check_keys(r, root, top_keys, COUNT(top_keys), "at top level");
   if (st) return st;
@@ -918,6 +1005,8 @@ static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) 
   st = read_user_alloys(r, root);
   if (st) return st;
   st = read_layers(r, root, s);
+  if (st) return st;
+  st = apply_offsets(r, root, s);
   if (st) return st;
 
   if (s->grid_step_nm > 0) {
