@@ -889,14 +889,16 @@ static ew_status read_substrate(reader *r, const config_setting_t *root, ew_stac
 /* ---- Band offsets: the designer's own conduction-band share ---------------------------
  * The catalogue's offsets come from its valence-band offsets (VBO) on one absolute scale
  * (Vurgaftman 2001).  Where a designer trusts a measured split more (InGaAs/GaAs: the review's
- * VBO gives a conduction share of about 0.38, many measurements 0.6–0.7), conduction_share = S
+ * VBO gives a conduction share of about 0.37, many measurements 0.6–0.7), conduction_share = S
  * (top level for every layer, or per layer) moves each such layer rigidly so that against the
  * reference layer (offset_reference = "name", default the first layer)
- *     Ec − Ec_ref = S (Eg − Eg_ref),   Ev_ref − Ev = (1 − S)(Eg − Eg_ref),
- * with the relaxed Γ gaps at the stack temperature; the strain shifts of each layer stay on
- * top (a rigid shift keeps them).  Graded layers are moved sample by sample. */
+ *     Ec − Ec_ref = S (G − G_ref),   Ev,hh_ref − Ev,hh = (1 − S)(G − G_ref),   G = Ec − Ev,hh,
+ * with the edges as grown (strained on a substrate): a measured offset is that of the strained
+ * interface, and the interface table then shows exactly S.  A rigid shift keeps each layer's
+ * gaps and strain splitting.  Graded layers are moved sample by sample. */
 static void share_shift(ew_bands *b, const ew_bands *ref, double S) {
-  double Ev = ref->Ev_eV - (1.0 - S) * (b->Eg_G_eV - ref->Eg_G_eV), d = Ev - b->Ev_eV;
+  double G = b->Ec_eV - b->Ev_hh_eV, Gref = ref->Ec_eV - ref->Ev_hh_eV;
+  double d = ref->Ev_hh_eV - (1.0 - S) * (G - Gref) - b->Ev_hh_eV;
   b->Ev_eV += d, b->Ev_hh_eV += d, b->Ev_lh_eV += d, b->Ec_eV += d;
 }
 
