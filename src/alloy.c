@@ -207,6 +207,35 @@ static const char *comp_text(const ew_cat_entry *e, double x, double y, char *bu
   return buf;
 }
 
+/* Bulk density-of-states hole masses in the spherical approximation: the warped heavy- and
+ * light-hole bands replaced by spheres with γ̄ = (γ2 + γ3)/2, m = 1/(γ1 ∓ 2γ̄) (A. Baldereschi,
+ * N. O. Lipari, Phys. Rev. B 8, 2697 (1973); S. L. Chuang, Physics of Photonic Devices (Wiley,
+ * 2009), ch. 4; as recalled, from memory).  Bulk carrier densities integrate over all
+ * directions of k, so neither the [001] mass 1/(γ1 ∓ 2γ2) nor the k∥ = 0 in-plane mass
+ * 1/(γ1 ± γ2) is right for them; the in-plane masses stay for the 2D subband densities of
+ * states (a subband disperses in the plane only).  Left 0 without γ3 or when a denominator
+ * is not positive (poisson.c then falls back). */
+static void dos_masses(const ew_params *p, ew_bands *out) {
+  if (!p->have[EW_P_GAMMA3]) return;
+  double g1 = p->v[EW_P_GAMMA1], gbar = 0.5 * (p->v[EW_P_GAMMA2] + p->v[EW_P_GAMMA3]);
+  if (g1 - 2.0 * gbar > 0.0) out->mhh_dos = 1.0 / (g1 - 2.0 * gbar);
+  if (g1 + 2.0 * gbar > 0.0) out->mlh_dos = 1.0 / (g1 + 2.0 * gbar);
+}
+
+/* The band-edge electron mass at a gap Eg from the catalogue's mass me0 at the 0 K gap Eg0,
+ * through the three-band Kane relation m0/m = 1 + 2F + (E_P/3) [2/Eg + 1/(Eg + Δso)]
+ * (I. Vurgaftman, J. R. Meyer, L. R. Ram-Mohan, J. Appl. Phys. 89, 5815 (2001), Sec. II,
+ * eq. for the Γ mass, as recalled (from memory)).  Taken as a difference from the 0 K value,
+ * m0/m(Eg) = m0/me0 + (E_P/3) [2/Eg + 1/(Eg + Δ) − 2/Eg0 − 1/(Eg0 + Δ)], so the review's
+ * mass holds exactly at 0 K whatever F is, and a gap lowered by temperature (or raised by
+ * strain) gives a lighter (heavier) electron.  Without E_P the mass stays me0. */
+static double kane_edge_mass(double me0, double Ep, double Dso, double Eg0, double Eg) {
+  if (!(Ep > 0.0) || !(Eg0 > 0.0) || !(Eg > 0.0)) return me0;
+  double D = Dso > 0.0 ? Dso : 0.0;
+  double inv = 1.0 / me0 + Ep / 3.0 * (2.0 / Eg + 1.0 / (Eg + D) - 2.0 / Eg0 - 1.0 / (Eg0 + D));
+  return inv > 0.0 ? 1.0 / inv : me0;
+}
+
 /* Unstrained band parameters of entry e at (x, y, T); (x, y, T) already checked. */
 static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double x, double y,
                           double T_K, const ew_params *p, ew_bands *out, ew_error *err) {
@@ -246,6 +275,13 @@ static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double
   if (!(out->me > 0.0))
     return ew_fail(err, EW_ERR_CATALOGUE, e->path, param_line(e, EW_P_ME),
                    "%s at %s has electron mass %g (must be > 0)", name, ct, out->me);
+  double Eg0;
+  if (p->have[EW_P_EP] && ew_entry_value(cat, e, -1, 0, x, y, 0.0, &Eg0)) {
+    out->me0 = out->me;
+    out->Eg0_G_eV = Eg0;
+    out->me = kane_edge_mass(out->me0, p->v[EW_P_EP], p->have[EW_P_DSO] ? p->v[EW_P_DSO] : 0.0,
+                             Eg0, out->Eg_G_eV);
+  }
   /* Hole masses from the Luttinger parameters (J. M. Luttinger, Phys. Rev. 102, 1030
    * (1956)): along [001] 1/(γ1 ∓ 2γ2), in plane 1/(γ1 ± γ2) */
   double g1 = p->v[EW_P_GAMMA1], g2 = p->v[EW_P_GAMMA2];
@@ -260,6 +296,7 @@ static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double
   out->mlh_z = 1.0 / den[1];
   out->mhh_par = 1.0 / den[2];
   out->mlh_par = 1.0 / den[3];
+  dos_masses(p, out);
   out->eps_r = p->have[EW_P_EPS_S] ? p->v[EW_P_EPS_S] : 0.0;
   out->a_nm = p->have[EW_P_ALC] ? p->v[EW_P_ALC] / 10.0 : 0.0;
   out->Ep_eV = p->have[EW_P_EP] ? p->v[EW_P_EP] : 0.0;
@@ -302,6 +339,12 @@ static ew_status apply_strain(const ew_cat_entry *e, double x, double y, const e
   b->Ec_eV += sh.dEc_eV;
   b->Ev_hh_eV += sh.dEhh_eV;
   b->Ev_lh_eV += sh.dElh_eV;
+  /* the electron mass follows the strained gap too: its hydrostatic part, Γ6 to the mean of
+     the Γ8 edges (the shear splitting of hh and lh changes the Γ mass only in second order and
+     anisotropically, left out) */
+  if (b->me0 > 0.0)
+    b->me = kane_edge_mass(b->me0, b->Ep_eV, b->Dso_eV, b->Eg0_G_eV,
+                           b->Eg_G_eV + sh.dEc_eV - sh.dEv_hyd_eV);
   double hc = ew_mb_critical_thickness_nm(in.a_nm, sh.eps_par,
                                           ew_strain_poisson(in.c11_kbar, in.c12_kbar), 2);
   b->critical_thickness_nm = isnan(hc) ? INFINITY : hc;

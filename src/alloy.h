@@ -44,7 +44,7 @@ typedef struct {
                       gap's T shift goes into Ec */
   double Ev_hh_eV; /* heavy-hole edge (= Ev without strain, Ev + dEhh_strain_eV with) */
   double Ev_lh_eV; /* light-hole edge (= Ev without strain, Ev + dElh_strain_eV with) */
-  double me;       /* electron mass, m0 */
+  double me;       /* band-edge electron mass at T (and strain), m0: see me0 below */
   double mhh_z, mlh_z;     /* growth-axis hole masses 1/(γ1 ∓ 2γ2), m0 */
   double mhh_par, mlh_par; /* in-plane hole masses 1/(γ1 ± γ2), m0 */
   double eps_r;    /* static permittivity (0 if unknown) */
@@ -61,6 +61,13 @@ typedef struct {
                                Eg_*_eV stay the relaxed material's */
   double critical_thickness_nm; /* Matthews–Blakeslee, layer buried between two interfaces
                                    (strain.h); INFINITY when unstrained or unknown */
+  /* bulk (3D) density-of-states hole masses, spherical approximation 1/(γ1 ∓ 2γ̄),
+     γ̄ = (γ2 + γ3)/2, m0 (alloy.c); 0 when unknown (no γ3, user materials): poisson.c then
+     uses the ellipsoid (m_z m∥²)^{1/3} */
+  double mhh_dos, mlh_dos;
+  /* the band-edge electron mass me follows the gap (Kane relation, alloy.c): me0 is the
+     catalogue's 0 K mass at the 0 K Γ gap Eg0_G_eV (both 0 when me is not scaled: no E_P) */
+  double me0, Eg0_G_eV;
 } ew_bands;
 
 /* Parameters at composition x in [0,1].  Fails (EW_ERR_INPUT) for an unknown name, x out

@@ -333,9 +333,12 @@ static ew_status check_binary(const ew_cat_entry *e, const char *path, int root_
       return ew_fail(err, EW_ERR_CATALOGUE, path,
                      e->line[ha ? ew_alpha_param[g] : ew_beta_param[g]],
                      "Varshni parameters given without %s", param_keys[ew_gap_param[g]]);
-    if (hb && e->v[ew_beta_param[g]] <= 0)
+    /* β = 0 is the linear law Eg(T) = Eg(0) − αT, the form the review gives for some gaps
+       (InP X; Vurgaftman 2001, from memory); α = β = 0 holds a gap constant */
+    if (hb && e->v[ew_beta_param[g]] < 0)
       return ew_fail(err, EW_ERR_CATALOGUE, path, e->line[ew_beta_param[g]],
-                     "%s must be > 0 K", param_keys[ew_beta_param[g]]);
+                     "%s must be >= 0 K (0: the linear law Eg - alpha T)",
+                     param_keys[ew_beta_param[g]]);
   }
   /* one sign convention for a_v in the whole catalogue: mixing them would silently swap
    * the direction of the hydrostatic valence shift (strain.h) */

@@ -60,6 +60,25 @@ static void table_layers(const ew_stack *st, FILE *out) {
   }
 }
 
+/* Band offsets of each interface (stack.h ew_interface: signs and share). */
+static void table_offsets(const ew_stack *st, FILE *out) {
+  if (st->n_layers < 2) return;
+  int wn = name_width(st, 0);
+  fprintf(out, "\nInterfaces (dEc = Ec(first) - Ec(second), dEv = Ev_hh(second) - Ev_hh(first); "
+               "share = dEc/(dEc + dEv)%s)\n",
+          st->offsets_set ? "; offsets set by the stack" : "");
+  fprintf(out, "  %-*s %-*s %10s %9s %9s %7s\n", wn, "first", wn, "second", "z_nm", "dEc_eV",
+          "dEv_eV", "share");
+  for (size_t k = 0; k + 1 < st->n_layers; k++) {
+    ew_interface in;
+    ew_stack_interface(st, k, &in);
+    char sh[16] = "-";
+    if (isfinite(in.conduction_share)) snprintf(sh, sizeof sh, "%.3f", in.conduction_share);
+    fprintf(out, "  %-*s %-*s %10.3f %9.4f %9.4f %7s\n", wn, st->layers[k].name, wn,
+            st->layers[k + 1].name, in.z_nm, in.dEc_eV, in.dEv_eV, sh);
+  }
+}
+
 static void table_levels(const ew_result *r, FILE *out) {
   const ew_stack *st = r->stack;
   int wn = name_width(st, 0);
@@ -148,6 +167,7 @@ static void table_sp(const ew_result *r, FILE *out) {
 void ew_output_table(const ew_result *r, FILE *out) {
   table_head(r, out);
   table_layers(r->stack, out);
+  table_offsets(r->stack, out);
   table_levels(r, out);
   table_lines(r, out);
   if (r->sp) table_sp(r, out);
@@ -181,6 +201,29 @@ static void json_layers(ew_json *j, const ew_stack *st) {
     ew_json_key_num(j, "eps_par", ly->bands.eps_par);
     ew_json_key_num(j, "eps_perp", ly->bands.eps_perp);
     ew_json_key_num(j, "critical_thickness_nm", ly->bands.critical_thickness_nm);
+    ew_json_end_object(j);
+  }
+  ew_json_end_array(j);
+}
+
+/* "interfaces": the band offsets of each interface (stack.h ew_interface; null share for
+ * equal gaps) */
+static void json_interfaces(ew_json *j, const ew_stack *st) {
+  ew_json_key(j, "interfaces");
+  ew_json_begin_array(j);
+  for (size_t k = 0; k + 1 < st->n_layers; k++) {
+    ew_interface in;
+    ew_stack_interface(st, k, &in);
+    ew_json_begin_object(j);
+    ew_json_key(j, "between");
+    ew_json_begin_array(j);
+    ew_json_str(j, st->layers[k].name);
+    ew_json_str(j, st->layers[k + 1].name);
+    ew_json_end_array(j);
+    ew_json_key_num(j, "z_nm", in.z_nm);
+    ew_json_key_num(j, "dEc_eV", in.dEc_eV);
+    ew_json_key_num(j, "dEv_eV", in.dEv_eV);
+    ew_json_key_num(j, "conduction_share", in.conduction_share);
     ew_json_end_object(j);
   }
   ew_json_end_array(j);
@@ -295,6 +338,7 @@ void ew_output_json(const ew_result *r, FILE *out) {
   for (size_t i = 0; i < r->n_warnings; i++) ew_json_str(&j, r->warning_codes[i]);
   ew_json_end_array(&j);
   json_layers(&j, st);
+  json_interfaces(&j, st);
   json_bands(&j, r);
   json_states(&j, r);
   json_transitions(&j, r);

@@ -28,7 +28,8 @@
  *    Ec + U reaches W_e) this is the bulk density.  Inside a well the density of continuum
  *    states is taken from W_e up (an approximation: the local √(E − Ec) density of states
  *    above W_e is replaced by √(E − W_e)).  Holes: heavy and light separately below their
- *    windows, density-of-states mass (m_z m∥²)^{1/3} (common practice).
+ *    windows, each with its bulk density-of-states mass (ew_hole_dos_masses: the spherical
+ *    1/(γ1 ∓ 2γ̄) of alloy.c; the subbands above keep the in-plane masses).
  *  - ℱ_{1/2}: X. Aymerich-Humet, F. Serra-Mestres, J. Millán, J. Appl. Phys. 54, 2850
  *    (1983), their generalised approximation at j = 1/2 (constants a, b, c of that paper,
  *    from memory); tests/test_poisson.c checks it against quadrature (better than 0.6 %).
@@ -206,6 +207,25 @@ static void bands_at(const ew_stack *st, double z, size_t *k, ew_bands *b) {
 static double nc_of(double m, double kT) {
   return 2.0 * pow(m * kT / (4.0 * EW_PI * EW_HB2M0_EVNM2), 1.5);
 }
+
+void ew_hole_dos_masses(const ew_bands *b, double mdos[2]) {
+  /* the spherical density-of-states masses of alloy.c where the catalogue has γ3; else (user
+     materials) the density-of-states mass of an ellipsoid with the [001] and in-plane masses,
+     (m_z m∥²)^{1/3} (common practice) */
+  double mz[2] = {b->mhh_z, b->mlh_z}, mp[2] = {b->mhh_par, b->mlh_par};
+  double md[2] = {b->mhh_dos, b->mlh_dos};
+  for (int k = 0; k < 2; k++) {
+    double par = mp[k] > 0 ? mp[k] : mz[k];
+    mdos[k] = md[k] > 0 ? md[k] : cbrt(mz[k] * par * par);
+  }
+}
+
+double ew_valence_nv_cm3(const ew_bands *b, double T_K) {
+  double mdos[2];
+  ew_hole_dos_masses(b, mdos);
+  double kT = EW_KB_EVK * T_K;
+  return (nc_of(mdos[0], kT) + nc_of(mdos[1], kT)) / NM3_PER_CM3;
+}
 /* 2D density of states times kT: m kT / (π ħ²) in nm^-2 */
 static double d2_of(double m, double kT) { return m * kT / (2.0 * EW_PI * EW_HB2M0_EVNM2); }
 
@@ -226,9 +246,10 @@ static void fill_half(const model *m, half *h, double a, double b) {
   h->Evl = ew_stack_edge_at(st, EW_BAND_LH, mid);
   h->Evtop = fmax(h->Evh, h->Evl);
   h->Nc = nc_of(bb.me, m->kT);
-  double mhp = bb.mhh_par > 0 ? bb.mhh_par : bb.mhh_z, mlp = bb.mlh_par > 0 ? bb.mlh_par : bb.mlh_z;
-  h->Nvh = nc_of(cbrt(bb.mhh_z * mhp * mhp), m->kT);
-  h->Nvl = nc_of(cbrt(bb.mlh_z * mlp * mlp), m->kT);
+  double mdos[2];
+  ew_hole_dos_masses(&bb, mdos);
+  h->Nvh = nc_of(mdos[0], m->kT);
+  h->Nvl = nc_of(mdos[1], m->kT);
   h->ND = ly->donors_cm3 * NM3_PER_CM3;
   h->NA = ly->acceptors_cm3 * NM3_PER_CM3;
   h->Ed = ly->donor_energy_eV;

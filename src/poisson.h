@@ -23,6 +23,13 @@
  * dℱ/dη of the same approximation (so that Newton's Jacobian matches the residual). */
 double ew_fd_half(double eta, double *deriv);
 
+/* Bulk density-of-states masses of the heavy [0] and light [1] holes of bands b, m0 (the
+ * spherical approximation of alloy.c, or the ellipsoid (m_z m∥²)^{1/3} without γ3). */
+void ew_hole_dos_masses(const ew_bands *b, double mdos[2]);
+/* Effective valence-band density of states N_v = 2 (kT/2πħ²)^{3/2} (m_hh^{3/2} + m_lh^{3/2})
+ * at T_K, cm^-3 (what the continuum holes of the Poisson solve use). */
+double ew_valence_nv_cm3(const ew_bands *b, double T_K);
+
 /* The iteration's state: the static model of the stack on grid g (which must outlive it;
  * the fine grid of the Schrödinger passes) at temperature T_K (floored already), the
  * potential U and the Fermi level, starting from flat bands at global neutrality (with a

@@ -152,6 +152,37 @@ static void layers_table(FILE *f, const ew_result *r) {
           st->temperature_K, st->total_nm);
 }
 
+/* Band offsets of each interface (signs as in stack.h ew_interface). */
+static void offsets_table(FILE *f, const ew_stack *st) {
+  if (st->n_layers < 2) return;
+  fputs("<h2 id=\"offsets\">Band offsets</h2>\n<table>\n<tr><th>first</th><th>second</th>"
+        "<th>z (nm)</th><th>&#916;E<sub>c</sub> (eV)</th><th>&#916;E<sub>v</sub> hh (eV)</th>"
+        "<th>conduction share</th></tr>\n",
+        f);
+  for (size_t k = 0; k + 1 < st->n_layers; k++) {
+    ew_interface in;
+    ew_stack_interface(st, k, &in);
+    fputs("<tr><td>", f);
+    h(f, st->layers[k].name);
+    fputs("</td><td>", f);
+    h(f, st->layers[k + 1].name);
+    fputs("</td>", f);
+    num(f, 3, 'f', in.z_nm);
+    num(f, 4, 'f', in.dEc_eV);
+    num(f, 4, 'f', in.dEv_eV);
+    num(f, 3, 'f', in.conduction_share);
+    fputs("</tr>\n", f);
+  }
+  fprintf(f, "</table>\n<p class=\"meta\">&#916;E<sub>c</sub> = E<sub>c</sub>(first) &#8722; "
+             "E<sub>c</sub>(second), &#916;E<sub>v</sub> = E<sub>v,hh</sub>(second) &#8722; "
+             "E<sub>v,hh</sub>(first) at the interface; conduction share = &#916;E<sub>c</sub> / "
+             "(&#916;E<sub>c</sub> + &#916;E<sub>v</sub>). %s</p>\n",
+          st->offsets_set
+              ? "Offsets re-split by the stack's conduction_share."
+              : "Offsets from the catalogue's valence-band offsets; a stack's conduction_share "
+                "key applies a measured split.");
+}
+
 static void levels_table(FILE *f, const ew_result *r) {
   const ew_stack *st = r->stack;
   fputs("<h2 id=\"levels\">Bound levels</h2>\n", f);
@@ -296,6 +327,7 @@ static ew_status write_page(FILE *f, const ew_result *r, const ew_catalogue *cat
   page_head(f, r);
   warnings(f, r);
   layers_table(f, r);
+  offsets_table(f, r->stack);
   fputs("<h2 id=\"diagram\">Band diagram</h2>\n<figure>\n", f);
   ew_status rc = ew_plot_band_diagram_svg(r, f, err);
   if (rc != EW_OK) return rc;

@@ -42,9 +42,10 @@
 static const char *const top_keys[] = {"temperature", "grid_step",    "materials",
                                        "alloys",      "layers",       "substrate",
                                        "field",       "nonparabolic", "sheet_density",
-                                       "linewidth",   "surface",      "bias"};
+                                       "linewidth",   "surface",      "bias",
+                                       "conduction_share", "offset_reference"};
 static const char *const layer_keys[] = {"name", "material", "x", "y", "thickness",
-                                         "thickness_ml", "grade", "doping"};
+                                         "thickness_ml", "grade", "doping", "conduction_share"};
 static const char *const doping_keys[] = {"donors", "acceptors", "donor_sheet",
                                           "acceptor_sheet", "donor_energy", "acceptor_energy"};
 #define MAX_DOPING_CM3 1e21
@@ -61,6 +62,7 @@ static const char *const umat_keys[] = {"name", "Ec", "Ev", "me", "mhh", "mlh",
                                         "mhh_par", "mlh_par", "eps_static"};
 static const char *const umat_required[] = {"Ec", "Ev", "me", "mhh", "mlh"};
 #define COUNT(a) (sizeof(a) / sizeof((a)[0]))
+#define MAX_OFFSET_HINT 256 /* layers searched for a "did you mean" of offset_reference */
 
 typedef struct {
   char name[EW_NAME_MAX];
@@ -247,21 +249,22 @@ static const user_material *find_user(const reader *r, const char *name) {
 
 /* ---- user-defined materials --------------------------------------------------------- */
 
-static ew_status read_user_material(reader *r, const config_setting_t *g, size_t index) {
-  char where[96];
+/* The entry's group, name and keys: a new, unique name that does not shadow the catalogue,
+ * with every required key present.  where receives "in material 'NAME'". */
+static ew_status user_material_head(reader *r, const config_setting_t *g, size_t index,
+                                    user_material *m, char *where, size_t where_size) {
   int line = line_of(g), kline = line;
   if (config_setting_type(g) != CONFIG_TYPE_GROUP)
     return fail(r, line, "entry %zu of 'materials' must be a group { name = ...; Ec = ...; }, "
                 "not %s", index + 1, type_word(g));
-  user_material *m = &r->umat[r->n_umat];
   memset(m, 0, sizeof *m);
   m->line = line;
 
-  snprintf(where, sizeof where, "in material entry %zu", index + 1);
+  snprintf(where, where_size, "in material entry %zu", index + 1);
   int got = get_name(r, g, "name", where, m->name, &kline);
   if (got < 0) return EW_ERR_INPUT;
   if (got == 0) return fail(r, line, "material entry %zu has no 'name'", index + 1);
-  snprintf(where, sizeof where, "in material '%s'", m->name);
+  snprintf(where, where_size, "in material '%s'", m->name);
   ew_status st = check_keys(r, g, umat_keys, COUNT(umat_keys), where);
   if (st) return st;
 
@@ -280,39 +283,60 @@ static ew_status read_user_material(reader *r, const config_setting_t *g, size_t
       return fail(r, line, "material '%s' lacks '%s' (required: %s)", m->name,
                   umat_required[k], list);
     }
+  return EW_OK;
+}
 
-  double Ec = 0, Ev = 0, me = 0, mhh = 0, mlh = 0, eps = 0;
-  int lEc = line, lEv = line, l = line;
-  if (get_number(r, g, "Ec", where, &Ec, &lEc) < 0 || get_number(r, g, "Ev", where, &Ev, &lEv) < 0)
+/* Ec and Ev: ordered and within the plausible range. */
+static ew_status read_user_edges(reader *r, const config_setting_t *g, const user_material *m,
+                                 const char *where, double *Ec, double *Ev) {
+  int lEc = m->line, lEv = m->line;
+  if (get_number(r, g, "Ec", where, Ec, &lEc) < 0 || get_number(r, g, "Ev", where, Ev, &lEv) < 0)
     return EW_ERR_INPUT;
-  if (Ev >= Ec)
-    return fail(r, lEv, "material '%s': Ev = %g eV must lie below Ec = %g eV", m->name, Ev, Ec);
+  if (*Ev >= *Ec)
+    return fail(r, lEv, "material '%s': Ev = %g eV must lie below Ec = %g eV", m->name, *Ev, *Ec);
   /* robustness: absurd band edges (e.g. Ec = 1e30) were accepted and solved */
-  if (fabs(Ec) > MAX_ABS_EDGE_EV || fabs(Ev) > MAX_ABS_EDGE_EV)
-    return fail(r, fabs(Ec) > MAX_ABS_EDGE_EV ? lEc : lEv, "material '%s': band edge %s = %g eV "
+  if (fabs(*Ec) > MAX_ABS_EDGE_EV || fabs(*Ev) > MAX_ABS_EDGE_EV)
+    return fail(r, fabs(*Ec) > MAX_ABS_EDGE_EV ? lEc : lEv, "material '%s': band edge %s = %g eV "
                 "is outside [-%g, %g] eV (absolute scale: the GaAs valence-band maximum is at "
-                "-0.80 eV)", m->name, fabs(Ec) > MAX_ABS_EDGE_EV ? "Ec" : "Ev",
-                fabs(Ec) > MAX_ABS_EDGE_EV ? Ec : Ev, MAX_ABS_EDGE_EV, MAX_ABS_EDGE_EV);
+                "-0.80 eV)", m->name, fabs(*Ec) > MAX_ABS_EDGE_EV ? "Ec" : "Ev",
+                fabs(*Ec) > MAX_ABS_EDGE_EV ? *Ec : *Ev, MAX_ABS_EDGE_EV, MAX_ABS_EDGE_EV);
+  return EW_OK;
+}
 
+/* me, mhh, mlh (required) and mhh_par, mlh_par (default: the growth-axis ones) into
+ * mass[0..4], each positive and plausible. */
+static ew_status read_user_masses(reader *r, const config_setting_t *g, const user_material *m,
+                                  const char *where, double mass[5]) {
   /* Masses must be positive: a zero or negative mass makes the kinetic operator indefinite. */
-  const char *mass_keys[] = {"me", "mhh", "mlh", "mhh_par", "mlh_par"};
-  double *mass_out[] = {&me, &mhh, &mlh, &m->bands.mhh_par, &m->bands.mlh_par};
+  static const char *const mass_keys[] = {"me", "mhh", "mlh", "mhh_par", "mlh_par"};
+  int l = m->line;
   for (size_t k = 0; k < COUNT(mass_keys); k++) {
-    int g2 = get_number(r, g, mass_keys[k], where, mass_out[k], &l);
+    int g2 = get_number(r, g, mass_keys[k], where, &mass[k], &l);
     if (g2 < 0) return EW_ERR_INPUT;
     if (g2 == 0) { /* only the in-plane masses are optional: default to growth-axis ones */
-      *mass_out[k] = k == 3 ? mhh : mlh;
+      mass[k] = k == 3 ? mass[1] : mass[2];
       continue;
     }
-    if (*mass_out[k] <= 0)
+    if (mass[k] <= 0)
       return fail(r, l, "material '%s': mass '%s' = %g must be positive (units of m0)",
-                  m->name, mass_keys[k], *mass_out[k]);
+                  m->name, mass_keys[k], mass[k]);
     /* robustness: me = 1e30 gave 86 degenerate "states", me = 1e-30 a wrong spectrum */
-    if (*mass_out[k] < MIN_MASS_M0 || *mass_out[k] > MAX_MASS_M0)
+    if (mass[k] < MIN_MASS_M0 || mass[k] > MAX_MASS_M0)
       return fail(r, l, "material '%s': mass '%s' = %g m0 is outside [%g, %g] m0",
-                  m->name, mass_keys[k], *mass_out[k], MIN_MASS_M0, MAX_MASS_M0);
+                  m->name, mass_keys[k], mass[k], MIN_MASS_M0, MAX_MASS_M0);
   }
-  int ge = get_number(r, g, "eps_static", where, &eps, &l);
+  return EW_OK;
+}
+
+static ew_status read_user_material(reader *r, const config_setting_t *g, size_t index) {
+  char where[96];
+  user_material *m = &r->umat[r->n_umat];
+  double Ec = 0, Ev = 0, mass[5] = {0}, eps = 0;
+  ew_status st = user_material_head(r, g, index, m, where, sizeof where);
+  if (!st) st = read_user_edges(r, g, m, where, &Ec, &Ev);
+  if (!st) st = read_user_masses(r, g, m, where, mass);
+  if (st) return st;
+  int l = m->line, ge = get_number(r, g, "eps_static", where, &eps, &l);
   if (ge < 0) return EW_ERR_INPUT;
   if (ge > 0 && eps <= 0)
     return fail(r, l, "material '%s': 'eps_static' = %g must be positive", m->name, eps);
@@ -322,9 +346,11 @@ static ew_status read_user_material(reader *r, const config_setting_t *g, size_t
   b->Ev_eV = b->Ev_hh_eV = b->Ev_lh_eV = Ev;
   b->Eg_G_eV = Ec - Ev;
   b->Eg_X_eV = b->Eg_L_eV = GAP_NOT_GIVEN_EV;
-  b->me = me;
-  b->mhh_z = mhh;
-  b->mlh_z = mlh;
+  b->me = mass[0];
+  b->mhh_z = mass[1];
+  b->mlh_z = mass[2];
+  b->mhh_par = mass[3];
+  b->mlh_par = mass[4];
   b->eps_r = ge > 0 ? eps : 0.0;
   b->a_nm = 0.0;
   b->lowest_valley = 0;
@@ -713,6 +739,24 @@ static ew_status resolve_layer_bands(reader *r, ew_layer *L, double T, const lay
   return EW_OK;
 }
 
+/* conduction_share = S; in group g (top level or a layer): S in [0, 1] into *share, its line
+ * into *line; *share = −1 when not given. */
+static ew_status read_share(reader *r, const config_setting_t *g, const char *where,
+                            double *share, int *line) {
+  *share = -1.0;
+  *line = line_of(g);
+  int got = get_number(r, g, "conduction_share", where, share, line);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got == 0) {
+    *share = -1.0;
+    return EW_OK;
+  }
+  if (!(*share >= 0.0 && *share <= 1.0))
+    return fail(r, *line, "conduction_share = %g must be in [0, 1] (the conduction band's part "
+                "of the band-gap difference, e.g. 0.65)", *share);
+  return EW_OK;
+}
+
 static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, ew_layer *L,
                             double T) {
   layer_lines ll = {0};
@@ -740,6 +784,7 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
   if ((st = read_layer_thickness(r, g, where, L, &ll))) return st;
   if ((st = read_layer_composition(r, g, where, L, &ll))) return st;
   if ((st = read_layer_doping(r, g, where, L, ll.line))) return st;
+  if ((st = read_share(r, g, where, &L->conduction_share, &L->conduction_share_line))) return st;
   if ((st = check_layer_material(r, L, &ll))) return st;
   return resolve_layer_bands(r, L, T, &ll);
 }
@@ -841,10 +886,76 @@ static ew_status read_substrate(reader *r, const config_setting_t *root, ew_stac
   return EW_OK;
 }
 
-static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) {
-  ew_status st = check_keys(r, root, top_keys, COUNT(top_keys), "at top level");
-  if (st) return st;
+/* ---- Band offsets: the designer's own conduction-band share ---------------------------
+ * The catalogue's offsets come from its valence-band offsets (VBO) on one absolute scale
+ * (Vurgaftman 2001).  Where a designer trusts a measured split more (InGaAs/GaAs: the review's
+ * VBO gives a conduction share of about 0.37, many measurements 0.6–0.7), conduction_share = S
+ * (top level for every layer, or per layer) moves each such layer rigidly so that against the
+ * reference layer (offset_reference = "name", default the first layer)
+ *     Ec − Ec_ref = S (G − G_ref),   Ev,hh_ref − Ev,hh = (1 − S)(G − G_ref),   G = Ec − Ev,hh,
+ * with the edges as grown (strained on a substrate): a measured offset is that of the strained
+ * interface, and the interface table then shows exactly S.  A rigid shift keeps each layer's
+ * gaps and strain splitting.  Graded layers are moved sample by sample. */
+static void share_shift(ew_bands *b, const ew_bands *ref, double S) {
+  double G = b->Ec_eV - b->Ev_hh_eV, Gref = ref->Ec_eV - ref->Ev_hh_eV;
+  double d = ref->Ev_hh_eV - (1.0 - S) * (G - Gref) - b->Ev_hh_eV;
+  b->Ev_eV += d, b->Ev_hh_eV += d, b->Ev_lh_eV += d, b->Ec_eV += d;
+}
 
+static ew_status offset_reference(reader *r, const config_setting_t *root, ew_stack *s) {
+  s->offset_reference = 0;
+  if (!config_setting_get_member(root, "offset_reference")) return EW_OK;
+  char name[EW_NAME_MAX];
+  int l = 1;
+  if (get_name(r, root, "offset_reference", "", name, &l) < 0) return EW_ERR_INPUT;
+  const char *names[MAX_OFFSET_HINT];
+  size_t k = 0, n = s->n_layers < MAX_OFFSET_HINT ? s->n_layers : MAX_OFFSET_HINT;
+  for (k = 0; k < s->n_layers && strcmp(s->layers[k].name, name) != 0; k++) continue;
+  if (k == s->n_layers) {
+    for (size_t i = 0; i < n; i++) names[i] = s->layers[i].name;
+    const char *hint = ew_text_nearest(name, names, n);
+    return fail(r, l, "offset_reference '%s' is not a layer of this stack%s%s%s", name,
+                hint ? "; did you mean '" : "", hint ? hint : "", hint ? "'?" : "");
+  }
+  if (s->layers[k].grade)
+    return fail(r, l, "offset_reference '%s' is a graded layer; name an ungraded one", name);
+  s->offset_reference = k;
+  return EW_OK;
+}
+
+static ew_status apply_offsets(reader *r, const config_setting_t *root, ew_stack *s) {
+  ew_status st = read_share(r, root, "", &s->conduction_share, &(int){0});
+  if (st || (st = offset_reference(r, root, s))) return st;
+  const ew_bands ref = s->layers[s->offset_reference].bands;
+  for (size_t k = 0; k < s->n_layers; k++) {
+    ew_layer *L = &s->layers[k];
+    if (k == s->offset_reference && L->conduction_share >= 0)
+      return fail(r, L->conduction_share_line, "layer '%s' is the offset reference: its own "
+                  "conduction_share has nothing to split against (give it to the other layers, "
+                  "or name another offset_reference)", L->name);
+    double S = L->conduction_share >= 0 ? L->conduction_share : s->conduction_share;
+    if (S < 0 || k == s->offset_reference) continue;
+    s->offsets_set = 1;
+    share_shift(&L->bands, &ref, S);
+    for (int j = 0; L->profile && j < EW_GRADE_SAMPLES; j++) share_shift(&L->profile[j], &ref, S);
+  }
+  return EW_OK;
+}
+
+void ew_stack_interface(const ew_stack *st, size_t k, ew_interface *out) {
+  ew_bands a, b;
+  ew_layer_bands_at(&st->layers[k], 1.0, &a);
+  ew_layer_bands_at(&st->layers[k + 1], 0.0, &b);
+  out->first = k;
+  out->z_nm = st->layers[k + 1].z_start_nm;
+  out->dEc_eV = a.Ec_eV - b.Ec_eV;
+  out->dEv_eV = b.Ev_hh_eV - a.Ev_hh_eV;
+  double sum = out->dEc_eV + out->dEv_eV;
+  out->conduction_share = fabs(sum) > 1e-9 ? out->dEc_eV / sum : NAN;
+}
+
+/* temperature, grid_step (its line into *lg for the grid-size check), field, nonparabolic */
+static ew_status read_run_keys(reader *r, const config_setting_t *root, ew_stack *s, int *lg) {
   int l = 1;
   s->temperature_K = DEFAULT_TEMPERATURE_K;
   int got = get_number(r, root, "temperature", "", &s->temperature_K, &l);
@@ -853,12 +964,12 @@ static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) 
     return fail(r, l, "temperature = %g K is outside [0, %g] K", s->temperature_K,
                 MAX_TEMPERATURE_K);
 
-  int lg = 1;
+  *lg = 1;
   s->grid_step_nm = 0; /* 0: not given, the solver chooses */
-  got = get_number(r, root, "grid_step", "", &s->grid_step_nm, &lg);
+  got = get_number(r, root, "grid_step", "", &s->grid_step_nm, lg);
   if (got < 0) return EW_ERR_INPUT;
   if (got && (s->grid_step_nm <= 0 || s->grid_step_nm > MAX_GRID_STEP_NM))
-    return fail(r, lg, "grid_step = %g nm must be in (0, %g] nm", s->grid_step_nm,
+    return fail(r, *lg, "grid_step = %g nm must be in (0, %g] nm", s->grid_step_nm,
                 MAX_GRID_STEP_NM);
 
   double v;
@@ -877,8 +988,14 @@ static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) 
     s->nonparabolic = config_setting_get_bool(np);
     s->nonparabolic_given = 1;
   }
+  return EW_OK;
+}
 
-  got = get_number(r, root, "sheet_density", "", &v, &lf);
+/* sheet_density and linewidth (the spectra's keys) */
+static ew_status read_spectrum_keys(reader *r, const config_setting_t *root, ew_stack *s) {
+  double v;
+  int lf = 1;
+  int got = get_number(r, root, "sheet_density", "", &v, &lf);
   if (got < 0) return EW_ERR_INPUT;
   if (got && (v < 0 || v > MAX_SHEET_DENSITY_CM2))
     return fail(r, lf, "sheet_density = %g cm^-2 must be in [0, %g]", v, MAX_SHEET_DENSITY_CM2);
@@ -888,13 +1005,18 @@ static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) 
   if (got && (v <= 0 || v > 500))
     return fail(r, lf, "linewidth = %g meV must be in (0, 500] meV", v);
   s->linewidth_meV = got ? v : DEFAULT_LINEWIDTH_MEV;
+  return EW_OK;
+}
 
+/* surface = { barrier = …; } or bias = …; (not both): the electrostatic boundary conditions */
+static ew_status read_contacts(reader *r, const config_setting_t *root, ew_stack *s) {
+  int lf = 1;
   const config_setting_t *surf = config_setting_get_member(root, "surface");
   if (surf) {
     static const char *const sk[] = {"barrier"};
     if (config_setting_type(surf) != CONFIG_TYPE_GROUP)
       return fail(r, line_of(surf), "'surface' must be a group { barrier = 0.75; }");
-    st = check_keys(r, surf, sk, 1, "in 'surface'");
+    ew_status st = check_keys(r, surf, sk, 1, "in 'surface'");
     if (st) return st;
     int gs = get_number(r, surf, "barrier", "in 'surface'", &s->surface_barrier_eV, &lf);
     if (gs < 0) return EW_ERR_INPUT;
@@ -903,34 +1025,41 @@ static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) 
       return fail(r, lf, "surface barrier = %g eV must be in [-1, 5] eV", s->surface_barrier_eV);
     s->surface_given = 1;
   }
-  got = get_number(r, root, "bias", "", &s->bias_V, &lf);
+  int got = get_number(r, root, "bias", "", &s->bias_V, &lf);
   if (got < 0) return EW_ERR_INPUT;
   if (got && fabs(s->bias_V) > 50)
     return fail(r, lf, "bias = %g V is beyond 50 V", s->bias_V);
   s->bias_given = got;
   if (s->surface_given && s->bias_given)
     return fail(r, lf, "give either 'surface' or 'bias', not both");
-
-  st = read_substrate(r, root, s);
-  if (st) return st;
-  st = read_user_materials(r, root);
-  if (st) return st;
-  st = read_user_alloys(r, root);
-  if (st) return st;
-  st = read_layers(r, root, s);
-  if (st) return st;
-
-  if (s->grid_step_nm > 0) {
-    double nodes = s->total_nm / s->grid_step_nm;
-    if (nodes > MAX_NODES) {
-      double gb = nodes * BYTES_PER_NODE_PER_BAND * EW_BAND_COUNT / 1e9;
-      return fail(r, lg, "grid_step = %g nm over %g nm gives about %.3g grid nodes (limit %g); "
-                  "that would need roughly %.3g GB (about %g bytes per node per band, %d bands). "
-                  "Use a larger grid_step", s->grid_step_nm, s->total_nm, nodes, MAX_NODES, gb,
-                  BYTES_PER_NODE_PER_BAND, (int)EW_BAND_COUNT);
-    }
-  }
   return EW_OK;
+}
+
+/* A given grid_step (line lg) must not ask for more nodes than the solver can hold. */
+static ew_status check_grid_size(reader *r, const ew_stack *s, int lg) {
+  if (!(s->grid_step_nm > 0)) return EW_OK;
+  double nodes = s->total_nm / s->grid_step_nm;
+  if (nodes <= MAX_NODES) return EW_OK;
+  double gb = nodes * BYTES_PER_NODE_PER_BAND * EW_BAND_COUNT / 1e9;
+  return fail(r, lg, "grid_step = %g nm over %g nm gives about %.3g grid nodes (limit %g); "
+              "that would need roughly %.3g GB (about %g bytes per node per band, %d bands). "
+              "Use a larger grid_step", s->grid_step_nm, s->total_nm, nodes, MAX_NODES, gb,
+              BYTES_PER_NODE_PER_BAND, (int)EW_BAND_COUNT);
+}
+
+static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) {
+  int lg = 1;
+  ew_status st = check_keys(r, root, top_keys, COUNT(top_keys), "at top level");
+  if (!st) st = read_run_keys(r, root, s, &lg);
+  if (!st) st = read_spectrum_keys(r, root, s);
+  if (!st) st = read_contacts(r, root, s);
+  if (!st) st = read_substrate(r, root, s);
+  if (!st) st = read_user_materials(r, root);
+  if (!st) st = read_user_alloys(r, root);
+  if (!st) st = read_layers(r, root, s);
+  if (!st) st = apply_offsets(r, root, s);
+  if (!st) st = check_grid_size(r, s, lg);
+  return st;
 }
 
 /* Root may be empty when the text holds only blanks and comments. */
@@ -1115,6 +1244,8 @@ void ew_layer_bands_at(const ew_layer *ly, double f, ew_bands *out) {
   LERP(mlh_z);
   LERP(mhh_par);
   LERP(mlh_par);
+  LERP(mhh_dos);
+  LERP(mlh_dos);
   LERP(eps_r);
   LERP(a_nm);
 #undef LERP

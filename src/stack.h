@@ -35,6 +35,10 @@ typedef struct {
   double donors_cm3, acceptors_cm3;          /* uniform in the layer */
   double donor_sheet_cm2, acceptor_sheet_cm2; /* delta doping at the layer's centre */
   double donor_energy_eV, acceptor_energy_eV; /* ionisation energies; 0 = fully ionised */
+  /* conduction_share = S; (0..1): the layer's edges re-split against the offset reference
+     (stack offset_reference) so that Ec − Ec_ref = S (Eg − Eg_ref); < 0: not given */
+  double conduction_share;
+  int conduction_share_line;
 } ew_layer;
 
 struct ew_stack {
@@ -57,7 +61,25 @@ struct ew_stack {
   double surface_barrier_eV; /* Ec − E_F at the first face (Schottky-pinned surface) */
   int bias_given;          /* bias = …; a fixed applied bias between the two ends */
   double bias_V;           /* V(last face) − V(first face), volts */
+  /* designer's band offsets (stack.c, "Band offsets"): a top-level conduction_share for every
+     layer (< 0: not given; a layer's own key wins) against the layer offset_reference names
+     (index; the first layer by default) */
+  double conduction_share;
+  size_t offset_reference;
+  int offsets_set;         /* 1 when any layer was re-split (the outputs say so) */
 };
+
+/* One interface: between layers `first` and first + 1 (growth order) at z_nm, with the edges
+ * of each side at the interface (graded layers at their face; no field, no doping potential):
+ * dEc_eV = Ec(first) − Ec(second), dEv_eV = Ev_hh(second) − Ev_hh(first) (both > 0 when the
+ * first layer is the wider-gap side of a type-I interface; dEc + dEv is the difference of
+ * the two Γ–hh gaps) and conduction_share = dEc/(dEc + dEv) (NAN when the gaps are equal). */
+typedef struct {
+  size_t first;
+  double z_nm, dEc_eV, dEv_eV, conduction_share;
+} ew_interface;
+/* Interface k (0 <= k < n_layers − 1) of stack st. */
+void ew_stack_interface(const ew_stack *st, size_t k, ew_interface *out);
 
 /* Build and validate a stack from a libconfig tree that was parsed from a stack file and
  * possibly edited since (stack editing: set a value in the tree, then call this).  Errors

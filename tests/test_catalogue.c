@@ -88,7 +88,47 @@ static void test_added_review_values(void **state) {
           -1.4, 0.1, "Vurgaftman 2001, AlInAs a_c bowing (from memory)");
 }
 
+/* The X and L gaps added from the review (from memory): InP Eg_X = 2.384 eV − 0.37 meV/K · T
+ * (a linear law, beta_X = 0), InSb Eg_X = 0.63 eV and Eg_L = 0.93 eV with no temperature
+ * dependence; 1e-12 eV (the laws as written).  Second source: NSM archive, "Band structure and
+ * carrier concentration of Indium Phosphide" (http://matprop.ru/InP_bandstr): E_X − E_Γ =
+ * 0.96 eV and E_Γ = 1.421 eV at 0 K, i.e. 2.381 eV; tolerance 5 meV (its two printed values
+ * are rounded to 1 meV and 10 meV; at 300 K the two sources differ, see InP.cfg). */
+static void test_added_gaps(void **state) {
+  const ew_catalogue *cat = *state;
+  TU_NEAR(bands_ok(cat, "InP", 0, 0.0).Eg_X_eV, 2.384, 1e-12, "Vurgaftman 2001, InP X (from memory)");
+  TU_NEAR(bands_ok(cat, "InP", 0, 300.0).Eg_X_eV, 2.384 - 0.37e-3 * 300.0, 1e-12,
+          "Vurgaftman 2001, InP X linear in T (from memory)");
+  TU_NEAR(bands_ok(cat, "InP", 0, 0.0).Eg_X_eV, 1.421 + 0.96, 5e-3, "NSM InP band structure, 0 K");
+  assert_int_equal(bands_ok(cat, "InP", 0, 300.0).lowest_valley, 0);
+  for (int t = 0; t < 2; t++) {
+    ew_bands b = bands_ok(cat, "InSb", 0, t ? 300.0 : 0.0);
+    TU_NEAR(b.Eg_X_eV, 0.63, 1e-12, "Vurgaftman 2001, InSb X (from memory)");
+    TU_NEAR(b.Eg_L_eV, 0.93, 1e-12, "Vurgaftman 2001, InSb L (from memory)");
+  }
+}
+
 /* ---- cross-checks against second sources --------------------------------------------- */
+
+/* With InP's X gap, GaInP's Γ–X crossover (bisection on x of Eg_Γ = Eg_X at 0 K) against
+ * piezo- and electroreflectance ("On the Γ-Γ and Γ-X transitions of the GaxIn1−xP alloys",
+ * abstract at https://scilit.com/publications/5911aba1d62bcdef7481b29f4a4f4977): x = 0.69 at
+ * 2.32 eV below 10 K; tolerance 0.02 in x and 10 meV (the abstract's digits; the review's
+ * bowings are for the disordered alloy). */
+static void test_gainp_crossover(void **state) {
+  const ew_catalogue *cat = *state;
+  double lo = 0.5, hi = 0.9; /* Γ lowest at lo, X lowest at hi */
+  for (int it = 0; it < 50; it++) {
+    double mid = 0.5 * (lo + hi);
+    ew_bands b = bands_ok(cat, "GaInP", mid, 0.0);
+    if (b.Eg_G_eV < b.Eg_X_eV) lo = mid;
+    else hi = mid;
+  }
+  ew_bands b = bands_ok(cat, "GaInP", lo, 0.0);
+  print_message("GaInP Γ-X crossover at 0 K: x = %.3f, %.3f eV\n", lo, b.Eg_G_eV);
+  TU_NEAR(lo, 0.69, 0.02, "GaInP reflectance, Γ-X crossover below 10 K");
+  TU_NEAR(b.Eg_G_eV, 2.32, 0.01, "GaInP reflectance, crossover gap below 10 K");
+}
 
 /* Lattice constants at 300 K, Å (ew_lattice_nm gives nm). */
 static void test_lattice_constants(void **state) {
@@ -204,6 +244,7 @@ int main(void) {
       cmocka_unit_test(test_added_review_values), cmocka_unit_test(test_lattice_constants),
       cmocka_unit_test(test_permittivity),        cmocka_unit_test(test_elastic_constants),
       cmocka_unit_test(test_split_off_and_mass),  cmocka_unit_test(test_gaps_300K),
+      cmocka_unit_test(test_added_gaps),          cmocka_unit_test(test_gainp_crossover),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }

@@ -96,8 +96,9 @@ static void test_gaas_hole_masses(void **state) {
   CHECK_NEAR(b.mlh_z, 0.0901, 5e-4, "GaAs mlh_z ≈ 0.0901");
   CHECK_NEAR(b.mhh_par, 1.0 / (6.98 + 2.06), 1e-12, "GaAs mhh_par = 1/(γ1 + γ2)");
   CHECK_NEAR(b.mlh_par, 1.0 / (6.98 - 2.06), 1e-12, "GaAs mlh_par = 1/(γ1 − γ2)");
-  /* me = 0.067 m0 (Vurgaftman 2001); tolerance 1e-12 */
-  CHECK_NEAR(b.me, 0.067, 1e-12, "GaAs me, Vurgaftman 2001");
+  /* me = 0.067 m0 (Vurgaftman 2001) is the 0 K mass: checked at 0 K, tolerance 1e-12 (at
+   * T > 0 the band-edge mass follows Eg(T) through the Kane relation: test_physics.c) */
+  CHECK_NEAR(bands_ok(cat, "GaAs", 0, 0.0).me, 0.067, 1e-12, "GaAs me, Vurgaftman 2001");
 }
 
 static void test_algaas_gap(void **state) {
@@ -122,8 +123,9 @@ static void test_algaas_gap(void **state) {
   /* VBO linear (no bowing given in Vurgaftman 2001): 0.3·(−1.33) + 0.7·(−0.80) = −0.959 eV;
    * tolerance 1e-12 eV */
   CHECK_NEAR(h.Ev_eV, -0.959, 1e-12, "Al0.3Ga0.7As VBO, linear");
-  /* me linear: 0.3·0.15 + 0.7·0.067 = 0.0919 m0; tolerance 1e-12 */
-  CHECK_NEAR(h.me, 0.0919, 1e-12, "Al0.3Ga0.7As me, linear");
+  /* me linear: 0.3·0.15 + 0.7·0.067 = 0.0919 m0 at 0 K (the review's masses are 0 K values;
+   * at 300 K the Kane relation scales it with Eg(T): test_physics.c); tolerance 1e-12 */
+  CHECK_NEAR(b.me, 0.0919, 1e-12, "Al0.3Ga0.7As me(0 K), linear");
 }
 
 static void test_algaas_offset_split(void **state) {
