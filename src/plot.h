@@ -26,7 +26,7 @@
 
 /* Picture format from a file name: 's' for .svg, 'p' for .png (case-insensitive), 0 for
  * anything else. */
-int ew_plot_format(const char *path);
+/* int ew_plot_format(const char *path): public, in epiwell.h */
 
 /* EW_OK when path names a .svg or .png file that can be written: its directory exists and
  * is writable, and the path, if it exists, is a regular file.  EW_ERR_USAGE for another
