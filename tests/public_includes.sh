@@ -20,6 +20,11 @@ for f in $srcs; do
   else nok "$f includes only public headers" "non-public: $bad"; fi
 done
 
+# the public-API test uses epiwell.h alone too
+bad=$(sed -n 's/^[[:space:]]*#[[:space:]]*include[[:space:]]*"\([^"]*\)".*/\1/p' tests/test_public_api.c | grep -vx epiwell.h)
+if [ -z "$bad" ]; then ok "tests/test_public_api.c includes only epiwell.h"
+else nok "tests/test_public_api.c includes only epiwell.h" "non-public: $bad"; fi
+
 tmp=$(mktemp -d "${TMPDIR:-/tmp}/epiwell-inc.XXXXXX") || exit 1
 trap 'rm -rf "$tmp"' EXIT
 cp src/epiwell.h $srcs "$tmp"/
