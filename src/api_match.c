@@ -78,7 +78,8 @@ ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalo
                            const ew_options *opt, int threads, size_t samples, ew_error *err) {
   if (!mt || !stack_path || !cat) return NULL_ARG("ew_match_compute");
   if (mt->nr == 0 || mt->nl != mt->nr || mt->nt != mt->nr)
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "match needs one --line and one --target per --vary");
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "match needs one --line and one --target per --vary");
   if (mt->have_tol && mt->nr == 2)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--tolerance works with one --vary only");
   ew_wf_match_result_free(&mt->res);
@@ -97,9 +98,7 @@ ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalo
   return st;
 }
 
-size_t ew_match_solution_count(const ew_match *mt) {
-  return mt && mt->computed ? mt->res.n : 0;
-}
+size_t ew_match_solution_count(const ew_match *mt) { return mt && mt->computed ? mt->res.n : 0; }
 
 double ew_match_solution_value(const ew_match *mt, size_t i, size_t k) {
   if (!mt || !mt->computed || i >= mt->res.n || k >= mt->res.nkeys) return NAN;
@@ -114,8 +113,10 @@ static ew_status write_as(const ew_match *mt, FILE *out, int json, ew_error *err
   if (!mt || !out) return NULL_ARG(json ? "ew_match_write_json" : "ew_match_write_table");
   if (!mt->computed)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_match: nothing computed to write");
-  if (json) ew_wf_match_print_json(&mt->res, out);
-  else ew_wf_match_print(&mt->res, out);
+  if (json)
+    ew_wf_match_print_json(&mt->res, out);
+  else
+    ew_wf_match_print(&mt->res, out);
   return ferror(out) ? ew_fail(err, EW_ERR_IO, NULL, 0, "cannot write the match") : EW_OK;
 }
 

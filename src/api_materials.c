@@ -20,16 +20,15 @@ int ew_material_is_alloy(const ew_catalogue *cat, const char *name) {
   return cat && name ? ew_catalogue_is_alloy(cat, name) : -1;
 }
 
-ew_status ew_material_lattice_nm(const ew_catalogue *cat, const char *name, double x,
-                                 double y, double *a_nm, ew_error *err) {
+ew_status ew_material_lattice_nm(const ew_catalogue *cat, const char *name, double x, double y,
+                                 double *a_nm, ew_error *err) {
   if (!cat || !name || !a_nm) return NULL_ARG("ew_material_lattice_nm");
   return ew_lattice_nm(cat, name, x, y, a_nm, err);
 }
 
 ew_status ew_material_lattice_match(const ew_catalogue *cat, const char *name,
-                                    const char *substrate, double substrate_x,
-                                    double target_gap_eV, double T_K, double *x, double *y,
-                                    ew_error *err) {
+                                    const char *substrate, double substrate_x, double target_gap_eV,
+                                    double T_K, double *x, double *y, ew_error *err) {
   if (!cat || !name || !substrate || !x || !y) return NULL_ARG("ew_material_lattice_match");
   return ew_lattice_match(cat, name, substrate, substrate_x, target_gap_eV, T_K, x, y, err);
 }
@@ -46,6 +45,5 @@ ew_status ew_material_write(const ew_catalogue *cat, const char *name, double x,
 ew_status ew_catalogue_write(const ew_catalogue *cat, FILE *out, ew_error *err) {
   if (!cat || !out) return NULL_ARG("ew_catalogue_write");
   ew_catalogue_print(cat, out);
-  return ferror(out) ? ew_fail(err, EW_ERR_IO, NULL, 0, "cannot write the catalogue list")
-                     : EW_OK;
+  return ferror(out) ? ew_fail(err, EW_ERR_IO, NULL, 0, "cannot write the catalogue list") : EW_OK;
 }

@@ -2,8 +2,8 @@
  * an ew_atomic_file (atomic.c makes and names the temporary) behind an opaque handle. */
 #include <stdlib.h>
 
-#include "epiwell.h"
 #include "atomic.h"
+#include "epiwell.h"
 #include "error.h"
 
 struct ew_output_file {

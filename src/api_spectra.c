@@ -64,8 +64,7 @@ static ew_status write_csv_tmp(const ew_spectra *sp, const char *tmp, const char
   int bad = !f || ferror(f) != 0, e = errno;
   if (f && fclose(f) != 0 && !bad) bad = 1, e = errno;
   if (bad)
-    return ew_fail(err, EW_ERR_IO, NULL, 0, "--spectra: cannot write '%s': %s", path,
-                   strerror(e));
+    return ew_fail(err, EW_ERR_IO, NULL, 0, "--spectra: cannot write '%s': %s", path, strerror(e));
   return EW_OK;
 }
 

@@ -43,8 +43,7 @@ double ew_stack_layer_y(const ew_stack *st, size_t i) {
   return L && L->has_y ? L->y : NAN;
 }
 
-ew_status ew_stack_layer_index(const ew_stack *st, const char *name, size_t *index,
-                               ew_error *err) {
+ew_status ew_stack_layer_index(const ew_stack *st, const char *name, size_t *index, ew_error *err) {
   if (!st || !name || !index)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_stack_layer_index: NULL argument");
   for (size_t i = 0; i < st->n_layers; i++)

@@ -54,7 +54,8 @@ void ew_sweep_free(ew_sweep *sw) {
 
 ew_status ew_sweep_vary(ew_sweep *sw, const char *spec, ew_error *err) {
   if (!sw || !spec) return NULL_ARG("ew_sweep_vary");
-  if (sw->nr == 2) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary: at most two ranges (a grid)");
+  if (sw->nr == 2)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary: at most two ranges (a grid)");
   ew_status st = ew_wf_range_parse(spec, 1, "--vary", &sw->ranges[sw->nr], err);
   if (st == EW_OK) sw->nr++;
   return st;
@@ -98,15 +99,16 @@ const char *ew_sweep_plot_suffix(int k) {
   return k >= 0 && k < EW_SWEEP_PLOT_FILES ? EW_WF_PLOT_SUFFIX[k] : NULL;
 }
 
-ew_status ew_sweep_stage_plots(ew_sweep *sw, const char *path,
-                               int written[EW_SWEEP_PLOT_FILES], ew_error *err) {
+ew_status ew_sweep_stage_plots(ew_sweep *sw, const char *path, int written[EW_SWEEP_PLOT_FILES],
+                               ew_error *err) {
   if (!sw || !path) return NULL_ARG("ew_sweep_stage_plots");
   if (!sw->table.names)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0,
                    "ew_sweep_stage_plots: no rows kept (compute with keep_table = 1)");
   int w[EW_WF_PLOT_FILES] = {0};
   ew_status st = ew_wf_sweep_plot(&sw->table, path, &sw->pics, w, err);
-  for (int k = 0; written && k < EW_WF_PLOT_FILES; k++) written[k] = w[k];
+  for (int k = 0; written && k < EW_WF_PLOT_FILES; k++)
+    written[k] = w[k];
   return st;
 }
 

@@ -3,8 +3,8 @@
  * plot.c, report.c, output_set.c and chart_file.c. */
 #include <stdio.h>
 
-#include "epiwell.h"
 #include "chart_file.h"
+#include "epiwell.h"
 #include "error.h"
 #include "output.h"
 #include "output_set.h"
@@ -30,8 +30,7 @@ ew_status ew_result_write_json(const ew_result *res, FILE *out, ew_error *err) {
   return stream_ok(out, "result JSON", err);
 }
 
-ew_status ew_result_write_csv_dir(const ew_result *res, const char *dir, int gzip,
-                                  ew_error *err) {
+ew_status ew_result_write_csv_dir(const ew_result *res, const char *dir, int gzip, ew_error *err) {
   if (!res || !dir) return NULL_ARG("ew_result_write_csv_dir");
   return ew_output_csv_dir(res, dir, gzip, err);
 }
@@ -46,8 +45,8 @@ ew_status ew_result_write_band_diagram_svg(const ew_result *res, FILE *out, ew_e
   return ew_plot_band_diagram_svg(res, out, err);
 }
 
-ew_status ew_result_write_report(const ew_result *res, const ew_catalogue *cat,
-                                 const char *dir, ew_error *err) {
+ew_status ew_result_write_report(const ew_result *res, const ew_catalogue *cat, const char *dir,
+                                 ew_error *err) {
   if (!res || !dir) return NULL_ARG("ew_result_write_report");
   return ew_report_write(res, cat, dir, err);
 }

@@ -114,7 +114,8 @@ static int mat_check(const ew_catalogue *cat, const mat_opt *o) {
   if (why)
     return ew_cli_bad(usage, "%s%s %s", what == o->substrate ? "--substrate " : "", what, why);
   if (o->match && (!o->name || !o->substrate))
-    return ew_cli_bad(usage, "%s", "--lattice-match and --match-gap need a material NAME and --substrate");
+    return ew_cli_bad(usage, "%s",
+                      "--lattice-match and --match-gap need a material NAME and --substrate");
   return 0;
 }
 
@@ -173,7 +174,8 @@ static int solve_spectra_value(const char *a, const char *v, solve_opt *o) {
     o->spectra = v;
   } else if (!strcmp(a, "--spectra-plot")) {
     if (!ew_plot_format(v))
-      return ew_cli_bad(usage, "--spectra-plot wants a file name ending in .svg or .png, got %s", v);
+      return ew_cli_bad(usage, "--spectra-plot wants a file name ending in .svg or .png, got %s",
+                        v);
     o->spectra_plot = v;
   } else if (!strcmp(a, "--angle")) {
     if (!parse_num(v, &o->angle) || o->angle < 0 || o->angle >= 90)
@@ -194,7 +196,8 @@ static int solve_value(const char *a, const char *v, solve_opt *o) {
       !strcmp(a, "--index"))
     return solve_spectra_value(a, v, o);
   if (!strcmp(a, "-o")) {
-    if (!v[0]) return ew_cli_bad(usage, "%s", "-o wants a directory name, got an empty one"); /* robustness */
+    if (!v[0]) /* robustness */
+      return ew_cli_bad(usage, "%s", "-o wants a directory name, got an empty one");
     o->outdir = v;
   } else if (!strcmp(a, "--plot")) {
     if (!ew_plot_format(v))

@@ -283,8 +283,9 @@ static int sweep_run(sweep_cmd *s) {
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
       ew_sweep_open(s->sw, s->path, cat, &s->c.solve, &err) != EW_OK) {
     rc = report(&err);
-  } else if (s->csv_path && ew_output_file_open(s->csv_path, &csv_file, &err) != EW_OK) {
-    ew_cli_prefix(&err, "--csv");
+  } else if (s->csv_path && (ew_data_path_check(s->csv_path, "--csv", &err) != EW_OK ||
+                              ew_output_file_open(s->csv_path, &csv_file, &err) != EW_OK)) {
+    if (!strstr(err.message, "--csv")) ew_cli_prefix(&err, "--csv");
     rc = report(&err);
   } else if (!mem_open(&out)) {
     ew_output_file_abort(csv_file);

@@ -37,9 +37,9 @@ typedef struct jval {
   double num;
   int b;
   char *str;
-  size_t n;           /* array / object members */
-  struct jval *item;  /* [n] */
-  char **key;         /* [n] for objects */
+  size_t n;          /* array / object members */
+  struct jval *item; /* [n] */
+  char **key;        /* [n] for objects */
 } jval;
 
 static void jfree(jval *v) {
@@ -53,7 +53,8 @@ static void jfree(jval *v) {
 }
 
 static void jskip(const char **p) {
-  while (**p == ' ' || **p == '\n' || **p == '\t' || **p == '\r') ++*p;
+  while (**p == ' ' || **p == '\n' || **p == '\t' || **p == '\r')
+    ++*p;
 }
 
 static int jparse(const char **p, jval *v);
@@ -167,7 +168,8 @@ static char *slurp(const char *path) {
   size_t len = 0;
   FILE *m = open_memstream(&buf, &len);
   int c;
-  while ((c = fgetc(f)) != EOF) fputc(c, m);
+  while ((c = fgetc(f)) != EOF)
+    fputc(c, m);
   fclose(f);
   fclose(m);
   return buf;
@@ -228,8 +230,10 @@ static void layers_match_file(void **state) {
       assert_true(ew_stack_layer_thickness_nm(st, i) == strtod(th, NULL));
       assert_true(fabs(ew_stack_layer_start_nm(st, i) - z) < 1e-12);
       z += strtod(th, NULL);
-      if (line_value(line, "x", x, sizeof x)) assert_true(ew_stack_layer_x(st, i) == strtod(x, NULL));
-      else assert_true(isnan(ew_stack_layer_x(st, i)));
+      if (line_value(line, "x", x, sizeof x))
+        assert_true(ew_stack_layer_x(st, i) == strtod(x, NULL));
+      else
+        assert_true(isnan(ew_stack_layer_x(st, i)));
       size_t idx = SIZE_MAX;
       assert_int_equal(ew_stack_layer_index(st, name, &idx, &err), EW_OK);
       assert_int_equal(idx, i);
@@ -283,7 +287,8 @@ static void json_lines(const jval *doc, const ew_result *res) {
   for (size_t i = 0; i < t->n; i++) {
     const ew_line *l = ew_result_line(res, i);
     const jval *o = &t->item[i];
-    assert_string_equal(jstr(o, "kind"), l->kind == EW_LINE_INTERBAND ? "interband" : "intersubband");
+    assert_string_equal(jstr(o, "kind"),
+                        l->kind == EW_LINE_INTERBAND ? "interband" : "intersubband");
     assert_string_equal(jstr(o, "upper"), ew_result_state(res, l->upper)->label);
     assert_string_equal(jstr(o, "lower"), ew_result_state(res, l->lower)->label);
     NEAR10(jnum(o, "energy_eV"), l->energy_eV);
@@ -361,7 +366,8 @@ static void spectra_csv_grid(void **state) {
   ew_result *res = solve_file(EXAMPLES[0], &st); /* no sheet_density: interband only */
   ew_spectra *sp = NULL;
   ew_error err;
-  assert_int_equal(ew_spectra_compute(res, EW_WF_DEFAULT_ANGLE_DEG, EW_WF_DEFAULT_INDEX, &sp, &err), EW_OK);
+  assert_int_equal(ew_spectra_compute(res, EW_WF_DEFAULT_ANGLE_DEG, EW_WF_DEFAULT_INDEX, &sp, &err),
+                   EW_OK);
   assert_string_equal(ew_spectra_note(sp, 0), "");
   assert_non_null(strstr(ew_spectra_note(sp, 1), "sheet_density"));
   char *buf = NULL;
@@ -371,7 +377,8 @@ static void spectra_csv_grid(void **state) {
   fclose(m);
   assert_memory_equal(buf, "E_eV,interband_rel,intersubband_fraction\n", 41);
   size_t rows = 0;
-  for (const char *p = buf; *p; p++) rows += *p == '\n';
+  for (const char *p = buf; *p; p++)
+    rows += *p == '\n';
   assert_int_equal(rows - 1, 2001);
   double lowest_pl = INFINITY;
   for (size_t i = 0; i < ew_result_line_count(res); i++) {
@@ -390,12 +397,13 @@ static void spectra_csv_grid(void **state) {
 /* examples/detector_well.cfg with the well's thickness set to w_nm. */
 static ew_result *solve_detector_at(double w_nm, ew_stack **st) {
   char text[1024];
-  snprintf(text, sizeof text,
-           "temperature = 77.0;\nlayers = (\n"
-           "  { name = \"lower_barrier\"; material = \"AlGaAs\"; x = 0.28; thickness = 30.0; },\n"
-           "  { name = \"well\"; material = \"GaAs\"; thickness = %.17g; },\n"
-           "  { name = \"upper_barrier\"; material = \"AlGaAs\"; x = 0.28; thickness = 30.0; }\n);\n",
-           w_nm);
+  snprintf(
+      text, sizeof text,
+      "temperature = 77.0;\nlayers = (\n"
+      "  { name = \"lower_barrier\"; material = \"AlGaAs\"; x = 0.28; thickness = 30.0; },\n"
+      "  { name = \"well\"; material = \"GaAs\"; thickness = %.17g; },\n"
+      "  { name = \"upper_barrier\"; material = \"AlGaAs\"; x = 0.28; thickness = 30.0; }\n);\n",
+      w_nm);
   ew_error err;
   assert_int_equal(ew_stack_read_string(text, "detector_at", cat, st, &err), EW_OK);
   ew_options opt;
@@ -475,6 +483,45 @@ static void match_solution_hits_target(void **state) {
   ew_match_free(mt);
 }
 
+/* The ladder of the well: widths nominal ± whole GaAs monolayers (a/2, a = 0.565325 nm at
+ * 300 K, Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), Table I), and its e1-e2 energies
+ * those of separate solves at those widths. */
+static void ladder_json_is_separate_solves(void **state) {
+  (void)state;
+  ew_tolerance *t = NULL;
+  ew_error err;
+  assert_int_equal(ew_tolerance_compute(EXAMPLES[0], cat, NULL, 0, "well", 1, &t, &err), EW_OK);
+  char *buf = NULL;
+  size_t len = 0;
+  FILE *m = open_memstream(&buf, &len);
+  assert_int_equal(ew_tolerance_write_json(t, m, &err), EW_OK);
+  fclose(m);
+  const char *p = buf;
+  jval doc;
+  assert_int_equal(jparse(&p, &doc), 0);
+  assert_string_equal(jstr(&doc, "layer"), "well");
+  const jval *th = jget(&doc, "thickness_nm"), *lines = jget(&doc, "lines");
+  assert_int_equal(th->n, 5);
+  const jval *e12 = NULL;
+  for (size_t i = 0; i < lines->n; i++)
+    if (!strcmp(jstr(&lines->item[i], "name"), "e1-e2")) e12 = jget(&lines->item[i], "energy_eV");
+  assert_non_null(e12);
+  for (int k = 0; k < 5; k++) {
+    double w = 6.2 + (k - 2) * 0.565325 / 2;
+    assert_true(fabs(th->item[k].num - w) < 1e-9);
+    if (k == 1 || k == 2) { /* two widths suffice: the solve is the same code for all five */
+      ew_stack *st = NULL;
+      ew_result *res = solve_detector_at(th->item[k].num, &st);
+      NEAR10(e12->item[k].num, level_eV(res, "e2") - level_eV(res, "e1"));
+      ew_result_free(res);
+      ew_stack_free(st);
+    }
+  }
+  jfree(&doc);
+  free(buf);
+  ew_tolerance_free(t);
+}
+
 /* ---- an output file appears whole or not at all ---------------------------------------- */
 static size_t dir_entries(const char *dir) {
   char cmd[600];
@@ -506,7 +553,7 @@ static void output_file_commit_and_abort(void **state) {
   text = slurp(path);
   assert_string_equal(text, "a,b\n1,2\n"); /* previous content kept */
   free(text);
-  assert_int_equal(dir_entries(dir), 1);   /* and no temporary left */
+  assert_int_equal(dir_entries(dir), 1); /* and no temporary left */
   snprintf(path, sizeof path, "%s/no/such/dir/x.csv", dir);
   assert_int_equal(ew_output_file_open(path, &f, &err), EW_ERR_IO);
   assert_null(f);
@@ -520,7 +567,8 @@ static void materials_queries(void **state) {
   size_t n = ew_catalogue_material_count(cat);
   assert_true(n > 0);
   int seen_gaas = 0;
-  for (size_t i = 0; i < n; i++) seen_gaas |= !strcmp(ew_catalogue_material_name(cat, i), "GaAs");
+  for (size_t i = 0; i < n; i++)
+    seen_gaas |= !strcmp(ew_catalogue_material_name(cat, i), "GaAs");
   assert_true(seen_gaas);
   assert_null(ew_catalogue_material_name(cat, n));
   assert_int_equal(ew_material_is_alloy(cat, "GaAs"), 0);
@@ -532,7 +580,8 @@ static void materials_queries(void **state) {
   /* GaAs a = 0.565325 nm at 300 K (Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), Table I) */
   assert_true(fabs(a - 0.565325) < 1e-5);
   double x = NAN, y = NAN;
-  assert_int_equal(ew_material_lattice_match(cat, "InGaAs", "InP", 0, NAN, 300, &x, &y, &err), EW_OK);
+  assert_int_equal(ew_material_lattice_match(cat, "InGaAs", "InP", 0, NAN, 300, &x, &y, &err),
+                   EW_OK);
   /* In0.53Ga0.47As is the InP-matched composition (common practice) */
   assert_true(fabs(x - 0.53) < 0.01);
   char *buf = NULL;
@@ -568,7 +617,8 @@ static void null_arguments_are_errors(void **state) {
   assert_int_equal(ew_material_is_alloy(cat, NULL), -1);
   assert_int_equal(ew_material_lattice_nm(cat, NULL, 0, 0, &d, &err), EW_ERR_USAGE);
   assert_int_equal(ew_material_lattice_nm(cat, "GaAs", 0, 0, NULL, &err), EW_ERR_USAGE);
-  assert_int_equal(ew_material_lattice_match(NULL, "InGaAs", "InP", 0, NAN, 300, &d, &d, &err), EW_ERR_USAGE);
+  assert_int_equal(ew_material_lattice_match(NULL, "InGaAs", "InP", 0, NAN, 300, &d, &d, &err),
+                   EW_ERR_USAGE);
   assert_int_equal(ew_material_write(cat, "GaAs", 0, 0, 300, 0, NULL, &err), EW_ERR_USAGE);
   assert_int_equal(ew_catalogue_write(NULL, m, &err), EW_ERR_USAGE);
   assert_int_equal(ew_stack_layer_count(NULL), 0);
@@ -630,9 +680,13 @@ static void null_arguments_are_errors(void **state) {
   ew_tolerance *t = (ew_tolerance *)&t;
   assert_int_equal(ew_tolerance_compute(NULL, cat, NULL, 0.01, NULL, 1, &t, &err), EW_ERR_USAGE);
   assert_null(t);
-  assert_int_equal(ew_tolerance_compute(EXAMPLES[0], cat, NULL, 0.01, NULL, 1, NULL, &err), EW_ERR_USAGE);
+  assert_int_equal(ew_tolerance_compute(EXAMPLES[0], cat, NULL, 0.01, NULL, 1, NULL, &err),
+                   EW_ERR_USAGE);
   assert_int_equal(ew_tolerance_write_table(NULL, m, &err), EW_ERR_USAGE);
   assert_int_equal(ew_tolerance_write_json(NULL, m, &err), EW_ERR_USAGE);
+  assert_int_equal(ew_tolerance_compute(EXAMPLES[0], cat, NULL, 0, NULL, 1, &t, &err),
+                   EW_ERR_USAGE);
+  assert_null(t);
   ew_tolerance_free(NULL);
   fclose(m);
 }
@@ -645,6 +699,7 @@ int main(void) {
       cmocka_unit_test(spectra_csv_grid),
       cmocka_unit_test(sweep_point_is_a_solve),
       cmocka_unit_test(match_solution_hits_target),
+      cmocka_unit_test(ladder_json_is_separate_solves),
       cmocka_unit_test(output_file_commit_and_abort),
       cmocka_unit_test(materials_queries),
       cmocka_unit_test(null_arguments_are_errors),
