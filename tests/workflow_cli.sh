@@ -73,6 +73,10 @@ check "sweep: an invalid stack value fails with exit 2, nothing on stdout" \
   sh -c "[ $rc -eq 2 ] && [ ! -s '$tmp/out' ] && grep -q 'well.thickness = -1' '$tmp/err'"
 run "$bin" sweep $det --vary well.thickness=4:5:1 --csv "$tmp/no/such/dir/x.csv"
 check "sweep: unwritable --csv fails with exit 5" [ "$rc" -eq 5 ]
+mkfifo "$tmp/fifo"
+run "$bin" sweep $det --vary well.thickness=4:5:1 --csv "$tmp/fifo"
+check "sweep: --csv on a FIFO (not a regular file) is refused with exit 5, the FIFO kept" \
+  sh -c "[ $rc -eq 5 ] && grep -q -- '--csv' '$tmp/err' && [ -p '$tmp/fifo' ]"
 run "$bin" sweep $det --vary well.thickness=4:5:1 --shard 4/3
 check "sweep: --shard 4/3 refused (exit 1)" sh -c "[ $rc -eq 1 ] && grep -q -- '--shard' '$tmp/err'"
 
