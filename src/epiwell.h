@@ -304,8 +304,8 @@ void ew_output_file_abort(ew_output_file *f); /* NULL is a no-op */
  * in the mid-infrared): the intersubband default. */
 #define EW_WF_DEFAULT_INDEX 3.3
 typedef struct ew_spectra ew_spectra;
-/* Interband and intersubband spectra of res (res must outlive nothing: the spectra are
- * copied) at internal angle theta_deg ∈ [0, 90) and refractive index n_refr > 0. */
+/* Interband and intersubband spectra of res at internal angle theta_deg ∈ [0, 90) and
+ * refractive index n_refr > 0 (EW_ERR_USAGE otherwise).  *out keeps no pointer into res. */
 ew_status ew_spectra_compute(const ew_result *res, double theta_deg, double n_refr,
                              ew_spectra **out, ew_error *err);
 void ew_spectra_free(ew_spectra *sp); /* also removes temporaries not committed */

@@ -359,6 +359,35 @@ static void table_names_layers_and_levels(void **state) {
   ew_stack_free(st);
 }
 
+/* The band diagram (SVG to a memory stream) labels every layer and every level with its
+ * energy to 0.1 meV (U+2212 for the minus sign, as the picture writes it). */
+static void band_diagram_svg_labels_levels(void **state) {
+  (void)state;
+  ew_stack *st = NULL;
+  ew_result *res = solve_file(EXAMPLES[0], &st);
+  char *buf = NULL;
+  size_t len = 0;
+  FILE *m = open_memstream(&buf, &len);
+  assert_int_equal(ew_result_write_band_diagram_svg(res, m, NULL), EW_OK);
+  fclose(m);
+  assert_memory_equal(buf, "<svg", 4);
+  for (size_t i = 0; i < ew_stack_layer_count(st); i++)
+    assert_non_null(strstr(buf, ew_stack_layer_name(st, i)));
+  for (size_t i = 0; i < ew_result_state_count(res); i++) {
+    double E = ew_result_state(res, i)->energy_eV;
+    char label[64];
+    snprintf(label, sizeof label, ">%s%.4f eV<", E < 0 ? "\xe2\x88\x92" : "", fabs(E));
+    if (!strstr(buf, label)) {
+      print_error("level %s: no label %s in the band diagram\n", ew_result_state(res, i)->label,
+                  label);
+      fail();
+    }
+  }
+  free(buf);
+  ew_result_free(res);
+  ew_stack_free(st);
+}
+
 /* ---- spectra: the grid rule of the usage text ------------------------------------------ */
 static void spectra_csv_grid(void **state) {
   (void)state;
@@ -484,8 +513,8 @@ static void match_solution_hits_target(void **state) {
 }
 
 /* The ladder of the well: widths nominal ± whole GaAs monolayers (a/2, a = 0.565325 nm at
- * 300 K, Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), Table I), and its e1-e2 energies
- * those of separate solves at those widths. */
+ * 300 K, Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), Table I; from memory), and its
+ * e1-e2 energies those of separate solves at those widths. */
 static void ladder_json_is_separate_solves(void **state) {
   (void)state;
   ew_tolerance *t = NULL;
@@ -577,7 +606,8 @@ static void materials_queries(void **state) {
   double a = 0;
   ew_error err;
   assert_int_equal(ew_material_lattice_nm(cat, "GaAs", 0, 0, &a, &err), EW_OK);
-  /* GaAs a = 0.565325 nm at 300 K (Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), Table I) */
+  /* GaAs a = 0.565325 nm at 300 K (Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), Table I;
+   * from memory) */
   assert_true(fabs(a - 0.565325) < 1e-5);
   double x = NAN, y = NAN;
   assert_int_equal(ew_material_lattice_match(cat, "InGaAs", "InP", 0, NAN, 300, &x, &y, &err),
@@ -696,6 +726,7 @@ int main(void) {
       cmocka_unit_test(layers_match_file),
       cmocka_unit_test(json_matches_accessors),
       cmocka_unit_test(table_names_layers_and_levels),
+      cmocka_unit_test(band_diagram_svg_labels_levels),
       cmocka_unit_test(spectra_csv_grid),
       cmocka_unit_test(sweep_point_is_a_solve),
       cmocka_unit_test(match_solution_hits_target),
