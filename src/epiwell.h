@@ -272,7 +272,8 @@ ew_status ew_result_write_report(const ew_result *res, const ew_catalogue *cat,
                                  const char *dir, ew_error *err);
 
 /* ---- output paths, checked before any work (api_write.c) ------------------------------ */
-/* Picture format from a file name: 's' for .svg, 'p' for .png, 0 otherwise (NULL: 0; plot.c). */
+/* Picture format from a file name: 's' for .svg, 'p' for .png (case-insensitive), 0 otherwise
+ * (NULL: 0).  In plot.c. */
 int ew_plot_format(const char *path);
 /* EW_OK when dir is a writable directory, or missing with a writable parent (not created). */
 ew_status ew_output_dir_check(const char *dir, ew_error *err);
