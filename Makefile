@@ -74,7 +74,9 @@ demo: deps
 	@$(MAKE) --no-print-directory $(BUILD)/epiwell
 	$(BUILD)/epiwell solve examples/detector_well.cfg
 
+# public_includes.sh first: the command must be a client of epiwell.h alone (issue 11)
 check: deps-check
+	@CC='$(CC)' sh tests/public_includes.sh
 	@$(MAKE) --no-print-directory $(BUILD)/epiwell $(TESTS)
 	@sh tests/run_all.sh $(BUILD)
 

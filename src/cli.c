@@ -1,5 +1,7 @@
 /* cli.c — the epiwell command: a thin layer that parses options, calls the library and maps
- * status codes to exit codes.  The only place that decides what goes to stdout/stderr. */
+ * status codes to exit codes.  The only place that decides what goes to stdout/stderr.  Uses
+ * the public API only (epiwell.h; tests/public_includes.sh checks it).  Each command is an
+ * options struct and its steps: parse, check (before any work), run, write. */
 #include <errno.h>
 #ifdef __GLIBC__
 #include <malloc.h>
@@ -11,11 +13,6 @@
 
 #include "cli_common.h"
 #include "epiwell.h"
-#include "materials.h"
-#include "output.h"
-#include "plot.h"
-#include "report.h"
-#include "workflow.h" /* absorption spectra (solve --spectra) */
 
 static const char usage[] =
     "usage:\n"
@@ -46,226 +43,296 @@ static const char usage[] =
 static int report(const ew_error *err) { return ew_cli_report(err); }
 static int parse_num(const char *s, double *v) { return ew_cli_parse_num(s, v); }
 
-static int cmd_materials(int argc, char **argv) {
-  const char *name = NULL, *substrate = NULL;
-  double x = 0.0, y = 0.0, T = 300.0, sx = 0.0, gap = 0.0;
-  int match = 0, given_x = 0, given_sx = 0;
+/* ---- materials ------------------------------------------------------------------------- */
+typedef struct {
+  const char *name, *substrate;
+  double x, y, T, sx, gap;
+  int match, given_x, given_sx;
+} mat_opt;
+
+/* One option of `materials` at argv[*i] (its value consumed); 0 or a usage exit code. */
+static int mat_option(int argc, char **argv, int *i, mat_opt *o) {
+  const char *a = argv[*i];
+  if (!strcmp(a, "--x") || !strcmp(a, "--y") || !strcmp(a, "--temperature") ||
+      !strcmp(a, "--substrate-x")) {
+    if (*i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
+    double *dst = !strcmp(a, "--x") ? &o->x : !strcmp(a, "--y") ? &o->y
+                  : !strcmp(a, "--temperature") ? &o->T : &o->sx;
+    if (!parse_num(argv[*i + 1], dst)) return ew_cli_bad(usage, "not a number: %s", argv[*i + 1]);
+    if (dst == &o->x || dst == &o->y) o->given_x = 1;
+    if (dst == &o->sx) o->given_sx = 1;
+    ++*i;
+  } else if (!strcmp(a, "--substrate")) {
+    if (*i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
+    o->substrate = argv[++*i];
+  } else if (!strcmp(a, "--lattice-match")) {
+    o->match = 1;
+    if (!(o->gap > 0)) o->gap = NAN; /* ternaries: the composition alone */
+  } else if (!strcmp(a, "--match-gap")) {
+    if (*i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
+    if (!parse_num(argv[*i + 1], &o->gap) || o->gap <= 0)
+      return ew_cli_bad(usage, "--match-gap wants a gap in eV, got %s", argv[*i + 1]);
+    o->match = 1;
+    ++*i;
+  } else if (a[0] == '-') {
+    return ew_cli_bad(usage, "unknown option %s", a);
+  } else if (!o->name) {
+    o->name = a;
+  } else {
+    return ew_cli_bad(usage, "unexpected argument %s", a);
+  }
+  return 0;
+}
+
+static int mat_parse(int argc, char **argv, mat_opt *o) {
+  memset(o, 0, sizeof *o);
+  o->T = 300.0;
   for (int i = 0; i < argc; i++) {
-    const char *a = argv[i];
-    if (!strcmp(a, "--x") || !strcmp(a, "--y") || !strcmp(a, "--temperature") ||
-        !strcmp(a, "--substrate-x")) {
-      if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
-      double *dst = !strcmp(a, "--x") ? &x : !strcmp(a, "--y") ? &y
-                    : !strcmp(a, "--temperature") ? &T : &sx;
-      if (!parse_num(argv[i + 1], dst)) return ew_cli_bad(usage, "not a number: %s", argv[i + 1]);
-      if (dst == &x || dst == &y) given_x = 1;
-      if (dst == &sx) given_sx = 1;
-      i++;
-    } else if (!strcmp(a, "--substrate")) {
-      if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
-      substrate = argv[++i];
-    } else if (!strcmp(a, "--lattice-match")) {
-      match = 1;
-      if (!(gap > 0)) gap = NAN; /* ternaries: the composition alone */
-    } else if (!strcmp(a, "--match-gap")) {
-      if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
-      if (!parse_num(argv[i + 1], &gap) || gap <= 0)
-        return ew_cli_bad(usage, "--match-gap wants a gap in eV, got %s", argv[i + 1]);
-      match = 1;
-      i++;
-    } else if (a[0] == '-') {
-      return ew_cli_bad(usage, "unknown option %s", a);
-    } else if (!name) {
-      name = a;
-    } else {
-      return ew_cli_bad(usage, "unexpected argument %s", a);
-    }
+    int rc = mat_option(argc, argv, &i, o);
+    if (rc) return rc;
   }
   /* option values are checked here so that a bad one is a usage error naming the option */
-  if (x < 0 || x > 1) return ew_cli_bad(usage, "--x wants a composition in [0, 1]%s", "");
-  if (y < 0 || y > 1) return ew_cli_bad(usage, "--y wants a composition in [0, 1]%s", "");
-  if (sx < 0 || sx > 1) return ew_cli_bad(usage, "--substrate-x wants a composition in [0, 1]%s", "");
-  if (T < 0 || T > 1500) return ew_cli_bad(usage, "--temperature wants kelvin in [0, 1500]%s", "");
+  if (o->x < 0 || o->x > 1) return ew_cli_bad(usage, "--x wants a composition in [0, 1]%s", "");
+  if (o->y < 0 || o->y > 1) return ew_cli_bad(usage, "--y wants a composition in [0, 1]%s", "");
+  if (o->sx < 0 || o->sx > 1)
+    return ew_cli_bad(usage, "--substrate-x wants a composition in [0, 1]%s", "");
+  if (o->T < 0 || o->T > 1500)
+    return ew_cli_bad(usage, "--temperature wants kelvin in [0, 1500]%s", "");
+  return 0;
+}
+
+/* The composition flags must fit the materials named (the stack file's rules): an alloy
+ * needs its x, a binary takes none. */
+static int mat_check(const ew_catalogue *cat, const mat_opt *o) {
+  const char *why = NULL, *what = NULL;
+  if (o->substrate && !o->given_sx && ew_material_is_alloy(cat, o->substrate) > 0)
+    why = "is an alloy: give its composition with --substrate-x", what = o->substrate;
+  else if (o->substrate && o->given_sx && ew_material_is_alloy(cat, o->substrate) == 0)
+    why = "is a binary: it takes no --substrate-x", what = o->substrate;
+  else if (o->name && o->given_x && ew_material_is_alloy(cat, o->name) == 0)
+    why = "is a binary: it takes no --x or --y", what = o->name;
+  if (why)
+    return ew_cli_bad(usage, "%s%s %s", what == o->substrate ? "--substrate " : "", what, why);
+  if (o->match && (!o->name || !o->substrate))
+    return ew_cli_bad(usage, "%s",
+                      "--lattice-match and --match-gap need a material NAME and --substrate");
+  return 0;
+}
+
+static int mat_run(const ew_catalogue *cat, mat_opt *o) {
+  ew_error err = {0};
+  double a_sub = 0.0;
+  if (o->substrate && ew_material_lattice_nm(cat, o->substrate, o->sx, 0.0, &a_sub, &err) != EW_OK)
+    return report(&err);
+  if (o->match) {
+    /* the composition lattice-matched to the substrate with the requested Γ gap at T */
+    if (ew_material_lattice_match(cat, o->name, o->substrate, o->sx, o->gap, o->T, &o->x,
+                                  &o->y, &err) != EW_OK)
+      return report(&err);
+    if (isnan(o->gap))
+      printf("%s lattice-matched to %s: x = %.5f\n\n", o->name, o->substrate, o->x);
+    else
+      printf("%s lattice-matched to %s with a Γ gap of %g eV at %g K: x = %.5f, y = %.5f\n\n",
+             o->name, o->substrate, o->gap, o->T, o->x, o->y);
+  }
+  if (!o->name) {
+    ew_catalogue_write(cat, stdout, NULL);
+    return 0;
+  }
+  if (ew_material_write(cat, o->name, o->x, o->y, o->T, a_sub, stdout, &err) != EW_OK)
+    return report(&err);
+  return 0;
+}
+
+static int cmd_materials(int argc, char **argv) {
+  mat_opt o;
+  int rc = mat_parse(argc, argv, &o);
+  if (rc) return rc;
   ew_catalogue *cat = NULL;
   ew_error err = {0};
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK) return report(&err);
-  int rc = 0;
-  double a_sub = 0.0;
-  /* the stack file's rules: an alloy substrate needs its x, a binary takes none */
-  /* The composition flags must fit the materials named: an alloy needs its x, a binary none. */
-  const char *why = NULL, *what = NULL;
-  if (substrate && !given_sx && ew_catalogue_is_alloy(cat, substrate) > 0)
-    why = "is an alloy: give its composition with --substrate-x", what = substrate;
-  else if (substrate && given_sx && ew_catalogue_is_alloy(cat, substrate) == 0)
-    why = "is a binary: it takes no --substrate-x", what = substrate;
-  else if (name && given_x && ew_catalogue_is_alloy(cat, name) == 0)
-    why = "is a binary: it takes no --x or --y", what = name;
-  if (why) {
-    ew_catalogue_free(cat);
-    return ew_cli_bad(usage, "%s%s %s", what == substrate ? "--substrate " : "", what, why);
-  }
-  if (match && (!name || !substrate)) {
-    ew_catalogue_free(cat);
-    return ew_cli_bad(usage, "%s", "--lattice-match and --match-gap need a material NAME and --substrate");
-  }
-  if (substrate && ew_lattice_nm(cat, substrate, sx, 0.0, &a_sub, &err) != EW_OK) {
-    rc = report(&err);
-  } else if (match) {
-    /* the composition lattice-matched to the substrate with the requested Γ gap at T */
-    if (ew_lattice_match(cat, name, substrate, sx, gap, T, &x, &y, &err) != EW_OK) {
-      rc = report(&err);
-    } else {
-      if (isnan(gap))
-        printf("%s lattice-matched to %s: x = %.5f\n\n", name, substrate, x);
-      else
-        printf("%s lattice-matched to %s with a Γ gap of %g eV at %g K: x = %.5f, y = %.5f\n\n",
-               name, substrate, gap, T, x, y);
-      if (ew_material_print_on(cat, name, x, y, T, a_sub, stdout, &err) != EW_OK) rc = report(&err);
-    }
-  } else if (!name) {
-    ew_catalogue_print(cat, stdout);
-  } else if (ew_material_print_on(cat, name, x, y, T, a_sub, stdout, &err) != EW_OK) {
-    rc = report(&err);
-  }
+  rc = mat_check(cat, &o);
+  if (!rc) rc = mat_run(cat, &o);
   ew_catalogue_free(cat);
   /* a name or composition the catalogue refuses came from the command line, not a file */
   return rc == EW_ERR_INPUT ? EW_ERR_USAGE : rc;
 }
 
-static int cmd_solve(int argc, char **argv) {
-  const char *path = NULL, *outdir = NULL, *plot = NULL, *repdir = NULL;
-  const char *spectra = NULL, *spectra_plot = NULL, *angle_opt = NULL, *index_opt = NULL;
-  double angle = EW_WF_DEFAULT_ANGLE_DEG, index = EW_WF_DEFAULT_INDEX;
-  int json = 0, gzip = -1;
+/* ---- solve ----------------------------------------------------------------------------- */
+typedef struct {
+  const char *path, *outdir, *plot, *repdir;
+  const char *spectra, *spectra_plot, *angle_opt, *index_opt;
+  double angle, index;
+  int json, gzip;
   ew_options opt;
-  ew_options_default(&opt);
+} solve_opt;
+
+/* The spectra options' values; 0 or a usage exit code. */
+static int solve_spectra_value(const char *a, const char *v, solve_opt *o) {
+  if (!strcmp(a, "--spectra")) {
+    if (!v[0]) return ew_cli_bad(usage, "%s", "--spectra wants a file name, got an empty one");
+    o->spectra = v;
+  } else if (!strcmp(a, "--spectra-plot")) {
+    if (!ew_plot_format(v))
+      return ew_cli_bad(usage, "--spectra-plot wants a file name ending in .svg or .png, got %s",
+                        v);
+    o->spectra_plot = v;
+  } else if (!strcmp(a, "--angle")) {
+    if (!parse_num(v, &o->angle) || o->angle < 0 || o->angle >= 90)
+      return ew_cli_bad(usage, "--angle wants the internal angle to the growth axis in degrees, "
+                       "in [0, 90), got %s", v);
+    o->angle_opt = a;
+  } else {
+    if (!parse_num(v, &o->index) || o->index <= 0 || o->index > 100)
+      return ew_cli_bad(usage, "--index wants a refractive index in (0, 100], got %s", v);
+    o->index_opt = a;
+  }
+  return 0;
+}
+
+/* The value of option a (one of those that take one); 0 or a usage exit code. */
+static int solve_value(const char *a, const char *v, solve_opt *o) {
+  if (!strcmp(a, "--spectra") || !strcmp(a, "--spectra-plot") || !strcmp(a, "--angle") ||
+      !strcmp(a, "--index"))
+    return solve_spectra_value(a, v, o);
+  if (!strcmp(a, "-o")) {
+    if (!v[0]) /* robustness */
+      return ew_cli_bad(usage, "%s", "-o wants a directory name, got an empty one");
+    o->outdir = v;
+  } else if (!strcmp(a, "--plot")) {
+    if (!ew_plot_format(v))
+      return ew_cli_bad(usage, "--plot wants a file name ending in .svg or .png, got %s", v);
+    o->plot = v;
+  } else if (!strcmp(a, "--report")) {
+    o->repdir = v;
+  } else if (!strcmp(a, "--grid-step")) {
+    if (!parse_num(v, &o->opt.grid_step_nm) || o->opt.grid_step_nm <= 0 || o->opt.grid_step_nm > 1)
+      return ew_cli_bad(usage, "--grid-step wants a step in nm in (0, 1], got %s", v);
+  } else if (!strcmp(v, "all")) { /* --lines */
+    o->opt.lowest_levels = 0;
+  } else {
+    double k;
+    if (!parse_num(v, &k) || k < 1 || k > 1e6 || k != floor(k))
+      return ew_cli_bad(usage, "--lines wants a whole number >= 1 or 'all', got %s", v);
+    o->opt.lowest_levels = (int)k;
+  }
+  return 0;
+}
+
+static int solve_parse(int argc, char **argv, solve_opt *o) {
+  memset(o, 0, sizeof *o);
+  o->angle = EW_WF_DEFAULT_ANGLE_DEG;
+  o->index = EW_WF_DEFAULT_INDEX;
+  o->gzip = -1;
+  ew_options_default(&o->opt);
   for (int i = 0; i < argc; i++) {
     const char *a = argv[i];
+    int rc = 0;
     if (!strcmp(a, "--json")) {
-      json = 1;
+      o->json = 1;
     } else if (!strcmp(a, "--gzip")) {
-      gzip = 1;
+      o->gzip = 1;
     } else if (!strcmp(a, "--no-estimate")) {
-      opt.error_estimate = 0;
+      o->opt.error_estimate = 0;
     } else if (!strcmp(a, "-o") || !strcmp(a, "--grid-step") || !strcmp(a, "--lines") ||
                !strcmp(a, "--plot") || !strcmp(a, "--report") || !strcmp(a, "--spectra") ||
                !strcmp(a, "--spectra-plot") || !strcmp(a, "--angle") || !strcmp(a, "--index")) {
       if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
-      const char *v = argv[++i];
-      if (!strcmp(a, "--spectra")) {
-        if (!v[0]) return ew_cli_bad(usage, "%s", "--spectra wants a file name, got an empty one");
-        spectra = v;
-      } else if (!strcmp(a, "--spectra-plot")) {
-        if (!ew_plot_format(v))
-          return ew_cli_bad(usage, "--spectra-plot wants a file name ending in .svg or .png, got %s", v);
-        spectra_plot = v;
-      } else if (!strcmp(a, "--angle")) {
-        if (!parse_num(v, &angle) || angle < 0 || angle >= 90)
-          return ew_cli_bad(usage, "--angle wants the internal angle to the growth axis in degrees, "
-                           "in [0, 90), got %s", v);
-        angle_opt = a;
-      } else if (!strcmp(a, "--index")) {
-        if (!parse_num(v, &index) || index <= 0 || index > 100)
-          return ew_cli_bad(usage, "--index wants a refractive index in (0, 100], got %s", v);
-        index_opt = a;
-      } else if (!strcmp(a, "-o")) {
-        if (!v[0]) return ew_cli_bad(usage, "%s", "-o wants a directory name, got an empty one"); /* robustness */
-        outdir = v;
-      } else if (!strcmp(a, "--plot")) {
-        if (!ew_plot_format(v))
-          return ew_cli_bad(usage, "--plot wants a file name ending in .svg or .png, got %s", v);
-        plot = v;
-      } else if (!strcmp(a, "--report")) {
-        repdir = v;
-      } else if (!strcmp(a, "--grid-step")) {
-        if (!parse_num(v, &opt.grid_step_nm) || opt.grid_step_nm <= 0 || opt.grid_step_nm > 1)
-          return ew_cli_bad(usage, "--grid-step wants a step in nm in (0, 1], got %s", v);
-      } else if (!strcmp(v, "all")) {
-        opt.lowest_levels = 0;
-      } else {
-        double k;
-        if (!parse_num(v, &k) || k < 1 || k > 1e6 || k != floor(k))
-          return ew_cli_bad(usage, "--lines wants a whole number >= 1 or 'all', got %s", v);
-        opt.lowest_levels = (int)k;
-      }
+      rc = solve_value(a, argv[++i], o);
     } else if (a[0] == '-') {
-      return ew_cli_bad(usage, "unknown option %s", a);
-    } else if (!path) {
-      path = a;
+      rc = ew_cli_bad(usage, "unknown option %s", a);
+    } else if (!o->path) {
+      o->path = a;
     } else {
-      return ew_cli_bad(usage, "unexpected argument %s", a);
+      rc = ew_cli_bad(usage, "unexpected argument %s", a);
     }
+    if (rc) return rc;
   }
-  if (!path) return ew_cli_bad(usage, "%s", "solve needs a stack file");
-  if ((angle_opt || index_opt) && !spectra && !spectra_plot)
-    return ew_cli_bad(usage, "%s needs --spectra or --spectra-plot", angle_opt ? angle_opt : index_opt);
+  if (!o->path) return ew_cli_bad(usage, "%s", "solve needs a stack file");
+  if ((o->angle_opt || o->index_opt) && !o->spectra && !o->spectra_plot)
+    return ew_cli_bad(usage, "%s needs --spectra or --spectra-plot",
+                      o->angle_opt ? o->angle_opt : o->index_opt);
+  return 0;
+}
+
+/* Unwritable outputs (directories, picture files) fail before any work is done. */
+static int solve_check_outputs(const solve_opt *o) {
   ew_error err = {0};
-  /* unwritable outputs (directories, picture file) fail before any work is done */
-  if (outdir && ew_output_check_dir(outdir, &err) != EW_OK) return report(&err);
-  if (plot && ew_plot_check_path(plot, &err) != EW_OK) return report(&err);
-  if (repdir && ew_output_check_dir(repdir, &err) != EW_OK) return report(&err);
-  if (spectra && ew_wf_check_file_path(spectra, "--spectra", &err) != EW_OK) return report(&err);
-  for (int k = 0; spectra_plot && k < 2; k++) {
-    char pp[EW_WF_PATH_MAX];
-    if (ew_wf_plot_companion(spectra_plot, k ? "intersubband" : "", "--spectra-plot", pp,
-                             sizeof pp, &err) != EW_OK ||
-        ew_plot_check_path(pp, &err) != EW_OK) {
-      char msg[sizeof err.message];
-      snprintf(msg, sizeof msg, "--spectra-plot: %.1000s", err.message);
-      snprintf(err.message, sizeof err.message, "%s", msg);
+  if (o->outdir && ew_output_dir_check(o->outdir, &err) != EW_OK) return report(&err);
+  if (o->plot && ew_plot_path_check(o->plot, &err) != EW_OK) return report(&err);
+  if (o->repdir && ew_output_dir_check(o->repdir, &err) != EW_OK) return report(&err);
+  if (o->spectra && ew_data_path_check(o->spectra, "--spectra", &err) != EW_OK) return report(&err);
+  for (int k = 0; o->spectra_plot && k < 2; k++) {
+    char pp[EW_CLI_PATH_MAX];
+    if (ew_plot_companion_name(o->spectra_plot, k ? "intersubband" : "", "--spectra-plot", pp,
+                               sizeof pp, &err) != EW_OK ||
+        ew_plot_path_check(pp, &err) != EW_OK) {
+      ew_cli_prefix(&err, "--spectra-plot");
       return report(&err);
     }
   }
-  ew_catalogue *cat = NULL;
-  ew_stack *st = NULL;
-  ew_result *res = NULL;
-  ew_wf_spectra sp;
-  memset(&sp, 0, sizeof sp);
-  ew_wf_outset spset; /* the spectra CSV and pictures, renamed into place together */
-  ew_wf_outset_init(&spset);
-  int sp_written[2] = {0, 0};
-  int want_sp = spectra || spectra_plot;
-  const char *sp_tmp = NULL;
-  FILE *sp_csv = NULL;
-  int rc = 0;
-  if (ew_catalogue_load(NULL, &cat, &err) != EW_OK || ew_stack_read_file(path, cat, &st, &err) != EW_OK ||
-      ew_solve(st, &opt, &res, &err) != EW_OK ||
-      (want_sp && ew_wf_spectra_compute(res, angle, index, &sp, &err) != EW_OK) ||
-      (outdir && ew_output_csv_dir(res, outdir, gzip, &err) != EW_OK) ||
-      (plot && ew_plot_band_diagram(res, plot, &err) != EW_OK) ||
-      (repdir && ew_report_write(res, cat, repdir, &err) != EW_OK) ||
-      (spectra && ew_wf_outset_add(&spset, spectra, "--spectra", &sp_tmp, &err) != EW_OK) ||
-      (spectra_plot && ew_wf_spectra_plot(&sp, spectra_plot, &spset, sp_written, &err) != EW_OK)) {
+  return 0;
+}
+
+/* What one solve holds until it is written. */
+typedef struct {
+  ew_catalogue *cat;
+  ew_stack *st;
+  ew_result *res;
+  ew_spectra *sp; /* NULL unless --spectra or --spectra-plot */
+  int sp_written[2];
+} solve_job;
+
+static ew_status solve_compute(const solve_opt *o, solve_job *j, ew_error *err) {
+  ew_status st = ew_catalogue_load(NULL, &j->cat, err);
+  if (st == EW_OK) st = ew_stack_read_file(o->path, j->cat, &j->st, err);
+  if (st == EW_OK) st = ew_solve(j->st, &o->opt, &j->res, err);
+  if (st == EW_OK && (o->spectra || o->spectra_plot))
+    st = ew_spectra_compute(j->res, o->angle, o->index, &j->sp, err);
+  return st;
+}
+
+/* The output files, in this order; the spectra CSV and pictures appear together. */
+static ew_status solve_write_files(const solve_opt *o, solve_job *j, ew_error *err) {
+  ew_status st = EW_OK;
+  if (o->outdir) st = ew_result_write_csv_dir(j->res, o->outdir, o->gzip, err);
+  if (st == EW_OK && o->plot) st = ew_result_write_band_diagram(j->res, o->plot, err);
+  if (st == EW_OK && o->repdir) st = ew_result_write_report(j->res, j->cat, o->repdir, err);
+  if (st == EW_OK && j->sp)
+    st = ew_spectra_stage_files(j->sp, o->spectra, o->spectra_plot, j->sp_written, err);
+  if (st == EW_OK && j->sp) st = ew_spectra_commit_files(j->sp, 1, err);
+  return st;
+}
+
+/* Notes on stderr, then the result on stdout; 0 or EW_ERR_IO. */
+static int solve_print(const solve_opt *o, const solve_job *j) {
+  for (int w = 0; w < 2 && j->sp; w++)
+    if (ew_spectra_note(j->sp, w)[0]) fprintf(stderr, "epiwell: %s\n", ew_spectra_note(j->sp, w));
+  if (o->spectra_plot && !j->sp_written[0])
+    fprintf(stderr, "epiwell: --spectra-plot: no interband spectrum, %s not written\n",
+            o->spectra_plot);
+  ew_status st = o->json ? ew_result_write_json(j->res, stdout, NULL)
+                         : ew_result_write_table(j->res, stdout, NULL);
+  if (st == EW_OK && !o->json && j->sp) st = ew_spectra_write_peaks(j->sp, stdout, NULL);
+  return st != EW_OK || fflush(stdout) != 0 ? EW_ERR_IO : 0;
+}
+
+static int cmd_solve(int argc, char **argv) {
+  solve_opt o;
+  int rc = solve_parse(argc, argv, &o);
+  if (!rc) rc = solve_check_outputs(&o);
+  if (rc) return rc;
+  solve_job j;
+  memset(&j, 0, sizeof j);
+  ew_error err = {0};
+  if (solve_compute(&o, &j, &err) != EW_OK || solve_write_files(&o, &j, &err) != EW_OK)
     rc = report(&err);
-  } else {
-    if (spectra) {
-      sp_csv = fopen(sp_tmp, "w");
-      if (sp_csv) ew_wf_spectra_write_csv(&sp, sp_csv);
-      int bad_write = !sp_csv || ferror(sp_csv) != 0, e = errno;
-      if (sp_csv && fclose(sp_csv) != 0 && !bad_write) bad_write = 1, e = errno;
-      if (bad_write) {
-        fprintf(stderr, "epiwell: --spectra: cannot write '%s': %s\n", spectra, strerror(e));
-        rc = EW_ERR_IO;
-      }
-    }
-    if (!rc && ew_wf_outset_commit(&spset, 1, &err) != EW_OK) rc = report(&err);
-    if (!rc) {
-      for (int w = 0; w < 2 && want_sp; w++)
-        if (sp.note[w][0]) fprintf(stderr, "epiwell: %s\n", sp.note[w]);
-      if (spectra_plot && !sp_written[0])
-        fprintf(stderr, "epiwell: --spectra-plot: no interband spectrum, %s not written\n",
-                spectra_plot);
-      if (json) ew_output_json(res, stdout);
-      else ew_output_table(res, stdout);
-      if (!json && want_sp) ew_wf_spectra_print_peaks(&sp, stdout);
-      if (fflush(stdout) != 0) rc = EW_ERR_IO;
-    }
-  }
-  ew_wf_outset_commit(&spset, 0, NULL);
-  ew_wf_spectra_free(&sp);
-  ew_result_free(res);
-  ew_stack_free(st);
-  ew_catalogue_free(cat);
+  else
+    rc = solve_print(&o, &j);
+  ew_spectra_free(j.sp); /* removes spectra temporaries not committed */
+  ew_result_free(j.res);
+  ew_stack_free(j.st);
+  ew_catalogue_free(j.cat);
   return rc;
 }
 
@@ -294,8 +361,8 @@ int main(int argc, char **argv) {
       }
   if (!strcmp(argv[1], "solve")) return cmd_solve(argc - 2, argv + 2);
   if (!strcmp(argv[1], "materials")) return cmd_materials(argc - 2, argv + 2);
-  if (!strcmp(argv[1], "sweep")) { int ew_cli_sweep(int, char **); return ew_cli_sweep(argc - 2, argv + 2); }
-  if (!strcmp(argv[1], "match")) { int ew_cli_match(int, char **); return ew_cli_match(argc - 2, argv + 2); }
-  if (!strcmp(argv[1], "tolerance")) { int ew_cli_tolerance(int, char **); return ew_cli_tolerance(argc - 2, argv + 2); }
+  if (!strcmp(argv[1], "sweep")) return ew_cli_sweep(argc - 2, argv + 2);
+  if (!strcmp(argv[1], "match")) return ew_cli_match(argc - 2, argv + 2);
+  if (!strcmp(argv[1], "tolerance")) return ew_cli_tolerance(argc - 2, argv + 2);
   return ew_cli_bad(usage, "unknown command %s", argv[1]);
 }

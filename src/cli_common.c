@@ -6,6 +6,7 @@
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 int ew_cli_report(const ew_error *err) {
   char buf[2048];
@@ -28,4 +29,10 @@ int ew_cli_parse_num(const char *s, double *v) {
   errno = 0;
   *v = strtod(s, &end);
   return s[0] && *end == '\0' && errno == 0 && isfinite(*v);
+}
+
+void ew_cli_prefix(ew_error *err, const char *opt) {
+  char msg[sizeof err->message];
+  snprintf(msg, sizeof msg, "%s: %.1000s", opt, err->message);
+  memcpy(err->message, msg, sizeof err->message);
 }

@@ -1,5 +1,6 @@
 /* cli_common.h — what the command's files share: error reports, usage errors, strict
- * number parsing.  Command side only (src/cli*.c). */
+ * number parsing.  Command side only (src/cli*.c), which includes no project header but this
+ * and epiwell.h. */
 #ifndef EW_CLI_COMMON_H
 #define EW_CLI_COMMON_H
 
@@ -11,5 +12,15 @@ int ew_cli_report(const ew_error *err);
 int ew_cli_bad(const char *usage, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
 /* 1 when the whole of s is one finite number, stored in *v. */
 int ew_cli_parse_num(const char *s, double *v);
+/* Put "opt: " in front of err's message (which names a picture or file the option gave). */
+void ew_cli_prefix(ew_error *err, const char *opt);
+
+/* Longest output path the commands take (the library's output sets hold 1024 bytes). */
+#define EW_CLI_PATH_MAX 1024
+
+/* The workflow commands (cli_workflow.c): argv after the command name; exit codes. */
+int ew_cli_sweep(int argc, char **argv);
+int ew_cli_match(int argc, char **argv);
+int ew_cli_tolerance(int argc, char **argv);
 
 #endif

@@ -5,34 +5,17 @@
  * Output discipline (README "Exit codes"): on any error nothing is written to standard
  * output and no output file is left half-written, so standard output is assembled in memory
  * and written only on success, and --csv FILE is written under a temporary name in the same
- * directory and renamed into place. */
+ * directory and renamed into place (ew_output_file_*).  Uses the public API only
+ * (epiwell.h); each command is an options struct and its parse / run / write steps. */
 #include <errno.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <unistd.h>
 
 #include "cli_common.h"
 #include "epiwell.h"
-#include "error.h"
-#include "plot.h"
-#include "chart_file.h"
-#include "line_name.h"
-#include "match.h"
-#include "output_set.h"
-#include "parallel.h"
-#include "range.h"
-#include "stack.h"
-#include "stack_model.h"
-#include "sweep.h"
-#include "sweep_plot.h"
-#include "tolerance.h"
-
-int ew_cli_sweep(int argc, char **argv);
-int ew_cli_match(int argc, char **argv);
-int ew_cli_tolerance(int argc, char **argv);
 
 static const char sweep_usage[] =
     "usage: epiwell sweep STACK --vary KEY=FROM:TO:STEP [--vary KEY=FROM:TO:STEP]\n"
@@ -113,7 +96,7 @@ static void threads_note(int threads) {
     fprintf(stderr, "epiwell: built without OpenMP: running on 1 thread\n");
 }
 
-/* ---- output sinks ---------------------------------------------------------------------- */
+/* ---- standard output, assembled in memory --------------------------------------------- */
 typedef struct {
   char *buf;
   size_t len;
@@ -139,51 +122,6 @@ static int mem_finish(membuf *m, int ok) {
   free(m->buf);
   m->buf = NULL;
   return rc;
-}
-
-typedef struct {
-  const char *path;
-  char tmp[4096];
-  FILE *f;
-} atomic_file;
-
-/* A temporary file next to path (same directory, so the rename is atomic). */
-static int atomic_open(atomic_file *a, const char *path, ew_error *err) {
-  a->path = path;
-  a->f = NULL;
-  if (snprintf(a->tmp, sizeof a->tmp, "%s.tmp.XXXXXX", path) >= (int)sizeof a->tmp)
-    return ew_fail(err, EW_ERR_IO, path, 0, "--csv %s: path too long", path);
-  int fd = mkstemp(a->tmp);
-  if (fd < 0)
-    return ew_fail(err, EW_ERR_IO, path, 0, "--csv %s: cannot create a file there: %s", path,
-                   strerror(errno));
-  mode_t um = umask(0);
-  umask(um);
-  (void)fchmod(fd, 0666 & ~um); /* mkstemp makes 0600; give the file the usual mode */
-  a->f = fdopen(fd, "w");
-  if (!a->f) {
-    close(fd);
-    unlink(a->tmp);
-    return ew_fail(err, EW_ERR_IO, path, 0, "--csv %s: %s", path, strerror(errno));
-  }
-  return EW_OK;
-}
-
-static int atomic_close(atomic_file *a, int ok, ew_error *err) {
-  if (!a->f) return EW_OK;
-  int bad_write = ferror(a->f) != 0;
-  int bad_close = fclose(a->f) != 0;
-  a->f = NULL;
-  if (!ok) {
-    unlink(a->tmp);
-    return EW_OK;
-  }
-  if (bad_write || bad_close || rename(a->tmp, a->path) != 0) {
-    int e = errno;
-    unlink(a->tmp);
-    return ew_fail(err, EW_ERR_IO, a->path, 0, "cannot write '%s': %s", a->path, strerror(e));
-  }
-  return EW_OK;
 }
 
 /* ---- progress (stderr, only on a terminal) --------------------------------------------- */
@@ -217,267 +155,329 @@ static int parse_shard(const char *v, size_t *k, size_t *n) {
   return parse_whole(a, 1, 1e6, k) && parse_whole(slash + 1, 1, 1e6, n) && *k <= *n;
 }
 
-int ew_cli_sweep(int argc, char **argv) {
-  const char *path = NULL, *csv_path = NULL, *plot_path = NULL;
-  ew_wf_range ranges[2];
-  size_t nr = 0;
+typedef struct {
   common_opt c;
-  common_init(&c);
-  ew_wf_sweep_opt so;
-  ew_wf_sweep_opt_default(&so);
+  const char *path, *csv_path, *plot_path;
+  ew_sweep_options so;
+  ew_sweep *sw; /* holds the --vary ranges */
+  int help;
+} sweep_cmd;
+
+/* The value v of option a (one of those that take one); 0 or an exit code. */
+static int sweep_value(const char *a, const char *v, sweep_cmd *s) {
   ew_error err = {0};
+  if (!strcmp(a, "--plot")) {
+    if (!ew_plot_format(v))
+      return ew_cli_bad(sweep_usage, "--plot wants a file name ending in .svg or .png, got %s", v);
+    s->plot_path = v;
+  } else if (!strcmp(a, "--levels")) {
+    if (!parse_whole(v, 0, 10000, &s->so.min_levels))
+      return ew_cli_bad(sweep_usage, "--levels wants a whole number of levels per band, got %s", v);
+  } else if (!strcmp(a, "--csv")) {
+    s->csv_path = v;
+  } else if (!strcmp(a, "--shard")) {
+    if (!parse_shard(v, &s->so.shard_k, &s->so.shard_n))
+      return ew_cli_bad(sweep_usage, "--shard wants K/N with 1 <= K <= N (e.g. 3/8), got %s", v);
+  } else {
+    if (ew_sweep_key_count(s->sw) == 2)
+      return ew_cli_bad(sweep_usage, "%s", "--vary: at most two ranges (a grid)");
+    if (ew_sweep_vary(s->sw, v, &err) != EW_OK) return report(&err);
+  }
+  return 0;
+}
+
+static int sweep_parse(int argc, char **argv, sweep_cmd *s) {
   for (int i = 0; i < argc; i++) {
     const char *a = argv[i];
-    int r = common_option(sweep_usage, argc, argv, &i, &c);
+    int r = common_option(sweep_usage, argc, argv, &i, &s->c), rc = 0;
     if (r < 0) return EW_ERR_USAGE;
     if (r > 0) continue;
     if (!strcmp(a, "--help") || !strcmp(a, "-h")) {
-      fputs(sweep_usage, stdout);
+      s->help = 1;
       return 0;
     } else if (!strcmp(a, "--no-header")) {
-      so.header = 0;
+      s->so.header = 0;
     } else if (!strcmp(a, "--vary") || !strcmp(a, "--csv") || !strcmp(a, "--shard") ||
                !strcmp(a, "--levels") || !strcmp(a, "--plot")) {
       if (i + 1 >= argc) return ew_cli_bad(sweep_usage, "%s needs a value", a);
-      const char *v = argv[++i];
-      if (!strcmp(a, "--plot")) {
-        if (!ew_plot_format(v))
-          return ew_cli_bad(sweep_usage, "--plot wants a file name ending in .svg or .png, got %s", v);
-        plot_path = v;
-      } else if (!strcmp(a, "--levels")) {
-        if (!parse_whole(v, 0, 10000, &so.min_levels))
-          return ew_cli_bad(sweep_usage, "--levels wants a whole number of levels per band, got %s", v);
-      } else if (!strcmp(a, "--csv")) {
-        csv_path = v;
-      } else if (!strcmp(a, "--shard")) {
-        if (!parse_shard(v, &so.shard_k, &so.shard_n))
-          return ew_cli_bad(sweep_usage, "--shard wants K/N with 1 <= K <= N (e.g. 3/8), got %s", v);
-      } else {
-        if (nr == 2) return ew_cli_bad(sweep_usage, "%s", "--vary: at most two ranges (a grid)");
-        if (ew_wf_range_parse(v, 1, "--vary", &ranges[nr], &err) != EW_OK) return report(&err);
-        nr++;
-      }
+      rc = sweep_value(a, argv[++i], s);
     } else if (a[0] == '-' && a[1]) {
-      return ew_cli_bad(sweep_usage, "unknown option %s", a);
-    } else if (!path) {
-      path = a;
+      rc = ew_cli_bad(sweep_usage, "unknown option %s", a);
+    } else if (!s->path) {
+      s->path = a;
     } else {
-      return ew_cli_bad(sweep_usage, "unexpected argument %s", a);
+      rc = ew_cli_bad(sweep_usage, "unexpected argument %s", a);
+    }
+    if (rc) return rc;
+  }
+  if (!s->path) return ew_cli_bad(sweep_usage, "%s", "sweep needs a stack file");
+  if (ew_sweep_key_count(s->sw) == 0)
+    return ew_cli_bad(sweep_usage, "%s", "sweep needs --vary KEY=FROM:TO:STEP");
+  return 0;
+}
+
+/* Every picture file must be writable before any point is solved. */
+static int sweep_check_plots(const char *plot_path) {
+  ew_error err = {0};
+  for (int f = 0; plot_path && f < EW_SWEEP_PLOT_FILES; f++) {
+    char pp[EW_CLI_PATH_MAX];
+    if (ew_plot_companion_name(plot_path, ew_sweep_plot_suffix(f), "--plot", pp, sizeof pp,
+                               &err) != EW_OK ||
+        ew_plot_path_check(pp, &err) != EW_OK) {
+      if (!strstr(err.message, "--plot")) ew_cli_prefix(&err, "--plot");
+      return report(&err);
     }
   }
-  if (!path) return ew_cli_bad(sweep_usage, "%s", "sweep needs a stack file");
-  if (nr == 0) return ew_cli_bad(sweep_usage, "%s", "sweep needs --vary KEY=FROM:TO:STEP");
-  /* every picture file must be writable before any point is solved */
-  if (plot_path) {
-    for (int f = 0; f < EW_WF_PLOT_FILES; f++) {
-      char pp[EW_WF_PATH_MAX];
-      if (ew_wf_plot_companion(plot_path, EW_WF_PLOT_SUFFIX[f], "--plot", pp, sizeof pp, &err) !=
-              EW_OK ||
-          ew_plot_check_path(pp, &err) != EW_OK) {
-        if (!strstr(err.message, "--plot")) {
-          char msg[sizeof err.message];
-          snprintf(msg, sizeof msg, "--plot: %.1000s", err.message);
-          snprintf(err.message, sizeof err.message, "%s", msg);
-        }
-        return report(&err);
-      }
-    }
+  return 0;
+}
+
+/* A note on stderr for each chart that had nothing to draw. */
+static void sweep_plot_notes(const char *plot_path, const int written[EW_SWEEP_PLOT_FILES]) {
+  for (int f = 0; f < EW_SWEEP_PLOT_FILES; f++) {
+    if (written[f]) continue;
+    char pp[EW_CLI_PATH_MAX];
+    const char *sfx = ew_sweep_plot_suffix(f);
+    ew_plot_companion_name(plot_path, sfx, "--plot", pp, sizeof pp, NULL);
+    fprintf(stderr, "epiwell: --plot: no %s%s in this sweep: %s not written\n",
+            f ? sfx : "bound level", f ? " main line" : "", pp);
   }
-  threads_note(c.threads);
-  so.threads = c.threads;
-  ew_wf_table table;
-  memset(&table, 0, sizeof table);
-  if (plot_path) so.table = &table;
-  ew_wf_outset pics;
-  ew_wf_outset_init(&pics);
-  int written[EW_WF_PLOT_FILES] = {0};
+}
+
+/* Solve, then the pictures under temporary names, then the CSV into place, then the
+ * pictures: an error anywhere leaves no new file.  Returns the exit code. */
+static int sweep_write(sweep_cmd *s, ew_output_file *csv_file, membuf *out) {
+  ew_error err = {0};
+  FILE *csv = csv_file ? ew_output_file_stream(csv_file) : (s->c.json ? NULL : out->f);
+  FILE *json = s->c.json ? out->f : NULL;
+  int written[EW_SWEEP_PLOT_FILES] = {0};
+  int rc = 0;
+  ew_status st = ew_sweep_compute(s->sw, &s->so, csv, json, &err);
+  if (st == EW_OK && s->plot_path) st = ew_sweep_stage_plots(s->sw, s->plot_path, written, &err);
+  if (st != EW_OK) rc = report(&err);
+  if (csv_file && st == EW_OK) {
+    if (ew_output_file_commit(csv_file, &err) != EW_OK) rc = report(&err);
+  } else if (csv_file) {
+    ew_output_file_abort(csv_file);
+  }
+  if (ew_sweep_commit_plots(s->sw, rc == 0, &err) != EW_OK && !rc) rc = report(&err);
+  if (!rc && s->plot_path) sweep_plot_notes(s->plot_path, written);
+  int io = mem_finish(out, rc == 0);
+  return rc ? rc : io;
+}
+
+static int sweep_run(sweep_cmd *s) {
+  threads_note(s->c.threads);
+  s->so.threads = s->c.threads;
+  s->so.keep_table = s->plot_path != NULL;
   progress_state ps = {-1};
   if (isatty(fileno(stderr))) {
-    so.progress = progress_bar;
-    so.progress_ctx = &ps;
+    s->so.progress = progress_bar;
+    s->so.progress_ctx = &ps;
   }
+  s->c.solve.excitons = 0; /* the sweep's columns hold no PL peaks: skip the exciton work */
   ew_catalogue *cat = NULL;
-  ew_wf_model *m = NULL;
-  atomic_file af = {NULL, "", NULL};
+  ew_output_file *csv_file = NULL;
   membuf out = {NULL, 0, NULL};
+  ew_error err = {0};
   int rc = 0;
-  c.solve.excitons = 0; /* the sweep's columns hold no PL peaks: skip the exciton work */
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
-      ew_wf_model_open(path, cat, &c.solve, &m, &err) != EW_OK ||
-      (csv_path && atomic_open(&af, csv_path, &err) != EW_OK)) {
+      ew_sweep_open(s->sw, s->path, cat, &s->c.solve, &err) != EW_OK) {
+    rc = report(&err);
+  } else if (s->csv_path && (ew_data_path_check(s->csv_path, "--csv", &err) != EW_OK ||
+                              ew_output_file_open(s->csv_path, &csv_file, &err) != EW_OK)) {
+    if (!strstr(err.message, "--csv")) ew_cli_prefix(&err, "--csv");
     rc = report(&err);
   } else if (!mem_open(&out)) {
+    ew_output_file_abort(csv_file);
     rc = EW_ERR_NOMEM;
     fprintf(stderr, "epiwell: out of memory\n");
   } else {
-    /* CSV to the file when given, else to stdout unless only JSON was asked for */
-    FILE *csv = csv_path ? af.f : (c.json ? NULL : out.f);
-    FILE *json = c.json ? out.f : NULL;
-    ew_status st = ew_wf_sweep(m, ranges, nr, &so, csv, json, &err);
-    /* pictures under temporary names first, then the CSV, then the pictures into place:
-     * an error anywhere leaves no new file */
-    if (st == EW_OK && plot_path) st = ew_wf_sweep_plot(&table, plot_path, &pics, written, &err);
-    if (st != EW_OK) rc = report(&err);
-    if (atomic_close(&af, st == EW_OK, &err) != EW_OK && !rc) rc = report(&err);
-    if (ew_wf_outset_commit(&pics, rc == 0, &err) != EW_OK && !rc) rc = report(&err);
-    if (!rc && plot_path)
-      for (int f = 0; f < EW_WF_PLOT_FILES; f++)
-        if (!written[f]) {
-          char pp[EW_WF_PATH_MAX];
-          ew_wf_plot_companion(plot_path, EW_WF_PLOT_SUFFIX[f], "--plot", pp, sizeof pp, NULL);
-          fprintf(stderr, "epiwell: --plot: no %s%s in this sweep: %s not written\n",
-                  f ? EW_WF_PLOT_SUFFIX[f] : "bound level", f ? " main line" : "", pp);
-        }
-    int io = mem_finish(&out, rc == 0);
-    if (!rc) rc = io;
+    rc = sweep_write(s, csv_file, &out); /* commits or aborts csv_file */
   }
-  if (af.f) atomic_close(&af, 0, &err);
-  if (out.f) mem_finish(&out, 0);
-  ew_wf_outset_commit(&pics, 0, NULL);
-  ew_wf_table_free(&table);
-  ew_wf_model_free(m);
   ew_catalogue_free(cat);
   return rc;
 }
 
-/* ---- match ----------------------------------------------------------------------------- */
-int ew_cli_match(int argc, char **argv) {
-  const char *path = NULL, *lines[2] = {NULL, NULL};
-  ew_wf_range ranges[2];
-  ew_wf_quantity targets[2], tol;
-  size_t nr = 0, nl = 0, nt = 0;
-  int have_tol = 0;
-  common_opt c;
-  common_init(&c);
-  ew_wf_match_opt mo = {0, 0};
+int ew_cli_sweep(int argc, char **argv) {
+  sweep_cmd s;
+  memset(&s, 0, sizeof s);
+  common_init(&s.c);
+  ew_sweep_options_default(&s.so);
   ew_error err = {0};
+  if (ew_sweep_create(&s.sw, &err) != EW_OK) return report(&err);
+  int rc = sweep_parse(argc, argv, &s);
+  if (!rc && s.help) fputs(sweep_usage, stdout);
+  else if (!rc) rc = sweep_check_plots(s.plot_path);
+  if (!rc && !s.help) rc = sweep_run(&s);
+  ew_sweep_free(s.sw);
+  return rc;
+}
+
+/* ---- match ----------------------------------------------------------------------------- */
+typedef struct {
+  common_opt c;
+  const char *path;
+  size_t nr, nl, nt, samples;
+  int have_tol, help;
+  ew_match *mt; /* holds the unknowns, lines and targets */
+} match_cmd;
+
+/* The value v of option a (one of those that take one); 0 or an exit code. */
+static int match_value(const char *a, const char *v, match_cmd *m) {
+  ew_error err = {0};
+  if (!strcmp(a, "--vary")) {
+    if (m->nr == 2) return ew_cli_bad(match_usage, "%s", "--vary: at most two unknowns");
+    if (ew_match_vary(m->mt, v, &err) != EW_OK) return report(&err);
+    m->nr++;
+  } else if (!strcmp(a, "--line")) {
+    if (m->nl == 2) return ew_cli_bad(match_usage, "%s", "--line: at most two lines");
+    if (ew_match_line(m->mt, v, &err) != EW_OK) return report(&err);
+    m->nl++;
+    /* only a PL-peak target (A-B:pl) needs the exciton binding */
+    if (strlen(v) > 3 && !strcmp(v + strlen(v) - 3, ":pl")) m->c.solve.excitons = 1;
+  } else if (!strcmp(a, "--target")) {
+    if (m->nt == 2) return ew_cli_bad(match_usage, "%s", "--target: at most two targets");
+    if (ew_match_target(m->mt, v, &err) != EW_OK) return report(&err);
+    m->nt++;
+  } else if (!strcmp(a, "--tolerance")) {
+    if (ew_match_tolerance(m->mt, v, &err) != EW_OK) return report(&err);
+    m->have_tol = 1;
+  } else if (!parse_whole(v, 2, 1e6, &m->samples)) {
+    return ew_cli_bad(match_usage, "--samples wants a whole number >= 2, got %s", v);
+  }
+  return 0;
+}
+
+static int match_parse(int argc, char **argv, match_cmd *m) {
   for (int i = 0; i < argc; i++) {
     const char *a = argv[i];
-    int r = common_option(match_usage, argc, argv, &i, &c);
+    int r = common_option(match_usage, argc, argv, &i, &m->c), rc = 0;
     if (r < 0) return EW_ERR_USAGE;
     if (r > 0) continue;
     if (!strcmp(a, "--help") || !strcmp(a, "-h")) {
-      fputs(match_usage, stdout);
+      m->help = 1;
       return 0;
     }
     if (!strcmp(a, "--vary") || !strcmp(a, "--line") || !strcmp(a, "--target") ||
         !strcmp(a, "--tolerance") || !strcmp(a, "--samples")) {
       if (i + 1 >= argc) return ew_cli_bad(match_usage, "%s needs a value", a);
-      const char *v = argv[++i];
-      if (!strcmp(a, "--vary")) {
-        if (nr == 2) return ew_cli_bad(match_usage, "%s", "--vary: at most two unknowns");
-        if (ew_wf_range_parse(v, 0, "--vary", &ranges[nr], &err) != EW_OK) return report(&err);
-        nr++;
-      } else if (!strcmp(a, "--line")) {
-        if (nl == 2) return ew_cli_bad(match_usage, "%s", "--line: at most two lines");
-        double dummy;
-        if (ew_wf_line_energy(NULL, v, &dummy, &err) != EW_OK) return report(&err);
-        lines[nl++] = v;
-      } else if (!strcmp(a, "--target")) {
-        if (nt == 2) return ew_cli_bad(match_usage, "%s", "--target: at most two targets");
-        if (ew_wf_quantity_parse(v, 0, "--target", &targets[nt], &err) != EW_OK)
-          return report(&err);
-        nt++;
-      } else if (!strcmp(a, "--tolerance")) {
-        if (ew_wf_quantity_parse(v, 1, "--tolerance", &tol, &err) != EW_OK) return report(&err);
-        have_tol = 1;
-      } else if (!parse_whole(v, 2, 1e6, &mo.samples)) {
-        return ew_cli_bad(match_usage, "--samples wants a whole number >= 2, got %s", v);
-      }
+      rc = match_value(a, argv[++i], m);
     } else if (a[0] == '-' && a[1]) {
-      return ew_cli_bad(match_usage, "unknown option %s", a);
-    } else if (!path) {
-      path = a;
+      rc = ew_cli_bad(match_usage, "unknown option %s", a);
+    } else if (!m->path) {
+      m->path = a;
     } else {
-      return ew_cli_bad(match_usage, "unexpected argument %s", a);
+      rc = ew_cli_bad(match_usage, "unexpected argument %s", a);
     }
+    if (rc) return rc;
   }
-  if (!path) return ew_cli_bad(match_usage, "%s", "match needs a stack file");
-  if (nr == 0) return ew_cli_bad(match_usage, "%s", "match needs --vary KEY=FROM:TO");
-  if (nl != nr || nt != nr)
+  if (!m->path) return ew_cli_bad(match_usage, "%s", "match needs a stack file");
+  if (m->nr == 0) return ew_cli_bad(match_usage, "%s", "match needs --vary KEY=FROM:TO");
+  if (m->nl != m->nr || m->nt != m->nr)
     return ew_cli_bad(match_usage, "%s", "match needs one --line and one --target per --vary");
-  if (have_tol && nr == 2) return ew_cli_bad(match_usage, "%s", "--tolerance works with one --vary only");
-  threads_note(c.threads);
-  mo.threads = c.threads;
-  c.solve.excitons = 0; /* only a PL-peak target (A-B:pl) needs the exciton binding */
-  for (size_t i = 0; i < (size_t)nl; i++)
-    if (strlen(lines[i]) > 3 && !strcmp(lines[i] + strlen(lines[i]) - 3, ":pl")) c.solve.excitons = 1;
+  if (m->have_tol && m->nr == 2)
+    return ew_cli_bad(match_usage, "%s", "--tolerance works with one --vary only");
+  return 0;
+}
+
+static int match_run(match_cmd *m) {
+  threads_note(m->c.threads);
   ew_catalogue *cat = NULL;
-  ew_wf_model *m = NULL;
-  ew_wf_match_result res;
-  memset(&res, 0, sizeof res);
+  ew_error err = {0};
   int rc = 0;
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
-      ew_wf_model_open(path, cat, &c.solve, &m, &err) != EW_OK ||
-      ew_wf_match(m, ranges, nr, lines, targets, nr, have_tol ? &tol : NULL, &mo, &res, &err) !=
+      ew_match_compute(m->mt, m->path, cat, &m->c.solve, m->c.threads, m->samples, &err) !=
           EW_OK) {
     rc = report(&err);
   } else {
     /* no solution is an answer, not an error: exit 0, the reached range on stderr too */
-    if (res.n == 0) fprintf(stderr, "epiwell: %s\n", res.message);
-    if (c.json) ew_wf_match_print_json(&res, stdout);
-    else ew_wf_match_print(&res, stdout);
-    if (fflush(stdout) != 0) rc = EW_ERR_IO;
+    if (ew_match_solution_count(m->mt) == 0)
+      fprintf(stderr, "epiwell: %s\n", ew_match_message(m->mt));
+    ew_status st = m->c.json ? ew_match_write_json(m->mt, stdout, NULL)
+                             : ew_match_write_table(m->mt, stdout, NULL);
+    if (st != EW_OK || fflush(stdout) != 0) rc = EW_ERR_IO;
   }
-  ew_wf_match_result_free(&res);
-  ew_wf_model_free(m);
   ew_catalogue_free(cat);
   return rc;
 }
 
-/* ---- tolerance ------------------------------------------------------------------------- */
-int ew_cli_tolerance(int argc, char **argv) {
-  const char *path = NULL, *ladder = NULL;
-  double dx = 0.01;
-  common_opt c;
-  common_init(&c);
+int ew_cli_match(int argc, char **argv) {
+  match_cmd m;
+  memset(&m, 0, sizeof m);
+  common_init(&m.c);
+  m.c.solve.excitons = 0; /* set again by a :pl line */
   ew_error err = {0};
+  if (ew_match_create(&m.mt, &err) != EW_OK) return report(&err);
+  int rc = match_parse(argc, argv, &m);
+  if (!rc && m.help) fputs(match_usage, stdout);
+  else if (!rc) rc = match_run(&m);
+  ew_match_free(m.mt);
+  return rc;
+}
+
+/* ---- tolerance ------------------------------------------------------------------------- */
+typedef struct {
+  common_opt c;
+  const char *path, *ladder;
+  double dx;
+  int help;
+} tolerance_cmd;
+
+static int tolerance_parse(int argc, char **argv, tolerance_cmd *t) {
   for (int i = 0; i < argc; i++) {
     const char *a = argv[i];
-    int r = common_option(tolerance_usage, argc, argv, &i, &c);
+    int r = common_option(tolerance_usage, argc, argv, &i, &t->c);
     if (r < 0) return EW_ERR_USAGE;
     if (r > 0) continue;
     if (!strcmp(a, "--help") || !strcmp(a, "-h")) {
-      fputs(tolerance_usage, stdout);
+      t->help = 1;
       return 0;
     }
     if (!strcmp(a, "--dx") || !strcmp(a, "--ladder")) {
       if (i + 1 >= argc) return ew_cli_bad(tolerance_usage, "%s needs a value", a);
       const char *v = argv[++i];
-      if (!strcmp(a, "--ladder")) ladder = v;
-      else if (!parse_num(v, &dx) || dx <= 0 || dx > 0.5)
+      if (!strcmp(a, "--ladder")) t->ladder = v;
+      else if (!parse_num(v, &t->dx) || t->dx <= 0 || t->dx > 0.5)
         return ew_cli_bad(tolerance_usage, "--dx wants a composition step in (0, 0.5], got %s", v);
     } else if (a[0] == '-' && a[1]) {
       return ew_cli_bad(tolerance_usage, "unknown option %s", a);
-    } else if (!path) {
-      path = a;
+    } else if (!t->path) {
+      t->path = a;
     } else {
       return ew_cli_bad(tolerance_usage, "unexpected argument %s", a);
     }
   }
-  if (!path) return ew_cli_bad(tolerance_usage, "%s", "tolerance needs a stack file");
-  threads_note(c.threads);
+  if (!t->path) return ew_cli_bad(tolerance_usage, "%s", "tolerance needs a stack file");
+  return 0;
+}
+
+static int tolerance_run(const tolerance_cmd *t) {
+  threads_note(t->c.threads);
   ew_catalogue *cat = NULL;
-  ew_wf_model *m = NULL;
-  ew_wf_tolerance *t = NULL;
-  ew_wf_ladder *l = NULL;
+  ew_tolerance *tol = NULL;
+  ew_error err = {0};
   int rc = 0;
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
-      ew_wf_model_open(path, cat, &c.solve, &m, &err) != EW_OK ||
-      (ladder ? ew_wf_ladder_run(m, ladder, c.threads, &l, &err)
-              : ew_wf_tolerance_run(m, dx, c.threads, &t, &err)) != EW_OK) {
+      ew_tolerance_compute(t->path, cat, &t->c.solve, t->dx, t->ladder, t->c.threads, &tol,
+                           &err) != EW_OK) {
     rc = report(&err);
   } else {
-    const ew_stack *st = ew_wf_model_stack(m);
-    if (l && c.json) ew_wf_ladder_print_json(l, st, stdout);
-    else if (l) ew_wf_ladder_print(l, st, stdout);
-    else if (c.json) ew_wf_tolerance_print_json(t, stdout);
-    else ew_wf_tolerance_print(t, stdout);
-    if (fflush(stdout) != 0) rc = EW_ERR_IO;
+    ew_status st = t->c.json ? ew_tolerance_write_json(tol, stdout, NULL)
+                             : ew_tolerance_write_table(tol, stdout, NULL);
+    if (st != EW_OK || fflush(stdout) != 0) rc = EW_ERR_IO;
   }
-  ew_wf_ladder_free(l);
-  ew_wf_tolerance_free(t);
-  ew_wf_model_free(m);
+  ew_tolerance_free(tol);
   ew_catalogue_free(cat);
+  return rc;
+}
+
+int ew_cli_tolerance(int argc, char **argv) {
+  tolerance_cmd t;
+  memset(&t, 0, sizeof t);
+  common_init(&t.c);
+  t.dx = 0.01;
+  int rc = tolerance_parse(argc, argv, &t);
+  if (!rc && t.help) fputs(tolerance_usage, stdout);
+  else if (!rc) rc = tolerance_run(&t);
   return rc;
 }

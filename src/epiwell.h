@@ -190,6 +190,218 @@ typedef enum {
 } ew_sp_profile;
 const double *ew_result_sp_profile(const ew_result *res, ew_sp_profile which);
 
+
+/* ==== Library API for scripts and the command line (src/api_*.c) =========================
+ * What the `epiwell` command itself uses; it includes no other project header.  Rules for
+ * every function below unless it says otherwise:
+ *   - A pointer argument may not be NULL unless "may be NULL" is said; given NULL where not
+ *     allowed, a function returning ew_status returns EW_ERR_USAGE (and fills err when err
+ *     is not NULL); an accessor returns its documented "no value" (0, NAN, NULL or -1).
+ *   - err may always be NULL.  Strings passed in are copied when kept; strings returned are
+ *     owned by the object they came from and stay valid until it is freed.
+ *   - Objects are freed by their ew_..._free (NULL is a no-op); an object is not shared by
+ *     two threads at once.
+ *   - Error messages of the parsers name the command-line option they serve (--vary,
+ *     --line, --target, --tolerance, --plot, --spectra), because the command shows them. */
+
+/* ---- threads -------------------------------------------------------------------------- */
+/* 1 when the library was built with OpenMP (threads > 1 have an effect), else 0. */
+int ew_wf_have_openmp(void);
+
+/* ---- catalogue and materials (api_materials.c) ---------------------------------------- */
+/* Materials in the catalogue (0 for NULL) and the name of material i (NULL when cat is NULL
+ * or i is out of range; valid while cat lives). */
+size_t ew_catalogue_material_count(const ew_catalogue *cat);
+const char *ew_catalogue_material_name(const ew_catalogue *cat, size_t i);
+/* 1 when name (in) is an alloy of the catalogue (it needs a composition x), 0 for a binary,
+ * -1 when it is not in the catalogue or an argument is NULL. */
+int ew_material_is_alloy(const ew_catalogue *cat, const char *name);
+/* Lattice constant at 300 K of name at composition (x, y), nm, into *a_nm (out).
+ * EW_ERR_INPUT for an unknown name (the message suggests the nearest) or a bad composition. */
+ew_status ew_material_lattice_nm(const ew_catalogue *cat, const char *name, double x,
+                                 double y, double *a_nm, ew_error *err);
+/* Composition (*x, *y; out) of alloy name lattice-matched to substrate (a binary, or an
+ * alloy at substrate_x).  target_gap_eV: NaN for ternaries (the match alone), else the Γ gap
+ * at T_K the composition must have (quaternaries: selects the point of the matched line).
+ * EW_ERR_INPUT when no composition fits (the message says why). */
+ew_status ew_material_lattice_match(const ew_catalogue *cat, const char *name,
+                                    const char *substrate, double substrate_x,
+                                    double target_gap_eV, double T_K, double *x, double *y,
+                                    ew_error *err);
+/* Write material name at (x, y, T_K) to out: parameters with units and sources, derived band
+ * parameters; with a_sub_nm > 0 also its strain on a substrate of that lattice constant
+ * (what `epiwell materials NAME` prints).  EW_ERR_INPUT for an unknown name or composition,
+ * EW_ERR_IO when out has a write error. */
+ew_status ew_material_write(const ew_catalogue *cat, const char *name, double x, double y,
+                            double T_K, double a_sub_nm, FILE *out, ew_error *err);
+/* Write the list of the catalogue's materials to out (what `epiwell materials` prints). */
+ew_status ew_catalogue_write(const ew_catalogue *cat, FILE *out, ew_error *err);
+
+/* ---- layers of a stack (api_stack.c) ---------------------------------------------------
+ * Layers are indexed 0 … count−1 in growth order.  Out of range or NULL: NULL / NAN. */
+size_t ew_stack_layer_count(const ew_stack *st);              /* 0 for NULL */
+const char *ew_stack_layer_name(const ew_stack *st, size_t i);     /* valid while st lives */
+const char *ew_stack_layer_material(const ew_stack *st, size_t i); /* valid while st lives */
+double ew_stack_layer_thickness_nm(const ew_stack *st, size_t i);
+double ew_stack_layer_start_nm(const ew_stack *st, size_t i); /* z of its first face */
+/* Composition x (y) as the stack file gives it; NAN for a layer that gives none (a binary,
+ * a user material, or a graded layer, whose grade sets x). */
+double ew_stack_layer_x(const ew_stack *st, size_t i);
+double ew_stack_layer_y(const ew_stack *st, size_t i);
+/* Index (out) of the layer called name: EW_ERR_INPUT when there is none. */
+ew_status ew_stack_layer_index(const ew_stack *st, const char *name, size_t *index,
+                               ew_error *err);
+double ew_stack_temperature_K(const ew_stack *st); /* NAN for NULL */
+double ew_stack_total_nm(const ew_stack *st);      /* sum of the thicknesses; NAN for NULL */
+
+/* ---- writing a result (api_write.c) ------------------------------------------------------
+ * Stream writers write to out (an open stream the caller keeps; memory streams work) and
+ * return EW_ERR_IO when the stream reports an error afterwards.  File writers write their
+ * file(s) atomically: under a temporary name, renamed into place only when complete. */
+/* The terminal tables: layers, levels, lines (what `epiwell solve` prints). */
+ew_status ew_result_write_table(const ew_result *res, FILE *out, ew_error *err);
+/* One JSON object (README "Output reference"; `epiwell solve --json`). */
+ew_status ew_result_write_json(const ew_result *res, FILE *out, ew_error *err);
+/* profile.csv, levels.csv, lines.csv, wavefunctions.csv into dir (created when missing),
+ * gzip-compressed when gzip is 1, or when gzip is −1 and the table is large; all four
+ * appear together or none does. */
+ew_status ew_result_write_csv_dir(const ew_result *res, const char *dir, int gzip,
+                                  ew_error *err);
+/* Band diagram picture at path (.svg or .png, see ew_plot_format); or as SVG text to out. */
+ew_status ew_result_write_band_diagram(const ew_result *res, const char *path, ew_error *err);
+ew_status ew_result_write_band_diagram_svg(const ew_result *res, FILE *out, ew_error *err);
+/* dir/report.html: one self-contained page (cat may be NULL: no material table). */
+ew_status ew_result_write_report(const ew_result *res, const ew_catalogue *cat,
+                                 const char *dir, ew_error *err);
+
+/* ---- output paths, checked before any work (api_write.c) ------------------------------ */
+/* Picture format from a file name: 's' for .svg, 'p' for .png (case-insensitive), 0 otherwise
+ * (NULL: 0).  In plot.c. */
+int ew_plot_format(const char *path);
+/* EW_OK when dir is a writable directory, or missing with a writable parent (not created). */
+ew_status ew_output_dir_check(const char *dir, ew_error *err);
+/* EW_OK when path (.svg/.png) can be written; EW_ERR_USAGE for another extension. */
+ew_status ew_plot_path_check(const char *path, ew_error *err);
+/* EW_OK when a data file can be written at path (its directory is writable, path is not a
+ * directory); messages name opt_name (in; may be NULL: "output"). */
+ew_status ew_data_path_check(const char *path, const char *opt_name, ew_error *err);
+/* The companion picture name FILE-SUFFIX.ext of FILE.ext into out[size] (suffix "" or NULL:
+ * path itself).  EW_ERR_USAGE, naming opt_name (may be NULL: "--plot"), when path does not
+ * end in .svg/.png or out is too small. */
+ew_status ew_plot_companion_name(const char *path, const char *suffix, const char *opt_name,
+                                 char *out, size_t size, ew_error *err);
+
+/* ---- one output file written atomically (api_output_file.c) ----------------------------
+ * open → write to ew_output_file_stream → commit (renamed into place) or abort (removed).
+ * The temporary lives in the target's directory; both commit and abort free the object. */
+typedef struct ew_output_file ew_output_file;
+ew_status ew_output_file_open(const char *path, ew_output_file **out, ew_error *err);
+/* The stream to write (owned by f; valid until commit/abort); NULL for NULL. */
+FILE *ew_output_file_stream(ew_output_file *f);
+/* Close and rename into place; EW_ERR_IO (nothing left behind) when a write failed. */
+ew_status ew_output_file_commit(ew_output_file *f, ew_error *err);
+void ew_output_file_abort(ew_output_file *f); /* NULL is a no-op */
+
+/* ---- absorption spectra of a result (api_spectra.c) ----------------------------------- */
+#define EW_WF_DEFAULT_ANGLE_DEG 45.0 /* internal angle of a 45° polished facet */
+/* GaAs near 10 µm, from memory (the GaAs refractive index falls from ~3.6 at 0.9 µm to ~3.3
+ * in the mid-infrared): the intersubband default. */
+#define EW_WF_DEFAULT_INDEX 3.3
+typedef struct ew_spectra ew_spectra;
+/* Interband and intersubband spectra of res at internal angle theta_deg ∈ [0, 90) and
+ * refractive index n_refr > 0 (EW_ERR_USAGE otherwise).  *out keeps no pointer into res. */
+ew_status ew_spectra_compute(const ew_result *res, double theta_deg, double n_refr,
+                             ew_spectra **out, ew_error *err);
+void ew_spectra_free(ew_spectra *sp); /* also removes temporaries not committed */
+/* Why spectrum which (0 interband, 1 intersubband) is absent; "" when present; NULL for bad
+ * arguments.  Valid while sp lives. */
+const char *ew_spectra_note(const ew_spectra *sp, int which);
+/* CSV "E_eV,interband_rel,intersubband_fraction" to out. */
+ew_status ew_spectra_write_csv(const ew_spectra *sp, FILE *out, ew_error *err);
+/* Terminal summary of the peaks of both spectra to out. */
+ew_status ew_spectra_write_peaks(const ew_spectra *sp, FILE *out, ew_error *err);
+/* Write the CSV at csv_path and the pictures at plot_path (FILE the interband chart,
+ * FILE-intersubband.ext the intersubband one) under temporary names; either path may be
+ * NULL.  written[k] (out; may be NULL) is 1 for each picture drawn.  Nothing appears until
+ * ew_spectra_commit_files(sp, 1, …); ok = 0 removes the temporaries. */
+ew_status ew_spectra_stage_files(ew_spectra *sp, const char *csv_path, const char *plot_path,
+                                 int written[2], ew_error *err);
+ew_status ew_spectra_commit_files(ew_spectra *sp, int ok, ew_error *err);
+
+/* ---- parameter sweeps (api_sweep.c) ----------------------------------------------------
+ * create → vary (once or twice) → open the stack → compute → [stage/commit plots] → free.
+ * Columns, rows, shards: see `epiwell sweep` in README.md. */
+typedef struct ew_sweep ew_sweep;
+typedef struct {
+  int threads;             /* 0: every core */
+  size_t shard_k, shard_n; /* part K (1-based) of N; N = 0 or 1: all points */
+  int header;              /* CSV header: 1 always, 0 never, -1 part 1 only (default) */
+  size_t min_levels;       /* columns for at least this many levels per band */
+  int keep_table;          /* 1: keep the rows in memory for ew_sweep_stage_plots */
+  void (*progress)(void *ctx, size_t done, size_t total); /* may be NULL; serialised */
+  void *progress_ctx;
+} ew_sweep_options;
+void ew_sweep_options_default(ew_sweep_options *o);
+ew_status ew_sweep_create(ew_sweep **out, ew_error *err);
+void ew_sweep_free(ew_sweep *sw); /* also removes staged pictures not committed */
+/* Add a varied key "KEY=FROM:TO:STEP" (at most two: a grid, the first the outer loop). */
+ew_status ew_sweep_vary(ew_sweep *sw, const char *spec, ew_error *err);
+size_t ew_sweep_key_count(const ew_sweep *sw); /* 0 for NULL */
+/* Read stack_path (errors with file:line) with cat (must outlive sw) and solver options opt
+ * (may be NULL: defaults).  Keys are checked against the stack by ew_sweep_compute. */
+ew_status ew_sweep_open(ew_sweep *sw, const char *stack_path, const ew_catalogue *cat,
+                        const ew_options *opt, ew_error *err);
+/* Solve every point; CSV to csv and/or JSON to json (either may be NULL); o may be NULL
+ * (defaults).  On an error the streams hold partial output. */
+ew_status ew_sweep_compute(ew_sweep *sw, const ew_sweep_options *o, FILE *csv, FILE *json,
+                           ew_error *err);
+/* The pictures of a computed sweep (keep_table set), k < EW_SWEEP_PLOT_FILES:
+ * ew_sweep_plot_suffix(k) is "", "interband", "intersubband" (the companion names of
+ * path); written[k] (out; may be NULL) is 0 for a chart with no line to draw (not written).
+ * Staged under temporary names; commit with ok = 1 puts them in place, ok = 0 removes them. */
+#define EW_SWEEP_PLOT_FILES 3
+const char *ew_sweep_plot_suffix(int k); /* NULL out of range */
+ew_status ew_sweep_stage_plots(ew_sweep *sw, const char *path,
+                               int written[EW_SWEEP_PLOT_FILES], ew_error *err);
+ew_status ew_sweep_commit_plots(ew_sweep *sw, int ok, ew_error *err);
+
+/* ---- inverse matching (api_match.c) ----------------------------------------------------
+ * Which value of one key (or pair of values of two keys) puts one line (two lines) at a
+ * target: create → vary, line, target (once each per unknown) [→ tolerance] → compute. */
+typedef struct ew_match ew_match;
+ew_status ew_match_create(ew_match **out, ew_error *err);
+void ew_match_free(ew_match *mt);
+ew_status ew_match_vary(ew_match *mt, const char *spec, ew_error *err); /* KEY=FROM:TO[:STEP] */
+/* A line "A-B" (levels of one band or an electron and a hole level) or "A-B:pl". */
+ew_status ew_match_line(ew_match *mt, const char *line, ew_error *err);
+/* A target quantity with its unit: "9.0um", "1.548eV", "154meV", "800nm". */
+ew_status ew_match_target(ew_match *mt, const char *quantity, ew_error *err);
+/* One unknown only: also solve at target ± tolerance (may be "0eV"). */
+ew_status ew_match_tolerance(ew_match *mt, const char *quantity, ew_error *err);
+/* Solve with the stack at stack_path, cat, options opt (may be NULL), threads (0: every
+ * core) and samples per range (0: the default).  No solution is not an error. */
+ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalogue *cat,
+                           const ew_options *opt, int threads, size_t samples, ew_error *err);
+size_t ew_match_solution_count(const ew_match *mt); /* 0 for NULL or before compute */
+/* Value of unknown k (0 or 1) in solution i; NAN out of range. */
+double ew_match_solution_value(const ew_match *mt, size_t i, size_t k);
+/* With no solution: what the range reaches ("no value … reaches …"); "" otherwise. */
+const char *ew_match_message(const ew_match *mt);
+ew_status ew_match_write_table(const ew_match *mt, FILE *out, ew_error *err);
+ew_status ew_match_write_json(const ew_match *mt, FILE *out, ew_error *err);
+
+/* ---- growth tolerances and the monolayer ladder (api_tolerance.c) ---------------------- */
+typedef struct ew_tolerance ew_tolerance;
+/* Shifts of every level and main line for ±1 monolayer of every layer and ±dx (0 < dx ≤ 0.5)
+ * of every alloy's composition (ladder == NULL), or the monolayer ladder of layer ladder
+ * (its main lines at −2 … +2 monolayers). */
+ew_status ew_tolerance_compute(const char *stack_path, const ew_catalogue *cat,
+                               const ew_options *opt, double dx, const char *ladder,
+                               int threads, ew_tolerance **out, ew_error *err);
+void ew_tolerance_free(ew_tolerance *t);
+ew_status ew_tolerance_write_table(const ew_tolerance *t, FILE *out, ew_error *err);
+ew_status ew_tolerance_write_json(const ew_tolerance *t, FILE *out, ew_error *err);
+
 #ifdef __cplusplus
 }
 #endif

@@ -19,8 +19,7 @@
 
 /* Threads a request resolves to (0: every core; 1 when built without OpenMP). */
 int ew_wf_threads(int requested);
-/* 1 when built with OpenMP. */
-int ew_wf_have_openmp(void);
+/* int ew_wf_have_openmp(void), 1 when built with OpenMP: public, in epiwell.h */
 /* The calling thread's number in the innermost parallel region, 0 outside one. */
 int ew_wf_thread_index(void);
 

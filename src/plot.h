@@ -24,9 +24,8 @@
 #define EW_PLOT_XY_H 520
 #define EW_PLOT_PNG_SCALE 2
 
-/* Picture format from a file name: 's' for .svg, 'p' for .png (case-insensitive), 0 for
- * anything else. */
-int ew_plot_format(const char *path);
+/* int ew_plot_format(const char *path), the picture format from a file name: public, in
+ * epiwell.h */
 
 /* EW_OK when path names a .svg or .png file that can be written: its directory exists and
  * is writable, and the path, if it exists, is a regular file.  EW_ERR_USAGE for another

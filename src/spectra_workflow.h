@@ -11,10 +11,7 @@
 #include "output_set.h"
 
 #define EW_WF_SPECTRUM_POINTS 2001
-#define EW_WF_DEFAULT_ANGLE_DEG 45.0 /* internal angle of a 45° polished facet */
-/* GaAs near 10 µm, from memory (the GaAs refractive index falls from ~3.6 at 0.9 µm to ~3.3
- * in the mid-infrared): the intersubband default. */
-#define EW_WF_DEFAULT_INDEX 3.3
+/* EW_WF_DEFAULT_ANGLE_DEG and EW_WF_DEFAULT_INDEX: public, in epiwell.h */
 #define EW_WF_PEAK_FRACTION 0.05 /* a peak is a local maximum above 5 % of the maximum */
 
 /* Two uniform grids of EW_WF_SPECTRUM_POINTS energies, both written in one CSV on their

@@ -48,8 +48,12 @@ check "sweep: 1 and 2 threads give identical output" cmp -s "$tmp/out" "$tmp/t1.
 
 run "$bin" sweep $det --vary well.thickness=4:5:0.5 --csv "$tmp/s.csv"
 check "sweep --csv: exit 0, nothing on stdout" sh -c "[ $rc -eq 0 ] && [ ! -s '$tmp/out' ]"
+# temporaries are hidden files beside the target (atomic.c): list them with ls -A
 check "sweep --csv: file written, no temporary left" \
-  sh -c "[ -s '$tmp/s.csv' ] && [ -z \"\$(ls '$tmp' | grep 's.csv.tmp')\" ]"
+  sh -c "[ -s '$tmp/s.csv' ] && [ -z \"\$(ls -A '$tmp' | grep 's\.csv.' )\" ]"
+run "$bin" sweep $det --vary well.thickness=-1:1:1 --csv "$tmp/f.csv"
+check "sweep --csv: a failed sweep leaves neither the file nor a temporary" \
+  sh -c "[ $rc -eq 2 ] && [ -z \"\$(ls -A '$tmp' | grep 'f\.csv')\" ]"
 
 run "$bin" sweep $det --vary well.thickness=4:5:0.5 --json
 if command -v python3 >/dev/null 2>&1; then
@@ -69,6 +73,10 @@ check "sweep: an invalid stack value fails with exit 2, nothing on stdout" \
   sh -c "[ $rc -eq 2 ] && [ ! -s '$tmp/out' ] && grep -q 'well.thickness = -1' '$tmp/err'"
 run "$bin" sweep $det --vary well.thickness=4:5:1 --csv "$tmp/no/such/dir/x.csv"
 check "sweep: unwritable --csv fails with exit 5" [ "$rc" -eq 5 ]
+mkfifo "$tmp/fifo"
+run "$bin" sweep $det --vary well.thickness=4:5:1 --csv "$tmp/fifo"
+check "sweep: --csv on a FIFO (not a regular file) is refused with exit 5, the FIFO kept" \
+  sh -c "[ $rc -eq 5 ] && grep -q -- '--csv' '$tmp/err' && [ -p '$tmp/fifo' ]"
 run "$bin" sweep $det --vary well.thickness=4:5:1 --shard 4/3
 check "sweep: --shard 4/3 refused (exit 1)" sh -c "[ $rc -eq 1 ] && grep -q -- '--shard' '$tmp/err'"
 
