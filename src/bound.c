@@ -11,20 +11,22 @@
  * outer walls would pass as levels).  In a field the faces' edges differ by the tilt and
  * every state is a resonance: each side then counts up to its highest point, and the box
  * states are dropped by their location (ew_bound_inner_probability). */
+double ew_bound_window_rule(int tilted, const double face[2], const double highest[2]) {
+  return tilted ? fmin(highest[0], highest[1]) : fmin(face[0], face[1]);
+}
+
 double ew_bound_window_top(const ew_stack *st, const ew_grid *g, ew_band band) {
   double sgn = band == EW_BAND_E ? 1.0 : -1.0;
-  if (st->field_kV_cm == 0.0)
-    return fmin(sgn * g->edge[band][0], sgn * g->edge[band][g->n - 1]);
-  double best[2] = {-INFINITY, -INFINITY};
+  double face[2] = {sgn * g->edge[band][0], sgn * g->edge[band][g->n - 1]};
+  double highest[2] = {-INFINITY, -INFINITY};
   size_t last = st->n_layers - 1;
   for (size_t i = 0; i < g->n; i++) {
     int side = g->layer[i] == 0 ? 0 : g->layer[i] == last ? 1 : -1;
-    if (side < 0) continue;
-    double v = band == EW_BAND_E ? g->edge[band][i] : -g->edge[band][i];
-    if (v > best[side]) best[side] = v;
+    double v = sgn * g->edge[band][i];
+    if (side >= 0 && v > highest[side]) highest[side] = v;
   }
-  if (st->n_layers == 1) best[1] = best[0];
-  return fmin(best[0], best[1]);
+  if (st->n_layers == 1) highest[1] = highest[0];
+  return ew_bound_window_rule(st->field_kV_cm != 0.0, face, highest);
 }
 
 /* In a field no state is truly bound and the hard walls turn the continuum into box states

@@ -11,6 +11,13 @@
  * outer layers' highest edges (see bound.c). */
 double ew_bound_window_top(const ew_stack *st, const ew_grid *g, ew_band band);
 
+/* The rule itself, for any sampling of the two outer layers (the Schrödinger pass reads the
+ * grid's nodes, the self-consistent gauge the potential between them), on the positive-mass
+ * scale: face[s] is the edge at the outer face of side s (0: first layer, 1: last), highest[s]
+ * the highest edge anywhere in that outer layer.  Without a field (tilted = 0) the continuum
+ * starts at the lower outer face; in a field at the lower of the two sides' highest points. */
+double ew_bound_window_rule(int tilted, const double face[2], const double highest[2]);
+
 /* Probability of psi (normalised in the grid's box quadrature) in the inner layers, between
  * the two outer layers; 1 when there are fewer than three layers. */
 double ew_bound_inner_probability(const ew_stack *st, const ew_grid *g, const double *psi);

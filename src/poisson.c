@@ -51,10 +51,12 @@
  *    face.  In between, the quasi-Fermi level is interpolated linearly in z (no current is
  *    computed): continuum carriers and dopants use E_F(z) at their node, a subband uses E_F
  *    at its centroid ⟨z⟩.
- * The gauge: (U, E_F) → (U + c, E_F + c) changes nothing physical.  After every Poisson step
- * c is chosen so that the majority band's bound window with U (the lower of the outer
- * layers' highest edge) equals the window the Schrödinger pass computes from the layers, so the
- * states it returns are exactly the bound ones and the continuum starts where they end.
+ * The gauge: (U, E_F) → (U + c, E_F + c) changes nothing physical (the Schrödinger pass's
+ * window includes U and moves with it); it fixes the energy reference.  After every Poisson
+ * step c is chosen so that the majority band's bound window with U equals its window without
+ * U, by the one rule of bound.c (ew_bound_window_rule: the outer faces, which stand for the
+ * semi-infinite material; in a field the outer layers' highest points): energies are then on
+ * the scale where the outer material sits at its catalogue (flat-band) edge.
  *
  * Outer loop: the predictor–corrector of A. Trellakis, A. T. Galick, A. Pacelli,
  * U. Ravaioli, J. Appl. Phys. 81, 7880 (1997).  The Poisson step is solved for the new U with
@@ -82,6 +84,7 @@
 #include <string.h>
 
 #include "constants.h"
+#include "bound.h"
 #include "eigen.h"
 #include "error.h"
 
@@ -638,11 +641,11 @@ static double interp(const model *m, const double *U, double z) {
 }
 
 /* The bound window of a band in its positive-mass form (Ec, or −Ev for holes) with U added
- * (U == NULL: without), sampled as the Schrödinger pass does: the lower of the outer layers'
- * highest values. */
+ * (U == NULL: without), by the Schrödinger pass's own rule (ew_bound_window_rule): the outer
+ * faces, or in a field the outer layers' highest points, sampled on 33 points per layer. */
 static double window_with(const model *m, ew_band band, const double *U) {
   const ew_stack *st = m->st;
-  double best[2];
+  double face[2], highest[2];
   for (int side = 0; side < 2; side++) {
     const ew_layer *ly = &st->layers[side ? st->n_layers - 1 : 0];
     double mx = -INFINITY;
@@ -650,11 +653,13 @@ static double window_with(const model *m, ew_band band, const double *U) {
       double u = fmin(fmax(j / 32.0, 1e-9), 1.0 - 1e-9);
       double z = ly->z_start_nm + u * ly->thickness_nm;
       double e = ew_stack_edge_at(st, band, z) + (U ? interp(m, U, z) : 0.0);
-      mx = fmax(mx, band == EW_BAND_E ? e : -e);
+      double v = band == EW_BAND_E ? e : -e;
+      mx = fmax(mx, v);
+      if (j == (side ? 32 : 0)) face[side] = v; /* the stack's outer face on this side */
     }
-    best[side] = mx;
+    highest[side] = mx;
   }
-  return fmin(best[0], best[1]);
+  return ew_bound_window_rule(st->field_kV_cm != 0.0, face, highest);
 }
 
 /* The constant c for (U, E_F) → (U + c, E_F + c) that puts the reference band's window with

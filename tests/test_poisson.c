@@ -409,6 +409,35 @@ static void band_bent_window(void **state) {
   ew_stack_free(st);
 }
 
+/* The energy reference of a self-consistent solve (poisson.c "The gauge"; README "Doped
+ * stacks"): the outer faces stand for the semi-infinite outer material, so the conduction
+ * edge with the potential at both faces equals the outer layer's flat-band edge, and the
+ * electrons' bound window is that face edge (bound.c: one rule for the pass and the gauge).
+ * A modulation-doped well (donors in the barriers) bends the barriers by about 0.2 eV
+ * between the faces and the spacer, so a rule that reads the outer layers' highest point
+ * instead moves every energy by that much.  Exact up to the Poisson tolerance (1e-6 eV). */
+static void modulation_doped_reference(void **state) {
+  (void)state;
+  ew_stack *st = read_text("temperature = 77.0;\nlayers = (\n"
+                           " { name = \"lower\"; material = \"AlGaAs\"; x = 0.30; thickness = 30.0; doping = { donors = 1e18; }; },\n"
+                           " { name = \"well\"; material = \"GaAs\"; thickness = 8.0; },\n"
+                           " { name = \"upper\"; material = \"AlGaAs\"; x = 0.30; thickness = 30.0; doping = { donors = 1e18; }; }\n);\n");
+  assert_non_null(st);
+  ew_result *r = sc_solve(st);
+  assert_non_null(r);
+  size_t n = r->grid->n;
+  const double *ec = ew_result_edge_eV(r, EW_BAND_E);
+  double flat = ew_layer_edge(&st->layers[0], EW_BAND_E);
+  assert_true(fabs(ec[0] - flat) < 1e-6);
+  assert_true(fabs(ec[n - 1] - flat) < 1e-6);
+  assert_true(fabs(ew_result_window_eV(r, EW_BAND_E) - flat) < 1e-6);
+  double top = -INFINITY; /* the band bending is real: the barriers rise well above the faces */
+  for (size_t i = 0; i < n; i++) top = fmax(top, ec[i]);
+  assert_true(top - flat > 0.1);
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
 /* The outer loop's failure path: the same well with a budget of 2 outer iterations (it needs 5)
  * must fail with EW_ERR_NUMERIC, say how far it got, and return no result. */
 static void non_convergence_reported(void **state) {
@@ -587,6 +616,7 @@ int main(void) {
       cmocka_unit_test(heavy_doping_converges),
       cmocka_unit_test(non_convergence_reported),
       cmocka_unit_test(band_bent_window),
+      cmocka_unit_test(modulation_doped_reference),
       cmocka_unit_test(incomplete_ionisation_bulk),
       cmocka_unit_test(gaas_valence_dos),
       cmocka_unit_test(bulk_holes_use_dos_masses),
