@@ -791,8 +791,9 @@ static ew_status attach(ew_result *r, const model *m, double EF0, const double *
   if (rc != EW_OK) return rc;
   fill_depolarisation(sp, r);
   if (r->stack->temperature_K < EW_SP_T_FLOOR_K &&
-      !ew_result_warn(r, "self-consistent solve: the Fermi–Dirac occupations use a 1 K floor "
-                      "for the stack's temperature below 1 K"))
+      !ew_result_warn_code(r, "temperature-floor",
+                           "self-consistent solve: the Fermi–Dirac occupations use a 1 K floor "
+                           "for the stack's temperature below 1 K"))
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   return EW_OK;
 }

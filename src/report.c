@@ -78,32 +78,19 @@ static void page_head(FILE *f, const ew_result *r) {
           r->opt.error_estimate ? "from a second grid (Richardson)" : "not computed");
 }
 
+/* The result's own warnings, each with its stable code (README "Warnings": what it means and
+ * what to do), then any band without a bound level; the page says the same as the table and
+ * the JSON. */
 static void warnings(FILE *f, const ew_result *r) {
-  const ew_stack *st = r->stack;
   fputs("<h2 id=\"warnings\">Warnings</h2>\n", f);
   int any = 0;
-  for (size_t i = 0; i < r->n_states; i++) {
-    const ew_state *s = &r->states[i];
-    if (!s->flagged) continue;
+  for (size_t i = 0; i < ew_result_warning_count(r); i++) {
     if (!any++) fputs("<div class=\"warn\"><ul>\n", f);
-    fprintf(f, "<li>Level <b>%s</b> failed the residual check: relative residual %.3g "
-               "exceeds %.3g. Treat its energy and lines with care.</li>\n",
-            s->label, s->residual, r->opt.residual_tol);
-  }
-  for (size_t k = 0; k < st->n_layers; k++) {
-    const ew_layer *ly = &st->layers[k];
-    int v = ly->bands.lowest_valley;
-    if (v <= 0 || v > 2) continue;
-    if (!any++) fputs("<div class=\"warn\"><ul>\n", f);
-    fputs("<li>Layer <b>", f);
-    h(f, ly->name);
-    fputs("</b> (", f);
-    h(f, ly->material);
-    if (ly->has_x) fprintf(f, ", x = %.3f", ly->x);
-    fprintf(f, "): its lowest conduction minimum is %s, not &#915; (gap %.4f eV there against "
-               "%.4f eV at &#915;). This version models &#915; electrons only, so electron "
-               "levels near or above that minimum are not reliable.</li>\n",
-            valley_name[v], v == 1 ? ly->bands.Eg_X_eV : ly->bands.Eg_L_eV, ly->bands.Eg_G_eV);
+    fputs("<li><code>", f);
+    h(f, ew_result_warning_code(r, i));
+    fputs("</code> ", f);
+    h(f, ew_result_warning(r, i));
+    fputs("</li>\n", f);
   }
   for (int b = 0; b < EW_BAND_COUNT; b++) {
     if (r->band_count[b]) continue;
@@ -113,8 +100,8 @@ static void warnings(FILE *f, const ew_result *r) {
             ew_band_name((ew_band)b));
   }
   if (any) fputs("</ul></div>\n", f);
-  else fputs("<p class=\"ok\">None: every level passed the residual check, every layer's "
-             "lowest conduction minimum is &#915;, and every band has bound levels.</p>\n",
+  else fputs("<p class=\"ok\">None: the model's checks found nothing to flag (README "
+             "\"Warnings\" lists what is checked).</p>\n",
              f);
 }
 
