@@ -41,7 +41,9 @@ static int intersubband(ew_result *r, size_t *cap, const size_t *first, size_t K
         ln->upper = sj;
         ln->lower = si;
         ln->energy_eV = fabs(r->states[sj].energy_eV - r->states[si].energy_eV);
-        ln->wavelength_nm = EW_HC_EVNM / ln->energy_eV;
+        /* two degenerate levels (identical decoupled wells) have no line to speak of: no
+         * wavelength (NaN: null in JSON, empty in CSV, "-" in the table), not 1/0 */
+        ln->wavelength_nm = ln->energy_eV > 0.0 ? EW_HC_EVNM / ln->energy_eV : NAN;
         ln->dipole_nm = fabs(ew_obs_dipole(g, pi, r->psi + sj * g->n));
         ln->oscillator_strength = ew_obs_oscillator_strength(ln->energy_eV, ln->dipole_nm, invm);
         ln->allowed = 1;

@@ -108,8 +108,10 @@ static void table_lines(const ew_result *r, FILE *out) {
               "line", "energy_meV", "lambda_um", "dipole_nm", "f");
     char nm[40];
     snprintf(nm, sizeof nm, "%s-%s", st_of(r, ln->lower)->label, st_of(r, ln->upper)->label);
-    fprintf(out, "  %-10s %11.3f %10.4f %10.4f %9.4f\n", nm, ln->energy_eV * 1e3,
-            ln->wavelength_nm / 1e3, ln->dipole_nm, ln->oscillator_strength);
+    char wl[32] = "-";
+    if (isfinite(ln->wavelength_nm)) snprintf(wl, sizeof wl, "%.4f", ln->wavelength_nm / 1e3);
+    fprintf(out, "  %-10s %11.3f %10s %10.4f %9.4f\n", nm, ln->energy_eV * 1e3, wl,
+            ln->dipole_nm, ln->oscillator_strength);
   }
   head = 0;
   for (size_t i = 0; i < r->n_lines; i++) {
@@ -423,8 +425,13 @@ static void write_lines(const ew_result *r, ew_csv *c) {
     ew_csv_text(c, st_of(r, ln->upper)->label);
     ew_csv_text(c, st_of(r, ln->lower)->label);
     ew_csv_format(c, "%.10f", ln->energy_eV);
-    ew_csv_format(c, "%.6f", ln->wavelength_nm);
-    ew_csv_format(c, "%.8f", ln->wavelength_nm / 1e3);
+    if (isfinite(ln->wavelength_nm)) {
+      ew_csv_format(c, "%.6f", ln->wavelength_nm);
+      ew_csv_format(c, "%.8f", ln->wavelength_nm / 1e3);
+    } else { /* a zero-energy pair of degenerate levels has no wavelength */
+      ew_csv_empty(c);
+      ew_csv_empty(c);
+    }
     if (isb) { /* dipole, f; no overlap; always allowed; no interband columns */
       ew_csv_format(c, "%.8f", ln->dipole_nm);
       ew_csv_format(c, "%.8f", ln->oscillator_strength);
