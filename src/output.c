@@ -17,6 +17,7 @@
 #include "error.h"
 #include "json_writer.h"
 #include "poisson.h"
+#include "stack_caveats.h" /* ew_stack_layer_hc_nm */
 
 static const ew_state *st_of(const ew_result *r, size_t i) { return &r->states[i]; }
 
@@ -202,7 +203,8 @@ static void json_layers(ew_json *j, const ew_stack *st) {
     if (ly->has_y) ew_json_key_num(j, "y", ly->y);
     ew_json_key_num(j, "eps_par", ly->bands.eps_par);
     ew_json_key_num(j, "eps_perp", ly->bands.eps_perp);
-    ew_json_key_num(j, "critical_thickness_nm", ly->bands.critical_thickness_nm);
+    /* by the one rule of stack_caveats.c: one interface for the uncapped surface layer */
+    ew_json_key_num(j, "critical_thickness_nm", ew_stack_layer_hc_nm(st, k));
     ew_json_end_object(j);
   }
   ew_json_end_array(j);
