@@ -5,7 +5,9 @@
  * written and closed without error.  A set of files (the CSV set of one result) is committed
  * together: every member is written first, then each existing target is moved aside, the new
  * file renamed in, and on any failure every step is undone, so the directory keeps the
- * previous set.  The one place that makes temporaries is create_temp() in atomic.c.
+ * previous set.  atomic.c is the one place in the library that makes temporaries: files in
+ * create_temp(), directories (a staged -o set, private staging directories) with mkdtemp(3)
+ * in the transactions below.
  *
  * Use, one file:
  *     ew_atomic_file a;
