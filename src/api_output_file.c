@@ -88,7 +88,8 @@ ew_status ew_output_set_file(ew_output_set *s, const char *path, int make_dir, c
 
 ew_status ew_output_set_write_csv(ew_output_set *s, const ew_result *res, int gzip,
                                   ew_error *err) {
-  if (!s || !res) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_output_set_write_csv: NULL argument");
+  if (!s || !res)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_output_set_write_csv: NULL argument");
   const ew_atomic_txn *t = &s->t;
   const char *work = t->dir_stage >= 0 ? t->stage[t->dir_stage].work : t->work;
   if (!work[0])

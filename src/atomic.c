@@ -488,8 +488,8 @@ ew_status ew_atomic_txn_dir(ew_atomic_txn *t, const char *dir, const char *const
     else t->stage[k].whole = 1, t->dir_stage = k, *work = t->stage[k].work;
   } else if (rc == EW_OK) {
     clean_siblings(parent, base);
-    snprintf(t->work, sizeof t->work, "%.1100s/.%.200s.new.%ld.XXXXXX", strcmp(parent, "/") ? parent : "",
-             base, (long)getpid());
+    snprintf(t->work, sizeof t->work, "%.1100s/.%.200s.new.%ld.XXXXXX",
+             strcmp(parent, "/") ? parent : "", base, (long)getpid());
     if (!mkdtemp(t->work)) {
       rc = ew_fail(err, EW_ERR_IO, dir, 0, "cannot create output directory: %s", strerror(errno));
       t->work[0] = '\0';

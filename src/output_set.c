@@ -1,5 +1,5 @@
-/* output_set.c — output files renamed into place together (an atomic.c transaction), and writable-path checks (see
- * output_set.h). */
+/* output_set.c — output files renamed into place together (an atomic.c transaction), and
+ * writable-path checks (see output_set.h). */
 #include "output_set.h"
 
 #include <errno.h>

@@ -136,6 +136,18 @@ if [ "$allok" -eq 1 ] && [ -s "$tmp/race/rep/report.html" ] && [ -z "$(hidden_le
   ok "four runs making one --report directory at once all succeed"
 else nok "four runs making one --report directory at once all succeed" "$(cat "$tmp"/race*.err)"; fi
 
+# ---- a sweep's CSV and pictures: together, or not at all ------------------------------------
+mkdir "$tmp/sw"
+echo old >"$tmp/sw/s.csv"
+run "$bin" sweep "$ex" --vary no_such_layer.thickness=4:6:1 --csv "$tmp/sw/s.csv" --plot "$tmp/sw/s.svg"
+if [ "$rc" -ne 0 ] && [ "$(cat "$tmp/sw/s.csv")" = old ] && [ "$(ls -A "$tmp/sw")" = s.csv ]; then
+  ok "a sweep failing after its files were staged (exit $rc): the previous CSV intact, no picture, nothing else left"
+else nok "a failing sweep leaves the previous CSV and nothing else" "rc=$rc" "$(ls -A "$tmp/sw" | tr '\n' ' ')"; fi
+run "$bin" sweep "$ex" --vary well.thickness=4:6:1 --csv "$tmp/sw/s.csv" --plot "$tmp/sw/s.svg"
+if [ "$rc" -eq 0 ] && head -n 1 "$tmp/sw/s.csv" | grep -q '^well.thickness' && [ -s "$tmp/sw/s.svg" ] &&
+  [ -z "$(hidden_left "$tmp/sw")" ]; then ok "a sweep: the CSV and its pictures in place, no temporary left"
+else nok "a sweep: the CSV and its pictures in place" "rc=$rc" "$(head -n 1 "$tmp/sw/s.csv")" "$(ls -A "$tmp/sw" | tr '\n' ' ')"; fi
+
 # ---- as an unprivileged user ----------------------------------------------------------------
 if [ "$unpriv_ok" -eq 1 ] && [ -n "$unpriv" ]; then
   mkdir "$tmp/np" "$tmp/np/own" "$tmp/np/inplace"
