@@ -372,6 +372,30 @@ static void mkdir_race(void **state) {
   assert_int_equal(count_entries(p, 0), 1); /* one whole report, no stage left */
 }
 
+/* A writer's error names what it was given, a staged name: explain rewrites it to the
+ * target, in the file and the message, for a single file and for the directory set. */
+static void txn_explain_names_targets(void **state) {
+  fixture *fx = *state;
+  char dir[1024], p[1200], set[1200];
+  fresh_dir(fx, "explain", dir, sizeof dir);
+  snprintf(p, sizeof p, "%s/b.svg", dir);
+  snprintf(set, sizeof set, "%s/out", dir);
+  ew_atomic_txn t;
+  ew_atomic_txn_init(&t);
+  ew_error err = {0};
+  const char *w, *wd;
+  assert_int_equal(ew_atomic_txn_file(&t, p, 0, &w, &err), EW_OK);
+  assert_int_equal(ew_atomic_txn_dir(&t, set, NULL, &wd, &err), EW_OK);
+  snprintf(err.file, sizeof err.file, "%s", w);
+  snprintf(err.message, sizeof err.message, "cannot write '%s/levels.csv': disk full", wd);
+  ew_atomic_txn_explain(&t, &err);
+  assert_string_equal(err.file, p);
+  char want[1400];
+  snprintf(want, sizeof want, "cannot write '%s/levels.csv': disk full", set);
+  assert_string_equal(err.message, want);
+  ew_atomic_txn_abort(&t);
+}
+
 int main(void) {
   signal(SIGPIPE, SIG_IGN);
   const struct CMUnitTest tests[] = {
@@ -382,6 +406,7 @@ int main(void) {
       cmocka_unit_test(txn_lock_second_writer),
       cmocka_unit_test(stale_leftovers_cleaned),
       cmocka_unit_test(mkdir_race),
+      cmocka_unit_test(txn_explain_names_targets),
   };
   return cmocka_run_group_tests(tests, group_setup, group_teardown);
 }
