@@ -32,7 +32,17 @@ ew_status ew_result_write_json(const ew_result *res, FILE *out, ew_error *err) {
 
 ew_status ew_result_write_csv_dir(const ew_result *res, const char *dir, int gzip, ew_error *err) {
   if (!res || !dir) return NULL_ARG("ew_result_write_csv_dir");
-  return ew_output_csv_dir(res, dir, gzip, err);
+  /* the set appears whole: written into a staged directory, swapped in (atomic.c) */
+  ew_output_set *set = NULL;
+  char work[1400];
+  ew_status st = ew_output_set_create(&set, err);
+  if (st == EW_OK) st = ew_output_set_dir(set, dir, work, sizeof work, err);
+  if (st == EW_OK) st = ew_output_set_write_csv(set, res, gzip, err);
+  if (st != EW_OK) {
+    ew_output_set_abort(set);
+    return st;
+  }
+  return ew_output_set_commit(set, err);
 }
 
 ew_status ew_result_write_band_diagram(const ew_result *res, const char *path, ew_error *err) {

@@ -274,14 +274,46 @@ static int solve_check_outputs(const solve_opt *o) {
   return 0;
 }
 
-/* What one solve holds until it is written. */
+/* Staged names are the target's directory plus a private staging directory. */
+#define SOLVE_STAGED_MAX (EW_CLI_PATH_MAX + 512)
+
+/* What one solve holds until it is written: the results, and every output staged in one
+ * set, committed together only when all of them were written. */
 typedef struct {
   ew_catalogue *cat;
   ew_stack *st;
   ew_result *res;
   ew_spectra *sp; /* NULL unless --spectra or --spectra-plot */
   int sp_written[2];
+  ew_output_set *set;
+  char w_plot[SOLVE_STAGED_MAX], w_rep[SOLVE_STAGED_MAX], w_spectra[SOLVE_STAGED_MAX];
+  char w_splot[SOLVE_STAGED_MAX], w_out[SOLVE_STAGED_MAX];
 } solve_job;
+
+/* Stage every output before the work: -o DIR is locked from here on (a second run on it
+ * fails now, not after its solve), and every target is known to be writable. */
+static ew_status solve_stage(const solve_opt *o, solve_job *j, ew_error *err) {
+  ew_status st = ew_output_set_create(&j->set, err);
+  if (st == EW_OK && o->outdir)
+    st = ew_output_set_dir(j->set, o->outdir, j->w_out, sizeof j->w_out, err);
+  if (st == EW_OK && o->plot)
+    st = ew_output_set_file(j->set, o->plot, 0, j->w_plot, sizeof j->w_plot, err);
+  if (st == EW_OK && o->repdir) {
+    char rp[EW_CLI_PATH_MAX + 16];
+    snprintf(rp, sizeof rp, "%.1024s/report.html", o->repdir);
+    st = ew_output_set_file(j->set, rp, 1, j->w_rep, sizeof j->w_rep, err);
+    if (st == EW_OK) *strrchr(j->w_rep, '/') = '\0'; /* the report writer takes a directory */
+  }
+  if (st == EW_OK && o->spectra)
+    st = ew_output_set_file(j->set, o->spectra, 0, j->w_spectra, sizeof j->w_spectra, err);
+  for (int k = 0; st == EW_OK && o->spectra_plot && k < 2; k++) {
+    char pp[EW_CLI_PATH_MAX], w[SOLVE_STAGED_MAX];
+    st = ew_plot_companion_name(o->spectra_plot, k ? "intersubband" : "", "--spectra-plot", pp,
+                                sizeof pp, err);
+    if (st == EW_OK) st = ew_output_set_file(j->set, pp, 0, k ? w : j->w_splot, sizeof w, err);
+  }
+  return st;
+}
 
 static ew_status solve_compute(const solve_opt *o, solve_job *j, ew_error *err) {
   ew_status st = ew_catalogue_load(NULL, &j->cat, err);
@@ -292,15 +324,22 @@ static ew_status solve_compute(const solve_opt *o, solve_job *j, ew_error *err) 
   return st;
 }
 
-/* The output files, in this order; the spectra CSV and pictures appear together. */
+/* Every output at its staged name, then all of them put in place at once. */
 static ew_status solve_write_files(const solve_opt *o, solve_job *j, ew_error *err) {
   ew_status st = EW_OK;
-  if (o->outdir) st = ew_result_write_csv_dir(j->res, o->outdir, o->gzip, err);
-  if (st == EW_OK && o->plot) st = ew_result_write_band_diagram(j->res, o->plot, err);
-  if (st == EW_OK && o->repdir) st = ew_result_write_report(j->res, j->cat, o->repdir, err);
+  if (o->outdir) st = ew_output_set_write_csv(j->set, j->res, o->gzip, err);
+  if (st == EW_OK && o->plot) st = ew_result_write_band_diagram(j->res, j->w_plot, err);
+  if (st == EW_OK && o->repdir) st = ew_result_write_report(j->res, j->cat, j->w_rep, err);
   if (st == EW_OK && j->sp)
-    st = ew_spectra_stage_files(j->sp, o->spectra, o->spectra_plot, j->sp_written, err);
+    st = ew_spectra_stage_files(j->sp, o->spectra ? j->w_spectra : NULL,
+                                o->spectra_plot ? j->w_splot : NULL, j->sp_written, err);
   if (st == EW_OK && j->sp) st = ew_spectra_commit_files(j->sp, 1, err);
+  if (st != EW_OK) {
+    ew_output_set_explain(j->set, err); /* name the targets, not the staged names */
+    return st;
+  }
+  st = ew_output_set_commit(j->set, err);
+  j->set = NULL;
   return st;
 }
 
@@ -325,11 +364,13 @@ static int cmd_solve(int argc, char **argv) {
   solve_job j;
   memset(&j, 0, sizeof j);
   ew_error err = {0};
-  if (solve_compute(&o, &j, &err) != EW_OK || solve_write_files(&o, &j, &err) != EW_OK)
+  if (solve_stage(&o, &j, &err) != EW_OK || solve_compute(&o, &j, &err) != EW_OK ||
+      solve_write_files(&o, &j, &err) != EW_OK)
     rc = report(&err);
   else
     rc = solve_print(&o, &j);
-  ew_spectra_free(j.sp); /* removes spectra temporaries not committed */
+  ew_output_set_abort(j.set); /* nothing new appears after an error */
+  ew_spectra_free(j.sp);      /* removes spectra temporaries not committed */
   ew_result_free(j.res);
   ew_stack_free(j.st);
   ew_catalogue_free(j.cat);

@@ -4,8 +4,9 @@
  *
  * Output discipline (README "Exit codes"): on any error nothing is written to standard
  * output and no output file is left half-written, so standard output is assembled in memory
- * and written only on success, and --csv FILE is written under a temporary name in the same
- * directory and renamed into place (ew_output_file_*).  Uses the public API only
+ * and written only on success, and the files of a sweep (--csv FILE, --plot FILE) are staged
+ * in one set before any point is solved and put in place together (ew_output_set_*).  Uses
+ * the public API only
  * (epiwell.h); each command is an options struct and its parse / run / write steps. */
 #include <errno.h>
 #include <math.h>
@@ -243,23 +244,54 @@ static void sweep_plot_notes(const char *plot_path, const int written[EW_SWEEP_P
   }
 }
 
-/* Solve, then the pictures under temporary names, then the CSV into place, then the
- * pictures: an error anywhere leaves no new file.  Returns the exit code. */
-static int sweep_write(sweep_cmd *s, ew_output_file *csv_file, membuf *out) {
+/* The sweep's output files, staged in one set before any point is solved (the CSV and the
+ * pictures appear together, or none does). */
+#define SWEEP_STAGED_MAX (EW_CLI_PATH_MAX + 512)
+typedef struct {
+  ew_output_set *set;
+  ew_output_file *csv;
+  char w_csv[SWEEP_STAGED_MAX], w_plot[SWEEP_STAGED_MAX];
+} sweep_files;
+
+static ew_status sweep_stage(const sweep_cmd *s, sweep_files *fs, ew_error *err) {
+  ew_status st = ew_output_set_create(&fs->set, err);
+  if (st == EW_OK && s->csv_path) {
+    st = ew_data_path_check(s->csv_path, "--csv", err);
+    if (st == EW_OK) st = ew_output_set_file(fs->set, s->csv_path, 0, fs->w_csv,
+                                             sizeof fs->w_csv, err);
+    if (st == EW_OK) st = ew_output_file_open(fs->w_csv, &fs->csv, err);
+    if (st != EW_OK && !strstr(err->message, "--csv")) ew_cli_prefix(err, "--csv");
+  }
+  for (int f = 0; st == EW_OK && s->plot_path && f < EW_SWEEP_PLOT_FILES; f++) {
+    char pp[EW_CLI_PATH_MAX], w[SWEEP_STAGED_MAX];
+    st = ew_plot_companion_name(s->plot_path, ew_sweep_plot_suffix(f), "--plot", pp, sizeof pp,
+                                err);
+    if (st == EW_OK) st = ew_output_set_file(fs->set, pp, 0, f ? w : fs->w_plot, sizeof w, err);
+    if (st != EW_OK && !strstr(err->message, "--plot")) ew_cli_prefix(err, "--plot");
+  }
+  return st;
+}
+
+/* Solve, then the CSV and the pictures at their staged names, then all of them into place:
+ * an error anywhere leaves no new file.  Returns the exit code. */
+static int sweep_write(sweep_cmd *s, sweep_files *fs, membuf *out) {
   ew_error err = {0};
-  FILE *csv = csv_file ? ew_output_file_stream(csv_file) : (s->c.json ? NULL : out->f);
+  FILE *csv = fs->csv ? ew_output_file_stream(fs->csv) : (s->c.json ? NULL : out->f);
   FILE *json = s->c.json ? out->f : NULL;
   int written[EW_SWEEP_PLOT_FILES] = {0};
-  int rc = 0;
   ew_status st = ew_sweep_compute(s->sw, &s->so, csv, json, &err);
-  if (st == EW_OK && s->plot_path) st = ew_sweep_stage_plots(s->sw, s->plot_path, written, &err);
-  if (st != EW_OK) rc = report(&err);
-  if (csv_file && st == EW_OK) {
-    if (ew_output_file_commit(csv_file, &err) != EW_OK) rc = report(&err);
-  } else if (csv_file) {
-    ew_output_file_abort(csv_file);
+  if (st == EW_OK && s->plot_path) st = ew_sweep_stage_plots(s->sw, fs->w_plot, written, &err);
+  if (st == EW_OK && s->plot_path) st = ew_sweep_commit_plots(s->sw, 1, &err);
+  if (st == EW_OK && fs->csv) st = ew_output_file_commit(fs->csv, &err);
+  else ew_output_file_abort(fs->csv);
+  fs->csv = NULL;
+  if (st == EW_OK) {
+    st = ew_output_set_commit(fs->set, &err);
+    fs->set = NULL;
+  } else {
+    ew_output_set_explain(fs->set, &err);
   }
-  if (ew_sweep_commit_plots(s->sw, rc == 0, &err) != EW_OK && !rc) rc = report(&err);
+  int rc = st == EW_OK ? 0 : report(&err);
   if (!rc && s->plot_path) sweep_plot_notes(s->plot_path, written);
   int io = mem_finish(out, rc == 0);
   return rc ? rc : io;
@@ -276,24 +308,23 @@ static int sweep_run(sweep_cmd *s) {
   }
   s->c.solve.excitons = 0; /* the sweep's columns hold no PL peaks: skip the exciton work */
   ew_catalogue *cat = NULL;
-  ew_output_file *csv_file = NULL;
+  sweep_files fs;
+  memset(&fs, 0, sizeof fs);
   membuf out = {NULL, 0, NULL};
   ew_error err = {0};
   int rc = 0;
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
-      ew_sweep_open(s->sw, s->path, cat, &s->c.solve, &err) != EW_OK) {
-    rc = report(&err);
-  } else if (s->csv_path && (ew_data_path_check(s->csv_path, "--csv", &err) != EW_OK ||
-                              ew_output_file_open(s->csv_path, &csv_file, &err) != EW_OK)) {
-    if (!strstr(err.message, "--csv")) ew_cli_prefix(&err, "--csv");
+      ew_sweep_open(s->sw, s->path, cat, &s->c.solve, &err) != EW_OK ||
+      sweep_stage(s, &fs, &err) != EW_OK) {
     rc = report(&err);
   } else if (!mem_open(&out)) {
-    ew_output_file_abort(csv_file);
     rc = EW_ERR_NOMEM;
     fprintf(stderr, "epiwell: out of memory\n");
   } else {
-    rc = sweep_write(s, csv_file, &out); /* commits or aborts csv_file */
+    rc = sweep_write(s, &fs, &out); /* commits or leaves fs to be aborted */
   }
+  ew_output_file_abort(fs.csv);
+  ew_output_set_abort(fs.set);
   ew_catalogue_free(cat);
   return rc;
 }

@@ -302,6 +302,42 @@ FILE *ew_output_file_stream(ew_output_file *f);
 ew_status ew_output_file_commit(ew_output_file *f, ew_error *err);
 void ew_output_file_abort(ew_output_file *f); /* NULL is a no-op */
 
+/* ---- all outputs of one run, committed together (api_output_file.c) -------------------
+ * create → stage every target before the work (the checks and the directory lock happen
+ * here) → write each output at the staged name given → commit (all put in place) or abort
+ * (none; the previous outputs stay as they were).
+ * A directory (ew_output_set_dir, `-o DIR`) appears all at once: it is written into a sibling
+ * temporary directory and swapped in with one rename.  DIR is locked from staging to commit
+ * (".DIR.lock" beside it): a second run on it fails at once, naming the first one's PID.
+ * Files of a previous DIR that this run does not write are kept, except the CSV set's own
+ * names (profile.csv, levels.csv, lines.csv, wavefunctions.csv and .csv.gz); a DIR holding a
+ * subdirectory is refused.  Single files (ew_output_set_file) are written in private
+ * staging directories beside their targets and renamed in at commit.  What a killed run left
+ * behind is removed by the next run on the same targets.  README "Output files" says more. */
+typedef struct ew_output_set ew_output_set;
+ew_status ew_output_set_create(ew_output_set **out, ew_error *err);
+/* Stage dir as a whole (once per set); the directory to write it into into work[size] (out;
+ * ew_output_set_write_csv writes the CSV set there).  EW_ERR_IO naming dir when it cannot be
+ * used or another run holds it. */
+ew_status ew_output_set_dir(ew_output_set *s, const char *dir, char *work, size_t size,
+                            ew_error *err);
+/* Stage the file path (make_dir: create its directory when missing, as `--report DIR`
+ * does); the name to write instead into work[size] (out): a path ending in path's own base
+ * name, so a writer that takes a directory is given work's directory part.  A file in the
+ * staged directory joins its set.  EW_ERR_IO naming path when it exists and is not a regular
+ * file (a FIFO, a device, a directory) or its directory is missing or not writable. */
+ew_status ew_output_set_file(ew_output_set *s, const char *path, int make_dir, char *work,
+                             size_t size, ew_error *err);
+/* The CSV set of res (as ew_result_write_csv_dir writes it) into the staged directory. */
+ew_status ew_output_set_write_csv(ew_output_set *s, const ew_result *res, int gzip,
+                                  ew_error *err);
+/* After a writer failed: staged names in err (file and message) rewritten to the targets. */
+void ew_output_set_explain(const ew_output_set *s, ew_error *err);
+/* Put every output in place and free s; EW_ERR_IO when that failed (what was not put in
+ * place is removed). */
+ew_status ew_output_set_commit(ew_output_set *s, ew_error *err);
+void ew_output_set_abort(ew_output_set *s); /* removes every staged file, frees s; NULL no-op */
+
 /* ---- absorption spectra of a result (api_spectra.c) ----------------------------------- */
 #define EW_WF_DEFAULT_ANGLE_DEG 45.0 /* internal angle of a 45° polished facet */
 /* GaAs near 10 µm, from memory (the GaAs refractive index falls from ~3.6 at 0.9 µm to ~3.3

@@ -475,7 +475,9 @@ static ew_status dir_ready(const char *dir, int create, ew_error *err) {
     if (errno != ENOENT)
       return ew_fail(err, EW_ERR_IO, dir, 0, "cannot use output directory: %s", strerror(errno));
     if (create) {
-      if (mkdir(dir, 0777) != 0)
+      /* another run may make it meanwhile: a directory there is fine */
+      if (mkdir(dir, 0777) != 0 &&
+          !(errno == EEXIST && stat(dir, &sb) == 0 && S_ISDIR(sb.st_mode)))
         return ew_fail(err, EW_ERR_IO, dir, 0, "cannot create output directory: %s",
                        strerror(errno));
       return EW_OK;

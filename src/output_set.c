@@ -1,5 +1,5 @@
-/* output_set.c — output files renamed into place together, and writable-path checks (see
- * output_set.h). */
+/* output_set.c — output files renamed into place together (an atomic.c transaction), and
+ * writable-path checks (see output_set.h). */
 #include "output_set.h"
 
 #include <errno.h>
@@ -10,43 +10,23 @@
 
 #include "error.h"
 
-void ew_wf_outset_init(ew_wf_outset *s) { memset(s, 0, sizeof *s); }
+void ew_wf_outset_init(ew_wf_outset *s) { ew_atomic_txn_init(&s->txn); }
 
 ew_status ew_wf_outset_add(ew_wf_outset *s, const char *path, const char *opt,
                            const char **tmp, ew_error *err) {
-  *tmp = NULL;
-  if (s->n >= EW_WF_SET_MAX)
-    return ew_fail(err, EW_ERR_IO, path, 0, "%s: too many output files at once", opt);
-  const char *sl = strrchr(path, '/');
-  const char *base = sl ? sl + 1 : path;
-  int dl = sl ? (int)(sl - path) + 1 : 0; /* the directory with its slash */
-  char *t = s->tmp_path[s->n];
-  int w = snprintf(t, EW_WF_PATH_MAX, "%.*s.epiwell-%ld-%zu-%s", dl, path, (long)getpid(), s->n,
-                   base);
-  if (!base[0] || strlen(path) >= EW_WF_PATH_MAX || w < 0 || w >= EW_WF_PATH_MAX)
-    return ew_fail(err, EW_ERR_IO, path, 0, "%s %s: not a usable file name (empty or longer "
-                   "than %d bytes)", opt, path, EW_WF_PATH_MAX - 64);
-  snprintf(s->final_path[s->n], EW_WF_PATH_MAX, "%s", path);
-  *tmp = t;
-  s->n++;
-  return EW_OK;
+  ew_status rc = ew_atomic_txn_file(&s->txn, path, 0, tmp, err);
+  if (rc != EW_OK && err) { /* the option the path came from, as the command shows it */
+    char msg[900];
+    snprintf(msg, sizeof msg, "%.899s", err->message);
+    snprintf(err->message, sizeof err->message, "%.100s: %s", opt, msg);
+  }
+  return rc;
 }
 
 ew_status ew_wf_outset_commit(ew_wf_outset *s, int ok, ew_error *err) {
-  ew_status rc = EW_OK;
-  for (size_t k = 0; k < s->n; k++) {
-    if (ok && rc == EW_OK) {
-      if (rename(s->tmp_path[k], s->final_path[k]) != 0) {
-        rc = ew_fail(err, EW_ERR_IO, s->final_path[k], 0, "cannot rename into place: %s",
-                     strerror(errno));
-        remove(s->tmp_path[k]);
-      }
-    } else {
-      remove(s->tmp_path[k]); /* a file never written is no error */
-    }
-  }
-  s->n = 0;
-  return rc;
+  if (ok) return ew_atomic_txn_commit(&s->txn, err);
+  ew_atomic_txn_abort(&s->txn);
+  return EW_OK;
 }
 
 ew_status ew_wf_check_file_path(const char *path, const char *opt, ew_error *err) {

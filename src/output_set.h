@@ -6,23 +6,22 @@
 
 #include <stddef.h>
 
+#include "atomic.h"
 #include "epiwell.h"
 
 #define EW_WF_PATH_MAX 1024
-#define EW_WF_SET_MAX 4
 
-/* Files written under temporary names in their target's directory (".epiwell-PID-K-NAME",
- * so the extension is kept) and renamed into place together by ew_wf_outset_commit: on an
- * error none of them appears and the previous files stay intact. */
+/* Files staged through an atomic.c transaction (each in a private staging directory in its
+ * target's directory, under the target's base name, so the extension is kept) and renamed into
+ * place together by ew_wf_outset_commit: on an error none of them appears and the previous
+ * files stay intact. */
 typedef struct {
-  size_t n;
-  char final_path[EW_WF_SET_MAX][EW_WF_PATH_MAX];
-  char tmp_path[EW_WF_SET_MAX][EW_WF_PATH_MAX];
+  ew_atomic_txn txn;
 } ew_wf_outset;
 
 void ew_wf_outset_init(ew_wf_outset *s);
-/* Register path; *tmp receives the temporary name to write.  EW_ERR_IO (naming opt_name)
- * when the name is too long or the set is full. */
+/* Register path; *tmp receives the staged name to write.  EW_ERR_IO (naming opt_name) when
+ * the name is unusable, the target is not a regular file, or the set is full. */
 ew_status ew_wf_outset_add(ew_wf_outset *s, const char *path, const char *opt_name,
                            const char **tmp, ew_error *err);
 /* ok: rename every temporary file into place (EW_ERR_IO naming the file that failed; the
