@@ -619,9 +619,11 @@ static ew_status read_layer_thickness(reader *r, const config_setting_t *g, cons
   if (!got && !got_ml)
     return fail(r, ll->line, "layer '%s' has no 'thickness' (nm) or 'thickness_ml' "
                 "(monolayers)", L->name);
-  if (got_ml && (L->thickness_ml < 1 || L->thickness_ml != floor(L->thickness_ml) ||
-                 L->thickness_ml > 1e5))
-    return fail(r, lml, "thickness_ml of layer '%s' must be a whole number of monolayers >= 1 "
+  /* a fractional value is an average coverage (1.5 ML of a grown island layer): the
+   * envelope-function model cannot see islands, so the layer is a continuum slab of that
+   * mean thickness (resolve_layer_bands converts it) */
+  if (got_ml && !(L->thickness_ml > 0 && L->thickness_ml <= 1e5))
+    return fail(r, lml, "thickness_ml of layer '%s' must be a positive number of monolayers "
                 "(got %g)", L->name, L->thickness_ml);
   if (got && L->thickness_nm <= 0)
     return fail(r, lth, "thickness of layer '%s' must be positive (got %g nm)", L->name,
@@ -764,6 +766,9 @@ static ew_status resolve_layer_bands(reader *r, ew_layer *L, double T, const lay
                 "'%s' does not have; give 'thickness' in nm", L->name, L->material);
   /* pseudomorphic: the growth-axis lattice constant is a (1 + ε⊥) */
   L->thickness_nm = L->thickness_ml * 0.5 * L->bands.a_nm * (1.0 + L->bands.eps_perp);
+  if (L->thickness_nm < MIN_LAYER_NM) /* robustness: see MIN_LAYER_NM */
+    return fail(r, ll->thickness_ml, "layer '%s': %g ML is %g nm, below the %g nm minimum",
+                L->name, L->thickness_ml, L->thickness_nm, MIN_LAYER_NM);
   if (L->thickness_nm > MAX_LAYER_NM)
     return fail(r, ll->thickness_ml, "layer '%s' is %g nm thick, above the %g nm limit", L->name,
                 L->thickness_nm, MAX_LAYER_NM);

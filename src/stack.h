@@ -26,7 +26,7 @@ typedef struct {
   ew_bands bands;             /* resolved band parameters (graded: at the layer's centre) */
   double y;                   /* second composition (quaternaries), 0 otherwise */
   int has_y;
-  double thickness_ml;        /* > 0 when given as whole monolayers (thickness_ml) */
+  double thickness_ml;        /* > 0 when given in monolayers (thickness_ml; may be fractional) */
   ew_grade grade;             /* composition grading */
   double x_start, x_end;      /* linear: x at the layer's first and last face */
   double x_centre, x_edge;    /* parabolic: x at the centre and at both faces */

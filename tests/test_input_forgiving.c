@@ -173,6 +173,32 @@ static void test_composition_substrate(void **state) {
   assert_same_levels(fx->cat, a, b);
 }
 
+/* thickness_ml = 1.5 (an average coverage) is a continuum slab of 1.5 × a/2: GaAs
+ * a = 0.565325 nm at 300 K (I. Vurgaftman, J. R. Meyer, L. R. Ram-Mohan, J. Appl. Phys. 89,
+ * 5815 (2001), Table I), so 0.42398... nm; it solves exactly as that thickness in nm does. */
+static void test_fractional_monolayers(void **state) {
+  fixture *fx = *state;
+  const char *ml = "temperature = 300.0;\ngrid_step = 0.1;\nlayers = (\n"
+                   " { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 10.0; },\n"
+                   " { name = \"w\"; material = \"GaAs\"; thickness_ml = 13.5; },\n"
+                   " { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 10.0; }\n);\n";
+  ew_stack *st = NULL;
+  ew_error err;
+  assert_int_equal(ew_stack_read_string(ml, "t.cfg", fx->cat, &st, &err), EW_OK);
+  const double ml_nm = 0.565325 / 2.0;
+  TU_NEAR(st->layers[1].thickness_nm, 13.5 * ml_nm, 1e-12,
+          "the catalogue's GaAs lattice constant is the review's to all digits");
+  /* the same slab in nm, written to the digits %.17g keeps */
+  char nm[1024];
+  snprintf(nm, sizeof nm, "temperature = 300.0;\ngrid_step = 0.1;\nlayers = (\n"
+           " { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 10.0; },\n"
+           " { name = \"w\"; material = \"GaAs\"; thickness = %.17g; },\n"
+           " { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 10.0; }\n);\n",
+           st->layers[1].thickness_nm);
+  ew_stack_free(st);
+  assert_same_levels(fx->cat, ml, nm);
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(test_bom),
@@ -180,6 +206,7 @@ int main(void) {
       cmocka_unit_test(test_composition_names),
       cmocka_unit_test(test_composition_refused),
       cmocka_unit_test(test_composition_substrate),
+      cmocka_unit_test(test_fractional_monolayers),
   };
   return cmocka_run_group_tests_name("input_forgiving", tests, group_setup, group_teardown);
 }
