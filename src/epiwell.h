@@ -270,7 +270,8 @@ ew_status ew_result_write_csv_dir(const ew_result *res, const char *dir, int gzi
 /* Band diagram picture at path (.svg or .png, see ew_plot_format); or as SVG text to out. */
 ew_status ew_result_write_band_diagram(const ew_result *res, const char *path, ew_error *err);
 ew_status ew_result_write_band_diagram_svg(const ew_result *res, FILE *out, ew_error *err);
-/* dir/report.html: one self-contained page (cat may be NULL: no material table). */
+/* dir/report.html, or dir itself when it ends in .html: one self-contained page (cat may
+ * be NULL: no material table). */
 ew_status ew_result_write_report(const ew_result *res, const ew_catalogue *cat,
                                  const char *dir, ew_error *err);
 

@@ -1141,6 +1141,46 @@ static int include_line(const char *text) {
   return 0;
 }
 
+/* The reader's keys for a group of a parsed tree, found from where the group sits; NULL when
+ * the group is not one the reader gives a fixed set of keys. */
+static const char *const *keys_of_group(const config_setting_t *g, size_t *n) {
+  static const char *const surface_keys[] = {"barrier"};
+  static const char *const entry_keys[] = {"value", "per_x"};
+  const config_setting_t *parent = config_setting_parent(g);
+  const char *name = config_setting_name(g), *pname = parent ? config_setting_name(parent) : NULL;
+#define KEYS(a) (*n = COUNT(a), a)
+  if (!parent) return KEYS(top_keys);
+  if (!name && pname && !strcmp(pname, "layers")) return KEYS(layer_keys);
+  if (!name && pname && !strcmp(pname, "materials")) return KEYS(umat_keys);
+  if (!name && pname && !strcmp(pname, "alloys")) return KEYS(alloy_keys);
+  if (!name) return NULL;
+  if (!strcmp(name, "doping")) return KEYS(doping_keys);
+  if (!strcmp(name, "grade")) return KEYS(grade_keys);
+  if (!strcmp(name, "substrate")) return KEYS(substrate_keys);
+  if (!strcmp(name, "surface")) return KEYS(surface_keys);
+  if (!strcmp(name, "bowing")) return KEYS(bowing_keys);
+  if (pname && !strcmp(pname, "bowing")) return KEYS(entry_keys);
+#undef KEYS
+  return NULL;
+}
+
+ew_status ew_stack_check_key(const config_setting_t *group, const char *key, const char *opt,
+                             const char *full_key, ew_error *err) {
+  size_t n = 0;
+  const char *const *keys = group ? keys_of_group(group, &n) : NULL;
+  for (size_t k = 0; keys && k < n; k++)
+    if (!strcmp(keys[k], key)) return EW_OK;
+  if (!keys) return EW_OK;
+  const char *hint = ew_text_nearest(key, keys, n);
+  if (hint)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: unknown key '%s'; did you mean '%s'?",
+                   opt, full_key, key, hint);
+  char list[256];
+  join_keys(list, sizeof list, keys, n);
+  return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: unknown key '%s' (valid keys: %s)", opt,
+                 full_key, key, list);
+}
+
 /* Build the stack from a parsed tree.  text, when not NULL, is the source the tree was parsed
  * from (to re-check integer literals, see int_is_exact); NULL when values were set in the tree
  * after parsing (stack editing), where every stored integer is exact. */

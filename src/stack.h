@@ -86,6 +86,12 @@ void ew_stack_interface(const ew_stack *st, size_t k, ew_interface *out);
  * name display_name and the line each setting had in the parsed text.  Same checks and
  * ownership as ew_stack_read_string; *out = NULL on error.  The tree is not changed. */
 struct config_t;
+struct config_setting_t;
+/* EW_OK when the reader accepts `key` in `group` of a parsed stack tree (or gives that group
+ * no fixed key set); else EW_ERR_USAGE, "OPT FULL_KEY: unknown key ... did you mean": a
+ * --vary of a misspelt key is a command-line error, found before any point runs. */
+ew_status ew_stack_check_key(const struct config_setting_t *group, const char *key,
+                             const char *opt, const char *full_key, ew_error *err);
 ew_status ew_stack_from_config(const struct config_t *cfg, const char *display_name,
                                const ew_catalogue *cat, ew_stack **out, ew_error *err);
 

@@ -1,0 +1,87 @@
+#!/bin/sh
+# practitioner_cli.sh [BINARY] — what a practitioner trips over on the command line (issue 17):
+# forgiven input forms, command-line errors that are exit 1 with a one-line cause and a pointer
+# at --help, and --report FILE.html.  POSIX sh; one "ok"/"not ok" line per check and a last
+# line "practitioner: N passed, M failed".  Runs from the project root.
+. "$(dirname "$0")/lib.sh"
+use_binary "${1:-build/epiwell}"
+cd "$root" || exit 1
+make_tmp prac "practitioner: 0 passed, 1 failed"
+
+check() { # check WHAT CONDITION-COMMAND...
+  what=$1
+  shift
+  if "$@"; then ok "$what"; else nok "$what" "exit $rc; stderr: $(head -n 3 "$tmp/err" | tr '\n' '|')"; fi
+}
+has() { grep -q -- "$1" "$2"; }
+
+det=examples/detector_well.cfg
+
+# ---- a byte-order mark: the same file solves to the same bytes ---------------------------
+printf '\357\273\277' >"$tmp/bom.cfg"   # EF BB BF, the UTF-8 BOM (RFC 3629)
+cat $det >>"$tmp/bom.cfg"
+run "$bin" solve $det --json
+cp "$tmp/out" "$tmp/plain.json"
+run "$bin" solve "$tmp/bom.cfg" --json
+check "BOM: exit 0" [ "$rc" -eq 0 ]
+# the stack's path differs; every other byte of the JSON must be the same
+nopath() { sed 's|"stack":"[^"]*"|"stack":P|' "$1"; }
+nopath "$tmp/plain.json" >"$tmp/plain.np"
+check "BOM: the JSON equals that of the file without it (but the path)" \
+  sh -c "[ -s '$tmp/plain.np' ] && sed 's|\"stack\":\"[^\"]*\"|\"stack\":P|' '$tmp/out' | cmp -s - '$tmp/plain.np'"
+
+# ---- specific syntax messages with file:line (exit 2) -------------------------------------
+slip() { # slip WHAT LINE MESSAGE SED-EXPRESSION: the detector file with one slip
+  sed "$4" $det >"$tmp/slip.cfg"
+  run "$bin" solve "$tmp/slip.cfg"
+  check "$1: exit 2, '$3' at line $2" sh -c "[ $rc -eq 2 ] && grep -q -- 'slip.cfg:$2: .*$3' '$tmp/err'"
+}
+slip "unit after a thickness" 6 "write the number without a unit: nm is implied" \
+  's/thickness = 6.2;/thickness = 6.2 nm;/'
+slip "unit after the temperature" 3 "write the number without a unit: K is implied" \
+  's/temperature = 77.0;/temperature = 77 K;/'
+slip "decimal comma" 5 "use a decimal point (x = 0.28)" '5s/x = 0.28;/x = 0,28;/'
+slip "unquoted substrate" 4 'quote the name (substrate = "GaAs";)' '3a substrate = GaAs;'
+
+# ---- composition in the name: same levels as catalogue name + x ---------------------------
+sed 's/material = "AlGaAs"; x = 0.28;/material = "Al0.28Ga0.72As";/' $det >"$tmp/named.cfg"
+run "$bin" solve "$tmp/named.cfg" --json
+nopath "$tmp/out" >"$tmp/named.np"
+check "Al0.28Ga0.72As: exit 0 and the JSON (layers, levels, lines) equals that of AlGaAs, x = 0.28" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/named.np' '$tmp/plain.np'"
+sed '5s/material = "AlGaAs"; x = 0.28;/material = "Al0.28Ga0.72As"; x = 0.28;/' $det >"$tmp/twice.cfg"
+run "$bin" solve "$tmp/twice.cfg"
+check "a name with a composition plus x: exit 2, 'x given twice' at line 5" \
+  sh -c "[ $rc -eq 2 ] && grep -q 'twice.cfg:5: .*x given twice' '$tmp/err'"
+
+# ---- command-line errors: exit 1, the cause and one line pointing at --help ----------------
+run "$bin" sweep $det --vary well.thicknes=5:6:0.5
+check "--vary well.thicknes: exit 1 (a command-line error, not a stack error)" [ "$rc" -eq 1 ]
+check "--vary well.thicknes: says did you mean 'thickness'" has "did you mean 'thickness'" "$tmp/err"
+check "--vary well.thicknes: two lines on stderr, the second pointing at --help" \
+  sh -c "[ \$(wc -l <'$tmp/err') -eq 2 ] && tail -n 1 '$tmp/err' | grep -q -- \"--help' for the usage\""
+run "$bin" match $det --vary well.thicknes=5:7 --line e1-e2 --target 9um
+check "match --vary well.thicknes: exit 1" [ "$rc" -eq 1 ]
+run "$bin" sweep $det --vary well.doping.donorz=0:1:1
+check "--vary of a missing group: exit 1" [ "$rc" -eq 1 ]
+run "$bin" sweep $det --vary field=0:10:10
+check "--vary of a valid key absent from the file (field) still runs" [ "$rc" -eq 0 ]
+run "$bin" solve $det --bogus
+check "unknown option: exit 1, exactly 2 lines on stderr (cause, --help pointer)" \
+  sh -c "[ $rc -eq 1 ] && [ \$(wc -l <'$tmp/err') -eq 2 ] && head -n 1 '$tmp/err' | grep -q 'unknown option --bogus' && tail -n 1 '$tmp/err' | grep -q \"run 'epiwell --help'\""
+run "$bin" sweep $det --bogus
+check "sweep: the pointer names 'epiwell sweep --help'" \
+  sh -c "[ $rc -eq 1 ] && [ \$(wc -l <'$tmp/err') -eq 2 ] && grep -q \"run 'epiwell sweep --help'\" '$tmp/err'"
+
+# ---- --report FILE.html is the page --------------------------------------------------------
+run "$bin" solve $det --report "$tmp/page.html"
+check "--report page.html: exit 0, a regular file (not a directory)" \
+  sh -c "[ $rc -eq 0 ] && [ -f '$tmp/page.html' ] && grep -q '</html>' '$tmp/page.html'"
+run "$bin" solve $det --report "$tmp/rdir"
+check "--report DIR: still DIR/report.html" [ -f "$tmp/rdir/report.html" ]
+mkdir "$tmp/taken.html"
+run "$bin" solve $det --report "$tmp/taken.html"
+check "--report X.html that is a directory: refused before work (exit 5), nothing inside" \
+  sh -c "[ $rc -eq 5 ] && [ ! -e '$tmp/taken.html/report.html' ] && [ ! -s '$tmp/out' ]"
+
+finish practitioner
