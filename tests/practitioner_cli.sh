@@ -73,6 +73,32 @@ run "$bin" sweep $det --bogus
 check "sweep: the pointer names 'epiwell sweep --help'" \
   sh -c "[ $rc -eq 1 ] && [ \$(wc -l <'$tmp/err') -eq 2 ] && grep -q \"run 'epiwell sweep --help'\" '$tmp/err'"
 
+# ---- tied keys: one --vary sets both barriers; its rows are the diagonal of the 2-D sweep ---
+run "$bin" sweep $det --vary lower_barrier.x,upper_barrier.x=0.2:0.4:0.1
+cp "$tmp/out" "$tmp/tied.csv"
+check "tied --vary: exit 0, 3 rows, the key column quoted (RFC 4180)" \
+  sh -c "[ $rc -eq 0 ] && [ \$(tail -n +2 '$tmp/tied.csv' | wc -l) -eq 3 ] && head -n 1 '$tmp/tied.csv' | grep -q '^\"lower_barrier.x,upper_barrier.x\",e1_eV,'"
+run "$bin" sweep $det --vary lower_barrier.x=0.2:0.4:0.1 --vary upper_barrier.x=0.2:0.4:0.1
+cp "$tmp/out" "$tmp/grid.csv"
+check "tied --vary: e1, e2, hh1 and e1-e2 of each row equal the 2-D sweep's diagonal to the digit" \
+  python3 - "$tmp/tied.csv" "$tmp/grid.csv" <<'PY'
+import csv, sys
+tied = list(csv.DictReader(open(sys.argv[1])))
+grid = list(csv.DictReader(open(sys.argv[2])))
+diag = [r for r in grid if r["lower_barrier.x"] == r["upper_barrier.x"]]
+assert len(tied) == 3 and len(diag) == 3
+for t, g in zip(tied, diag):
+    assert t["lower_barrier.x,upper_barrier.x"] == g["lower_barrier.x"]
+    for k in ("e1_eV", "e2_eV", "hh1_eV", "e1-e2_eV"):
+        assert t[k] == g[k] and t[k] != "", (k, t[k], g[k])
+# the barriers matter: the lines move with x (a tie that set only one key would move less)
+assert float(tied[2]["e1-e2_eV"]) > float(tied[0]["e1-e2_eV"])
+PY
+run "$bin" sweep $det --vary lower_barrier.x,upper_barrier.xx=0.2:0.4:0.1
+check "tied --vary with a misspelt key: exit 1, did you mean 'x'" sh -c "[ $rc -eq 1 ] && grep -q \"did you mean 'x'\" '$tmp/err'"
+run "$bin" sweep $det --vary lower_barrier.x,lower_barrier.x=0.2:0.4:0.1
+check "tied --vary with a key twice: exit 1" sh -c "[ $rc -eq 1 ] && grep -q 'given twice' '$tmp/err'"
+
 # ---- --report FILE.html is the page --------------------------------------------------------
 run "$bin" solve $det --report "$tmp/page.html"
 check "--report page.html: exit 0, a regular file (not a directory)" \
