@@ -210,8 +210,9 @@ static int solve_value(const char *a, const char *v, solve_opt *o) {
   } else if (!strcmp(a, "--grid-step")) {
     if (!parse_num(v, &o->opt.grid_step_nm) || o->opt.grid_step_nm <= 0 || o->opt.grid_step_nm > 1)
       return ew_cli_bad(usage, "--grid-step wants a step in nm in (0, 1], got %s", v);
-  } else if (!strcmp(v, "all")) { /* --lines */
+  } else if (!strcmp(v, "all")) { /* --lines: every pair, and the weak lines listed too */
     o->opt.lowest_levels = 0;
+    o->opt.line_min_strength = 0.0;
   } else {
     double k;
     if (!parse_num(v, &k) || k < 1 || k > 1e6 || k != floor(k))

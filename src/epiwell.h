@@ -91,6 +91,10 @@ typedef struct {
                           0 skips them (sweeps that report no PL peaks) */
   int sp_max_iterations; /* doped stacks: outer Schrödinger–Poisson iterations at most before
                             EW_ERR_NUMERIC; <= 0 means the default, 100 */
+  double line_min_strength; /* the terminal table (ew_result_write_table) leaves out the
+                               intersubband lines with f below this and the interband lines
+                               with overlap below it (default 1e-3: parity-forbidden lines);
+                               0 lists every line.  JSON and CSV always hold every line. */
 } ew_options;
 
 void ew_options_default(ew_options *opt);

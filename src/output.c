@@ -110,11 +110,24 @@ static double pl_peak_nm(const ew_line *ln) {
   return ln->pl_peak_eV > 0 && isfinite(ln->pl_peak_eV) ? EW_HC_EVNM / ln->pl_peak_eV : NAN;
 }
 
+/* One line each for the lines the table leaves out (ew_options line_min_strength). */
+static void table_hidden(const char *what, size_t n, double min, FILE *out) {
+  if (n)
+    fprintf(out, "  (%zu line%s with %s < %g not listed: `--lines all` lists every line)\n", n,
+            n == 1 ? "" : "s", what, min);
+}
+
 static void table_lines(const ew_result *r, FILE *out) {
   int head = 0;
+  double min = r->opt.line_min_strength > 0 ? r->opt.line_min_strength : 0.0;
+  size_t hidden = 0;
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
     if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+    if (ln->oscillator_strength < min) { /* f = 0 by parity in a symmetric well */
+      hidden++;
+      continue;
+    }
     if (!head++)
       fprintf(out, "\nIntersubband lines (TM, light polarised along z)\n  %-10s %11s %10s %10s %9s\n",
               "line", "energy_meV", "lambda_um", "dipole_nm", "f");
@@ -123,10 +136,17 @@ static void table_lines(const ew_result *r, FILE *out) {
     fprintf(out, "  %-10s %11.3f %10.4f %10.4f %9.4f\n", nm, ln->energy_eV * 1e3,
             ln->wavelength_nm / 1e3, ln->dipole_nm, ln->oscillator_strength);
   }
+  if (!head && hidden) fprintf(out, "\nIntersubband lines (TM, light polarised along z)\n");
+  table_hidden("f", hidden, min, out);
   head = 0;
+  hidden = 0;
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
     if (ln->kind != EW_LINE_INTERBAND) continue;
+    if (ln->overlap < min) {
+      hidden++;
+      continue;
+    }
     if (!head++)
       fprintf(out, "\nInterband lines (band to band; PL peak = line − exciton binding)\n"
                    "  %-10s %11s %10s %9s %10s %10s %8s %6s %6s  %s\n",
@@ -139,6 +159,8 @@ static void table_lines(const ew_result *r, FILE *out) {
             ln->pl_peak_eV, pl_peak_nm(ln), ln->te_strength, ln->tm_strength,
             ln->allowed ? "allowed" : "forbidden");
   }
+  if (!head && hidden) fprintf(out, "\nInterband lines (band to band)\n");
+  table_hidden("overlap", hidden, min, out);
 }
 
 /* Self-consistent Schrödinger–Poisson (doped stacks): Fermi level, densities, sheet

@@ -99,6 +99,20 @@ check "tied --vary with a misspelt key: exit 1, did you mean 'x'" sh -c "[ $rc -
 run "$bin" sweep $det --vary lower_barrier.x,lower_barrier.x=0.2:0.4:0.1
 check "tied --vary with a key twice: exit 1" sh -c "[ $rc -eq 1 ] && grep -q 'given twice' '$tmp/err'"
 
+# ---- --lines: weak lines hidden by default, --lines all lists them, --lines K still works ---
+run "$bin" solve $det
+check "solve: the parity-forbidden hh1-hh3 (f = 0) is not listed, and a note says so" \
+  sh -c "! grep -q '^  hh1-hh3 ' '$tmp/out' && grep -q 'with f < 0.001 not listed' '$tmp/out' && grep -q '^  e1-e2 ' '$tmp/out'"
+run "$bin" solve $det --lines all
+check "solve --lines all: hh1-hh3 and e1-hh2 listed, no note" \
+  sh -c "[ $rc -eq 0 ] && grep -q '^  hh1-hh3 ' '$tmp/out' && grep -q '^  e1-hh2 ' '$tmp/out' && ! grep -q 'not listed' '$tmp/out'"
+run "$bin" solve $det --lines 1
+check "solve --lines 1: lines from the lowest level only (no hh2-hh3), e1-e2 kept" \
+  sh -c "[ $rc -eq 0 ] && grep -q '^  e1-e2 ' '$tmp/out' && ! grep -q '^  hh2-hh3 ' '$tmp/out'"
+run "$bin" solve $det --json
+check "solve --json keeps every line (hh1-hh3 in transitions)" \
+  sh -c "grep -q '\"upper\":\"hh3\",\"lower\":\"hh1\"' '$tmp/out'"
+
 # ---- --report FILE.html is the page --------------------------------------------------------
 run "$bin" solve $det --report "$tmp/page.html"
 check "--report page.html: exit 0, a regular file (not a directory)" \

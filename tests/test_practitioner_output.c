@@ -153,12 +153,67 @@ static void test_layer_table_y(void **state) {
   free(t);
 }
 
+/* 1 when the table lists line "lower-upper" (intersubband) or "upper-lower" (interband) */
+static int listed(const char *table, const char *name) {
+  char pat[48];
+  snprintf(pat, sizeof pat, "\n  %s ", name);
+  return strstr(table, pat) != NULL;
+}
+
+/* The table leaves out lines below line_min_strength (f for intersubband, overlap for
+ * interband; by default 1e-3) and says how many; 0 lists every line.  In the symmetric
+ * detector well hh1-hh3 and e1-hh2 are forbidden by parity (even-even intersubband, odd
+ * overlap; G. Bastard, Wave Mechanics Applied to Semiconductor Heterostructures, Les
+ * Éditions de Physique (1988), ch. III (from memory)), so both must be hidden. */
+static void test_lines_threshold(void **state) {
+  fixture *fx = *state;
+  char *t = table_text(fx->res);
+  size_t n_isb_hidden = 0, n_ib_hidden = 0;
+  for (size_t i = 0; i < ew_result_line_count(fx->res); i++) {
+    const ew_line *ln = ew_result_line(fx->res, i);
+    const ew_state *up = ew_result_state(fx->res, ln->upper), *lo = ew_result_state(fx->res, ln->lower);
+    char name[40];
+    int isb = ln->kind == EW_LINE_INTERSUBBAND;
+    snprintf(name, sizeof name, "%s-%s", isb ? lo->label : up->label, isb ? up->label : lo->label);
+    double strength = isb ? ln->oscillator_strength : ln->overlap;
+    if (strength < 1e-3) *(isb ? &n_isb_hidden : &n_ib_hidden) += 1;
+    if (listed(t, name) != (strength >= 1e-3))
+      print_error("%s (strength %g) listed %d\n", name, strength, listed(t, name));
+    assert_int_equal(listed(t, name), strength >= 1e-3);
+  }
+  assert_false(listed(t, "hh1-hh3"));
+  assert_false(listed(t, "e1-hh2"));
+  assert_true(listed(t, "e1-e2") && listed(t, "e1-hh1") && listed(t, "e1-hh3"));
+  char note[128];
+  snprintf(note, sizeof note, "(%zu line%s with f < 0.001 not listed", n_isb_hidden,
+           n_isb_hidden == 1 ? "" : "s");
+  assert_true(n_isb_hidden >= 1);
+  assert_non_null(strstr(t, note));
+  snprintf(note, sizeof note, "(%zu lines with overlap < 0.001 not listed", n_ib_hidden);
+  assert_true(n_ib_hidden >= 2);
+  assert_non_null(strstr(t, note));
+  free(t);
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.grid_step_nm = 0.1;
+  opt.line_min_strength = 0.0;
+  ew_result *all = NULL;
+  ew_error err = {0};
+  assert_int_equal(ew_solve(fx->st, &opt, &all, &err), EW_OK);
+  t = table_text(all);
+  assert_true(listed(t, "hh1-hh3") && listed(t, "e1-hh2"));
+  assert_null(strstr(t, "not listed"));
+  free(t);
+  ew_result_free(all);
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(test_pl_peak_nm_json),
       cmocka_unit_test(test_pl_peak_nm_csv),
       cmocka_unit_test(test_pl_peak_nm_table),
       cmocka_unit_test(test_layer_table_y),
+      cmocka_unit_test(test_lines_threshold),
   };
   return cmocka_run_group_tests_name("practitioner_output", tests, setup, teardown);
 }
