@@ -40,6 +40,7 @@ ew_status ew_stack_editor_open(const char *text, const ew_stack *nominal,
   config_init(&ed->cfg);
   ed->nominal = nominal;
   ed->cat = cat;
+  if (!strncmp(text, "\xEF\xBB\xBF", 3)) text += 3; /* a UTF-8 BOM, as the reader (stack.c) */
   if (!config_read_string(&ed->cfg, text)) {
     ew_stack_editor_free(ed);
     return ew_fail(err, EW_ERR_IO, nominal->path, 0, "cannot re-read '%s' with libconfig",

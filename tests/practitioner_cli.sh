@@ -30,6 +30,12 @@ nopath "$tmp/plain.json" >"$tmp/plain.np"
 check "BOM: the JSON equals that of the file without it (but the path)" \
   sh -c "[ -s '$tmp/plain.np' ] && sed 's|\"stack\":\"[^\"]*\"|\"stack\":P|' '$tmp/out' | cmp -s - '$tmp/plain.np'"
 
+run "$bin" sweep $det --vary well.thickness=6:7:1
+cp "$tmp/out" "$tmp/plain_sweep.csv"
+run "$bin" sweep "$tmp/bom.cfg" --vary well.thickness=6:7:1
+check "BOM: a sweep of the file gives the same CSV as without it" \
+  sh -c "[ $rc -eq 0 ] && [ -s '$tmp/out' ] && cmp -s '$tmp/out' '$tmp/plain_sweep.csv'"
+
 # ---- specific syntax messages with file:line (exit 2) -------------------------------------
 slip() { # slip WHAT LINE MESSAGE SED-EXPRESSION: the detector file with one slip
   sed "$4" $det >"$tmp/slip.cfg"
