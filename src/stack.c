@@ -1284,8 +1284,13 @@ static int explain_setting(const char *p, const char *end, char *msg, size_t siz
     int vlen = (int)(p - v);
     if ((vlen == 4 && !strncasecmp(v, "true", 4)) || (vlen == 5 && !strncasecmp(v, "false", 5)))
       return 0;
-    snprintf(msg, size, "'%.*s = %.*s': quote the name (%.*s = \"%.*s\";)", klen, k, vlen, v,
-             klen, k, vlen, v);
+    if (klen == 12 && !strncmp(k, "nonparabolic", 12))
+      snprintf(msg, size, "'%.*s = %.*s': write true or false", klen, k, vlen, v);
+    else if (implied_unit(k, (size_t)klen) || (klen == 1 && (*k == 'x' || *k == 'y')))
+      snprintf(msg, size, "'%.*s = %.*s': write a number", klen, k, vlen, v);
+    else
+      snprintf(msg, size, "'%.*s = %.*s': quote the name (%.*s = \"%.*s\";)", klen, k, vlen, v,
+               klen, k, vlen, v);
     return 1;
   }
   return 0;

@@ -102,6 +102,11 @@ static void test_syntax_messages(void **state) {
   /* a different unit than the key's: the message names the key's unit */
   snprintf(t, sizeof t, "temperature = 300.0;\nlayers = ( { material = \"GaAs\"; thickness = 80 A; } );\n");
   assert_message(fx->cat, t, 2, "('thickness' is in nm)");
+  /* a bare word where a boolean or a number belongs is not a name to quote */
+  snprintf(t, sizeof t, "temperature = 300.0;\nnonparabolic = yes;\n%s", L);
+  assert_message(fx->cat, t, 2, "'nonparabolic = yes': write true or false");
+  snprintf(t, sizeof t, "layers = (\n { material = \"AlGaAs\";\n   x = three; thickness = 8.0; }\n);\n");
+  assert_message(fx->cat, t, 3, "'x = three': write a number");
   /* an error the pre-scan does not recognise keeps the generic libconfig message */
   snprintf(t, sizeof t, "temperature = 300.0;\nlayers = ( { material = \"GaAs\"; thickness = 8.0; } ;\n");
   assert_message(fx->cat, t, 2, "libconfig syntax");
