@@ -182,6 +182,138 @@ long ew_catalogue_reordered(const ew_catalogue *cat, const char *name) {
   return -1;
 }
 
+/* ---- compositions written in the name ("Al0.3Ga0.7As") -------------------------------- */
+
+/* Column of the periodic table of an element symbol that a III–V alloy mixes: 3, 5 or 0. */
+static int iii_v_group(const char *sym) {
+  static const char *const iii[] = {"B", "Al", "Ga", "In", "Tl"};
+  static const char *const v[] = {"N", "P", "As", "Sb", "Bi"};
+  for (size_t i = 0; i < sizeof iii / sizeof iii[0]; i++)
+    if (!strcmp(sym, iii[i])) return 3;
+  for (size_t i = 0; i < sizeof v / sizeof v[0]; i++)
+    if (!strcmp(sym, v[i])) return 5;
+  return 0;
+}
+
+/* The two element symbols of a binary's name ("GaAs" → "Ga", "As"); 0 when it is not two. */
+static int binary_symbols(const char *name, char s[2][3]) {
+  int n = 0;
+  for (const char *p = name; *p; n++) {
+    if (n == 2 || !isupper((unsigned char)*p)) return 0;
+    s[n][0] = *p++;
+    s[n][1] = islower((unsigned char)*p) ? *p++ : '\0';
+    s[n][2] = '\0';
+  }
+  return n == 2;
+}
+
+/* The symbol of a that b lacks (a, b binaries sharing one element) into out; 0 if none. */
+static int symbol_not_in(const char *a, const char *b, char out[3]) {
+  char sa[2][3], sb[2][3];
+  if (!binary_symbols(a, sa) || !binary_symbols(b, sb)) return 0;
+  for (int i = 0; i < 2; i++)
+    if (strcmp(sa[i], sb[0]) && strcmp(sa[i], sb[1])) return memcpy(out, sa[i], 3), 1;
+  return 0;
+}
+
+/* The symbol two binaries share into out; 0 if none. */
+static int symbol_shared(const char *a, const char *b, char out[3]) {
+  char sa[2][3], sb[2][3];
+  if (!binary_symbols(a, sa) || !binary_symbols(b, sb)) return 0;
+  for (int i = 0; i < 2; i++)
+    if (!strcmp(sa[i], sb[0]) || !strcmp(sa[i], sb[1])) return memcpy(out, sa[i], 3), 1;
+  return 0;
+}
+
+/* The elements whose fractions the entry's x and y are (catalogue.h: a ternary's x is the
+ * fraction of its first binary; a square quaternary [AC, AD, BC, BD] has x of A, y of C;
+ * a triangle [AD, BD, CD] x of A, y of B).  1 on success. */
+static int composition_symbols(const ew_cat_entry *e, char xs[3], char ys[3]) {
+  ys[0] = '\0';
+  if (e->kind == EW_KIND_ALLOY) return e->first && e->second && symbol_not_in(e->first, e->second, xs);
+  if (e->kind != EW_KIND_QUATERNARY || e->n_corner < 3) return 0;
+  if (e->scheme == EW_SCHEME_SQUARE)
+    return e->n_corner == 4 && symbol_shared(e->corner[0], e->corner[1], xs) &&
+           symbol_shared(e->corner[0], e->corner[2], ys);
+  return symbol_not_in(e->corner[0], e->corner[1], xs) &&
+         symbol_not_in(e->corner[1], e->corner[0], ys);
+}
+
+/* name as symbols with fractions: sym[i], frac[i] (−1 when not written); the count, 0 when it
+ * is not of that form. */
+static int formula_terms(const char *name, char sym[8][3], double frac[8]) {
+  int n = 0;
+  for (const char *p = name; *p; n++) {
+    if (n == 8 || !isupper((unsigned char)*p)) return 0;
+    sym[n][0] = *p++;
+    sym[n][1] = islower((unsigned char)*p) ? *p++ : '\0';
+    sym[n][2] = '\0';
+    frac[n] = -1.0;
+    if (isdigit((unsigned char)*p) || *p == '.') {
+      char *end;
+      frac[n] = strtod(p, &end);
+      if (end == p || *end == 'e' || *end == 'E') return 0;
+      p = end;
+    }
+  }
+  return n;
+}
+
+/* Each group's fractions sum to 1 (a lone element of its group may go unwritten). */
+static int check_groups(const char *name, int n, char sym[8][3], const double frac[8],
+                        char *why, size_t size) {
+  for (int g = 3; g <= 5; g += 2) {
+    int count = 0, written = 0;
+    double sum = 0.0;
+    for (int i = 0; i < n; i++) {
+      if (iii_v_group(sym[i]) != g) continue;
+      count++;
+      if (frac[i] >= 0) written++, sum += frac[i];
+      if (frac[i] > 1.0)
+        return snprintf(why, size, "'%s': the fraction of %s is above 1", name, sym[i]), 0;
+    }
+    if (count == 1 && (written == 0 || fabs(sum - 1.0) <= 1e-9)) continue;
+    if (count < 2) return snprintf(why, size, "'%s' is not a III-V compound", name), 0;
+    if (written != count)
+      return snprintf(why, size, "'%s': write the fraction of every mixed group-%s element "
+                      "(e.g. Al0.3Ga0.7As)", name, g == 3 ? "III" : "V"), 0;
+    /* fractions are written to a few digits: 1e-6 accepts 0.333 + 0.667, not a typo */
+    if (fabs(sum - 1.0) > 1e-6)
+      return snprintf(why, size, "'%s': the group-%s fractions add up to %g, not 1", name,
+                      g == 3 ? "III" : "V", sum), 0;
+  }
+  return 1;
+}
+
+long ew_catalogue_composition(const ew_catalogue *cat, const char *name, double *x, double *y,
+                              char *why, size_t size) {
+  char sym[8][3], key[8][3], b[8][3];
+  double frac[8];
+  if (size) why[0] = '\0';
+  int n = cat && name ? formula_terms(name, sym, frac) : 0, any = 0;
+  for (int i = 0; i < n; i++) any |= frac[i] >= 0;
+  if (!any) return -1; /* no fraction written: an ordinary name */
+  char bare[8 * 2 + 1] = "";
+  for (int i = 0; i < n; i++) strcat(bare, sym[i]);
+  int nk = element_key(bare, key);
+  if (!check_groups(name, n, sym, frac, why, size)) return -2;
+  for (size_t i = 0; i < cat->n; i++) {
+    const ew_cat_entry *e = &cat->e[i];
+    char xs[3], ys[3];
+    if (!e->is_alloy || element_key(e->name, b) != nk || memcmp(key, b, sizeof(char[3]) * (size_t)nk))
+      continue;
+    if (!composition_symbols(e, xs, ys)) continue;
+    for (int k = 0; k < n; k++) {
+      if (!strcmp(sym[k], xs)) *x = frac[k];
+      if (ys[0] && !strcmp(sym[k], ys)) *y = frac[k];
+    }
+    return (long)i;
+  }
+  snprintf(why, size, "'%s': the catalogue has no alloy of %s (`epiwell materials` lists it)",
+           name, bare);
+  return -2;
+}
+
 void ew_catalogue_hint(const ew_catalogue *cat, const char *name, char *buf, size_t size) {
   if (!size) return;
   buf[0] = '\0';

@@ -70,6 +70,14 @@ long ew_catalogue_reordered(const ew_catalogue *cat, const char *name);
 /* A "did you mean" hint for an unknown material name into buf: the reordered catalogue
  * spelling with what its x (and y) are, else the nearest name; "" when there is none. */
 void ew_catalogue_hint(const ew_catalogue *cat, const char *name, char *buf, size_t size);
+/* A composition written in the name, as the trade writes it ("Al0.3Ga0.7As",
+ * "Ga0.47In0.53As", "In0.72Ga0.28As0.61P0.39", elements in any order, each mixed group's
+ * fractions summing to 1): the index of the catalogue alloy made of those elements, with its
+ * x (and, for a quaternary, y) read off the fractions of the elements they count.  -1 when no
+ * fraction is written (an ordinary name); -2 with the reason in why when the formula is
+ * wrong or names no catalogue alloy. */
+long ew_catalogue_composition(const ew_catalogue *cat, const char *name, double *x, double *y,
+                              char *why, size_t size);
 /* Directory actually loaded. */
 const char *ew_catalogue_dir(const ew_catalogue *cat);
 

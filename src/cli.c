@@ -10,6 +10,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h> /* strcasecmp */
 
 #include "cli_common.h"
 #include "epiwell.h"
@@ -17,7 +18,8 @@
 static const char usage[] =
     "usage:\n"
     "  epiwell solve STACK [--json] [-o DIR] [--gzip] [--grid-step NM] [--lines K|all]\n"
-    "                      [--no-estimate] [--plot FILE.svg|FILE.png] [--report DIR]\n"
+    "                      [--no-estimate] [--plot FILE.svg|FILE.png]\n"
+    "                      [--report DIR|FILE.html]\n"
     "                      [--spectra FILE.csv] [--spectra-plot FILE.svg|FILE.png]\n"
     "                      [--angle DEG] [--index N]\n"
     "    --spectra: absorption spectra, columns E_eV,interband_rel,intersubband_fraction on\n"
@@ -208,8 +210,9 @@ static int solve_value(const char *a, const char *v, solve_opt *o) {
   } else if (!strcmp(a, "--grid-step")) {
     if (!parse_num(v, &o->opt.grid_step_nm) || o->opt.grid_step_nm <= 0 || o->opt.grid_step_nm > 1)
       return ew_cli_bad(usage, "--grid-step wants a step in nm in (0, 1], got %s", v);
-  } else if (!strcmp(v, "all")) { /* --lines */
+  } else if (!strcmp(v, "all")) { /* --lines: every pair, and the weak lines listed too */
     o->opt.lowest_levels = 0;
+    o->opt.line_min_strength = 0.0;
   } else {
     double k;
     if (!parse_num(v, &k) || k < 1 || k > 1e6 || k != floor(k))
@@ -260,7 +263,12 @@ static int solve_check_outputs(const solve_opt *o) {
   ew_error err = {0};
   if (o->outdir && ew_output_dir_check(o->outdir, &err) != EW_OK) return report(&err);
   if (o->plot && ew_plot_path_check(o->plot, &err) != EW_OK) return report(&err);
-  if (o->repdir && ew_output_dir_check(o->repdir, &err) != EW_OK) return report(&err);
+  size_t rl = o->repdir ? strlen(o->repdir) : 0; /* FILE.html: the page (report.c) */
+  if (rl > 5 && !strcasecmp(o->repdir + rl - 5, ".html")) {
+    if (ew_data_path_check(o->repdir, "--report", &err) != EW_OK) return report(&err);
+  } else if (o->repdir && ew_output_dir_check(o->repdir, &err) != EW_OK) {
+    return report(&err);
+  }
   if (o->spectra && ew_data_path_check(o->spectra, "--spectra", &err) != EW_OK) return report(&err);
   for (int k = 0; o->spectra_plot && k < 2; k++) {
     char pp[EW_CLI_PATH_MAX];

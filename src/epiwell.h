@@ -91,6 +91,10 @@ typedef struct {
                           0 skips them (sweeps that report no PL peaks) */
   int sp_max_iterations; /* doped stacks: outer Schrödinger–Poisson iterations at most before
                             EW_ERR_NUMERIC; <= 0 means the default, 100 */
+  double line_min_strength; /* the terminal table (ew_result_write_table) leaves out the
+                               intersubband lines with f below this and the interband lines
+                               with overlap below it (default 1e-3: parity-forbidden lines);
+                               0 lists every line.  JSON and CSV always hold every line. */
 } ew_options;
 
 void ew_options_default(ew_options *opt);
@@ -270,7 +274,8 @@ ew_status ew_result_write_csv_dir(const ew_result *res, const char *dir, int gzi
 /* Band diagram picture at path (.svg or .png, see ew_plot_format); or as SVG text to out. */
 ew_status ew_result_write_band_diagram(const ew_result *res, const char *path, ew_error *err);
 ew_status ew_result_write_band_diagram_svg(const ew_result *res, FILE *out, ew_error *err);
-/* dir/report.html: one self-contained page (cat may be NULL: no material table). */
+/* dir/report.html, or dir itself when it ends in .html: one self-contained page (cat may
+ * be NULL: no material table). */
 ew_status ew_result_write_report(const ew_result *res, const ew_catalogue *cat,
                                  const char *dir, ew_error *err);
 

@@ -10,4 +10,5 @@ void ew_options_default(ew_options *opt) {
   opt->residual_tol = 1e-8;
   opt->excitons = 1;
   opt->sp_max_iterations = EW_SP_MAX_ITER;
+  opt->line_min_strength = 1e-3; /* = the interband "allowed" threshold of lines.c */
 }

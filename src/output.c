@@ -44,18 +44,24 @@ static void table_head(const ew_result *r, FILE *out) {
 }
 
 static void table_layers(const ew_stack *st, FILE *out) {
-  int wn = name_width(st, 0), wm = name_width(st, 1);
+  int wn = name_width(st, 0), wm = name_width(st, 1), any_y = 0;
+  for (size_t k = 0; k < st->n_layers; k++) any_y |= st->layers[k].has_y;
   fprintf(out, "Layers (growth order)\n");
-  fprintf(out, "  %-3s %-*s %-*s %6s %10s %9s %9s %9s %9s %7s %7s %7s %8s\n", "#", wn, "name", wm,
-          "material", "x", "from_nm", "thick_nm", "Ec_eV", "Ev_hh_eV", "Ev_lh_eV", "me", "mhh",
-          "mlh", "strain_%");
+  /* a y column only for stacks with a quaternary: the others' table stays as it was */
+  fprintf(out, "  %-3s %-*s %-*s %6s", "#", wn, "name", wm, "material", "x");
+  if (any_y) fprintf(out, " %6s", "y");
+  fprintf(out, " %10s %9s %9s %9s %9s %7s %7s %7s %8s\n", "from_nm", "thick_nm", "Ec_eV",
+          "Ev_hh_eV", "Ev_lh_eV", "me", "mhh", "mlh", "strain_%");
   for (size_t k = 0; k < st->n_layers; k++) {
     const ew_layer *ly = &st->layers[k];
-    char x[16] = "-";
+    char x[16] = "-", y[16] = "-";
     if (ly->has_x) snprintf(x, sizeof x, "%.3f", ly->x);
     if (ly->grade) snprintf(x, sizeof x, "graded");
-    fprintf(out, "  %-3zu %-*s %-*s %6s %10.3f %9.3f %9.4f %9.4f %9.4f %7.4f %7.4f %7.4f %8.3f\n",
-            k + 1, wn, ly->name, wm, ly->material, x, ly->z_start_nm, ly->thickness_nm, ly->bands.Ec_eV,
+    if (ly->has_y) snprintf(y, sizeof y, "%.3f", ly->y);
+    fprintf(out, "  %-3zu %-*s %-*s %6s", k + 1, wn, ly->name, wm, ly->material, x);
+    if (any_y) fprintf(out, " %6s", y);
+    fprintf(out, " %10.3f %9.3f %9.4f %9.4f %9.4f %7.4f %7.4f %7.4f %8.3f\n",
+            ly->z_start_nm, ly->thickness_nm, ly->bands.Ec_eV,
             ly->bands.Ev_hh_eV, ly->bands.Ev_lh_eV, ly->bands.me, ly->bands.mhh_z,
             ly->bands.mlh_z, 100.0 * ly->bands.eps_par);
   }
@@ -83,7 +89,8 @@ static void table_offsets(const ew_stack *st, FILE *out) {
 static void table_levels(const ew_result *r, FILE *out) {
   const ew_stack *st = r->stack;
   int wn = name_width(st, 0);
-  fprintf(out, "\nBound levels (%zu e, %zu hh, %zu lh; count certified by inertia)\n",
+  fprintf(out, "\nBound levels (%zu e, %zu hh, %zu lh; count certified by inertia; error_meV is "
+          "the numerical error only, not the design uncertainty: see `epiwell tolerance`)\n",
           r->band_count[0], r->band_count[1], r->band_count[2]);
   fprintf(out, "  %-6s %12s %11s %11s  %-*s %6s %8s\n", "state", "energy_eV", "depth_meV",
           "error_meV", wn, "mostly in", "prob", "m_inpl");
@@ -99,11 +106,29 @@ static void table_levels(const ew_result *r, FILE *out) {
     fprintf(out, "  (none: no band binds a state below the edges of its outer layers)\n");
 }
 
+/* The PL peak as a wavelength, λ = hc/E (PL engineers read nm); NAN without a positive peak. */
+static double pl_peak_nm(const ew_line *ln) {
+  return ln->pl_peak_eV > 0 && isfinite(ln->pl_peak_eV) ? EW_HC_EVNM / ln->pl_peak_eV : NAN;
+}
+
+/* One line each for the lines the table leaves out (ew_options line_min_strength). */
+static void table_hidden(const char *what, size_t n, double min, FILE *out) {
+  if (n)
+    fprintf(out, "  (%zu line%s with %s < %g not listed: `--lines all` lists every line)\n", n,
+            n == 1 ? "" : "s", what, min);
+}
+
 static void table_lines(const ew_result *r, FILE *out) {
   int head = 0;
+  double min = r->opt.line_min_strength > 0 ? r->opt.line_min_strength : 0.0;
+  size_t hidden = 0;
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
     if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+    if (ln->oscillator_strength < min) { /* f = 0 by parity in a symmetric well */
+      hidden++;
+      continue;
+    }
     if (!head++)
       fprintf(out, "\nIntersubband lines (TM, light polarised along z)\n  %-10s %11s %10s %10s %9s\n",
               "line", "energy_meV", "lambda_um", "dipole_nm", "f");
@@ -114,21 +139,31 @@ static void table_lines(const ew_result *r, FILE *out) {
     fprintf(out, "  %-10s %11.3f %10s %10.4f %9.4f\n", nm, ln->energy_eV * 1e3, wl,
             ln->dipole_nm, ln->oscillator_strength);
   }
+  if (!head && hidden) fprintf(out, "\nIntersubband lines (TM, light polarised along z)\n");
+  table_hidden("f", hidden, min, out);
   head = 0;
+  hidden = 0;
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
     if (ln->kind != EW_LINE_INTERBAND) continue;
+    if (ln->overlap < min) {
+      hidden++;
+      continue;
+    }
     if (!head++)
       fprintf(out, "\nInterband lines (band to band; PL peak = line − exciton binding)\n"
-                   "  %-10s %11s %10s %9s %10s %10s %6s %6s  %s\n",
-              "line", "energy_eV", "lambda_nm", "overlap", "Xbind_meV", "PL_eV", "TE", "TM", "");
+                   "  %-10s %11s %10s %9s %10s %10s %8s %6s %6s  %s\n",
+              "line", "energy_eV", "lambda_nm", "overlap", "Xbind_meV", "PL_eV", "PL_nm", "TE",
+              "TM", "");
     char nm[40];
     snprintf(nm, sizeof nm, "%s-%s", st_of(r, ln->upper)->label, st_of(r, ln->lower)->label);
-    fprintf(out, "  %-10s %11.5f %10.2f %9.4f %10.2f %10.5f %6.3f %6.3f  %s\n", nm,
+    fprintf(out, "  %-10s %11.5f %10.2f %9.4f %10.2f %10.5f %8.2f %6.3f %6.3f  %s\n", nm,
             ln->energy_eV, ln->wavelength_nm, ln->overlap, ln->exciton_binding_eV * 1e3,
-            ln->pl_peak_eV, ln->te_strength, ln->tm_strength,
+            ln->pl_peak_eV, pl_peak_nm(ln), ln->te_strength, ln->tm_strength,
             ln->allowed ? "allowed" : "forbidden");
   }
+  if (!head && hidden) fprintf(out, "\nInterband lines (band to band)\n");
+  table_hidden("overlap", hidden, min, out);
 }
 
 /* Self-consistent Schrödinger–Poisson (doped stacks): Fermi level, densities, sheet
@@ -295,6 +330,7 @@ static void json_transitions(ew_json *j, const ew_result *r) {
       ew_json_key_bool(j, "allowed", ln->allowed);
       ew_json_key_num(j, "exciton_binding_eV", ln->exciton_binding_eV);
       ew_json_key_num(j, "pl_peak_eV", ln->pl_peak_eV);
+      ew_json_key_num(j, "pl_peak_nm", pl_peak_nm(ln));
       ew_json_key_num(j, "te_strength", ln->te_strength);
       ew_json_key_num(j, "tm_strength", ln->tm_strength);
     }
@@ -418,7 +454,7 @@ static void write_lines(const ew_result *r, ew_csv *c) {
       "kind",        "upper",  "lower",   "energy_eV",          "wavelength_nm",
       "wavelength_um", "dipole_nm", "oscillator_strength", "overlap", "allowed",
       "exciton_binding_eV", "pl_peak_eV", "te_strength", "tm_strength",
-      "depolarization_shift_eV"};
+      "depolarization_shift_eV", "pl_peak_nm"}; /* new columns go last: positions are kept */
   ew_csv_header(c, sizeof cols / sizeof cols[0], cols);
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
@@ -451,6 +487,8 @@ static void write_lines(const ew_result *r, ew_csv *c) {
       ew_csv_format(c, "%.6f", ln->tm_strength);
     }
     if (r->sp && isb) ew_csv_format(c, "%.8e", r->sp->depol_eV[i]);
+    else ew_csv_empty(c);
+    if (!isb && isfinite(pl_peak_nm(ln))) ew_csv_format(c, "%.6f", pl_peak_nm(ln));
     else ew_csv_empty(c);
     ew_csv_end_row(c);
   }

@@ -6,6 +6,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h> /* strcasecmp */
 
 #include "atomic.h"
 #include "error.h"
@@ -336,10 +337,20 @@ static ew_status write_page(FILE *f, const ew_result *r, const ew_catalogue *cat
 ew_status ew_report_write(const ew_result *r, const ew_catalogue *cat, const char *dir,
                           ew_error *err) {
   if (!r || !dir) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_report_write: NULL argument");
-  ew_status rc = ew_output_make_dir(dir, err);
-  if (rc != EW_OK) return rc;
+  /* a path ending in .html is the page itself (issue 17: "--report foo.html" made a
+   * directory foo.html/); any other path is a directory that receives report.html */
+  size_t n = strlen(dir);
+  int page = n > 5 && !strcasecmp(dir + n - 5, ".html");
   char fin[1200];
-  snprintf(fin, sizeof fin, "%s/report.html", dir);
+  ew_status rc = EW_OK;
+  if (page) {
+    if (n >= sizeof fin) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "report path is too long");
+    memcpy(fin, dir, n + 1);
+  } else {
+    rc = ew_output_make_dir(dir, err);
+    if (rc != EW_OK) return rc;
+    snprintf(fin, sizeof fin, "%s/report.html", dir);
+  }
   ew_atomic_file a;
   rc = ew_atomic_open(&a, fin, err);
   if (rc != EW_OK) return rc;

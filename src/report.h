@@ -7,7 +7,8 @@
 
 #include "solve.h"
 
-/* Write dir/report.html (dir is created when missing).  cat is the catalogue the stack was
+/* Write dir/report.html (dir is created when missing), or the page at dir itself when dir
+ * ends in ".html" (case-insensitive).  cat is the catalogue the stack was
  * read with, for the material-parameter table; NULL leaves that table out.  The page is
  * written under a temporary name and renamed into place: an error leaves no partial page
  * and a previous one intact.  Returns EW_OK, EW_ERR_IO or EW_ERR_NOMEM. */

@@ -13,6 +13,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h> /* strncasecmp */
 
 #include "error.h"
 #include "grid.h" /* EW_GRID_MAX_NODES: the reader refuses a stack the grid cannot hold */
@@ -618,9 +619,11 @@ static ew_status read_layer_thickness(reader *r, const config_setting_t *g, cons
   if (!got && !got_ml)
     return fail(r, ll->line, "layer '%s' has no 'thickness' (nm) or 'thickness_ml' "
                 "(monolayers)", L->name);
-  if (got_ml && (L->thickness_ml < 1 || L->thickness_ml != floor(L->thickness_ml) ||
-                 L->thickness_ml > 1e5))
-    return fail(r, lml, "thickness_ml of layer '%s' must be a whole number of monolayers >= 1 "
+  /* a fractional value is an average coverage (1.5 ML of a grown island layer): the
+   * envelope-function model cannot see islands, so the layer is a continuum slab of that
+   * mean thickness (resolve_layer_bands converts it) */
+  if (got_ml && !(L->thickness_ml > 0 && L->thickness_ml <= 1e5))
+    return fail(r, lml, "thickness_ml of layer '%s' must be a positive number of monolayers "
                 "(got %g)", L->name, L->thickness_ml);
   if (got && L->thickness_nm <= 0)
     return fail(r, lth, "thickness of layer '%s' must be positive (got %g nm)", L->name,
@@ -679,10 +682,40 @@ static ew_status read_layer_doping(reader *r, const config_setting_t *g, const c
   return EW_OK;
 }
 
+/* material = "Al0.3Ga0.7As": the catalogue alloy (AlGaAs) with the x (and y) the name
+ * writes, as if they were given as keys; the name and an explicit x (or y, or a grade) would
+ * give the composition twice, and the two could disagree. */
+static ew_status composition_name(reader *r, ew_layer *L, const layer_lines *ll) {
+  double x = 0.0, y = 0.0;
+  char why[160];
+  long i = ew_catalogue_composition(r->cat, L->material, &x, &y, why, sizeof why);
+  if (i == -1) return EW_OK; /* an ordinary name: unknown_material says what is near */
+  if (i < 0) return fail(r, ll->material, "layer '%s': %s", L->name, why);
+  const char *canon = ew_catalogue_name(r->cat, (size_t)i);
+  int quaternary = ew_catalogue_needs_y(r->cat, canon) == 1;
+  char comp[64];
+  if (quaternary) snprintf(comp, sizeof comp, "x = %g, y = %g", x, y);
+  else snprintf(comp, sizeof comp, "x = %g", x);
+  if (L->has_x || L->grade || (L->has_y && quaternary))
+    return fail(r, L->has_x ? ll->x : L->has_y ? ll->y : line_of(ll->grade), "layer '%s': x "
+                "given twice: material '%s' already sets %s; write material = \"%s\" with "
+                "'x'%s, or drop the %s", L->name, L->material, comp, canon,
+                quaternary ? " and 'y'" : "", L->has_x ? "'x'" : L->has_y ? "'y'" : "'grade'");
+  snprintf(L->material, sizeof L->material, "%s", canon);
+  L->x = x, L->has_x = 1;
+  if (quaternary) L->y = y, L->has_y = 1;
+  return EW_OK;
+}
+
 /* The layer's material exists and its composition (x, y or grade) fits what it is. */
 static ew_status check_layer_material(reader *r, ew_layer *L, const layer_lines *ll) {
   int alloy;
   material_kind kind = find_material(r, L->material);
+  if (kind == MAT_UNKNOWN && r->cat) {
+    ew_status st = composition_name(r, L, ll);
+    if (st) return st;
+    kind = find_material(r, L->material);
+  }
   if (kind == MAT_USER) alloy = 0;
   else if (kind == MAT_USER_ALLOY) alloy = 1;
   else if (kind == MAT_CATALOGUE) alloy = ew_catalogue_is_alloy(r->cat, L->material);
@@ -733,6 +766,9 @@ static ew_status resolve_layer_bands(reader *r, ew_layer *L, double T, const lay
                 "'%s' does not have; give 'thickness' in nm", L->name, L->material);
   /* pseudomorphic: the growth-axis lattice constant is a (1 + ε⊥) */
   L->thickness_nm = L->thickness_ml * 0.5 * L->bands.a_nm * (1.0 + L->bands.eps_perp);
+  if (L->thickness_nm < MIN_LAYER_NM) /* robustness: see MIN_LAYER_NM */
+    return fail(r, ll->thickness_ml, "layer '%s': %g ML is %g nm, below the %g nm minimum",
+                L->name, L->thickness_ml, L->thickness_nm, MIN_LAYER_NM);
   if (L->thickness_nm > MAX_LAYER_NM)
     return fail(r, ll->thickness_ml, "layer '%s' is %g nm thick, above the %g nm limit", L->name,
                 L->thickness_nm, MAX_LAYER_NM);
@@ -861,10 +897,29 @@ static ew_status read_substrate(reader *r, const config_setting_t *root, ew_stac
     return fail(r, line, "'substrate' must be a material name (\"GaAs\") or a group "
                 "{ material = ...; x = ...; }, not %s", type_word(sub));
   }
+  int from_name = 0; /* substrate = "In0.53Ga0.47As": see composition_name */
+  if (r->cat && ew_catalogue_find(r->cat, s->substrate) < 0) {
+    double x = 0.0, y = 0.0;
+    char why[160];
+    long i = ew_catalogue_composition(r->cat, s->substrate, &x, &y, why, sizeof why);
+    if (i == -2) return fail(r, l, "substrate: %s", why);
+    if (i >= 0) {
+      const config_setting_t *dup = config_setting_type(sub) != CONFIG_TYPE_GROUP ? NULL
+                                    : config_setting_get_member(sub, "x");
+      if (!dup && config_setting_type(sub) == CONFIG_TYPE_GROUP)
+        dup = config_setting_get_member(sub, "y");
+      if (dup)
+        return fail(r, line_of(dup), "substrate: x given twice: '%s' already sets the "
+                    "composition; drop '%s' or write material = \"%s\"", s->substrate,
+                    config_setting_name(dup), ew_catalogue_name(r->cat, (size_t)i));
+      snprintf(s->substrate, sizeof s->substrate, "%s", ew_catalogue_name(r->cat, (size_t)i));
+      s->substrate_x = x, s->substrate_y = y, from_name = 1;
+    }
+  }
   if (!r->cat || ew_catalogue_find(r->cat, s->substrate) < 0)
     return unknown_material(r, l, s->substrate, "substrate");
   int alloy = ew_catalogue_is_alloy(r->cat, s->substrate);
-  if (alloy && config_setting_type(sub) != CONFIG_TYPE_GROUP)
+  if (alloy && !from_name && config_setting_type(sub) != CONFIG_TYPE_GROUP)
     return fail(r, line, "substrate alloy '%s' needs a composition: substrate = { material = "
                 "\"%s\"; x = ...; };", s->substrate, s->substrate);
   if (s->substrate_x < 0 || s->substrate_x > 1)
@@ -1086,6 +1141,46 @@ static int include_line(const char *text) {
   return 0;
 }
 
+/* The reader's keys for a group of a parsed tree, found from where the group sits; NULL when
+ * the group is not one the reader gives a fixed set of keys. */
+static const char *const *keys_of_group(const config_setting_t *g, size_t *n) {
+  static const char *const surface_keys[] = {"barrier"};
+  static const char *const entry_keys[] = {"value", "per_x"};
+  const config_setting_t *parent = config_setting_parent(g);
+  const char *name = config_setting_name(g), *pname = parent ? config_setting_name(parent) : NULL;
+#define KEYS(a) (*n = COUNT(a), a)
+  if (!parent) return KEYS(top_keys);
+  if (!name && pname && !strcmp(pname, "layers")) return KEYS(layer_keys);
+  if (!name && pname && !strcmp(pname, "materials")) return KEYS(umat_keys);
+  if (!name && pname && !strcmp(pname, "alloys")) return KEYS(alloy_keys);
+  if (!name) return NULL;
+  if (!strcmp(name, "doping")) return KEYS(doping_keys);
+  if (!strcmp(name, "grade")) return KEYS(grade_keys);
+  if (!strcmp(name, "substrate")) return KEYS(substrate_keys);
+  if (!strcmp(name, "surface")) return KEYS(surface_keys);
+  if (!strcmp(name, "bowing")) return KEYS(bowing_keys);
+  if (pname && !strcmp(pname, "bowing")) return KEYS(entry_keys);
+#undef KEYS
+  return NULL;
+}
+
+ew_status ew_stack_check_key(const config_setting_t *group, const char *key, const char *opt,
+                             const char *full_key, ew_error *err) {
+  size_t n = 0;
+  const char *const *keys = group ? keys_of_group(group, &n) : NULL;
+  for (size_t k = 0; keys && k < n; k++)
+    if (!strcmp(keys[k], key)) return EW_OK;
+  if (!keys) return EW_OK;
+  const char *hint = ew_text_nearest(key, keys, n);
+  if (hint)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: unknown key '%s'; did you mean '%s'?",
+                   opt, full_key, key, hint);
+  char list[256];
+  join_keys(list, sizeof list, keys, n);
+  return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: unknown key '%s' (valid keys: %s)", opt,
+                 full_key, key, list);
+}
+
 /* Build the stack from a parsed tree.  text, when not NULL, is the source the tree was parsed
  * from (to re-check integer literals, see int_is_exact); NULL when values were set in the tree
  * after parsing (stack editing), where every stored integer is exact. */
@@ -1126,11 +1221,122 @@ ew_status ew_stack_from_config(const config_t *cfg, const char *display_name,
   return read_tree(cfg, NULL, name, cat, out, err);
 }
 
+/* ---- what a generic libconfig "syntax error" usually means ------------------------------
+ * The usual slips of a grower's hand (common practice): a unit after the number, a decimal
+ * comma, an unquoted material name.  Looked for on the line libconfig blames and the one
+ * before it (libconfig blames the token after the slip, which may start the next line). */
+
+/* The unit each top-level or layer key is in (README "Stack file"). */
+static const char *implied_unit(const char *key, size_t len) {
+  static const char *const tab[][2] = {
+      {"thickness", "nm"}, {"grid_step", "nm"}, {"temperature", "K"}, {"field", "kV/cm"},
+      {"linewidth", "meV"}, {"donors", "cm^-3"}, {"acceptors", "cm^-3"},
+      {"donor_sheet", "cm^-2"}, {"acceptor_sheet", "cm^-2"}, {"sheet_density", "cm^-2"},
+      {"donor_energy", "eV"}, {"acceptor_energy", "eV"}, {"thickness_ml", "monolayers"}};
+  for (size_t i = 0; i < COUNT(tab); i++)
+    if (strlen(tab[i][0]) == len && !strncmp(tab[i][0], key, len)) return tab[i][1];
+  return NULL;
+}
+
+static int ident_char(char c) { return isalnum((unsigned char)c) || c == '_'; }
+
+/* One "key = value" at p (p at the key) within [p, end): a message into msg, 1 if it is
+ * one of the slips. */
+static int explain_setting(const char *p, const char *end, char *msg, size_t size) {
+  const char *k = p;
+  while (p < end && ident_char(*p)) p++;
+  int klen = (int)(p - k);
+  while (p < end && (*p == ' ' || *p == '\t')) p++;
+  if (p >= end || (*p != '=' && *p != ':')) return 0;
+  p++;
+  while (p < end && (*p == ' ' || *p == '\t')) p++;
+  const char *v = p;
+  if (p < end && (isdigit((unsigned char)*p) || *p == '-' || *p == '+' || *p == '.')) {
+    while (p < end && (isdigit((unsigned char)*p) || strchr("+-.eE", *p))) p++;
+    int nlen = (int)(p - v);
+    if (p + 1 < end && *p == ',' && isdigit((unsigned char)p[1]) && !memchr(v, '.', (size_t)nlen)) {
+      const char *f = p + 1;
+      while (f < end && isdigit((unsigned char)*f)) f++;
+      snprintf(msg, size, "'%.*s = %.*s': use a decimal point (%.*s = %.*s.%.*s)", klen, k,
+               (int)(f - v), v, klen, k, nlen, v, (int)(f - p - 1), p + 1);
+      return 1;
+    }
+    const char *u = p;
+    while (u < end && (*u == ' ' || *u == '\t')) u++;
+    if (u >= end || !(isalpha((unsigned char)*u) || *u == '%')) return 0;
+    const char *ue = u;
+    while (ue < end && !strchr(" \t;,)}#", *ue)) ue++;
+    int ulen = (int)(ue - u), wlen = (int)(ue - k);
+    const char *unit = implied_unit(k, (size_t)klen);
+    if (unit && strlen(unit) == (size_t)ulen && !strncmp(unit, u, (size_t)ulen))
+      snprintf(msg, size, "'%.*s': write the number without a unit: %s is implied", wlen, k,
+               unit);
+    else if (unit)
+      snprintf(msg, size, "'%.*s': write the number without a unit ('%.*s' is in %s)", wlen, k,
+               klen, k, unit);
+    else
+      snprintf(msg, size, "'%.*s': write the number without a unit (README \"Stack file\" "
+               "gives each key's unit)", wlen, k);
+    return 1;
+  }
+  if (p < end && isalpha((unsigned char)*p)) {
+    while (p < end && (ident_char(*p) || *p == '.')) p++;
+    int vlen = (int)(p - v);
+    if ((vlen == 4 && !strncasecmp(v, "true", 4)) || (vlen == 5 && !strncasecmp(v, "false", 5)))
+      return 0;
+    if (klen == 12 && !strncmp(k, "nonparabolic", 12))
+      snprintf(msg, size, "'%.*s = %.*s': write true or false", klen, k, vlen, v);
+    else if (implied_unit(k, (size_t)klen) || (klen == 1 && (*k == 'x' || *k == 'y')))
+      snprintf(msg, size, "'%.*s = %.*s': write a number", klen, k, vlen, v);
+    else
+      snprintf(msg, size, "'%.*s = %.*s': quote the name (%.*s = \"%.*s\";)", klen, k, vlen, v,
+               klen, k, vlen, v);
+    return 1;
+  }
+  return 0;
+}
+
+/* Line `line` (1-based) of text as [*b, *e), the comment cut off; 0 when there is none. */
+static int line_span(const char *text, int line, const char **b, const char **e) {
+  const char *p = text;
+  for (int l = 1; l < line && p; l++) {
+    p = strchr(p, '\n');
+    if (p) p++;
+  }
+  if (!p || line < 1) return 0;
+  const char *end = strchr(p, '\n');
+  if (!end) end = p + strlen(p);
+  int quoted = 0;
+  for (const char *q = p; q < end; q++) { /* a '#' or '//' outside quotes starts a comment */
+    if (*q == '"') quoted = !quoted;
+    if (!quoted && (*q == '#' || (*q == '/' && q + 1 < end && q[1] == '/'))) { end = q; break; }
+  }
+  *b = p, *e = end;
+  return 1;
+}
+
+/* A specific message for the slip near `line`, with the line it is on; 0 when none is seen. */
+static int explain_syntax(const char *text, int line, char *msg, size_t size) {
+  for (int l = line; l >= line - 1 && l >= 1; l--) {
+    const char *b, *e;
+    if (!line_span(text, l, &b, &e)) continue;
+    int quoted = 0;
+    for (const char *q = b; q < e; q++) {
+      if (*q == '"') quoted = !quoted;
+      if (quoted || !isalpha((unsigned char)*q) || (q > b && ident_char(q[-1]))) continue;
+      if (explain_setting(q, e, msg, size)) return l;
+    }
+  }
+  return 0;
+}
+
 static ew_status read_text(const char *text, const char *name, const ew_catalogue *cat,
                            ew_stack **out, ew_error *err) {
   config_t cfg;
   config_init(&cfg);
   ew_status st;
+  /* a UTF-8 byte-order mark (written by common Windows editors) is not part of the text */
+  if (!strncmp(text, "\xEF\xBB\xBF", 3)) text += 3;
   int inc = include_line(text); /* robustness: see include_line */
   if (inc > 0) {
     st = ew_fail(err, EW_ERR_INPUT, name, inc, "'@include' is not supported in stack files: "
@@ -1138,7 +1344,12 @@ static ew_status read_text(const char *text, const char *name, const ew_catalogu
   } else if (!config_read_string(&cfg, text)) {
     int line = config_error_line(&cfg);
     const char *why = config_error_text(&cfg);
-    st = ew_fail(err, EW_ERR_INPUT, name, line > 0 ? line : 1, "cannot parse the stack file: "
+    char hint[256];
+    int hl = explain_syntax(text, line > 0 ? line : 1, hint, sizeof hint);
+    if (hl > 0)
+      st = ew_fail(err, EW_ERR_INPUT, name, hl, "cannot parse the stack file: %s", hint);
+    else
+      st = ew_fail(err, EW_ERR_INPUT, name, line > 0 ? line : 1, "cannot parse the stack file: "
                  "%s (libconfig syntax: key = value; groups in { }, lists in ( ))",
                  why ? why : "syntax error");
   } else {

@@ -26,7 +26,7 @@ typedef struct {
   ew_bands bands;             /* resolved band parameters (graded: at the layer's centre) */
   double y;                   /* second composition (quaternaries), 0 otherwise */
   int has_y;
-  double thickness_ml;        /* > 0 when given as whole monolayers (thickness_ml) */
+  double thickness_ml;        /* > 0 when given in monolayers (thickness_ml; may be fractional) */
   ew_grade grade;             /* composition grading */
   double x_start, x_end;      /* linear: x at the layer's first and last face */
   double x_centre, x_edge;    /* parabolic: x at the centre and at both faces */
@@ -86,6 +86,12 @@ void ew_stack_interface(const ew_stack *st, size_t k, ew_interface *out);
  * name display_name and the line each setting had in the parsed text.  Same checks and
  * ownership as ew_stack_read_string; *out = NULL on error.  The tree is not changed. */
 struct config_t;
+struct config_setting_t;
+/* EW_OK when the reader accepts `key` in `group` of a parsed stack tree (or gives that group
+ * no fixed key set); else EW_ERR_USAGE, "OPT FULL_KEY: unknown key ... did you mean": a
+ * --vary of a misspelt key is a command-line error, found before any point runs. */
+ew_status ew_stack_check_key(const struct config_setting_t *group, const char *key,
+                             const char *opt, const char *full_key, ew_error *err);
 ew_status ew_stack_from_config(const struct config_t *cfg, const char *display_name,
                                const ew_catalogue *cat, ew_stack **out, ew_error *err);
 

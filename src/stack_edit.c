@@ -40,6 +40,7 @@ ew_status ew_stack_editor_open(const char *text, const ew_stack *nominal,
   config_init(&ed->cfg);
   ed->nominal = nominal;
   ed->cat = cat;
+  if (!strncmp(text, "\xEF\xBB\xBF", 3)) text += 3; /* a UTF-8 BOM, as the reader (stack.c) */
   if (!config_read_string(&ed->cfg, text)) {
     ew_stack_editor_free(ed);
     return ew_fail(err, EW_ERR_IO, nominal->path, 0, "cannot re-read '%s' with libconfig",
@@ -160,6 +161,7 @@ ew_status ew_stack_editor_check(const ew_stack_editor *ed, const char *key, cons
   ew_status rc = locate(ed, key, opt, &g, &name, err);
   if (rc != EW_OK) return rc;
   config_setting_t *s = config_setting_get_member(g, name);
+  if (!s && (rc = ew_stack_check_key(g, name, opt, key, err)) != EW_OK) return rc;
   if (s && !numeric_type(config_setting_type(s)))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s %s: that setting is not a number", opt, key);
   if (s && config_setting_type(s) == CONFIG_TYPE_FLOAT) *nominal = config_setting_get_float(s);

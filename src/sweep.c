@@ -14,6 +14,7 @@
 #include "solve.h"
 #include "stack.h"
 
+#define SWEEP_TIED_MAX 8     /* keys set per point, all ranges together (tied keys) */
 #define WF_COLUMN_SAMPLES 9 /* values per axis solved first to fix the sweep's columns */
 
 void ew_wf_sweep_opt_default(ew_wf_sweep_opt *o) {
@@ -44,7 +45,49 @@ typedef struct {
   size_t nl, ncol;       /* main lines, columns */
   ew_wf_linedef *lines;  /* [nl] */
   char (*names)[64];     /* [ncol] */
+  /* the keys set at each point: a tied range ("a.x,b.x=…") sets each of its keys to the
+   * axis value (both barriers' Al fraction together) */
+  size_t nsub;
+  const char *sub_keys[SWEEP_TIED_MAX];
+  size_t sub_axis[SWEEP_TIED_MAX];
+  char sub_buf[SWEEP_TIED_MAX][EW_WF_KEY_MAX];
 } sweep_plan;
+
+/* Solve the point with axis values vals: every key of every range set. */
+static ew_status solve_point(const sweep_plan *P, const double *vals, ew_stack **st,
+                             ew_result **res, ew_error *e) {
+  double sv[SWEEP_TIED_MAX];
+  for (size_t k = 0; k < P->nsub; k++) sv[k] = vals[P->sub_axis[k]];
+  return ew_wf_pool_solve(&P->pool, P->nsub, P->sub_keys, sv, st, res, e);
+}
+
+/* Split range a's key at commas into the plan's keys; each checked against the stack. */
+static ew_status split_tied(const ew_wf_model *m, sweep_plan *P, size_t a, ew_error *err) {
+  const char *key = P->r[a].key;
+  for (const char *p = key;;) {
+    const char *c = strchr(p, ',');
+    size_t len = c ? (size_t)(c - p) : strlen(p);
+    if (len == 0)
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: an empty key between commas (tie "
+                     "keys as a.x,b.x=FROM:TO:STEP)", key);
+    if (P->nsub == SWEEP_TIED_MAX)
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: at most %d keys in all", key,
+                     SWEEP_TIED_MAX);
+    char *b = P->sub_buf[P->nsub];
+    memcpy(b, p, len); /* len < EW_WF_KEY_MAX: a part of the range's key */
+    b[len] = '\0';
+    for (size_t k = 0; k < P->nsub; k++)
+      if (!strcmp(P->sub_keys[k], b))
+        return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s given twice", b);
+    double nominal;
+    ew_status rc = ew_wf_key_check(m, b, "--vary", &nominal, err);
+    if (rc != EW_OK) return rc;
+    P->sub_keys[P->nsub] = b;
+    P->sub_axis[P->nsub++] = a;
+    if (!c) return EW_OK;
+    p = c + 1;
+  }
+}
 
 static void point_values(const sweep_plan *P, size_t p, double *vals) {
   if (P->nr == 1) {
@@ -64,9 +107,9 @@ static ew_status plan_points(const ew_wf_model *m, const ew_wf_range *ranges, si
   P->nr = nr;
   P->keys[0] = ranges[0].key;
   P->keys[1] = nr > 1 ? ranges[1].key : NULL;
+  P->nsub = 0;
   for (size_t i = 0; i < nr; i++) {
-    double nominal;
-    ew_status rc = ew_wf_key_check(m, ranges[i].key, "--vary", &nominal, err);
+    ew_status rc = split_tied(m, P, i, err);
     if (rc != EW_OK) return rc;
     if (!(ranges[i].step > 0))
       return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: a sweep needs FROM:TO:STEP",
@@ -129,7 +172,7 @@ static ew_status plan_columns(sweep_plan *P, size_t min_levels, ew_error *err) {
     ew_stack *st = NULL;
     ew_result *res = NULL;
     point_values(P, corner[q], vals);
-    ew_status rc = ew_wf_pool_solve(&P->pool, P->nr, P->keys, vals, &st, &res, &e);
+    ew_status rc = solve_point(P, vals, &st, &res, &e);
     if (rc == EW_OK)
       for (int b = 0; b < EW_BAND_COUNT; b++) ccount[q][b] = res->band_count[b];
     else
@@ -275,7 +318,7 @@ static void solve_row(const sweep_plan *P, size_t p, double *row, char *codes, e
   ew_stack *st = NULL;
   ew_result *res = NULL;
   point_values(P, p, vals);
-  ew_status rc = ew_wf_pool_solve(&P->pool, P->nr, P->keys, vals, &st, &res, &e);
+  ew_status rc = solve_point(P, vals, &st, &res, &e);
   if (rc == EW_OK) rc = check_counts(res, P, vals, &e);
   if (rc == EW_OK) fill_row(res, P, vals, row, codes);
   else ew_wf_fail_record(fl, p, rc, &e);
@@ -360,7 +403,11 @@ ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
   }
   int header = o.header < 0 ? P.sk == 1 : o.header;
   if (csv && header) {
-    for (size_t j = 0; j < P.ncol; j++) fprintf(csv, "%s%s", j ? "," : "", P.names[j]);
+    for (size_t j = 0; j < P.ncol; j++) { /* a tied key's name holds commas: RFC 4180 quotes */
+      if (j) fputc(',', csv);
+      if (strchr(P.names[j], ',')) fprintf(csv, "\"%s\"", P.names[j]);
+      else fputs(P.names[j], csv);
+    }
     fputc('\n', csv);
   }
   if (json) json_begin(&P, stack, json);

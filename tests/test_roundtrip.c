@@ -405,7 +405,7 @@ static void check_lines(const ew_result *r, const char *dir) {
   assert_int_equal(csv_open(dir, "lines.csv", &c,
                             "kind,upper,lower,energy_eV,wavelength_nm,wavelength_um,dipole_nm,"
                             "oscillator_strength,overlap,allowed,exciton_binding_eV,pl_peak_eV,"
-                            "te_strength,tm_strength,depolarization_shift_eV"), 0);
+                            "te_strength,tm_strength,depolarization_shift_eV,pl_peak_nm"), 0);
   assert_int_equal(c.nrows, ew_result_line_count(r));
   int sc = !isnan(ew_result_fermi_energy_eV(r));
   for (size_t j = 0; j < c.nrows; j++) {
