@@ -307,10 +307,13 @@ static ew_status solve_stage(const solve_opt *o, solve_job *j, ew_error *err) {
   if (st == EW_OK && o->plot)
     st = ew_output_set_file(j->set, o->plot, 0, j->w_plot, sizeof j->w_plot, err);
   if (st == EW_OK && o->repdir) {
+    /* FILE.html is the page itself; any other path a directory that receives report.html */
+    size_t rl = strlen(o->repdir);
+    int page = rl > 5 && !strcasecmp(o->repdir + rl - 5, ".html");
     char rp[EW_CLI_PATH_MAX + 16];
-    snprintf(rp, sizeof rp, "%.1024s/report.html", o->repdir);
-    st = ew_output_set_file(j->set, rp, 1, j->w_rep, sizeof j->w_rep, err);
-    if (st == EW_OK) *strrchr(j->w_rep, '/') = '\0'; /* the report writer takes a directory */
+    snprintf(rp, sizeof rp, page ? "%.1024s" : "%.1024s/report.html", o->repdir);
+    st = ew_output_set_file(j->set, rp, !page, j->w_rep, sizeof j->w_rep, err);
+    if (st == EW_OK && !page) *strrchr(j->w_rep, '/') = '\0'; /* the writer takes the directory */
   }
   if (st == EW_OK && o->spectra)
     st = ew_output_set_file(j->set, o->spectra, 0, j->w_spectra, sizeof j->w_spectra, err);
