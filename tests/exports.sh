@@ -1,6 +1,7 @@
 #!/bin/sh
 # exports.sh BINARY — the shared library next to BINARY (BUILD/libepiwell.so.X.Y.Z) exports
-# exactly the functions src/epiwell.h declares, each marked EW_API; its soname is
+# exactly the functions src/epiwell.h declares, each marked EW_API (and SuperLU's three
+# allocation hooks); its soname is
 # libepiwell.so.X with X = EW_VERSION_MAJOR and the two symlinks point down the chain.
 # Last line: "exports: N passed, M failed".
 set -u
@@ -25,7 +26,13 @@ if [ -z "$unmarked" ]; then ok "every declaration in epiwell.h is marked EW_API"
 else nok "every declaration in epiwell.h is marked EW_API" "$unmarked"; fi
 
 nm -D --defined-only "$so" >"$tmp/nm" || nok "nm -D $so"
-awk '$2 == "T" { print $3 }' "$tmp/nm" | sed 's/@.*//' | sort -u >"$tmp/exported"
+# and SuperLU's three hooks of superlu_adapter.c, which must replace libsuperlu.so's own
+hooks="superlu_abort_and_exit superlu_free superlu_malloc"
+awk '$2 == "T" { print $3 }' "$tmp/nm" | sed 's/@.*//' | sort -u >"$tmp/all"
+for h in $hooks; do
+  if grep -qx "$h" "$tmp/all"; then ok "SuperLU hook $h exported"; else nok "SuperLU hook $h exported"; fi
+done
+printf '%s\n' $hooks | grep -vxF -f - "$tmp/all" >"$tmp/exported"
 if cmp -s "$tmp/declared" "$tmp/exported"; then
   ok "exported functions = declared functions ($n)"
 else

@@ -27,6 +27,18 @@ if (cd "$tmp" && PYTHONPATH="$build/python" EPIWELL_BIN="$bin" LD_PRELOAD="$pre"
 else
   nok "PYTHONPATH=$build/python $py -c 'import epiwell' from $tmp"
 fi
+# loaded into an interpreter, libsuperlu.so must call the library's allocation and abort hooks
+# (superlu_adapter.c), or an out-of-memory inside SuperLU would end the script
+(cd "$tmp" && PYTHONPATH="$build/python" LD_PRELOAD="$pre" ASAN_OPTIONS=detect_leaks=0 \
+   LD_DEBUG=bindings "$py" -c "import epiwell; epiwell.solve('$root/examples/detector_well.cfg')") \
+  >/dev/null 2>"$tmp/bind"
+for h in superlu_malloc superlu_abort_and_exit; do
+  if grep -q "libsuperlu.* to .*libepiwell\.so.*symbol \`$h'" "$tmp/bind"; then
+    ok "in a Python process libsuperlu calls $h of libepiwell.so"
+  else
+    nok "in a Python process libsuperlu calls $h of libepiwell.so" "$(grep "$h" "$tmp/bind" | head -2)"
+  fi
+done
 (cd "$tmp" && PYTHONPATH="$build/python" EPIWELL_BIN="$bin" LD_PRELOAD="$pre" \
    ASAN_OPTIONS=detect_leaks=0 "$py" -m pytest -q -p no:cacheprovider "$root"/tests/test_python*.py) \
   >"$tmp/log" 2>&1
