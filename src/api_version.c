@@ -32,7 +32,8 @@ ew_status ew_stack_read_string_set(const char *text, const char *display_name,
   if (!text || !display_name || !cat || !out || (nkeys && (!keys || !values)))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_stack_read_string_set: NULL argument");
   for (size_t i = 0; i < nkeys; i++)
-    if (!keys[i]) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_stack_read_string_set: key %zu is NULL", i);
+    if (!keys[i])
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_stack_read_string_set: key %zu is NULL", i);
   ew_stack *nominal = NULL;
   ew_status rc = ew_stack_read_string(text, display_name, cat, &nominal, err);
   if (rc != EW_OK || nkeys == 0) {

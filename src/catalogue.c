@@ -842,7 +842,7 @@ ew_status ew_catalogue_load(const char *dir, ew_catalogue **out, ew_error *err) 
   list[0] = '\0';
   for (size_t i = 0; i < nc; i++) {
     size_t l = strlen(list);
-    snprintf(list + l, sizeof list - l, "%s%s", i ? ", " : "", cand[i]);
+    snprintf(list + l, sizeof list - l, "%s%.4000s", i ? ", " : "", cand[i]);
   }
   return ew_fail(err, EW_ERR_CATALOGUE, NULL, 0,
                  "no material catalogue found (set $EPIWELL_MATERIALS); searched: %s", list);

@@ -60,4 +60,26 @@ if (cd "$tmp" && env -u EPIWELL_MATERIALS "$prefix/bin/epiwell" materials | grep
 else
   nok "the installed binary finds the installed catalogue from any directory"
 fi
+# the Python package pip-installed into a virtual environment over the installed library
+# (README "Python"): from a copy, so that pip's build files stay out of the tree; offline
+# (--no-index, Debian's setuptools through --system-site-packages)
+py=
+for p in ${PYTHON:-} python3 /usr/bin/python3; do
+  if "$p" -c 'import numpy, setuptools, venv' 2>/dev/null; then py=$p; break; fi
+done
+if [ -z "$py" ]; then
+  nok "pip install src/python into a venv" "no python3 with numpy, setuptools and venv (make deps)"
+elif cp -r src/python "$tmp/pysrc" && "$py" -m venv --system-site-packages "$tmp/venv" >"$tmp/venv.log" 2>&1 &&
+     "$tmp/venv/bin/pip" install -q --no-index --no-build-isolation "$tmp/pysrc" >>"$tmp/venv.log" 2>&1 &&
+     (cd "$tmp" && env -u EPIWELL_MATERIALS LD_LIBRARY_PATH="$prefix/lib" "$tmp/venv/bin/python" -c "
+import epiwell, os
+assert os.path.dirname(epiwell.__file__).startswith('$tmp/venv'), epiwell.__file__
+assert '$prefix/lib/libepiwell.so.0' in open('/proc/self/maps').read()
+r = epiwell.solve('$root/examples/detector_well.cfg')
+print(epiwell.version(), r.states[0].label, '%.6f' % r.states[0].energy_eV)") >"$tmp/py.out" 2>>"$tmp/venv.log" &&
+     grep -q '^0\.1\.0 e1 0\.7' "$tmp/py.out"; then
+  ok "pip install src/python into a venv: imports from the venv, loads $prefix/lib/libepiwell.so.0, solves"
+else
+  nok "pip install src/python into a venv" "$(tail -3 "$tmp/venv.log")"
+fi
 finish install

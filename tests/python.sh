@@ -10,6 +10,9 @@ set -u
 use_binary "$1"
 build=$(dirname "$bin")
 make_tmp python "python: cannot make a temp dir"
+# no __pycache__ in the tree (the test modules are imported from tests/)
+PYTHONDONTWRITEBYTECODE=1
+export PYTHONDONTWRITEBYTECODE
 py=
 for p in ${PYTHON:-} python3 /usr/bin/python3; do
   if "$p" -c 'import numpy, pytest' 2>/dev/null; then py=$p; break; fi
