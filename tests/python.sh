@@ -19,20 +19,23 @@ for p in ${PYTHON:-} python3 /usr/bin/python3; do
 done
 if [ -z "$py" ]; then nok "a python3 with numpy and pytest (run make deps)"; finish python; fi
 pre=
+asan=${ASAN_OPTIONS:-}
 if ldd "$build/libepiwell.so" | grep -q libasan; then
   # the interpreter is not instrumented: preload the runtimes, and leave leak checking to the
-  # RSS test (the interpreter's own allocations at exit are not ours)
+  # RSS test (the interpreter's own allocations at exit are not ours), which needs freed
+  # memory reused at once (no quarantine)
   pre="$(${CC:-cc} -print-file-name=libasan.so) $(${CC:-cc} -print-file-name=libubsan.so)"
+  asan="detect_leaks=0:quarantine_size_mb=0${asan:+:$asan}"
 fi
 if (cd "$tmp" && PYTHONPATH="$build/python" EPIWELL_BIN="$bin" LD_PRELOAD="$pre" \
-      ASAN_OPTIONS=detect_leaks=0 "$py" -c 'import epiwell' ); then
+      ASAN_OPTIONS="$asan" "$py" -c 'import epiwell' ); then
   ok "PYTHONPATH=$build/python $py -c 'import epiwell' from $tmp"
 else
   nok "PYTHONPATH=$build/python $py -c 'import epiwell' from $tmp"
 fi
 # loaded into an interpreter, libsuperlu.so must call the library's allocation and abort hooks
 # (superlu_adapter.c), or an out-of-memory inside SuperLU would end the script
-(cd "$tmp" && PYTHONPATH="$build/python" LD_PRELOAD="$pre" ASAN_OPTIONS=detect_leaks=0 \
+(cd "$tmp" && PYTHONPATH="$build/python" LD_PRELOAD="$pre" ASAN_OPTIONS="$asan" \
    LD_DEBUG=bindings "$py" -c "import epiwell; epiwell.solve('$root/examples/detector_well.cfg')") \
   >/dev/null 2>"$tmp/bind"
 for h in superlu_malloc superlu_abort_and_exit; do
@@ -43,7 +46,7 @@ for h in superlu_malloc superlu_abort_and_exit; do
   fi
 done
 (cd "$tmp" && PYTHONPATH="$build/python" EPIWELL_BIN="$bin" LD_PRELOAD="$pre" \
-   ASAN_OPTIONS=detect_leaks=0 "$py" -m pytest -q -p no:cacheprovider "$root"/tests/test_python*.py) \
+   ASAN_OPTIONS="$asan" "$py" -m pytest -q -p no:cacheprovider "$root"/tests/test_python*.py) \
   >"$tmp/log" 2>&1
 cat "$tmp/log"
 # pytest's last line: "N failed, M passed, K errors in …s" (parts absent when 0)
