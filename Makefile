@@ -25,6 +25,16 @@ ifeq ($(WERROR),1)
   CFLAGS  += -Wformat=2 -Werror
 endif
 LDFLAGS   += $(filter -fsanitize=%,$(OPT)) -fopenmp
+# Library objects are position-independent (one set serves libepiwell.a and libepiwell.so)
+# with hidden visibility: the shared library exports exactly what epiwell.h marks EW_API.
+LIB_CFLAGS := -fPIC -fvisibility=hidden
+
+# the version, from the one place it is written (epiwell.h's numeric macros)
+ver = $(shell sed -n 's/^\#define EW_VERSION_$(1) \([0-9][0-9]*\)$$/\1/p' src/epiwell.h)
+VERSION_MAJOR := $(call ver,MAJOR)
+VERSION       := $(VERSION_MAJOR).$(call ver,MINOR).$(call ver,PATCH)
+SONAME        := libepiwell.so.$(VERSION_MAJOR)
+SHLIB         := $(BUILD)/libepiwell.so.$(VERSION)
 
 # src/cli*.c make the command; everything else is the library
 CLI_SRC := $(wildcard src/cli*.c)
@@ -33,8 +43,8 @@ LIB_SRC := $(filter-out $(CLI_SRC),$(wildcard src/*.c))
 LIB_OBJ := $(patsubst src/%.c,$(BUILD)/obj/%.o,$(LIB_SRC))
 TESTS   := $(patsubst tests/%.c,$(BUILD)/tests/%,$(wildcard tests/test_*.c))
 
-.PHONY: all deps deps-check demo check bench install clean FORCE
-all: $(BUILD)/epiwell
+.PHONY: all deps deps-check demo check bench install clean python FORCE
+all: $(BUILD)/epiwell $(BUILD)/libepiwell.so
 
 # Only deps, demo and check install packages (as root) or print the apt-get line; a plain
 # build just says what is missing.
@@ -47,18 +57,38 @@ deps-check:
 # `make PREFIX=…` changes them.
 $(BUILD)/flags: FORCE
 	@mkdir -p $(BUILD)
-	@echo '$(CC) $(CFLAGS) $(PREFIX)' | cmp -s - $@ || echo '$(CC) $(CFLAGS) $(PREFIX)' > $@
+	@echo '$(CC) $(CFLAGS) $(LIB_CFLAGS) $(PREFIX)' | cmp -s - $@ || echo '$(CC) $(CFLAGS) $(LIB_CFLAGS) $(PREFIX)' > $@
 $(BUILD)/pkgs-ok:
 	@pkg-config --exists $(PKGS) || { echo "epiwell: missing build packages; run 'make deps' (as root) first" >&2; exit 1; }
 	@mkdir -p $(BUILD) && touch $@
 
 $(BUILD)/obj/%.o: src/%.c $(BUILD)/flags | $(BUILD)/pkgs-ok
 	@mkdir -p $(dir $@)
-	$(CC) $(CFLAGS) $(PKG_CFLAGS) -c $< -o $@
+	$(CC) $(CFLAGS) $(if $(filter $(CLI_OBJ),$@),,$(LIB_CFLAGS)) $(PKG_CFLAGS) -c $< -o $@
 
 $(BUILD)/libepiwell.a: $(LIB_OBJ)
 	rm -f $@
 	ar rcs $@ $^
+
+# libepiwell.so.X.Y.Z with soname libepiwell.so.X; -z defs: every dependency is named here
+$(SHLIB): $(LIB_OBJ) src/libepiwell.map
+	$(CC) -shared -Wl,-soname,$(SONAME) -Wl,-z,defs -Wl,--version-script=src/libepiwell.map \
+	  $(LDFLAGS) -o $@ $(LIB_OBJ) $(PKG_LIBS)
+$(BUILD)/$(SONAME): $(SHLIB)
+	ln -sf $(notdir $<) $@
+$(BUILD)/libepiwell.so: $(BUILD)/$(SONAME)
+	ln -sf $(notdir $<) $@
+
+# build/python/epiwell: the package, told where this build's library is (the installed
+# package finds the installed library instead: src/python/epiwell/_lib.py)
+PY_SRC := $(wildcard src/python/epiwell/*.py)
+python: $(BUILD)/python/epiwell/_build_path.py $(patsubst src/python/%,$(BUILD)/python/%,$(PY_SRC))
+$(BUILD)/python/epiwell/%.py: src/python/epiwell/%.py
+	@mkdir -p $(dir $@)
+	cp $< $@
+$(BUILD)/python/epiwell/_build_path.py: $(BUILD)/libepiwell.so $(BUILD)/flags
+	@mkdir -p $(dir $@)
+	echo 'LIBRARY = "$(CURDIR)/$(BUILD)/$(SONAME)"' > $@
 
 $(BUILD)/epiwell: $(CLI_OBJ) $(BUILD)/libepiwell.a
 	$(CC) $(LDFLAGS) -o $@ $^ $(PKG_LIBS)
@@ -77,7 +107,7 @@ demo: deps
 # public_includes.sh first: the command must be a client of epiwell.h alone (issue 11)
 check: deps-check
 	@CC='$(CC)' sh tests/public_includes.sh
-	@$(MAKE) --no-print-directory $(BUILD)/epiwell $(TESTS)
+	@$(MAKE) --no-print-directory $(BUILD)/epiwell $(BUILD)/libepiwell.so python $(TESTS)
 	@sh tests/run_all.sh $(BUILD)
 
 $(BUILD)/bench: tests/bench.c $(BUILD)/libepiwell.a $(BUILD)/flags
@@ -88,16 +118,19 @@ bench: deps-check
 	@$(MAKE) --no-print-directory $(BUILD)/bench $(BUILD)/epiwell
 	$(BUILD)/bench $(BUILD)/epiwell
 
-install: $(BUILD)/epiwell $(BUILD)/libepiwell.a
+install: $(BUILD)/epiwell $(BUILD)/libepiwell.a $(BUILD)/libepiwell.so
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib/pkgconfig \
 	  $(DESTDIR)$(PREFIX)/include $(DESTDIR)$(PREFIX)/share/epiwell/materials \
 	  $(DESTDIR)$(PREFIX)/share/man/man1
 	install -m 755 $(BUILD)/epiwell $(DESTDIR)$(PREFIX)/bin/
 	install -m 644 $(BUILD)/libepiwell.a $(DESTDIR)$(PREFIX)/lib/
+	install -m 755 $(SHLIB) $(DESTDIR)$(PREFIX)/lib/
+	ln -sf $(notdir $(SHLIB)) $(DESTDIR)$(PREFIX)/lib/$(SONAME)
+	ln -sf $(SONAME) $(DESTDIR)$(PREFIX)/lib/libepiwell.so
 	install -m 644 src/epiwell.h $(DESTDIR)$(PREFIX)/include/
 	install -m 644 materials/*.cfg $(DESTDIR)$(PREFIX)/share/epiwell/materials/
 	install -m 644 src/epiwell.1 $(DESTDIR)$(PREFIX)/share/man/man1/
-	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|0.1.0|g' src/epiwell.pc.in \
+	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(VERSION)|g' src/epiwell.pc.in \
 	  > $(DESTDIR)$(PREFIX)/lib/pkgconfig/epiwell.pc
 
 clean:

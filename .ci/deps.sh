@@ -2,12 +2,13 @@
 # deps.sh — make sure the Debian packages epiwell builds against are present.
 # As root: apt-get update, then install what is missing.  Otherwise: print the exact
 # apt-get line and fail.  Usage: deps.sh [check|ci]   (check also wants the test runner and
-# the picture renderers; ci also the leak checker)
+# the picture renderers, and Debian's python3 with numpy and pytest for the Python package's
+# tests; ci also the leak checker)
 set -u
 pkgs="gcc make pkg-config libsuperlu-dev libconfig-dev zlib1g-dev liblapack-dev liblapacke-dev libblas-dev libcairo2-dev"
 case "${1:-}" in
-check) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium" ;;
-ci) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium valgrind" ;;
+check) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium python3 python3-numpy python3-pytest" ;;
+ci) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium python3 python3-numpy python3-pytest valgrind" ;;
 esac
 missing=""
 for p in $pkgs; do

@@ -4,6 +4,8 @@
  * and the queries on names.  Evaluation at a composition is alloy.c; the parameter table is
  * in catalogue.h.
  */
+/* dladdr (the library's own file, for the default catalogue search) is a GNU extension */
+#define _GNU_SOURCE
 #include "catalogue.h"
 
 #include "error.h"
@@ -11,6 +13,7 @@
 
 #include <ctype.h>
 #include <dirent.h>
+#include <dlfcn.h>
 #include <errno.h>
 #include <libconfig.h>
 #include <math.h>
@@ -891,16 +894,51 @@ static ew_status load_dir(const char *dir, ew_catalogue **out, ew_error *err) {
   return EW_OK;
 }
 
-/* dirname of the running executable, via /proc/self/exe (Linux); 0 when unknown. */
-static int exe_dir(char *buf, size_t size) {
-  ssize_t n = readlink("/proc/self/exe", buf, size - 1);
-  if (n <= 0 || (size_t)n >= size - 1) return 0;
-  buf[n] = '\0';
+/* dirname of path in place; 0 when it has none. */
+static int dir_of(char *buf) {
   char *slash = strrchr(buf, '/');
   if (!slash) return 0;
   if (slash == buf) slash[1] = '\0';
   else *slash = '\0';
   return 1;
+}
+
+/* dirname of the running executable, via /proc/self/exe (Linux); 0 when unknown. */
+static int exe_dir(char *buf, size_t size) {
+  ssize_t n = readlink("/proc/self/exe", buf, size - 1);
+  if (n <= 0 || (size_t)n >= size - 1) return 0;
+  buf[n] = '\0';
+  return dir_of(buf);
+}
+
+/* dirname of the file this code was loaded from: libepiwell.so when a program (a Python
+ * interpreter) loaded the shared library, the executable when the archive is linked in. */
+static int lib_dir(char *buf, size_t size) {
+  Dl_info info;
+  if (!dladdr((const void *)param_keys, &info) || !info.dli_fname || /* any object of ours */
+      info.dli_fname[0] != '/' || strlen(info.dli_fname) >= size)
+    return 0;
+  snprintf(buf, size, "%s", info.dli_fname);
+  return dir_of(buf);
+}
+
+/* The places near a directory d holding the program or the library: d/materials,
+ * d/../share/epiwell/materials (an installed tree moved as a whole: PREFIX/bin/epiwell or
+ * PREFIX/lib/libepiwell.so → PREFIX/share/epiwell), and the materials of d's parent and
+ * grandparent (build/epiwell, build/libepiwell.so, build/sanitize/epiwell → ./materials). */
+static void near_dir(char *d, char (*cand)[EW_CATALOGUE_PATH_MAX], size_t *nc) {
+  snprintf(cand[(*nc)++], EW_CATALOGUE_PATH_MAX, "%.4000s/materials", d);
+  snprintf(cand[(*nc)++], EW_CATALOGUE_PATH_MAX, "%.4000s/../share/epiwell/materials", d);
+  for (int up = 0; up < 2; up++) {
+    char *slash = strrchr(d, '/');
+    if (slash && slash != d) {
+      *slash = '\0';
+      snprintf(cand[(*nc)++], EW_CATALOGUE_PATH_MAX, "%.4000s/materials", d);
+    } else {
+      if (slash) snprintf(cand[(*nc)++], EW_CATALOGUE_PATH_MAX, "/materials");
+      break;
+    }
+  }
 }
 
 ew_status ew_catalogue_load(const char *dir, ew_catalogue **out, ew_error *err) {
@@ -919,26 +957,16 @@ ew_status ew_catalogue_load(const char *dir, ew_catalogue **out, ew_error *err) 
                      env);
     return load_dir(env, out, err);
   }
-  char cand[5][EW_CATALOGUE_PATH_MAX];
+  /* the library's places first (a script's interpreter is not next to the catalogue), then
+   * the executable's when it lives elsewhere, then the install prefix */
+  char cand[9][EW_CATALOGUE_PATH_MAX];
   size_t nc = 0;
-  char exe[EW_CATALOGUE_PATH_MAX];
-  if (exe_dir(exe, sizeof exe)) {
-    snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "%.4000s/materials", exe);
-    /* an installed tree moved as a whole: PREFIX/bin/epiwell → PREFIX/share/epiwell */
-    snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "%.4000s/../share/epiwell/materials", exe);
-    /* build/epiwell → ./materials and build/sanitize/epiwell → ./materials: the parent and
-       grandparent of the binary's directory */
-    for (int up = 0; up < 2; up++) {
-      char *slash = strrchr(exe, '/');
-      if (slash && slash != exe) {
-        *slash = '\0';
-        snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "%.4000s/materials", exe);
-      } else {
-        if (slash) snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "/materials");
-        break;
-      }
-    }
-  }
+  char exe[EW_CATALOGUE_PATH_MAX], lib[EW_CATALOGUE_PATH_MAX];
+  int have_exe = exe_dir(exe, sizeof exe);
+  int have_lib = lib_dir(lib, sizeof lib);
+  if (have_lib && have_exe && !strcmp(lib, exe)) have_lib = 0;
+  if (have_lib) near_dir(lib, cand, &nc);
+  if (have_exe) near_dir(exe, cand, &nc);
   snprintf(cand[nc++], EW_CATALOGUE_PATH_MAX, "%s", EW_PREFIX "/share/epiwell/materials");
   for (size_t i = 0; i < nc; i++)
     if (has_catalogue(cand[i])) return load_dir(cand[i], out, err);
@@ -946,7 +974,7 @@ ew_status ew_catalogue_load(const char *dir, ew_catalogue **out, ew_error *err) 
   list[0] = '\0';
   for (size_t i = 0; i < nc; i++) {
     size_t l = strlen(list);
-    snprintf(list + l, sizeof list - l, "%s%s", i ? ", " : "", cand[i]);
+    snprintf(list + l, sizeof list - l, "%s%.4000s", i ? ", " : "", cand[i]);
   }
   return ew_fail(err, EW_ERR_CATALOGUE, NULL, 0,
                  "no material catalogue found (set $EPIWELL_MATERIALS); searched: %s", list);

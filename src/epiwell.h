@@ -29,6 +29,20 @@
 extern "C" {
 #endif
 
+/* Exported from the shared library: every function declared here, nothing else (the library
+ * is built with -fvisibility=hidden; tests/exports.sh checks the exported set against this
+ * header).  Defined empty for compilers without the visibility attribute. */
+#if defined(__GNUC__) && __GNUC__ >= 4
+#define EW_API __attribute__((visibility("default")))
+#else
+#define EW_API
+#endif
+
+/* Version of this header.  ew_version() gives the library's at run time; the shared
+ * library's soname carries the major number (libepiwell.so.MAJOR). */
+#define EW_VERSION_MAJOR 0
+#define EW_VERSION_MINOR 1
+#define EW_VERSION_PATCH 0
 #define EW_VERSION "0.1.0"
 
 /* Status codes.  The CLI uses them as its exit codes (documented in README.md). */
@@ -51,12 +65,12 @@ typedef struct {
 } ew_error;
 
 /* Format "file:line: message" (or just the message) into buf; returns buf. */
-const char *ew_error_text(const ew_error *err, char *buf, size_t size);
+EW_API const char *ew_error_text(const ew_error *err, char *buf, size_t size);
 
 /* ---- bands ---------------------------------------------------------------------------- */
 typedef enum { EW_BAND_E = 0, EW_BAND_HH = 1, EW_BAND_LH = 2, EW_BAND_COUNT = 3 } ew_band;
 /* "e", "hh", "lh" */
-const char *ew_band_name(ew_band band);
+EW_API const char *ew_band_name(ew_band band);
 
 /* ---- material catalogue (materials.c) ------------------------------------------------- */
 typedef struct ew_catalogue ew_catalogue;
@@ -64,20 +78,20 @@ typedef struct ew_catalogue ew_catalogue;
 /* Load every materials/NAME.cfg in dir.  dir == NULL searches, in order: $EPIWELL_MATERIALS,
  * the directory "materials" next to the running binary and its parent, and the install
  * prefix's share/epiwell/materials.  Fails with EW_ERR_CATALOGUE naming file:line. */
-ew_status ew_catalogue_load(const char *dir, ew_catalogue **out, ew_error *err);
-void ew_catalogue_free(ew_catalogue *cat); /* NULL is a no-op */
+EW_API ew_status ew_catalogue_load(const char *dir, ew_catalogue **out, ew_error *err);
+EW_API void ew_catalogue_free(ew_catalogue *cat); /* NULL is a no-op */
 
 /* ---- layer stack (stack.c) ------------------------------------------------------------ */
 typedef struct ew_stack ew_stack;
 
 /* Read and validate a stack file; resolves every layer's band parameters at the stack's
  * temperature from cat.  On any error nothing is returned (*out = NULL). */
-ew_status ew_stack_read_file(const char *path, const ew_catalogue *cat, ew_stack **out,
+EW_API ew_status ew_stack_read_file(const char *path, const ew_catalogue *cat, ew_stack **out,
                              ew_error *err);
 /* Same, from text in memory; display_name is used in error messages. */
-ew_status ew_stack_read_string(const char *text, const char *display_name,
+EW_API ew_status ew_stack_read_string(const char *text, const char *display_name,
                                const ew_catalogue *cat, ew_stack **out, ew_error *err);
-void ew_stack_free(ew_stack *stack); /* NULL is a no-op */
+EW_API void ew_stack_free(ew_stack *stack); /* NULL is a no-op */
 
 /* ---- solving (solve.c) ---------------------------------------------------------------- */
 typedef struct {
@@ -97,7 +111,7 @@ typedef struct {
                                0 lists every line.  JSON and CSV always hold every line. */
 } ew_options;
 
-void ew_options_default(ew_options *opt);
+EW_API void ew_options_default(ew_options *opt);
 
 typedef struct {
   char label[16];       /* e1, e2, …, hh1, …, lh1, … */
@@ -133,55 +147,55 @@ typedef struct {
 
 typedef struct ew_result ew_result;
 
-ew_status ew_solve(const ew_stack *stack, const ew_options *opt, ew_result **out,
+EW_API ew_status ew_solve(const ew_stack *stack, const ew_options *opt, ew_result **out,
                    ew_error *err);
-void ew_result_free(ew_result *res); /* NULL is a no-op */
+EW_API void ew_result_free(ew_result *res); /* NULL is a no-op */
 
-size_t ew_result_state_count(const ew_result *res);
-const ew_state *ew_result_state(const ew_result *res, size_t i);
+EW_API size_t ew_result_state_count(const ew_result *res);
+EW_API const ew_state *ew_result_state(const ew_result *res, size_t i);
 /* Wavefunction of state i on the grid nodes: ψ (1/sqrt(nm)), normalised ∫|ψ|² dz = 1. */
-const double *ew_result_wavefunction(const ew_result *res, size_t i);
-size_t ew_result_line_count(const ew_result *res);
-const ew_line *ew_result_line(const ew_result *res, size_t i);
+EW_API const double *ew_result_wavefunction(const ew_result *res, size_t i);
+EW_API size_t ew_result_line_count(const ew_result *res);
+EW_API const ew_line *ew_result_line(const ew_result *res, size_t i);
 
 /* Grid and profile on the nodes (n values each). */
-size_t ew_result_node_count(const ew_result *res);
-const double *ew_result_z_nm(const ew_result *res);
+EW_API size_t ew_result_node_count(const ew_result *res);
+EW_API const double *ew_result_z_nm(const ew_result *res);
 /* band edge (potential energy, absolute eV) and growth-axis mass of a band at the nodes */
-const double *ew_result_edge_eV(const ew_result *res, ew_band band);
-const double *ew_result_mass(const ew_result *res, ew_band band);
-double ew_result_grid_step_nm(const ew_result *res);
+EW_API const double *ew_result_edge_eV(const ew_result *res, ew_band band);
+EW_API const double *ew_result_mass(const ew_result *res, ew_band band);
+EW_API double ew_result_grid_step_nm(const ew_result *res);
 /* bound states per band: the certified (Sturm inertia) count of eigenvalues in the window,
  * less the box states dropped in a field */
-size_t ew_result_band_count(const ew_result *res, ew_band band);
+EW_API size_t ew_result_band_count(const ew_result *res, ew_band band);
 /* upper end of the bound-state window of a band (absolute eV) */
-double ew_result_window_eV(const ew_result *res, ew_band band);
+EW_API double ew_result_window_eV(const ew_result *res, ew_band band);
 /* Warnings: what the model leaves out for this stack (indirect layers, dropped box states,
  * failed residual checks, strain beyond the critical thickness, …). */
 #define EW_WARNING_MAX 400
-size_t ew_result_warning_count(const ew_result *res);
+EW_API size_t ew_result_warning_count(const ew_result *res);
 /* One line naming the band model used (parabolic or Kane non-parabolic electrons). */
-const char *ew_result_model(const ew_result *res);
-const char *ew_result_warning(const ew_result *res, size_t i);
+EW_API const char *ew_result_model(const ew_result *res);
+EW_API const char *ew_result_warning(const ew_result *res, size_t i);
 /* The stable machine-readable code of warning i (kebab-case, e.g. "critical-thickness";
  * README "Warnings" lists every code); NULL when i is out of range. */
-const char *ew_result_warning_code(const ew_result *res, size_t i);
+EW_API const char *ew_result_warning_code(const ew_result *res, size_t i);
 
 /* ---- self-consistent Schrödinger–Poisson results (poisson.c) ---------------------------
  * ew_solve() solves doped stacks self-consistently (see README "Doped structures").  These
  * accessors return NAN / 0 / NULL for a result that is not self-consistent. */
 /* Fermi level, absolute eV (with a bias: the Fermi level of the first face). */
-double ew_result_fermi_energy_eV(const ew_result *res);
+EW_API double ew_result_fermi_energy_eV(const ew_result *res);
 /* Fermi level of the last face (= ew_result_fermi_energy_eV unless a bias is applied). */
-double ew_result_fermi_energy_last_eV(const ew_result *res);
+EW_API double ew_result_fermi_energy_last_eV(const ew_result *res);
 /* Outer (Schrödinger–Poisson) iterations done, 0 when not self-consistent. */
-int ew_result_sp_iterations(const ew_result *res);
+EW_API int ew_result_sp_iterations(const ew_result *res);
 /* max |ΔU| of the last outer iteration, eV (converged: < 1e-6 eV). */
-double ew_result_sp_residual_eV(const ew_result *res);
+EW_API double ew_result_sp_residual_eV(const ew_result *res);
 /* Sheet density of state i (electrons for e states, holes for hh/lh states), cm^-2. */
-double ew_result_state_sheet_density_cm2(const ew_result *res, size_t i);
+EW_API double ew_result_state_sheet_density_cm2(const ew_result *res, size_t i);
 /* Depolarisation shift Ẽ − E of intersubband line j, eV (NAN for interband lines). */
-double ew_result_line_depolarization_eV(const ew_result *res, size_t j);
+EW_API double ew_result_line_depolarization_eV(const ew_result *res, size_t j);
 /* Profiles on the nodes (ew_result_node_count values), NULL when not self-consistent. */
 typedef enum {
   EW_SP_POTENTIAL_EV = 0,   /* U = −eφ, the electrostatic potential energy of an electron */
@@ -192,7 +206,7 @@ typedef enum {
   EW_SP_ACCEPTORS_ION_CM3 = 5,
   EW_SP_PROFILE_COUNT = 6
 } ew_sp_profile;
-const double *ew_result_sp_profile(const ew_result *res, ew_sp_profile which);
+EW_API const double *ew_result_sp_profile(const ew_result *res, ew_sp_profile which);
 
 
 /* ==== Library API for scripts and the command line (src/api_*.c) =========================
@@ -210,25 +224,25 @@ const double *ew_result_sp_profile(const ew_result *res, ew_sp_profile which);
 
 /* ---- threads -------------------------------------------------------------------------- */
 /* 1 when the library was built with OpenMP (threads > 1 have an effect), else 0. */
-int ew_wf_have_openmp(void);
+EW_API int ew_wf_have_openmp(void);
 
 /* ---- catalogue and materials (api_materials.c) ---------------------------------------- */
 /* Materials in the catalogue (0 for NULL) and the name of material i (NULL when cat is NULL
  * or i is out of range; valid while cat lives). */
-size_t ew_catalogue_material_count(const ew_catalogue *cat);
-const char *ew_catalogue_material_name(const ew_catalogue *cat, size_t i);
+EW_API size_t ew_catalogue_material_count(const ew_catalogue *cat);
+EW_API const char *ew_catalogue_material_name(const ew_catalogue *cat, size_t i);
 /* 1 when name (in) is an alloy of the catalogue (it needs a composition x), 0 for a binary,
  * -1 when it is not in the catalogue or an argument is NULL. */
-int ew_material_is_alloy(const ew_catalogue *cat, const char *name);
+EW_API int ew_material_is_alloy(const ew_catalogue *cat, const char *name);
 /* Lattice constant at 300 K of name at composition (x, y), nm, into *a_nm (out).
  * EW_ERR_INPUT for an unknown name (the message suggests the nearest) or a bad composition. */
-ew_status ew_material_lattice_nm(const ew_catalogue *cat, const char *name, double x,
+EW_API ew_status ew_material_lattice_nm(const ew_catalogue *cat, const char *name, double x,
                                  double y, double *a_nm, ew_error *err);
 /* Composition (*x, *y; out) of alloy name lattice-matched to substrate (a binary, or an
  * alloy at substrate_x).  target_gap_eV: NaN for ternaries (the match alone), else the Γ gap
  * at T_K the composition must have (quaternaries: selects the point of the matched line).
  * EW_ERR_INPUT when no composition fits (the message says why). */
-ew_status ew_material_lattice_match(const ew_catalogue *cat, const char *name,
+EW_API ew_status ew_material_lattice_match(const ew_catalogue *cat, const char *name,
                                     const char *substrate, double substrate_x,
                                     double target_gap_eV, double T_K, double *x, double *y,
                                     ew_error *err);
@@ -236,76 +250,76 @@ ew_status ew_material_lattice_match(const ew_catalogue *cat, const char *name,
  * parameters; with a_sub_nm > 0 also its strain on a substrate of that lattice constant
  * (what `epiwell materials NAME` prints).  EW_ERR_INPUT for an unknown name or composition,
  * EW_ERR_IO when out has a write error. */
-ew_status ew_material_write(const ew_catalogue *cat, const char *name, double x, double y,
+EW_API ew_status ew_material_write(const ew_catalogue *cat, const char *name, double x, double y,
                             double T_K, double a_sub_nm, FILE *out, ew_error *err);
 /* Write the list of the catalogue's materials to out (what `epiwell materials` prints). */
-ew_status ew_catalogue_write(const ew_catalogue *cat, FILE *out, ew_error *err);
+EW_API ew_status ew_catalogue_write(const ew_catalogue *cat, FILE *out, ew_error *err);
 
 /* ---- layers of a stack (api_stack.c) ---------------------------------------------------
  * Layers are indexed 0 … count−1 in growth order.  Out of range or NULL: NULL / NAN. */
-size_t ew_stack_layer_count(const ew_stack *st);              /* 0 for NULL */
-const char *ew_stack_layer_name(const ew_stack *st, size_t i);     /* valid while st lives */
-const char *ew_stack_layer_material(const ew_stack *st, size_t i); /* valid while st lives */
-double ew_stack_layer_thickness_nm(const ew_stack *st, size_t i);
-double ew_stack_layer_start_nm(const ew_stack *st, size_t i); /* z of its first face */
+EW_API size_t ew_stack_layer_count(const ew_stack *st);              /* 0 for NULL */
+EW_API const char *ew_stack_layer_name(const ew_stack *st, size_t i);     /* valid while st lives */
+EW_API const char *ew_stack_layer_material(const ew_stack *st, size_t i); /* valid while st lives */
+EW_API double ew_stack_layer_thickness_nm(const ew_stack *st, size_t i);
+EW_API double ew_stack_layer_start_nm(const ew_stack *st, size_t i); /* z of its first face */
 /* Composition x (y) as the stack file gives it; NAN for a layer that gives none (a binary,
  * a user material, or a graded layer, whose grade sets x). */
-double ew_stack_layer_x(const ew_stack *st, size_t i);
-double ew_stack_layer_y(const ew_stack *st, size_t i);
+EW_API double ew_stack_layer_x(const ew_stack *st, size_t i);
+EW_API double ew_stack_layer_y(const ew_stack *st, size_t i);
 /* Index (out) of the layer called name: EW_ERR_INPUT when there is none. */
-ew_status ew_stack_layer_index(const ew_stack *st, const char *name, size_t *index,
+EW_API ew_status ew_stack_layer_index(const ew_stack *st, const char *name, size_t *index,
                                ew_error *err);
-double ew_stack_temperature_K(const ew_stack *st); /* NAN for NULL */
-double ew_stack_total_nm(const ew_stack *st);      /* sum of the thicknesses; NAN for NULL */
+EW_API double ew_stack_temperature_K(const ew_stack *st); /* NAN for NULL */
+EW_API double ew_stack_total_nm(const ew_stack *st);      /* sum of the thicknesses; NAN for NULL */
 
 /* ---- writing a result (api_write.c) ------------------------------------------------------
  * Stream writers write to out (an open stream the caller keeps; memory streams work) and
  * return EW_ERR_IO when the stream reports an error afterwards.  File writers write their
  * file(s) atomically: under a temporary name, renamed into place only when complete. */
 /* The terminal tables: layers, levels, lines (what `epiwell solve` prints). */
-ew_status ew_result_write_table(const ew_result *res, FILE *out, ew_error *err);
+EW_API ew_status ew_result_write_table(const ew_result *res, FILE *out, ew_error *err);
 /* One JSON object (README "Output reference"; `epiwell solve --json`). */
-ew_status ew_result_write_json(const ew_result *res, FILE *out, ew_error *err);
+EW_API ew_status ew_result_write_json(const ew_result *res, FILE *out, ew_error *err);
 /* profile.csv, levels.csv, lines.csv, wavefunctions.csv into dir (created when missing),
  * gzip-compressed when gzip is 1, or when gzip is −1 and the table is large; all four
  * appear together or none does. */
-ew_status ew_result_write_csv_dir(const ew_result *res, const char *dir, int gzip,
+EW_API ew_status ew_result_write_csv_dir(const ew_result *res, const char *dir, int gzip,
                                   ew_error *err);
 /* Band diagram picture at path (.svg or .png, see ew_plot_format); or as SVG text to out. */
-ew_status ew_result_write_band_diagram(const ew_result *res, const char *path, ew_error *err);
-ew_status ew_result_write_band_diagram_svg(const ew_result *res, FILE *out, ew_error *err);
+EW_API ew_status ew_result_write_band_diagram(const ew_result *res, const char *path, ew_error *err);
+EW_API ew_status ew_result_write_band_diagram_svg(const ew_result *res, FILE *out, ew_error *err);
 /* dir/report.html, or dir itself when it ends in .html: one self-contained page (cat may
  * be NULL: no material table). */
-ew_status ew_result_write_report(const ew_result *res, const ew_catalogue *cat,
+EW_API ew_status ew_result_write_report(const ew_result *res, const ew_catalogue *cat,
                                  const char *dir, ew_error *err);
 
 /* ---- output paths, checked before any work (api_write.c) ------------------------------ */
 /* Picture format from a file name: 's' for .svg, 'p' for .png (case-insensitive), 0 otherwise
  * (NULL: 0).  In plot.c. */
-int ew_plot_format(const char *path);
+EW_API int ew_plot_format(const char *path);
 /* EW_OK when dir is a writable directory, or missing with a writable parent (not created). */
-ew_status ew_output_dir_check(const char *dir, ew_error *err);
+EW_API ew_status ew_output_dir_check(const char *dir, ew_error *err);
 /* EW_OK when path (.svg/.png) can be written; EW_ERR_USAGE for another extension. */
-ew_status ew_plot_path_check(const char *path, ew_error *err);
+EW_API ew_status ew_plot_path_check(const char *path, ew_error *err);
 /* EW_OK when a data file can be written at path (its directory is writable, path is not a
  * directory); messages name opt_name (in; may be NULL: "output"). */
-ew_status ew_data_path_check(const char *path, const char *opt_name, ew_error *err);
+EW_API ew_status ew_data_path_check(const char *path, const char *opt_name, ew_error *err);
 /* The companion picture name FILE-SUFFIX.ext of FILE.ext into out[size] (suffix "" or NULL:
  * path itself).  EW_ERR_USAGE, naming opt_name (may be NULL: "--plot"), when path does not
  * end in .svg/.png or out is too small. */
-ew_status ew_plot_companion_name(const char *path, const char *suffix, const char *opt_name,
+EW_API ew_status ew_plot_companion_name(const char *path, const char *suffix, const char *opt_name,
                                  char *out, size_t size, ew_error *err);
 
 /* ---- one output file written atomically (api_output_file.c) ----------------------------
  * open → write to ew_output_file_stream → commit (renamed into place) or abort (removed).
  * The temporary lives in the target's directory; both commit and abort free the object. */
 typedef struct ew_output_file ew_output_file;
-ew_status ew_output_file_open(const char *path, ew_output_file **out, ew_error *err);
+EW_API ew_status ew_output_file_open(const char *path, ew_output_file **out, ew_error *err);
 /* The stream to write (owned by f; valid until commit/abort); NULL for NULL. */
-FILE *ew_output_file_stream(ew_output_file *f);
+EW_API FILE *ew_output_file_stream(ew_output_file *f);
 /* Close and rename into place; EW_ERR_IO (nothing left behind) when a write failed. */
-ew_status ew_output_file_commit(ew_output_file *f, ew_error *err);
-void ew_output_file_abort(ew_output_file *f); /* NULL is a no-op */
+EW_API ew_status ew_output_file_commit(ew_output_file *f, ew_error *err);
+EW_API void ew_output_file_abort(ew_output_file *f); /* NULL is a no-op */
 
 /* ---- all outputs of one run, committed together (api_output_file.c) -------------------
  * create → stage every target before the work (the checks and the directory lock happen
@@ -320,28 +334,28 @@ void ew_output_file_abort(ew_output_file *f); /* NULL is a no-op */
  * staging directories beside their targets and renamed in at commit.  What a killed run left
  * behind is removed by the next run on the same targets.  README "Output files" says more. */
 typedef struct ew_output_set ew_output_set;
-ew_status ew_output_set_create(ew_output_set **out, ew_error *err);
+EW_API ew_status ew_output_set_create(ew_output_set **out, ew_error *err);
 /* Stage dir as a whole (once per set); the directory to write it into into work[size] (out;
  * ew_output_set_write_csv writes the CSV set there).  EW_ERR_IO naming dir when it cannot be
  * used or another run holds it. */
-ew_status ew_output_set_dir(ew_output_set *s, const char *dir, char *work, size_t size,
-                            ew_error *err);
+EW_API ew_status ew_output_set_dir(ew_output_set *s, const char *dir, char *work, size_t size,
+                                   ew_error *err);
 /* Stage the file path (make_dir: create its directory when missing, as `--report DIR`
  * does); the name to write instead into work[size] (out): a path ending in path's own base
  * name, so a writer that takes a directory is given work's directory part.  A file in the
  * staged directory joins its set.  EW_ERR_IO naming path when it exists and is not a regular
  * file (a FIFO, a device, a directory) or its directory is missing or not writable. */
-ew_status ew_output_set_file(ew_output_set *s, const char *path, int make_dir, char *work,
+EW_API ew_status ew_output_set_file(ew_output_set *s, const char *path, int make_dir, char *work,
                              size_t size, ew_error *err);
 /* The CSV set of res (as ew_result_write_csv_dir writes it) into the staged directory. */
-ew_status ew_output_set_write_csv(ew_output_set *s, const ew_result *res, int gzip,
+EW_API ew_status ew_output_set_write_csv(ew_output_set *s, const ew_result *res, int gzip,
                                   ew_error *err);
 /* After a writer failed: staged names in err (file and message) rewritten to the targets. */
-void ew_output_set_explain(const ew_output_set *s, ew_error *err);
+EW_API void ew_output_set_explain(const ew_output_set *s, ew_error *err);
 /* Put every output in place and free s; EW_ERR_IO when that failed (what was not put in
  * place is removed). */
-ew_status ew_output_set_commit(ew_output_set *s, ew_error *err);
-void ew_output_set_abort(ew_output_set *s); /* removes every staged file, frees s; NULL no-op */
+EW_API ew_status ew_output_set_commit(ew_output_set *s, ew_error *err);
+EW_API void ew_output_set_abort(ew_output_set *s); /* removes every staged file, frees s; NULL no-op */
 
 /* ---- absorption spectra of a result (api_spectra.c) ----------------------------------- */
 #define EW_WF_DEFAULT_ANGLE_DEG 45.0 /* internal angle of a 45° polished facet */
@@ -351,23 +365,23 @@ void ew_output_set_abort(ew_output_set *s); /* removes every staged file, frees 
 typedef struct ew_spectra ew_spectra;
 /* Interband and intersubband spectra of res at internal angle theta_deg ∈ [0, 90) and
  * refractive index n_refr > 0 (EW_ERR_USAGE otherwise).  *out keeps no pointer into res. */
-ew_status ew_spectra_compute(const ew_result *res, double theta_deg, double n_refr,
+EW_API ew_status ew_spectra_compute(const ew_result *res, double theta_deg, double n_refr,
                              ew_spectra **out, ew_error *err);
-void ew_spectra_free(ew_spectra *sp); /* also removes temporaries not committed */
+EW_API void ew_spectra_free(ew_spectra *sp); /* also removes temporaries not committed */
 /* Why spectrum which (0 interband, 1 intersubband) is absent; "" when present; NULL for bad
  * arguments.  Valid while sp lives. */
-const char *ew_spectra_note(const ew_spectra *sp, int which);
+EW_API const char *ew_spectra_note(const ew_spectra *sp, int which);
 /* CSV "E_eV,interband_rel,intersubband_fraction" to out. */
-ew_status ew_spectra_write_csv(const ew_spectra *sp, FILE *out, ew_error *err);
+EW_API ew_status ew_spectra_write_csv(const ew_spectra *sp, FILE *out, ew_error *err);
 /* Terminal summary of the peaks of both spectra to out. */
-ew_status ew_spectra_write_peaks(const ew_spectra *sp, FILE *out, ew_error *err);
+EW_API ew_status ew_spectra_write_peaks(const ew_spectra *sp, FILE *out, ew_error *err);
 /* Write the CSV at csv_path and the pictures at plot_path (FILE the interband chart,
  * FILE-intersubband.ext the intersubband one) under temporary names; either path may be
  * NULL.  written[k] (out; may be NULL) is 1 for each picture drawn.  Nothing appears until
  * ew_spectra_commit_files(sp, 1, …); ok = 0 removes the temporaries. */
-ew_status ew_spectra_stage_files(ew_spectra *sp, const char *csv_path, const char *plot_path,
+EW_API ew_status ew_spectra_stage_files(ew_spectra *sp, const char *csv_path, const char *plot_path,
                                  int written[2], ew_error *err);
-ew_status ew_spectra_commit_files(ew_spectra *sp, int ok, ew_error *err);
+EW_API ew_status ew_spectra_commit_files(ew_spectra *sp, int ok, ew_error *err);
 
 /* ---- parameter sweeps (api_sweep.c) ----------------------------------------------------
  * create → vary (once or twice) → open the stack → compute → [stage/commit plots] → free.
@@ -382,66 +396,97 @@ typedef struct {
   void (*progress)(void *ctx, size_t done, size_t total); /* may be NULL; serialised */
   void *progress_ctx;
 } ew_sweep_options;
-void ew_sweep_options_default(ew_sweep_options *o);
-ew_status ew_sweep_create(ew_sweep **out, ew_error *err);
-void ew_sweep_free(ew_sweep *sw); /* also removes staged pictures not committed */
+EW_API void ew_sweep_options_default(ew_sweep_options *o);
+EW_API ew_status ew_sweep_create(ew_sweep **out, ew_error *err);
+EW_API void ew_sweep_free(ew_sweep *sw); /* also removes staged pictures not committed */
 /* Add a varied key "KEY=FROM:TO:STEP" (at most two: a grid, the first the outer loop). */
-ew_status ew_sweep_vary(ew_sweep *sw, const char *spec, ew_error *err);
-size_t ew_sweep_key_count(const ew_sweep *sw); /* 0 for NULL */
+EW_API ew_status ew_sweep_vary(ew_sweep *sw, const char *spec, ew_error *err);
+EW_API size_t ew_sweep_key_count(const ew_sweep *sw); /* 0 for NULL */
 /* Read stack_path (errors with file:line) with cat (must outlive sw) and solver options opt
  * (may be NULL: defaults).  Keys are checked against the stack by ew_sweep_compute. */
-ew_status ew_sweep_open(ew_sweep *sw, const char *stack_path, const ew_catalogue *cat,
+EW_API ew_status ew_sweep_open(ew_sweep *sw, const char *stack_path, const ew_catalogue *cat,
                         const ew_options *opt, ew_error *err);
 /* Solve every point; CSV to csv and/or JSON to json (either may be NULL); o may be NULL
  * (defaults).  On an error the streams hold partial output. */
-ew_status ew_sweep_compute(ew_sweep *sw, const ew_sweep_options *o, FILE *csv, FILE *json,
+EW_API ew_status ew_sweep_compute(ew_sweep *sw, const ew_sweep_options *o, FILE *csv, FILE *json,
                            ew_error *err);
 /* The pictures of a computed sweep (keep_table set), k < EW_SWEEP_PLOT_FILES:
  * ew_sweep_plot_suffix(k) is "", "interband", "intersubband" (the companion names of
  * path); written[k] (out; may be NULL) is 0 for a chart with no line to draw (not written).
  * Staged under temporary names; commit with ok = 1 puts them in place, ok = 0 removes them. */
 #define EW_SWEEP_PLOT_FILES 3
-const char *ew_sweep_plot_suffix(int k); /* NULL out of range */
-ew_status ew_sweep_stage_plots(ew_sweep *sw, const char *path,
+EW_API const char *ew_sweep_plot_suffix(int k); /* NULL out of range */
+EW_API ew_status ew_sweep_stage_plots(ew_sweep *sw, const char *path,
                                int written[EW_SWEEP_PLOT_FILES], ew_error *err);
-ew_status ew_sweep_commit_plots(ew_sweep *sw, int ok, ew_error *err);
+EW_API ew_status ew_sweep_commit_plots(ew_sweep *sw, int ok, ew_error *err);
 
 /* ---- inverse matching (api_match.c) ----------------------------------------------------
  * Which value of one key (or pair of values of two keys) puts one line (two lines) at a
  * target: create → vary, line, target (once each per unknown) [→ tolerance] → compute. */
 typedef struct ew_match ew_match;
-ew_status ew_match_create(ew_match **out, ew_error *err);
-void ew_match_free(ew_match *mt);
-ew_status ew_match_vary(ew_match *mt, const char *spec, ew_error *err); /* KEY=FROM:TO[:STEP] */
+EW_API ew_status ew_match_create(ew_match **out, ew_error *err);
+EW_API void ew_match_free(ew_match *mt);
+EW_API ew_status ew_match_vary(ew_match *mt, const char *spec, ew_error *err); /* KEY=FROM:TO[:STEP] */
 /* A line "A-B" (levels of one band or an electron and a hole level) or "A-B:pl". */
-ew_status ew_match_line(ew_match *mt, const char *line, ew_error *err);
+EW_API ew_status ew_match_line(ew_match *mt, const char *line, ew_error *err);
 /* A target quantity with its unit: "9.0um", "1.548eV", "154meV", "800nm". */
-ew_status ew_match_target(ew_match *mt, const char *quantity, ew_error *err);
+EW_API ew_status ew_match_target(ew_match *mt, const char *quantity, ew_error *err);
 /* One unknown only: also solve at target ± tolerance (may be "0eV"). */
-ew_status ew_match_tolerance(ew_match *mt, const char *quantity, ew_error *err);
+EW_API ew_status ew_match_tolerance(ew_match *mt, const char *quantity, ew_error *err);
 /* Solve with the stack at stack_path, cat, options opt (may be NULL), threads (0: every
  * core) and samples per range (0: the default).  No solution is not an error. */
-ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalogue *cat,
+EW_API ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalogue *cat,
                            const ew_options *opt, int threads, size_t samples, ew_error *err);
-size_t ew_match_solution_count(const ew_match *mt); /* 0 for NULL or before compute */
+EW_API size_t ew_match_solution_count(const ew_match *mt); /* 0 for NULL or before compute */
 /* Value of unknown k (0 or 1) in solution i; NAN out of range. */
-double ew_match_solution_value(const ew_match *mt, size_t i, size_t k);
+EW_API double ew_match_solution_value(const ew_match *mt, size_t i, size_t k);
 /* With no solution: what the range reaches ("no value … reaches …"); "" otherwise. */
-const char *ew_match_message(const ew_match *mt);
-ew_status ew_match_write_table(const ew_match *mt, FILE *out, ew_error *err);
-ew_status ew_match_write_json(const ew_match *mt, FILE *out, ew_error *err);
+EW_API const char *ew_match_message(const ew_match *mt);
+EW_API ew_status ew_match_write_table(const ew_match *mt, FILE *out, ew_error *err);
+EW_API ew_status ew_match_write_json(const ew_match *mt, FILE *out, ew_error *err);
 
 /* ---- growth tolerances and the monolayer ladder (api_tolerance.c) ---------------------- */
 typedef struct ew_tolerance ew_tolerance;
 /* Shifts of every level and main line for ±1 monolayer of every layer and ±dx (0 < dx ≤ 0.5)
  * of every alloy's composition (ladder == NULL), or the monolayer ladder of layer ladder
  * (its main lines at −2 … +2 monolayers). */
-ew_status ew_tolerance_compute(const char *stack_path, const ew_catalogue *cat,
+EW_API ew_status ew_tolerance_compute(const char *stack_path, const ew_catalogue *cat,
                                const ew_options *opt, double dx, const char *ladder,
                                int threads, ew_tolerance **out, ew_error *err);
-void ew_tolerance_free(ew_tolerance *t);
-ew_status ew_tolerance_write_table(const ew_tolerance *t, FILE *out, ew_error *err);
-ew_status ew_tolerance_write_json(const ew_tolerance *t, FILE *out, ew_error *err);
+EW_API void ew_tolerance_free(ew_tolerance *t);
+EW_API ew_status ew_tolerance_write_table(const ew_tolerance *t, FILE *out, ew_error *err);
+EW_API ew_status ew_tolerance_write_json(const ew_tolerance *t, FILE *out, ew_error *err);
+
+/* ==== Version, struct sizes and stacks with settings (api_version.c) ====================
+ * A program built against one version of this header may run with another shared library.
+ * ew_version() is the library's "MAJOR.MINOR.PATCH" (a static string).  The *_size()
+ * functions return sizeof of each public struct as the library was compiled: a caller
+ * compares them with its own sizeof (or EW_ABI_CHECK()) before passing any such struct, and
+ * a language binding checks its own layouts with them.  A mismatch means the header and the
+ * library disagree: rebuild against the installed header. */
+EW_API const char *ew_version(void);
+EW_API size_t ew_error_size(void);
+EW_API size_t ew_options_size(void);
+EW_API size_t ew_state_size(void);
+EW_API size_t ew_line_size(void);
+EW_API size_t ew_sweep_options_size(void);
+/* 1 when every public struct has the size this header gives it, else 0. */
+#define EW_ABI_CHECK()                                                                     \
+  (ew_error_size() == sizeof(ew_error) && ew_options_size() == sizeof(ew_options) &&        \
+   ew_state_size() == sizeof(ew_state) && ew_line_size() == sizeof(ew_line) &&              \
+   ew_sweep_options_size() == sizeof(ew_sweep_options))
+
+/* Read a stack from text (as ew_stack_read_string) with keys[i] set to values[i], i < nkeys
+ * (keys as in `epiwell sweep --vary`: "temperature", "grid_step", "well.thickness",
+ * "barrier.x", "well.doping.donors", …; a setting absent from the text is added).  keys and
+ * values may be NULL when nkeys is 0.  Errors: EW_ERR_INPUT with the display_name and line
+ * of the offending setting (the message names the keys set); EW_ERR_USAGE for a key that
+ * names no numeric setting or a value that is not finite.  *out (owned by the caller, freed
+ * with ew_stack_free) keeps no pointer into text, keys, values or cat. */
+EW_API ew_status ew_stack_read_string_set(const char *text, const char *display_name,
+                                          const ew_catalogue *cat, size_t nkeys,
+                                          const char *const *keys, const double *values,
+                                          ew_stack **out, ew_error *err);
 
 #ifdef __cplusplus
 }

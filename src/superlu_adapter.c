@@ -5,7 +5,9 @@
  * allocation it cannot do without fails (StatInit, sp_preorder, dgstrs' work arrays, …),
  * calls superlu_abort_and_exit, which exits the process.  Debian's libsuperlu.so calls all
  * three through its PLT (checked with objdump -d: 194 calls to superlu_malloc@plt, none
- * direct), so the definitions below take their place in any program linking this library.
+ * direct), so the definitions below take their place in any program linking this library
+ * (EW_API: they must stay visible to libsuperlu.so, from an executable and from
+ * libepiwell.so alike; src/libepiwell.map exports them).
  * Each adapter call is a guarded section: the blocks SuperLU allocates during it are recorded;
  * an abort longjmps back to the section's start, which frees those blocks and returns
  * EW_ERR_NOMEM (an abort on other grounds cannot happen with the valid tridiagonals given
@@ -58,7 +60,7 @@ static void section_unwind(slu_section *sec) {
   sec->n = 0;
 }
 
-void *superlu_malloc(size_t size) {
+EW_API void *superlu_malloc(size_t size) {
   slu_section *sec = active_section;
   if (sec && sec->n == sec->cap) {
     size_t cap = sec->cap ? 2 * sec->cap : 32;
@@ -71,7 +73,7 @@ void *superlu_malloc(size_t size) {
   return p;
 }
 
-void superlu_free(void *addr) {
+EW_API void superlu_free(void *addr) {
   slu_section *sec = active_section;
   for (size_t i = sec ? sec->n : 0; i-- > 0;)
     if (sec->blocks[i] == addr) {
@@ -81,7 +83,7 @@ void superlu_free(void *addr) {
   free(addr);
 }
 
-void superlu_abort_and_exit(char *msg) {
+EW_API void superlu_abort_and_exit(char *msg) {
   if (active_section) longjmp(active_section->back, 1);
   fprintf(stderr, "%s", msg); /* SuperLU's own behaviour outside this adapter */
   exit(-1);
