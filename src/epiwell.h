@@ -157,6 +157,9 @@ EW_API const ew_state *ew_result_state(const ew_result *res, size_t i);
 EW_API const double *ew_result_wavefunction(const ew_result *res, size_t i);
 EW_API size_t ew_result_line_count(const ew_result *res);
 EW_API const ew_line *ew_result_line(const ew_result *res, size_t i);
+/* The PL peak of an interband line as a wavelength, hc/pl_peak_eV in nm (what the table, JSON
+ * and CSV print as pl_peak_nm); NAN for NULL or without a positive peak. */
+EW_API double ew_line_pl_peak_nm(const ew_line *line);
 
 /* Grid and profile on the nodes (n values each). */
 EW_API size_t ew_result_node_count(const ew_result *res);

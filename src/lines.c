@@ -87,3 +87,8 @@ ew_status ew_lines_build(ew_result *r, ew_error *err) {
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (lines)");
   return EW_OK;
 }
+
+/* The PL peak as a wavelength, λ = hc/E (PL engineers read nm); NAN without a positive peak. */
+double ew_line_pl_peak_nm(const ew_line *ln) {
+  return ln && ln->pl_peak_eV > 0 && isfinite(ln->pl_peak_eV) ? EW_HC_EVNM / ln->pl_peak_eV : NAN;
+}

@@ -106,10 +106,7 @@ static void table_levels(const ew_result *r, FILE *out) {
     fprintf(out, "  (none: no band binds a state below the edges of its outer layers)\n");
 }
 
-/* The PL peak as a wavelength, λ = hc/E (PL engineers read nm); NAN without a positive peak. */
-static double pl_peak_nm(const ew_line *ln) {
-  return ln->pl_peak_eV > 0 && isfinite(ln->pl_peak_eV) ? EW_HC_EVNM / ln->pl_peak_eV : NAN;
-}
+static double pl_peak_nm(const ew_line *ln) { return ew_line_pl_peak_nm(ln); }
 
 /* One line each for the lines the table leaves out (ew_options line_min_strength). */
 static void table_hidden(const char *what, size_t n, double min, FILE *out) {

@@ -68,12 +68,16 @@ else nok "the next run removes what the killed runs left" "$left"; fi
 
 # ---- two runs on one -o DIR ------------------------------------------------------------------
 mkdir "$tmp/two"
-"$bin" solve "$ex" --grid-step 0.004 -o "$tmp/two/out" >/dev/null 2>"$tmp/two/err1" &
+# The first run reads its stack from a FIFO: it stages (and locks) -o DIR before it reads the
+# stack, so it holds the lock until the stack is written into the FIFO — no timing involved.
+mkfifo "$tmp/two/stack.cfg"
+"$bin" solve "$tmp/two/stack.cfg" --grid-step 0.004 -o "$tmp/two/out" >/dev/null 2>"$tmp/two/err1" &
 p1=$!
-sleep 0.15
+for _ in 1 2 3 4 5 6 7 8 9 10; do [ -e "$tmp/two/.out.lock" ] && break; sleep 0.2; done
 # shellcheck disable=SC2086
 "$bin" solve "$ex" $B -o "$tmp/two/out" >/dev/null 2>"$tmp/two/err2"
 rc2=$?
+cat "$ex" >"$tmp/two/stack.cfg"
 wait "$p1"
 rc1=$?
 if [ "$rc1" -eq 0 ] && [ "$rc2" -eq 5 ] && grep -q "another epiwell run (pid $p1) is writing" "$tmp/two/err2"; then
@@ -161,11 +165,14 @@ if [ "$unpriv_ok" -eq 1 ] && [ -n "$unpriv" ]; then
   run_unprivileged "$bin" solve "$ex" $A -o "$tmp/np/inplace"
   if [ "$rc" -eq 0 ] && [ "$(sig "$tmp/np/inplace")" = "$sigA" ]; then ok "unprivileged, parent not writable: the set is written in place, nothing else left"
   else nok "unprivileged, parent not writable: the set in place" "rc=$rc" "$(cat "$tmp/err")" "$(ls -A "$tmp/np/inplace")"; fi
-  $unpriv "$bin" solve "$ex" --grid-step 0.004 -o "$tmp/np/inplace" >/dev/null 2>&1 &
+  mkfifo -m 666 "$tmp/np/own/stack.cfg" # the first run holds the lock until it can read this
+  $unpriv "$bin" solve "$tmp/np/own/stack.cfg" --grid-step 0.004 -o "$tmp/np/inplace" >/dev/null 2>&1 &
   p1=$!
-  sleep 0.15
+  for _ in 1 2 3 4 5 6 7 8 9 10; do [ -e "$tmp/np/.inplace.lock" ] || [ -e "$tmp/np/inplace/.inplace.lock" ] && break; sleep 0.2; done
+  sleep 0.2
   # shellcheck disable=SC2086
   run_unprivileged "$bin" solve "$ex" $B -o "$tmp/np/inplace"
+  cat "$ex" >"$tmp/np/own/stack.cfg"
   wait "$p1"
   rc1=$?
   if [ "$rc1" -eq 0 ] && [ "$rc" -eq 5 ] && grep -q "another epiwell run" "$tmp/err"; then

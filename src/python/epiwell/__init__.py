@@ -63,8 +63,8 @@ class Line:
     Result.states; the intersubband-only or interband-only fields are None for the other kind)."""
     __slots__ = ("kind", "upper", "lower", "upper_index", "lower_index", "energy_eV",
                  "wavelength_nm", "dipole_nm", "oscillator_strength", "depolarization_shift_eV",
-                 "overlap", "allowed", "exciton_binding_eV", "pl_peak_eV", "te_strength",
-                 "tm_strength")
+                 "overlap", "allowed", "exciton_binding_eV", "pl_peak_eV", "pl_peak_nm",
+                 "te_strength", "tm_strength")
 
     def __repr__(self):
         return "Line(%s %s-%s, %.6f eV)" % (self.kind, self.upper, self.lower, self.energy_eV)
@@ -144,6 +144,7 @@ class Result:
         for f in ("overlap", "exciton_binding_eV", "pl_peak_eV", "te_strength", "tm_strength"):
             setattr(ln, f, None if isb else getattr(c, f))
         ln.allowed = None if isb else bool(c.allowed)
+        ln.pl_peak_nm = None if isb else _opt(lib.ew_line_pl_peak_nm(ctypes.byref(c)))
         return ln
 
     def state(self, label):

@@ -19,7 +19,8 @@ class Error(ctypes.Structure):
 class Options(ctypes.Structure):
     _fields_ = [("grid_step_nm", ctypes.c_double), ("lowest_levels", ctypes.c_int),
                 ("error_estimate", ctypes.c_int), ("residual_tol", ctypes.c_double),
-                ("excitons", ctypes.c_int), ("sp_max_iterations", ctypes.c_int)]
+                ("excitons", ctypes.c_int), ("sp_max_iterations", ctypes.c_int),
+                ("line_min_strength", ctypes.c_double)]
 
 
 class State(ctypes.Structure):
@@ -112,6 +113,7 @@ _SIG = {
     "ew_result_sp_residual_eV": (ctypes.c_double, [P]),
     "ew_result_state_sheet_density_cm2": (ctypes.c_double, [P, ctypes.c_size_t]),
     "ew_result_line_depolarization_eV": (ctypes.c_double, [P, ctypes.c_size_t]),
+    "ew_line_pl_peak_nm": (ctypes.c_double, [P]),
 }
 
 
