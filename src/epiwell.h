@@ -93,7 +93,7 @@ typedef struct {
                             EW_ERR_NUMERIC; <= 0 means the default, 100 */
 } ew_options;
 
-void ew_options_default(ew_options *opt);
+void ew_options_default(ew_options *opt); /* NULL is a no-op */
 
 typedef struct {
   char label[16];       /* e1, e2, …, hh1, …, lh1, … */
@@ -129,10 +129,14 @@ typedef struct {
 
 typedef struct ew_result ew_result;
 
+/* stack and out may not be NULL (EW_ERR_USAGE, *out = NULL); opt may be NULL (the defaults of
+ * ew_options_default); err may be NULL.  On failure *out is NULL. */
 ew_status ew_solve(const ew_stack *stack, const ew_options *opt, ew_result **out,
                    ew_error *err);
 void ew_result_free(ew_result *res); /* NULL is a no-op */
 
+/* The ew_result_* accessors below accept NULL (and out-of-range indices and bands) and then
+ * return their "no value": 0 for counts, NAN for numbers, NULL for pointers and strings. */
 size_t ew_result_state_count(const ew_result *res);
 const ew_state *ew_result_state(const ew_result *res, size_t i);
 /* Wavefunction of state i on the grid nodes: ψ (1/sqrt(nm)), normalised ∫|ψ|² dz = 1. */
