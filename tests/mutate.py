@@ -116,6 +116,7 @@ MUTANTS = [
     ("tol_ml", "src/tolerance.c", '"shift_minus_1ML_eV", L->ml_minus', '"shift_minus_1ML_eV", L->ml_plus', "tolerance -1ML prints +1ML"),
     ("tol_hf", "src/tolerance.c", '"dEdt_HF_eV_per_nm", L->dEdt_hf', '"dEdt_HF_eV_per_nm", L->dEdt_fd', "tolerance HF prints FD"),
     ("tol_dx", "src/tolerance.c", '"dEdx_FD_eV", L->has_x ? L->dEdx_fd', '"dEdx_FD_eV", L->has_x ? L->dEdx_hf', "tolerance dE/dx FD prints HF"),
+    ("tol_dxhf", "src/tolerance.c", '"dEdx_HF_eV", L->has_x ? L->dEdx_hf', '"dEdx_HF_eV", L->has_x ? L->dEdx_fd', "tolerance dE/dx HF prints FD"),
     ("tol_ml_nm", "src/tolerance.c", 'ew_json_write_number(out, L->ml_nm);', 'ew_json_write_number(out, L->thickness_nm);', "monolayer_nm prints thickness"),
     ("spec_csv", "src/spectra_workflow.c", 'if (s->interband_rel) fprintf(out, "%.10g", s->interband_rel[k]);', 'if (s->interband_rel) fprintf(out, "%.10g", s->intersubband ? s->intersubband[k] : s->interband_rel[k]);', "spectra CSV interband column holds intersubband"),
     ("match_nm", "src/match.c", 'ew_json_write_number(out, r->target[i].nm);', 'ew_json_write_number(out, r->target[i].eV);', "match target_nm prints eV"),

@@ -411,6 +411,24 @@ typedef struct {
 } geo;
 
 /* the energy of item name ("e1" or "e1-e2") at a geometry, NAN when not bound */
+/* The resolved band parameters of layer k of the stack with geometry g (stack.h). */
+static void layer_bands(const geo *g, size_t k, ew_bands *out) {
+  char text[2048];
+  snprintf(text, sizeof text,
+           "temperature = 77.0;\n"
+           "layers = (\n"
+           "  { name = \"left\"; material = \"AlGaAs\"; x = %.17g; thickness = %.17g; },\n"
+           "  { name = \"well\"; material = \"GaAs\"; thickness = %.17g; },\n"
+           "  { name = \"right\"; material = \"AlGaAs\"; x = %.17g; thickness = %.17g; }\n"
+           ");\n",
+           g->x[0], g->t[0], g->t[1], g->x[2], g->t[2]);
+  ew_stack *st = NULL;
+  ew_error err;
+  assert_int_equal(ew_stack_read_string(text, "bands.cfg", cat, &st, &err), EW_OK);
+  *out = st->layers[k].bands;
+  ew_stack_free(st);
+}
+
 static double item_energy(const geo *g, const char *name) {
   char text[2048];
   snprintf(text, sizeof text,
@@ -582,6 +600,20 @@ static void tolerance_json(void **state) {
       snprintf(w, sizeof w, "%s dEdt_HF_eV_per_nm[%s] = Hellmann–Feynman of the nominal solve",
                lname[k], name);
       RT_SAME(A[2]->item[i].num, hf, rt_tol_sig(hf, 10) + 1e-15, w);
+      /* dEdx_HF likewise, for a level of an alloy layer: the library's derivative with the
+         layer's band parameters of the stacks at x ∓ fd_step_x (as the JSON says) */
+      if (g0.x[k] >= 0 && i < ns) {
+        ew_bands bl, bh;
+        geo gx = g0;
+        gx.x[k] = g0.x[k] - hx;
+        layer_bands(&gx, k, &bl);
+        gx.x[k] = g0.x[k] + hx;
+        layer_bands(&gx, k, &bh);
+        double hx_hf = ew_wf_hf_dparam(nom.r, i, k, &bl, &bh, 2 * hx);
+        snprintf(w, sizeof w, "%s dEdx_HF_eV[%s] = Hellmann–Feynman of the nominal solve",
+                 lname[k], name);
+        RT_SAME(A[6]->item[i].num, hx_hf, rt_tol_sig(hx_hf, 10) + 1e-15, w);
+      }
     }
   }
   pt_free(&nom);
