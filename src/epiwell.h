@@ -111,7 +111,7 @@ typedef struct {
                                0 lists every line.  JSON and CSV always hold every line. */
 } ew_options;
 
-EW_API void ew_options_default(ew_options *opt);
+EW_API void ew_options_default(ew_options *opt); /* NULL is a no-op */
 
 typedef struct {
   char label[16];       /* e1, e2, …, hh1, …, lh1, … */
@@ -147,10 +147,14 @@ typedef struct {
 
 typedef struct ew_result ew_result;
 
+/* stack and out may not be NULL (EW_ERR_USAGE, *out = NULL); opt may be NULL (the defaults of
+ * ew_options_default); err may be NULL.  On failure *out is NULL. */
 EW_API ew_status ew_solve(const ew_stack *stack, const ew_options *opt, ew_result **out,
-                   ew_error *err);
+                          ew_error *err);
 EW_API void ew_result_free(ew_result *res); /* NULL is a no-op */
 
+/* The ew_result_* accessors below accept NULL (and out-of-range indices and bands) and then
+ * return their "no value": 0 for counts, NAN for numbers, NULL for pointers and strings. */
 EW_API size_t ew_result_state_count(const ew_result *res);
 EW_API const ew_state *ew_result_state(const ew_result *res, size_t i);
 /* Wavefunction of state i on the grid nodes: ψ (1/sqrt(nm)), normalised ∫|ψ|² dz = 1. */

@@ -4,6 +4,7 @@
 #include "poisson.h"
 
 void ew_options_default(ew_options *opt) {
+  if (!opt) return; /* NULL: nothing to fill (epiwell.h) */
   opt->grid_step_nm = 0.0;
   opt->lowest_levels = 3;
   opt->error_estimate = 1;

@@ -28,24 +28,36 @@ void ew_result_free(ew_result *r) {
   free(r);
 }
 
-size_t ew_result_state_count(const ew_result *r) { return r->n_states; }
+/* Accessors given NULL (or a band out of range) return their "no value": 0, NAN or NULL
+ * (epiwell.h), never crash. */
+#define BAND_OK(b) ((int)(b) >= 0 && (int)(b) < EW_BAND_COUNT)
+
+size_t ew_result_state_count(const ew_result *r) { return r ? r->n_states : 0; }
 const ew_state *ew_result_state(const ew_result *r, size_t i) {
-  return i < r->n_states ? &r->states[i] : NULL;
+  return r && i < r->n_states ? &r->states[i] : NULL;
 }
 const double *ew_result_wavefunction(const ew_result *r, size_t i) {
-  return i < r->n_states ? r->psi + i * r->grid->n : NULL;
+  return r && i < r->n_states ? r->psi + i * r->grid->n : NULL;
 }
-size_t ew_result_line_count(const ew_result *r) { return r->n_lines; }
+size_t ew_result_line_count(const ew_result *r) { return r ? r->n_lines : 0; }
 const ew_line *ew_result_line(const ew_result *r, size_t i) {
-  return i < r->n_lines ? &r->lines[i] : NULL;
+  return r && i < r->n_lines ? &r->lines[i] : NULL;
 }
-size_t ew_result_node_count(const ew_result *r) { return r->grid->n; }
-const double *ew_result_z_nm(const ew_result *r) { return r->grid->z; }
-const double *ew_result_edge_eV(const ew_result *r, ew_band b) { return r->grid->edge[b]; }
-const double *ew_result_mass(const ew_result *r, ew_band b) { return r->grid->mass[b]; }
-double ew_result_grid_step_nm(const ew_result *r) { return r->step_nm; }
-size_t ew_result_band_count(const ew_result *r, ew_band b) { return r->band_count[b]; }
-double ew_result_window_eV(const ew_result *r, ew_band b) { return r->window_eV[b]; }
+size_t ew_result_node_count(const ew_result *r) { return r ? r->grid->n : 0; }
+const double *ew_result_z_nm(const ew_result *r) { return r ? r->grid->z : NULL; }
+const double *ew_result_edge_eV(const ew_result *r, ew_band b) {
+  return r && BAND_OK(b) ? r->grid->edge[b] : NULL;
+}
+const double *ew_result_mass(const ew_result *r, ew_band b) {
+  return r && BAND_OK(b) ? r->grid->mass[b] : NULL;
+}
+double ew_result_grid_step_nm(const ew_result *r) { return r ? r->step_nm : NAN; }
+size_t ew_result_band_count(const ew_result *r, ew_band b) {
+  return r && BAND_OK(b) ? r->band_count[b] : 0;
+}
+double ew_result_window_eV(const ew_result *r, ew_band b) {
+  return r && BAND_OK(b) ? r->window_eV[b] : NAN;
+}
 
 static int warn_v(ew_result *r, const char *code, const char *fmt, va_list ap) {
   size_t n = r->n_warnings + 1;
@@ -76,14 +88,15 @@ int ew_result_warn(ew_result *r, const char *fmt, ...) {
   return ok;
 }
 
-size_t ew_result_warning_count(const ew_result *r) { return r->n_warnings; }
+size_t ew_result_warning_count(const ew_result *r) { return r ? r->n_warnings : 0; }
 const char *ew_result_model(const ew_result *r) {
+  if (!r) return NULL;
   return r->nonparabolic ? "BenDaniel-Duke; electrons with the Kane energy-dependent mass "
                            "(non-parabolic), holes parabolic"
                          : "BenDaniel-Duke, parabolic bands";
 }
 const char *ew_result_warning(const ew_result *r, size_t i) {
-  return i < r->n_warnings ? r->warnings[i] : NULL;
+  return r && i < r->n_warnings ? r->warnings[i] : NULL;
 }
 const char *ew_result_warning_code(const ew_result *r, size_t i) {
   return r && i < r->n_warnings ? r->warning_codes[i] : NULL;
@@ -106,18 +119,18 @@ void ew_result_warning_codes_join(const ew_result *r, char *buf, size_t size) {
 }
 
 /* the self-consistent quantities (NAN, 0 or NULL for a plain solve) */
-double ew_result_fermi_energy_eV(const ew_result *r) { return r->sp ? r->sp->fermi_eV : NAN; }
+double ew_result_fermi_energy_eV(const ew_result *r) { return r && r->sp ? r->sp->fermi_eV : NAN; }
 double ew_result_fermi_energy_last_eV(const ew_result *r) {
-  return r->sp ? r->sp->fermi_last_eV : NAN;
+  return r && r->sp ? r->sp->fermi_last_eV : NAN;
 }
-int ew_result_sp_iterations(const ew_result *r) { return r->sp ? r->sp->iterations : 0; }
-double ew_result_sp_residual_eV(const ew_result *r) { return r->sp ? r->sp->residual_eV : NAN; }
+int ew_result_sp_iterations(const ew_result *r) { return r && r->sp ? r->sp->iterations : 0; }
+double ew_result_sp_residual_eV(const ew_result *r) { return r && r->sp ? r->sp->residual_eV : NAN; }
 double ew_result_state_sheet_density_cm2(const ew_result *r, size_t i) {
-  return r->sp && i < r->sp->n_states ? r->sp->sheet_cm2[i] : NAN;
+  return r && r->sp && i < r->sp->n_states ? r->sp->sheet_cm2[i] : NAN;
 }
 double ew_result_line_depolarization_eV(const ew_result *r, size_t j) {
-  return r->sp && j < r->sp->n_lines ? r->sp->depol_eV[j] : NAN;
+  return r && r->sp && j < r->sp->n_lines ? r->sp->depol_eV[j] : NAN;
 }
 const double *ew_result_sp_profile(const ew_result *r, ew_sp_profile which) {
-  return r->sp && (int)which >= 0 && which < EW_SP_PROFILE_COUNT ? r->sp->prof[which] : NULL;
+  return r && r->sp && (int)which >= 0 && which < EW_SP_PROFILE_COUNT ? r->sp->prof[which] : NULL;
 }

@@ -3,12 +3,20 @@
  * (excitons).  Nothing below calls back up here. */
 #include "solve.h"
 
+#include "error.h"
 #include "exciton.h"
 #include "schrodinger.h"
 #include "self_consistent.h"
 
 ew_status ew_solve(const ew_stack *st, const ew_options *opt, ew_result **out, ew_error *err) {
   ew_result *r = NULL;
+  if (out) *out = NULL;
+  if (!st || !out) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_solve: NULL argument");
+  ew_options defaults;
+  if (!opt) { /* NULL options: the defaults (epiwell.h), for the loop as for one pass */
+    ew_options_default(&defaults);
+    opt = &defaults;
+  }
   /* doping, a pinned surface or a bias all need the self-consistent potential */
   ew_status rc = st->doped || st->surface_given || st->bias_given
                      ? ew_solve_self_consistent(st, opt, &r, err)

@@ -721,6 +721,67 @@ static void null_arguments_are_errors(void **state) {
   fclose(m);
 }
 
+/* The first section of epiwell.h (catalogue, stack, solve, result): NULL where not allowed is
+ * EW_ERR_USAGE, an accessor's NULL (or an out-of-range band) its documented "no value"
+ * (0, NAN, NULL); ew_options_default(NULL) and ew_result_free(NULL) do nothing.  A crash
+ * here fails the test program. */
+static void null_core_arguments(void **state) {
+  (void)state;
+  ew_error err;
+  ew_options opt;
+  ew_options_default(&opt);
+  ew_options_default(NULL);
+  ew_stack *st = NULL;
+  ew_result *r = (ew_result *)&r; /* must come back NULL */
+  /* the readers answer with their own error codes (catalogue, input): any error will do */
+  assert_int_not_equal(ew_catalogue_load("materials", NULL, &err), EW_OK);
+  assert_int_not_equal(ew_stack_read_file(NULL, cat, &st, &err), EW_OK);
+  assert_int_not_equal(ew_stack_read_file(EXAMPLES[0], NULL, &st, &err), EW_OK);
+  assert_int_not_equal(ew_stack_read_string(NULL, "x", cat, &st, &err), EW_OK);
+  assert_int_not_equal(ew_stack_read_string("x", "x", cat, NULL, &err), EW_OK);
+  assert_int_equal(ew_solve(NULL, &opt, &r, &err), EW_ERR_USAGE);
+  assert_null(r);
+  assert_int_equal(ew_solve(NULL, &opt, &r, NULL), EW_ERR_USAGE);
+  assert_int_equal(ew_stack_read_file(EXAMPLES[0], cat, &st, &err), EW_OK);
+  assert_int_equal(ew_solve(st, &opt, NULL, &err), EW_ERR_USAGE);
+  /* NULL options are the defaults: the same e1 as with ew_options_default */
+  ew_result *a = NULL, *b = NULL;
+  assert_int_equal(ew_solve(st, NULL, &a, &err), EW_OK);
+  assert_int_equal(ew_solve(st, &opt, &b, &err), EW_OK);
+  assert_true(ew_result_state(a, 0)->energy_eV == ew_result_state(b, 0)->energy_eV);
+  assert_true(ew_result_band_count(a, (ew_band)EW_BAND_COUNT) == 0);
+  assert_null(ew_result_edge_eV(a, (ew_band)-1));
+  assert_null(ew_result_mass(a, (ew_band)EW_BAND_COUNT));
+  assert_true(isnan(ew_result_window_eV(a, (ew_band)-1)));
+  ew_result_free(a);
+  ew_result_free(b);
+  ew_stack_free(st);
+  assert_int_equal(ew_result_state_count(NULL), 0);
+  assert_null(ew_result_state(NULL, 0));
+  assert_null(ew_result_wavefunction(NULL, 0));
+  assert_int_equal(ew_result_line_count(NULL), 0);
+  assert_null(ew_result_line(NULL, 0));
+  assert_int_equal(ew_result_node_count(NULL), 0);
+  assert_null(ew_result_z_nm(NULL));
+  assert_null(ew_result_edge_eV(NULL, EW_BAND_E));
+  assert_null(ew_result_mass(NULL, EW_BAND_E));
+  assert_true(isnan(ew_result_grid_step_nm(NULL)));
+  assert_int_equal(ew_result_band_count(NULL, EW_BAND_E), 0);
+  assert_true(isnan(ew_result_window_eV(NULL, EW_BAND_E)));
+  assert_int_equal(ew_result_warning_count(NULL), 0);
+  assert_null(ew_result_model(NULL));
+  assert_null(ew_result_warning(NULL, 0));
+  assert_null(ew_result_warning_code(NULL, 0));
+  assert_true(isnan(ew_result_fermi_energy_eV(NULL)));
+  assert_true(isnan(ew_result_fermi_energy_last_eV(NULL)));
+  assert_int_equal(ew_result_sp_iterations(NULL), 0);
+  assert_true(isnan(ew_result_sp_residual_eV(NULL)));
+  assert_true(isnan(ew_result_state_sheet_density_cm2(NULL, 0)));
+  assert_true(isnan(ew_result_line_depolarization_eV(NULL, 0)));
+  assert_null(ew_result_sp_profile(NULL, EW_SP_POTENTIAL_EV));
+  ew_result_free(NULL);
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(layers_match_file),
@@ -734,6 +795,7 @@ int main(void) {
       cmocka_unit_test(output_file_commit_and_abort),
       cmocka_unit_test(materials_queries),
       cmocka_unit_test(null_arguments_are_errors),
+      cmocka_unit_test(null_core_arguments),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }

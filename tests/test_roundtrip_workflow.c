@@ -10,6 +10,8 @@
 
 #include "roundtrip.h"
 
+#include "hellmann_feynman.h" /* the library's own derivative, for the round trip */
+
 static rt_env env;
 static ew_catalogue *cat;
 static const char *argv0;
@@ -409,6 +411,24 @@ typedef struct {
 } geo;
 
 /* the energy of item name ("e1" or "e1-e2") at a geometry, NAN when not bound */
+/* The resolved band parameters of layer k of the stack with geometry g (stack.h). */
+static void layer_bands(const geo *g, size_t k, ew_bands *out) {
+  char text[2048];
+  snprintf(text, sizeof text,
+           "temperature = 77.0;\n"
+           "layers = (\n"
+           "  { name = \"left\"; material = \"AlGaAs\"; x = %.17g; thickness = %.17g; },\n"
+           "  { name = \"well\"; material = \"GaAs\"; thickness = %.17g; },\n"
+           "  { name = \"right\"; material = \"AlGaAs\"; x = %.17g; thickness = %.17g; }\n"
+           ");\n",
+           g->x[0], g->t[0], g->t[1], g->x[2], g->t[2]);
+  ew_stack *st = NULL;
+  ew_error err;
+  assert_int_equal(ew_stack_read_string(text, "bands.cfg", cat, &st, &err), EW_OK);
+  *out = st->layers[k].bands;
+  ew_stack_free(st);
+}
+
 static double item_energy(const geo *g, const char *name) {
   char text[2048];
   snprintf(text, sizeof text,
@@ -477,7 +497,6 @@ static void tolerance_json(void **state) {
     E0[i] = item_energy(&g0, name);
     RT_JSON(it, "energy_eV", E0[i], name);
   }
-  pt_free(&nom);
   const rj *layers = rj_get(&doc, "layers");
   assert_true(layers && layers->n == 3);
   static const char *const lname[] = {"left", "well", "right"}, *const lmat[] = {"AlGaAs", "GaAs", "AlGaAs"};
@@ -557,8 +576,47 @@ static void tolerance_json(void **state) {
                                         : rt_tol_sig(want[q], 10) + 1e-11;
         RT_SAME(got, want[q], tol, w);
       }
+      /* dEdt_HF is the library's Hellmann–Feynman derivative of the nominal solve (a round
+         trip: the writer must print that member, not the close central difference, which
+         the 2 % check above cannot tell apart): levels directly, lines as the difference of
+         their levels' derivatives (upper − lower); 10 printed digits */
+      double hf = NAN;
+      if (i < ns) {
+        hf = ew_wf_hf_dthickness(nom.r, i, k);
+      } else {
+        char up[16], lo[16];
+        const char *dash = strchr(name, '-');
+        snprintf(up, sizeof up, "%.*s", (int)(dash - name), name);
+        snprintf(lo, sizeof lo, "%s", dash + 1);
+        size_t iu = rt_state_labelled(nom.r, up), il = rt_state_labelled(nom.r, lo);
+        assert_true(iu != SIZE_MAX && il != SIZE_MAX);
+        double du = ew_wf_hf_dthickness(nom.r, iu, k), dl = ew_wf_hf_dthickness(nom.r, il, k);
+        int ib = ew_result_state(nom.r, iu)->band != ew_result_state(nom.r, il)->band;
+        double eu = ew_result_state(nom.r, iu)->energy_eV, el = ew_result_state(nom.r, il)->energy_eV;
+        /* interband: E(e) − E(h); intersubband: the positive difference (tolerance.c) */
+        hf = ib ? du - dl : (el >= eu ? dl - du : du - dl);
+      }
+      char w[160];
+      snprintf(w, sizeof w, "%s dEdt_HF_eV_per_nm[%s] = Hellmann–Feynman of the nominal solve",
+               lname[k], name);
+      RT_SAME(A[2]->item[i].num, hf, rt_tol_sig(hf, 10) + 1e-15, w);
+      /* dEdx_HF likewise, for a level of an alloy layer: the library's derivative with the
+         layer's band parameters of the stacks at x ∓ fd_step_x (as the JSON says) */
+      if (g0.x[k] >= 0 && i < ns) {
+        ew_bands bl, bh;
+        geo gx = g0;
+        gx.x[k] = g0.x[k] - hx;
+        layer_bands(&gx, k, &bl);
+        gx.x[k] = g0.x[k] + hx;
+        layer_bands(&gx, k, &bh);
+        double hx_hf = ew_wf_hf_dparam(nom.r, i, k, &bl, &bh, 2 * hx);
+        snprintf(w, sizeof w, "%s dEdx_HF_eV[%s] = Hellmann–Feynman of the nominal solve",
+                 lname[k], name);
+        RT_SAME(A[6]->item[i].num, hx_hf, rt_tol_sig(hx_hf, 10) + 1e-15, w);
+      }
     }
   }
+  pt_free(&nom);
   rj_free(&doc);
 }
 

@@ -1,0 +1,255 @@
+#!/usr/bin/env python3
+"""mutate.py — does the suite catch plausible one-line bugs?  (Not run by `make check`.)
+
+Copies the tree (src, tests, materials, examples, Makefile, .ci) into build/mutant/tree,
+then for each mutant in MUTANTS: restores every file, applies ONE literal replacement
+(the first occurrence of OLD in FILE becomes NEW; the script stops if OLD is missing),
+rebuilds with `make -j2` inside the copy and runs every build/tests/test_* program of the
+copy (the C suite, ~35 s; `--shell` also runs tests/cli_test.sh and tests/workflow_cli.sh).
+A mutant is "killed" when a test program fails (the table names the first; `--all` runs
+every program and names all), "build" when it does not compile.
+
+  python3 tests/mutate.py                 # every mutant; table on stdout and in
+                                          # build/mutant/results.tsv
+  python3 tests/mutate.py json_ec csv_lv  # only the mutants with these ids
+  python3 tests/mutate.py --list          # ids and descriptions
+  --no-baseline: skip the check that the unmutated copy passes
+  --skip=test_NAME: leave one test program out (repeatable)
+
+Run from the project root.  The worktree itself is never modified.
+"""
+import os
+import shutil
+import subprocess
+import sys
+import time
+
+ROOT = os.path.abspath(os.path.join(os.path.dirname(__file__), ".."))
+# MUTATE_DIR=build/mutant2 runs a second campaign beside the first (its own copy)
+WORK = os.path.join(ROOT, os.environ.get("MUTATE_DIR", "build/mutant"))
+TREE = os.path.join(WORK, "tree")
+# a snapshot of the worktree taken when the run starts: editing the worktree meanwhile does
+# not change what the run tests
+BASE = os.path.join(WORK, "base")
+# the command and every test program, nothing else (`make check` would also run the suite)
+BUILD = ["sh", "-c", "make -j" + os.environ.get("MUTATE_JOBS", "2") + " build/epiwell "
+         "$(ls tests/test_*.c | sed 's|tests/\\(.*\\)\\.c|build/tests/\\1|')"]
+COPY = ["src", "tests", "materials", "examples", "Makefile", ".ci"]
+
+# (id, file, old, new, what the bug is)
+MUTANTS = [
+    # JSON fields printing a neighbour's member (src/output.c)
+    ("json_ec", "src/output.c", '"Ec_eV", ly->bands.Ec_eV', '"Ec_eV", ly->bands.Ev_hh_eV', "layer Ec_eV prints Ev_hh"),
+    ("json_mhh", "src/output.c", '"mhh", ly->bands.mhh_z', '"mhh", ly->bands.mlh_z', "layer mhh prints mlh"),
+    ("json_epsperp", "src/output.c", '"eps_perp", ly->bands.eps_perp', '"eps_perp", ly->bands.eps_par', "eps_perp prints eps_par"),
+    ("json_zstart", "src/output.c", '"z_start_nm", ly->z_start_nm', '"z_start_nm", ly->thickness_nm', "z_start prints thickness"),
+    ("json_dev", "src/output.c", '"dEv_eV", in.dEv_eV', '"dEv_eV", in.dEc_eV', "interface dEv prints dEc"),
+    ("json_edge", "src/output.c", '"edge_eV", s->edge_eV', '"edge_eV", s->depth_eV', "state edge prints depth"),
+    ("json_lprob", "src/output.c", '"layer_probability", s->layer_probability', '"layer_probability", s->residual', "layer_probability prints residual"),
+    ("json_inplane", "src/output.c", '"inplane_mass_m0", s->inplane_mass', '"inplane_mass_m0", s->layer_probability', "inplane mass prints probability"),
+    ("json_dipole", "src/output.c", '"dipole_nm", ln->dipole_nm', '"dipole_nm", ln->oscillator_strength', "dipole prints f"),
+    ("json_wlum", "src/output.c", '"wavelength_um", ln->wavelength_nm / 1e3', '"wavelength_um", ln->wavelength_nm / 1e2', "wavelength_um scaled wrong"),
+    ("json_te", "src/output.c", '"te_strength", ln->te_strength', '"te_strength", ln->tm_strength', "te prints tm"),
+    ("json_pl", "src/output.c", '"pl_peak_eV", ln->pl_peak_eV', '"pl_peak_eV", ln->energy_eV', "pl peak prints line energy"),
+    ("json_xb", "src/output.c", '"exciton_binding_eV", ln->exciton_binding_eV', '"exciton_binding_eV", ln->overlap', "exciton binding prints overlap"),
+    ("json_holes", "src/output.c", '"holes_cm2", sp->holes_cm2', '"holes_cm2", sp->electrons_cm2', "holes prints electrons"),
+    ("json_acc", "src/output.c", '"acceptors_ionised_cm2", sp->acceptors_ion_cm2', '"acceptors_ionised_cm2", sp->donors_ion_cm2', "acceptors prints donors"),
+    ("json_window", "src/output.c", '"window_eV", r->window_eV[b]', '"window_eV", r->window_eV[0]', "window of band e for all"),
+    ("json_field", "src/output.c", '"field_kV_cm", st->field_kV_cm', '"field_kV_cm", st->temperature_K', "field prints T"),
+    ("json_step", "src/output.c", '"grid_step_nm", r->step_nm', '"grid_step_nm", 2.0 * r->step_nm', "grid step doubled"),
+    # CSV columns swapped (src/output.c)
+    ("csv_prof_hl", "src/output.c", 'ew_csv_format(c, "%.8f", g->edge[b][i]);', 'ew_csv_format(c, "%.8f", g->edge[b == 1 ? 2 : b == 2 ? 1 : b][i]);', "profile Ev_hh/Ev_lh swapped"),
+    ("csv_lv_edge", "src/output.c", 'ew_csv_format(c, "%.8f", q->edge_eV);', 'ew_csv_format(c, "%.8f", q->depth_eV);', "levels edge prints depth"),
+    ("csv_lv_err", "src/output.c", 'ew_csv_format(c, "%.3e", q->error_eV);', 'ew_csv_format(c, "%.3e", q->residual);', "levels error prints residual"),
+    ("csv_ln_te", "src/output.c", 'ew_csv_format(c, "%.6f", ln->te_strength);', 'ew_csv_format(c, "%.6f", ln->tm_strength);', "lines te prints tm"),
+    ("csv_ln_xb", "src/output.c", 'ew_csv_format(c, "%.8f", ln->exciton_binding_eV);', 'ew_csv_format(c, "%.8f", ln->overlap);', "lines exciton prints overlap"),
+    ("csv_ln_f", "src/output.c", 'ew_csv_format(c, "%.8f", ln->oscillator_strength);', 'ew_csv_format(c, "%.8f", ln->dipole_nm);', "lines f prints dipole"),
+    ("csv_wave", "src/output.c", 'r->psi[j * g->n + i]', 'r->psi[j * g->n + (i ? i - 1 : 0)]', "wavefunction column shifted by a node"),
+    # sweep, match, tolerance writers
+    ("sw_col", "src/sweep.c", 'row[j + 2] = d->interband ? ln->overlap : ln->oscillator_strength;', 'row[j + 2] = d->interband ? ln->overlap : ln->dipole_nm;', "sweep f column holds the dipole"),
+    ("sw_wl", "src/sweep.c", 'row[j + 1] = d->interband ? ln->wavelength_nm : ln->wavelength_nm / 1e3;', 'row[j + 1] = d->interband ? ln->wavelength_nm / 1e3 : ln->wavelength_nm / 1e3;', "sweep interband nm column in um"),
+    ("sw_lev", "src/sweep.c", 'row[j++] = ew_wf_level_energy(r, (ew_band)b, (int)n);', 'row[j++] = ew_wf_level_energy(r, (ew_band)b, (int)(n > 1 ? n - 1 : n));', "sweep level column off by one"),
+    ("sw_name", "src/sweep.c", '(d->interband ? ib : isb)[j % 3]', '(d->interband ? isb : ib)[j % 3]', "sweep line column names swapped"),
+    ("match_wl", "src/match.c", 'const double *a[] = {s->value, s->energy_eV, s->wavelength_nm, s->residual_eV};', 'const double *a[] = {s->value, s->energy_eV, s->residual_eV, s->wavelength_nm};', "match JSON wavelength/residual swapped"),
+    ("match_tol", "src/match.c", 'ew_json_write_number(out, s->value_minus);', 'ew_json_write_number(out, s->value_plus);', "match JSON minus prints plus"),
+    # physical constants off by 1 % (src/constants.h)
+    ("c_hbar", "src/constants.h", '1.054571817e-34', '1.065117535e-34', "hbar +1 %"),
+    ("c_m0", "src/constants.h", '9.1093837015e-31', '9.2004775385e-31', "m0 +1 %"),
+    ("c_h", "src/constants.h", '4.135667696e-15', '4.177024373e-15', "h (eV s) +1 %: hc"),
+    ("c_kb", "src/constants.h", '8.617333262e-5', '8.703506595e-5', "kB +1 %"),
+    ("c_eps0", "src/constants.h", '8.8541878128e-12', '8.9427296909e-12', "eps0 +1 %"),
+    ("c_e", "src/constants.h", '#define EW_E_C 1.602176634e-19', '#define EW_E_C 1.618198400e-19', "e +1 %"),
+    # catalogue values off by 1 %
+    ("cat_gaas_me", "materials/GaAs.cfg", 'me = { value = 0.067;', 'me = { value = 0.0677;', "GaAs me +1 %"),
+    ("cat_gaas_eg", "materials/GaAs.cfg", 'Eg_G = { value = 1.519;', 'Eg_G = { value = 1.534;', "GaAs Eg +1 %"),
+    ("cat_gaas_g1", "materials/GaAs.cfg", 'gamma1 = { value = 6.98;', 'gamma1 = { value = 7.05;', "GaAs gamma1 +1 %"),
+    ("cat_gaas_a", "materials/GaAs.cfg", 'a_lattice = { value = 5.65325;', 'a_lattice = { value = 5.70978;', "GaAs a +1 %"),
+    ("cat_gaas_eps", "materials/GaAs.cfg", 'eps_static = { value = 12.9;', 'eps_static = { value = 13.03;', "GaAs eps +1 %"),
+    ("cat_gaas_ac", "materials/GaAs.cfg", 'a_c = { value = -7.17;', 'a_c = { value = -7.24;', "GaAs a_c +1 %"),
+    ("cat_gaas_ep", "materials/GaAs.cfg", 'Ep = { value = 28.8;', 'Ep = { value = 29.1;', "GaAs Ep +1 %"),
+    ("cat_inas_a", "materials/InAs.cfg", 'value = 6.0583', 'value = 6.1189', "InAs a +1 %"),
+    # numerics
+    ("rich_3", "src/states.c", 'double corr = (e - ec) / 3.0;', 'double corr = (e - ec) / 4.0;', "Richardson factor 1/4"),
+    ("rich_sign", "src/states.c", 'return e + corr;', 'return e - corr;', "Richardson step of wrong sign"),
+    ("coarse_node", "src/schrodinger.c", 'fine->vectors[j * g->n + 2 * i + 1]', 'fine->vectors[j * g->n + 2 * i]', "coarse node samples the wrong fine node"),
+    # physics
+    ("varshni", "src/alloy.c", 'return Eg0_eV - 1e-3 * alpha_meV_K * T_K * T_K / den;', 'return Eg0_eV - 1e-3 * alpha_meV_K * T_K / den;', "Varshni T instead of T^2"),
+    ("strain_ez", "src/strain.c", 'double ez = -2.0 * (m->c12_kbar / m->c11_kbar) * ep;', 'double ez = -2.0 * (m->c11_kbar / m->c12_kbar) * ep;', "eps_perp c11/c12 swapped"),
+    ("strain_shear", "src/strain.c", 'double q = m->b_eV * (ez - ep);', 'double q = m->b_eV * (ep - ez);', "shear sign"),
+    ("strain_hyd", "src/strain.c", 'out->dEc_eV = m->a_c_eV * tr;', 'out->dEc_eV = m->a_c_eV * ep;', "hydrostatic uses eps_par"),
+    ("kane_edge", "src/alloy.c", 'double inv = 1.0 / me0 + Ep / 3.0 * (2.0 / Eg + 1.0 / (Eg + D)', 'double inv = 1.0 / me0 + Ep / 3.0 * (1.0 / Eg + 1.0 / (Eg + D)', "Kane edge mass factor 2"),
+    ("kane_np", "src/nonparabolic.c", 'double inv = 1.0 / me + Ep / 3.0 * (2.0 / (Eg + e)', 'double inv = 1.0 / me + Ep / 2.0 * (2.0 / (Eg + e)', "Kane energy mass 1/2"),
+    ("osc_f", "src/observables.c", 'return dE_eV * dipole_nm * dipole_nm / (EW_HB2M0_EVNM2 * inverse_mass);', 'return dE_eV * dipole_nm * dipole_nm / (2.0 * EW_HB2M0_EVNM2 * inverse_mass);', "oscillator strength halved"),
+    ("exc_c", "src/exciton.c", 'double C = EW_E_C / (4.0 * EW_PI * EW_EPS0_FM) * 1e9 / eps_r;', 'double C = EW_E_C / (4.4 * EW_PI * EW_EPS0_FM) * 1e9 / eps_r;', "exciton Coulomb constant -10 %"),
+    ("exc_hh", "src/exciton.c", 'if (hole_band == EW_BAND_HH) t = 0.5, m = 0.0;', 'if (hole_band == EW_BAND_HH) t = 0.5, m = 0.5;', "TE/TM weights of hh"),
+    ("poisson_c", "src/poisson.c", '#define POISSON_C (EW_E_C / EW_EPS0_FM * 1e9)', '#define POISSON_C (1.01 * EW_E_C / EW_EPS0_FM * 1e9)', "Poisson factor +1 %"),
+    ("hc_line", "src/lines.c", 'ln->wavelength_nm = EW_HC_EVNM / ln->energy_eV;', 'ln->wavelength_nm = 1.01 * EW_HC_EVNM / ln->energy_eV;', "wavelength hc/E +1 %"),
+    ("lm_bisect", "src/lattice_match.c", 'if ((fm > 0) == (flo > 0)) lo = m, flo = fm;', 'if ((fm > 0) == (flo > 0)) lo = m;', "bisection keeps stale f(lo)"),
+    ("lm_mid", "src/lattice_match.c", '*u = 0.5 * (lo + hi);', '*u = lo + 0.75 * (hi - lo);', "bisection result off the bracket middle"),
+    ("mb_const", "src/strain.c", '(8.0 * EW_PI * f * (1.0 + nu) * cos(lambda))', '(8.0 * EW_PI * f * (1.0 + nu) * cos(lambda) * 1.01)', "MB constant +1 %"),
+    ("mb_bd", "src/strain.c", 'double bd = a_nm / sqrt(2.0);', 'double bd = a_nm / 2.0;', "Burgers vector a/2"),
+    ("coarse_U", "src/grid.c", 'out[i] = U_fine[2 * i + 1];', 'out[i] = U_fine[2 * i];', "coarse potential sampled at the wrong fine node"),
+    ("lm_dir", "src/lattice_match.c", 'if ((fm > 0) == (flo > 0)) lo = m, flo = fm;', 'if ((fm > 0) != (flo > 0)) lo = m, flo = fm;', "bisection keeps the wrong half"),
+    ("lm_gap_dir", "src/lattice_match.c", 'if ((f > 0) == (b.flo > 0)) b.lo = m, b.flo = f;', 'if ((f > 0) != (b.flo > 0)) b.lo = m, b.flo = f;', "gap bisection keeps the wrong half"),
+    ("poisson_acc", "src/poisson.c", 'return p - n + nd - na;', 'return p - n + nd + na;', "ionised acceptors counted positive"),
+    ("donor_g", "src/poisson.c", 'occ((EF - (ec - h->Ed)) / kT, 2.0)', 'occ((EF - (ec - h->Ed)) / kT, 4.0)', "donor degeneracy 4"),
+    ("tol_ml", "src/tolerance.c", '"shift_minus_1ML_eV", L->ml_minus', '"shift_minus_1ML_eV", L->ml_plus', "tolerance -1ML prints +1ML"),
+    ("tol_hf", "src/tolerance.c", '"dEdt_HF_eV_per_nm", L->dEdt_hf', '"dEdt_HF_eV_per_nm", L->dEdt_fd', "tolerance HF prints FD"),
+    ("tol_dx", "src/tolerance.c", '"dEdx_FD_eV", L->has_x ? L->dEdx_fd', '"dEdx_FD_eV", L->has_x ? L->dEdx_hf', "tolerance dE/dx FD prints HF"),
+    ("tol_dxhf", "src/tolerance.c", '"dEdx_HF_eV", L->has_x ? L->dEdx_hf', '"dEdx_HF_eV", L->has_x ? L->dEdx_fd', "tolerance dE/dx HF prints FD"),
+    ("tol_ml_nm", "src/tolerance.c", 'ew_json_write_number(out, L->ml_nm);', 'ew_json_write_number(out, L->thickness_nm);', "monolayer_nm prints thickness"),
+    ("spec_csv", "src/spectra_workflow.c", 'if (s->interband_rel) fprintf(out, "%.10g", s->interband_rel[k]);', 'if (s->interband_rel) fprintf(out, "%.10g", s->intersubband ? s->intersubband[k] : s->interband_rel[k]);', "spectra CSV interband column holds intersubband"),
+    ("match_nm", "src/match.c", 'ew_json_write_number(out, r->target[i].nm);', 'ew_json_write_number(out, r->target[i].eV);', "match target_nm prints eV"),
+    ("sw_json", "src/sweep.c", 'if (k + 1 < ncol) ew_json_write_number(json, row[k]);', 'if (k + 1 < ncol) ew_json_write_number(json, row[k + 1 < ncol - 1 ? k + 1 : k]);', "sweep JSON value of the next column"),
+    ("sw_total", "src/sweep.c", '"\\"count\\":%zu},\\"columns\\":[", P->np,', '"\\"count\\":%zu},\\"columns\\":[", P->hi - P->lo,', "sweep points_total = shard count"),
+    ("line_name", "src/line_name.c", 'for (int b = 0; b < (int)band; b++) off += r->band_count[b];', 'for (int b = 0; b < (int)band; b++) off += r->band_count[0];', "level index offset uses e count"),
+]
+
+
+def run(cmd, cwd, timeout=900):
+    p = subprocess.run(cmd, cwd=cwd, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
+                       timeout=timeout)
+    return p.returncode, p.stdout.decode("utf-8", "replace")
+
+
+def sync_tree(frm=BASE, to=TREE):
+    os.makedirs(to, exist_ok=True)
+    for item in COPY:
+        src = os.path.join(frm, item)
+        if not os.path.exists(src):
+            continue
+        if os.path.isdir(src):
+            for dp, _, files in os.walk(src):
+                rel = os.path.relpath(dp, frm)
+                os.makedirs(os.path.join(to, rel), exist_ok=True)
+                for f in files:
+                    restore(os.path.join(rel, f), frm, to)
+        else:
+            restore(item, frm, to)
+
+
+def restore(rel, frm, to):
+    """Copy rel from frm to to unless identical (a fresh mtime: make rebuilds)."""
+    src, dst = os.path.join(frm, rel), os.path.join(to, rel)
+    with open(src, "rb") as f:
+        data = f.read()
+    if os.path.exists(dst):
+        with open(dst, "rb") as f:
+            if f.read() == data:
+                return
+    with open(dst, "wb") as f:
+        f.write(data)
+
+
+# the slow programs last; a mutant stops at its first failing program unless --all
+SLOW = ["test_roundtrip", "test_roundtrip_workflow", "test_poisson", "test_workflow"]
+
+
+def run_tests(shell, first_only=True):
+    tdir = os.path.join(TREE, "build", "tests")
+    failed = []
+    names = [t for t in sorted(os.listdir(tdir)) if t.startswith("test_") and
+             not t.endswith(".d") and os.access(os.path.join(tdir, t), os.X_OK)]
+    names.sort(key=lambda t: SLOW.index(t) + 1 if t in SLOW else 0)
+    names = [t for t in names if t not in SKIP]
+    for t in names:
+        if failed and first_only:
+            break
+        path = os.path.join(tdir, t)
+        try:
+            rc, _ = run([path], TREE, timeout=300)
+        except subprocess.TimeoutExpired:
+            rc = -1
+        if rc != 0:
+            failed.append(t)
+    if shell and not (failed and first_only):
+        for s in ["tests/cli_test.sh", "tests/workflow_cli.sh"]:
+            rc, _ = run(["sh", s, "build/epiwell"], TREE, timeout=900)
+            if rc != 0:
+                failed.append(os.path.basename(s))
+    return failed
+
+
+SKIP = []  # --skip=test_NAME: leave that program out (what did the suite catch without it?)
+
+
+def main(argv):
+    SKIP.extend(a.split("=", 1)[1] for a in argv if a.startswith("--skip="))
+    shell = "--shell" in argv
+    ids = [a for a in argv if not a.startswith("--")]
+    if "--list" in argv:
+        for m in MUTANTS:
+            print(f"{m[0]:14} {m[1]:22} {m[4]}")
+        return 0
+    byid = {m[0]: m for m in MUTANTS}
+    unknown = [i for i in ids if i not in byid]
+    if unknown:
+        print("unknown mutant ids:", " ".join(unknown))
+        return 2
+    todo = [byid[i] for i in ids] if ids else MUTANTS  # in the order given
+    if os.path.isdir(BASE):
+        shutil.rmtree(BASE)
+    sync_tree(ROOT, BASE)
+    sync_tree()
+    rc, out = run(BUILD, TREE)
+    if rc != 0:
+        print(out)
+        return 2
+    base = [] if "--no-baseline" in argv else run_tests(shell, first_only=False)
+    if base:
+        print("the unmutated tree fails:", " ".join(base))
+        return 2
+    rows = []
+    for mid, rel, old, new, what in todo:
+        sync_tree()
+        path = os.path.join(TREE, rel)
+        with open(path, encoding="utf-8") as f:
+            text = f.read()
+        if old not in text:
+            print(f"{mid}: pattern not found in {rel}", file=sys.stderr)
+            rows.append((mid, rel, what, "missing", ""))
+            continue
+        with open(path, "w", encoding="utf-8") as f:
+            f.write(text.replace(old, new, 1))
+        t0 = time.time()
+        rc, out = run(BUILD, TREE)
+        if rc != 0:
+            status, by = "build", ""
+        else:
+            failed = run_tests(shell, "--all" not in argv)
+            status = "killed" if failed else "SURVIVED"
+            by = " ".join(failed)
+        rows.append((mid, rel, what, status, by))
+        print(f"{mid}\t{rel}\t{what}\t{status}\t{by}\t({time.time() - t0:.0f} s)", flush=True)
+    sync_tree()  # leave the copy unmutated
+    with open(os.path.join(WORK, "results.tsv" if not ids else "results-some.tsv"), "w") as f:
+        for r in rows:
+            f.write("\t".join(r) + "\n")
+    survived = [r[0] for r in rows if r[3] == "SURVIVED"]
+    print(f"{len(rows)} mutants, {sum(r[3] == 'killed' for r in rows)} killed, "
+          f"{len(survived)} survived{': ' + ' '.join(survived) if survived else ''}")
+    return 1 if survived else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main(sys.argv[1:]))
