@@ -91,11 +91,13 @@ static void planted_symlinks_not_followed(void **state) {
   snprintf(victim, sizeof victim, "%s/victim", dir);
   put_file(victim, "precious\n");
   long pid = (long)getpid();
-  const char *names[] = {".a.csv.tmp%ld", ".a.csv.tmp%ld.old%ld", ".epiwell-%ld-0-a.csv",
-                         ".set.lock.unused%ld"};
-  for (size_t k = 0; k < sizeof names / sizeof *names; k++) {
+  /* the names the earlier helpers used (predictable: PID only), literal formats */
+  for (int k = 0; k < 4; k++) {
     char nm[128];
-    snprintf(nm, sizeof nm, names[k], pid, pid);
+    if (k == 0) snprintf(nm, sizeof nm, ".a.csv.tmp%ld", pid);
+    else if (k == 1) snprintf(nm, sizeof nm, ".a.csv.tmp%ld.old%ld", pid, pid);
+    else if (k == 2) snprintf(nm, sizeof nm, ".epiwell-%ld-0-a.csv", pid);
+    else snprintf(nm, sizeof nm, ".set.lock.unused%ld", pid);
     snprintf(link, sizeof link, "%s/%s", dir, nm);
     assert_int_equal(symlink(victim, link), 0);
   }
