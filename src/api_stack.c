@@ -46,11 +46,11 @@ double ew_stack_layer_y(const ew_stack *st, size_t i) {
 ew_status ew_stack_layer_index(const ew_stack *st, const char *name, size_t *index, ew_error *err) {
   if (!st || !name || !index)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_stack_layer_index: NULL argument");
-  for (size_t i = 0; i < st->n_layers; i++)
-    if (!strcmp(st->layers[i].name, name)) {
-      *index = i;
-      return EW_OK;
-    }
+  size_t k = ew_stack_find_layer(st, name);
+  if (k < st->n_layers) {
+    *index = k;
+    return EW_OK;
+  }
   return ew_fail(err, EW_ERR_INPUT, st->path, 0, "no layer called '%s'", name);
 }
 

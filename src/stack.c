@@ -965,8 +965,7 @@ static ew_status offset_reference(reader *r, const config_setting_t *root, ew_st
   if (get_name(r, root, "offset_reference", "", name, &l) < 0) return EW_ERR_INPUT;
   const char *names[MAX_OFFSET_HINT];
   size_t k = 0, n = s->n_layers < MAX_OFFSET_HINT ? s->n_layers : MAX_OFFSET_HINT;
-  for (k = 0; k < s->n_layers && strcmp(s->layers[k].name, name) != 0; k++) continue;
-  if (k == s->n_layers) {
+  if ((k = ew_stack_find_layer(s, name)) == s->n_layers) {
     for (size_t i = 0; i < n; i++) names[i] = s->layers[i].name;
     const char *hint = ew_text_nearest(name, names, n);
     return fail(r, l, "offset_reference '%s' is not a layer of this stack%s%s%s", name,
@@ -1467,4 +1466,10 @@ void ew_stack_free(ew_stack *stack) {
   for (size_t k = 0; stack->layers && k < stack->n_layers; k++) free(stack->layers[k].profile);
   free(stack->layers);
   free(stack);
+}
+
+size_t ew_stack_find_layer(const ew_stack *st, const char *name) {
+  size_t k = 0;
+  while (k < st->n_layers && strcmp(st->layers[k].name, name) != 0) k++;
+  return k;
 }

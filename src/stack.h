@@ -99,4 +99,8 @@ ew_status ew_stack_from_config(const struct config_t *cfg, const char *display_n
  * interpolated linearly between samples). */
 void ew_layer_bands_at(const ew_layer *ly, double f, ew_bands *out);
 
+/* The index of the layer called name (the one layer lookup by name); st->n_layers when there
+ * is none. */
+size_t ew_stack_find_layer(const ew_stack *st, const char *name);
+
 #endif

@@ -430,8 +430,7 @@ ew_status ew_wf_ladder_run(const ew_wf_model *m, const char *layer, int threads,
                            ew_wf_ladder **out, ew_error *err) {
   *out = NULL;
   const ew_stack *st = ew_wf_model_stack(m);
-  size_t k = 0;
-  while (k < st->n_layers && strcmp(st->layers[k].name, layer) != 0) k++;
+  size_t k = ew_stack_find_layer(st, layer);
   if (k == st->n_layers)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--ladder %s: no such layer in %s", layer,
                    st->path);
