@@ -31,11 +31,16 @@ void ew_csv_text(ew_csv *c, const char *s) {
   begin_cell(c);
   if (!s) return;
   size_t len = strlen(s);
-  if (strcspn(s, ",\"\r\n") == len) {
+  /* A text cell starting with = + - @ (or tab, CR) is a formula to a spreadsheet: prefix a
+   * single quote, the usual neutraliser (OWASP "CSV Injection"), so a layer named
+   * "=cmd|…" stays text.  Numbers are written by ew_csv_number/_format, never here. */
+  int formula = strchr("=+-@\t\r", s[0]) != NULL && s[0] != '\0';
+  if (!formula && strcspn(s, ",\"\r\n") == len) {
     put(c, s, len);
     return;
   }
   put(c, "\"", 1);
+  if (formula) put(c, "'", 1);
   for (const char *q; (q = strchr(s, '"')) != NULL; s = q + 1) {
     put(c, s, (size_t)(q - s) + 1); /* through the quote, which is then doubled */
     put(c, "\"", 1);

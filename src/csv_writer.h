@@ -35,7 +35,9 @@ void ew_csv_init(ew_csv *c, ew_csv_write_fn write, void *ctx);
 /* Writes to a stdio stream. */
 void ew_csv_init_file(ew_csv *c, FILE *f);
 
-void ew_csv_text(ew_csv *c, const char *s); /* NULL: empty cell */
+/* NULL: empty cell.  Quoted when it holds , " CR or LF; a cell starting with = + - @ tab or CR
+ * (a spreadsheet formula) is written as "'TEXT" (quoted, with a leading single quote). */
+void ew_csv_text(ew_csv *c, const char *s);
 void ew_csv_format(ew_csv *c, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
 void ew_csv_number(ew_csv *c, double v);
 void ew_csv_int(ew_csv *c, long long v);

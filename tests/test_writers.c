@@ -246,6 +246,25 @@ static void csv_quoting(void **state) {
                            ",0.1,-2.000,-7,\n");
 }
 
+/* Formula starts (OWASP "CSV Injection": cells beginning with = + - @ tab or CR are run by
+ * spreadsheets) are written quoted with a leading single quote; a number cell that is negative
+ * (written by ew_csv_format/_number) and text starting elsewhere are untouched. */
+static void csv_formula_neutralised(void **state) {
+  (void)state;
+  char buf[256] = "";
+  ew_csv c;
+  ew_csv_init(&c, to_buffer, buf);
+  ew_csv_text(&c, "=HYPERLINK(\"x\")");
+  ew_csv_text(&c, "+1");
+  ew_csv_text(&c, "-cap");
+  ew_csv_text(&c, "@sum");
+  ew_csv_text(&c, "well=3");
+  ew_csv_format(&c, "%.1f", -1.5);
+  ew_csv_end_row(&c);
+  assert_false(ew_csv_failed(&c));
+  assert_string_equal(buf, "\"'=HYPERLINK(\"\"x\"\")\",\"'+1\",\"'-cap\",\"'@sum\",well=3,-1.5\n");
+}
+
 /* A sink that refuses to write marks the writer failed. */
 static int refuse(void *ctx, const char *data, size_t len) {
   (void)ctx, (void)data, (void)len;
@@ -268,6 +287,7 @@ int main(void) {
       cmocka_unit_test(json_layout),
       cmocka_unit_test(json_reports_misuse),
       cmocka_unit_test(csv_quoting),
+      cmocka_unit_test(csv_formula_neutralised),
       cmocka_unit_test(csv_write_failure),
   };
   return cmocka_run_group_tests_name("writers", tests, group_setup, group_teardown);
