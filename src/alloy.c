@@ -80,6 +80,14 @@ static void quat_geom(const ew_cat_entry *e, double x, double y, qgeom *g) {
 
 /* Value of a binary: parameter p (g < 0) or its gap g (0 Γ, 1 X, 2 L) at T by Varshni. */
 static int binary_value(const ew_cat_entry *b, int p, int g, double T_K, double *out) {
+  if (g < 0 && ew_param_is_hole_mass((ew_param)p)) {
+    if (!b->have[EW_P_GAMMA1] || !b->have[EW_P_GAMMA2]) return 0;
+    double s = p == EW_P_MHH ? -2.0 : 2.0;
+    double den = b->v[EW_P_GAMMA1] + s * b->v[EW_P_GAMMA2];
+    if (!(den > 0.0)) return 0; /* bands_at reports the non-positive mass */
+    *out = 1.0 / den;
+    return 1;
+  }
   if (g < 0) {
     if (!b->have[p]) return 0;
     *out = b->v[p];
@@ -161,6 +169,94 @@ ew_status ew_material_lookup(const ew_catalogue *cat, const char *name, double x
   return EW_OK;
 }
 
+/* 1 if a hole mass of entry e is bowed: by the alloy itself, or for a quaternary by one of
+ * the ternaries on its edges. */
+static int hole_mass_bowed(const ew_catalogue *cat, const ew_cat_entry *e) {
+  if (e->kind == EW_KIND_ALLOY) return e->have[EW_P_MHH] || e->have[EW_P_MLH];
+  if (e->kind != EW_KIND_QUATERNARY) return 0;
+  for (int k = 0; k < e->n_edge; k++) {
+    const ew_cat_entry *t = &cat->e[e->i_edge[k]];
+    if (t->have[EW_P_MHH] || t->have[EW_P_MLH]) return 1;
+  }
+  return 0;
+}
+
+/* [001] hole masses 1/(γ1 ∓ 2γ2) of Luttinger parameters g1, g2; 0 where not positive. */
+static void masses_of_gammas(double g1, double g2, double m[2]) {
+  for (int k = 0; k < 2; k++) {
+    double den = g1 + (k ? 2.0 : -2.0) * g2;
+    m[k] = den > 0.0 ? 1.0 / den : 0.0;
+  }
+}
+
+/* A ternary's hole-mass bowing restated against the γ-linear mass: C_eff(t) with
+ * m_linγ(t) − m(t) = t(1 − t) C_eff(t), where m(t) = t m_A + (1 − t) m_B − t(1 − t) C(t) is
+ * the review's bowed mass and m_linγ(t) the mass of the linearly interpolated γ's.  Summing
+ * coef_k C_eff_k over a quaternary's edges then gives back each ternary exactly on its edge
+ * (the edge weights of alloy.h vanish on the other edges) and γ-linear masses where no edge
+ * bows them. */
+static double edge_mass_bowing(const ew_catalogue *cat, const ew_cat_entry *t, int q,
+                               double tt) {
+  double w = tt * (1.0 - tt), g1, g2, m_bowed, m_lin[2];
+  if (!(w > 0.0) || !t->have[q]) return 0.0;
+  if (!ew_entry_value(cat, t, EW_P_GAMMA1, -1, tt, 0.0, 0.0, &g1) ||
+      !ew_entry_value(cat, t, EW_P_GAMMA2, -1, tt, 0.0, 0.0, &g2) ||
+      !ew_entry_value(cat, t, q, -1, tt, 0.0, 0.0, &m_bowed))
+    return 0.0;
+  masses_of_gammas(g1, g2, m_lin);
+  double ml = m_lin[q == EW_P_MLH];
+  return ml > 0.0 ? (ml - m_bowed) / w : 0.0;
+}
+
+/* The [001] hole masses and γ1, γ2 of a material kept consistent, mhh = 1/(γ1 − 2γ2) and
+ * mlh = 1/(γ1 + 2γ2).  Without a hole-mass bowing the Luttinger parameters are interpolated
+ * linearly and the masses follow from them.  With one (Vurgaftman 2001 give hole-mass
+ * bowings for some alloys, e.g. InGaAs, rather than γ bowings) a ternary's masses are
+ * interpolated with their bowing, a quaternary's by edge_mass_bowing, and γ1 = (1/mhh +
+ * 1/mlh)/2, γ2 = (1/mlh − 1/mhh)/4 follow; γ3 stays linear (no bowing given for it). */
+static void hole_masses_of(const ew_catalogue *cat, const ew_cat_entry *e, double x, double y,
+                           ew_params *out) {
+  static const char from_gamma[] = "1/(gamma1 -/+ 2 gamma2): the [001] mass of the "
+                                   "Luttinger parameters (J. M. Luttinger, Phys. Rev. 102, "
+                                   "1030 (1956))";
+  static const char from_mass[] =
+      "from the [001] hole masses mhh, mlh interpolated with their bowing: gamma1 = "
+      "(1/mhh + 1/mlh)/2, gamma2 = (1/mlh - 1/mhh)/4 (hole-mass bowing as in I. Vurgaftman "
+      "et al., J. Appl. Phys. 89, 5815 (2001))";
+  static const int q_of[2] = {EW_P_MHH, EW_P_MLH};
+  double m[2];
+  int bowed = hole_mass_bowed(cat, e);
+  const char *bow_src[2] = {out->source[EW_P_MHH], out->source[EW_P_MLH]};
+  int have_bowed[2] = {out->have[EW_P_MHH], out->have[EW_P_MLH]};
+  for (int k = 0; k < 2; k++) out->have[q_of[k]] = 0;
+  if (!out->have[EW_P_GAMMA1] || !out->have[EW_P_GAMMA2]) return;
+  masses_of_gammas(out->v[EW_P_GAMMA1], out->v[EW_P_GAMMA2], m);
+  if (bowed && e->kind == EW_KIND_ALLOY) {
+    for (int k = 0; k < 2; k++)
+      if (have_bowed[k]) m[k] = out->v[q_of[k]];
+  } else if (bowed) {
+    qgeom g;
+    quat_geom(e, x, y, &g);
+    for (int k = 0; k < 2; k++)
+      for (int j = 0; j < e->n_edge && m[k] > 0.0; j++) {
+        double tt = e->edge_flip[j] ? 1.0 - g.t[j] : g.t[j];
+        m[k] -= g.coef[j] * edge_mass_bowing(cat, &cat->e[e->i_edge[j]], q_of[k], tt);
+      }
+  }
+  for (int k = 0; k < 2; k++) {
+    if (!(m[k] > 0.0)) return; /* bands_at reports the non-positive mass */
+    out->v[q_of[k]] = m[k];
+    out->have[q_of[k]] = 1;
+    out->source[q_of[k]] = bowed && e->kind == EW_KIND_ALLOY && have_bowed[k] ? bow_src[k]
+                           : bowed ? e->source[q_of[k]]
+                                   : from_gamma;
+  }
+  if (!bowed) return;
+  out->v[EW_P_GAMMA1] = 0.5 * (1.0 / m[0] + 1.0 / m[1]);
+  out->v[EW_P_GAMMA2] = 0.25 * (1.0 / m[1] - 1.0 / m[0]);
+  out->source[EW_P_GAMMA1] = out->source[EW_P_GAMMA2] = from_mass;
+}
+
 static void params_of(const ew_catalogue *cat, const ew_cat_entry *e, double x, double y,
                       ew_params *out) {
   memset(out, 0, sizeof *out);
@@ -177,6 +273,7 @@ static void params_of(const ew_catalogue *cat, const ew_cat_entry *e, double x, 
           e->have[p] ? e->source[p] : varshni ? varshni_alloy_source : linear_source;
     }
   }
+  hole_masses_of(cat, e, x, y, out);
 }
 
 ew_status ew_material_params(const ew_catalogue *cat, const char *name, double x,
@@ -229,7 +326,7 @@ static void dos_masses(const ew_params *p, ew_bands *out) {
  * m0/m(Eg) = m0/me0 + (E_P/3) [2/Eg + 1/(Eg + Δ) − 2/Eg0 − 1/(Eg0 + Δ)], so the review's
  * mass holds exactly at 0 K whatever F is, and a gap lowered by temperature (or raised by
  * strain) gives a lighter (heavier) electron.  Without E_P the mass stays me0. */
-static double kane_edge_mass(double me0, double Ep, double Dso, double Eg0, double Eg) {
+double ew_kane_edge_mass(double me0, double Ep, double Dso, double Eg0, double Eg) {
   if (!(Ep > 0.0) || !(Eg0 > 0.0) || !(Eg > 0.0)) return me0;
   double D = Dso > 0.0 ? Dso : 0.0;
   double inv = 1.0 / me0 + Ep / 3.0 * (2.0 / Eg + 1.0 / (Eg + D) - 2.0 / Eg0 - 1.0 / (Eg0 + D));
@@ -279,7 +376,7 @@ static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double
   if (p->have[EW_P_EP] && ew_entry_value(cat, e, -1, 0, x, y, 0.0, &Eg0)) {
     out->me0 = out->me;
     out->Eg0_G_eV = Eg0;
-    out->me = kane_edge_mass(out->me0, p->v[EW_P_EP], p->have[EW_P_DSO] ? p->v[EW_P_DSO] : 0.0,
+    out->me = ew_kane_edge_mass(out->me0, p->v[EW_P_EP], p->have[EW_P_DSO] ? p->v[EW_P_DSO] : 0.0,
                              Eg0, out->Eg_G_eV);
   }
   /* Hole masses from the Luttinger parameters (J. M. Luttinger, Phys. Rev. 102, 1030
@@ -343,7 +440,7 @@ static ew_status apply_strain(const ew_cat_entry *e, double x, double y, const e
      the Γ8 edges (the shear splitting of hh and lh changes the Γ mass only in second order and
      anisotropically, left out) */
   if (b->me0 > 0.0)
-    b->me = kane_edge_mass(b->me0, b->Ep_eV, b->Dso_eV, b->Eg0_G_eV,
+    b->me = ew_kane_edge_mass(b->me0, b->Ep_eV, b->Dso_eV, b->Eg0_G_eV,
                            b->Eg_G_eV + sh.dEc_eV - sh.dEv_hyd_eV);
   double hc = ew_mb_critical_thickness_nm(in.a_nm, sh.eps_par,
                                           ew_strain_poisson(in.c11_kbar, in.c12_kbar), 2);

@@ -111,4 +111,9 @@ ew_status ew_material_lookup(const ew_catalogue *cat, const char *name, double x
 int ew_entry_value(const ew_catalogue *cat, const ew_cat_entry *e, int p, int g, double x,
                    double y, double T_K, double *out);
 
+/* Band-edge electron mass at gap Eg from the 0 K mass me0 at Eg0 by the Kane relation
+ * (alloy.c cites it); me0 unchanged without E_P.  Used for the bands and for the caveat
+ * on the relation's temperature shift (stack_caveats.c). */
+double ew_kane_edge_mass(double me0, double Ep, double Dso, double Eg0, double Eg);
+
 #endif

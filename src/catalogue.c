@@ -32,11 +32,12 @@ static const char *const param_keys[EW_P_COUNT] = {
     "Eg_G",   "alpha_G", "beta_G",   "Eg_X",   "alpha_X", "beta_X",   "Eg_L",
     "alpha_L", "beta_L", "VBO",      "Delta_so", "me",    "gamma1",   "gamma2",
     "gamma3", "eps_static", "a_lattice", "Ep",  "F",       "a_c",      "a_v",
-    "b_shear", "d_shear", "c11",     "c12",    "c44"};
+    "b_shear", "d_shear", "c11",     "c12",    "c44",  "mhh",     "mlh"};
 
 static const char *const param_units[EW_P_COUNT] = {
     "eV", "meV/K", "K", "eV", "meV/K", "K", "eV", "meV/K", "K", "eV", "eV", "m0", "-",
-    "-",  "-",     "-", "Å",  "eV",    "-", "eV", "eV",    "eV", "eV", "kbar", "kbar", "kbar"};
+    "-",  "-",     "-", "Å",  "eV",    "-", "eV", "eV",    "eV", "eV", "kbar", "kbar", "kbar",
+    "m0", "m0"};
 
 const char *ew_param_key(ew_param p) {
   return (p >= 0 && p < EW_P_COUNT) ? param_keys[p] : "?";
@@ -58,6 +59,8 @@ int ew_param_is_varshni(ew_param p) {
 /* The Luttinger parameters are interpolated linearly (the brief's rule, following
  * Vurgaftman 2001, who give no γ bowings), and Varshni α, β are not used for alloys at all
  * (the end binaries' gaps are taken at T instead). */
+int ew_param_is_hole_mass(ew_param p) { return p == EW_P_MHH || p == EW_P_MLH; }
+
 int ew_param_no_bowing(ew_param p) {
   return p == EW_P_GAMMA1 || p == EW_P_GAMMA2 || p == EW_P_GAMMA3 || ew_param_is_varshni(p);
 }
@@ -432,6 +435,10 @@ static ew_status read_params(const config_setting_t *grp, int bowing, const char
                      (p == EW_P_GAMMA1 || p == EW_P_GAMMA2 || p == EW_P_GAMMA3)
                          ? "Luttinger parameters are interpolated linearly"
                          : "alloy gaps at T use the end binaries' Varshni parameters");
+    if (!bowing && ew_param_is_hole_mass((ew_param)p))
+      return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
+                     "'%s' of a binary is 1/(gamma1 %s 2 gamma2): give the Luttinger "
+                     "parameters (an alloy may bow %s)", key, p == EW_P_MHH ? "-" : "+", key);
     if (!config_setting_is_group(ps))
       return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
                      "'%s' must be a group { value = ...; source = \"...\"; }", key);

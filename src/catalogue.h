@@ -37,6 +37,10 @@ typedef enum {
   EW_P_EPS_S, EW_P_ALC,
   EW_P_EP, EW_P_F, EW_P_AC, EW_P_AV, EW_P_B, EW_P_D,
   EW_P_C11, EW_P_C12, EW_P_C44,
+  /* the [001] heavy- and light-hole masses 1/(γ1 ∓ 2γ2): derived from the Luttinger
+   * parameters for binaries, and the quantities an alloy may bow (Vurgaftman 2001 give
+   * hole-mass bowings, not γ bowings, e.g. for InGaAs); see ew_param_is_hole_mass */
+  EW_P_MHH, EW_P_MLH,
   EW_P_COUNT
 } ew_param;
 
@@ -125,6 +129,8 @@ extern const ew_param ew_gap_param[3], ew_alpha_param[3], ew_beta_param[3];
 /* 1 for parameters an alloy may not bow: the Luttinger parameters (interpolated linearly)
  * and the Varshni α, β (alloy gaps at T come from the end binaries' gaps at T). */
 int ew_param_no_bowing(ew_param p);
+/* 1 for the [001] hole masses: never given by a binary (derived from γ1, γ2), only bowed. */
+int ew_param_is_hole_mass(ew_param p);
 /* 1 for the Varshni α, β (no bowing, and shown for alloys for display only). */
 int ew_param_is_varshni(ew_param p);
 

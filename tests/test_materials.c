@@ -461,6 +461,12 @@ static void test_malformed(void **state) {
              "  me = { value = \"heavy\"; source = \"test\"; };\n};\n");
   expect_error(dir, "A.cfg", 5, "must be a number");
 
+  /* a binary's [001] hole mass (line 5) is derived from gamma1, gamma2: refused */
+  write_file(dir, "A.cfg",
+             "name = \"Xa\";\nkind = \"binary\";\ndescription = \"t\";\nparams = {\n"
+             "  mhh = { value = 0.35; source = \"test\"; };\n};\n");
+  expect_error(dir, "A.cfg", 5, "1/(gamma1 - 2 gamma2)");
+
   /* duplicate name: B.cfg line 1 repeats A.cfg's "Xa" */
   write_file(dir, "A.cfg", good_binary);
   write_file(dir, "B.cfg", good_binary);

@@ -457,6 +457,37 @@ static void plain_well_has_none(void **state) {
   solved_free(&s);
 }
 
+/* The Kane relation's temperature shift of the electron mass: an InAs well at 300 K moves
+ * its mass by about −15 % (warned, with the mass computed here from the review's InAs
+ * values typed independently: me = 0.026 m0, E_P = 21.5 eV, Δso = 0.39 eV, Eg = 0.417 eV,
+ * α = 0.276 meV/K, β = 93 K; I. Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001), from
+ * memory); at 4 K it does not move, and the GaAs detector well at 300 K (−7 %) is not
+ * warned (plain_well_has_none). */
+static void electron_mass_temperature(void **state) {
+  (void)state;
+  static const char *fmt = "temperature = %g;\nlayers = (\n"
+                           "  { name = \"b1\"; material = \"AlSb\"; thickness = 20.0; },\n"
+                           "  { name = \"inas\"; material = \"InAs\"; thickness = 8.0; },\n"
+                           "  { name = \"b2\"; material = \"AlSb\"; thickness = 20.0; }\n);\n";
+  char text[512];
+  snprintf(text, sizeof text, fmt, 300.0);
+  solved s = solve_text(text);
+  assert_int_equal(count_code(s.r, "electron-mass-temperature"), 1);
+  const char *m = ew_result_warning(s.r, find_code(s.r, "electron-mass-temperature"));
+  double eg0 = 0.417, eg = eg0 - 0.276e-3 * 300.0 * 300.0 / (300.0 + 93.0), d = 0.39;
+  double inv = 1 / 0.026 + 21.5 / 3 * (2 / eg + 1 / (eg + d) - 2 / eg0 - 1 / (eg0 + d));
+  char want[64];
+  snprintf(want, sizeof want, "'inas' (InAs): the electron mass %.4f m0 at 300 K", 1 / inv);
+  if (!strstr(m, want)) fail_msg("'%s' missing in: %s", want, m);
+  snprintf(want, sizeof want, "%+.0f %%", 100.0 * (1 / inv / 0.026 - 1));
+  if (!strstr(m, want)) fail_msg("'%s' missing in: %s", want, m);
+  solved_free(&s);
+  snprintf(text, sizeof text, fmt, 4.0);
+  s = solve_text(text);
+  assert_int_equal(count_code(s.r, "electron-mass-temperature"), 0);
+  solved_free(&s);
+}
+
 /* ---- 4. warnings reach sweeps, matches and tolerances ------------------------------------
  * The stack: an In0.2Ga0.8As well buried in GaAs on GaAs; its buried Matthews–Blakeslee
  * thickness (14.6 nm, mb_hc_nm above) is the reference for which points carry the code. */
@@ -588,6 +619,7 @@ int main(int argc, char **argv) {
       cmocka_unit_test(inp_alinas_no_holes),
       cmocka_unit_test(type_ii_indirect_line),
       cmocka_unit_test(plain_well_has_none),
+      cmocka_unit_test(electron_mass_temperature),
       cmocka_unit_test(sweep_flags_thick_points),
       cmocka_unit_test(match_carries_codes),
       cmocka_unit_test(tolerance_carries_codes),
