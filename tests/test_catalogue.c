@@ -239,12 +239,64 @@ static void test_gaps_300K(void **state) {
   TU_NEAR(bands_ok(cat, "InSb", 0, 300.0).Eg_G_eV, 0.17, 0.01, "NSM InSb band structure");
 }
 
+/* The antimonide alloys.  Lattice matches of the trade (common practice): GaAs0.51Sb0.49 and
+ * AlAs0.56Sb0.44 on InP; on GaSb the quaternaries In(x)Ga(1-x)As(y)Sb(1-y) with
+ * y = 0.867x/(1 − 0.048x) and Al(x)Ga(1-x)As(y)Sb(1-y) with y ≈ 0.08x (from memory).  Gaps: InAs(x)Sb(1-x) has the
+ * smallest gap of the III–V alloys, about 0.10 eV near x = 0.38 at 300 K (A. Rogalski,
+ * Infrared Detectors (CRC, 2011), from memory; the review's bowing, 0.67 eV, gives 0.085 eV at
+ * x = 0.37: within 0.02 eV); lattice-matched GaAsSb on InP has a 300 K gap of about 0.72 eV
+ * (from memory). */
+static void test_antimonides(void **state) {
+  const ew_catalogue *cat = *state;
+  double x, y;
+  ew_error err;
+  assert_int_equal(ew_lattice_match(cat, "GaAsSb", "InP", 0, NAN, 300, &x, &y, &err), EW_OK);
+  TU_NEAR(x, 0.51, 0.01, "GaAs0.51Sb0.49 on InP (common practice)");
+  ew_bands b = bands_ok(cat, "GaAsSb", x, 300.0);
+  TU_NEAR(b.Eg_G_eV, 0.72, 0.02, "GaAsSb on InP, 300 K gap (from memory)");
+  assert_int_equal(ew_lattice_match(cat, "AlAsSb", "InP", 0, NAN, 300, &x, &y, &err), EW_OK);
+  TU_NEAR(x, 0.56, 0.01, "AlAs0.56Sb0.44 on InP (common practice)");
+  double lo = 0.05, hi = 0.8; /* golden-section search for the InAsSb gap minimum */
+  for (int it = 0; it < 80; it++) {
+    double a = lo + 0.382 * (hi - lo), c = lo + 0.618 * (hi - lo);
+    if (bands_ok(cat, "InAsSb", a, 300.0).Eg_G_eV < bands_ok(cat, "InAsSb", c, 300.0).Eg_G_eV)
+      hi = c;
+    else
+      lo = a;
+  }
+  TU_NEAR(lo, 0.38, 0.03, "InAsSb gap minimum composition (from memory)");
+  TU_NEAR(bands_ok(cat, "InAsSb", lo, 300.0).Eg_G_eV, 0.10, 0.02, "InAsSb minimum gap");
+  /* quaternaries on GaSb: solve the lattice match for y at a given x */
+  static const struct { const char *name; double x, slope; } q[] = {
+      {"InGaAsSb", 0.2, 0.867 / (1 - 0.048 * 0.2)}, {"AlGaAsSb", 0.35, 0.08}};
+  /* and exactly Vegard's law with the review's lattice constants typed here (Å, from
+   * memory): y = x(a_XSb − a_GaSb) / [x(a_XSb − a_XAs) + (1 − x)(a_GaSb − a_GaAs)] */
+  static const double a_xsb[2] = {6.4794, 6.1355}, a_xas[2] = {6.0583, 5.6611};
+  const double a_gasb = 6.0959, a_gaas = 5.65325;
+  for (size_t k = 0; k < 2; k++) {
+    double ylo = 0.0, yhi = 0.5, a_sub, a;
+    assert_int_equal(ew_lattice_nm(cat, "GaSb", 0, 0, &a_sub, &err), EW_OK);
+    for (int it = 0; it < 60; it++) {
+      double ym = 0.5 * (ylo + yhi);
+      assert_int_equal(ew_lattice_nm(cat, q[k].name, q[k].x, ym, &a, &err), EW_OK);
+      if (a > a_sub) ylo = ym; /* As shrinks the lattice */
+      else yhi = ym;
+    }
+    TU_NEAR(ylo / q[k].x, q[k].slope, 0.01, q[k].name);
+    double xx = q[k].x;
+    double y_vegard = xx * (a_xsb[k] - a_gasb) /
+                      (xx * (a_xsb[k] - a_xas[k]) + (1 - xx) * (a_gasb - a_gaas));
+    TU_NEAR(ylo, y_vegard, 1e-6, q[k].name);
+  }
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(test_added_review_values), cmocka_unit_test(test_lattice_constants),
       cmocka_unit_test(test_permittivity),        cmocka_unit_test(test_elastic_constants),
       cmocka_unit_test(test_split_off_and_mass),  cmocka_unit_test(test_gaps_300K),
       cmocka_unit_test(test_added_gaps),          cmocka_unit_test(test_gainp_crossover),
+      cmocka_unit_test(test_antimonides),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }

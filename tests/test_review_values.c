@@ -120,6 +120,14 @@ static const bow bowings[] = {
     {"InGaAs", "InAs", "GaAs", "me", 0.0091, 0.0},  {"AlInAs", "AlAs", "InAs", "Eg_G", 0.70, 0.0},
     {"AlInAs", "AlAs", "InAs", "VBO", -0.64, 0.0},  {"AlInAs", "AlAs", "InAs", "me", 0.049, 0.0},
     {"AlGaAs", "AlAs", "GaAs", "Eg_G", -0.127, 1.310},
+    /* the antimonides (Vurgaftman 2001, from memory) */
+    {"GaInSb", "GaSb", "InSb", "Eg_G", 0.415, 0.0},  {"GaInSb", "GaSb", "InSb", "me", 0.0092, 0.0},
+    {"GaInSb", "GaSb", "InSb", "Delta_so", 0.1, 0.0}, {"InAsSb", "InAs", "InSb", "Eg_G", 0.67, 0.0},
+    {"InAsSb", "InAs", "InSb", "me", 0.035, 0.0},   {"InAsSb", "InAs", "InSb", "Delta_so", 1.2, 0.0},
+    {"GaAsSb", "GaAs", "GaSb", "Eg_G", 1.43, 0.0},  {"GaAsSb", "GaAs", "GaSb", "VBO", -1.06, 0.0},
+    {"GaAsSb", "GaAs", "GaSb", "Delta_so", 0.6, 0.0}, {"AlAsSb", "AlAs", "AlSb", "Eg_G", 0.8, 0.0},
+    {"AlAsSb", "AlAs", "AlSb", "Eg_X", 0.28, 0.0},  {"AlAsSb", "AlAs", "AlSb", "VBO", -1.71, 0.0},
+    {"AlAsSb", "AlAs", "AlSb", "Delta_so", 0.15, 0.0},
 };
 
 static void bowings_match_the_review(void **state) {
