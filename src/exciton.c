@@ -33,6 +33,12 @@
 #include "error.h"
 #include "observables.h"
 
+/* EW_EXC_NTAB and exciton_table[][2] = {I(x_k), dI/ds(x_k)}: the table of item 2 computed
+ * once by ew_exciton_table_direct and printed with 17 digits (it is a pure function of the
+ * constants below; test_exciton.c checks every entry against the quadrature and prints the
+ * file anew with EW_PRINT_EXCITON_TABLE=1).  Building it took 15 % of a solve. */
+#include "exciton_table.inc"
+
 #define EW_EXC_TAIL 1e-10     /* probability dropped at each end of each envelope */
 #ifndef EW_EXC_STEP_NM /* overridable at build time for convergence studies */
 #define EW_EXC_STEP_NM 0.1    /* target step of the d mesh (binding unchanged to 1 µeV
@@ -49,7 +55,8 @@ struct ew_exciton_ws {
   double gl_x[EW_EXC_GL], gl_w[EW_EXC_GL]; /* Gauss–Legendre nodes and weights on [−1, 1] */
   size_t ntab;
   double s0, ds;      /* s_k = s0 + k ds, s = ln x */
-  double *I, *dIds;   /* [ntab] */
+  const double (*tab)[2]; /* the stored table {I, dI/ds}[ntab], or NULL: own_I, own_dIds */
+  double *own_I, *own_dIds;
   double *lnm;        /* [EW_EXC_MESH_MAX] ln m (lnm[0] unused) */
   double *pe, *ph, *P; /* [EW_EXC_MESH_MAX] mesh weights and the correlation */
 };
@@ -133,29 +140,67 @@ static double asymptotic_I(double x) {
   return s / x;
 }
 
+/* The table's mesh: s_k = s0 + k ds, k < ntab. */
+static void table_mesh(size_t *ntab, double *s0, double *ds) {
+  *s0 = log(EW_EXC_XMIN);
+  double s1 = log(EW_EXC_XMAX);
+  *ntab = (size_t)ceil((s1 - *s0) / EW_EXC_DS) + 1;
+  *ds = (s1 - *s0) / (double)(*ntab - 1);
+}
+
+/* I and dI/ds at table node k by quadrature (the table's definition). */
+static void table_entry(const double *glx, const double *glw, double s0, double ds, size_t k,
+                        double *I, double *dIds) {
+  double x = exp(s0 + (double)k * ds), d;
+  direct_I(glx, glw, x, I, &d);
+  *dIds = x * d; /* dI/ds = x dI/dx */
+}
+
+size_t ew_exciton_table_size(void) {
+  size_t n;
+  double s0, ds;
+  table_mesh(&n, &s0, &ds);
+  return n;
+}
+
+void ew_exciton_table_direct(size_t k, double *I, double *dIds) {
+  double glx[EW_EXC_GL], glw[EW_EXC_GL], s0, ds;
+  size_t n;
+  gauss_legendre(EW_EXC_GL, glx, glw);
+  table_mesh(&n, &s0, &ds);
+  table_entry(glx, glw, s0, ds, k, I, dIds);
+}
+
+void ew_exciton_table_stored(size_t k, double *I, double *dIds) {
+  *I = k < EW_EXC_NTAB ? exciton_table[k][0] : NAN;
+  *dIds = k < EW_EXC_NTAB ? exciton_table[k][1] : NAN;
+}
+
 ew_exciton_ws *ew_exciton_ws_new(void) {
   ew_exciton_ws *ws = calloc(1, sizeof *ws);
   if (!ws) return NULL;
   gauss_legendre(EW_EXC_GL, ws->gl_x, ws->gl_w);
-  ws->s0 = log(EW_EXC_XMIN);
-  double s1 = log(EW_EXC_XMAX);
-  ws->ntab = (size_t)ceil((s1 - ws->s0) / EW_EXC_DS) + 1;
-  ws->ds = (s1 - ws->s0) / (double)(ws->ntab - 1);
-  ws->I = malloc(ws->ntab * sizeof *ws->I);
-  ws->dIds = malloc(ws->ntab * sizeof *ws->dIds);
+  table_mesh(&ws->ntab, &ws->s0, &ws->ds);
+  /* the stored table (exciton_table.inc, tested against the quadrature in test_exciton.c);
+     computed here only when the mesh constants no longer match it */
+  int stored = ws->ntab == EW_EXC_NTAB;
+  if (!stored) {
+    ws->own_I = malloc(ws->ntab * sizeof *ws->own_I);
+    ws->own_dIds = malloc(ws->ntab * sizeof *ws->own_dIds);
+  }
   ws->lnm = malloc(EW_EXC_MESH_MAX * sizeof *ws->lnm);
   ws->pe = malloc(EW_EXC_MESH_MAX * sizeof *ws->pe);
   ws->ph = malloc(EW_EXC_MESH_MAX * sizeof *ws->ph);
   ws->P = malloc(EW_EXC_MESH_MAX * sizeof *ws->P);
-  if (!ws->I || !ws->dIds || !ws->lnm || !ws->pe || !ws->ph || !ws->P) {
+  if ((!stored && (!ws->own_I || !ws->own_dIds)) || !ws->lnm || !ws->pe || !ws->ph || !ws->P) {
     ew_exciton_ws_free(ws);
     return NULL;
   }
-  for (size_t k = 0; k < ws->ntab; k++) {
-    double x = exp(ws->s0 + (double)k * ws->ds), I, d;
-    direct_I(ws->gl_x, ws->gl_w, x, &I, &d);
-    ws->I[k] = I;
-    ws->dIds[k] = x * d; /* dI/ds = x dI/dx */
+  if (stored) {
+    ws->tab = exciton_table;
+  } else {
+    for (size_t k = 0; k < ws->ntab; k++)
+      table_entry(ws->gl_x, ws->gl_w, ws->s0, ws->ds, k, &ws->own_I[k], &ws->own_dIds[k]);
   }
   ws->lnm[0] = 0.0;
   for (size_t m = 1; m < EW_EXC_MESH_MAX; m++) ws->lnm[m] = log((double)m);
@@ -164,8 +209,8 @@ ew_exciton_ws *ew_exciton_ws_new(void) {
 
 void ew_exciton_ws_free(ew_exciton_ws *ws) {
   if (!ws) return;
-  free(ws->I);
-  free(ws->dIds);
+  free(ws->own_I);
+  free(ws->own_dIds);
   free(ws->lnm);
   free(ws->pe);
   free(ws->ph);
@@ -174,7 +219,7 @@ void ew_exciton_ws_free(ew_exciton_ws *ws) {
 }
 
 /* I at x > 0 with s = ln x given (so the hot loop takes no logarithm). */
-static double table_I(const ew_exciton_ws *ws, double s, double x) {
+static inline double table_I(const ew_exciton_ws *ws, double s, double x) {
   double u = (s - ws->s0) / ws->ds;
   if (u < 0.0) return 1.0 - x;
   if (u >= (double)(ws->ntab - 1)) return asymptotic_I(x);
@@ -183,8 +228,13 @@ static double table_I(const ew_exciton_ws *ws, double s, double x) {
   /* cubic Hermite basis on [s_k, s_k+1] */
   double h00 = 2 * t3 - 3 * t2 + 1, h10 = t3 - 2 * t2 + t, h01 = -2 * t3 + 3 * t2,
          h11 = t3 - t2;
-  return h00 * ws->I[k] + h10 * ws->ds * ws->dIds[k] + h01 * ws->I[k + 1] +
-         h11 * ws->ds * ws->dIds[k + 1];
+  double I0, d0, I1, d1;
+  if (ws->tab) {
+    I0 = ws->tab[k][0], d0 = ws->tab[k][1], I1 = ws->tab[k + 1][0], d1 = ws->tab[k + 1][1];
+  } else {
+    I0 = ws->own_I[k], d0 = ws->own_dIds[k], I1 = ws->own_I[k + 1], d1 = ws->own_dIds[k + 1];
+  }
+  return h00 * I0 + h10 * ws->ds * d0 + h01 * I1 + h11 * ws->ds * d1;
 }
 
 double ew_exciton_coulomb_G(double d_nm, double lambda_nm) {
@@ -298,10 +348,22 @@ static int correlate(ew_exciton_ws *ws, size_t M) {
   size_t ka, kb, la, lb;
   nonzero_range(pe, M, &ka, &kb);
   nonzero_range(ph, M, &la, &lb);
-  for (size_t k = ka; k <= kb && ka < M; k++) {
-    double pk = pe[k];
-    if (pk == 0.0) continue;
-    for (size_t l = la; l <= lb && la < M; l++) P[k > l ? k - l : l - k] += pk * ph[l];
+  if (ka < M && la < M) {
+    /* P_m = Σ_k pe_k ph_{k−m} + Σ_k pe_k ph_{k+m} (m > 0): one dot product per m over the
+       overlap of the two supports, kept in a register (the scatter P[|k−l|] += … stored
+       on every step) */
+    for (size_t m = 0; m < M; m++) {
+      double acc = 0.0;
+      /* k − m = l in [la, lb], k in [ka, kb] */
+      size_t k0 = ka > la + m ? ka : la + m, k1 = kb < lb + m ? kb : lb + m;
+      for (size_t k = k0; k <= k1 && k0 <= k1; k++) acc += pe[k] * ph[k - m];
+      if (m > 0) { /* l − k = m: l = k + m in [la, lb] */
+        size_t j0 = ka + m > la ? ka : (la - m), j1 = kb + m < lb ? kb : (lb >= m ? lb - m : 0);
+        if (lb >= m && j0 <= j1)
+          for (size_t k = j0; k <= j1; k++) acc += pe[k] * ph[k + m];
+      }
+      P[m] = acc;
+    }
   }
   double tot = 0.0;
   for (size_t m = 0; m < M; m++) tot += P[m];
@@ -355,34 +417,54 @@ static double minimise(const ew_exciton_ws *ws, size_t M, double delta, double K
     Es[k] = energy(ws, M, delta, K, C, exp(l0 + k * hs));
     if (Es[k] < Es[kmin]) kmin = k;
   }
-  /* golden-section search on ln λ in [kmin − 1, kmin + 1] */
+  /* Brent's minimisation on ln λ in [kmin − 1, kmin + 1] (R. P. Brent, Algorithms for
+   * Minimization without Derivatives (Prentice-Hall, 1973), ch. 5; the form of W. H. Press et
+   * al., Numerical Recipes, 3rd ed. (2007), §10.3): parabolic steps where E is smooth, golden
+   * sections otherwise; the same 1e-6 bracket in ln λ as a pure golden-section search, in
+   * about a third of the evaluations */
   double a = l0 + (kmin > 0 ? kmin - 1 : 0) * hs;
   double b = l0 + (kmin < EW_EXC_SCAN - 1 ? kmin + 1 : EW_EXC_SCAN - 1) * hs;
-  const double gr = 0.5 * (sqrt(5.0) - 1.0);
-  double x1 = b - gr * (b - a), x2 = a + gr * (b - a);
-  double f1 = energy(ws, M, delta, K, C, exp(x1)), f2 = energy(ws, M, delta, K, C, exp(x2));
-  for (int it = 0; it < 200 && b - a > 1e-6; it++) {
-    if (f1 < f2) {
-      b = x2;
-      x2 = x1;
-      f2 = f1;
-      x1 = b - gr * (b - a);
-      f1 = energy(ws, M, delta, K, C, exp(x1));
+  const double cgold = 0.5 * (3.0 - sqrt(5.0)), tol = 1e-6;
+  double x = l0 + kmin * hs, w = x, v = x, fx = Es[kmin], fw = fx, fv = fx, d = 0.0, e = 0.0;
+  for (int it = 0; it < 100; it++) {
+    double xm = 0.5 * (a + b), tol1 = 0.5 * tol, tol2 = 2.0 * tol1;
+    if (fabs(x - xm) <= tol2 - 0.5 * (b - a)) break;
+    int golden = 1;
+    if (fabs(e) > tol1) { /* try a parabola through x, w, v */
+      double r = (x - w) * (fx - fv), q = (x - v) * (fx - fw), p = (x - v) * q - (x - w) * r;
+      q = 2.0 * (q - r);
+      if (q > 0.0) p = -p;
+      q = fabs(q);
+      if (fabs(p) < fabs(0.5 * q * e) && p > q * (a - x) && p < q * (b - x)) {
+        e = d;
+        d = p / q;
+        double u = x + d;
+        if (u - a < tol2 || b - u < tol2) d = xm >= x ? tol1 : -tol1;
+        golden = 0;
+      }
+    }
+    if (golden) {
+      e = x >= xm ? a - x : b - x;
+      d = cgold * e;
+    }
+    double u = fabs(d) >= tol1 ? x + d : x + (d >= 0 ? tol1 : -tol1);
+    double fu = energy(ws, M, delta, K, C, exp(u));
+    if (fu <= fx) {
+      if (u >= x) a = x;
+      else b = x;
+      v = w, fv = fw, w = x, fw = fx, x = u, fx = fu;
     } else {
-      a = x1;
-      x1 = x2;
-      f1 = f2;
-      x2 = a + gr * (b - a);
-      f2 = energy(ws, M, delta, K, C, exp(x2));
+      if (u < x) a = u;
+      else b = u;
+      if (fu <= fw || w == x) {
+        v = w, fv = fw, w = u, fw = fu;
+      } else if (fu <= fv || v == x || v == w) {
+        v = u, fv = fu;
+      }
     }
   }
-  double Ebest = fmin(f1, f2);
-  *lbest = f1 < f2 ? x1 : x2;
-  if (Es[kmin] < Ebest) { /* cannot happen for a unimodal E; keep the best value seen */
-    Ebest = Es[kmin];
-    *lbest = l0 + kmin * hs;
-  }
-  return Ebest;
+  *lbest = x;
+  return fx;
 }
 
 ew_status ew_exciton_binding_ws(ew_exciton_ws *ws, const ew_grid *g, const double *psi_e,
