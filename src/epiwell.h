@@ -177,6 +177,11 @@ EW_API double ew_result_grid_step_nm(const ew_result *res);
 EW_API size_t ew_result_band_count(const ew_result *res, ew_band band);
 /* upper end of the bound-state window of a band (absolute eV) */
 EW_API double ew_result_window_eV(const ew_result *res, ew_band band);
+/* How far state i lies below the top of its band's bound window (the lower outer barrier
+ * edge; in a field the rule of bound.c), eV, positive for a bound state: window − E for
+ * electrons, E − window for holes (the window's valence edge).  A bound-to-quasi-bound
+ * design reads it off e2.  NaN for a bad index. */
+EW_API double ew_result_state_below_top_eV(const ew_result *res, size_t i);
 /* Warnings: what the model leaves out for this stack (indirect layers, dropped box states,
  * failed residual checks, strain beyond the critical thickness, …). */
 #define EW_WARNING_MAX 400

@@ -92,15 +92,16 @@ static void table_levels(const ew_result *r, FILE *out) {
   fprintf(out, "\nBound levels (%zu e, %zu hh, %zu lh; count certified by inertia; error_meV is "
           "the numerical error only, not the design uncertainty: see `epiwell tolerance`)\n",
           r->band_count[0], r->band_count[1], r->band_count[2]);
-  fprintf(out, "  %-6s %12s %11s %11s  %-*s %6s %8s\n", "state", "energy_eV", "depth_meV",
-          "error_meV", wn, "mostly in", "prob", "m_inpl");
+  fprintf(out, "  %-6s %12s %11s %11s  %-*s %6s %8s %13s\n", "state", "energy_eV", "depth_meV",
+          "error_meV", wn, "mostly in", "prob", "m_inpl", "below_top_meV");
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *s = st_of(r, i);
     char e[24] = "n/a";
     if (s->error_eV >= 0) snprintf(e, sizeof e, "%.2e", s->error_eV * 1e3);
-    fprintf(out, "  %-6s %12.6f %11.3f %11s  %-*s %6.3f %8.4f%s\n", s->label, s->energy_eV,
-            s->depth_eV * 1e3, e, wn, st->layers[s->layer].name, s->layer_probability,
-            s->inplane_mass, s->flagged ? "  RESIDUAL CHECK FAILED" : "");
+    fprintf(out, "  %-6s %12.6f %11.3f %11s  %-*s %6.3f %8.4f %13.3f%s\n", s->label,
+            s->energy_eV, s->depth_eV * 1e3, e, wn, st->layers[s->layer].name,
+            s->layer_probability, s->inplane_mass, ew_result_state_below_top_eV(r, i) * 1e3,
+            s->flagged ? "  RESIDUAL CHECK FAILED" : "");
   }
   if (r->n_states == 0)
     fprintf(out, "  (none: no band binds a state below the edges of its outer layers)\n");
@@ -297,6 +298,7 @@ static void json_states(ew_json *j, const ew_result *r) {
     ew_json_key_num(j, "residual", s->residual);
     ew_json_key_bool(j, "flagged", s->flagged);
     ew_json_key_num(j, "inplane_mass_m0", s->inplane_mass);
+    ew_json_key_num(j, "below_top_eV", ew_result_state_below_top_eV(r, i));
     if (r->sp) ew_json_key_num(j, "sheet_density_cm2", r->sp->sheet_cm2[i]);
     else ew_json_key_null(j, "sheet_density_cm2");
     ew_json_end_object(j);
@@ -424,7 +426,8 @@ static void write_profile(const ew_result *r, ew_csv *c) {
 static void write_levels(const ew_result *r, ew_csv *c) {
   static const char *const cols[] = {"label", "band", "n", "energy_eV", "error_eV", "edge_eV",
                                      "depth_eV", "layer", "layer_probability", "residual",
-                                     "flagged", "sheet_density_cm2", "inplane_mass_m0"};
+                                     "flagged", "sheet_density_cm2", "inplane_mass_m0",
+                                     "below_top_eV"};
   ew_csv_header(c, sizeof cols / sizeof cols[0], cols);
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *q = st_of(r, i);
@@ -442,6 +445,7 @@ static void write_levels(const ew_result *r, ew_csv *c) {
     if (r->sp) ew_csv_format(c, "%.6e", r->sp->sheet_cm2[i]);
     else ew_csv_empty(c);
     ew_csv_format(c, "%.6f", q->inplane_mass);
+    ew_csv_format(c, "%.10f", ew_result_state_below_top_eV(r, i));
     ew_csv_end_row(c);
   }
 }

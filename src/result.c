@@ -59,6 +59,14 @@ double ew_result_window_eV(const ew_result *r, ew_band b) {
   return r && BAND_OK(b) ? r->window_eV[b] : NAN;
 }
 
+double ew_result_state_below_top_eV(const ew_result *r, size_t i) {
+  if (!r || i >= r->n_states) return NAN;
+  const ew_state *s = &r->states[i];
+  if (!BAND_OK(s->band)) return NAN;
+  double w = r->window_eV[s->band];
+  return s->band == EW_BAND_E ? w - s->energy_eV : s->energy_eV - w;
+}
+
 static int warn_v(ew_result *r, const char *code, const char *fmt, va_list ap) {
   size_t n = r->n_warnings + 1;
   char (*w)[EW_WARNING_MAX] = realloc(r->warnings, n * sizeof *w);

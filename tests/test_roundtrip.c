@@ -237,6 +237,11 @@ static void check_json(const spec *s) {
     const rj *fl = rj_get(o, "flagged");
     assert_true(fl && fl->t == RJ_BOOL && (int)fl->num == q->flagged);
     RT_JSON(o, "inplane_mass_m0", q->inplane_mass, what);
+    /* distance below the window top, from the window and the energy (README "Output") */
+    double w = ew_result_window_eV(r, q->band);
+    double below = q->band == EW_BAND_E ? w - q->energy_eV : q->energy_eV - w;
+    if (!(below > 0)) fail_msg("%s: bound state %g eV not below its window %g", what, q->energy_eV, w);
+    RT_JSON(o, "below_top_eV", below, what);
     RT_JSON(o, "sheet_density_cm2", sc ? ew_result_state_sheet_density_cm2(r, i) : NAN, what);
   }
   const rj *tr = rj_get(&doc, "transitions");
@@ -375,7 +380,7 @@ static void check_levels(const spec *s, const ew_result *r, const char *dir) {
   assert_int_equal(csv_open(dir, "levels.csv", &c,
                             "label,band,n,energy_eV,error_eV,edge_eV,depth_eV,layer,"
                             "layer_probability,residual,flagged,sheet_density_cm2,"
-                            "inplane_mass_m0"), 0);
+                            "inplane_mass_m0,below_top_eV"), 0);
   assert_int_equal(c.nrows, ew_result_state_count(r));
   int sc = !isnan(ew_result_fermi_energy_eV(r));
   for (size_t i = 0; i < c.nrows; i++) {
@@ -396,6 +401,9 @@ static void check_levels(const spec *s, const ew_result *r, const char *dir) {
     RT_SAME(CSVNUM(&c, i, "sheet_density_cm2"), sd, rt_tol_sig(sd, 7), "sheet_density_cm2");
     RT_SAME(CSVNUM(&c, i, "inplane_mass_m0"), q->inplane_mass, rt_tol_fix(q->inplane_mass, 6),
             "inplane_mass_m0");
+    double w = ew_result_window_eV(r, q->band);
+    double below = q->band == EW_BAND_E ? w - q->energy_eV : q->energy_eV - w;
+    RT_SAME(CSVNUM(&c, i, "below_top_eV"), below, rt_tol_fix(below, 10), "below_top_eV");
   }
   rcsv_free(&c);
 }

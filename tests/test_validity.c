@@ -454,6 +454,16 @@ static void plain_well_has_none(void **state) {
   free(text);
   for (size_t i = 0; i < ew_result_warning_count(s.r); i++)
     fail_msg("unexpected warning [%s] %s", ew_result_warning_code(s.r, i), ew_result_warning(s.r, i));
+  /* each level's distance below the barrier top: in a symmetric unbiased well the top is the
+     barrier's edge at the outer face (node 0) */
+  for (size_t i = 0; i < ew_result_state_count(s.r); i++) {
+    const ew_state *q = ew_result_state(s.r, i);
+    double edge = ew_result_edge_eV(s.r, q->band)[0];
+    double want = q->band == EW_BAND_E ? edge - q->energy_eV : q->energy_eV - edge;
+    if (!(fabs(ew_result_state_below_top_eV(s.r, i) - want) < 1e-12))
+      fail_msg("%s: below_top %.12g, barrier edge gives %.12g", q->label,
+               ew_result_state_below_top_eV(s.r, i), want);
+  }
   solved_free(&s);
 }
 
