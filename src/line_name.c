@@ -62,12 +62,31 @@ ew_status ew_wf_line_energy(const ew_result *res, const char *line_in, double *e
   size_t len = strlen(line);
   int pl = len > 3 && !strcmp(line + len - 3, ":pl");
   if (pl) line[len - 3] = '\0';
-  if (!parse_line(line, &a, &b, &ib) || (pl && !ib))
+  /* "e1-e2:depol": the intersubband line with its depolarisation shift (doped stacks; the
+     bare line where no carriers shift it) */
+  int depol = len > 6 && !strcmp(line + len - 6, ":depol");
+  if (depol) line[len - 6] = '\0';
+  if (!parse_line(line, &a, &b, &ib) || (pl && !ib) || (depol && ib))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--line '%s': a line is two levels joined by '-', "
                    "of one band (intersubband, e.g. e1-e2, hh1-hh2) or an electron and a hole "
                    "level (interband, e.g. e1-hh1, e1-lh1); an interband line with ':pl' "
-                   "(e1-hh1:pl) is its photoluminescence peak, exciton included", line_in);
+                   "(e1-hh1:pl) is its photoluminescence peak, exciton included; an "
+                   "intersubband line with ':depol' (e1-e2:depol) its depolarisation-shifted "
+                   "absorption line", line_in);
   if (!res) return EW_OK;
+  if (depol) {
+    size_t ia = ew_wf_level_index(res, a.band, a.n), ib2 = ew_wf_level_index(res, b.band, b.n);
+    if (ia == SIZE_MAX || ib2 == SIZE_MAX) return EW_OK;
+    for (size_t i = 0; i < res->n_lines; i++) {
+      const ew_line *l = &res->lines[i];
+      if (l->kind != EW_LINE_INTERSUBBAND || !((l->upper == ia && l->lower == ib2) ||
+                                               (l->upper == ib2 && l->lower == ia)))
+        continue;
+      double d = res->sp ? res->sp->depol_eV[i] : 0.0;
+      *energy_eV = l->energy_eV + (isfinite(d) ? d : 0.0);
+    }
+    return EW_OK;
+  }
   if (pl) {
     const ew_wf_level *e = a.band == EW_BAND_E ? &a : &b, *h = a.band == EW_BAND_E ? &b : &a;
     size_t ie = ew_wf_level_index(res, e->band, e->n), ih = ew_wf_level_index(res, h->band, h->n);
