@@ -1181,23 +1181,6 @@ static int text_is_blank(const char *text) {
   return 1;
 }
 
-/* robustness: libconfig 1.5 honours '@include "FILE"' at the start of a line and offers no
- * way to turn it off.  An include reads any file, bypasses the size and NUL checks of
- * ew_stack_read_file, dates its errors with the wrong file, and blocks forever on a FIFO or
- * a terminal.  Stack files are self-contained, so refuse the directive: returns the
- * 1-based line of the first line that is blanks then "@include", 0 when there is none. */
-static int include_line(const char *text) {
-  int line = 1;
-  for (const char *p = text; *p; line++) {
-    while (*p == ' ' || *p == '\t' || *p == '\r' || *p == '\f' || *p == '\v') p++;
-    if (strncmp(p, "@include", 8) == 0) return line;
-    p = strchr(p, '\n');
-    if (!p) break;
-    p++;
-  }
-  return 0;
-}
-
 /* The reader's keys for a group of a parsed tree, found from where the group sits; NULL when
  * the group is not one the reader gives a fixed set of keys. */
 static const char *const *keys_of_group(const config_setting_t *g, size_t *n) {
@@ -1413,7 +1396,7 @@ static ew_status read_text(const char *text, const char *name, const ew_catalogu
   ew_status st;
   /* a UTF-8 byte-order mark (written by common Windows editors) is not part of the text */
   if (!strncmp(text, "\xEF\xBB\xBF", 3)) text += 3;
-  int inc = include_line(text); /* robustness: see include_line */
+  int inc = ew_text_include_line(text); /* robustness: see text.h */
   if (inc > 0) {
     st = ew_fail(err, EW_ERR_INPUT, name, inc, "'@include' is not supported in stack files: "
                  "put every setting in the one file");

@@ -167,3 +167,15 @@ void ew_text_escape(const char *s, char *out, size_t size) {
   }
   out[used] = '\0';
 }
+
+int ew_text_include_line(const char *text) {
+  int line = 1;
+  for (const char *p = text; *p; line++) {
+    while (*p == ' ' || *p == '\t' || *p == '\r' || *p == '\f' || *p == '\v') p++;
+    if (strncmp(p, "@include", 8) == 0) return line;
+    p = strchr(p, '\n');
+    if (!p) break;
+    p++;
+  }
+  return 0;
+}

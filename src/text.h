@@ -56,6 +56,14 @@ long ew_text_check(const char *s, char *why, size_t size);
  * most size bytes (truncating, NUL-terminated). */
 void ew_text_escape(const char *s, char *out, size_t size);
 
+/* robustness: libconfig 1.5 honours '@include "FILE"' at the start of a line and offers no
+ * way to turn it off.  An include reads any file, bypasses the size and NUL checks of the
+ * readers, dates its errors with the wrong file, and blocks forever on a FIFO or a terminal.
+ * Stack files and catalogue files are self-contained, so both readers refuse the directive:
+ * returns the 1-based line of the first line that is blanks then "@include", 0 when there is
+ * none. */
+int ew_text_include_line(const char *text);
+
 /* Characters (UTF-8 code points) in s, for aligning columns that hold "Å" or "Γ". */
 int ew_text_codepoints(const char *s);
 
