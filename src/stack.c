@@ -34,7 +34,7 @@
 #define MAX_TEMPERATURE_K 1500.0
 #define MAX_GRID_STEP_NM 1.0
 #define MAX_NODES EW_GRID_MAX_NODES
-#define BYTES_PER_NODE_PER_BAND 200.0 /* solver's rough footprint: matrix, LU fill, vectors */
+#define BYTES_PER_NODE_PER_BAND EW_GRID_BYTES_PER_NODE_BAND /* measured: grid.h */
 #define DEFAULT_TEMPERATURE_K 300.0
 /* Stack files are a few hundred bytes; anything this big is not one. */
 #define MAX_FILE_BYTES (16L * 1024 * 1024)
@@ -1154,9 +1154,10 @@ static ew_status check_grid_size(reader *r, const ew_stack *s, int lg) {
   if (nodes <= MAX_NODES) return EW_OK;
   double gb = nodes * BYTES_PER_NODE_PER_BAND * EW_BAND_COUNT / 1e9;
   return fail(r, lg, "grid_step = %g nm over %g nm gives about %.3g grid nodes (limit %g); "
-              "that would need roughly %.3g GB (about %g bytes per node per band, %d bands). "
-              "Use a larger grid_step", s->grid_step_nm, s->total_nm, nodes, MAX_NODES, gb,
-              BYTES_PER_NODE_PER_BAND, (int)EW_BAND_COUNT);
+              "that would need at least %.3g GB (about %g bytes per node per band, %d bands, "
+              "plus %g bytes per node for every bound state). Use a larger grid_step",
+              s->grid_step_nm, s->total_nm, nodes, MAX_NODES, gb, BYTES_PER_NODE_PER_BAND,
+              (int)EW_BAND_COUNT, EW_GRID_BYTES_PER_NODE_STATE);
 }
 
 static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) {
