@@ -225,6 +225,13 @@ static const char *fuzz_check_one(const uint8_t *data, size_t size, const ew_cat
              !isfinite(L->bands.Ev_lh_eV) || !(L->bands.me > 0) || !(L->bands.mhh_z > 0) ||
              !(L->bands.mlh_z > 0))
       bad = "accepted layer with non-finite edges or non-positive masses";
+    /* issue 18: the limits of README "Robustness" hold for the resolved layer (a user
+       alloy's bowing gave 2.5e307 m0): edges within 10 eV, masses in [1e-3, 100] m0 */
+    else if (fabs(L->bands.Ec_eV) > 10 || fabs(L->bands.Ev_hh_eV) > 10 || L->bands.me < 1e-3 ||
+             L->bands.me > 100 || L->bands.mhh_z > 100 || L->bands.mlh_z > 100 ||
+             L->bands.mhh_z < 1e-3 || L->bands.mlh_z < 1e-3 ||
+             !(L->bands.eps_r == 0 || (L->bands.eps_r >= 1 && L->bands.eps_r <= 100)))
+      bad = "accepted layer with parameters beyond the documented limits";
   }
   if (bad || st->total_nm > FUZZ_MAX_TOTAL_NM || st->n_layers > FUZZ_MAX_LAYERS) {
     ew_stack_free(st);

@@ -181,6 +181,38 @@ static void messages_escape_control_bytes(void **state) {
   assert_int_equal(err.line, 7);
 }
 
+/* The file name is the one text of the terminal table the reader does not refuse (a file
+ * can be named with an escape sequence): the table writes it with \xNN, the JSON with
+ * \u001b (RFC 8259 section 7), and no ESC byte reaches either. */
+static void file_name_escaped_in_table_and_json(void **state) {
+  (void)state;
+  ew_stack *st = NULL;
+  ew_error err = {0};
+  assert_int_equal(ew_stack_read_string("layers = (\n { material = \"AlGaAs\"; x = 0.3; thickness = 10.0; },\n"
+                                        " { material = \"GaAs\"; thickness = 6.0; },\n"
+                                        " { material = \"AlGaAs\"; x = 0.3; thickness = 10.0; } );\n",
+                                        "a\x1b[2Jb.cfg", cat, &st, &err),
+                   EW_OK);
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.grid_step_nm = 0.1;
+  ew_result *res = NULL;
+  assert_int_equal(ew_solve(st, &opt, &res, &err), EW_OK);
+  for (int json = 0; json < 2; json++) {
+    char *buf = NULL;
+    size_t len = 0;
+    FILE *f = open_memstream(&buf, &len);
+    assert_int_equal(json ? ew_result_write_json(res, f, &err) : ew_result_write_table(res, f, &err),
+                     EW_OK);
+    fclose(f);
+    assert_null(memchr(buf, 0x1b, len));
+    assert_non_null(strstr(buf, json ? "a\\u001b[2Jb.cfg" : "a\\x1B[2Jb.cfg"));
+    free(buf);
+  }
+  ew_result_free(res);
+  ew_stack_free(st);
+}
+
 /* §3: a user alloy's bowing cannot take the resolved parameters past the user-material
  * limits (issue 18: me bowing gave 2.5e307 m0 and 219 "bound" levels), nor can eps_static.
  * At x = 0.5 the bowing term is x (1 - x) C = C / 4 (the reader's Vegard-with-bowing rule). */
@@ -403,6 +435,7 @@ int main(void) {
       cmocka_unit_test(every_name_field_checked),
       cmocka_unit_test(valid_utf8_names_kept),
       cmocka_unit_test(messages_escape_control_bytes),
+      cmocka_unit_test(file_name_escaped_in_table_and_json),
       cmocka_unit_test(resolved_parameters_limited),
       cmocka_unit_test(catalogue_values_range_checked),
       cmocka_unit_test(catalogue_text_checked),
