@@ -887,10 +887,11 @@ static ew_status read_layers(reader *r, const config_setting_t *root, ew_stack *
   if (n == 0) return fail(r, line_of(list), "'layers' is empty: the stack needs at least one layer");
 
   s->layers = calloc((size_t)n, sizeof *s->layers);
-  name_set names;
-  if (!s->layers || name_set_init(&names, (size_t)n))
-    return free(s->layers), s->layers = NULL,
-           ew_fail(r->err, EW_ERR_NOMEM, r->path, 0, "out of memory");
+  name_set names = {NULL, 0};
+  if (!s->layers || name_set_init(&names, (size_t)n)) {
+    free(names.slot);
+    return ew_fail(r->err, EW_ERR_NOMEM, r->path, 0, "out of memory");
+  }
   ew_status st = EW_OK;
   double z = 0;
   for (int i = 0; i < n && !st; i++) {
