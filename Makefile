@@ -137,8 +137,9 @@ clean:
 	rm -rf build
 
 # ---- robustness: `make fuzz` and `make valgrind` (tests/fuzz_stack.c, tests/valgrind.supp) ----
-# fuzz: libFuzzer over ew_stack_read_string + ew_solve (coarse grid), built with clang under
-# ASan/UBSan in build/fuzz/.  Seeds: tests/fuzz/corpus (curated, replayed by `make check`
+# fuzz: libFuzzer over ew_stack_read_string + ew_solve (coarse grid) + every writer and the
+# library's option parsers (tests/fuzz_stack.c), built with clang under ASan/UBSan in
+# build/fuzz/; the writers' files go to a private directory under $TMPDIR (or /tmp).  Seeds: tests/fuzz/corpus (curated, replayed by `make check`
 # through tests/test_robust.c); new corpus entries go to build/fuzz/corpus; a crash is written
 # to tests/fuzz/regressions/ — keep it there, it becomes a regression test.
 FUZZ_CC    ?= clang

@@ -3,19 +3,27 @@
 #include <math.h>
 
 #include "canvas.h"
+#include "text.h"
 
 static FILE *out_of(ew_canvas *cv) { return cv->impl; }
 
+/* The readers refuse names that are not printable UTF-8 (text.h); as a second line, a byte
+ * XML 1.0 does not allow (C0 controls) is dropped and invalid UTF-8 becomes U+FFFD, so the
+ * file always parses. */
 static void svg_escaped(FILE *f, const char *s) {
-  for (; *s; s++) {
+  while (*s) {
+    int n = ew_utf8_len(s);
     switch (*s) {
     case '&': fputs("&amp;", f); break;
     case '<': fputs("&lt;", f); break;
     case '>': fputs("&gt;", f); break;
     case '"': fputs("&quot;", f); break;
     case '\'': fputs("&#39;", f); break;
-    default: fputc(*s, f);
+    default:
+      if (n == 0) fputs("\xEF\xBF\xBD", f), n = 1;
+      else if (n > 1 || (unsigned char)*s >= 0x20) fwrite(s, 1, (size_t)n, f);
     }
+    s += n;
   }
 }
 

@@ -9,12 +9,14 @@
 #include "catalogue.h"
 
 #include "error.h"
+#include "plausible.h"
 #include "text.h"
 
 #include <ctype.h>
 #include <dirent.h>
 #include <dlfcn.h>
 #include <errno.h>
+#include <fcntl.h>
 #include <libconfig.h>
 #include <math.h>
 #include <stdlib.h>
@@ -354,6 +356,17 @@ static int get_number(const config_setting_t *s, double *v) {
   }
 }
 
+/* Catalogue text reaches the table, `epiwell materials`, JSON, SVG and the report: the same
+ * rule as names in stack files (printable UTF-8, text.h). */
+static ew_status check_text(const char *t, const char *key, const char *path, int line,
+                            ew_error *err) {
+  char why[96];
+  long bad = ew_text_check(t, why, sizeof why);
+  if (bad < 0) return EW_OK;
+  return ew_fail(err, EW_ERR_CATALOGUE, path, line, "'%s': %s at byte %ld; catalogue text "
+                 "must be printable UTF-8", key, why, bad + 1);
+}
+
 /* A required or optional top-level string; returns EW_OK and *out = NULL when optional and
  * absent. */
 static ew_status get_string(const config_setting_t *root, const char *key, int required,
@@ -368,6 +381,8 @@ static ew_status get_string(const config_setting_t *root, const char *key, int r
   const char *t = config_setting_get_string(s);
   if (!t) return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s), "'%s' must be a string", key);
   if (!t[0]) return ew_fail(err, EW_ERR_CATALOGUE, path, line_of(s), "'%s' is empty", key);
+  ew_status st = check_text(t, key, path, line_of(s), err);
+  if (st) return st;
   *out = dup_str(t);
   if (!*out) return ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
   return EW_OK;
@@ -399,6 +414,8 @@ static ew_status read_param_fields(const config_setting_t *ps, const char *key, 
       if (!t || !t[0])
         return ew_fail(err, EW_ERR_CATALOGUE, path, fl, "%s.source must be a non-empty string",
                        key);
+      ew_status st = check_text(t, "source", path, fl, err);
+      if (st) return st;
       e->source[p] = dup_str(t);
       if (!e->source[p]) return ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
     } else {
@@ -408,6 +425,25 @@ static ew_status read_param_fields(const config_setting_t *ps, const char *key, 
     }
   }
   return EW_OK;
+}
+
+/* issue 18: a binary's value within the plausibility range of its parameter (plausible.c);
+ * an alloy's bowing C(x) = C0 + C1 x no wider than that range at x = 0 and 1 (a bowing
+ * enters as x (1 - x) C, at most C/4).  Blamed on the value's line, exit 3. */
+static ew_status check_range(const ew_cat_entry *e, ew_param p, int bowing, const char *path,
+                             int line, ew_error *err) {
+  double lo, hi;
+  ew_param_range(p, &lo, &hi);
+  const char *key = param_keys[p], *unit = param_units[p];
+  if (!bowing) {
+    if (e->v[p] >= lo && e->v[p] <= hi) return EW_OK;
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line, "%s = %g %s is outside the plausible "
+                   "range [%g, %g] %s", key, e->v[p], unit, lo, hi, unit);
+  }
+  double w = hi - lo, c0 = e->v[p], c1 = c0 + e->per_x[p];
+  if (fabs(c0) <= w && fabs(c1) <= w) return EW_OK;
+  return ew_fail(err, EW_ERR_CATALOGUE, path, line, "bowing of %s (%g at x = 0, %g at x = 1) "
+                 "is beyond +-%g %s, the width of its plausible range", key, c0, c1, w, unit);
 }
 
 /* Read the group "params" (binary, bowing = 0) or "bowing" (alloy, bowing = 1). */
@@ -452,6 +488,7 @@ static ew_status read_params(const config_setting_t *grp, int bowing, const char
                      "%s has no source (every value must say where it comes from)", key);
     e->have[p] = 1;
     e->line[p] = ln;
+    if ((st = check_range(e, (ew_param)p, bowing, path, ln, err))) return st;
   }
   return EW_OK;
 }
@@ -597,6 +634,8 @@ static ew_status read_corners(const config_setting_t *root, const char *path,
     if (!t || !t[0])
       return ew_fail(err, EW_ERR_CATALOGUE, path, e->corners_line,
                      "binaries[%d] must be a material name", k);
+    st = check_text(t, "binaries", path, e->corners_line, err);
+    if (st) return st;
     if (!(e->corner[k] = dup_str(t))) return ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
   }
   return EW_OK;
@@ -665,22 +704,76 @@ static ew_status read_entry(const config_setting_t *root, const char *path, ew_c
   return read_binary(root, path, e, err);
 }
 
+/* The largest catalogue file is about 7 kB; a file this big is not one (and libconfig's
+ * string scanner is quadratic: a 4 MB string took 7 s). */
+#define MAX_CATALOGUE_BYTES (1L << 20)
+
+/* The whole of a regular file into *buf (NUL-terminated, owned by the caller even on
+ * failure), with the stack reader's safeguards (issue 18): a FIFO, device or directory named
+ * *.cfg is refused without blocking (O_NONBLOCK, then fstat), the size is capped, a NUL byte
+ * is binary data.  Read here rather than by config_read_file, which honours none of it. */
+static ew_status read_bytes(const char *path, char **buf, ew_error *err) {
+  *buf = NULL;
+  int fd = open(path, O_RDONLY | O_NONBLOCK | O_NOCTTY | O_CLOEXEC);
+  if (fd < 0)
+    return ew_fail(err, EW_ERR_CATALOGUE, path, 0, "cannot read catalogue file: %s",
+                   strerror(errno));
+  struct stat sb;
+  ew_status st = EW_OK;
+  if (fstat(fd, &sb) != 0 || !S_ISREG(sb.st_mode))
+    st = ew_fail(err, EW_ERR_CATALOGUE, path, 0, "not a regular file (a FIFO, device or "
+                 "directory named *.cfg is not a catalogue file)");
+  else if (sb.st_size > MAX_CATALOGUE_BYTES)
+    st = ew_fail(err, EW_ERR_CATALOGUE, path, 0, "file is larger than %ld bytes; not a "
+                 "catalogue file", MAX_CATALOGUE_BYTES);
+  else if (!(*buf = malloc((size_t)sb.st_size + 1)))
+    st = ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
+  size_t len = 0;
+  while (!st && len < (size_t)sb.st_size) {
+    ssize_t got = read(fd, *buf + len, (size_t)sb.st_size - len);
+    if (got < 0 && errno == EINTR) continue;
+    if (got < 0)
+      st = ew_fail(err, EW_ERR_CATALOGUE, path, 0, "cannot read catalogue file: %s",
+                   strerror(errno));
+    if (got <= 0) break; /* shrank while read: what was there */
+    len += (size_t)got;
+  }
+  close(fd);
+  if (st) return st;
+  (*buf)[len] = '\0';
+  const char *nul = memchr(*buf, '\0', len);
+  if (nul) {
+    int line = 1;
+    for (const char *p = *buf; p < nul; p++) line += *p == '\n';
+    return ew_fail(err, EW_ERR_CATALOGUE, path, line, "binary data (NUL byte at offset %ld): "
+                   "not a text catalogue file", (long)(nul - *buf));
+  }
+  return EW_OK;
+}
+
 static ew_status read_file(const char *path, ew_cat_entry *e, ew_error *err) {
+  char *text = NULL;
+  ew_status st = read_bytes(path, &text, err);
+  if (st) {
+    free(text);
+    return st;
+  }
   config_t cfg;
   config_init(&cfg);
-  ew_status st;
-  if (!config_read_file(&cfg, path)) {
-    if (config_error_type(&cfg) == CONFIG_ERR_FILE_IO)
-      st = ew_fail(err, EW_ERR_CATALOGUE, path, 0, "cannot read catalogue file");
-    else
-      st = ew_fail(err, EW_ERR_CATALOGUE, path, config_error_line(&cfg), "syntax error: %s",
-                   config_error_text(&cfg) ? config_error_text(&cfg) : "?");
+  int inc = ew_text_include_line(text);
+  if (inc > 0) {
+    st = ew_fail(err, EW_ERR_CATALOGUE, path, inc, "'@include' is not supported in catalogue "
+                 "files: every material is one self-contained file");
+  } else if (!config_read_string(&cfg, text)) {
+    st = ew_fail(err, EW_ERR_CATALOGUE, path, config_error_line(&cfg), "syntax error: %s",
+                 config_error_text(&cfg) ? config_error_text(&cfg) : "?");
   } else if (!(e->path = dup_str(path))) {
     st = ew_fail(err, EW_ERR_NOMEM, path, 0, "out of memory");
   } else {
     st = read_entry(config_root_setting(&cfg), path, e, err);
   }
   config_destroy(&cfg);
+  free(text);
   return st;
 }
 

@@ -5,16 +5,23 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "text.h"
+
 ew_status ew_fail(ew_error *err, ew_status code, const char *file, int line, const char *fmt,
                   ...) {
   if (!err) return code;
   err->code = code;
   err->line = line;
-  snprintf(err->file, sizeof err->file, "%s", file ? file : "");
+  /* a message may quote input (a name, a piece of a line): control characters and invalid
+   * UTF-8 are written as \xNN so that printing it cannot drive the user's terminal */
+  char raw[sizeof err->message];
+  snprintf(raw, sizeof raw, "%s", file ? file : ""); /* file may be err->file itself */
+  ew_text_escape(raw, err->file, sizeof err->file);
   va_list ap;
   va_start(ap, fmt);
-  vsnprintf(err->message, sizeof err->message, fmt, ap);
+  vsnprintf(raw, sizeof raw, fmt, ap);
   va_end(ap);
+  ew_text_escape(raw, err->message, sizeof err->message);
   return code;
 }
 

@@ -15,8 +15,15 @@
 #include "stack.h"
 
 /* Largest grid, in nodes (total thickness / step), a solve accepts: every node costs about
- * 200 bytes per band (vectors, pencils, factorisations), so 5e6 nodes are ~3 GB. */
+ * 200 bytes per band (vectors, pencils, factorisations), so 5e6 nodes are ~3 GB, plus the
+ * states' vectors (fine and coarse grid, the lines' work): 16 bytes per node per bound state.
+ * Measured (peak RSS of `epiwell solve`, 2026-12-02): a 6 nm well in 2 x 400 nm barriers,
+ * 7 states, 0.81 M nodes 497 MB and 1.61 M nodes 988 MB (610 bytes per node); the
+ * 100-period superlattice of `make bench`, 435 states, 0.1 M nodes 766 MB (16.1 bytes per
+ * node per state beyond those 610). */
 #define EW_GRID_MAX_NODES 5e6
+#define EW_GRID_BYTES_PER_NODE_BAND 200.0
+#define EW_GRID_BYTES_PER_NODE_STATE 16.0
 
 typedef struct {
   size_t n;          /* number of nodes (unknowns) */

@@ -197,14 +197,19 @@ static ew_pencil *pencil_at(const np_ctx *c, double E, double *M) {
 }
 
 /* λ_idx(H(E)) − E; *ok becomes 0 when the eigenvalue is not found, −1 when out of memory */
+/* g(E) = λ_idx(H(E)) − E; *tol (when not NULL) receives the step below which the fixed point
+ * counts as reached: NP_TOL_EV, or the eigenvalue's own resolution 16 ε ‖T‖ (eigen.c) when that
+ * is larger.  Near the node limit (h ≈ 2e-4 nm, ‖T‖ ≈ 4K/(m h²) ≈ 1e8 eV) λ is only known to
+ * ~3e-7 eV and steps of 1e-9 eV are noise: the iteration "did not converge" (exit 6, issue 18). */
 static double gap_fn(const np_ctx *c, double E, size_t idx, double *M, size_t *counts,
-                     int *ok) {
+                     int *ok, double *tol) {
   ew_pencil *p = pencil_at(c, E, M);
   if (!p) {
     *ok = -1;
     return 0.0;
   }
   double lam = ew_eigen_index(p, idx, E, 1e-13, counts);
+  if (tol) *tol = fmax(NP_TOL_EV, 16.0 * DBL_EPSILON * p->std_norm);
   ew_pencil_free(p);
   if (!isfinite(lam)) *ok = 0;
   return lam - E;
@@ -218,15 +223,16 @@ static double gap_fn(const np_ctx *c, double E, size_t idx, double *M, size_t *c
 static int fixed_point(const np_ctx *c, size_t idx, double start, double *M, size_t *counts,
                        double *E_out, double *last_step, double *slope) {
   int ok = 1;
-  double E0 = start, g0 = gap_fn(c, E0, idx, M, counts, &ok);
+  double tol = NP_TOL_EV;
+  double E0 = start, g0 = gap_fn(c, E0, idx, M, counts, &ok, &tol);
   double s0 = *slope < 0 ? *slope : -1.0;
   double E1 = E0 - g0 / s0, g1 = 0.0;
   *last_step = fabs(g0);
   *E_out = E1;
   if (ok != 1) return ok < 0 ? -1 : 1;
-  if (fabs(g0) < NP_TOL_EV) return 0;
+  if (fabs(g0) < tol) return 0;
   for (int it = 0; it < NP_MAX_IT; it++) {
-    g1 = gap_fn(c, E1, idx, M, counts, &ok);
+    g1 = gap_fn(c, E1, idx, M, counts, &ok, NULL);
     if (ok != 1) return ok < 0 ? -1 : 1;
     if (E1 != E0 && g1 != g0) *slope = (g1 - g0) / (E1 - E0);
     double step = (g1 - g0) != 0.0 ? -g1 * (E1 - E0) / (g1 - g0) : g1;
@@ -234,7 +240,7 @@ static int fixed_point(const np_ctx *c, size_t idx, double start, double *M, siz
     E0 = E1, g0 = g1;
     E1 += step;
     *last_step = fabs(step);
-    if (fabs(step) < NP_TOL_EV) {
+    if (fabs(step) < tol) {
       *E_out = E1;
       return 0;
     }

@@ -13,6 +13,7 @@
 
 #include "atomic.h"
 #include "constants.h"
+#include "text.h"
 #include "csv_writer.h"
 #include "error.h"
 #include "json_writer.h"
@@ -35,7 +36,11 @@ static int name_width(const ew_stack *st, int material) {
 
 static void table_head(const ew_result *r, FILE *out) {
   const ew_stack *st = r->stack;
-  fprintf(out, "epiwell %s  %s  T = %g K  grid %.4g nm (%zu nodes)\n", EW_VERSION, st->path,
+  /* the file name is the one text of the table the reader does not check (a file named with
+   * an escape sequence): control bytes and invalid UTF-8 as \xNN, as in messages */
+  char path[4 * sizeof st->path];
+  ew_text_escape(st->path, path, sizeof path);
+  fprintf(out, "epiwell %s  %s  T = %g K  grid %.4g nm (%zu nodes)\n", EW_VERSION, path,
           st->temperature_K, r->step_nm, r->grid->n);
   fprintf(out, "model: %s", ew_result_model(r));
   if (st->field_kV_cm != 0.0) fprintf(out, "; field %g kV/cm along +z", st->field_kV_cm);

@@ -122,9 +122,11 @@ static ew_status check_step(const ew_stack *st, const ew_options *opt, double *s
   double nodes = st->total_nm / *step;
   if (nodes > EW_GRID_MAX_NODES)
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0,
-                   "grid of %.3g nodes (step %g nm over %g nm) is too large: it would need "
-                   "about %.1f GB",
-                   nodes, *step, st->total_nm, nodes * 200.0 * 3 / 1e9);
+                   "grid of %.3g nodes (step %g nm over %g nm) is too large (limit %g): it "
+                   "would need at least %.1f GB (plus %g bytes per node for every bound state)",
+                   nodes, *step, st->total_nm, EW_GRID_MAX_NODES,
+                   nodes * EW_GRID_BYTES_PER_NODE_BAND * EW_BAND_COUNT / 1e9,
+                   EW_GRID_BYTES_PER_NODE_STATE);
   return EW_OK;
 }
 
@@ -199,6 +201,14 @@ ew_status ew_schrodinger_pass(const ew_stack *st, const ew_options *optin, const
   if (rc == EW_OK && !pass_warnings(r)) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   band_pairs_free(&bp);
   ew_grid_free(coarse);
+  if (rc == EW_ERR_NOMEM) /* what it takes, measured (grid.h), so the user can size the step */
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "%s: a grid of %.0f nodes needs about %.2g GB "
+                 "plus %g bytes per node for every bound state (%.3g MB per state); use a "
+                 "larger grid step", err ? err->message : "out of memory",
+                 st->total_nm / step,
+                 st->total_nm / step * EW_GRID_BYTES_PER_NODE_BAND * EW_BAND_COUNT / 1e9,
+                 EW_GRID_BYTES_PER_NODE_STATE,
+                 st->total_nm / step * EW_GRID_BYTES_PER_NODE_STATE / 1e6);
   if (rc != EW_OK) {
     ew_result_free(r);
     return rc;

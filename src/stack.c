@@ -17,6 +17,7 @@
 
 #include "error.h"
 #include "grid.h" /* EW_GRID_MAX_NODES: the reader refuses a stack the grid cannot hold */
+#include "plausible.h"
 #include "text.h"
 
 /* Plausibility limits (see the header of this file for why they exist). */
@@ -26,14 +27,14 @@
  * 1e-12 nm layer silently gave reordered, wrong levels with tiny residuals. */
 #define MIN_LAYER_NM 0.01
 /* robustness: plausibility of user-defined materials (same reason, through 1/m and V) */
-#define MAX_ABS_EDGE_EV 10.0
-#define MIN_MASS_M0 1e-3
-#define MAX_MASS_M0 100.0
+#define MAX_ABS_EDGE_EV EW_PLAUSIBLE_EDGE_EV
+#define MIN_MASS_M0 EW_PLAUSIBLE_MASS_MIN
+#define MAX_MASS_M0 EW_PLAUSIBLE_MASS_MAX
 #define MAX_TOTAL_NM 20000.0
 #define MAX_TEMPERATURE_K 1500.0
 #define MAX_GRID_STEP_NM 1.0
 #define MAX_NODES EW_GRID_MAX_NODES
-#define BYTES_PER_NODE_PER_BAND 200.0 /* solver's rough footprint: matrix, LU fill, vectors */
+#define BYTES_PER_NODE_PER_BAND EW_GRID_BYTES_PER_NODE_BAND /* measured: grid.h */
 #define DEFAULT_TEMPERATURE_K 300.0
 /* Stack files are a few hundred bytes; anything this big is not one. */
 #define MAX_FILE_BYTES (16L * 1024 * 1024)
@@ -90,6 +91,8 @@ typedef struct {
   user_alloy *ualloy;
   size_t n_ualloy;
   double a_sub_nm; /* substrate lattice constant, 0 = unstrained */
+  const char **line_start; /* [n_lines]: where each line of text starts (int_is_exact) */
+  size_t n_lines;
 } reader;
 
 /* Formats the message once here so call sites stay one line each. */
@@ -157,12 +160,10 @@ static const char *type_word(const config_setting_t *s) {
  * (value on another line than its key), since then there is nothing better to compare. */
 static int int_is_exact(const reader *r, const char *key, int line, long long stored) {
   if (!r->text) return 1; /* values set in the tree after parsing are stored exactly */
-  const char *p = r->text;
-  for (int l = 1; l < line && p; l++) {
-    p = strchr(p, '\n');
-    if (p) p++;
-  }
-  if (!p) return 1;
+  /* the line from the index: scanning from the top for every integer made the reader
+   * quadratic in the number of layers (issue 18) */
+  if (line < 1 || (size_t)line > r->n_lines) return 1;
+  const char *p = r->line_start[line - 1];
   const char *end = strchr(p, '\n');
   if (!end) end = p + strlen(p);
   size_t klen = strlen(key);
@@ -236,6 +237,15 @@ static int get_name(const reader *r, const config_setting_t *group, const char *
   if (len >= EW_NAME_MAX) {
     fail(r, *line, "'%s' %s is too long (%zu characters, at most %d): \"%.24s...\"", key,
          where, len, EW_NAME_MAX - 1, v);
+    return -1;
+  }
+  /* issue 18: a name reaches the table, JSON, CSV, SVG and the report; an escape sequence
+   * would drive the user's terminal, invalid UTF-8 breaks the SVG and the JSON */
+  char why[96];
+  long bad = ew_text_check(v, why, sizeof why);
+  if (bad >= 0) {
+    fail(r, *line, "'%s' %s: %s at byte %ld; names must be printable UTF-8 text", key, where,
+         why, bad + 1);
     return -1;
   }
   memcpy(out, v, len + 1);
@@ -341,6 +351,9 @@ static ew_status read_user_material(reader *r, const config_setting_t *g, size_t
   if (ge < 0) return EW_ERR_INPUT;
   if (ge > 0 && eps <= 0)
     return fail(r, l, "material '%s': 'eps_static' = %g must be positive", m->name, eps);
+  if (ge > 0 && (eps < EW_PLAUSIBLE_EPS_MIN || eps > EW_PLAUSIBLE_EPS_MAX))
+    return fail(r, l, "material '%s': 'eps_static' = %g is outside [%g, %g]", m->name, eps,
+                EW_PLAUSIBLE_EPS_MIN, EW_PLAUSIBLE_EPS_MAX);
 
   ew_bands *b = &m->bands;
   b->Ec_eV = Ec;
@@ -759,6 +772,13 @@ static ew_status resolve_layer_bands(reader *r, ew_layer *L, double T, const lay
   if (st) /* keep the catalogue's code and words, but point at the layer that asked */
     return ew_fail(r->err, st, r->path, ll->line, "layer '%s' (%s): %s", L->name, L->material,
                    sub.message[0] ? sub.message : "band parameters unavailable");
+  /* issue 18: the limits of user materials hold for what a layer resolves to as well (a user
+   * alloy's bowing, the temperature, the strain could take it anywhere) */
+  char why[160];
+  for (int k = -1; k < (L->profile ? EW_GRADE_SAMPLES : 0); k++)
+    if (!ew_bands_plausible(k < 0 ? &L->bands : &L->profile[k], why, sizeof why))
+      return fail(r, ll->line, "layer '%s' (%s%s): %s", L->name, L->material,
+                  k < 0 ? "" : ", along its grade", why);
   if (!ll->got_ml) return EW_OK;
   /* one monolayer of [001] zincblende is half the lattice constant along the growth axis */
   if (!(L->bands.a_nm > 0))
@@ -825,6 +845,36 @@ static ew_status read_layer(reader *r, const config_setting_t *g, size_t index, 
   return resolve_layer_bands(r, L, T, &ll);
 }
 
+/* The layer names seen so far, hashed (FNV-1a, open addressing): the duplicate check is
+ * linear in the number of layers (issue 18: comparing each name with all earlier ones took
+ * minutes for 10^5 layers). */
+typedef struct {
+  size_t *slot; /* layer index + 1, 0 = empty */
+  size_t mask;
+} name_set;
+
+static int name_set_init(name_set *h, size_t n) {
+  size_t cap = 16;
+  while (cap < 2 * n) cap *= 2;
+  h->mask = cap - 1;
+  h->slot = calloc(cap, sizeof *h->slot);
+  return h->slot == NULL;
+}
+
+/* Adds layer i by its name; returns i, or the index of the earlier layer of the same name. */
+static size_t name_set_add(name_set *h, const ew_layer *layers, size_t i) {
+  size_t hash = 14695981039346656037u;
+  for (const unsigned char *p = (const unsigned char *)layers[i].name; *p; p++)
+    hash = (hash ^ *p) * 1099511628211u;
+  for (size_t k = hash & h->mask;; k = (k + 1) & h->mask) {
+    if (!h->slot[k]) {
+      h->slot[k] = i + 1;
+      return i;
+    }
+    if (!strcmp(layers[h->slot[k] - 1].name, layers[i].name)) return h->slot[k] - 1;
+  }
+}
+
 static ew_status read_layers(reader *r, const config_setting_t *root, ew_stack *s) {
   const config_setting_t *list = config_setting_get_member(root, "layers");
   if (!list)
@@ -837,27 +887,36 @@ static ew_status read_layers(reader *r, const config_setting_t *root, ew_stack *
   if (n == 0) return fail(r, line_of(list), "'layers' is empty: the stack needs at least one layer");
 
   s->layers = calloc((size_t)n, sizeof *s->layers);
-  if (!s->layers) return ew_fail(r->err, EW_ERR_NOMEM, r->path, 0, "out of memory");
+  name_set names = {NULL, 0};
+  if (!s->layers || name_set_init(&names, (size_t)n)) {
+    free(names.slot);
+    return ew_fail(r->err, EW_ERR_NOMEM, r->path, 0, "out of memory");
+  }
+  ew_status st = EW_OK;
   double z = 0;
-  for (int i = 0; i < n; i++) {
+  for (int i = 0; i < n && !st; i++) {
     ew_layer *L = &s->layers[i];
-    ew_status st = read_layer(r, config_setting_get_elem(list, (unsigned)i), (size_t)i, L,
-                              s->temperature_K);
-    if (st) return st;
+    st = read_layer(r, config_setting_get_elem(list, (unsigned)i), (size_t)i, L,
+                    s->temperature_K);
+    if (st) break;
     s->n_layers = (size_t)i + 1;
-    for (int j = 0; j < i; j++)
-      if (strcmp(s->layers[j].name, L->name) == 0)
-        return fail(r, L->line, "duplicate layer name '%s' (first used at line %d)%s", L->name,
-                    s->layers[j].line,
-                    config_setting_get_member(config_setting_get_elem(list, (unsigned)i), "name")
-                        ? ""
-                        : "; an unnamed layer gets its position as name");
+    size_t j = name_set_add(&names, s->layers, (size_t)i);
+    if (j != (size_t)i) {
+      st = fail(r, L->line, "duplicate layer name '%s' (first used at line %d)%s", L->name,
+                s->layers[j].line,
+                config_setting_get_member(config_setting_get_elem(list, (unsigned)i), "name")
+                    ? ""
+                    : "; an unnamed layer gets its position as name");
+      break;
+    }
     L->z_start_nm = z;
     z += L->thickness_nm;
     if (z > MAX_TOTAL_NM)
-      return fail(r, L->line, "total thickness reaches %g nm at layer '%s', above the %g nm "
-                  "limit", z, L->name, MAX_TOTAL_NM);
+      st = fail(r, L->line, "total thickness reaches %g nm at layer '%s', above the %g nm "
+                "limit", z, L->name, MAX_TOTAL_NM);
   }
+  free(names.slot);
+  if (st) return st;
   s->total_nm = z;
   for (size_t k = 0; k < s->n_layers; k++) {
     const ew_layer *L = &s->layers[k];
@@ -1096,9 +1155,10 @@ static ew_status check_grid_size(reader *r, const ew_stack *s, int lg) {
   if (nodes <= MAX_NODES) return EW_OK;
   double gb = nodes * BYTES_PER_NODE_PER_BAND * EW_BAND_COUNT / 1e9;
   return fail(r, lg, "grid_step = %g nm over %g nm gives about %.3g grid nodes (limit %g); "
-              "that would need roughly %.3g GB (about %g bytes per node per band, %d bands). "
-              "Use a larger grid_step", s->grid_step_nm, s->total_nm, nodes, MAX_NODES, gb,
-              BYTES_PER_NODE_PER_BAND, (int)EW_BAND_COUNT);
+              "that would need at least %.3g GB (about %g bytes per node per band, %d bands, "
+              "plus %g bytes per node for every bound state). Use a larger grid_step",
+              s->grid_step_nm, s->total_nm, nodes, MAX_NODES, gb, BYTES_PER_NODE_PER_BAND,
+              (int)EW_BAND_COUNT, EW_GRID_BYTES_PER_NODE_STATE);
 }
 
 static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) {
@@ -1121,23 +1181,6 @@ static int text_is_blank(const char *text) {
   for (const unsigned char *p = (const unsigned char *)text; *p; p++)
     if (!isspace(*p)) return 0;
   return 1;
-}
-
-/* robustness: libconfig 1.5 honours '@include "FILE"' at the start of a line and offers no
- * way to turn it off.  An include reads any file, bypasses the size and NUL checks of
- * ew_stack_read_file, dates its errors with the wrong file, and blocks forever on a FIFO or
- * a terminal.  Stack files are self-contained, so refuse the directive: returns the
- * 1-based line of the first line that is blanks then "@include", 0 when there is none. */
-static int include_line(const char *text) {
-  int line = 1;
-  for (const char *p = text; *p; line++) {
-    while (*p == ' ' || *p == '\t' || *p == '\r' || *p == '\f' || *p == '\v') p++;
-    if (strncmp(p, "@include", 8) == 0) return line;
-    p = strchr(p, '\n');
-    if (!p) break;
-    p++;
-  }
-  return 0;
 }
 
 /* The reader's keys for a group of a parsed tree, found from where the group sits; NULL when
@@ -1180,14 +1223,32 @@ ew_status ew_stack_check_key(const config_setting_t *group, const char *key, con
                  full_key, key, list);
 }
 
+/* r->line_start: the start of every line of r->text; nonzero when out of memory. */
+static int index_lines(reader *r) {
+  size_t n = 1;
+  for (const char *p = r->text; (p = strchr(p, '\n')) != NULL; p++) n++;
+  r->line_start = malloc(n * sizeof *r->line_start);
+  if (!r->line_start) return 1;
+  r->n_lines = 0;
+  for (const char *p = r->text;; p++) {
+    r->line_start[r->n_lines++] = p;
+    if (!(p = strchr(p, '\n'))) break;
+  }
+  return 0;
+}
+
 /* Build the stack from a parsed tree.  text, when not NULL, is the source the tree was parsed
  * from (to re-check integer literals, see int_is_exact); NULL when values were set in the tree
  * after parsing (stack editing), where every stored integer is exact. */
 static ew_status read_tree(const config_t *cfg, const char *text, const char *name,
                            const ew_catalogue *cat, ew_stack **out, ew_error *err) {
-  reader r = {name, text, cat, err, NULL, 0, NULL, 0, 0.0};
+  reader r = {name, text, cat, err, NULL, 0, NULL, 0, 0.0, NULL, 0};
+  if (text && index_lines(&r)) return ew_fail(err, EW_ERR_NOMEM, name, 0, "out of memory");
   ew_stack *s = calloc(1, sizeof *s);
-  if (!s) return ew_fail(err, EW_ERR_NOMEM, name, 0, "out of memory");
+  if (!s) {
+    free(r.line_start);
+    return ew_fail(err, EW_ERR_NOMEM, name, 0, "out of memory");
+  }
   size_t nl = strlen(name);
   if (nl >= sizeof s->path) nl = sizeof s->path - 1;
   memcpy(s->path, name, nl);
@@ -1202,6 +1263,7 @@ static ew_status read_tree(const config_t *cfg, const char *text, const char *na
     st = read_top(&r, root, s);
   free(r.umat);
   free(r.ualloy);
+  free(r.line_start);
   if (st) {
     ew_stack_free(s);
     return st;
@@ -1336,7 +1398,7 @@ static ew_status read_text(const char *text, const char *name, const ew_catalogu
   ew_status st;
   /* a UTF-8 byte-order mark (written by common Windows editors) is not part of the text */
   if (!strncmp(text, "\xEF\xBB\xBF", 3)) text += 3;
-  int inc = include_line(text); /* robustness: see include_line */
+  int inc = ew_text_include_line(text); /* robustness: see text.h */
   if (inc > 0) {
     st = ew_fail(err, EW_ERR_INPUT, name, inc, "'@include' is not supported in stack files: "
                  "put every setting in the one file");

@@ -7,6 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "csv_writer.h"
 #include "error.h"
 #include "json_writer.h"
 #include "line_name.h"
@@ -403,12 +404,12 @@ ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
   }
   int header = o.header < 0 ? P.sk == 1 : o.header;
   if (csv && header) {
-    for (size_t j = 0; j < P.ncol; j++) { /* a tied key's name holds commas: RFC 4180 quotes */
-      if (j) fputc(',', csv);
-      if (strchr(P.names[j], ',')) fprintf(csv, "\"%s\"", P.names[j]);
-      else fputs(P.names[j], csv);
-    }
-    fputc('\n', csv);
+    /* the names hold user text (layer names in keys, tied keys with commas): quoted and
+     * formula-neutralised by the one CSV writer, like every other text cell */
+    ew_csv c;
+    ew_csv_init_file(&c, csv);
+    for (size_t j = 0; j < P.ncol; j++) ew_csv_text(&c, P.names[j]);
+    ew_csv_end_row(&c);
   }
   if (json) json_begin(&P, stack, json);
   rc = sweep_rows(&P, &o, csv, json, o.table, err);

@@ -36,6 +36,34 @@ const char *ew_suggest_best(const ew_suggestion *s);
 /* The suggestion for typed among keys[0..n-1], or NULL. */
 const char *ew_text_nearest(const char *typed, const char *const *keys, size_t n);
 
+/* ---- user text that reaches the outputs (names, catalogue strings, messages) ------------
+ * Valid UTF-8 is RFC 3629's: no overlong forms, no surrogates (U+D800–U+DFFF), nothing above
+ * U+10FFFF, no sequence cut short.  A control character is C0 (U+0000–U+001F), DEL (U+007F)
+ * or C1 (U+0080–U+009F): in a terminal they move the cursor, recolour or rewrite the screen
+ * (ECMA-48), and XML 1.0 does not allow most of them at all. */
+
+/* Length (1–4) of the valid UTF-8 sequence at p, 0 when p does not start one (a NUL ends
+ * the text: a sequence cut by it is invalid). */
+int ew_utf8_len(const char *p);
+
+/* Whether s is a name fit for every output: valid UTF-8 without control characters.
+ * Returns -1 when it is; otherwise the byte offset of the first offending byte, with what
+ * is wrong in why ("control character U+001B", "invalid UTF-8: surrogate U+D800", …). */
+long ew_text_check(const char *s, char *why, size_t size);
+
+/* s with every control character and every byte of invalid UTF-8 written as \xNN (a
+ * message that quotes input stays harmless on a terminal); LF and tab are kept.  Writes at
+ * most size bytes (truncating, NUL-terminated). */
+void ew_text_escape(const char *s, char *out, size_t size);
+
+/* robustness: libconfig 1.5 honours '@include "FILE"' at the start of a line and offers no
+ * way to turn it off.  An include reads any file, bypasses the size and NUL checks of the
+ * readers, dates its errors with the wrong file, and blocks forever on a FIFO or a terminal.
+ * Stack files and catalogue files are self-contained, so both readers refuse the directive:
+ * returns the 1-based line of the first line that is blanks then "@include", 0 when there is
+ * none. */
+int ew_text_include_line(const char *text);
+
 /* Characters (UTF-8 code points) in s, for aligning columns that hold "Å" or "Γ". */
 int ew_text_codepoints(const char *s);
 

@@ -6,6 +6,9 @@
  *  3. Well-width sweep throughput: examples/detector_well.cfg, well.thickness over 800
  *     values 4–12 nm (levels and main lines of all three bands, error estimates on, as
  *     `epiwell sweep`), with 1 and with 2 OpenMP threads: solves per second and the scaling.
+ *  5. The layer reader on 10^5 layers (GaAs, 0.1 nm each) refused at the last one (an
+ *     unknown material): linear in the number of layers (issue 18: 45 s to 288 s before the
+ *     duplicate-name check was hashed and integer literals found by a line index).
  * The machine is shared: compare the ratios printed in one run, not absolute times. */
 #include <lapacke.h>
 #ifdef __GLIBC__
@@ -256,6 +259,35 @@ static int bench_self_consistent(void) {
   return 0;
 }
 
+/* 5. the stack reader on 10^4 and 10^5 layers, refused at the last one */
+static int bench_reader(void) {
+  ew_catalogue *cat = NULL;
+  ew_error err = {0};
+  if (ew_catalogue_load(NULL, &cat, &err) != EW_OK) return 1;
+  double t[2];
+  for (int k = 0; k < 2; k++) {
+    size_t n = k ? 100000 : 10000, cap = 64 * n + 256, len = 0;
+    char *text = malloc(cap);
+    if (!text) return 1;
+    len += (size_t)snprintf(text, cap, "layers = (\n");
+    for (size_t i = 0; i < n; i++)
+      len += (size_t)snprintf(text + len, cap - len, " { name = \"l%zu\"; material = \"GaAs\"; "
+                              "thickness = 0.1; },\n", i);
+    snprintf(text + len, cap - len, " { name = \"last\"; material = \"Nope\"; thickness = 1; } );\n");
+    ew_stack *st = NULL;
+    double t0 = now();
+    ew_status rc = ew_stack_read_string(text, "layers", cat, &st, &err);
+    t[k] = now() - t0;
+    free(text);
+    ew_stack_free(st);
+    if (rc != EW_ERR_INPUT) return 1;
+  }
+  printf("stack reader, refused at the last layer: 1e4 layers %.3f s, 1e5 layers %.3f s "
+         "(ratio %.1f; linear = 10)\n", t[0], t[1], t[1] / t[0]);
+  ew_catalogue_free(cat);
+  return 0;
+}
+
 int main(int argc, char **argv) {
 #ifdef __GLIBC__
   /* as the CLI does (src/cli.c): keep freed arrays in the heap between solves */
@@ -263,7 +295,9 @@ int main(int argc, char **argv) {
   mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
 #endif
   const char *cli = argc > 1 ? argv[1] : "build/epiwell";
+  if (argc > 2 && !strcmp(argv[2], "reader")) return bench_reader(); /* part 5 alone */
   if (bench_superlattice() != 0 || bench_single_well(cli) != 0 || bench_sweep_throughput() != 0)
     return 1;
-  return bench_self_consistent();
+  if (bench_self_consistent() != 0) return 1;
+  return bench_reader();
 }
