@@ -36,7 +36,7 @@ static const char usage[] =
     "                      [--plot FILE.svg|FILE.png]  (epiwell sweep --help: the pictures)\n"
     "  epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE [--tolerance VALUE]\n"
     "                      [--samples N] [--json] [--threads N]  (two unknowns: each twice)\n"
-    "  epiwell tolerance STACK [--dx DX] [--ladder LAYER] [--json] [--threads N]\n"
+    "  epiwell tolerance STACK [--dx DX] [--rate PCT] [--ladder LAYER] [--json] [--threads N]\n"
     "    (sweep, match, tolerance also take --grid-step NM and --no-estimate)\n"
     "  epiwell --version | --help\n"
     "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"

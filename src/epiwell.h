@@ -463,6 +463,11 @@ EW_API ew_status ew_tolerance_compute(const char *stack_path, const ew_catalogue
 EW_API void ew_tolerance_free(ew_tolerance *t);
 EW_API ew_status ew_tolerance_write_table(const ew_tolerance *t, FILE *out, ew_error *err);
 EW_API ew_status ew_tolerance_write_json(const ew_tolerance *t, FILE *out, ew_error *err);
+/* The growth-rate uncertainty (percent, 0 ≤ p ≤ 50; all thicknesses scaled together) that the
+ * writers' spread of the lines adds to the ±1 ML of every layer and ±dx of every alloy
+ * (README "Sweeps, matching and tolerances": "Spread").  Before a write; tolerance runs only
+ * (a ladder gives EW_ERR_USAGE). */
+EW_API ew_status ew_tolerance_set_growth_rate(ew_tolerance *t, double percent, ew_error *err);
 
 /* ==== Version, struct sizes and stacks with settings (api_version.c) ====================
  * A program built against one version of this header may run with another shared library.
