@@ -18,6 +18,7 @@
 enum { BD_LEFT = 86, BD_LABEL_COL = 196, BD_GAP = 40, BD_NAME_ROWS = 4 };
 #define BD_DRAW_PSI_MAX 40 /* beyond this many levels a panel shows the lines only */
 #define BD_LABEL_STEP 13.5 /* label rows in the right-hand columns */
+#define BD_TAG_MAX 10      /* beyond this many levels a panel names them in the column only */
 
 typedef struct {
   double top, h;     /* panel rectangle (vertical part; x is shared) */
@@ -121,11 +122,16 @@ static int layout_names(band *b) {
  * the valence panel over both hole edges and the hole levels. */
 static void layout_panels(band *b) {
   const ew_result *r = b->r;
-  for (size_t s = 0; s < r->n_states; s++) b->any_flag |= r->states[s].flagged;
+  for (size_t s = 0; s < r->n_states; s++) {
+    b->any_flag |= r->states[s].flagged;
+    b->all[r->states[s].band != EW_BAND_E]++;
+    if (shown(b, s)) b->cnt[r->states[s].band != EW_BAND_E]++;
+  }
   b->top = b->names_base + 12;
-  /* below the panels: z ticks and label, one legend row, two notes (three when a level
-     failed its residual check) */
-  const double bottom = b->H - 124 - (b->any_flag ? 15 : 0);
+  /* below the panels: z ticks and label, one legend row (two with the Fermi level), two
+     notes (one more when a level failed its residual check, one when levels are left out) */
+  const double bottom = b->H - 124 - (b->any_flag ? 15 : 0) - (r->sp ? 20 : 0) -
+                        (b->all[0] + b->all[1] > b->cnt[0] + b->cnt[1] ? 15 : 0);
   b->ph = bottom - b->top - BD_GAP;
   const double *ec = b->edge[EW_BAND_E], *ehh = b->edge[EW_BAND_HH], *elh = b->edge[EW_BAND_LH];
   double c_lo = INFINITY, c_hi = -INFINITY, v_lo = INFINITY, v_hi = -INFINITY;
@@ -153,10 +159,6 @@ static void layout_panels(band *b) {
   /* heights: partly by energy span (a similar eV per unit in both), mostly by how many
      levels each must show (two electrons against nine holes need room for the holes);
      neither panel gets less than 32 % so a shallow band stays readable */
-  for (size_t s = 0; s < r->n_states; s++) {
-    b->all[r->states[s].band != EW_BAND_E]++;
-    if (shown(b, s)) b->cnt[r->states[s].band != EW_BAND_E]++;
-  }
   double span_c = c_hi - c_lo, span_v = v_hi - v_lo;
   double frac_span = span_c + span_v > 0 ? span_c / (span_c + span_v) : 0.5;
   double frac_lev = (b->cnt[0] + 1.0) / (b->cnt[0] + b->cnt[1] + 2.0);
@@ -298,7 +300,7 @@ static void draw_level(ew_canvas *cv, const band *b, size_t s, const double amp[
   /* odd levels name it at the left end, even ones at the right, so a doublet's two
      names never overprint */
   double gx = x1 + 2;
-  if (b->cnt[q] <= 16) {
+  if (b->cnt[q] <= BD_TAG_MAX) {
     int left = qs->n % 2 == 1;
     ew_font ft = ew_font_make(9.5, left ? EW_ANCHOR_END : EW_ANCHOR_START, col);
     ew_cv_text(cv, left ? x0 - 3 : x1 + 3, ye + 3.5, qs->label, &ft);
@@ -636,9 +638,7 @@ static void draw_label_column(ew_canvas *cv, const band *b, int q, slot *sl) {
   }
   if (shown < m || b->all[q] > m) {
     char buf[96];
-    if (b->all[q] > m)
-      snprintf(buf, sizeof buf, "(lowest %d per band: +%zu levels)", b->max_lv,
-               b->all[q] - m + (m - shown));
+    if (b->all[q] > m) snprintf(buf, sizeof buf, "(+%zu levels not drawn)", b->all[q] - shown);
     else snprintf(buf, sizeof buf, "(+%zu more levels)", m - shown);
     ew_cv_text(cv, R + 12, p->top + p->h - 4, buf, &f_small);
   }
@@ -706,6 +706,12 @@ static void draw_notes(ew_canvas *cv, const band *b, double y) {
            "from the band edge.",
            EW_PLOT_LEVEL_FRACTION * 100);
   ew_cv_text(cv, b->L, y, buf, &f_small);
+  if (b->all[0] + b->all[1] > b->cnt[0] + b->cnt[1]) {
+    snprintf(buf, sizeof buf, "The lowest %d levels of each band are drawn (solve --plot-levels N|all).",
+             b->max_lv);
+    y += 15;
+    ew_cv_text(cv, b->L, y, buf, &f_small);
+  }
   y += 15;
   ew_cv_text(cv, b->L, y,
              "Energies absolute (eV). Shaded columns alternate layers. Arrows: the main "
