@@ -146,8 +146,19 @@ ew_status ew_plot_xy(const char *path, const char *title, const char *xlabel,
                    "ew_plot_xy needs a path, at least one point and one series");
   for (size_t s = 0; s < nseries; s++)
     if (!y[s]) return ew_fail(err, EW_ERR_USAGE, path, 0, "ew_plot_xy: series %zu is NULL", s + 1);
-  ew_xy_chart a = {title, xlabel, ylabel, npoints, nseries, x, y, names};
+  ew_xy_chart a = {title, xlabel, ylabel, npoints, nseries, x, y, names, 0};
   picture p = {NULL, 0, &a, EW_PLOT_XY_W, EW_PLOT_XY_H, title ? title : "line chart", npoints};
+  return write_file(path, &p, err);
+}
+
+ew_status ew_plot_xy_chart(const char *path, const ew_xy_chart *a, ew_error *err) {
+  if (!path || !a || a->npoints == 0 || a->nseries == 0 || !a->x || !a->y)
+    return ew_fail(err, EW_ERR_USAGE, path, 0,
+                   "ew_plot_xy needs a path, at least one point and one series");
+  for (size_t s = 0; s < a->nseries; s++)
+    if (!a->y[s]) return ew_fail(err, EW_ERR_USAGE, path, 0, "ew_plot_xy: series %zu is NULL", s + 1);
+  picture p = {NULL, 0, a, EW_PLOT_XY_W, EW_PLOT_XY_H, a->title ? a->title : "line chart",
+               a->npoints};
   return write_file(path, &p, err);
 }
 
@@ -157,7 +168,7 @@ ew_status ew_plot_xy_svg(FILE *out, const char *title, const char *xlabel, const
   if (!out || npoints == 0 || nseries == 0 || !x || !y)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0,
                    "ew_plot_xy_svg needs a stream, at least one point and one series");
-  ew_xy_chart a = {title, xlabel, ylabel, npoints, nseries, x, y, names};
+  ew_xy_chart a = {title, xlabel, ylabel, npoints, nseries, x, y, names, 0};
   picture p = {NULL, 0, &a, EW_PLOT_XY_W, EW_PLOT_XY_H, title ? title : "line chart", npoints};
   return render(out, 's', &p, err);
 }

@@ -15,6 +15,7 @@
 #define EW_PLOT_H
 
 #include "solve.h"
+#include "xy_chart.h"
 
 /* Picture sizes in SVG user units (CSS px).  A PNG has EW_PLOT_PNG_SCALE pixels per unit,
  * so it stays sharp when printed or zoomed. */
@@ -60,6 +61,9 @@ ew_status ew_plot_band_diagram_svg(const ew_result *r, FILE *out, ew_error *err)
 ew_status ew_plot_xy(const char *path, const char *title, const char *xlabel,
                      const char *ylabel, size_t npoints, const double *x, size_t nseries,
                      const double *const *y, const char *const *names, ew_error *err);
+
+/* The same from a chart description (xy_chart.h; its break_y for a sweep's levels). */
+ew_status ew_plot_xy_chart(const char *path, const ew_xy_chart *chart, ew_error *err);
 
 /* The same line chart as SVG text on an open stream (the report inlines it). */
 ew_status ew_plot_xy_svg(FILE *out, const char *title, const char *xlabel, const char *ylabel,
