@@ -108,15 +108,15 @@ static void svg_free(svg *g) {
   free(g);
 }
 
-/* The energy axis of panel q (0 conduction, 1 valence) from its tick labels (x = 78, right
+/* The energy axis of panel q (0 upper, 1 lower) from its tick labels (at x = tick_x, right
  * aligned, baseline 4 below the tick): E(y) = a + b·y. */
-static void panel_map(const svg *g, int q, double *a, double *b) {
+static void panel_map_at(const svg *g, double tick_x, int q, double *a, double *b) {
   double ys[2], es[2];
   int panel = 0, k = 0;
   double prev = -1;
   for (size_t i = 0; i < g->nt && k < 2; i++) {
     const svg_text *t = &g->t[i];
-    if (fabs(t->x - 78.0) > 1e-6 || t->anchor != 1) continue;
+    if (fabs(t->x - tick_x) > 1e-6 || t->anchor != 1) continue;
     if (prev >= 0 && t->y > prev) panel++; /* ticks run upward; the next panel starts low */
     prev = t->y;
     if (panel != q) continue;
@@ -127,6 +127,9 @@ static void panel_map(const svg *g, int q, double *a, double *b) {
   *b = (es[1] - es[0]) / (ys[1] - ys[0]);
   *a = es[0] - *b * ys[0];
 }
+
+/* band diagram: labels at x = 78 (BD_LEFT − 8) */
+static void panel_map(const svg *g, int q, double *a, double *b) { panel_map_at(g, 78.0, q, a, b); }
 
 static const svg_text *find_text(const svg *g, const char *prefix) {
   for (size_t i = 0; i < g->nt; i++)
@@ -346,11 +349,101 @@ static void doublet_tones_and_names(void **state) {
   ew_stack_free(st);
 }
 
+/* ---- sweep charts ---------------------------------------------------------------------- */
+static char *slurp_file(const char *path) {
+  FILE *f = fopen(path, "rb");
+  if (!f) return NULL;
+  static char buf[1 << 21];
+  size_t n = fread(buf, 1, sizeof buf - 1, f);
+  buf[n] = '\0';
+  fclose(f);
+  return strdup(buf);
+}
+
+/* The legend samples (28-unit lines right of the plot) in order: their colours. */
+static size_t legend_colours(const svg *g, char (*out)[8], size_t cap) {
+  size_t n = 0;
+  for (size_t i = 0; i < g->np && n < cap; i++) {
+    const svg_path *p = &g->p[i];
+    if (p->n == 2 && fabs(p->x[1] - p->x[0] - 28) < 1e-6 && p->y[0] == p->y[1] && p->x[0] > 500)
+      snprintf(out[n++], 8, "%s", p->stroke);
+  }
+  return n;
+}
+
+/* A field sweep of the double well (13 levels): the levels chart breaks its energy axis
+ * (two panels, the break note), every curve has its own colour, and every e1 point sits at
+ * the CSV's e1 value read through the upper panel's ticks (1 unit); the intersubband chart
+ * draws the electron lines only (no hh/lh entry while e1-e2 exists). */
+static void sweep_charts(void **state) {
+  (void)state;
+  char dir[512], path[600], p2[640];
+  assert_int_equal(tu_mkdtemp("sweep17", dir, sizeof dir), 0);
+  snprintf(path, sizeof path, "%s/s.svg", dir);
+  ew_sweep *sw = NULL;
+  ew_error err = {0};
+  assert_int_equal(ew_sweep_create(&sw, &err), EW_OK);
+  assert_int_equal(ew_sweep_vary(sw, "field=0:20:5", &err), EW_OK);
+  assert_int_equal(ew_sweep_open(sw, "examples/double_well.cfg", cat, NULL, &err), EW_OK);
+  ew_sweep_options o;
+  ew_sweep_options_default(&o);
+  o.keep_table = 1;
+  char *csv = NULL;
+  size_t len = 0;
+  FILE *m = open_memstream(&csv, &len);
+  assert_int_equal(ew_sweep_compute(sw, &o, m, NULL, &err), EW_OK);
+  fclose(m);
+  int written[EW_SWEEP_PLOT_FILES];
+  assert_int_equal(ew_sweep_stage_plots(sw, path, written, &err), EW_OK);
+  assert_int_equal(ew_sweep_commit_plots(sw, 1, &err), EW_OK);
+  assert_true(written[0] && written[2]);
+  char *s = slurp_file(path);
+  svg *g = parse_svg(s);
+  assert_non_null(find_text(g, "axis broken: "));
+  char col[40][8];
+  size_t nc = legend_colours(g, col, 40);
+  assert_true(nc >= 10);
+  for (size_t a = 0; a < nc; a++)
+    for (size_t b = a + 1; b < nc; b++) assert_string_not_equal(col[a], col[b]);
+  /* e1 column: the CSV's second column; e1 is the first series (first legend colour) */
+  double a0, b0;
+  panel_map_at(g, 76.0, 0, &a0, &b0); /* line chart: labels at x = 84 − 8 */
+  const svg_path *e1 = NULL;
+  for (size_t i = 0; i < g->np && !e1; i++)
+    if (!strcmp(g->p[i].stroke, col[0]) && g->p[i].n > 2) e1 = &g->p[i];
+  assert_non_null(e1);
+  const char *row = strchr(csv, '\n') + 1;
+  size_t k = 0;
+  for (; *row && k < 5; k++, row = strchr(row, '\n') + 1) {
+    char *end;
+    strtod(row, &end);
+    double v = strtod(end + 1, NULL);
+    int hit = 0;
+    for (size_t q = 0; q < e1->n; q++) hit |= fabs(a0 + b0 * e1->y[q] - v) <= fabs(b0);
+    assert_true(hit);
+  }
+  assert_int_equal(k, 5);
+  svg_free(g);
+  free(s);
+  snprintf(p2, sizeof p2, "%s/s-intersubband.svg", dir);
+  s = slurp_file(p2);
+  g = parse_svg(s);
+  assert_non_null(find_text(g, "e1-e2"));
+  for (size_t i = 0; i < g->nt; i++)
+    assert_false(g->t[i].x > 500 && (!strncmp(g->t[i].s, "hh", 2) || !strncmp(g->t[i].s, "lh", 2)));
+  svg_free(g);
+  free(s);
+  free(csv);
+  ew_sweep_free(sw);
+  tu_rm_tree(dir);
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(fermi_and_arrows),
       cmocka_unit_test(lowest_levels_and_hole_psi),
       cmocka_unit_test(doublet_tones_and_names),
+      cmocka_unit_test(sweep_charts),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
