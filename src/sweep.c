@@ -350,8 +350,8 @@ static void solve_row(const sweep_plan *P, size_t p, double *row, char *codes, d
   ew_status rc = solve_point(P, vals, &st, &res, &e);
   if (rc == EW_OK) rc = check_counts(res, P, vals, &e);
   if (rc == EW_OK) fill_row(res, P, vals, row, codes);
-  if (rc == EW_OK && psi) sample_psi(res, P, psi);
   else ew_wf_fail_record(fl, p, rc, &e);
+  if (rc == EW_OK && psi) sample_psi(res, P, psi);
   ew_result_free(res);
   ew_stack_free(st);
 }
