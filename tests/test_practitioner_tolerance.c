@@ -33,8 +33,19 @@ static int teardown(void **state) {
   return 0;
 }
 
-/* The detector well of examples/detector_well.cfg with its five numbers given. */
-static ew_result *solve_det(double t1, double x1, double t2, double t3, double x3) {
+/* The detector well of examples/detector_well.cfg with its five numbers given; the result
+ * borrows its stack, so both are kept together (free_det). */
+typedef struct {
+  ew_stack *st;
+  ew_result *r;
+} det;
+
+static void free_det(det d) {
+  ew_result_free(d.r);
+  ew_stack_free(d.st);
+}
+
+static det solve_det(double t1, double x1, double t2, double t3, double x3) {
   char text[1024];
   snprintf(text, sizeof text,
            "temperature = 77.0;\nlayers = (\n"
@@ -49,8 +60,7 @@ static ew_result *solve_det(double t1, double x1, double t2, double t3, double x
   ew_options_default(&opt);
   ew_result *res = NULL;
   assert_int_equal(ew_solve(st, &opt, &res, &err), EW_OK);
-  ew_stack_free(st);
-  return res;
+  return (det){st, res};
 }
 
 static double level(const ew_result *r, const char *label) {
@@ -107,23 +117,23 @@ static void spread_is_first_order_of_separate_solves(void **state) {
     for (int s = 0; s < 2; s++)
       for (int q = 0; q < 3; q++) t[s][q] = t0[q] + (q == k ? (s ? ht : -ht) : 0.0);
     double lo[2], hi[2];
-    ew_result *a = solve_det(t[0][0], x0, t[0][1], t[0][2], x0);
-    ew_result *b = solve_det(t[1][0], x0, t[1][1], t[1][2], x0);
-    lines_of(a, lo);
-    lines_of(b, hi);
+    det a = solve_det(t[0][0], x0, t[0][1], t[0][2], x0);
+    det b = solve_det(t[1][0], x0, t[1][1], t[1][2], x0);
+    lines_of(a.r, lo);
+    lines_of(b.r, hi);
     for (int l = 0; l < 2; l++) dt[k][l] = (hi[l] - lo[l]) / (2 * ht);
-    ew_result_free(a);
-    ew_result_free(b);
+    free_det(a);
+    free_det(b);
   }
   for (int k = 0; k < 2; k++) {
     double lo[2], hi[2];
-    ew_result *a = solve_det(30, k ? x0 : x0 - hx, 6.2, 30, k ? x0 - hx : x0);
-    ew_result *b = solve_det(30, k ? x0 : x0 + hx, 6.2, 30, k ? x0 + hx : x0);
-    lines_of(a, lo);
-    lines_of(b, hi);
+    det a = solve_det(30, k ? x0 : x0 - hx, 6.2, 30, k ? x0 - hx : x0);
+    det b = solve_det(30, k ? x0 : x0 + hx, 6.2, 30, k ? x0 + hx : x0);
+    lines_of(a.r, lo);
+    lines_of(b.r, hi);
     for (int l = 0; l < 2; l++) dxd[k][l] = (hi[l] - lo[l]) / (2 * hx);
-    ew_result_free(a);
-    ew_result_free(b);
+    free_det(a);
+    free_det(b);
   }
   char *buf = tolerance_json(rate, NULL);
   rj doc;
@@ -187,7 +197,8 @@ static void ladder_pl_peaks_are_separate_solves(void **state) {
     double b = en->item[q].num - pe->item[q].num;
     assert_true(b > 3e-3 && b < 17e-3);
     if (q != 0 && q != 4) continue; /* the outer rungs: the solve is the same code for all */
-    ew_result *r = solve_det(30, 0.28, th->item[q].num, 30, 0.28);
+    det d = solve_det(30, 0.28, th->item[q].num, 30, 0.28);
+    const ew_result *r = d.r;
     double want = NAN;
     for (size_t i = 0; i < ew_result_line_count(r); i++) {
       const ew_line *ln = ew_result_line(r, i);
@@ -196,6 +207,7 @@ static void ladder_pl_peaks_are_separate_solves(void **state) {
         want = ln->pl_peak_eV;
     }
     TU_NEAR(pe->item[q].num, want, 1e-9 * want, "the rung's own solve (%.10g)");
+    free_det(d);
   }
   rj_free(&doc);
   free(buf);
