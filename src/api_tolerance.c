@@ -45,6 +45,16 @@ void ew_tolerance_free(ew_tolerance *t) {
   free(t);
 }
 
+ew_status ew_tolerance_set_growth_rate(ew_tolerance *t, double percent, ew_error *err) {
+  if (!t) return NULL_ARG("ew_tolerance_set_growth_rate");
+  if (!t->t) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--rate: not with --ladder");
+  if (!(percent >= 0 && percent <= 50))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--rate wants a percentage in [0, 50], got %g",
+                   percent);
+  t->t->rate_percent = percent;
+  return EW_OK;
+}
+
 static ew_status write_as(const ew_tolerance *t, FILE *out, int json, ew_error *err) {
   if (!t || !out) return NULL_ARG(json ? "ew_tolerance_write_json" : "ew_tolerance_write_table");
   const ew_stack *st = ew_wf_model_stack(t->m);

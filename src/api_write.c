@@ -50,6 +50,12 @@ ew_status ew_result_write_band_diagram(const ew_result *res, const char *path, e
   return ew_plot_band_diagram(res, path, err);
 }
 
+ew_status ew_result_write_band_diagram_levels(const ew_result *res, const char *path,
+                                              int levels_per_band, ew_error *err) {
+  if (!res || !path) return NULL_ARG("ew_result_write_band_diagram_levels");
+  return ew_plot_band_diagram_levels(res, path, levels_per_band, err);
+}
+
 ew_status ew_result_write_band_diagram_svg(const ew_result *res, FILE *out, ew_error *err) {
   if (!res || !out) return NULL_ARG("ew_result_write_band_diagram_svg");
   return ew_plot_band_diagram_svg(res, out, err);

@@ -12,11 +12,13 @@
 #include "constants.h"
 #include "grid.h"
 #include "plot.h"
+#include "result.h" /* the Schrödinger–Poisson block: the Fermi level */
 
 /* Layout constants (picture units). */
 enum { BD_LEFT = 86, BD_LABEL_COL = 196, BD_GAP = 40, BD_NAME_ROWS = 4 };
 #define BD_DRAW_PSI_MAX 40 /* beyond this many levels a panel shows the lines only */
 #define BD_LABEL_STEP 13.5 /* label rows in the right-hand columns */
+#define BD_TAG_MAX 10      /* beyond this many levels a panel names them in the column only */
 
 typedef struct {
   double top, h;     /* panel rectangle (vertical part; x is shared) */
@@ -54,9 +56,25 @@ typedef struct {
   size_t omitted;                   /* layer names left out */
   double names_base, top, ph;       /* name row next to the panels, panels' top, height */
   int any_flag;                     /* a level failed its residual check */
-  size_t cnt[2];                    /* levels per panel (0 conduction, 1 valence) */
+  size_t cnt[2];                    /* levels drawn per panel (0 conduction, 1 valence) */
+  size_t all[2];                    /* levels per panel, drawn or not */
+  int max_lv;                       /* levels drawn per band (<= 0: all) */
+  int fermi_q;                      /* panel of the Fermi level (doped stacks), −1: none */
   panel pan[2];
 } band;
+
+/* The lowest max_lv levels of each band are drawn. */
+static int shown_n(int max_lv, const ew_state *s) { return max_lv <= 0 || s->n <= max_lv; }
+static int shown(const band *b, size_t s) { return shown_n(b->max_lv, &b->r->states[s]); }
+
+uint32_t ew_level_colour(ew_band band, int n) {
+  /* three tones of each band's hue (chart.h's band colour first), distinct in grey too */
+  static const uint32_t tone[EW_BAND_COUNT][3] = {{0x1b7a3du, 0x0b5563u, 0x6b8f12u},
+                                                  {0x6a2c91u, 0xa3286fu, 0x3b3f9cu},
+                                                  {0xc25a00u, 0x8f6a00u, 0xd6382au}};
+  int b = band >= 0 && band < EW_BAND_COUNT ? (int)band : 0;
+  return tone[b][(n > 0 ? n - 1 : 0) % 3];
+}
 
 static double x_of(const band *b, double z_nm) { return b->L + z_nm / b->Lz * (b->R - b->L); }
 
@@ -104,11 +122,16 @@ static int layout_names(band *b) {
  * the valence panel over both hole edges and the hole levels. */
 static void layout_panels(band *b) {
   const ew_result *r = b->r;
-  for (size_t s = 0; s < r->n_states; s++) b->any_flag |= r->states[s].flagged;
+  for (size_t s = 0; s < r->n_states; s++) {
+    b->any_flag |= r->states[s].flagged;
+    b->all[r->states[s].band != EW_BAND_E]++;
+    if (shown(b, s)) b->cnt[r->states[s].band != EW_BAND_E]++;
+  }
   b->top = b->names_base + 12;
-  /* below the panels: z ticks and label, one legend row, two notes (three when a level
-     failed its residual check) */
-  const double bottom = b->H - 124 - (b->any_flag ? 15 : 0);
+  /* below the panels: z ticks and label, one legend row (two with the Fermi level), two
+     notes (one more when a level failed its residual check, one when levels are left out) */
+  const double bottom = b->H - 124 - (b->any_flag ? 15 : 0) - (r->sp ? 20 : 0) -
+                        (b->all[0] + b->all[1] > b->cnt[0] + b->cnt[1] ? 15 : 0);
   b->ph = bottom - b->top - BD_GAP;
   const double *ec = b->edge[EW_BAND_E], *ehh = b->edge[EW_BAND_HH], *elh = b->edge[EW_BAND_LH];
   double c_lo = INFINITY, c_hi = -INFINITY, v_lo = INFINITY, v_hi = -INFINITY;
@@ -117,14 +140,25 @@ static void layout_panels(band *b) {
     v_lo = fmin(v_lo, fmin(ehh[i], elh[i])), v_hi = fmax(v_hi, fmax(ehh[i], elh[i]));
   }
   for (size_t s = 0; s < r->n_states; s++) {
+    if (!shown(b, s)) continue;
     double e = r->states[s].energy_eV;
     if (r->states[s].band == EW_BAND_E) c_lo = fmin(c_lo, e), c_hi = fmax(c_hi, e);
     else v_lo = fmin(v_lo, e), v_hi = fmax(v_hi, e);
   }
+  /* the Fermi level of a doped stack goes into the panel of the band it is nearer */
+  b->fermi_q = -1;
+  if (r->sp && isfinite(r->sp->fermi_eV)) {
+    double ef[2] = {r->sp->fermi_eV, r->sp->fermi_last_eV};
+    b->fermi_q = ef[0] > 0.5 * (c_lo + v_hi) ? 0 : 1;
+    for (int k = 0; k < 2; k++) {
+      if (!isfinite(ef[k])) continue;
+      if (b->fermi_q == 0) c_lo = fmin(c_lo, ef[k]), c_hi = fmax(c_hi, ef[k]);
+      else v_lo = fmin(v_lo, ef[k]), v_hi = fmax(v_hi, ef[k]);
+    }
+  }
   /* heights: partly by energy span (a similar eV per unit in both), mostly by how many
      levels each must show (two electrons against nine holes need room for the holes);
      neither panel gets less than 32 % so a shallow band stays readable */
-  for (size_t s = 0; s < r->n_states; s++) b->cnt[r->states[s].band != EW_BAND_E]++;
   double span_c = c_hi - c_lo, span_v = v_hi - v_lo;
   double frac_span = span_c + span_v > 0 ? span_c / (span_c + span_v) : 0.5;
   double frac_lev = (b->cnt[0] + 1.0) / (b->cnt[0] + b->cnt[1] + 2.0);
@@ -255,15 +289,26 @@ static void draw_level(ew_canvas *cv, const band *b, size_t s, const double amp[
   }
   double ye = panel_y(&b->pan[q], qs->energy_eV);
   double sign = qs->band == EW_BAND_E ? -1.0 : 1.0; /* away from the band edge */
-  uint32_t col = ew_band_colour[qs->band];
+  uint32_t col = ew_level_colour(qs->band, qs->n);
   if (b->cnt[q] <= (size_t)BD_DRAW_PSI_MAX && psimax[q] > 0)
     draw_wave(cv, b, q, psi, a4, e4, ye, sign * amp[q], psimax[q], col);
   double x0 = x_of(b, b->z[a]), x1 = x_of(b, b->z[e]);
   ew_pen pl = ew_pen_make(col, 1.8, EW_DASH_NONE);
   ew_cv_line(cv, x0, ye, x1, ye, &pl);
+  /* the level's name at the left end of its line: with ψ in the level's own tone, the
+     lobes of a doublet (a double well's e1, e2) say which level they belong to */
+  /* odd levels name it at the left end, even ones at the right, so a doublet's two
+     names never overprint */
+  double gx = x1 + 2;
+  if (b->cnt[q] <= BD_TAG_MAX) {
+    int left = qs->n % 2 == 1;
+    ew_font ft = ew_font_make(9.5, left ? EW_ANCHOR_END : EW_ANCHOR_START, col);
+    ew_cv_text(cv, left ? x0 - 3 : x1 + 3, ye + 3.5, qs->label, &ft);
+    if (!left) gx = x1 + 6 + ew_text_width(qs->label, 9.5);
+  }
   ew_pen guide = ew_pen_make(col, 0.8, EW_DASH_DOT);
   guide.opacity = 0.7;
-  if (x1 < b->R - 2) ew_cv_line(cv, x1 + 2, ye, b->R, ye, &guide);
+  if (gx < b->R - 2) ew_cv_line(cv, gx, ye, b->R, ye, &guide);
 }
 
 /* The levels: the wavefunction amplitude is one scale per panel, so relative sizes mean
@@ -272,15 +317,153 @@ static void draw_levels(ew_canvas *cv, const band *b) {
   const ew_result *r = b->r;
   double psimax[2] = {0, 0}, amp[2];
   for (size_t s = 0; s < r->n_states; s++) {
+    if (!shown(b, s)) continue;
     int q = r->states[s].band != EW_BAND_E;
     const double *psi = ew_result_wavefunction(r, s);
     for (size_t i = 0; i < b->n; i++) psimax[q] = fmax(psimax[q], fabs(psi[i]));
   }
   for (int q = 0; q < 2; q++) {
+    /* holes are heavy: their ψ are narrow and their levels close, so the valence panel
+       keeps at least 14 units of amplitude (the hole lobes stay visible) */
     double per = b->pan[q].h / (double)(b->cnt[q] + 1);
-    amp[q] = fmin(0.16 * b->pan[q].h, fmax(10.0, 0.8 * per));
+    amp[q] = fmin(0.16 * b->pan[q].h, fmax(q ? 14.0 : 10.0, 0.8 * per));
   }
-  for (size_t s = 0; s < r->n_states; s++) draw_level(cv, b, s, amp, psimax);
+  for (size_t s = 0; s < r->n_states; s++)
+    if (shown(b, s)) draw_level(cv, b, s, amp, psimax);
+}
+
+/* Text on a white ground (it stands over lines: the Fermi level, ψ). */
+static void text_on_white(ew_canvas *cv, double x, double y, const char *t, const ew_font *ft) {
+  double w = ew_text_width(t, ft->size) * (ft->bold ? 1.08 : 1.0) + 4;
+  double x0 = ft->anchor == EW_ANCHOR_START ? x - 2 : ft->anchor == EW_ANCHOR_END ? x - w + 2 : x - w / 2;
+  ew_cv_rect(cv, x0, y - ft->size, w, ft->size + 3.5, 0xffffffu, 0.85, NULL);
+  ew_cv_text(cv, x, y, t, ft);
+}
+
+#define BD_COL_FERMI 0x0a4f9eu /* a blue no band uses */
+#define BD_COL_ARROW 0x1a1a1au
+
+/* The Fermi level of a doped stack: a dashed line across its panel (with a bias, the first
+ * face's level over the first half and the last face's over the second), labelled. */
+static void draw_fermi(ew_canvas *cv, const band *b) {
+  if (b->fermi_q < 0) return;
+  const ew_sp_info *sp = b->r->sp;
+  const panel *p = &b->pan[b->fermi_q];
+  int two = isfinite(sp->fermi_last_eV) && b->st->bias_given;
+  ew_pen pf = ew_pen_make(BD_COL_FERMI, 1.4, EW_DASH_SHORT);
+  double xm = two ? (b->L + b->R) / 2 : b->R;
+  double y0 = panel_y(p, sp->fermi_eV), y1 = two ? panel_y(p, sp->fermi_last_eV) : y0;
+  ew_cv_line(cv, b->L, y0, xm, y0, &pf);
+  if (two) ew_cv_line(cv, xm, y1, b->R, y1, &pf);
+  ew_font ft = ew_font_make(10.5, EW_ANCHOR_START, BD_COL_FERMI);
+  char e[48], buf[96];
+  ew_chart_fmt_num(e, sizeof e, sp->fermi_eV, 4);
+  snprintf(buf, sizeof buf, "Fermi level %s eV", e);
+  text_on_white(cv, b->L + 6, y0 - 4, buf, &ft);
+  if (two) {
+    ew_chart_fmt_num(e, sizeof e, sp->fermi_last_eV, 4);
+    snprintf(buf, sizeof buf, "Fermi level %s eV", e);
+    ft.anchor = EW_ANCHOR_END;
+    text_on_white(cv, b->R - 6, y1 - 4, buf, &ft);
+  }
+}
+
+size_t ew_band_diagram_pl_line(const ew_result *r, int levels_per_band) {
+  size_t best = SIZE_MAX;
+  for (size_t i = 0; i < r->n_lines; i++) {
+    const ew_line *ln = &r->lines[i];
+    if (ln->kind != EW_LINE_INTERBAND || !ln->allowed) continue;
+    if (!shown_n(levels_per_band, &r->states[ln->upper]) ||
+        !shown_n(levels_per_band, &r->states[ln->lower]))
+      continue;
+    double e = ln->pl_peak_eV > 0 ? ln->pl_peak_eV : ln->energy_eV;
+    const ew_line *bl = best == SIZE_MAX ? NULL : &r->lines[best];
+    if (!bl || e < (bl->pl_peak_eV > 0 ? bl->pl_peak_eV : bl->energy_eV)) best = i;
+  }
+  return best;
+}
+
+size_t ew_band_diagram_isb_line(const ew_result *r, int levels_per_band) {
+  size_t best = SIZE_MAX;
+  for (size_t i = 0; i < r->n_lines; i++) {
+    const ew_line *ln = &r->lines[i];
+    const ew_state *lo = &r->states[ln->lower], *up = &r->states[ln->upper];
+    if (ln->kind != EW_LINE_INTERSUBBAND || lo->band != EW_BAND_E || lo->n != 1) continue;
+    if (!shown_n(levels_per_band, up) || !(ln->oscillator_strength > 0)) continue;
+    if (best == SIZE_MAX || ln->oscillator_strength > r->lines[best].oscillator_strength) best = i;
+  }
+  return best;
+}
+
+/* ⟨z⟩ of state s (nm): where its arrow stands. */
+static double mean_z(const band *b, size_t s) {
+  const double *psi = ew_result_wavefunction(b->r, s);
+  double num = 0, den = 0;
+  for (size_t i = 0; i + 1 < b->n; i++) {
+    double w = 0.5 * (psi[i] * psi[i] + psi[i + 1] * psi[i + 1]) * (b->z[i + 1] - b->z[i]);
+    num += w * 0.5 * (b->z[i] + b->z[i + 1]);
+    den += w;
+  }
+  return den > 0 ? num / den : b->Lz / 2;
+}
+
+/* A vertical arrow segment from y0 to y1 at x, with a head at y1 when head is set. */
+static void arrow(ew_canvas *cv, double x, double y0, double y1, int head) {
+  ew_pen pa = ew_pen_make(BD_COL_ARROW, 1.5, EW_DASH_NONE);
+  double d = y1 > y0 ? 1 : -1;
+  ew_cv_line(cv, x, y0, x, head ? y1 - d * 7 : y1, &pa);
+  if (!head) return;
+  double xs[3] = {x - 4, x + 4, x}, ys[3] = {y1 - d * 8, y1 - d * 8, y1};
+  ew_cv_fill(cv, 3, xs, ys, BD_COL_ARROW, 1);
+}
+
+/* The arrows: the PL line from the electron level down across the axis break to the hole
+ * level, labelled in the break with its PL peak in nm; the strongest e1 intersubband line
+ * up from e1, labelled with its wavelength in µm (and the depolarised one of a doped stack).
+ * Returns the far end of the PL label (NaN without a PL arrow) for the break message to
+ * stay clear of it. */
+static double draw_arrows(ew_canvas *cv, const band *b, double *arrow_x) {
+  const ew_result *r = b->r;
+  size_t pl = ew_band_diagram_pl_line(r, b->max_lv), isb = ew_band_diagram_isb_line(r, b->max_lv);
+  ew_font ft = ew_font_make(10.5, EW_ANCHOR_START, BD_COL_ARROW);
+  ft.bold = 1;
+  char buf[160];
+  double xa = NAN;
+  if (pl != SIZE_MAX) {
+    const ew_line *ln = &r->lines[pl];
+    const panel *pc = &b->pan[0], *pv = &b->pan[1];
+    xa = x_of(b, mean_z(b, ln->upper)) - 7;
+    *arrow_x = xa;
+    double ye = panel_y(pc, r->states[ln->upper].energy_eV), yh = panel_y(pv, r->states[ln->lower].energy_eV);
+    arrow(cv, xa, ye, pc->top + pc->h, 0);
+    arrow(cv, xa, pv->top, yh, 1);
+    double nm = ew_line_pl_peak_nm(ln);
+    if (!isfinite(nm)) nm = ln->wavelength_nm;
+    snprintf(buf, sizeof buf, "%s\xe2\x80\x93%s PL %.2f nm", r->states[ln->upper].label,
+             r->states[ln->lower].label, nm);
+    double w = ew_text_width(buf, 10.5);
+    ft.anchor = xa + 8 + w < b->R ? EW_ANCHOR_START : EW_ANCHOR_END;
+    ew_cv_text(cv, ft.anchor == EW_ANCHOR_START ? xa + 8 : xa - 8, pc->top + pc->h + BD_GAP / 2 + 4,
+               buf, &ft);
+    /* the break message goes where the label is not: return the label's far side */
+    xa = ft.anchor == EW_ANCHOR_START ? xa + 8 + w * 1.08 : xa - 8 - w * 1.08;
+  }
+  if (isb != SIZE_MAX) {
+    const ew_line *ln = &r->lines[isb];
+    const panel *pc = &b->pan[0];
+    double x = x_of(b, mean_z(b, ln->lower)) + 7;
+    double y0 = panel_y(pc, r->states[ln->lower].energy_eV), y1 = panel_y(pc, r->states[ln->upper].energy_eV);
+    arrow(cv, x, y0, y1, 1);
+    int n = snprintf(buf, sizeof buf, "%s\xe2\x80\x93%s %.3f \xc2\xb5m", r->states[ln->lower].label,
+                     r->states[ln->upper].label, ln->wavelength_nm / 1e3);
+    if (r->sp && isfinite(r->sp->depol_eV[isb]) && r->sp->depol_eV[isb] != 0 && n > 0 &&
+        (size_t)n < sizeof buf)
+      snprintf(buf + n, sizeof buf - (size_t)n, " (depolarised %.3f \xc2\xb5m)",
+               EW_HC_EVNM / (ln->energy_eV + r->sp->depol_eV[isb]) / 1e3);
+    ft.anchor = EW_ANCHOR_START;
+    text_on_white(cv, x + 6, 0.5 * (y0 + y1) + 4, buf, &ft);
+  }
+  return xa;
 }
 
 /* Frames, energy ticks on both sides, the panel captions and the energy axis label. */
@@ -311,7 +494,7 @@ static void draw_energy_axes(ew_canvas *cv, const band *b) {
 }
 
 /* The broken energy axis: slanted marks on both axes and what was left out. */
-static void draw_axis_break(ew_canvas *cv, const band *b) {
+static void draw_axis_break(ew_canvas *cv, const band *b, double arrow_x, double label_end) {
   const panel *pc = &b->pan[0], *pv = &b->pan[1];
   double yb = pc->top + pc->h, yt = pv->top;
   ew_pen brk = ew_pen_make(EW_COL_FRAME, 1.2, EW_DASH_NONE);
@@ -323,9 +506,24 @@ static void draw_axis_break(ew_canvas *cv, const band *b) {
   char gap[64], msg[160];
   ew_chart_fmt_num(gap, sizeof gap, pc->e_lo - pv->e_hi, 3);
   snprintf(msg, sizeof msg, "energy axis broken: %s eV between the panels left out", gap);
+  /* beside the PL arrow's label (which ends at label_end), on the side with room; the
+     short form when neither side has room for the long one */
   ew_font fi = ew_font_make(10.5, EW_ANCHOR_MIDDLE, EW_COL_MUTED);
   fi.italic = 1;
-  ew_cv_text(cv, (b->L + b->R) / 2, (yb + yt) / 2 + 4, msg, &fi);
+  double x = (b->L + b->R) / 2, w = ew_text_width(msg, 10.5) + 20;
+  if (isfinite(label_end)) {
+    double lo = fmin(label_end, arrow_x), hi = fmax(label_end, arrow_x);
+    if (b->R - hi > w) fi.anchor = EW_ANCHOR_END, x = b->R - 10;
+    else if (lo - b->L > w) fi.anchor = EW_ANCHOR_START, x = b->L + 10;
+    else {
+      snprintf(msg, sizeof msg, "axis broken: %s eV left out", gap);
+      w = ew_text_width(msg, 10.5) + 20;
+      fi.anchor = b->R - hi > lo - b->L ? EW_ANCHOR_END : EW_ANCHOR_START;
+      x = fi.anchor == EW_ANCHOR_END ? b->R - 10 : b->L + 10;
+      if (fmax(b->R - hi, lo - b->L) < w) return;
+    }
+  }
+  ew_cv_text(cv, x, (yb + yt) / 2 + 4, msg, &fi);
 }
 
 /* The shared z axis: ticks on both panels, labels under the lower one. */
@@ -381,7 +579,7 @@ static size_t choose_labels(const band *b, int q, slot *sl, size_t *m_out) {
   const panel *p = &b->pan[q];
   size_t m = 0;
   for (size_t s = 0; s < r->n_states; s++) {
-    if ((r->states[s].band != EW_BAND_E) != q) continue;
+    if ((r->states[s].band != EW_BAND_E) != q || !shown(b, s)) continue;
     sl[m].want = panel_y(p, r->states[s].energy_eV);
     sl[m].state = s;
     m++;
@@ -424,13 +622,13 @@ static void draw_label_column(ew_canvas *cv, const band *b, int q, slot *sl) {
   }
   for (size_t j = 0; j < shown; j++) {
     const ew_state *qs = &r->states[sl[j].state];
-    ew_pen elbow = ew_pen_make(ew_band_colour[qs->band], 0.9, EW_DASH_NONE);
+    ew_pen elbow = ew_pen_make(ew_level_colour(qs->band, qs->n), 0.9, EW_DASH_NONE);
     double xs[3] = {R, R + 9, R + 21}, ys[3] = {sl[j].want, sl[j].want, sl[j].at};
     ew_cv_path(cv, 3, xs, ys, &elbow);
     char e[48], lab[80];
     ew_chart_fmt_num(e, sizeof e, qs->energy_eV, 4);
     snprintf(lab, sizeof lab, "%s%s", qs->label, qs->flagged ? "*" : "");
-    fl.rgb = qs->flagged ? EW_COL_WARN : ew_band_colour[qs->band];
+    fl.rgb = qs->flagged ? EW_COL_WARN : ew_level_colour(qs->band, qs->n);
     fl.bold = 1;
     ew_cv_text(cv, R + 25, sl[j].at + 4, lab, &fl);
     fl.bold = 0;
@@ -438,10 +636,11 @@ static void draw_label_column(ew_canvas *cv, const band *b, int q, slot *sl) {
     snprintf(lab, sizeof lab, "%s eV", e);
     ew_cv_text(cv, R + 25 + namew + 7, sl[j].at + 4, lab, &fl);
   }
-  if (shown < m) {
-    char buf[64];
-    snprintf(buf, sizeof buf, "(+%zu more levels)", m - shown);
-    ew_cv_text(cv, R + 25, p->top + p->h - 4, buf, &f_small);
+  if (shown < m || b->all[q] > m) {
+    char buf[96];
+    if (b->all[q] > m) snprintf(buf, sizeof buf, "(+%zu levels not drawn)", b->all[q] - shown);
+    else snprintf(buf, sizeof buf, "(+%zu more levels)", m - shown);
+    ew_cv_text(cv, R + 12, p->top + p->h - 4, buf, &f_small);
   }
   if (m == 0) ew_cv_text(cv, R + 12, p->top + p->h / 2, "no bound level", &f_small);
 }
@@ -471,11 +670,13 @@ static double draw_legend(ew_canvas *cv, const band *b) {
       {"electron level, \xcf\x88", ew_pen_make(ew_band_colour[EW_BAND_E], 1.8, EW_DASH_NONE), 1},
       {"heavy-hole level, \xcf\x88", ew_pen_make(ew_band_colour[EW_BAND_HH], 1.8, EW_DASH_NONE), 1},
       {"light-hole level, \xcf\x88", ew_pen_make(ew_band_colour[EW_BAND_LH], 1.8, EW_DASH_NONE), 1},
+      {"Fermi level", ew_pen_make(BD_COL_FERMI, 1.4, EW_DASH_SHORT), 0}, /* doped stacks */
   };
   const panel *pv = &b->pan[1];
   double x = b->L, y = pv->top + pv->h + 64;
   ew_font fl = ew_font_make(11, EW_ANCHOR_START, EW_COL_INK);
-  for (size_t k = 0; k < sizeof items / sizeof items[0]; k++) {
+  size_t nitems = sizeof items / sizeof items[0] - (b->fermi_q < 0);
+  for (size_t k = 0; k < nitems; k++) {
     double w = 34 + ew_text_width(items[k].text, fl.size) + 22;
     if (x + w > b->W - 20 && x > b->L) x = b->L, y += 20;
     ew_cv_line(cv, x, y - 4, x + 28, y - 4, &items[k].line);
@@ -505,10 +706,16 @@ static void draw_notes(ew_canvas *cv, const band *b, double y) {
            "from the band edge.",
            EW_PLOT_LEVEL_FRACTION * 100);
   ew_cv_text(cv, b->L, y, buf, &f_small);
+  if (b->all[0] + b->all[1] > b->cnt[0] + b->cnt[1]) {
+    snprintf(buf, sizeof buf, "The lowest %d levels of each band are drawn (solve --plot-levels N|all).",
+             b->max_lv);
+    y += 15;
+    ew_cv_text(cv, b->L, y, buf, &f_small);
+  }
   y += 15;
   ew_cv_text(cv, b->L, y,
-             "Energies are absolute (eV); hole levels lie below the valence edge. Shaded "
-             "columns alternate layers.",
+             "Energies absolute (eV). Shaded columns alternate layers. Arrows: the main "
+             "interband (PL) line and the strongest e1 intersubband line.",
              &f_small);
   if (b->any_flag) {
     y += 15;
@@ -519,8 +726,10 @@ static void draw_notes(ew_canvas *cv, const band *b, double y) {
   }
 }
 
-void ew_band_diagram_draw(ew_canvas *cv, const ew_result *r, ew_chart_scratch *sc) {
+void ew_band_diagram_draw(ew_canvas *cv, const ew_result *r, int levels_per_band,
+                          ew_chart_scratch *sc) {
   band b = {0};
+  b.max_lv = levels_per_band;
   b.r = r;
   b.st = r->stack;
   b.sc = sc;
@@ -540,8 +749,10 @@ void ew_band_diagram_draw(ew_canvas *cv, const ew_result *r, ew_chart_scratch *s
     draw_layers(cv, &b);
     draw_edges(cv, &b);
     draw_levels(cv, &b);
+    draw_fermi(cv, &b);
     draw_energy_axes(cv, &b);
-    draw_axis_break(cv, &b);
+    double arrow_x = NAN, label_end = draw_arrows(cv, &b, &arrow_x);
+    draw_axis_break(cv, &b, arrow_x, label_end);
     draw_z_axis(cv, &b);
     draw_labels(cv, &b);
     if (!cv->bad) draw_notes(cv, &b, draw_legend(cv, &b));

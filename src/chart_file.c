@@ -22,6 +22,16 @@ ew_status ew_wf_plot_companion(const char *path, const char *suffix, const char 
   return EW_OK;
 }
 
+ew_status ew_wf_chart_desc_into_set(ew_wf_outset *set, const char *final_path, const char *opt,
+                                    const ew_xy_chart *chart, ew_error *err) {
+  const char *tmp;
+  ew_status rc = ew_wf_outset_add(set, final_path, opt, &tmp, err);
+  if (rc != EW_OK) return rc;
+  rc = ew_plot_xy_chart(tmp, chart, err);
+  if (rc != EW_OK && err) snprintf(err->file, sizeof err->file, "%.500s", final_path);
+  return rc;
+}
+
 ew_status ew_wf_chart_into_set(ew_wf_outset *set, const char *final_path, const char *opt,
                                const char *title, const char *xlabel, const char *ylabel,
                                size_t np, const double *x, size_t ns, const double *const *y,

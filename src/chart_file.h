@@ -7,6 +7,7 @@
 
 #include "epiwell.h"
 #include "output_set.h"
+#include "xy_chart.h"
 
 /* The companion picture names of FILE.ext: FILE-SUFFIX.ext (suffix e.g. "interband"; ""
  * or NULL: FILE.ext itself).  EW_ERR_USAGE (naming opt_name) when path does not end in .svg
@@ -20,5 +21,9 @@ ew_status ew_wf_chart_into_set(ew_wf_outset *set, const char *final_path, const 
                                const char *title, const char *xlabel, const char *ylabel,
                                size_t np, const double *x, size_t ns, const double *const *y,
                                const char *const *names, ew_error *err);
+
+/* The same for a chart description (xy_chart.h), e.g. with its axis break. */
+ew_status ew_wf_chart_desc_into_set(ew_wf_outset *set, const char *final_path, const char *opt_name,
+                                    const ew_xy_chart *chart, ew_error *err);
 
 #endif

@@ -18,7 +18,7 @@
 static const char usage[] =
     "usage:\n"
     "  epiwell solve STACK [--json] [-o DIR] [--gzip] [--grid-step NM] [--lines K|all]\n"
-    "                      [--no-estimate] [--plot FILE.svg|FILE.png]\n"
+    "                      [--no-estimate] [--plot FILE.svg|FILE.png] [--plot-levels N|all]\n"
     "                      [--report DIR|FILE.html]\n"
     "                      [--spectra FILE.csv] [--spectra-plot FILE.svg|FILE.png]\n"
     "                      [--angle DEG] [--index N]\n"
@@ -36,7 +36,7 @@ static const char usage[] =
     "                      [--plot FILE.svg|FILE.png]  (epiwell sweep --help: the pictures)\n"
     "  epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE [--tolerance VALUE]\n"
     "                      [--samples N] [--json] [--threads N]  (two unknowns: each twice)\n"
-    "  epiwell tolerance STACK [--dx DX] [--ladder LAYER] [--json] [--threads N]\n"
+    "  epiwell tolerance STACK [--dx DX] [--rate PCT] [--ladder LAYER] [--json] [--threads N]\n"
     "    (sweep, match, tolerance also take --grid-step NM and --no-estimate)\n"
     "  epiwell --version | --help\n"
     "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"
@@ -166,6 +166,7 @@ typedef struct {
   const char *spectra, *spectra_plot, *angle_opt, *index_opt;
   double angle, index;
   int json, gzip;
+  int plot_levels; /* --plot-levels: levels per band in the band diagram, 0 = all */
   ew_options opt;
 } solve_opt;
 
@@ -207,6 +208,11 @@ static int solve_value(const char *a, const char *v, solve_opt *o) {
     o->plot = v;
   } else if (!strcmp(a, "--report")) {
     o->repdir = v;
+  } else if (!strcmp(a, "--plot-levels")) {
+    double k = 0;
+    if (strcmp(v, "all") && (!parse_num(v, &k) || k < 1 || k > 1e6 || k != floor(k)))
+      return ew_cli_bad(usage, "--plot-levels wants a whole number >= 1 or 'all', got %s", v);
+    o->plot_levels = (int)k;
   } else if (!strcmp(a, "--grid-step")) {
     if (!parse_num(v, &o->opt.grid_step_nm) || o->opt.grid_step_nm <= 0 || o->opt.grid_step_nm > 1)
       return ew_cli_bad(usage, "--grid-step wants a step in nm in (0, 1], got %s", v);
@@ -227,6 +233,7 @@ static int solve_parse(int argc, char **argv, solve_opt *o) {
   o->angle = EW_WF_DEFAULT_ANGLE_DEG;
   o->index = EW_WF_DEFAULT_INDEX;
   o->gzip = -1;
+  o->plot_levels = EW_PLOT_LEVELS_DEFAULT;
   ew_options_default(&o->opt);
   for (int i = 0; i < argc; i++) {
     const char *a = argv[i];
@@ -238,7 +245,8 @@ static int solve_parse(int argc, char **argv, solve_opt *o) {
     } else if (!strcmp(a, "--no-estimate")) {
       o->opt.error_estimate = 0;
     } else if (!strcmp(a, "-o") || !strcmp(a, "--grid-step") || !strcmp(a, "--lines") ||
-               !strcmp(a, "--plot") || !strcmp(a, "--report") || !strcmp(a, "--spectra") ||
+               !strcmp(a, "--plot") || !strcmp(a, "--plot-levels") || !strcmp(a, "--report") ||
+               !strcmp(a, "--spectra") ||
                !strcmp(a, "--spectra-plot") || !strcmp(a, "--angle") || !strcmp(a, "--index")) {
       if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);
       rc = solve_value(a, argv[++i], o);
@@ -339,7 +347,8 @@ static ew_status solve_compute(const solve_opt *o, solve_job *j, ew_error *err) 
 static ew_status solve_write_files(const solve_opt *o, solve_job *j, ew_error *err) {
   ew_status st = EW_OK;
   if (o->outdir) st = ew_output_set_write_csv(j->set, j->res, o->gzip, err);
-  if (st == EW_OK && o->plot) st = ew_result_write_band_diagram(j->res, j->w_plot, err);
+  if (st == EW_OK && o->plot)
+    st = ew_result_write_band_diagram_levels(j->res, j->w_plot, o->plot_levels, err);
   if (st == EW_OK && o->repdir) st = ew_result_write_report(j->res, j->cat, j->w_rep, err);
   if (st == EW_OK && j->sp)
     st = ew_spectra_stage_files(j->sp, o->spectra ? j->w_spectra : NULL,

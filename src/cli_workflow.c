@@ -39,8 +39,11 @@ static const char match_usage[] =
     "       (two unknowns: --vary twice and --line/--target twice)\n"
     "       VALUE is a number with a unit: eV, meV, nm, um or \xc2\xb5m (e.g. 9.0um, 1.548eV)\n";
 static const char tolerance_usage[] =
-    "usage: epiwell tolerance STACK [--dx DX] [--ladder LAYER] [--json] [--threads N]\n"
-    "                         [--grid-step NM] [--no-estimate]\n";
+    "usage: epiwell tolerance STACK [--dx DX] [--rate PCT] [--ladder LAYER] [--json]\n"
+    "                         [--threads N] [--grid-step NM] [--no-estimate]\n"
+    "  the table ends with the spread of every main line from the stated growth tolerances:\n"
+    "  -/+1 ML of every layer, -/+DX of every alloy x (default 0.01), each on its own, and\n"
+    "  with --rate a growth-rate error of -/+PCT percent, scaling all thicknesses together\n";
 
 static int report(const ew_error *err) { return ew_cli_report(err); }
 static int parse_num(const char *s, double *v) { return ew_cli_parse_num(s, v); }
@@ -450,7 +453,7 @@ int ew_cli_match(int argc, char **argv) {
 typedef struct {
   common_opt c;
   const char *path, *ladder;
-  double dx;
+  double dx, rate;
   int help;
 } tolerance_cmd;
 
@@ -464,10 +467,14 @@ static int tolerance_parse(int argc, char **argv, tolerance_cmd *t) {
       t->help = 1;
       return 0;
     }
-    if (!strcmp(a, "--dx") || !strcmp(a, "--ladder")) {
+    if (!strcmp(a, "--dx") || !strcmp(a, "--ladder") || !strcmp(a, "--rate")) {
       if (i + 1 >= argc) return ew_cli_bad(tolerance_usage, "%s needs a value", a);
       const char *v = argv[++i];
       if (!strcmp(a, "--ladder")) t->ladder = v;
+      else if (!strcmp(a, "--rate")) {
+        if (!parse_num(v, &t->rate) || !(t->rate >= 0 && t->rate <= 50))
+          return ew_cli_bad(tolerance_usage, "--rate wants a percentage in [0, 50], got %s", v);
+      }
       else if (!parse_num(v, &t->dx) || t->dx <= 0 || t->dx > 0.5)
         return ew_cli_bad(tolerance_usage, "--dx wants a composition step in (0, 0.5], got %s", v);
     } else if (a[0] == '-' && a[1]) {
@@ -479,6 +486,8 @@ static int tolerance_parse(int argc, char **argv, tolerance_cmd *t) {
     }
   }
   if (!t->path) return ew_cli_bad(tolerance_usage, "%s", "tolerance needs a stack file");
+  if (t->ladder && t->rate > 0)
+    return ew_cli_bad(tolerance_usage, "%s", "--rate gives the spread of a tolerance run: not with --ladder");
   return 0;
 }
 
@@ -490,7 +499,8 @@ static int tolerance_run(const tolerance_cmd *t) {
   int rc = 0;
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
       ew_tolerance_compute(t->path, cat, &t->c.solve, t->dx, t->ladder, t->c.threads, &tol,
-                           &err) != EW_OK) {
+                           &err) != EW_OK ||
+      (!t->ladder && ew_tolerance_set_growth_rate(tol, t->rate, &err) != EW_OK)) {
     rc = report(&err);
   } else {
     ew_status st = t->c.json ? ew_tolerance_write_json(tol, stdout, NULL)

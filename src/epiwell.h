@@ -300,6 +300,11 @@ EW_API ew_status ew_result_write_csv_dir(const ew_result *res, const char *dir, 
 /* Band diagram picture at path (.svg or .png, see ew_plot_format); or as SVG text to out. */
 EW_API ew_status ew_result_write_band_diagram(const ew_result *res, const char *path, ew_error *err);
 EW_API ew_status ew_result_write_band_diagram_svg(const ew_result *res, FILE *out, ew_error *err);
+/* The band diagram with the lowest levels_per_band levels of each band drawn (<= 0: every
+ * level); the two above and the report draw EW_PLOT_LEVELS_DEFAULT. */
+#define EW_PLOT_LEVELS_DEFAULT 8
+EW_API ew_status ew_result_write_band_diagram_levels(const ew_result *res, const char *path,
+                                              int levels_per_band, ew_error *err);
 /* dir/report.html, or dir itself when it ends in .html: one self-contained page (cat may
  * be NULL: no material table). */
 EW_API ew_status ew_result_write_report(const ew_result *res, const ew_catalogue *cat,
@@ -468,6 +473,11 @@ EW_API ew_status ew_tolerance_compute(const char *stack_path, const ew_catalogue
 EW_API void ew_tolerance_free(ew_tolerance *t);
 EW_API ew_status ew_tolerance_write_table(const ew_tolerance *t, FILE *out, ew_error *err);
 EW_API ew_status ew_tolerance_write_json(const ew_tolerance *t, FILE *out, ew_error *err);
+/* The growth-rate uncertainty (percent, 0 ≤ p ≤ 50; all thicknesses scaled together) that the
+ * writers' spread of the lines adds to the ±1 ML of every layer and ±dx of every alloy
+ * (README "Sweeps, matching and tolerances": "Spread").  Before a write; tolerance runs only
+ * (a ladder gives EW_ERR_USAGE). */
+EW_API ew_status ew_tolerance_set_growth_rate(ew_tolerance *t, double percent, ew_error *err);
 
 /* ==== Version, struct sizes and stacks with settings (api_version.c) ====================
  * A program built against one version of this header may run with another shared library.

@@ -50,6 +50,7 @@ ew_status ew_plot_check_path(const char *path, ew_error *err) {
 /* What to draw: a band diagram or a line chart. */
 typedef struct {
   const ew_result *band;   /* non-NULL: r's band diagram */
+  int levels;              /* its levels per band (<= 0: all) */
   const ew_xy_chart *xy;   /* otherwise this chart */
   int w, h;                /* picture size in units */
   const char *title;       /* the SVG's <title> */
@@ -57,7 +58,7 @@ typedef struct {
 } picture;
 
 static void draw(ew_canvas *cv, const picture *p, ew_chart_scratch *sc) {
-  if (p->band) ew_band_diagram_draw(cv, p->band, sc);
+  if (p->band) ew_band_diagram_draw(cv, p->band, p->levels, sc);
   else ew_xy_chart_draw(cv, p->xy, sc);
 }
 
@@ -114,12 +115,17 @@ static void band_title(const ew_result *r, char *buf, size_t cap) {
   snprintf(buf, cap, "Band diagram of %s", r->stack->path[0] ? base_name(r->stack->path) : "a stack");
 }
 
-ew_status ew_plot_band_diagram(const ew_result *r, const char *path, ew_error *err) {
+ew_status ew_plot_band_diagram_levels(const ew_result *r, const char *path, int levels_per_band,
+                                      ew_error *err) {
   if (!r || !path) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_plot_band_diagram: NULL argument");
   char title[600];
   band_title(r, title, sizeof title);
-  picture p = {r, NULL, EW_PLOT_BAND_W, EW_PLOT_BAND_H, title, r->grid->n + 2};
+  picture p = {r, levels_per_band, NULL, EW_PLOT_BAND_W, EW_PLOT_BAND_H, title, r->grid->n + 2};
   return write_file(path, &p, err);
+}
+
+ew_status ew_plot_band_diagram(const ew_result *r, const char *path, ew_error *err) {
+  return ew_plot_band_diagram_levels(r, path, EW_PLOT_LEVELS_DEFAULT, err);
 }
 
 ew_status ew_plot_band_diagram_svg(const ew_result *r, FILE *out, ew_error *err) {
@@ -127,7 +133,8 @@ ew_status ew_plot_band_diagram_svg(const ew_result *r, FILE *out, ew_error *err)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_plot_band_diagram_svg: NULL argument");
   char title[600];
   band_title(r, title, sizeof title);
-  picture p = {r, NULL, EW_PLOT_BAND_W, EW_PLOT_BAND_H, title, r->grid->n + 2};
+  picture p = {r, EW_PLOT_LEVELS_DEFAULT, NULL, EW_PLOT_BAND_W, EW_PLOT_BAND_H, title,
+               r->grid->n + 2};
   return render(out, 's', &p, err);
 }
 
@@ -139,7 +146,29 @@ ew_status ew_plot_xy(const char *path, const char *title, const char *xlabel,
                    "ew_plot_xy needs a path, at least one point and one series");
   for (size_t s = 0; s < nseries; s++)
     if (!y[s]) return ew_fail(err, EW_ERR_USAGE, path, 0, "ew_plot_xy: series %zu is NULL", s + 1);
-  ew_xy_chart a = {title, xlabel, ylabel, npoints, nseries, x, y, names};
-  picture p = {NULL, &a, EW_PLOT_XY_W, EW_PLOT_XY_H, title ? title : "line chart", npoints};
+  ew_xy_chart a = {title, xlabel, ylabel, npoints, nseries, x, y, names, 0};
+  picture p = {NULL, 0, &a, EW_PLOT_XY_W, EW_PLOT_XY_H, title ? title : "line chart", npoints};
   return write_file(path, &p, err);
+}
+
+ew_status ew_plot_xy_chart(const char *path, const ew_xy_chart *a, ew_error *err) {
+  if (!path || !a || a->npoints == 0 || a->nseries == 0 || !a->x || !a->y)
+    return ew_fail(err, EW_ERR_USAGE, path, 0,
+                   "ew_plot_xy needs a path, at least one point and one series");
+  for (size_t s = 0; s < a->nseries; s++)
+    if (!a->y[s]) return ew_fail(err, EW_ERR_USAGE, path, 0, "ew_plot_xy: series %zu is NULL", s + 1);
+  picture p = {NULL, 0, a, EW_PLOT_XY_W, EW_PLOT_XY_H, a->title ? a->title : "line chart",
+               a->npoints};
+  return write_file(path, &p, err);
+}
+
+ew_status ew_plot_xy_svg(FILE *out, const char *title, const char *xlabel, const char *ylabel,
+                         size_t npoints, const double *x, size_t nseries,
+                         const double *const *y, const char *const *names, ew_error *err) {
+  if (!out || npoints == 0 || nseries == 0 || !x || !y)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0,
+                   "ew_plot_xy_svg needs a stream, at least one point and one series");
+  ew_xy_chart a = {title, xlabel, ylabel, npoints, nseries, x, y, names, 0};
+  picture p = {NULL, 0, &a, EW_PLOT_XY_W, EW_PLOT_XY_H, title ? title : "line chart", npoints};
+  return render(out, 's', &p, err);
 }

@@ -15,6 +15,7 @@
 #define EW_PLOT_H
 
 #include "solve.h"
+#include "xy_chart.h"
 
 /* Picture sizes in SVG user units (CSS px).  A PNG has EW_PLOT_PNG_SCALE pixels per unit,
  * so it stays sharp when printed or zoomed. */
@@ -40,7 +41,13 @@ ew_status ew_plot_check_path(const char *path, ew_error *err);
  * the energy stand in a column at the right, layer names along the top, a legend below.
  * Energies are absolute eV.  Writes path (.svg or .png). */
 #define EW_PLOT_LEVEL_FRACTION 0.02
+/* Levels drawn per band unless told (ew_plot_band_diagram_levels): EW_PLOT_LEVELS_DEFAULT
+ * (epiwell.h).  A graded stack's 22 e, 36 hh, 19 lh levels are a solid mesh; the lowest
+ * eight of each are what a design reads. */
 ew_status ew_plot_band_diagram(const ew_result *r, const char *path, ew_error *err);
+/* The same with the lowest levels_per_band levels of each band (<= 0: every level). */
+ew_status ew_plot_band_diagram_levels(const ew_result *r, const char *path, int levels_per_band,
+                                      ew_error *err);
 
 /* The same band diagram as SVG text on an open stream (the report inlines it).  Returns
  * EW_ERR_IO when a write fails. */
@@ -54,5 +61,13 @@ ew_status ew_plot_band_diagram_svg(const ew_result *r, FILE *out, ew_error *err)
 ew_status ew_plot_xy(const char *path, const char *title, const char *xlabel,
                      const char *ylabel, size_t npoints, const double *x, size_t nseries,
                      const double *const *y, const char *const *names, ew_error *err);
+
+/* The same from a chart description (xy_chart.h; its break_y for a sweep's levels). */
+ew_status ew_plot_xy_chart(const char *path, const ew_xy_chart *chart, ew_error *err);
+
+/* The same line chart as SVG text on an open stream (the report inlines it). */
+ew_status ew_plot_xy_svg(FILE *out, const char *title, const char *xlabel, const char *ylabel,
+                         size_t npoints, const double *x, size_t nseries,
+                         const double *const *y, const char *const *names, ew_error *err);
 
 #endif

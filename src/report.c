@@ -9,11 +9,13 @@
 #include <strings.h> /* strcasecmp */
 
 #include "atomic.h"
+#include "constants.h"
 #include "error.h"
 #include "grid.h"
 #include "materials.h"
 #include "output.h"
 #include "plot.h"
+#include "spectra_workflow.h"
 
 /* Text into HTML: markup characters escaped, control characters dropped (they have no
  * place in a page and some are not allowed in HTML at all). */
@@ -77,6 +79,12 @@ static void page_head(FILE *f, const ew_result *r) {
           EW_VERSION, st->temperature_K, r->step_nm, r->grid->n, r->band_count[0],
           r->band_count[1], r->band_count[2],
           r->opt.error_estimate ? "from a second grid (Richardson)" : "not computed");
+  /* the band model, field and substrate: the terminal's "model:" line */
+  fputs("<p class=\"meta\" id=\"model\">Band model: ", f);
+  h(f, ew_result_model(r));
+  if (st->field_kV_cm != 0.0) fprintf(f, " &#183; field %g kV/cm along +z", st->field_kV_cm);
+  if (st->substrate[0]) fputs(" &#183; pseudomorphic on ", f), h(f, st->substrate);
+  fputs("</p>\n", f);
 }
 
 /* The result's own warnings, each with its stable code (README "Warnings": what it means and
@@ -108,10 +116,14 @@ static void warnings(FILE *f, const ew_result *r) {
 
 static void layers_table(FILE *f, const ew_result *r) {
   const ew_stack *st = r->stack;
-  fputs("<h2 id=\"stack\">Layer stack (growth order)</h2>\n<table>\n<tr><th>#</th><th>name</th>"
-        "<th>material</th><th>x</th><th>from (nm)</th><th>thickness (nm)</th><th>Ec (eV)</th>"
+  int any_y = 0;
+  for (size_t k = 0; k < st->n_layers; k++) any_y |= st->layers[k].has_y;
+  fputs("<h2 id=\"stack\">Layer stack (growth order)</h2>\n<table id=\"layers\">\n<tr><th>#</th>"
+        "<th>name</th><th>material</th><th>x</th>", f);
+  if (any_y) fputs("<th>y</th>", f);
+  fputs("<th>from (nm)</th><th>thickness (nm)</th><th>Ec (eV)</th>"
         "<th>Ev hh (eV)</th><th>Ev lh (eV)</th><th>m<sub>e</sub></th><th>m<sub>hh</sub></th>"
-        "<th>m<sub>lh</sub></th><th>lowest valley</th></tr>\n",
+        "<th>m<sub>lh</sub></th><th>strain (%)</th><th>lowest valley</th></tr>\n",
         f);
   for (size_t k = 0; k < st->n_layers; k++) {
     const ew_layer *ly = &st->layers[k];
@@ -121,8 +133,11 @@ static void layers_table(FILE *f, const ew_result *r) {
     h(f, ly->material);
     if (ly->user_material) fputs(" <i>(user-defined)</i>", f);
     fputs("</td>", f);
-    if (ly->has_x) num(f, 3, 'f', ly->x);
+    if (ly->grade) fputs("<td class=\"n\">graded</td>", f);
+    else if (ly->has_x) num(f, 3, 'f', ly->x);
     else fputs("<td class=\"n\">&#8212;</td>", f);
+    if (any_y && ly->has_y) num(f, 3, 'f', ly->y);
+    else if (any_y) fputs("<td class=\"n\">&#8212;</td>", f);
     num(f, 3, 'f', ly->z_start_nm);
     num(f, 3, 'f', ly->thickness_nm);
     num(f, 4, 'f', ly->bands.Ec_eV);
@@ -131,6 +146,7 @@ static void layers_table(FILE *f, const ew_result *r) {
     num(f, 4, 'f', ly->bands.me);
     num(f, 4, 'f', ly->bands.mhh_z);
     num(f, 4, 'f', ly->bands.mlh_z);
+    num(f, 3, 'f', 100.0 * ly->bands.eps_par);
     int v = ly->bands.lowest_valley;
     fprintf(f, "<td>%s</td></tr>\n", v >= 0 && v <= 2 ? valley_name[v] : "?");
   }
@@ -143,7 +159,7 @@ static void layers_table(FILE *f, const ew_result *r) {
 /* Band offsets of each interface (signs as in stack.h ew_interface). */
 static void offsets_table(FILE *f, const ew_stack *st) {
   if (st->n_layers < 2) return;
-  fputs("<h2 id=\"offsets\">Band offsets</h2>\n<table>\n<tr><th>first</th><th>second</th>"
+  fputs("<h2 id=\"offsets\">Band offsets</h2>\n<table id=\"offsets-table\">\n<tr><th>first</th><th>second</th>"
         "<th>z (nm)</th><th>&#916;E<sub>c</sub> (eV)</th><th>&#916;E<sub>v</sub> hh (eV)</th>"
         "<th>conduction share</th></tr>\n",
         f);
@@ -178,8 +194,8 @@ static void levels_table(FILE *f, const ew_result *r) {
     fputs("<p>None: no band has a well deeper than its outer layers.</p>\n", f);
     return;
   }
-  fputs("<table>\n<tr><th>state</th><th>energy (eV)</th><th>depth (meV)</th>"
-        "<th>error (meV)</th><th>mostly in</th><th>probability there</th>"
+  fputs("<table id=\"levels-table\">\n<tr><th>state</th><th>energy (eV)</th><th>depth (meV)</th>"
+        "<th>error (meV, numerical)</th><th>mostly in</th><th>probability there</th>"
         "<th>in-plane mass (m<sub>0</sub>)</th><th>residual</th><th>check</th></tr>\n",
         f);
   for (size_t i = 0; i < r->n_states; i++) {
@@ -198,20 +214,35 @@ static void levels_table(FILE *f, const ew_result *r) {
     fprintf(f, "<td>%s</td></tr>\n", s->flagged ? "<b>FAILED</b>" : "ok");
   }
   fputs("</table>\n<p class=\"meta\">Depth is |E &#8722; edge| from the band edge of the layer "
-        "holding most of |&#968;|&#178;; hole levels lie below the valence edge.</p>\n",
+        "holding most of |&#968;|&#178;; hole levels lie below the valence edge. The error is "
+        "the numerical error only, not the design uncertainty: <code>epiwell tolerance</code> "
+        "gives the spread of the lines from the growth tolerances.</p>\n",
         f);
 }
 
-static void lines_tables(FILE *f, const ew_result *r) {
+/* The lines the terminal table leaves out (ew_options line_min_strength), said once. */
+static void hidden_note(FILE *f, size_t n, const char *what, double min) {
+  if (n)
+    fprintf(f, "<p class=\"meta\">%zu line%s with %s &lt; %g not listed (as in the terminal "
+               "table; <code>--lines all</code> lists every line; JSON and CSV hold them "
+               "all).</p>\n",
+            n, n == 1 ? "" : "s", what, min);
+}
+
+static void intersubband_table(FILE *f, const ew_result *r, double min) {
   const ew_state *S = r->states;
-  fputs("<h2 id=\"lines\">Lines</h2>\n", f);
   int head = 0;
+  size_t hidden = 0;
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
     if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+    if (ln->oscillator_strength < min) {
+      hidden++;
+      continue;
+    }
     if (!head++)
-      fputs("<h3>Intersubband (TM, light polarised along z)</h3>\n<table>\n<tr><th>line</th>"
-            "<th>energy (meV)</th><th>&#955; (&#181;m)</th><th>dipole (nm)</th>"
+      fputs("<h3>Intersubband (TM, light polarised along z)</h3>\n<table id=\"intersubband\">\n"
+            "<tr><th>line</th><th>energy (meV)</th><th>&#955; (&#181;m)</th><th>dipole (nm)</th>"
             "<th>oscillator strength</th></tr>\n",
             f);
     fprintf(f, "<tr><td>%s&#8211;%s</td>", S[ln->lower].label, S[ln->upper].label);
@@ -222,23 +253,203 @@ static void lines_tables(FILE *f, const ew_result *r) {
     fputs("</tr>\n", f);
   }
   if (head) fputs("</table>\n", f);
-  int head2 = 0;
+  else if (hidden) fputs("<h3>Intersubband (TM, light polarised along z)</h3>\n", f);
+  hidden_note(f, hidden, "f", min);
+}
+
+static void interband_table(FILE *f, const ew_result *r, double min) {
+  const ew_state *S = r->states;
+  int head = 0;
+  size_t hidden = 0;
   for (size_t i = 0; i < r->n_lines; i++) {
     const ew_line *ln = &r->lines[i];
     if (ln->kind != EW_LINE_INTERBAND) continue;
-    if (!head2++)
-      fputs("<h3>Interband (band to band, no exciton correction)</h3>\n<table>\n<tr>"
-            "<th>line</th><th>energy (eV)</th><th>&#955; (nm)</th><th>overlap |&#10216;e|h"
-            "&#10217;|&#178;</th><th></th></tr>\n",
+    if (ln->overlap < min) {
+      hidden++;
+      continue;
+    }
+    if (!head++)
+      fputs("<h3>Interband (band to band; PL peak = line &#8722; exciton binding)</h3>\n"
+            "<table id=\"interband\">\n<tr><th>line</th><th>energy (eV)</th><th>&#955; (nm)</th>"
+            "<th>overlap |&#10216;e|h&#10217;|&#178;</th><th>exciton binding (meV)</th>"
+            "<th>PL peak (eV)</th><th>PL peak (nm)</th><th>TE</th><th>TM</th><th></th></tr>\n",
             f);
     fprintf(f, "<tr><td>%s&#8211;%s</td>", S[ln->upper].label, S[ln->lower].label);
     num(f, 5, 'f', ln->energy_eV);
     num(f, 2, 'f', ln->wavelength_nm);
     num(f, 4, 'f', ln->overlap);
+    num(f, 2, 'f', ln->exciton_binding_eV * 1e3);
+    num(f, 5, 'f', ln->pl_peak_eV);
+    num(f, 2, 'f', ew_line_pl_peak_nm(ln));
+    num(f, 3, 'f', ln->te_strength);
+    num(f, 3, 'f', ln->tm_strength);
     fprintf(f, "<td>%s</td></tr>\n", ln->allowed ? "allowed" : "forbidden");
   }
-  if (head2) fputs("</table>\n", f);
-  if (!head && !head2) fputs("<p>None.</p>\n", f);
+  if (head)
+    fputs("</table>\n<p class=\"meta\">TE: light polarised in the layer plane; TM: along z "
+          "(relative strengths, overlap included).</p>\n",
+          f);
+  else if (hidden) fputs("<h3>Interband (band to band)</h3>\n", f);
+  hidden_note(f, hidden, "overlap", min);
+}
+
+static void lines_tables(FILE *f, const ew_result *r) {
+  fputs("<h2 id=\"lines\">Lines</h2>\n", f);
+  size_t isb = 0, ib = 0;
+  for (size_t i = 0; i < r->n_lines; i++) {
+    if (r->lines[i].kind == EW_LINE_INTERBAND) ib++;
+    else isb++;
+  }
+  if (!isb && !ib) {
+    fputs("<p>None.</p>\n", f);
+    return;
+  }
+  double min = r->opt.line_min_strength > 0 ? r->opt.line_min_strength : 0.0;
+  if (isb) intersubband_table(f, r, min);
+  if (ib) interband_table(f, r, min);
+}
+
+/* Doped stacks: the terminal's Schrödinger–Poisson block (Fermi level, densities, sheet
+ * densities, depolarisation-shifted intersubband lines). */
+static void sp_section(FILE *f, const ew_result *r) {
+  const ew_stack *st = r->stack;
+  const ew_sp_info *sp = r->sp;
+  fprintf(f, "<h2 id=\"doping\">Self-consistent Schr&#246;dinger&#8211;Poisson</h2>\n"
+             "<table id=\"sp-summary\">\n<tr><th>quantity</th><th>value</th><th>unit</th></tr>\n");
+  struct { const char *name, *unit; int digits; char style; double v; } q[] = {
+      {"Fermi level", "eV", 6, 'f', sp->fermi_eV},
+      {"Fermi level, last face", "eV", 6, 'f', sp->fermi_last_eV},
+      {"free electrons", "cm<sup>&#8722;2</sup>", 4, 'e', sp->electrons_cm2},
+      {"electrons in the subbands", "cm<sup>&#8722;2</sup>", 4, 'e', sp->electrons_bound_cm2},
+      {"free holes", "cm<sup>&#8722;2</sup>", 4, 'e', sp->holes_cm2},
+      {"holes in the subbands", "cm<sup>&#8722;2</sup>", 4, 'e', sp->holes_bound_cm2},
+      {"ionised donors", "cm<sup>&#8722;2</sup>", 4, 'e', sp->donors_ion_cm2},
+      {"ionised acceptors", "cm<sup>&#8722;2</sup>", 4, 'e', sp->acceptors_ion_cm2},
+      {"residual max|&#916;U|", "eV", 2, 'e', sp->residual_eV},
+  };
+  for (size_t k = 0; k < sizeof q / sizeof q[0]; k++) {
+    if (k == 1 && !st->bias_given) continue;
+    fprintf(f, "<tr><td>%s</td>", q[k].name);
+    num(f, q[k].digits, q[k].style, q[k].v);
+    fprintf(f, "<td>%s</td></tr>\n", q[k].unit);
+  }
+  fprintf(f, "</table>\n<p class=\"meta\">%s; %d outer iterations; occupations at T = %g K. "
+             "The band diagram draws the Fermi level.</p>\n",
+          st->bias_given ? "bias between the two faces"
+          : st->surface_given ? "pinned first face, neutral last face"
+                              : "charge-neutral, flat ends",
+          sp->iterations, sp->temperature_K);
+  fputs("<h3>Sheet densities</h3>\n<table id=\"sheet\">\n<tr><th>state</th><th>energy (eV)"
+        "</th><th>sheet density (cm<sup>&#8722;2</sup>)</th></tr>\n", f);
+  for (size_t i = 0; i < r->n_states; i++) {
+    fprintf(f, "<tr><td>%s</td>", r->states[i].label);
+    num(f, 6, 'f', r->states[i].energy_eV);
+    num(f, 4, 'e', sp->sheet_cm2[i]);
+    fputs("</tr>\n", f);
+  }
+  fputs("</table>\n", f);
+  int dh = 0;
+  for (size_t i = 0; i < r->n_lines; i++) {
+    const ew_line *ln = &r->lines[i];
+    if (ln->kind != EW_LINE_INTERSUBBAND) continue;
+    if (!dh++)
+      fputs("<h3>Depolarisation-shifted intersubband lines</h3>\n<table id=\"depol\">\n<tr>"
+            "<th>line</th><th>bare (meV)</th><th>shift (meV)</th><th>shifted (meV)</th>"
+            "<th>&#955; shifted (&#181;m)</th></tr>\n", f);
+    double d = sp->depol_eV[i], e = ln->energy_eV + d;
+    fprintf(f, "<tr><td>%s&#8211;%s</td>", r->states[ln->lower].label, r->states[ln->upper].label);
+    num(f, 3, 'f', ln->energy_eV * 1e3);
+    num(f, 3, 'f', d * 1e3);
+    num(f, 3, 'f', e * 1e3);
+    num(f, 4, 'f', EW_HC_EVNM / e / 1e3);
+    fputs("</tr>\n", f);
+  }
+  if (dh) fputs("</table>\n", f);
+}
+
+/* One spectrum (0 interband, 1 intersubband) of s: the chart inline and its peaks. */
+static ew_status spectrum_figure(FILE *f, const ew_wf_spectra *s, int w, ew_error *err) {
+  static const char *const id[2] = {"spectrum-interband", "spectrum-intersubband"};
+  const double *v = w ? s->intersubband : s->interband_rel;
+  double *x = malloc((s->n ? s->n : 1) * sizeof *x), *y = malloc((s->n ? s->n : 1) * sizeof *y);
+  if (!x || !y) {
+    free(x);
+    free(y);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (report spectra)");
+  }
+  size_t m = 0;
+  for (size_t k = 0; k < s->n; k++)
+    if (s->grid[k] & (w ? 2 : 1)) {
+      x[m] = w ? 1e3 * s->E_eV[k] : s->E_eV[k];
+      y[m++] = v[k];
+    }
+  const double *ys[1] = {y};
+  const char *names[1] = {w ? "absorbed fraction per pass" : "interband_rel"};
+  fprintf(f, "<figure id=\"%s\">\n", id[w]);
+  ew_status rc = ew_plot_xy_svg(f, w ? "Intersubband absorption" : "Interband absorption, relative",
+                                w ? "photon energy (meV)" : "photon energy (eV)",
+                                w ? "fraction absorbed per pass" : "relative absorption", m, x, 1,
+                                ys, names, err);
+  free(x);
+  free(y);
+  if (rc != EW_OK) return rc;
+  if (w)
+    fprintf(f, "<figcaption>TM light at %g&#176; inside n = %g (the <code>--spectra</code> "
+               "defaults), N<sub>s</sub> = %g cm<sup>&#8722;2</sup> in e1, Lorentzian FWHM %g "
+               "meV.</figcaption>\n</figure>\n",
+            s->theta_deg, s->n_refr, s->sheet_density_cm2, s->linewidth_meV);
+  else
+    fprintf(f, "<figcaption>TE light at normal incidence, Lorentzian FWHM %g meV; 1 = the step "
+               "of a line of TE weight &#215; &#956;&#8741;/m<sub>0</sub> = 1.</figcaption>\n"
+               "</figure>\n",
+            s->linewidth_meV);
+  ew_wf_peak pk[64];
+  size_t n = ew_wf_spectra_peaks(s, w, pk, 64);
+  fprintf(f, "<table id=\"%s-peaks\">\n<tr><th>peak energy (eV)</th><th>wavelength</th>"
+             "<th>value</th></tr>\n", id[w]);
+  for (size_t k = 0; k < n && k < 64; k++) {
+    double lam = EW_HC_EVNM / pk[k].E_eV;
+    fputs("<tr>", f);
+    num(f, 6, 'f', pk[k].E_eV);
+    if (lam >= 2000) fprintf(f, "<td class=\"n\">%.4f &#181;m</td>", lam / 1e3);
+    else fprintf(f, "<td class=\"n\">%.2f nm</td>", lam);
+    num(f, 5, 'g', pk[k].value);
+    fputs("</tr>\n", f);
+  }
+  fprintf(f, "</table>\n<p class=\"meta\">Peaks: local maxima above %g %% of the spectrum's "
+             "maximum%s.</p>\n",
+          100.0 * EW_WF_PEAK_FRACTION, n > 64 ? " (the first 64)" : "");
+  return EW_OK;
+}
+
+/* The absorption spectra of `epiwell solve --spectra` (spectra_workflow.c, its default angle
+ * and index), each with its peaks; a spectrum that cannot be computed says why. */
+static ew_status spectra_section(FILE *f, const ew_result *r, ew_error *err) {
+  fputs("<h2 id=\"spectra\">Absorption spectra</h2>\n", f);
+  ew_wf_spectra s;
+  ew_error e = {0};
+  ew_status rc = ew_wf_spectra_compute(r, EW_WF_DEFAULT_ANGLE_DEG, EW_WF_DEFAULT_INDEX, &s, &e);
+  if (rc == EW_ERR_USAGE) { /* a stack built in memory without a linewidth: say so */
+    fputs("<p>Not computed: ", f);
+    h(f, e.message);
+    fputs(".</p>\n", f);
+    return EW_OK;
+  }
+  if (rc != EW_OK) {
+    if (err) *err = e;
+    return rc;
+  }
+  for (int w = 0; w < 2 && rc == EW_OK; w++) {
+    if (s.note[w][0]) {
+      fputs("<p>", f);
+      h(f, s.note[w]);
+      fputs(".</p>\n", f);
+      continue;
+    }
+    rc = spectrum_figure(f, &s, w, err);
+  }
+  ew_wf_spectra_free(&s);
+  return rc;
 }
 
 /* The parameters of one catalogue material at the layer's x, each with its source. */
@@ -326,6 +537,9 @@ static ew_status write_page(FILE *f, const ew_result *r, const ew_catalogue *cat
           EW_PLOT_LEVEL_FRACTION * 100);
   levels_table(f, r);
   lines_tables(f, r);
+  if (r->sp) sp_section(f, r);
+  rc = spectra_section(f, r, err);
+  if (rc != EW_OK) return rc;
   params_tables(f, r, cat);
   fputs("<p class=\"meta\" style=\"margin-top:24px\">Design estimates from an effective-mass "
         "model with tabulated parameters; not a substitute for measurement.</p>\n"

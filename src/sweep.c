@@ -28,6 +28,7 @@ void ew_wf_table_free(ew_wf_table *t) {
   free(t->names);
   free(t->v);
   free(t->warnings);
+  free(t->psi);
   memset(t, 0, sizeof *t);
 }
 
@@ -245,7 +246,12 @@ static ew_status table_begin(const sweep_plan *P, const char *stack, ew_wf_table
   size_t rows = (P->hi - P->lo) ? (P->hi - P->lo) : 1;
   tab->v = malloc(rows * P->ncol * sizeof *tab->v);
   tab->warnings = malloc(rows * sizeof *tab->warnings);
-  if (!tab->names || !tab->v || !tab->warnings) {
+  tab->lev0 = P->nr;
+  for (int b = 0; b < EW_BAND_COUNT; b++)
+    for (size_t n = 0; n < P->cols.nlev[b] && tab->nlev < sizeof tab->band / sizeof tab->band[0]; n++)
+      tab->band[tab->nlev++] = (ew_band)b;
+  tab->psi = malloc((rows * tab->nlev * EW_WF_PSI_SAMPLES + 1) * sizeof *tab->psi);
+  if (!tab->names || !tab->v || !tab->warnings || !tab->psi) {
     ew_wf_table_free(tab);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep table of %zu points for "
                    "the picture)", P->hi - P->lo);
@@ -297,6 +303,28 @@ static void fill_row(const ew_result *r, const sweep_plan *P, const double *vals
   }
 }
 
+/* Each level column's ψ at EW_WF_PSI_SAMPLES evenly spaced z (linear between nodes), unit
+ * norm; zeros for a level not bound here (for the pictures' level tracking). */
+static void sample_psi(const ew_result *r, const sweep_plan *P, double *out) {
+  const size_t K = EW_WF_PSI_SAMPLES, n = r->grid->n;
+  const double *z = ew_result_z_nm(r);
+  size_t q = 0;
+  for (int b = 0; b < EW_BAND_COUNT; b++)
+    for (size_t lv = 1; lv <= P->cols.nlev[b] && q < 3 * 64; lv++, q++) {
+      double *o = out + q * K, s2 = 0;
+      size_t i = ew_wf_level_index(r, (ew_band)b, (int)lv), m = 0;
+      const double *psi = i != SIZE_MAX ? ew_result_wavefunction(r, i) : NULL;
+      for (size_t k = 0; k < K; k++) {
+        double zz = z[0] + (z[n - 1] - z[0]) * (double)k / (double)(K - 1);
+        while (m + 2 < n && z[m + 1] < zz) m++;
+        double t = z[m + 1] > z[m] ? (zz - z[m]) / (z[m + 1] - z[m]) : 0;
+        o[k] = psi ? psi[m] + t * (psi[m + 1] - psi[m]) : 0;
+        s2 += o[k] * o[k];
+      }
+      for (size_t k = 0; k < K && s2 > 0; k++) o[k] /= sqrt(s2);
+    }
+}
+
 /* The sub-grid fixed the columns; a point with more levels cannot be written. */
 static ew_status check_counts(const ew_result *r, const sweep_plan *P, const double *vals,
                               ew_error *err) {
@@ -313,7 +341,8 @@ static ew_status check_counts(const ew_result *r, const sweep_plan *P, const dou
 }
 
 /* One point into its row; failures recorded in point order. */
-static void solve_row(const sweep_plan *P, size_t p, double *row, char *codes, ew_wf_fail *fl) {
+static void solve_row(const sweep_plan *P, size_t p, double *row, char *codes, double *psi,
+                      ew_wf_fail *fl) {
   double vals[2];
   ew_error e = {0};
   ew_stack *st = NULL;
@@ -323,12 +352,13 @@ static void solve_row(const sweep_plan *P, size_t p, double *row, char *codes, e
   if (rc == EW_OK) rc = check_counts(res, P, vals, &e);
   if (rc == EW_OK) fill_row(res, P, vals, row, codes);
   else ew_wf_fail_record(fl, p, rc, &e);
+  if (rc == EW_OK && psi) sample_psi(res, P, psi);
   ew_result_free(res);
   ew_stack_free(st);
 }
 
 static void write_row(const sweep_plan *P, size_t p, const double *row, const char *codes,
-                      FILE *csv, FILE *json, ew_wf_table *tab) {
+                      const double *psi, FILE *csv, FILE *json, ew_wf_table *tab) {
   size_t ncol = P->ncol;
   if (csv) {
     for (size_t j = 0; j + 1 < ncol; j++) {
@@ -338,6 +368,8 @@ static void write_row(const sweep_plan *P, size_t p, const double *row, const ch
     fprintf(csv, ",%s\n", codes); /* codes hold no comma or quote: a plain RFC 4180 cell */
   }
   if (tab) {
+    size_t pk = tab->nlev * EW_WF_PSI_SAMPLES;
+    memcpy(tab->psi + tab->nrows * pk, psi, pk * sizeof *psi);
     memcpy(tab->warnings[tab->nrows], codes, EW_WARNING_CODES_MAX);
     memcpy(tab->v + (tab->nrows++) * ncol, row, ncol * sizeof *row);
   }
@@ -360,9 +392,12 @@ static ew_status sweep_rows(const sweep_plan *P, const ew_wf_sweep_opt *o, FILE 
   const size_t chunk = 64 * (size_t)P->nt, ncol = P->ncol;
   double *rows = malloc(chunk * ncol * sizeof *rows);
   char (*codes)[EW_WARNING_CODES_MAX] = malloc(chunk * sizeof *codes);
-  if (!rows || !codes) {
+  size_t pk = tab ? tab->nlev * EW_WF_PSI_SAMPLES : 0; /* ψ samples per row (pictures only) */
+  double *psi = tab ? malloc((chunk * pk + 1) * sizeof *psi) : NULL;
+  if (!rows || !codes || (tab && !psi)) {
     free(rows);
     free(codes);
+    free(psi);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep rows)");
   }
   ew_wf_fail fl = EW_WF_FAIL_NONE;
@@ -372,17 +407,19 @@ static ew_status sweep_rows(const sweep_plan *P, const ew_wf_sweep_opt *o, FILE 
     EW_OMP(omp parallel for num_threads(P->nt) schedule(dynamic, 1))
     for (size_t j = 0; j < cn; j++) {
       if (c0 + j > ew_wf_fail_index(&fl)) continue;
-      solve_row(P, c0 + j, rows + j * ncol, codes[j], &fl);
+      solve_row(P, c0 + j, rows + j * ncol, codes[j], psi ? psi + j * pk : NULL, &fl);
       if (o->progress) {
         EW_OMP(omp critical(ew_wf_progress))
         o->progress(o->progress_ctx, ++done, todo);
       }
     }
     if (fl.index != SIZE_MAX) break;
-    for (size_t j = 0; j < cn; j++) write_row(P, c0 + j, rows + j * ncol, codes[j], csv, json, tab);
+    for (size_t j = 0; j < cn; j++)
+      write_row(P, c0 + j, rows + j * ncol, codes[j], psi ? psi + j * pk : NULL, csv, json, tab);
   }
   free(rows);
   free(codes);
+  free(psi);
   return fl.index != SIZE_MAX ? ew_wf_fail_report(&fl, err) : EW_OK;
 }
 

@@ -40,7 +40,15 @@ typedef struct ew_wf_table {
   char (*names)[64];   /* [ncol] column names as in the CSV header */
   double *v;           /* [nrows × ncol], row-major (NaN in the last column, "warnings") */
   char (*warnings)[EW_WARNING_CODES_MAX]; /* [nrows] the point's warning codes, ';'-joined */
+  /* for the pictures' level tracking (sweep_plot.c): the level columns are columns
+     lev0 … lev0 + nlev − 1, band[k] the band of level column k; psi holds each point's ψ of
+     each level column at EW_WF_PSI_SAMPLES evenly spaced z over the stack, unit norm
+     (zeros when the level is not bound) — [nrows × nlev × EW_WF_PSI_SAMPLES] */
+  size_t lev0, nlev;
+  ew_band band[3 * 64];
+  double *psi;
 } ew_wf_table;
+#define EW_WF_PSI_SAMPLES 160
 void ew_wf_table_free(ew_wf_table *t); /* frees the contents, keeps t; NULL is a no-op */
 
 void ew_wf_sweep_opt_default(ew_wf_sweep_opt *o);

@@ -122,12 +122,25 @@ static const char *const WHAT1[EW_WF_PLOT_FILES] = {"levels", "interband lines",
                                                     "intersubband lines"};
 static const char *const COL2[EW_WF_PLOT_FILES] = {"e1_eV", "e1-hh1_nm", "e1-e2_um"};
 
-/* One key: every column of kind f is a series. */
+/* An intersubband column of holes (hh1-hh2_um, lh1-lh2_um): left out of the chart when the
+ * sweep has electron lines, whose µm they would squash (hh1-hh2 runs to 180 µm). */
+static int hole_line(const char *name) { return name[0] == 'h' || name[0] == 'l'; }
+
+static int any_electron_line(const ew_wf_table *t) {
+  for (size_t c = 1; c < t->ncol; c++)
+    if (column_kind(t->names[c]) == 2 && !hole_line(t->names[c])) return 1;
+  return 0;
+}
+
+/* One key: every column of kind f is a series (intersubband: the electron lines when there
+ * are any). */
 static void series_one_key(const ew_wf_table *t, int f, plot_work *w) {
   size_t R = w->R, C = w->C;
+  int electrons_only = f == 2 && any_electron_line(t);
   w->ns = 0;
   for (size_t c = 1; c < C; c++) {
     if (column_kind(t->names[c]) != f) continue;
+    if (electrons_only && hole_line(t->names[c])) continue;
     double *y = w->ybuf + w->ns * R;
     for (size_t i = 0; i < R; i++) y[i] = t->v[i * C + c];
     snprintf(w->labels[w->ns], sizeof w->labels[w->ns], "%.*s", (int)(strlen(t->names[c]) - 3),
@@ -136,8 +149,8 @@ static void series_one_key(const ew_wf_table *t, int f, plot_work *w) {
     w->names[w->ns] = w->labels[w->ns];
     w->ns++;
   }
-  snprintf(w->title, sizeof w->title, "%s: %s against %s", base_of(t->stack), WHAT1[f],
-           t->names[0]);
+  snprintf(w->title, sizeof w->title, "%s: %s%s against %s", base_of(t->stack),
+           electrons_only ? "electron " : "", WHAT1[f], t->names[0]);
 }
 
 /* Two keys: column COL2[f], one curve per picked value of the second key. */
@@ -163,6 +176,58 @@ static void series_two_keys(const ew_wf_table *t, int f, plot_work *w) {
   }
   snprintf(w->title, sizeof w->title, "%s: %.*s against %s, one curve per %s", base_of(t->stack),
            (int)(strlen(COL2[f]) - 3), COL2[f], t->names[0], t->names[1]);
+}
+
+/* Overlap |⟨a|b⟩| of two sampled ψ (each of unit norm, or zero). */
+static double overlap(const double *a, const double *b) {
+  double s = 0;
+  for (size_t k = 0; k < EW_WF_PSI_SAMPLES; k++) s += a[k] * b[k];
+  return fabs(s);
+}
+
+/* A field sweep's levels chart: each curve follows one level by the overlap of its ψ with
+ * the previous point's (greedy, largest overlap first, within a band; pairs below 1/2 are not
+ * matched, and what is left keeps energy order), so a quasi-bound level that trades places
+ * with another does not zigzag between two curves.  Series k is level column k. */
+static ew_status track_levels(const ew_wf_table *t, plot_work *w, ew_error *err) {
+  const size_t L = t->nlev, K = EW_WF_PSI_SAMPLES, R = w->R, C = w->C;
+  if (L == 0 || w->ns != L || !t->psi) return EW_OK;
+  double *prev = malloc(L * K * sizeof *prev);
+  size_t *of = malloc(2 * L * sizeof *of); /* of[a]: the column track a takes at this point */
+  if (!prev || !of) {
+    free(prev);
+    free(of);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep picture)");
+  }
+  unsigned char *taken = (unsigned char *)(of + L); /* L bytes of the second half */
+  memcpy(prev, t->psi, L * K * sizeof *prev);
+  for (size_t i = 1; i < R; i++) {
+    const double *cur = t->psi + i * L * K;
+    for (size_t a = 0; a < L; a++) of[a] = SIZE_MAX, taken[a] = 0;
+    for (;;) {
+      double best = 0.5;
+      size_t ba = SIZE_MAX, bc = SIZE_MAX;
+      for (size_t a = 0; a < L; a++)
+        for (size_t c = 0; of[a] == SIZE_MAX && c < L; c++) {
+          if (taken[c] || t->band[c] != t->band[a]) continue;
+          double o = overlap(prev + a * K, cur + c * K);
+          if (o > best) best = o, ba = a, bc = c;
+        }
+      if (ba == SIZE_MAX) break;
+      of[ba] = bc, taken[bc] = 1;
+    }
+    for (size_t a = 0; a < L; a++) /* the rest in energy order, within the band */
+      for (size_t c = 0; of[a] == SIZE_MAX && c < L; c++)
+        if (!taken[c] && t->band[c] == t->band[a]) of[a] = c, taken[c] = 1;
+    for (size_t a = 0; a < L; a++) {
+      size_t c = of[a] == SIZE_MAX ? a : of[a];
+      w->ybuf[a * R + i] = t->v[i * C + t->lev0 + c];
+      if (overlap(cur + c * K, cur + c * K) > 0) memcpy(prev + a * K, cur + c * K, K * sizeof *prev);
+    }
+  }
+  free(prev);
+  free(of);
+  return EW_OK;
 }
 
 /* The points with warnings: one more series over the chart's first curve, finite only where
@@ -214,10 +279,17 @@ ew_status ew_wf_sweep_plot(const ew_wf_table *t, const char *path, ew_wf_outset 
   for (int f = 0; f < EW_WF_PLOT_FILES && rc == EW_OK; f++) {
     if (t->nkeys == 1) series_one_key(t, f, &w);
     else series_two_keys(t, f, &w);
+    if (f == 0 && t->nkeys == 1 && !strcmp(t->names[0], "field")) {
+      rc = track_levels(t, &w, err);
+      snprintf(w.title, sizeof w.title, "%s: levels against field, followed by overlap "
+               "(names at the first point)", base_of(t->stack));
+      if (rc != EW_OK) break;
+    }
     flag_series(t, &w);
     if (w.ns == 0) continue; /* no such column in this sweep: no chart */
-    rc = ew_wf_chart_into_set(set, paths[f], "--plot", w.title, xlabel, ylab[f], w.nx, w.x,
-                              w.ns, w.ys, w.names, err);
+    /* the levels chart: electron and hole levels lie a band gap apart, so its axis breaks */
+    ew_xy_chart ch = {w.title, xlabel, ylab[f], w.nx, w.ns, w.x, w.ys, w.names, f == 0};
+    rc = ew_wf_chart_desc_into_set(set, paths[f], "--plot", &ch, err);
     if (rc == EW_OK) written[f] = 1;
   }
   work_free(&w);

@@ -7,9 +7,12 @@
 #include "sweep.h"
 
 /* Pictures of a sweep (the suffixes of EW_WF_PLOT_SUFFIX):
- *   one key:  FILE                  every level (e1, e2, …, hh1, …, lh1, …; eV) against it;
+ *   one key:  FILE                  every level (e1, e2, …, hh1, …, lh1, …; eV) against it,
+ *                                   the energy axis broken between electron and hole levels;
  *             FILE-interband.ext    the interband main lines' wavelengths (nm);
- *             FILE-intersubband.ext the intersubband main lines' wavelengths (µm);
+ *             FILE-intersubband.ext the intersubband main lines' wavelengths (µm): the
+ *                                   electron lines (e1-e2, …) when the sweep has any, else
+ *                                   the hole lines;
  *   two keys: the same three files with the first key on the x axis and one curve per value
  *             of the second key (at most EW_WF_PLOT_MAX_CURVES values, evenly spaced, both
  *             ends included), labelled KEY=VALUE: FILE e1 (eV), FILE-interband e1-hh1 (nm),

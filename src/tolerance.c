@@ -96,10 +96,24 @@ typedef struct {
   size_t layer;
   int ok;
   double *E;          /* [n_items] */
+  double *PL;         /* [n_items] or NULL: PL peak (line − exciton binding) of interband items */
   ew_bands bands;     /* the varied layer's band parameters in that stack */
   char codes[EW_WARNING_CODES_MAX]; /* its warning codes ("" when not solved) */
 } wf_job;
 
+
+/* The PL peak of an interband item: the line's energy less its exciton binding, as the
+ * interband table gives it (NaN for other items or when the pair has no line). */
+static double item_pl(const ew_result *r, const wf_itemdef *d) {
+  if (!d->is_line || !d->interband) return NAN;
+  size_t ia = ew_wf_level_index(r, d->a.band, d->a.n), ib = ew_wf_level_index(r, d->b.band, d->b.n);
+  for (size_t i = 0; ia != SIZE_MAX && ib != SIZE_MAX && i < r->n_lines; i++) {
+    const ew_line *ln = &r->lines[i];
+    if (ln->kind == EW_LINE_INTERBAND && ln->upper == ia && ln->lower == ib)
+      return ln->exciton_binding_eV > 0 ? ln->pl_peak_eV : NAN;
+  }
+  return NAN;
+}
 
 static ew_status run_jobs(const ew_wf_model *m, wf_job *jobs, size_t nj, const wf_itemdef *defs,
                           size_t ni, int nt, ew_error *err) {
@@ -118,6 +132,7 @@ static ew_status run_jobs(const ew_wf_model *m, wf_job *jobs, size_t nj, const w
     jb->ok = 0;
     jb->codes[0] = '\0';
     for (size_t i = 0; i < ni; i++) jb->E[i] = NAN;
+    for (size_t i = 0; jb->PL && i < ni; i++) jb->PL[i] = NAN;
     ew_status q = ew_wf_pool_stack(&pool, 1, &key, &jb->value, &st, &e);
     if (q == EW_ERR_INPUT) continue;
     if (q == EW_OK) q = ew_solve(st, opt, &res, &e);
@@ -128,6 +143,7 @@ static ew_status run_jobs(const ew_wf_model *m, wf_job *jobs, size_t nj, const w
     }
     jb->ok = 1;
     for (size_t i = 0; i < ni; i++) jb->E[i] = item_energy(res, &defs[i]);
+    for (size_t i = 0; jb->PL && i < ni; i++) jb->PL[i] = item_pl(res, &defs[i]);
     jb->bands = st->layers[jb->layer].bands;
     ew_result_warning_codes_join(res, jb->codes, sizeof jb->codes);
     ew_result_free(res);
@@ -323,10 +339,117 @@ void ew_wf_tolerance_free(ew_wf_tolerance *t) {
   free(t);
 }
 
-/* One right-aligned fixed-point column: `width` characters, `digits` decimals, "-" when not finite. */
+/* One right-aligned fixed-point column: `width` characters, `digits` decimals, "-" when not
+ * finite; a value that rounds to zero prints without a sign (no "-0.000"). */
 static void cell(FILE *out, int width, int digits, double v) {
+  if (fabs(v) < 0.5 * pow(10.0, -digits)) v = 0.0;
   if (isfinite(v)) fprintf(out, " %*.*f", width, digits, v);
   else fprintf(out, "%*s", width, "-");
+}
+
+ew_wf_spread ew_wf_tolerance_spread(const ew_wf_tolerance *t, size_t i) {
+  ew_wf_spread s = {0, 0, 0, 0, 0};
+  double rate = 0;
+  for (size_t k = 0; k < t->n_layers; k++) {
+    const ew_wf_tol_layer *L = &t->layers[k];
+    double a = L->dEdt_hf[i] * L->ml_nm;
+    s.thickness_eV += a * a;
+    s.worst_eV += fabs(a);
+    rate += L->dEdt_hf[i] * L->thickness_nm;
+    if (!L->has_x) continue;
+    double c = L->dEdx_hf[i] * L->dx;
+    s.composition_eV += c * c;
+    s.worst_eV += fabs(c);
+  }
+  s.rate_eV = fabs(rate) * t->rate_percent / 100.0;
+  s.worst_eV += s.rate_eV;
+  s.rss_eV = sqrt(s.thickness_eV + s.composition_eV + s.rate_eV * s.rate_eV);
+  s.thickness_eV = sqrt(s.thickness_eV);
+  s.composition_eV = sqrt(s.composition_eV);
+  return s;
+}
+
+/* A layer whose ±1 ML moves no line by half the table's last digit (0.0005 meV), by the
+ * solves and by dE/dt · ML alike: a thick barrier, whose thickness columns print zeros. */
+static int thickness_moves_nothing(const ew_wf_tolerance *t, const ew_wf_tol_layer *L) {
+  for (size_t i = 0; i < t->n_items; i++) {
+    if (!t->items[i].is_line) continue;
+    double v[3] = {L->ml_minus[i], L->ml_plus[i], L->dEdt_hf[i] * L->ml_nm};
+    for (int q = 0; q < 3; q++)
+      if (!isfinite(v[q]) || fabs(v[q]) >= 0.5e-6) return 0;
+  }
+  return 1;
+}
+
+static void layer_block(const ew_wf_tolerance *t, size_t k, int show_t, FILE *out) {
+  const ew_wf_tol_layer *L = &t->layers[k];
+  fprintf(out, "\nlayer %zu %s (%s, %.3f nm)  1 ML = %.4f nm%s", k + 1, L->name, L->material,
+          L->thickness_nm, L->ml_nm,
+          L->ml_default ? " (no lattice constant: GaAs's a/2 used)" : "");
+  if (L->has_x) fprintf(out, "  x = %.4f, dx = %g", L->x, L->dx);
+  if (!show_t) fprintf(out, "\n  (thickness moves no line by 0.0005 meV for -/+1 ML: columns left out)");
+  fprintf(out, "\n  %-10s %10s", "line", "energy_eV");
+  if (show_t) fprintf(out, " %9s %9s %11s %11s", "-1ML_meV", "+1ML_meV", "dEdt_HF", "dEdt_FD");
+  if (L->has_x) fprintf(out, " %9s %9s %11s %11s", "-dx_meV", "+dx_meV", "dEdx_HF", "dEdx_FD");
+  fprintf(out, "\n  %-10s %10s", "", "");
+  if (show_t) fprintf(out, " %9s %9s %11s %11s", "", "", "meV/nm", "meV/nm");
+  if (L->has_x) fprintf(out, " %9s %9s %11s %11s", "", "", "meV/x", "meV/x");
+  fputc('\n', out);
+  for (size_t i = 0; i < t->n_items; i++) {
+    const ew_wf_item *it = &t->items[i];
+    if (!it->is_line) continue;
+    fprintf(out, "  %-10s %10.6f", it->name, it->energy_eV);
+    if (show_t) {
+      cell(out, 9, 3, 1e3 * L->ml_minus[i]);
+      cell(out, 9, 3, 1e3 * L->ml_plus[i]);
+      cell(out, 11, 4, 1e3 * L->dEdt_hf[i]);
+      cell(out, 11, 4, 1e3 * L->dEdt_fd[i]);
+    }
+    if (L->has_x) {
+      cell(out, 9, 3, 1e3 * L->dx_minus[i]);
+      cell(out, 9, 3, 1e3 * L->dx_plus[i]);
+      cell(out, 11, 2, 1e3 * L->dEdx_hf[i]);
+      cell(out, 11, 2, 1e3 * L->dEdx_fd[i]);
+    }
+    fputc('\n', out);
+  }
+  const char *wl[4] = {L->warn_ml_minus, L->warn_ml_plus, L->warn_dx_minus, L->warn_dx_plus};
+  static const char *const at[4] = {"-1 ML", "+1 ML", "-dx", "+dx"};
+  for (int q = 0; q < 4; q++)
+    if (wl[q][0]) fprintf(out, "  warnings at %s: %s\n", at[q], wl[q]);
+}
+
+/* The spread of the main lines from the stated growth tolerances (ew_wf_tolerance_spread). */
+static void spread_block(const ew_wf_tolerance *t, FILE *out) {
+  double dx = NAN;
+  for (size_t k = 0; k < t->n_layers; k++)
+    if (t->layers[k].has_x) dx = t->layers[k].dx;
+  fprintf(out, "\nSpread of the lines from the stated growth tolerances (first order, HF): every "
+               "layer -/+1 ML");
+  if (isfinite(dx)) fprintf(out, " and every alloy x -/+ %g", dx);
+  fprintf(out, ", each on its own");
+  if (t->rate_percent > 0) fprintf(out, "; growth rate -/+%g %% on all layers together", t->rate_percent);
+  fprintf(out, ".\nrss = root sum of squares (independent errors), worst = all aligned; "
+               "d_lambda from rss (nm for interband, um for intersubband lines;\n"
+               "'-' where rss exceeds a quarter of the line: there first order says only that the line is not pinned)\n");
+  fprintf(out, "  %-10s %10s %9s %9s %9s %9s %9s %10s\n", "line", "energy_eV", "thick_meV",
+          "comp_meV", "rate_meV", "rss_meV", "worst_meV", "d_lambda");
+  for (size_t i = 0; i < t->n_items; i++) {
+    const ew_wf_item *it = &t->items[i];
+    if (!it->is_line) continue;
+    ew_wf_spread s = ew_wf_tolerance_spread(t, i);
+    double e = fabs(it->energy_eV), dl = EW_HC_EVNM / (e * e) * s.rss_eV;
+    fprintf(out, "  %-10s %10.6f", it->name, it->energy_eV);
+    cell(out, 9, 3, 1e3 * s.thickness_eV);
+    cell(out, 9, 3, 1e3 * s.composition_eV);
+    cell(out, 9, 3, 1e3 * s.rate_eV);
+    cell(out, 9, 3, 1e3 * s.rss_eV);
+    cell(out, 9, 3, 1e3 * s.worst_eV);
+    if (s.rss_eV > 0.25 * e) fprintf(out, "%10s", "-"); /* first order means nothing there */
+    else if (it->interband) cell(out, 7, 2, dl), fputs(" nm", out);
+    else cell(out, 7, 3, dl / 1e3), fputs(" um", out);
+    fputc('\n', out);
+  }
 }
 
 void ew_wf_tolerance_print(const ew_wf_tolerance *t, FILE *out) {
@@ -335,41 +458,50 @@ void ew_wf_tolerance_print(const ew_wf_tolerance *t, FILE *out) {
                "for x -/+ dx of alloy layers;\n"
                "dE/dt and dE/dx by Hellmann-Feynman (HF) and by central differences (FD).\n");
   if (t->warnings[0]) fprintf(out, "warnings: %s\n", t->warnings);
+  int quiet = 0;
   for (size_t k = 0; k < t->n_layers; k++) {
     const ew_wf_tol_layer *L = &t->layers[k];
-    fprintf(out, "\nlayer %zu %s (%s, %.3f nm)  1 ML = %.4f nm%s", k + 1, L->name, L->material,
-            L->thickness_nm, L->ml_nm,
-            L->ml_default ? " (no lattice constant: GaAs's a/2 used)" : "");
-    if (L->has_x) fprintf(out, "  x = %.4f, dx = %g", L->x, L->dx);
-    fprintf(out, "\n  %-10s %10s %9s %9s %11s %11s", "line", "energy_eV", "-1ML_meV", "+1ML_meV",
-            "dEdt_HF", "dEdt_FD");
-    if (L->has_x) fprintf(out, " %9s %9s %11s %11s", "-dx_meV", "+dx_meV", "dEdx_HF", "dEdx_FD");
-    fprintf(out, "\n  %-10s %10s %9s %9s %11s %11s", "", "", "", "", "meV/nm", "meV/nm");
-    if (L->has_x) fprintf(out, " %9s %9s %11s %11s", "", "", "meV/x", "meV/x");
-    fputc('\n', out);
-    for (size_t i = 0; i < t->n_items; i++) {
-      const ew_wf_item *it = &t->items[i];
-      if (!it->is_line) continue;
-      fprintf(out, "  %-10s %10.6f", it->name, it->energy_eV);
-      cell(out, 9, 3, 1e3 * L->ml_minus[i]);
-      cell(out, 9, 3, 1e3 * L->ml_plus[i]);
-      cell(out, 11, 4, 1e3 * L->dEdt_hf[i]);
-      cell(out, 11, 4, 1e3 * L->dEdt_fd[i]);
-      if (L->has_x) {
-        cell(out, 9, 3, 1e3 * L->dx_minus[i]);
-        cell(out, 9, 3, 1e3 * L->dx_plus[i]);
-        cell(out, 11, 2, 1e3 * L->dEdx_hf[i]);
-        cell(out, 11, 2, 1e3 * L->dEdx_fd[i]);
-      }
-      fputc('\n', out);
+    int show_t = !thickness_moves_nothing(t, L);
+    if (!show_t && !L->has_x) {
+      quiet = 1;
+      continue;
     }
-    const char *wl[4] = {L->warn_ml_minus, L->warn_ml_plus, L->warn_dx_minus, L->warn_dx_plus};
-    static const char *const at[4] = {"-1 ML", "+1 ML", "-dx", "+dx"};
-    for (int q = 0; q < 4; q++)
-      if (wl[q][0]) fprintf(out, "  warnings at %s: %s\n", at[q], wl[q]);
+    layer_block(t, k, show_t, out);
   }
+  if (quiet) {
+    fprintf(out, "\nlayers whose thickness moves no line by 0.0005 meV for -/+1 ML (not listed):");
+    for (size_t k = 0; k < t->n_layers; k++)
+      if (!t->layers[k].has_x && thickness_moves_nothing(t, &t->layers[k]))
+        fprintf(out, " %s", t->layers[k].name);
+    fputc('\n', out);
+  }
+  spread_block(t, out);
 }
 
+
+/* "spread": ew_wf_tolerance_spread of every item (arrays in the order of "items"). */
+static void spread_json(const ew_wf_tolerance *t, FILE *out) {
+  double dx = NAN;
+  for (size_t k = 0; k < t->n_layers; k++)
+    if (t->layers[k].has_x) dx = t->layers[k].dx;
+  fputs(",\"spread\":{\"thickness_ML\":1,\"dx\":", out);
+  ew_json_write_number(out, dx);
+  fputs(",\"growth_rate_percent\":", out);
+  ew_json_write_number(out, t->rate_percent);
+  static const char *const key[5] = {"thickness_eV", "composition_eV", "growth_rate_eV",
+                                     "rss_eV", "worst_case_eV"};
+  for (int c = 0; c < 5; c++) {
+    fprintf(out, ",\"%s\":[", key[c]);
+    for (size_t i = 0; i < t->n_items; i++) {
+      ew_wf_spread s = ew_wf_tolerance_spread(t, i);
+      double q[5] = {s.thickness_eV, s.composition_eV, s.rate_eV, s.rss_eV, s.worst_eV};
+      if (i) fputc(',', out);
+      ew_json_write_number(out, q[c]);
+    }
+    fputc(']', out);
+  }
+  fputc('}', out);
+}
 
 void ew_wf_tolerance_print_json(const ew_wf_tolerance *t, FILE *out) {
   fputs("{\"stack\":", out);
@@ -420,7 +552,9 @@ void ew_wf_tolerance_print_json(const ew_wf_tolerance *t, FILE *out) {
     }
     fputc('}', out);
   }
-  fputs("],\"warnings\":", out);
+  fputs("]", out);
+  spread_json(t, out);
+  fputs(",\"warnings\":", out);
   ew_json_write_codes(out, t->warnings);
   fputs("}\n", out);
 }
@@ -449,7 +583,8 @@ ew_status ew_wf_ladder_run(const ew_wf_model *m, const char *layer, int threads,
   rc = make_items(res, &l->items, &defs, &l->n_items, 0, err);
   if (rc == EW_OK) {
     l->energy_eV = malloc((l->n_items > 0 ? 5 * l->n_items : 1) * sizeof *l->energy_eV);
-    if (!l->energy_eV) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
+    l->pl_peak_eV = malloc((l->n_items > 0 ? 5 * l->n_items : 1) * sizeof *l->pl_peak_eV);
+    if (!l->energy_eV || !l->pl_peak_eV) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   }
   if (rc == EW_OK) {
     for (int q = 0; q < 5; q++) {
@@ -458,6 +593,7 @@ ew_status ew_wf_ladder_run(const ew_wf_model *m, const char *layer, int threads,
                                     sizeof jobs[q].key);
       jobs[q].layer = k;
       jobs[q].E = l->energy_eV + (size_t)q * l->n_items;
+      jobs[q].PL = l->pl_peak_eV + (size_t)q * l->n_items;
     }
     rc = run_jobs(m, jobs, 5, defs, l->n_items, ew_wf_threads(threads), err);
     for (int q = 0; q < 5 && rc == EW_OK; q++)
@@ -477,7 +613,22 @@ void ew_wf_ladder_free(ew_wf_ladder *l) {
   if (!l) return;
   free(l->items);
   free(l->energy_eV);
+  free(l->pl_peak_eV);
   free(l);
+}
+
+/* The PL peak rows of interband item i, in eV and nm (the interband table's PL_eV, PL_nm). */
+static void ladder_pl_rows(const ew_wf_ladder *l, size_t i, FILE *out) {
+  char nm[64];
+  for (int u = 0; u < 2; u++) {
+    snprintf(nm, sizeof nm, "%s_PL_%s", l->items[i].name, u ? "nm" : "eV");
+    fprintf(out, "  %-16s", nm);
+    for (int q = 0; q < 5; q++) {
+      double e = l->pl_peak_eV[(size_t)q * l->n_items + i];
+      cell(out, 11, u ? 2 : 6, u ? (e > 0 ? EW_HC_EVNM / e : NAN) : e);
+    }
+    fputc('\n', out);
+  }
 }
 
 void ew_wf_ladder_print(const ew_wf_ladder *l, const ew_stack *st, FILE *out) {
@@ -504,6 +655,7 @@ void ew_wf_ladder_print(const ew_wf_ladder *l, const ew_stack *st, FILE *out) {
       cell(out, 11, l->items[i].interband ? 2 : 4, isfinite(e) ? w : NAN);
     }
     fputc('\n', out);
+    if (l->items[i].interband) ladder_pl_rows(l, i, out);
   }
   for (int q = 0; q < 5; q++)
     if (l->warnings[q][0]) fprintf(out, "  warnings at %s: %s\n", hd[q], l->warnings[q]);
@@ -530,6 +682,14 @@ void ew_wf_ladder_print_json(const ew_wf_ladder *l, const ew_stack *st, FILE *ou
     }
     ew_json_write_number_array(out, "energy_eV", e, 5);
     ew_json_write_number_array(out, "wavelength_nm", w, 5);
+    if (l->items[i].interband) { /* the interband table's PL peak at each offset */
+      for (int q = 0; q < 5; q++) {
+        e[q] = l->pl_peak_eV[(size_t)q * l->n_items + i];
+        w[q] = e[q] > 0 ? EW_HC_EVNM / e[q] : NAN;
+      }
+      ew_json_write_number_array(out, "pl_peak_eV", e, 5);
+      ew_json_write_number_array(out, "pl_peak_nm", w, 5);
+    }
     fputc('}', out);
   }
   fputs("],\"warnings\":[", out); /* one array of codes per offset */

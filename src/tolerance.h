@@ -51,7 +51,22 @@ typedef struct {
   size_t n_layers;
   ew_wf_tol_layer *layers;
   char warnings[EW_WARNING_CODES_MAX]; /* the nominal stack's warning codes, ';'-joined */
+  double rate_percent; /* stated growth-rate uncertainty (all thicknesses together), for the
+                          spread; 0 = none (ew_wf_tolerance_run sets 0) */
 } ew_wf_tolerance;
+
+/* The spread of item i (a level or a main line) from the stated growth tolerances, to first
+ * order in the Hellmann–Feynman derivatives: every layer's thickness ±1 of its monolayers and
+ * every alloy layer's x ± dx, each independently, and the growth rate ± rate_percent, which
+ * scales every thickness together.  All in eV, >= 0 (NaN when a derivative is missing). */
+typedef struct {
+  double thickness_eV;   /* sqrt(Σ_k (dE/dt_k · ML_k)²) */
+  double composition_eV; /* sqrt(Σ_k (dE/dx_k · dx)²) over alloy layers */
+  double rate_eV;        /* |Σ_k dE/dt_k · t_k| · rate_percent / 100 */
+  double rss_eV;         /* the three in quadrature: independent errors */
+  double worst_eV;       /* Σ|dE/dt_k · ML_k| + Σ|dE/dx_k · dx| + rate_eV: all at once, aligned */
+} ew_wf_spread;
+ew_wf_spread ew_wf_tolerance_spread(const ew_wf_tolerance *t, size_t i);
 
 /* Shifts of every level and main line for ±1 monolayer of every layer and ±dx of every alloy
  * layer's composition, and dE/dt, dE/dx by Hellmann–Feynman and by central differences. */
@@ -70,6 +85,8 @@ typedef struct {
   size_t n_items;
   ew_wf_item *items;       /* main lines at nominal */
   double *energy_eV;       /* [5 × n_items], NaN when not bound */
+  double *pl_peak_eV;      /* [5 × n_items]: interband lines' PL peak (line − exciton
+                              binding, as the interband table); NaN for the others */
   char warnings[5][EW_WARNING_CODES_MAX]; /* warning codes at each offset, ';'-joined */
 } ew_wf_ladder;
 

@@ -9,10 +9,33 @@
 #include "constants.h"
 #include "plot.h"
 
-/* Eight hues for white paper, paired with dash patterns that change every eight series so
- * a grey-scale print still tells the lines apart. */
-static const uint32_t palette[8] = {0x1f5fa8u, 0xc0392bu, 0x1b7a3du, 0x7d3c98u,
-                                    0xd68910u, 0x117a8bu, 0x6e2c00u, 0x4d4d4du};
+/* Twelve hues for white paper, then hues a golden angle (137.5°) apart in two lightnesses:
+ * every series of a chart gets its own colour; dash patterns change every eight series so a
+ * grey-scale print still tells neighbours apart. */
+static const uint32_t palette[12] = {0x1f5fa8u, 0xc0392bu, 0x1b7a3du, 0x7d3c98u,
+                                     0xd68910u, 0x117a8bu, 0x6e2c00u, 0x4d4d4du,
+                                     0xb0287au, 0x5b7a00u, 0x2c3e8cu, 0x9c5a3cu};
+
+/* HSL to RGB (h in turns, s and l in [0, 1]); the standard conversion. */
+static uint32_t hsl(double h, double s, double l) {
+  double c = (1 - fabs(2 * l - 1)) * s, hp = 6 * (h - floor(h));
+  double x = c * (1 - fabs(fmod(hp, 2) - 1)), m = l - c / 2, r = 0, g = 0, b = 0;
+  if (hp < 1) r = c, g = x;
+  else if (hp < 2) r = x, g = c;
+  else if (hp < 3) g = c, b = x;
+  else if (hp < 4) g = x, b = c;
+  else if (hp < 5) r = x, b = c;
+  else r = c, b = x;
+  uint32_t R = (uint32_t)lround(255 * (r + m)), G = (uint32_t)lround(255 * (g + m)),
+           B = (uint32_t)lround(255 * (b + m));
+  return R << 16 | G << 8 | B;
+}
+
+uint32_t ew_xy_series_colour(size_t s) {
+  if (s < 12) return palette[s];
+  size_t k = s - 12;
+  return hsl(0.071 + 0.381966 * (double)k, 0.62, k % 2 ? 0.30 : 0.45);
+}
 
 #define LEGEND_FONT 11.0
 
@@ -22,6 +45,9 @@ typedef struct {
   double x_lo, x_hi, y_lo, y_hi;
   double legw; /* legend column */
   int have;    /* any finite point */
+  double keep_lo, keep_hi; /* values drawn in this frame (a broken axis: its group) */
+  int xlabels; /* bit 1: x tick labels and the x axis label under this frame; bit 2: no y
+                  axis label (a broken axis draws one over both panels) */
 } frame;
 
 static double xp(const frame *f, double v) { return f->L + (v - f->x_lo) / (f->x_hi - f->x_lo) * (f->R - f->L); }
@@ -43,6 +69,7 @@ static void layout(const ew_xy_chart *a, frame *f) {
   }
   f->legw = fmin(240, fmax(80, legw)) + 56; /* sample line, gap, right margin */
   f->L = 84, f->T = a->title ? 48 : 24, f->R = EW_PLOT_XY_W - f->legw - 12, f->B = EW_PLOT_XY_H - 62;
+  f->keep_lo = -INFINITY, f->keep_hi = INFINITY, f->xlabels = 1;
 }
 
 /* Ranges over the finite points, widened when flat, with 5 % room above and below. */
@@ -85,6 +112,7 @@ static void draw_axes(ew_canvas *cv, const ew_xy_chart *a, const frame *f) {
     double v = tx.first + i * tx.step, px = xp(f, v);
     ew_cv_line(cv, px, f->T, px, f->B, &grid);
     ew_cv_line(cv, px, f->B, px, f->B + 5, &tick);
+    if (!(f->xlabels & 1)) continue;
     ew_chart_fmt_tick(buf, sizeof buf, v, tx.step, tx.dec);
     ew_cv_text(cv, px, f->B + 18, buf, &fx);
   }
@@ -96,8 +124,8 @@ static void draw_axes(ew_canvas *cv, const ew_xy_chart *a, const frame *f) {
     ew_cv_text(cv, f->L - 8, py + 4, buf, &f_tick);
   }
   ew_cv_rect(cv, f->L, f->T, f->R - f->L, f->B - f->T, 0, 0, &frame_pen);
-  if (a->xlabel) ew_cv_text(cv, (f->L + f->R) / 2, f->B + 40, a->xlabel, &f_axis);
-  if (a->ylabel) {
+  if (a->xlabel && (f->xlabels & 1)) ew_cv_text(cv, (f->L + f->R) / 2, f->B + 40, a->xlabel, &f_axis);
+  if (a->ylabel && !(f->xlabels & 2)) {
     ew_font fv = f_axis;
     fv.vertical = 1;
     ew_cv_text(cv, 22, (f->T + f->B) / 2, a->ylabel, &fv);
@@ -115,11 +143,13 @@ static void draw_series(ew_canvas *cv, const ew_xy_chart *a, const frame *f, siz
   const double *y = a->y[s];
   size_t m = 0;
   for (size_t i = 0; i < a->npoints; i++, m++) {
-    int ok = isfinite(a->x[i]) && isfinite(y[i]);
+    int ok = isfinite(a->x[i]) && isfinite(y[i]) && y[i] >= f->keep_lo && y[i] <= f->keep_hi;
     sc->x[m] = ok ? xp(f, a->x[i]) : NAN;
     sc->y[m] = ok ? yp(f, y[i]) : NAN;
-    int prev = i > 0 && isfinite(a->x[i - 1]) && isfinite(y[i - 1]);
-    int next = i + 1 < a->npoints && isfinite(a->x[i + 1]) && isfinite(y[i + 1]);
+    int prev = i > 0 && isfinite(a->x[i - 1]) && isfinite(y[i - 1]) && y[i - 1] >= f->keep_lo &&
+               y[i - 1] <= f->keep_hi;
+    int next = i + 1 < a->npoints && isfinite(a->x[i + 1]) && isfinite(y[i + 1]) &&
+               y[i + 1] >= f->keep_lo && y[i + 1] <= f->keep_hi;
     if (ok && !prev && !next) {
       double cx[13], cy[13];
       for (int k = 0; k < 12; k++) {
@@ -156,6 +186,96 @@ static void draw_legend_entry(ew_canvas *cv, const ew_xy_chart *a, const frame *
   ew_cv_text(cv, f->R + 50, ly, tmp, &f_leg);
 }
 
+/* The gap of a broken axis: the series' value ranges merged where they overlap; the widest
+ * hole between merged ranges, when it is more than half of the whole span and there are at
+ * most 256 series.  Returns 1 with the gap's ends. */
+#define XY_BREAK_MAX_SERIES 256
+static int find_gap(const ew_xy_chart *a, double *glo, double *ghi) {
+  double lo[XY_BREAK_MAX_SERIES], hi[XY_BREAK_MAX_SERIES];
+  size_t n = 0;
+  if (a->nseries > XY_BREAK_MAX_SERIES) return 0;
+  for (size_t s = 0; s < a->nseries; s++) {
+    double l = INFINITY, h = -INFINITY;
+    for (size_t i = 0; i < a->npoints; i++)
+      if (isfinite(a->x[i]) && isfinite(a->y[s][i])) l = fmin(l, a->y[s][i]), h = fmax(h, a->y[s][i]);
+    if (!isfinite(l)) continue;
+    size_t k = n++; /* insertion by lower end */
+    while (k > 0 && lo[k - 1] > l) lo[k] = lo[k - 1], hi[k] = hi[k - 1], k--;
+    lo[k] = l, hi[k] = h;
+  }
+  if (n < 2) return 0;
+  double best = 0, reach = hi[0], top = hi[0];
+  for (size_t k = 1; k < n; k++) {
+    if (lo[k] - reach > best) best = lo[k] - reach, *glo = reach, *ghi = lo[k];
+    reach = fmax(reach, hi[k]);
+    top = fmax(top, hi[k]);
+  }
+  return best > 0.5 * (top - lo[0]);
+}
+
+/* Two panels: values above the gap in the upper one, below it in the lower one, the x axis
+ * shared, the energy axis broken between them with slanted marks and what was left out. */
+static void draw_broken(ew_canvas *cv, const ew_xy_chart *a, frame *f, double glo, double ghi,
+                        ew_chart_scratch *sc) {
+  const double gap = 30;
+  /* the ranges of each group, with the 5 % room of data_range */
+  data_range(a, f);
+  frame up = *f, dn = *f;
+  double ylo = f->y_lo + 0.05 / 1.1 * (f->y_hi - f->y_lo), yhi = f->y_hi - 0.05 / 1.1 * (f->y_hi - f->y_lo);
+  size_t nu = 0, nd = 0;
+  for (size_t s = 0; s < a->nseries; s++) {
+    int u = 0, d = 0;
+    for (size_t i = 0; i < a->npoints; i++) {
+      if (!isfinite(a->y[s][i])) continue;
+      if (a->y[s][i] >= ghi) u = 1;
+      else d = 1;
+    }
+    nu += (size_t)u, nd += (size_t)d;
+  }
+  /* heights by how many curves each group holds, neither under 30 % */
+  double frac = fmin(0.7, fmax(0.3, (nu + 1.0) / (nu + nd + 2.0)));
+  double H = f->B - f->T - gap;
+  up.B = f->T + H * frac;
+  dn.T = up.B + gap;
+  double pu = 0.05 * fmax(yhi - ghi, 1e-9 * fabs(ghi) + 1e-12), pd = 0.05 * fmax(glo - ylo, 1e-9 * fabs(glo) + 1e-12);
+  up.y_lo = ghi - pu, up.y_hi = yhi + pu, up.keep_lo = ghi, up.keep_hi = INFINITY;
+  dn.y_lo = ylo - pd, dn.y_hi = glo + pd, dn.keep_lo = -INFINITY, dn.keep_hi = glo;
+  up.xlabels = 2;
+  dn.xlabels = 3; /* x labels under the lower panel; the y label centred over both */
+  draw_axes(cv, a, &up);
+  draw_axes(cv, a, &dn);
+  if (a->ylabel) {
+    ew_font fv = ew_font_make(12, EW_ANCHOR_MIDDLE, EW_COL_INK);
+    fv.vertical = 1;
+    ew_cv_text(cv, 22, (up.T + dn.B) / 2, a->ylabel, &fv);
+  }
+  ew_pen brk = ew_pen_make(EW_COL_FRAME, 1.2, EW_DASH_NONE);
+  for (int side = 0; side < 2; side++) {
+    double xa = side ? f->R : f->L;
+    ew_cv_line(cv, xa - 6, up.B + 9, xa + 6, up.B + 3, &brk);
+    ew_cv_line(cv, xa - 6, dn.T - 3, xa + 6, dn.T - 9, &brk);
+  }
+  char g[64], msg[120];
+  ew_chart_fmt_num(g, sizeof g, ghi - glo, 3);
+  /* the unit from the y label's parentheses, "energy (eV)" → "eV" */
+  const char *u0 = a->ylabel ? strrchr(a->ylabel, '(') : NULL, *u1 = u0 ? strchr(u0, ')') : NULL;
+  if (u0 && u1 && u1 - u0 < 20)
+    snprintf(msg, sizeof msg, "axis broken: %s %.*s left out", g, (int)(u1 - u0 - 1), u0 + 1);
+  else snprintf(msg, sizeof msg, "axis broken: %s left out", g);
+  ew_font fi = ew_font_make(10.5, EW_ANCHOR_MIDDLE, EW_COL_MUTED);
+  fi.italic = 1;
+  ew_cv_text(cv, (f->L + f->R) / 2, up.B + gap / 2 + 4, msg, &fi);
+  frame leg = *f;
+  leg.T = up.T, leg.B = dn.B;
+  for (size_t s = 0; s < a->nseries; s++) {
+    static const int dashes[3] = {EW_DASH_NONE, EW_DASH_LONG, EW_DASH_SHORT};
+    ew_pen p = ew_pen_make(ew_xy_series_colour(s), 1.8, dashes[(s / 8) % 3]);
+    draw_series(cv, a, &up, s, &p, sc);
+    draw_series(cv, a, &dn, s, &p, sc);
+    draw_legend_entry(cv, a, &leg, s, &p);
+  }
+}
+
 void ew_xy_chart_draw(ew_canvas *cv, const ew_xy_chart *a, ew_chart_scratch *sc) {
   frame f;
   ew_cv_rect(cv, 0, 0, EW_PLOT_XY_W, EW_PLOT_XY_H, 0xffffffu, 1, NULL);
@@ -165,11 +285,16 @@ void ew_xy_chart_draw(ew_canvas *cv, const ew_xy_chart *a, ew_chart_scratch *sc)
     f_title.bold = 1;
     ew_cv_text(cv, f.L, 28, a->title, &f_title);
   }
+  double glo, ghi;
+  if (a->break_y && find_gap(a, &glo, &ghi)) {
+    draw_broken(cv, a, &f, glo, ghi, sc);
+    return;
+  }
   data_range(a, &f);
   draw_axes(cv, a, &f);
   for (size_t s = 0; s < a->nseries; s++) {
     static const int dashes[3] = {EW_DASH_NONE, EW_DASH_LONG, EW_DASH_SHORT};
-    ew_pen p = ew_pen_make(palette[s % 8], 1.8, dashes[(s / 8) % 3]);
+    ew_pen p = ew_pen_make(ew_xy_series_colour(s), 1.8, dashes[(s / 8) % 3]);
     draw_series(cv, a, &f, s, &p, sc);
     draw_legend_entry(cv, a, &f, s, &p);
   }
