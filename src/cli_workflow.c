@@ -10,6 +10,7 @@
  * (epiwell.h); each command is an options struct and its parse / run / write steps. */
 #include <errno.h>
 #include <math.h>
+#include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -125,15 +126,33 @@ static int mem_finish(membuf *m, int ok) {
   return rc;
 }
 
-/* ---- progress (stderr, only on a terminal) --------------------------------------------- */
+/* ---- progress (stderr, only on a terminal) and cancelling (SIGINT, SIGTERM) ----------- */
+/* A signal asks the running sweep or match to stop: its progress callback returns nonzero,
+ * the library stops with EW_ERR_CANCELLED after the points in flight, and the staged output
+ * files are removed as after any error (a workload manager's job cancel sends SIGTERM). */
+static volatile sig_atomic_t stop_signal;
+
+static void on_stop_signal(int sig) { stop_signal = sig; }
+
+static void catch_stop_signals(void) {
+  struct sigaction sa;
+  memset(&sa, 0, sizeof sa);
+  sa.sa_handler = on_stop_signal;
+  sigemptyset(&sa.sa_mask);
+  sigaction(SIGINT, &sa, NULL);
+  sigaction(SIGTERM, &sa, NULL);
+}
+
 typedef struct {
   int last;
+  int bar; /* 1: draw the bar (stderr is a terminal) */
 } progress_state;
 
-static void progress_bar(void *ctx, size_t done, size_t total) {
+static int progress_bar(void *ctx, size_t done, size_t total) {
   progress_state *p = ctx;
+  if (stop_signal) return 1;
   int pct = total ? (int)(100.0 * (double)done / (double)total) : 100;
-  if (pct == p->last && done != total) return;
+  if (!p->bar || (pct == p->last && done != total)) return 0;
   p->last = pct;
   char bar[41];
   int fill = pct * 40 / 100;
@@ -142,6 +161,13 @@ static void progress_bar(void *ctx, size_t done, size_t total) {
   fprintf(stderr, "\rsweep [%s] %3d%% %zu/%zu points", bar, pct, done, total);
   if (done == total) fputc('\n', stderr);
   fflush(stderr);
+  return 0;
+}
+
+/* The match's callback: the signal only (the number of its solves is not known). */
+static int match_cancel(void *ctx, size_t done, size_t total) {
+  (void)ctx, (void)done, (void)total;
+  return stop_signal != 0;
 }
 
 /* ---- sweep ----------------------------------------------------------------------------- */
@@ -301,11 +327,10 @@ static int sweep_run(sweep_cmd *s) {
   threads_note(s->c.threads);
   s->so.threads = s->c.threads;
   s->so.keep_table = s->plot_path != NULL;
-  progress_state ps = {-1};
-  if (isatty(fileno(stderr))) {
-    s->so.progress = progress_bar;
-    s->so.progress_ctx = &ps;
-  }
+  progress_state ps = {-1, isatty(fileno(stderr))};
+  s->so.progress = progress_bar;
+  s->so.progress_ctx = &ps;
+  catch_stop_signals();
   s->c.solve.excitons = 0; /* the sweep's columns hold no PL peaks: skip the exciton work */
   ew_catalogue *cat = NULL;
   sweep_files fs;
@@ -416,7 +441,9 @@ static int match_run(match_cmd *m) {
   ew_catalogue *cat = NULL;
   ew_error err = {0};
   int rc = 0;
+  catch_stop_signals();
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
+      ew_match_progress(m->mt, match_cancel, NULL, &err) != EW_OK ||
       ew_match_compute(m->mt, m->path, cat, &m->c.solve, m->c.threads, m->samples, &err) !=
           EW_OK) {
     rc = report(&err);

@@ -24,8 +24,9 @@ typedef struct {
   size_t shard_k, shard_n;/* compute part K (1-based) of N contiguous parts; N = 0 or 1: all */
   int header;             /* CSV header: 1 always, 0 never, -1 (default) part 1 only */
   size_t min_levels;      /* columns for at least this many levels per band (--levels) */
-  /* called (serialised) after each point; may be NULL */
-  void (*progress)(void *ctx, size_t done, size_t total);
+  /* after each point of the part (ew_progress_fn, epiwell.h); may be NULL; nonzero cancels:
+   * EW_ERR_CANCELLED, no row written after the chunks already written */
+  ew_progress_fn progress;
   void *progress_ctx;
   /* when not NULL: receives the columns and every row of this part, in point order (for
    * pictures); release with ew_wf_table_free.  Left empty when the sweep fails. */
