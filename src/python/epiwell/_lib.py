@@ -127,7 +127,38 @@ _SIG = {
     "ew_result_state_sheet_density_cm2": (ctypes.c_double, [P, ctypes.c_size_t]),
     "ew_result_line_depolarization_eV": (ctypes.c_double, [P, ctypes.c_size_t]),
     "ew_line_pl_peak_nm": (ctypes.c_double, [P]),
+    # workflows (FILE * passed as pointers from the C library's open_memstream)
+    "ew_sweep_options_default": (None, [ctypes.POINTER(SweepOptions)]),
+    "ew_sweep_create": (ctypes.c_int, [ctypes.POINTER(P), ctypes.POINTER(Error)]),
+    "ew_sweep_free": (None, [P]),
+    "ew_sweep_vary": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_sweep_open": (ctypes.c_int, [P, ctypes.c_char_p, P, ctypes.POINTER(Options),
+                                     ctypes.POINTER(Error)]),
+    "ew_sweep_compute": (ctypes.c_int, [P, ctypes.POINTER(SweepOptions), P, P,
+                                        ctypes.POINTER(Error)]),
+    "ew_match_create": (ctypes.c_int, [ctypes.POINTER(P), ctypes.POINTER(Error)]),
+    "ew_match_free": (None, [P]),
+    "ew_match_vary": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_match_line": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_match_target": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_match_tolerance": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_match_progress": (ctypes.c_int, [P, PROGRESS, P, ctypes.POINTER(Error)]),
+    "ew_match_compute": (ctypes.c_int, [P, ctypes.c_char_p, P, ctypes.POINTER(Options),
+                                        ctypes.c_int, ctypes.c_size_t, ctypes.POINTER(Error)]),
+    "ew_match_solution_count": (ctypes.c_size_t, [P]),
+    "ew_match_solution_value": (ctypes.c_double, [P, ctypes.c_size_t, ctypes.c_size_t]),
+    "ew_match_message": (ctypes.c_char_p, [P]),
+    "ew_match_write_json": (ctypes.c_int, [P, P, ctypes.POINTER(Error)]),
 }
+
+# open_memstream(3) of the C library: the workflows write their JSON into memory
+libc = ctypes.CDLL(None)
+libc.open_memstream.restype = P
+libc.open_memstream.argtypes = [ctypes.POINTER(P), ctypes.POINTER(ctypes.c_size_t)]
+libc.fclose.restype = ctypes.c_int
+libc.fclose.argtypes = [P]
+libc.free.restype = None
+libc.free.argtypes = [P]
 
 
 def _declare(lib):
