@@ -21,7 +21,7 @@
 
 static const char sweep_usage[] =
     "usage: epiwell sweep STACK --vary KEY=FROM:TO:STEP [--vary KEY=FROM:TO:STEP]\n"
-    "                     [--csv FILE] [--json] [--threads N] [--shard K/N] [--no-header]\n"
+    "                     [--csv FILE] [--json] [--threads N] [--shard K/N|auto] [--no-header]\n"
     "                     [--levels N] [--grid-step NM] [--no-estimate]\n"
     "                     [--plot FILE.svg|FILE.png]\n"
     "  --plot FILE.svg|.png  pictures of the sweep (the CSV/JSON output is unchanged):\n"
@@ -32,7 +32,10 @@ static const char sweep_usage[] =
     "                   value of the second key (at most 12, evenly spaced), of e1 (FILE),\n"
     "                   e1-hh1 (FILE-interband) and e1-e2 (FILE-intersubband)\n"
     "      a gap is a level not bound there; a chart whose lines never occur is not written\n"
-    "      (a note on stderr says so); with --shard only that part's points are drawn\n";
+    "      (a note on stderr says so); with --shard only that part's points are drawn\n"
+    "  --shard auto  the part of this task of a Slurm job array (SLURM_ARRAY_TASK_ID,\n"
+    "      _COUNT, _MIN; sbatch --array=1-N); join the parts with epiwell merge\n"
+    "  SIGINT or SIGTERM stops the sweep: exit 7, no output file written\n";
 static const char match_usage[] =
     "usage: epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE\n"
     "                     [--tolerance VALUE] [--samples N] [--json] [--threads N]\n"
@@ -171,6 +174,33 @@ static int match_cancel(void *ctx, size_t done, size_t total) {
 }
 
 /* ---- sweep ----------------------------------------------------------------------------- */
+/* A whole number >= 0 from the environment variable name into *v; 0 when unset or not one. */
+static int env_whole(const char *name, size_t *v) {
+  const char *s = getenv(name);
+  return s && *s && parse_whole(s, 0, 1e9, v);
+}
+
+/* --shard auto: part K of N of a Slurm job array, K = SLURM_ARRAY_TASK_ID −
+ * SLURM_ARRAY_TASK_MIN + 1, N = SLURM_ARRAY_TASK_COUNT (so the IDs must be consecutive:
+ * --array=MIN-MAX, no step, no list).  0 or the exit code of a usage error. */
+static int shard_auto(size_t *k, size_t *n) {
+  static const char *const vars[3] = {"SLURM_ARRAY_TASK_ID", "SLURM_ARRAY_TASK_COUNT",
+                                      "SLURM_ARRAY_TASK_MIN"};
+  size_t v[3];
+  for (int i = 0; i < 3; i++)
+    if (!env_whole(vars[i], &v[i]))
+      return ew_cli_bad(sweep_usage, "--shard auto: %s is %s (auto takes the part from a Slurm "
+                        "job array: sbatch --array=1-N; elsewhere give --shard K/N)", vars[i],
+                        getenv(vars[i]) ? "not a whole number" : "not set");
+  if (v[0] < v[2] || v[1] < 1 || v[0] - v[2] + 1 > v[1] || v[1] > 1000000)
+    return ew_cli_bad(sweep_usage, "--shard auto: task %zu of an array of %zu from %zu: the task "
+                      "IDs must be consecutive (sbatch --array=MIN-MAX, without :STEP or a list)",
+                      v[0], v[1], v[2]);
+  *k = v[0] - v[2] + 1;
+  *n = v[1];
+  return 0;
+}
+
 static int parse_shard(const char *v, size_t *k, size_t *n) {
   const char *slash = strchr(v, '/');
   if (!slash) return 0;
@@ -202,6 +232,8 @@ static int sweep_value(const char *a, const char *v, sweep_cmd *s) {
       return ew_cli_bad(sweep_usage, "--levels wants a whole number of levels per band, got %s", v);
   } else if (!strcmp(a, "--csv")) {
     s->csv_path = v;
+  } else if (!strcmp(a, "--shard") && !strcmp(v, "auto")) {
+    return shard_auto(&s->so.shard_k, &s->so.shard_n);
   } else if (!strcmp(a, "--shard")) {
     if (!parse_shard(v, &s->so.shard_k, &s->so.shard_n))
       return ew_cli_bad(sweep_usage, "--shard wants K/N with 1 <= K <= N (e.g. 3/8), got %s", v);

@@ -449,6 +449,17 @@ EW_API ew_status ew_sweep_stage_plots(ew_sweep *sw, const char *path,
                                int written[EW_SWEEP_PLOT_FILES], ew_error *err);
 EW_API ew_status ew_sweep_commit_plots(ew_sweep *sw, int ok, ew_error *err);
 
+/* Join the parts of a sweep computed with --shard K/N on several machines into exactly the
+ * output of one machine (byte for byte), in point order whatever the order of paths (n of
+ * them; every part JSON, or every part CSV).  JSON parts say which part they are; CSV parts
+ * do not, so sw (may be NULL for JSON parts) must hold the sweep's ranges (ew_sweep_vary, as
+ * the sweep had them; no stack needs to be opened): the rows are placed by their values.
+ * Nothing is written to out unless every part checks: EW_ERR_INPUT naming the part for a
+ * part missing, given twice, of another sweep (stack, keys, columns, point count) or cut
+ * short; EW_ERR_IO when a part cannot be read or out written. */
+EW_API ew_status ew_sweep_merge(const ew_sweep *sw, size_t n, const char *const *paths, FILE *out,
+                                ew_error *err);
+
 /* ---- inverse matching (api_match.c) ----------------------------------------------------
  * Which value of one key (or pair of values of two keys) puts one line (two lines) at a
  * target: create → vary, line, target (once each per unknown) [→ tolerance] → compute. */

@@ -90,13 +90,22 @@ static ew_status split_tied(const ew_wf_model *m, sweep_plan *P, size_t a, ew_er
   }
 }
 
-static void point_values(const sweep_plan *P, size_t p, double *vals) {
-  if (P->nr == 1) {
-    vals[0] = ew_wf_range_value(&P->r[0], p);
+size_t ew_wf_sweep_points(const ew_wf_range *r, size_t nr) {
+  return ew_wf_range_count(&r[0]) * (nr > 1 ? ew_wf_range_count(&r[1]) : 1);
+}
+
+void ew_wf_sweep_point(const ew_wf_range *r, size_t nr, size_t p, double *vals) {
+  if (nr == 1) {
+    vals[0] = ew_wf_range_value(&r[0], p);
   } else { /* outer loop the first range */
-    vals[0] = ew_wf_range_value(&P->r[0], p / P->count[1]);
-    vals[1] = ew_wf_range_value(&P->r[1], p % P->count[1]);
+    size_t c1 = ew_wf_range_count(&r[1]);
+    vals[0] = ew_wf_range_value(&r[0], p / c1);
+    vals[1] = ew_wf_range_value(&r[1], p % c1);
   }
+}
+
+static void point_values(const sweep_plan *P, size_t p, double *vals) {
+  ew_wf_sweep_point(P->r, P->nr, p, vals);
 }
 
 /* The ranges, keys and shard of a sweep, checked before anything is solved. */

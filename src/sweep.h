@@ -61,6 +61,11 @@ void ew_wf_sweep_opt_default(ew_wf_sweep_opt *o);
  * concatenate byte for byte to the whole sweep's CSV.  Rows are written in point order
  * whatever the thread count; on an error the streams hold partial output (the CLI buffers
  * them and writes nothing). */
+/* Points of a sweep over ranges (nr 1 or 2: the product of their counts), and the axis
+ * values of point p (outer loop the first range) into vals[nr]. */
+size_t ew_wf_sweep_points(const ew_wf_range *ranges, size_t nr);
+void ew_wf_sweep_point(const ew_wf_range *ranges, size_t nr, size_t p, double *vals);
+
 ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nranges,
                       const ew_wf_sweep_opt *o, FILE *csv, FILE *json, ew_error *err);
 
