@@ -34,7 +34,9 @@ typedef struct {
 
 static ew_status reader_open(reader *r, const char *path, ew_error *err) {
   memset(r, 0, sizeof *r);
+  errno = 0;
   r->f = fopen(path, "r");
+  if (!r->f && errno == ENOMEM) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   if (!r->f) return ew_fail(err, EW_ERR_IO, path, 0, "cannot read the part: %s", strerror(errno));
   return EW_OK;
 }
@@ -50,7 +52,8 @@ static void reader_close(reader *r) {
 static int next_line(reader *r, const char *path, ew_error *err) {
   errno = 0;
   ssize_t n = getline(&r->buf, &r->cap, r->f);
-  if (n < 0) {
+  if (n < 0) { /* the end, or getline's buffer could not grow (ENOMEM), or a read error */
+    if (errno == ENOMEM) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory"), -1;
     if (ferror(r->f)) return ew_fail(err, EW_ERR_IO, path, 0, "cannot read: %s", strerror(errno)), -1;
     return 0;
   }
