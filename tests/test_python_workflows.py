@@ -145,6 +145,16 @@ def test_progress_counts_are_exact_and_cancel():
     assert e.value.status == "cancelled" and n == [(1, 0), (2, 0)]
 
 
+def test_solve_progress_and_cancel():
+    calls = []
+    r = epiwell.solve(DETECTOR, progress=lambda d, t: calls.append((d, t)))
+    assert calls == [(1, 2), (2, 2)] and r.states  # the pass, the exciton pass (epiwell.h)
+    calls.clear()
+    with pytest.raises(epiwell.EpiwellError) as e:
+        epiwell.solve(DETECTOR, excitons=False, progress=lambda d, t: calls.append((d, t)) or True)
+    assert e.value.status == "cancelled" and calls == [(1, 1)]
+
+
 def load_example():
     spec = importlib.util.spec_from_file_location("plot_well", os.path.join(ROOT, "examples", "plot_well.py"))
     mod = importlib.util.module_from_spec(spec)

@@ -434,7 +434,7 @@ def match(path, vary, line, target, *, tolerance=None, samples=0, grid_step_nm=N
 
 def solve(path_or_text, grid_step_nm=None, temperature_K=None, *, set=None, lowest_levels=None,
           error_estimate=True, excitons=True, residual_tol=None, sp_max_iterations=None,
-          materials=None, name=None):
+          materials=None, name=None, progress=None):
     """Solve a stack and return a Result.
 
     path_or_text: a stack file's path (str or os.PathLike), or its text (a str holding a
@@ -443,27 +443,24 @@ def solve(path_or_text, grid_step_nm=None, temperature_K=None, *, set=None, lowe
     `epiwell sweep --vary`).  lowest_levels: lines from the lowest K levels of each band
     (default 3, as `epiwell solve`; 0 for all pairs).  materials: a catalogue directory
     (default: the library's search, README "Material catalogue").  name: the file name error
-    messages give for text (default "<string>").  Errors raise EpiwellError with file, line
-    and message."""
+    messages give for text (default "<string>").  progress(done, total): after the
+    Schrödinger pass and the exciton pass (a doped stack: after each outer iteration too,
+    ew_options.progress in epiwell.h), on this thread; a true return value cancels
+    (EpiwellError, status "cancelled").  Errors raise EpiwellError with file, line and
+    message."""
     settings = dict(set or {})
     if temperature_K is not None:
         settings["temperature"] = temperature_K
     cat = _catalogue(materials)
-    opt = _lib.Options()
-    lib.ew_options_default(ctypes.byref(opt))
-    if grid_step_nm is not None:
-        opt.grid_step_nm = grid_step_nm
-    if lowest_levels is not None:
-        opt.lowest_levels = lowest_levels
-    opt.error_estimate, opt.excitons = int(bool(error_estimate)), int(bool(excitons))
-    if residual_tol is not None:
-        opt.residual_tol = residual_tol
-    if sp_max_iterations is not None:
-        opt.sp_max_iterations = sp_max_iterations
+    opt = _solve_options(grid_step_nm, lowest_levels, error_estimate, excitons, residual_tol,
+                         sp_max_iterations)
+    pg = _Progress(progress)
+    opt.progress = pg.c
     st = _read_stack(path_or_text, cat, settings, name)
     try:
         res, err = ctypes.c_void_p(), _lib.Error()
         rc = lib.ew_solve(st, ctypes.byref(opt), ctypes.byref(res), ctypes.byref(err))
+        pg.check()
         if rc:
             _raise(rc, err)
         try:
