@@ -121,8 +121,9 @@ typedef struct {
                                0 lists every line.  JSON and CSV always hold every line. */
   /* Progress of ew_solve (may be NULL, the default; ctx is passed to it).  Steps: the
    * Schrödinger pass and the exciton pass (1 or 2 steps); a self-consistent solve counts
-   * every outer iteration up to sp_max_iterations, the final pass and the exciton pass, and
-   * skips ahead (done jumps to the final pass) when it converges early.  Called on the
+   * every outer iteration up to sp_max_iterations, the final pass and the exciton pass
+   * (total sp_max_iterations + 2); converging at iteration i < sp_max_iterations, it reports
+   * done = sp_max_iterations for that iteration (one jump).  Called on the
    * caller's thread.  Ignored by the workflows (sweep, match, tolerance), which report their
    * own points. */
   ew_progress_fn progress;
