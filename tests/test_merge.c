@@ -187,6 +187,15 @@ static void foreign_and_cut_parts_are_refused(void **state) {
   free(p2);
   const char *jc[] = {fx->json[0], cut, fx->json[2]};
   refused(fx, 0, 3, jc, EW_ERR_INPUT, cut, "cut short");
+  /* the CSV part 2 without its first row: one point (4) in no part */
+  char *c2 = slurp(fx->csv[1]), lost[600];
+  snprintf(lost, sizeof lost, "%s/lost.csv", fx->dir);
+  f = fopen(lost, "w");
+  fputs(strchr(c2, '\n') + 1, f);
+  fclose(f);
+  free(c2);
+  const char *cl[] = {fx->csv[0], lost, fx->csv[2]};
+  refused(fx, 1, 3, cl, EW_ERR_INPUT, NULL, "points 4..4 of 12 are in no part");
 }
 
 int main(void) {
