@@ -3,12 +3,13 @@
 # As root: apt-get update, then install what is missing.  Otherwise: print the exact
 # apt-get line and fail.  Usage: deps.sh [check|ci]   (check also wants the test runner and
 # the picture renderers, and Debian's python3 with numpy and pytest for the Python package's
-# tests; ci also the leak checker)
+# tests and matplotlib for its example; ci also the leak checker and a single-node Slurm
+# workload manager for tests/slurm_test.sh)
 set -u
 pkgs="gcc make pkg-config libsuperlu-dev libconfig-dev zlib1g-dev liblapack-dev liblapacke-dev libblas-dev libcairo2-dev"
 case "${1:-}" in
-check) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium python3 python3-numpy python3-pytest" ;;
-ci) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium python3 python3-numpy python3-pytest valgrind" ;;
+check) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium python3 python3-numpy python3-pytest python3-matplotlib" ;;
+ci) pkgs="$pkgs libcmocka-dev librsvg2-bin chromium python3 python3-numpy python3-pytest python3-matplotlib valgrind slurm-wlm munge" ;;
 esac
 missing=""
 for p in $pkgs; do

@@ -23,6 +23,8 @@ struct ew_match {
   int have_tol;
   int computed;
   ew_wf_match_result res;
+  ew_progress_fn progress;
+  void *progress_ctx;
 };
 
 ew_status ew_match_create(ew_match **out, ew_error *err) {
@@ -88,7 +90,7 @@ ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalo
   ew_wf_model *m = NULL;
   ew_status st = ew_wf_model_open(stack_path, cat, opt, &m, err);
   if (st == EW_OK) {
-    ew_wf_match_opt mo = {threads, samples};
+    ew_wf_match_opt mo = {threads, samples, mt->progress, mt->progress_ctx};
     const char *lines[2] = {mt->lines[0], mt->lines[1]};
     st = ew_wf_match(m, mt->ranges, mt->nr, lines, mt->targets, mt->nr,
                      mt->have_tol ? &mt->tol : NULL, &mo, &mt->res, err);
@@ -96,6 +98,13 @@ ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalo
   ew_wf_model_free(m);
   mt->computed = st == EW_OK;
   return st;
+}
+
+ew_status ew_match_progress(ew_match *mt, ew_progress_fn fn, void *ctx, ew_error *err) {
+  if (!mt) return NULL_ARG("ew_match_progress");
+  mt->progress = fn;
+  mt->progress_ctx = ctx;
+  return EW_OK;
 }
 
 size_t ew_match_solution_count(const ew_match *mt) { return mt && mt->computed ? mt->res.n : 0; }

@@ -10,6 +10,7 @@
 #include "range.h"
 #include "stack_model.h"
 #include "sweep.h"
+#include "sweep_merge.h"
 #include "sweep_plot.h"
 
 _Static_assert(EW_SWEEP_PLOT_FILES == EW_WF_PLOT_FILES, "one picture set");
@@ -93,6 +94,14 @@ ew_status ew_sweep_compute(ew_sweep *sw, const ew_sweep_options *o, FILE *csv, F
   memset(&sw->table, 0, sizeof sw->table);
   if (o->keep_table) so.table = &sw->table;
   return ew_wf_sweep(sw->m, sw->ranges, sw->nr, &so, csv, json, err);
+}
+
+ew_status ew_sweep_merge(const ew_sweep *sw, size_t n, const char *const *paths, FILE *out,
+                         ew_error *err) {
+  if ((n && !paths) || !out) return NULL_ARG("ew_sweep_merge");
+  for (size_t i = 0; i < n; i++)
+    if (!paths[i]) return NULL_ARG("ew_sweep_merge");
+  return ew_wf_sweep_merge(sw ? sw->ranges : NULL, sw ? sw->nr : 0, n, paths, out, err);
 }
 
 const char *ew_sweep_plot_suffix(int k) {

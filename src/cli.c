@@ -32,15 +32,16 @@ static const char usage[] =
     "  epiwell materials [NAME [--x X] [--y Y] [--temperature K] [--substrate SUB\n"
     "                    [--substrate-x X] [--lattice-match] [--match-gap EV]]]\n"
     "  epiwell sweep STACK --vary KEY=FROM:TO:STEP [--vary ...] [--csv FILE] [--json]\n"
-    "                      [--threads N] [--shard K/N] [--no-header] [--levels N]\n"
+    "                      [--threads N] [--shard K/N|auto] [--no-header] [--levels N]\n"
     "                      [--plot FILE.svg|FILE.png]  (epiwell sweep --help: the pictures)\n"
     "  epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE [--tolerance VALUE]\n"
     "                      [--samples N] [--json] [--threads N]  (two unknowns: each twice)\n"
     "  epiwell tolerance STACK [--dx DX] [--rate PCT] [--ladder LAYER] [--json] [--threads N]\n"
+    "  epiwell merge PART... [--vary KEY=FROM:TO:STEP ...] [-o FILE]  (epiwell merge --help)\n"
     "    (sweep, match, tolerance also take --grid-step NM and --no-estimate)\n"
     "  epiwell --version | --help\n"
     "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"
-    "too large, 5 file I/O error, 6 numerical failure\n";
+    "too large, 5 file I/O error, 6 numerical failure, 7 cancelled (SIGINT or SIGTERM)\n";
 
 static int report(const ew_error *err) { return ew_cli_report(err); }
 static int parse_num(const char *s, double *v) { return ew_cli_parse_num(s, v); }
@@ -425,5 +426,6 @@ int main(int argc, char **argv) {
   if (!strcmp(argv[1], "sweep")) return ew_cli_sweep(argc - 2, argv + 2);
   if (!strcmp(argv[1], "match")) return ew_cli_match(argc - 2, argv + 2);
   if (!strcmp(argv[1], "tolerance")) return ew_cli_tolerance(argc - 2, argv + 2);
+  if (!strcmp(argv[1], "merge")) return ew_cli_merge(argc - 2, argv + 2);
   return ew_cli_bad(usage, "unknown command %s", argv[1]);
 }

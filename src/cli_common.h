@@ -23,5 +23,7 @@ void ew_cli_prefix(ew_error *err, const char *opt);
 int ew_cli_sweep(int argc, char **argv);
 int ew_cli_match(int argc, char **argv);
 int ew_cli_tolerance(int argc, char **argv);
+/* `epiwell merge` (cli_merge.c). */
+int ew_cli_merge(int argc, char **argv);
 
 #endif

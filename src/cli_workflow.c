@@ -10,6 +10,7 @@
  * (epiwell.h); each command is an options struct and its parse / run / write steps. */
 #include <errno.h>
 #include <math.h>
+#include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -20,7 +21,7 @@
 
 static const char sweep_usage[] =
     "usage: epiwell sweep STACK --vary KEY=FROM:TO:STEP [--vary KEY=FROM:TO:STEP]\n"
-    "                     [--csv FILE] [--json] [--threads N] [--shard K/N] [--no-header]\n"
+    "                     [--csv FILE] [--json] [--threads N] [--shard K/N|auto] [--no-header]\n"
     "                     [--levels N] [--grid-step NM] [--no-estimate]\n"
     "                     [--plot FILE.svg|FILE.png]\n"
     "  --plot FILE.svg|.png  pictures of the sweep (the CSV/JSON output is unchanged):\n"
@@ -31,7 +32,10 @@ static const char sweep_usage[] =
     "                   value of the second key (at most 12, evenly spaced), of e1 (FILE),\n"
     "                   e1-hh1 (FILE-interband) and e1-e2 (FILE-intersubband)\n"
     "      a gap is a level not bound there; a chart whose lines never occur is not written\n"
-    "      (a note on stderr says so); with --shard only that part's points are drawn\n";
+    "      (a note on stderr says so); with --shard only that part's points are drawn\n"
+    "  --shard auto  the part of this task of a Slurm job array (SLURM_ARRAY_TASK_ID,\n"
+    "      _COUNT, _MIN; sbatch --array=1-N); join the parts with epiwell merge\n"
+    "  SIGINT or SIGTERM stops the sweep: exit 7, no output file written\n";
 static const char match_usage[] =
     "usage: epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE\n"
     "                     [--tolerance VALUE] [--samples N] [--json] [--threads N]\n"
@@ -128,15 +132,33 @@ static int mem_finish(membuf *m, int ok) {
   return rc;
 }
 
-/* ---- progress (stderr, only on a terminal) --------------------------------------------- */
+/* ---- progress (stderr, only on a terminal) and cancelling (SIGINT, SIGTERM) ----------- */
+/* A signal asks the running sweep or match to stop: its progress callback returns nonzero,
+ * the library stops with EW_ERR_CANCELLED after the points in flight, and the staged output
+ * files are removed as after any error (a workload manager's job cancel sends SIGTERM). */
+static volatile sig_atomic_t stop_signal;
+
+static void on_stop_signal(int sig) { stop_signal = sig; }
+
+static void catch_stop_signals(void) {
+  struct sigaction sa;
+  memset(&sa, 0, sizeof sa);
+  sa.sa_handler = on_stop_signal;
+  sigemptyset(&sa.sa_mask);
+  sigaction(SIGINT, &sa, NULL);
+  sigaction(SIGTERM, &sa, NULL);
+}
+
 typedef struct {
   int last;
+  int bar; /* 1: draw the bar (stderr is a terminal) */
 } progress_state;
 
-static void progress_bar(void *ctx, size_t done, size_t total) {
+static int progress_bar(void *ctx, size_t done, size_t total) {
   progress_state *p = ctx;
+  if (stop_signal) return 1;
   int pct = total ? (int)(100.0 * (double)done / (double)total) : 100;
-  if (pct == p->last && done != total) return;
+  if (!p->bar || (pct == p->last && done != total)) return 0;
   p->last = pct;
   char bar[41];
   int fill = pct * 40 / 100;
@@ -145,9 +167,43 @@ static void progress_bar(void *ctx, size_t done, size_t total) {
   fprintf(stderr, "\rsweep [%s] %3d%% %zu/%zu points", bar, pct, done, total);
   if (done == total) fputc('\n', stderr);
   fflush(stderr);
+  return 0;
+}
+
+/* The match's callback: the signal only (the number of its solves is not known). */
+static int match_cancel(void *ctx, size_t done, size_t total) {
+  (void)ctx, (void)done, (void)total;
+  return stop_signal != 0;
 }
 
 /* ---- sweep ----------------------------------------------------------------------------- */
+/* A whole number >= 0 from the environment variable name into *v; 0 when unset or not one. */
+static int env_whole(const char *name, size_t *v) {
+  const char *s = getenv(name);
+  return s && *s && parse_whole(s, 0, 1e9, v);
+}
+
+/* --shard auto: part K of N of a Slurm job array, K = SLURM_ARRAY_TASK_ID −
+ * SLURM_ARRAY_TASK_MIN + 1, N = SLURM_ARRAY_TASK_COUNT (so the IDs must be consecutive:
+ * --array=MIN-MAX, no step, no list).  0 or the exit code of a usage error. */
+static int shard_auto(size_t *k, size_t *n) {
+  static const char *const vars[3] = {"SLURM_ARRAY_TASK_ID", "SLURM_ARRAY_TASK_COUNT",
+                                      "SLURM_ARRAY_TASK_MIN"};
+  size_t v[3];
+  for (int i = 0; i < 3; i++)
+    if (!env_whole(vars[i], &v[i]))
+      return ew_cli_bad(sweep_usage, "--shard auto: %s is %s (auto takes the part from a Slurm "
+                        "job array: sbatch --array=1-N; elsewhere give --shard K/N)", vars[i],
+                        getenv(vars[i]) ? "not a whole number" : "not set");
+  if (v[0] < v[2] || v[1] < 1 || v[0] - v[2] + 1 > v[1] || v[1] > 1000000)
+    return ew_cli_bad(sweep_usage, "--shard auto: task %zu of an array of %zu from %zu: the task "
+                      "IDs must be consecutive (sbatch --array=MIN-MAX, without :STEP or a list)",
+                      v[0], v[1], v[2]);
+  *k = v[0] - v[2] + 1;
+  *n = v[1];
+  return 0;
+}
+
 static int parse_shard(const char *v, size_t *k, size_t *n) {
   const char *slash = strchr(v, '/');
   if (!slash) return 0;
@@ -179,6 +235,8 @@ static int sweep_value(const char *a, const char *v, sweep_cmd *s) {
       return ew_cli_bad(sweep_usage, "--levels wants a whole number of levels per band, got %s", v);
   } else if (!strcmp(a, "--csv")) {
     s->csv_path = v;
+  } else if (!strcmp(a, "--shard") && !strcmp(v, "auto")) {
+    return shard_auto(&s->so.shard_k, &s->so.shard_n);
   } else if (!strcmp(a, "--shard")) {
     if (!parse_shard(v, &s->so.shard_k, &s->so.shard_n))
       return ew_cli_bad(sweep_usage, "--shard wants K/N with 1 <= K <= N (e.g. 3/8), got %s", v);
@@ -304,11 +362,10 @@ static int sweep_run(sweep_cmd *s) {
   threads_note(s->c.threads);
   s->so.threads = s->c.threads;
   s->so.keep_table = s->plot_path != NULL;
-  progress_state ps = {-1};
-  if (isatty(fileno(stderr))) {
-    s->so.progress = progress_bar;
-    s->so.progress_ctx = &ps;
-  }
+  progress_state ps = {-1, isatty(fileno(stderr))};
+  s->so.progress = progress_bar;
+  s->so.progress_ctx = &ps;
+  catch_stop_signals();
   s->c.solve.excitons = 0; /* the sweep's columns hold no PL peaks: skip the exciton work */
   ew_catalogue *cat = NULL;
   sweep_files fs;
@@ -419,7 +476,9 @@ static int match_run(match_cmd *m) {
   ew_catalogue *cat = NULL;
   ew_error err = {0};
   int rc = 0;
+  catch_stop_signals();
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
+      ew_match_progress(m->mt, match_cancel, NULL, &err) != EW_OK ||
       ew_match_compute(m->mt, m->path, cat, &m->c.solve, m->c.threads, m->samples, &err) !=
           EW_OK) {
     rc = report(&err);

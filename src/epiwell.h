@@ -53,8 +53,18 @@ typedef enum {
   EW_ERR_CATALOGUE = 3, /* material catalogue missing, unreadable or malformed */
   EW_ERR_NOMEM = 4,     /* out of memory, or a problem too large to attempt */
   EW_ERR_IO = 5,        /* a file could not be read or written */
-  EW_ERR_NUMERIC = 6    /* a solver failed to converge or a result failed its check */
+  EW_ERR_NUMERIC = 6,   /* a solver failed to converge or a result failed its check */
+  EW_ERR_CANCELLED = 7  /* the progress callback asked to stop (the CLI: SIGINT or SIGTERM) */
 } ew_status;
+
+/* Progress of a long solve, sweep or match: called after each finished step with the steps
+ * done so far (1, 2, …, each once, in order) and the steps in all (0 when not known in
+ * advance: a match).  Return 0 to go on, nonzero to cancel: the call returns
+ * EW_ERR_CANCELLED as soon as the steps already running have finished, and the callback is
+ * not called again.  Calls are serialised (one at a time, never two at once) but, in a
+ * workflow on several threads, made on whichever of its threads finished the step, which may
+ * not be the caller's: the callback must not call back into the object being computed. */
+typedef int (*ew_progress_fn)(void *ctx, size_t done, size_t total);
 
 /* Error report.  file/line name the input position when one is known (line 0 otherwise). */
 typedef struct {
@@ -109,6 +119,15 @@ typedef struct {
                                intersubband lines with f below this and the interband lines
                                with overlap below it (default 1e-3: parity-forbidden lines);
                                0 lists every line.  JSON and CSV always hold every line. */
+  /* Progress of ew_solve (may be NULL, the default; ctx is passed to it).  Steps: the
+   * Schrödinger pass and the exciton pass (1 or 2 steps); a self-consistent solve counts
+   * every outer iteration up to sp_max_iterations, the final pass and the exciton pass
+   * (total sp_max_iterations + 2); converging at iteration i < sp_max_iterations, it reports
+   * done = sp_max_iterations for that iteration (one jump).  Called on the
+   * caller's thread.  Ignored by the workflows (sweep, match, tolerance), which report their
+   * own points. */
+  ew_progress_fn progress;
+  void *progress_ctx;
 } ew_options;
 
 EW_API void ew_options_default(ew_options *opt); /* NULL is a no-op */
@@ -410,7 +429,11 @@ typedef struct {
   int header;              /* CSV header: 1 always, 0 never, -1 part 1 only (default) */
   size_t min_levels;       /* columns for at least this many levels per band */
   int keep_table;          /* 1: keep the rows in memory for ew_sweep_stage_plots */
-  void (*progress)(void *ctx, size_t done, size_t total); /* may be NULL; serialised */
+  /* may be NULL: after each point of this part (done = points finished, total = the part's
+   * points), from whichever sweep thread finished it (ew_progress_fn); nonzero cancels:
+   * ew_sweep_compute returns EW_ERR_CANCELLED and writes no row after the last chunk it
+   * had written (rows are written in chunks of 64 points per thread). */
+  ew_progress_fn progress;
   void *progress_ctx;
 } ew_sweep_options;
 EW_API void ew_sweep_options_default(ew_sweep_options *o);
@@ -437,6 +460,17 @@ EW_API ew_status ew_sweep_stage_plots(ew_sweep *sw, const char *path,
                                int written[EW_SWEEP_PLOT_FILES], ew_error *err);
 EW_API ew_status ew_sweep_commit_plots(ew_sweep *sw, int ok, ew_error *err);
 
+/* Join the parts of a sweep computed with --shard K/N on several machines into exactly the
+ * output of one machine (byte for byte), in point order whatever the order of paths (n of
+ * them; every part JSON, or every part CSV).  JSON parts say which part they are; CSV parts
+ * do not, so sw (may be NULL for JSON parts) must hold the sweep's ranges (ew_sweep_vary, as
+ * the sweep had them; no stack needs to be opened): the rows are placed by their values.
+ * Nothing is written to out unless every part checks: EW_ERR_INPUT naming the part for a
+ * part missing, given twice, of another sweep (stack, keys, columns, point count) or cut
+ * short; EW_ERR_IO when a part cannot be read or out written. */
+EW_API ew_status ew_sweep_merge(const ew_sweep *sw, size_t n, const char *const *paths, FILE *out,
+                                ew_error *err);
+
 /* ---- inverse matching (api_match.c) ----------------------------------------------------
  * Which value of one key (or pair of values of two keys) puts one line (two lines) at a
  * target: create → vary, line, target (once each per unknown) [→ tolerance] → compute. */
@@ -454,6 +488,9 @@ EW_API ew_status ew_match_tolerance(ew_match *mt, const char *quantity, ew_error
  * core) and samples per range (0: the default).  No solution is not an error. */
 EW_API ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalogue *cat,
                            const ew_options *opt, int threads, size_t samples, ew_error *err);
+/* Progress of ew_match_compute (fn may be NULL: none): one step per solve, total 0 (the
+ * solves a match needs depend on what it finds); nonzero cancels (EW_ERR_CANCELLED). */
+EW_API ew_status ew_match_progress(ew_match *mt, ew_progress_fn fn, void *ctx, ew_error *err);
 EW_API size_t ew_match_solution_count(const ew_match *mt); /* 0 for NULL or before compute */
 /* Value of unknown k (0 or 1) in solution i; NAN out of range. */
 EW_API double ew_match_solution_value(const ew_match *mt, size_t i, size_t k);

@@ -673,7 +673,7 @@ ew_status ew_wf_match(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
                       const ew_wf_quantity *tolerance, const ew_wf_match_opt *oin,
                       ew_wf_match_result *out, ew_error *err) {
   memset(out, 0, sizeof *out);
-  ew_wf_match_opt o = {0, 0};
+  ew_wf_match_opt o = {0, 0, NULL, NULL};
   if (oin) o = *oin;
   wf_eval ev = {NULL, 0, {NULL, NULL}, {NULL, NULL}, 0};
   ew_status rc = match_setup(m, ranges, nr, lines, targets, nlines, tolerance, &ev, out, err);
@@ -691,6 +691,9 @@ ew_status ew_wf_match(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
   ew_wf_pool pool;
   rc = ew_wf_pool_open(m, nt, &pool, err);
   if (rc != EW_OK) return rc;
+  ew_progress pg;
+  ew_progress_init(&pg, o.progress, o.progress_ctx, 0);
+  if (o.progress) pool.progress = &pg;
   ev.pool = &pool;
   rc = nr == 1 ? match_1d(&ev, ranges, tolerance, S[0], nt, out, err)
                : match_2d(&ev, ranges, S[0], S[1], nt, out, err);

@@ -39,6 +39,8 @@ typedef struct {
 typedef struct {
   int threads;     /* 0: every core */
   size_t samples;  /* samples per range; 0: from STEP if given, else 41 (1D) / 11 (2D) */
+  ew_progress_fn progress; /* may be NULL: one step per solve, total 0; nonzero cancels */
+  void *progress_ctx;
 } ew_wf_match_opt;
 
 /* Every value of ranges[0] (1D; nranges = 1, nlines = 1) or pair of values (2D; nranges =

@@ -12,4 +12,6 @@ void ew_options_default(ew_options *opt) {
   opt->excitons = 1;
   opt->sp_max_iterations = EW_SP_MAX_ITER;
   opt->line_min_strength = 1e-3; /* = the interband "allowed" threshold of lines.c */
+  opt->progress = NULL;
+  opt->progress_ctx = NULL;
 }

@@ -14,7 +14,7 @@
 /* Alternate passes and Poisson updates from p's first guess until converged; *res is the
  * last pass (caller frees), *iters and *dU the iterations done and the last max|ΔU|. */
 static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson *p,
-                         int *iters, double *dU, ew_error *err) {
+                         ew_progress *pg, int *iters, double *dU, ew_error *err) {
   ew_options iopt = *uopt;
   iopt.error_estimate = 0;
   iopt.excitons = 0;
@@ -30,6 +30,12 @@ static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson 
     if (rc != EW_OK) break;
     if (*dU < EW_SP_TOL_EV) {
       conv = 1;
+      if (pg && ew_progress_step_to(pg, (size_t)max_it))
+        rc = ew_progress_fail(pg, "the self-consistent solve", "steps", err);
+      break;
+    }
+    if (pg && ew_progress_step(pg)) {
+      rc = ew_progress_fail(pg, "the self-consistent solve", "steps", err);
       break;
     }
     ew_result_free(res);
@@ -46,8 +52,13 @@ static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson 
   return rc;
 }
 
-ew_status ew_solve_self_consistent(const ew_stack *st, const ew_options *optin, ew_result **out,
+ew_status ew_solve_self_consistent(const ew_stack *st, const ew_options *opt, ew_result **out,
                                    ew_error *err) {
+  return ew_solve_self_consistent_progress(st, opt, NULL, out, err);
+}
+
+ew_status ew_solve_self_consistent_progress(const ew_stack *st, const ew_options *optin,
+                                            ew_progress *pg, ew_result **out, ew_error *err) {
   *out = NULL;
   /* Undoped with charge-neutral ends: no fixed charge, so the band is flat (intrinsic
      carriers aside) and the plain pass is the self-consistent one. */
@@ -66,8 +77,10 @@ ew_status ew_solve_self_consistent(const ew_stack *st, const ew_options *optin, 
   else rc = ew_poisson_new(st, g, fmax(st->temperature_K, EW_SP_T_FLOOR_K), &p, err);
   int it = 0;
   double dU = INFINITY;
-  if (rc == EW_OK) rc = iterate(st, &uopt, p, &it, &dU, err);
+  if (rc == EW_OK) rc = iterate(st, &uopt, p, pg, &it, &dU, err);
   if (rc == EW_OK) rc = ew_schrodinger_pass(st, &uopt, ew_poisson_potential(p), &res, err);
+  if (rc == EW_OK && pg && ew_progress_step(pg))
+    rc = ew_progress_fail(pg, "the self-consistent solve", "steps", err);
   if (rc == EW_OK) rc = ew_poisson_attach(p, res, it, dU, err);
   if (rc == EW_OK) {
     *out = res;

@@ -5,8 +5,12 @@
 
 #include "error.h"
 #include "exciton.h"
+#include "poisson.h"
+#include "progress.h"
 #include "schrodinger.h"
 #include "self_consistent.h"
+
+#define SOLVE_STEPS "steps"
 
 ew_status ew_solve(const ew_stack *st, const ew_options *opt, ew_result **out, ew_error *err) {
   ew_result *r = NULL;
@@ -18,10 +22,19 @@ ew_status ew_solve(const ew_stack *st, const ew_options *opt, ew_result **out, e
     opt = &defaults;
   }
   /* doping, a pinned surface or a bias all need the self-consistent potential */
-  ew_status rc = st->doped || st->surface_given || st->bias_given
-                     ? ew_solve_self_consistent(st, opt, &r, err)
-                     : ew_schrodinger_pass(st, opt, NULL, &r, err);
+  int sc = st->doped || st->surface_given || st->bias_given;
+  /* steps (epiwell.h): [outer iterations up to the budget +] the final pass [+ excitons] */
+  size_t budget = opt->sp_max_iterations > 0 ? (size_t)opt->sp_max_iterations : EW_SP_MAX_ITER;
+  ew_progress pg;
+  ew_progress_init(&pg, opt->progress, opt->progress_ctx,
+                   (sc ? budget : 0) + 1 + (opt->excitons ? 1 : 0));
+  ew_status rc = sc ? ew_solve_self_consistent_progress(st, opt, &pg, &r, err)
+                    : ew_schrodinger_pass(st, opt, NULL, &r, err);
+  if (rc == EW_OK && !sc && ew_progress_step(&pg))
+    rc = ew_progress_fail(&pg, "the solve", SOLVE_STEPS, err);
   if (rc == EW_OK && r->opt.excitons) rc = ew_result_add_excitons(r, err);
+  if (rc == EW_OK && r->opt.excitons && ew_progress_step(&pg))
+    rc = ew_progress_fail(&pg, "the solve", SOLVE_STEPS, err);
   if (rc != EW_OK) {
     ew_result_free(r);
     r = NULL;

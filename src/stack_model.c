@@ -64,6 +64,9 @@ ew_status ew_wf_model_open(const char *path, const ew_catalogue *cat, const ew_o
   m->cat = cat;
   if (opt) m->opt = *opt;
   else ew_options_default(&m->opt);
+  /* the workflows report their own points (epiwell.h): no per-solve calls from threads */
+  m->opt.progress = NULL;
+  m->opt.progress_ctx = NULL;
   if (m->opt.lowest_levels > 0 && m->opt.lowest_levels < EW_WF_INTERBAND_MAX)
     m->opt.lowest_levels = EW_WF_INTERBAND_MAX;
   /* The reader validates first, so a broken file is reported with its own file:line. */
@@ -116,6 +119,7 @@ ew_status ew_wf_pool_open(const ew_wf_model *m, int threads, ew_wf_pool *p, ew_e
   (void)err;
   p->m = m;
   p->n = threads > 0 ? (size_t)threads : 1;
+  p->progress = NULL;
   return EW_OK;
 }
 
@@ -143,10 +147,14 @@ void ew_wf_point_text(char *buf, size_t size, size_t nk, const char *const *keys
 ew_status ew_wf_pool_solve(const ew_wf_pool *p, size_t nk, const char *const *keys,
                            const double *vals, ew_stack **st, ew_result **res, ew_error *err) {
   *res = NULL;
+  *st = NULL;
+  if (ew_progress_cancelled(p->progress))
+    return ew_progress_fail(p->progress, "the search", "solves", err);
   ew_status rc = ew_wf_pool_stack(p, nk, keys, vals, st, err);
   if (rc != EW_OK) return rc;
   ew_error e2 = {0};
   rc = ew_solve(*st, &p->m->opt, res, &e2);
+  if (rc == EW_OK && p->progress) ew_progress_step(p->progress);
   if (rc != EW_OK) {
     ew_stack_free(*st);
     *st = NULL;

@@ -7,6 +7,7 @@
 #include <stddef.h>
 
 #include "epiwell.h"
+#include "progress.h"
 #include "stack_edit.h"
 
 typedef struct ew_wf_model ew_wf_model;
@@ -39,6 +40,9 @@ ew_status ew_wf_stack_at(const ew_wf_model *m, size_t nkeys, const char *const *
 typedef struct {
   const ew_wf_model *m;
   size_t n; /* threads the loop may use */
+  /* NULL (ew_wf_pool_open), or: every solve is one step of it, and once it is cancelled
+   * every further ew_wf_pool_solve fails with EW_ERR_CANCELLED */
+  ew_progress *progress;
 } ew_wf_pool;
 
 /* For loops of up to `threads` threads (as resolved by ew_wf_threads). */

@@ -12,6 +12,7 @@
 #include "json_writer.h"
 #include "line_name.h"
 #include "parallel.h"
+#include "progress.h"
 #include "solve.h"
 #include "stack.h"
 
@@ -91,13 +92,22 @@ static ew_status split_tied(const ew_wf_model *m, sweep_plan *P, size_t a, ew_er
   }
 }
 
-static void point_values(const sweep_plan *P, size_t p, double *vals) {
-  if (P->nr == 1) {
-    vals[0] = ew_wf_range_value(&P->r[0], p);
+size_t ew_wf_sweep_points(const ew_wf_range *r, size_t nr) {
+  return ew_wf_range_count(&r[0]) * (nr > 1 ? ew_wf_range_count(&r[1]) : 1);
+}
+
+void ew_wf_sweep_point(const ew_wf_range *r, size_t nr, size_t p, double *vals) {
+  if (nr == 1) {
+    vals[0] = ew_wf_range_value(&r[0], p);
   } else { /* outer loop the first range */
-    vals[0] = ew_wf_range_value(&P->r[0], p / P->count[1]);
-    vals[1] = ew_wf_range_value(&P->r[1], p % P->count[1]);
+    size_t c1 = ew_wf_range_count(&r[1]);
+    vals[0] = ew_wf_range_value(&r[0], p / c1);
+    vals[1] = ew_wf_range_value(&r[1], p % c1);
   }
+}
+
+static void point_values(const sweep_plan *P, size_t p, double *vals) {
+  ew_wf_sweep_point(P->r, P->nr, p, vals);
 }
 
 /* The ranges, keys and shard of a sweep, checked before anything is solved. */
@@ -401,26 +411,28 @@ static ew_status sweep_rows(const sweep_plan *P, const ew_wf_sweep_opt *o, FILE 
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep rows)");
   }
   ew_wf_fail fl = EW_WF_FAIL_NONE;
-  size_t done = 0, todo = P->hi - P->lo;
-  for (size_t c0 = P->lo; c0 < P->hi && fl.index == SIZE_MAX; c0 += chunk) {
+  ew_progress pg;
+  ew_progress_init(&pg, o->progress, o->progress_ctx, P->hi - P->lo);
+  int cancelled = 0;
+  for (size_t c0 = P->lo; c0 < P->hi && fl.index == SIZE_MAX && !cancelled; c0 += chunk) {
     size_t cn = P->hi - c0 < chunk ? P->hi - c0 : chunk;
     EW_OMP(omp parallel for num_threads(P->nt) schedule(dynamic, 1))
     for (size_t j = 0; j < cn; j++) {
-      if (c0 + j > ew_wf_fail_index(&fl)) continue;
+      if (c0 + j > ew_wf_fail_index(&fl) || ew_progress_cancelled(&pg)) continue;
       solve_row(P, c0 + j, rows + j * ncol, codes[j], psi ? psi + j * pk : NULL, &fl);
-      if (o->progress) {
-        EW_OMP(omp critical(ew_wf_progress))
-        o->progress(o->progress_ctx, ++done, todo);
-      }
+      if (o->progress) ew_progress_step(&pg);
     }
-    if (fl.index != SIZE_MAX) break;
+    /* a cancelled chunk has holes: none of it is written */
+    cancelled = ew_progress_cancelled(&pg);
+    if (fl.index != SIZE_MAX || cancelled) break;
     for (size_t j = 0; j < cn; j++)
       write_row(P, c0 + j, rows + j * ncol, codes[j], psi ? psi + j * pk : NULL, csv, json, tab);
   }
   free(rows);
   free(codes);
   free(psi);
-  return fl.index != SIZE_MAX ? ew_wf_fail_report(&fl, err) : EW_OK;
+  if (fl.index != SIZE_MAX) return ew_wf_fail_report(&fl, err);
+  return cancelled ? ew_progress_fail(&pg, "the sweep", "points", err) : EW_OK;
 }
 
 ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr,

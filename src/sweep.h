@@ -24,8 +24,9 @@ typedef struct {
   size_t shard_k, shard_n;/* compute part K (1-based) of N contiguous parts; N = 0 or 1: all */
   int header;             /* CSV header: 1 always, 0 never, -1 (default) part 1 only */
   size_t min_levels;      /* columns for at least this many levels per band (--levels) */
-  /* called (serialised) after each point; may be NULL */
-  void (*progress)(void *ctx, size_t done, size_t total);
+  /* after each point of the part (ew_progress_fn, epiwell.h); may be NULL; nonzero cancels:
+   * EW_ERR_CANCELLED, no row written after the chunks already written */
+  ew_progress_fn progress;
   void *progress_ctx;
   /* when not NULL: receives the columns and every row of this part, in point order (for
    * pictures); release with ew_wf_table_free.  Left empty when the sweep fails. */
@@ -68,6 +69,11 @@ void ew_wf_sweep_opt_default(ew_wf_sweep_opt *o);
  * concatenate byte for byte to the whole sweep's CSV.  Rows are written in point order
  * whatever the thread count; on an error the streams hold partial output (the CLI buffers
  * them and writes nothing). */
+/* Points of a sweep over ranges (nr 1 or 2: the product of their counts), and the axis
+ * values of point p (outer loop the first range) into vals[nr]. */
+size_t ew_wf_sweep_points(const ew_wf_range *ranges, size_t nr);
+void ew_wf_sweep_point(const ew_wf_range *ranges, size_t nr, size_t p, double *vals);
+
 ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nranges,
                       const ew_wf_sweep_opt *o, FILE *csv, FILE *json, ew_error *err);
 

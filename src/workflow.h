@@ -6,6 +6,7 @@
  *   line_name.h         level and line names ("e1-hh1"), the main lines
  *   sweep.h             parameter sweeps (OpenMP, shards), CSV and JSON
  *   sweep_plot.h        the pictures of a sweep
+ *   sweep_merge.h       the parts of a sharded sweep joined into the one-machine output
  *   match.h             inverse matching: which value puts a line at a target
  *   tolerance.h         growth tolerances and the monolayer ladder
  *   hellmann_feynman.h  level derivatives from the solved state
@@ -13,6 +14,7 @@
  *   output_set.h        output files renamed into place together
  *   chart_file.h        companion picture names, charts into an output set
  *   parallel.h          thread counts, the first failure in point order
+ *   progress.h          progress callbacks and cancelling, from any thread
  *
  * Everything here is reentrant: no mutable globals; the OpenMP loops share only const data
  * (the model, the catalogue), each thread edits its own copy of the stack's tree and each
@@ -31,7 +33,9 @@
 #include "spectra_workflow.h"
 #include "stack_edit.h"
 #include "stack_model.h"
+#include "progress.h"
 #include "sweep.h"
+#include "sweep_merge.h"
 #include "sweep_plot.h"
 #include "tolerance.h"
 

@@ -134,6 +134,14 @@ MUTANTS = [
     ("sw_json", "src/sweep.c", 'if (k + 1 < ncol) ew_json_write_number(json, row[k]);', 'if (k + 1 < ncol) ew_json_write_number(json, row[k + 1 < ncol - 1 ? k + 1 : k]);', "sweep JSON value of the next column"),
     ("sw_total", "src/sweep.c", '"\\"count\\":%zu},\\"columns\\":[", P->np,', '"\\"count\\":%zu},\\"columns\\":[", P->hi - P->lo,', "sweep points_total = shard count"),
     ("line_name", "src/line_name.c", 'for (int b = 0; b < (int)band; b++) off += r->band_count[b];', 'for (int b = 0; b < (int)band; b++) off += r->band_count[0];', "level index offset uses e count"),
+    # sharded sweeps joined (src/sweep_merge.c), progress and cancelling (src/progress.c, …)
+    ("mg_count", "src/sweep_merge.c", '"count\\":%zu}%s", pt[0].pre,\n            pt[0].total,', '"count\\":%zu}%s", pt[0].pre,\n            pt[0].total - 1,', "merged JSON's shard count one short"),
+    ("mg_sep", "src/sweep_merge.c", 'fputs(*first_row ? "\\n" : ",\\n", out);', 'fputs(*first_row ? "\\n" : "\\n,", out);', "merged JSON rows separated wrongly"),
+    ("mg_dup", "src/sweep_merge.c", 'for (size_t j = 0; j < i; j++)', 'for (size_t j = 1; j < i; j++)', "a duplicate of the first JSON part passes"),
+    ("mg_gap", "src/sweep_merge.c", 'if (pt[i].first > next)', 'if (pt[i].first > next + 1)', "a one-point gap between CSV parts passes"),
+    ("pg_total", "src/sweep.c", 'ew_progress_init(&pg, o->progress, o->progress_ctx, P->hi - P->lo);', 'ew_progress_init(&pg, o->progress, o->progress_ctx, P->np);', "sweep progress total counts every shard"),
+    ("pg_steps", "src/solve.c", '(sc ? budget : 0) + 1 + (opt->excitons ? 1 : 0)', '(sc ? budget : 0) + 2', "solve progress total ignores the excitons"),
+    ("pg_after", "src/progress.c", 'if (!p->cancelled) { /* steps finishing after a cancel are not counted */', 'if (1) { /* steps finishing after a cancel are not counted */', "the callback is called after it cancelled"),
 ]
 
 

@@ -60,9 +60,15 @@ static int inject(void) {
   return 1;
 }
 
-void *malloc(size_t n) { return inject() ? NULL : __libc_malloc(n); }
-void *calloc(size_t a, size_t b) { return inject() ? NULL : __libc_calloc(a, b); }
-void *realloc(void *p, size_t n) { return inject() ? NULL : __libc_realloc(p, n); }
+/* A failed allocation sets errno to ENOMEM, as glibc's does (POSIX): fopen and getline pass
+ * it on, and that is how a caller tells their out-of-memory from a missing file or the end. */
+static void *failed(void) {
+  errno = ENOMEM;
+  return NULL;
+}
+void *malloc(size_t n) { return inject() ? failed() : __libc_malloc(n); }
+void *calloc(size_t a, size_t b) { return inject() ? failed() : __libc_calloc(a, b); }
+void *realloc(void *p, size_t n) { return inject() ? failed() : __libc_realloc(p, n); }
 #endif
 
 static ew_catalogue *cat;
@@ -125,6 +131,25 @@ static void sweep_job(const void *ctx, outcome *out) {
   rewind(c->csv);
   out->len = end > 0 && (size_t)end <= sizeof out->bytes ? (size_t)end : 0;
   if (out->len && fread(out->bytes, 1, out->len, c->csv) != out->len) out->len = 0;
+}
+
+/* Two JSON parts of a sweep merged (sweep_merge.c) into a file whose buffer exists before
+ * arming; the parts' own files are opened while armed. */
+typedef struct {
+  const char *paths[2];
+  FILE *out;
+} merge_ctx;
+
+static void merge_job(const void *ctx, outcome *out) {
+  const merge_ctx *c = ctx;
+  ew_error err;
+  rewind(c->out);
+  out->rc = ew_wf_sweep_merge(NULL, 0, 2, c->paths, c->out, &err);
+  fflush(c->out);
+  long end = ftell(c->out);
+  rewind(c->out);
+  out->len = end > 0 && (size_t)end <= sizeof out->bytes ? (size_t)end : 0;
+  if (out->len && fread(out->bytes, 1, out->len, c->out) != out->len) out->len = 0;
 }
 
 #if FAULTS_POSSIBLE
@@ -289,14 +314,59 @@ static void faults_sweep(void **state) {
 #endif
 }
 
+/* The parts written once (unarmed), then merged with every allocation failing in turn. */
+static void faults_merge(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  char dir[512], path[600], parts[2][600];
+  assert_int_equal(tu_mkdtemp("faults", dir, sizeof dir), 0);
+  snprintf(path, sizeof path, "%s/well.cfg", dir);
+  FILE *f = fopen(path, "w");
+  assert_non_null(f);
+  fprintf(f, "temperature = 300.0;\ngrid_step = %s;\n%s", job_grid(), strstr(well_text, "layers"));
+  fclose(f);
+  ew_wf_model *m = NULL;
+  ew_wf_range range;
+  ew_error err;
+  assert_int_equal(ew_wf_model_open(path, cat, NULL, &m, &err), EW_OK);
+  assert_int_equal(ew_wf_range_parse("well.thickness=6:8:1", 1, "--vary", &range, &err), EW_OK);
+  merge_ctx c;
+  for (int k = 0; k < 2; k++) {
+    snprintf(parts[k], sizeof parts[k], "%s/part%d.json", dir, k + 1);
+    FILE *p = fopen(parts[k], "w");
+    assert_non_null(p);
+    ew_wf_sweep_opt o;
+    ew_wf_sweep_opt_default(&o);
+    o.shard_k = (size_t)k + 1;
+    o.shard_n = 2;
+    assert_int_equal(ew_wf_sweep(m, &range, 1, &o, NULL, p, &err), EW_OK);
+    fclose(p);
+    c.paths[k] = parts[k];
+  }
+  static char iobuf[1 << 16];
+  c.out = tmpfile();
+  assert_non_null(c.out);
+  setvbuf(c.out, iobuf, _IOFBF, sizeof iobuf);
+  int bad = every_fault("merge of 2 parts", merge_job, &c);
+  fclose(c.out);
+  ew_wf_model_free(m);
+  tu_rm_tree(dir);
+  assert_int_equal(bad, 0);
+#else
+  skip(); /* AddressSanitizer owns malloc */
+#endif
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(faults_single_well),
       cmocka_unit_test(faults_doped_well),
       cmocka_unit_test(faults_sweep),
+      cmocka_unit_test(faults_merge),
   };
 #if !FAULTS_POSSIBLE
-  (void)solve_job, (void)sweep_job, (void)read_stack, (void)well_text, (void)job_grid; /* skipped */
+  (void)solve_job, (void)sweep_job, (void)merge_job, (void)read_stack, (void)well_text,
+      (void)job_grid; /* skipped */
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
   const char *only = getenv("EW_FAULTS_ONLY");

@@ -4,12 +4,17 @@
     r = epiwell.solve("examples/detector_well.cfg", temperature_K=300)
     for s in r.states: print(s.label, s.energy_eV)
     r.z_nm, r.edge_eV("e"), r.wavefunction("e1")     # numpy arrays on the grid nodes
+    sw = epiwell.sweep("examples/detector_well.cfg", "well.thickness=4:12:0.1")
+    sw["well.thickness"], sw["e1-e2_um"]               # numpy arrays, one value per point
+    m = epiwell.match("examples/detector_well.cfg", "well.thickness=4:12", "e1-e2", "9.0um")
+    m.values                                           # (solutions, unknowns) array
 
 A thin layer over the C library libepiwell.so (ctypes): every number is the library's own,
 copied out of the C result, which is freed before solve() returns.  Calls release the GIL,
 so solves in several threads run in parallel.
 """
 import ctypes
+import json
 import math
 import os
 import threading
@@ -19,11 +24,12 @@ import numpy as np
 from . import _lib
 from ._lib import lib
 
-__all__ = ["solve", "Result", "State", "Line", "Warning", "EpiwellError", "version",
-           "BANDS", "STATUS"]
+__all__ = ["solve", "sweep", "match", "Result", "Sweep", "Match", "State", "Line", "Warning",
+           "EpiwellError", "version", "BANDS", "STATUS"]
 
 BANDS = ("e", "hh", "lh")
-STATUS = {0: "ok", 1: "usage", 2: "input", 3: "catalogue", 4: "nomem", 5: "io", 6: "numeric"}
+STATUS = {0: "ok", 1: "usage", 2: "input", 3: "catalogue", 4: "nomem", 5: "io", 6: "numeric",
+          7: "cancelled"}
 
 
 def version():
@@ -210,23 +216,8 @@ def _read_stack(path_or_text, cat, settings, name):
     return st
 
 
-def solve(path_or_text, grid_step_nm=None, temperature_K=None, *, set=None, lowest_levels=None,
-          error_estimate=True, excitons=True, residual_tol=None, sp_max_iterations=None,
-          materials=None, name=None):
-    """Solve a stack and return a Result.
-
-    path_or_text: a stack file's path (str or os.PathLike), or its text (a str holding a
-    newline or "=").  grid_step_nm overrides the stack's grid step (as `--grid-step`);
-    temperature_K its temperature; set={"well.thickness": 6.5, …} any numeric key (as
-    `epiwell sweep --vary`).  lowest_levels: lines from the lowest K levels of each band
-    (default 3, as `epiwell solve`; 0 for all pairs).  materials: a catalogue directory
-    (default: the library's search, README "Material catalogue").  name: the file name error
-    messages give for text (default "<string>").  Errors raise EpiwellError with file, line
-    and message."""
-    settings = dict(set or {})
-    if temperature_K is not None:
-        settings["temperature"] = temperature_K
-    cat = _catalogue(materials)
+def _solve_options(grid_step_nm, lowest_levels, error_estimate, excitons, residual_tol,
+                   sp_max_iterations):
     opt = _lib.Options()
     lib.ew_options_default(ctypes.byref(opt))
     if grid_step_nm is not None:
@@ -238,10 +229,238 @@ def solve(path_or_text, grid_step_nm=None, temperature_K=None, *, set=None, lowe
         opt.residual_tol = residual_tol
     if sp_max_iterations is not None:
         opt.sp_max_iterations = sp_max_iterations
+    return opt
+
+
+class _Progress:
+    """A Python progress(done, total) callable as an ew_progress_fn: a true return value (or
+    an exception, re-raised by check()) cancels.  The library serialises the calls; on a
+    sweep they come from its threads (ctypes takes the GIL for them)."""
+
+    def __init__(self, fn):
+        self.fn, self.exc = fn, None
+        self.c = _lib.PROGRESS(self._call) if fn is not None else _lib.PROGRESS()
+
+    def _call(self, ctx, done, total):
+        try:
+            return 1 if self.fn(done, total) else 0
+        except BaseException as e:  # noqa: B902 - any exception cancels and is re-raised
+            self.exc = e
+            return 1
+
+    def check(self):
+        if self.exc is not None:
+            raise self.exc
+
+
+def _memstream():
+    buf, size = ctypes.c_void_p(), ctypes.c_size_t()
+    f = _lib.libc.open_memstream(ctypes.byref(buf), ctypes.byref(size))
+    if not f:
+        raise MemoryError("open_memstream failed")
+    return f, buf, size
+
+
+def _memstream_text(f, buf, size):
+    """Close f and return what was written (freeing the buffer)."""
+    _lib.libc.fclose(f)
+    try:
+        return ctypes.string_at(buf, size.value).decode() if buf.value else ""
+    finally:
+        _lib.libc.free(buf)
+
+
+def _num(v):
+    return math.nan if v is None else float(v)
+
+
+def _range_spec(key, r, need_step):
+    if isinstance(r, str):
+        return "%s=%s" % (key, r)
+    r = tuple(r)
+    if len(r) not in ((3,) if need_step else (2, 3)):
+        raise ValueError("%s: give (from, to%s)" % (key, ", step" if need_step else "[, step]"))
+    return "%s=%s" % (key, ":".join(repr(float(x)) for x in r))
+
+
+def _specs(vary, need_step):
+    """"KEY=FROM:TO:STEP", a list of them, or {key: (from, to, step)} → list of specs."""
+    if isinstance(vary, str):
+        return [vary]
+    if isinstance(vary, dict):
+        return [_range_spec(k, r, need_step) for k, r in vary.items()]
+    return list(vary)
+
+
+class Sweep:
+    """A sweep's table, as `epiwell sweep --json` prints it: columns (names), varied (the
+    varied keys), points_total, shard (k, n, first, count); sweep[column] a numpy array with
+    one value per point of this part (NaN where the JSON has null); warnings the codes of
+    every point (lists of str)."""
+
+    def __init__(self, d):
+        self.stack, self.varied = d["stack"], list(d["varied"])
+        self.points_total, self.shard = d["points_total"], dict(d["shard"])
+        self.columns = list(d["columns"])
+        pts = d["points"]
+        self._data = {c: np.array([_num(p[c]) for p in pts], dtype=float)
+                      for c in self.columns if c != "warnings"}
+        self.warnings = [list(p["warnings"]) for p in pts]
+
+    def __getitem__(self, column):
+        return self._data[column]
+
+    def __len__(self):
+        return len(self.warnings)
+
+    def __repr__(self):
+        return "Sweep(%s over %s, %d points)" % (self.stack, ", ".join(self.varied), len(self))
+
+
+def sweep(path, vary, *, grid_step_nm=None, error_estimate=True, threads=0, shard=None,
+          levels=0, progress=None, materials=None):
+    """Sweep one or two keys of the stack file at path and return a Sweep.
+
+    vary: "KEY=FROM:TO:STEP", a list of one or two such strings (the first the outer loop),
+    or {key: (from, to, step)}; keys as `epiwell sweep --vary`.  grid_step_nm,
+    error_estimate: as `--grid-step`, `--no-estimate`; threads: 0 every core (the values do
+    not depend on it); shard=(k, n): part k of n (`--shard K/N`); levels: `--levels`.
+    progress(done, total): called after each point (from the sweep's threads, one call at a
+    time); a true return value cancels the sweep (EpiwellError, status "cancelled").  The
+    values are those of `epiwell sweep --json` to the last digit."""
+    cat = _catalogue(materials)
+    opt = _solve_options(grid_step_nm, None, error_estimate, False, None, None)
+    sw, err = ctypes.c_void_p(), _lib.Error()
+    rc = lib.ew_sweep_create(ctypes.byref(sw), ctypes.byref(err))
+    if rc:
+        _raise(rc, err)
+    try:
+        for spec in _specs(vary, True):
+            rc = lib.ew_sweep_vary(sw, spec.encode(), ctypes.byref(err))
+            if rc:
+                _raise(rc, err)
+        rc = lib.ew_sweep_open(sw, os.fsencode(path), cat, ctypes.byref(opt), ctypes.byref(err))
+        if rc:
+            _raise(rc, err)
+        so = _lib.SweepOptions()
+        lib.ew_sweep_options_default(ctypes.byref(so))
+        so.threads, so.min_levels = int(threads), int(levels)
+        if shard is not None:
+            so.shard_k, so.shard_n = int(shard[0]), int(shard[1])
+        pg = _Progress(progress)
+        so.progress = pg.c
+        f, buf, size = _memstream()
+        try:
+            rc = lib.ew_sweep_compute(sw, ctypes.byref(so), None, f, ctypes.byref(err))
+        finally:
+            text = _memstream_text(f, buf, size)
+        pg.check()
+        if rc:
+            _raise(rc, err)
+        return Sweep(json.loads(text))
+    finally:
+        lib.ew_sweep_free(sw)
+
+
+class Match:
+    """What `epiwell match --json` prints: keys (the unknowns), lines (line, target_eV,
+    target_nm, reached_eV), solutions (dicts: value, energy_eV, wavelength_nm, residual_eV,
+    warnings and, with a tolerance, uncertainty and the values at target -/+ tolerance),
+    message ("" unless nothing matched); values: a (solutions, unknowns) numpy array of the
+    library's values at full precision (ew_match_solution_value)."""
+
+    def __init__(self, d, values):
+        self.keys, self.lines = list(d["keys"]), d["lines"]
+        self.solutions, self.message = d["solutions"], d["message"]
+        self.values = values
+
+    def __len__(self):
+        return len(self.solutions)
+
+    def __repr__(self):
+        return "Match(%s: %d solutions)" % (", ".join(self.keys), len(self))
+
+
+def match(path, vary, line, target, *, tolerance=None, samples=0, grid_step_nm=None,
+          error_estimate=True, threads=0, progress=None, materials=None):
+    """Which value of a key (or pair of keys) puts a line (pair of lines) at a target.
+
+    vary: "KEY=FROM:TO[:STEP]", a list of two, or {key: (from, to)}; line: "e1-e2",
+    "e1-hh1:pl", … (or a list of two); target: a quantity with its unit, "9.0um",
+    "1.548eV" (or a list of two); tolerance: a quantity (one unknown only), as `epiwell
+    match`.  progress(done, total): after each solve (total 0: not known in advance); a true
+    return value cancels.  No solution is not an error: len() == 0 and message says what the
+    range reaches."""
+    specs = _specs(vary, False)
+    lines = [line] if isinstance(line, str) else list(line)
+    targets = [target] if isinstance(target, str) else list(target)
+    cat = _catalogue(materials)
+    pl = any(ln.endswith(":pl") for ln in lines)  # only a PL target needs the excitons
+    opt = _solve_options(grid_step_nm, None, error_estimate, pl, None, None)
+    mt, err = ctypes.c_void_p(), _lib.Error()
+    rc = lib.ew_match_create(ctypes.byref(mt), ctypes.byref(err))
+    if rc:
+        _raise(rc, err)
+    try:
+        calls = [(lib.ew_match_vary, s) for s in specs] + [(lib.ew_match_line, s) for s in lines]
+        calls += [(lib.ew_match_target, s) for s in targets]
+        if tolerance is not None:
+            calls.append((lib.ew_match_tolerance, tolerance))
+        for fn, arg in calls:
+            rc = fn(mt, arg.encode(), ctypes.byref(err))
+            if rc:
+                _raise(rc, err)
+        pg = _Progress(progress)
+        lib.ew_match_progress(mt, pg.c, None, ctypes.byref(err))
+        rc = lib.ew_match_compute(mt, os.fsencode(path), cat, ctypes.byref(opt), int(threads),
+                                  int(samples), ctypes.byref(err))
+        pg.check()
+        if rc:
+            _raise(rc, err)
+        f, buf, size = _memstream()
+        try:
+            rc = lib.ew_match_write_json(mt, f, ctypes.byref(err))
+        finally:
+            text = _memstream_text(f, buf, size)
+        if rc:
+            _raise(rc, err)
+        n, nk = lib.ew_match_solution_count(mt), len(specs)
+        values = np.array([[lib.ew_match_solution_value(mt, i, k) for k in range(nk)]
+                           for i in range(n)], dtype=float).reshape(n, nk)
+        return Match(json.loads(text), values)
+    finally:
+        lib.ew_match_free(mt)
+
+
+def solve(path_or_text, grid_step_nm=None, temperature_K=None, *, set=None, lowest_levels=None,
+          error_estimate=True, excitons=True, residual_tol=None, sp_max_iterations=None,
+          materials=None, name=None, progress=None):
+    """Solve a stack and return a Result.
+
+    path_or_text: a stack file's path (str or os.PathLike), or its text (a str holding a
+    newline or "=").  grid_step_nm overrides the stack's grid step (as `--grid-step`);
+    temperature_K its temperature; set={"well.thickness": 6.5, …} any numeric key (as
+    `epiwell sweep --vary`).  lowest_levels: lines from the lowest K levels of each band
+    (default 3, as `epiwell solve`; 0 for all pairs).  materials: a catalogue directory
+    (default: the library's search, README "Material catalogue").  name: the file name error
+    messages give for text (default "<string>").  progress(done, total): after the
+    Schrödinger pass and the exciton pass (a doped stack: after each outer iteration too,
+    ew_options.progress in epiwell.h), on this thread; a true return value cancels
+    (EpiwellError, status "cancelled").  Errors raise EpiwellError with file, line and
+    message."""
+    settings = dict(set or {})
+    if temperature_K is not None:
+        settings["temperature"] = temperature_K
+    cat = _catalogue(materials)
+    opt = _solve_options(grid_step_nm, lowest_levels, error_estimate, excitons, residual_tol,
+                         sp_max_iterations)
+    pg = _Progress(progress)
+    opt.progress = pg.c
     st = _read_stack(path_or_text, cat, settings, name)
     try:
         res, err = ctypes.c_void_p(), _lib.Error()
         rc = lib.ew_solve(st, ctypes.byref(opt), ctypes.byref(res), ctypes.byref(err))
+        pg.check()
         if rc:
             _raise(rc, err)
         try:

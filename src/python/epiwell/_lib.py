@@ -16,11 +16,23 @@ class Error(ctypes.Structure):
                 ("line", ctypes.c_int), ("message", ctypes.c_char * 1024)]
 
 
+# ew_progress_fn: int (*)(void *ctx, size_t done, size_t total)
+PROGRESS = ctypes.CFUNCTYPE(ctypes.c_int, ctypes.c_void_p, ctypes.c_size_t, ctypes.c_size_t)
+
+
 class Options(ctypes.Structure):
     _fields_ = [("grid_step_nm", ctypes.c_double), ("lowest_levels", ctypes.c_int),
                 ("error_estimate", ctypes.c_int), ("residual_tol", ctypes.c_double),
                 ("excitons", ctypes.c_int), ("sp_max_iterations", ctypes.c_int),
-                ("line_min_strength", ctypes.c_double)]
+                ("line_min_strength", ctypes.c_double), ("progress", PROGRESS),
+                ("progress_ctx", ctypes.c_void_p)]
+
+
+class SweepOptions(ctypes.Structure):
+    _fields_ = [("threads", ctypes.c_int), ("shard_k", ctypes.c_size_t),
+                ("shard_n", ctypes.c_size_t), ("header", ctypes.c_int),
+                ("min_levels", ctypes.c_size_t), ("keep_table", ctypes.c_int),
+                ("progress", PROGRESS), ("progress_ctx", ctypes.c_void_p)]
 
 
 class State(ctypes.Structure):
@@ -76,6 +88,7 @@ _SIG = {
     "ew_options_size": (ctypes.c_size_t, []),
     "ew_state_size": (ctypes.c_size_t, []),
     "ew_line_size": (ctypes.c_size_t, []),
+    "ew_sweep_options_size": (ctypes.c_size_t, []),
     "ew_error_text": (ctypes.c_char_p, [ctypes.POINTER(Error), ctypes.c_char_p, ctypes.c_size_t]),
     "ew_band_name": (ctypes.c_char_p, [ctypes.c_int]),
     "ew_catalogue_load": (ctypes.c_int, [ctypes.c_char_p, ctypes.POINTER(P), ctypes.POINTER(Error)]),
@@ -114,7 +127,38 @@ _SIG = {
     "ew_result_state_sheet_density_cm2": (ctypes.c_double, [P, ctypes.c_size_t]),
     "ew_result_line_depolarization_eV": (ctypes.c_double, [P, ctypes.c_size_t]),
     "ew_line_pl_peak_nm": (ctypes.c_double, [P]),
+    # workflows (FILE * passed as pointers from the C library's open_memstream)
+    "ew_sweep_options_default": (None, [ctypes.POINTER(SweepOptions)]),
+    "ew_sweep_create": (ctypes.c_int, [ctypes.POINTER(P), ctypes.POINTER(Error)]),
+    "ew_sweep_free": (None, [P]),
+    "ew_sweep_vary": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_sweep_open": (ctypes.c_int, [P, ctypes.c_char_p, P, ctypes.POINTER(Options),
+                                     ctypes.POINTER(Error)]),
+    "ew_sweep_compute": (ctypes.c_int, [P, ctypes.POINTER(SweepOptions), P, P,
+                                        ctypes.POINTER(Error)]),
+    "ew_match_create": (ctypes.c_int, [ctypes.POINTER(P), ctypes.POINTER(Error)]),
+    "ew_match_free": (None, [P]),
+    "ew_match_vary": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_match_line": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_match_target": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_match_tolerance": (ctypes.c_int, [P, ctypes.c_char_p, ctypes.POINTER(Error)]),
+    "ew_match_progress": (ctypes.c_int, [P, PROGRESS, P, ctypes.POINTER(Error)]),
+    "ew_match_compute": (ctypes.c_int, [P, ctypes.c_char_p, P, ctypes.POINTER(Options),
+                                        ctypes.c_int, ctypes.c_size_t, ctypes.POINTER(Error)]),
+    "ew_match_solution_count": (ctypes.c_size_t, [P]),
+    "ew_match_solution_value": (ctypes.c_double, [P, ctypes.c_size_t, ctypes.c_size_t]),
+    "ew_match_message": (ctypes.c_char_p, [P]),
+    "ew_match_write_json": (ctypes.c_int, [P, P, ctypes.POINTER(Error)]),
 }
+
+# open_memstream(3) of the C library: the workflows write their JSON into memory
+libc = ctypes.CDLL(None)
+libc.open_memstream.restype = P
+libc.open_memstream.argtypes = [ctypes.POINTER(P), ctypes.POINTER(ctypes.c_size_t)]
+libc.fclose.restype = ctypes.c_int
+libc.fclose.argtypes = [P]
+libc.free.restype = None
+libc.free.argtypes = [P]
 
 
 def _declare(lib):
@@ -123,7 +167,8 @@ def _declare(lib):
         f.restype = res
         f.argtypes = args
     for struct, fn in ((Error, "ew_error_size"), (Options, "ew_options_size"),
-                       (State, "ew_state_size"), (Line, "ew_line_size")):
+                       (State, "ew_state_size"), (Line, "ew_line_size"),
+                       (SweepOptions, "ew_sweep_options_size")):
         if ctypes.sizeof(struct) != getattr(lib, fn)():
             raise ImportError("epiwell: %s has %d bytes in the library, %d here: the package "
                               "and the library are of different versions"
