@@ -11,7 +11,7 @@
 
 #define KP_MAX_ITER 400
 #define KP_RESID_TOL 1e-8 /* eV (B⁻¹ norm of a B-normalised residual) */
-#define KP_PHASE1_TOL 3e-3 /* eV: where phase 1 hands over to the per-pair shifts */
+#define KP_PHASE1_TOL 1e-4 /* eV: where phase 1 hands over to the per-pair shifts */
 
 struct ew_kp_solver {
   size_t n, dim, p;
@@ -25,6 +25,8 @@ struct ew_kp_solver {
   size_t lwork;
   size_t factorizations, solves, counts;
 };
+
+static void seed(ew_kp_solver *s, size_t j0);
 
 void ew_kp_solver_free(ew_kp_solver *s) {
   if (!s) return;
@@ -62,15 +64,7 @@ ew_kp_solver *ew_kp_solver_create(size_t n, int nb, size_t p) {
     ew_kp_solver_free(s);
     return NULL;
   }
-  /* a fixed pseudo-random start (a linear congruential sequence): reproducible runs */
-  unsigned long long st = 0x9E3779B97F4A7C15ull;
-  for (size_t k = 0; k < s->dim * p; k++) {
-    st = st * 6364136223846793005ull + 1442695040888963407ull;
-    double re = (double)(st >> 11) / 9007199254740992.0 - 0.5;
-    st = st * 6364136223846793005ull + 1442695040888963407ull;
-    double im = (double)(st >> 11) / 9007199254740992.0 - 0.5;
-    s->X[k] = re + I * im;
-  }
+  seed(s, 0);
   return s;
 }
 
@@ -194,7 +188,7 @@ static ew_status step(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t 
  * (inverse iteration converges there at |λ − θ|/gap per solve). */
 static ew_status refine(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double *r,
                         ew_error *err) {
-  for (int round = 0; round < 8; round++) {
+  for (int round = 0; round < 24; round++) {
     residuals(s, H, m, r);
     size_t j = 0;
     while (j < m && r[j] < KP_RESID_TOL) j++;
@@ -211,41 +205,68 @@ static ew_status refine(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double
   return EW_OK;
 }
 
+/* Subspace iteration at the shift lo (below the spectrum) until the m lowest Ritz pairs have
+ * residuals below tol: it converges to the lowest eigenvalues whatever the start. */
+/* A fixed pseudo-random block (a linear congruential sequence: reproducible runs) into the
+ * columns from j0 on. */
+static void seed(ew_kp_solver *s, size_t j0) {
+  unsigned long long st = 0x9E3779B97F4A7C15ull + j0;
+  for (size_t k = j0 * s->dim; k < s->dim * s->p; k++) {
+    st = st * 6364136223846793005ull + 1442695040888963407ull;
+    double re = (double)(st >> 11) / 9007199254740992.0 - 0.5;
+    st = st * 6364136223846793005ull + 1442695040888963407ull;
+    double im = (double)(st >> 11) / 9007199254740992.0 - 0.5;
+    s->X[k] = re + I * im;
+  }
+}
+static void reseed_guard(ew_kp_solver *s, size_t m) { seed(s, m); }
+
+static ew_status phase1(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double lo,
+                        double tol, int min_iter, ew_error *err) {
+  double sigma = lo, res = INFINITY;
+  ew_status rc = factor_near(s, H, &sigma, err);
+  if (rc) return rc;
+  for (int iter = 0; iter < KP_MAX_ITER; iter++) {
+    if ((rc = step(s, H, 0, s->p, err))) return rc;
+    res = residual(s, H, m);
+    if (res < tol && iter + 1 >= min_iter) return EW_OK;
+  }
+  return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: subspace iteration did not converge in "
+                 "%d solves (residual %.3g eV)", KP_MAX_ITER, res);
+}
+
 ew_status ew_kp_lowest(ew_kp_solver *s, const ew_kp_pencil *H, double lo, size_t m,
                        double *values, size_t *certified, ew_error *err) {
   size_t p = s->p;
   *certified = 0;
   if (m < 1 || m >= p) return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: %zu eigenpairs "
                                       "asked of a block of %zu", m, p);
-  double sigma = lo;
-  ew_status rc = factor_near(s, H, &sigma, err);
+  double sigma = lo, r[64];
+  ew_status rc = phase1(s, H, m, lo, KP_PHASE1_TOL, 1, err);
+  if (!rc) rc = refine(s, H, m, r, err);
+  if (!rc && !(residual(s, H, m) < KP_RESID_TOL))
+    rc = phase1(s, H, m, lo, KP_RESID_TOL, 1, err); /* the slow, sure way */
   if (rc) return rc;
-  double r[64], res = INFINITY;
-  /* phase 1: the whole block at the shift below the spectrum, until every wanted pair is
-     roughly there (its Ritz value within ~res²/gap) */
-  for (int iter = 0; iter < KP_MAX_ITER; iter++) {
-    if ((rc = step(s, H, 0, p, err))) return rc;
-    res = residual(s, H, m);
-    if (res < KP_PHASE1_TOL) break;
-  }
-  if (!(res < KP_PHASE1_TOL))
-    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: subspace iteration did not converge in "
-                   "%d solves (residual %.3g eV)", KP_MAX_ITER, res);
-  if ((rc = refine(s, H, m, r, err))) return rc;
-  res = residual(s, H, m);
-  if (!(res < KP_RESID_TOL))
-    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: inverse iteration did not converge "
-                   "(residual %.3g eV)", res);
   /* the cut just above the m-th value: a Ritz value bounds its eigenvalue from above
      (Cauchy interlacing), so the guard columns' θ say nothing below themselves; a level
      within the margin of the m-th is retried with a closer cut */
   size_t c_lo, c_cut = 0;
   double cut = 0.0, margin = fmin(1e-6, 0.5 * (s->theta[m] - s->theta[m - 1]));
   if ((rc = count_at(s, H, sigma, &c_lo, err))) return rc;
-  for (int t = 0; t < 2; t++, margin *= 1e-3) {
+  for (int t = 0; t < 6; t++) {
     cut = s->theta[m - 1] + margin;
     if ((rc = count_at(s, H, cut, &c_cut, err))) return rc;
     if (c_cut == m) break;
+    if (c_cut < m) { /* a level within the margin of the m-th: a closer cut */
+      margin *= 1e-3;
+      continue;
+    }
+    /* converged pairs that are not the lowest (a level came down from the continuum where
+       the block had no component): fresh guard columns, then the sure way, long enough for
+       the new columns to reach the missing levels */
+    reseed_guard(s, m);
+    if ((rc = phase1(s, H, m, lo, KP_RESID_TOL, 60, err))) return rc;
+    margin = fmin(1e-6, 0.5 * (s->theta[m] - s->theta[m - 1]));
   }
   *certified = c_cut - c_lo;
   if (c_lo != 0 || c_cut != m)
