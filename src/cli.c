@@ -37,6 +37,8 @@ static const char usage[] =
     "  epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE [--tolerance VALUE]\n"
     "                      [--samples N] [--json] [--threads N]  (two unknowns: each twice)\n"
     "  epiwell tolerance STACK [--dx DX] [--ladder LAYER] [--json] [--threads N]\n"
+    "  epiwell dispersion STACK [--model 4band|6band] [--direction 100|110] [--kmax K]\n"
+    "                     [--points N] [--csv FILE] [--json] [--plot FILE.svg|.png]\n"
     "    (sweep, match, tolerance also take --grid-step NM and --no-estimate)\n"
     "  epiwell --version | --help\n"
     "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"
@@ -416,5 +418,6 @@ int main(int argc, char **argv) {
   if (!strcmp(argv[1], "sweep")) return ew_cli_sweep(argc - 2, argv + 2);
   if (!strcmp(argv[1], "match")) return ew_cli_match(argc - 2, argv + 2);
   if (!strcmp(argv[1], "tolerance")) return ew_cli_tolerance(argc - 2, argv + 2);
+  if (!strcmp(argv[1], "dispersion")) return ew_cli_dispersion(argc - 2, argv + 2);
   return ew_cli_bad(usage, "unknown command %s", argv[1]);
 }

@@ -23,5 +23,7 @@ void ew_cli_prefix(ew_error *err, const char *opt);
 int ew_cli_sweep(int argc, char **argv);
 int ew_cli_match(int argc, char **argv);
 int ew_cli_tolerance(int argc, char **argv);
+/* `epiwell dispersion` (cli_dispersion.c) */
+int ew_cli_dispersion(int argc, char **argv);
 
 #endif
