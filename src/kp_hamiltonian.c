@@ -1,4 +1,9 @@
 /* kp_hamiltonian.c — the multiband valence-band pencil (see kp_hamiltonian.h). */
+/* Complex products without the C99 Annex G infinity/NaN recovery (a library call per
+ * product otherwise): every value here is finite.  GCC's -fcx-limited-range, for this file. */
+#if defined(__GNUC__) && !defined(__clang__)
+#pragma GCC optimize("cx-limited-range")
+#endif
 #include "kp_hamiltonian.h"
 
 #include <math.h>
