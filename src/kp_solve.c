@@ -178,29 +178,62 @@ static ew_status step(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t 
   return EW_OK;
 }
 
-/* Phase 2: each Kramers pair not yet converged gets shift-invert at its own Ritz value
- * (inverse iteration converges there at |λ − θ|/gap per solve). */
+/* B-orthonormalise columns [j0, j1) of X among themselves (modified Gram–Schmidt). */
+static void b_orthonormalise(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t j1) {
+  size_t dim = s->dim;
+  for (size_t j = j0; j < j1; j++) {
+    double complex *x = s->X + j * dim;
+    for (size_t q = j0; q < j; q++) {
+      const double complex *y = s->X + q * dim;
+      double complex c = 0;
+      for (size_t k = 0; k < dim; k++) c += conj(y[k]) * H->w[k / (size_t)s->nb] * x[k];
+      for (size_t k = 0; k < dim; k++) x[k] -= c * y[k];
+    }
+    double nn = 0.0;
+    for (size_t k = 0; k < dim; k++) nn += H->w[k / (size_t)s->nb] * creal(x[k] * conj(x[k]));
+    double f = nn > 0.0 ? 1.0 / sqrt(nn) : 1.0;
+    for (size_t k = 0; k < dim; k++) x[k] *= f;
+  }
+}
+
+/* Phase 2: each Kramers pair (cluster) not yet converged gets shift-invert at its own Ritz
+ * value (inverse iteration converges there at |λ − θ|/gap per solve); one Rayleigh–Ritz step
+ * over the whole block after every sweep over the clusters puts them together again. */
 static ew_status refine(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double *r,
                         ew_error *err) {
-  for (int round = 0; round < 24; round++) {
+  size_t dim = s->dim;
+  for (int round = 0; round < 6; round++) {
     residuals(s, H, m, r);
-    size_t j = 0;
-    while (j < m && r[j] < KP_RESID_TOL) j++;
-    if (j == m) return EW_OK;
-    size_t j1 = j + 1;
-    while (j1 < m && fabs(s->theta[j1] - s->theta[j]) < 1e-6 * (1.0 + fabs(s->theta[j]))) j1++;
-    double sigma = s->theta[j];
-    ew_status rc = factor_near(s, H, &sigma, err);
-    if (rc == EW_OK) rc = step(s, H, j, j1, err);
-    if (rc == EW_OK) rc = step(s, H, j, j1, err);
-    if (rc) return rc;
+    int todo = 0;
+    for (size_t j = 0; j < m;) {
+      size_t j1 = j + 1;
+      while (j1 < s->p && fabs(s->theta[j1] - s->theta[j]) < 1e-6 * (1.0 + fabs(s->theta[j]))) j1++;
+      int conv = 1;
+      for (size_t q = j; q < j1 && q < m; q++) conv &= r[q] < KP_RESID_TOL;
+      if (!conv) {
+        todo = 1;
+        double sigma = s->theta[j];
+        ew_status rc = factor_near(s, H, &sigma, err);
+        for (int it = 0; it < 2 && rc == EW_OK; it++) {
+          for (size_t q = j; q < j1; q++)
+            for (size_t k = 0; k < dim; k++) s->X[q * dim + k] *= H->w[k / (size_t)s->nb];
+          rc = ew_zshift_lu_solve(s->lu, s->X + j * dim, j1 - j, err);
+          s->solves += j1 - j;
+          if (rc == EW_OK) b_orthonormalise(s, H, j, j1);
+        }
+        if (rc) return rc;
+      }
+      j = j1;
+    }
+    if (!todo) return EW_OK;
+    memcpy(s->Y, s->X, dim * s->p * sizeof *s->Y);
+    if (rayleigh_ritz(s, H))
+      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: the refined block lost rank");
   }
   residuals(s, H, m, r);
   return EW_OK;
 }
 
-/* Subspace iteration at the shift lo (below the spectrum) until the m lowest Ritz pairs have
- * residuals below tol: it converges to the lowest eigenvalues whatever the start. */
 /* A fixed pseudo-random block (a linear congruential sequence: reproducible runs) into the
  * columns from j0 on. */
 static void seed(ew_kp_solver *s, size_t j0) {

@@ -325,11 +325,12 @@ done:
 }
 
 /* ---- complex block-tridiagonal pencils (k·p) ------------------------------------------- */
-/* Supernode relaxation and panel size of zgstrf for the block-tridiagonal pencils: 4, 8, 16
- * and 32 were measured no faster than 1 on a 1323-node 4-band pencil (~11 ms a
- * factorisation); never 0 (SuperLU 5.3 loops forever). */
-#define KP_RELAX 1
-#define KP_PANEL 1
+/* Supernode relaxation and panel size of zgstrf for the block-tridiagonal pencils: the
+ * nb × nb blocks make supernodes worth having.  Measured on a 1323-node 4-band pencil: 8/8
+ * gives ~4 ms a factorisation and ~0.25 ms a solve, 1/1 (right for a scalar tridiagonal)
+ * ~7 ms and ~0.5 ms, 16/16 slower again; never 0 (SuperLU 5.3 loops forever). */
+#define KP_RELAX 8
+#define KP_PANEL 8
 struct ew_zshift_lu {
   int n, nb, dim, nnz;
   doublecomplex *nz;
