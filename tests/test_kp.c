@@ -311,6 +311,37 @@ static void json_values(void **state) {
   size_t J = ew_dispersion_subband_count(d) - 1;
   snprintf(want, sizeof want, ",%.10g]}]}", ew_dispersion_energy_eV(d, J, 4));
   assert_non_null(strstr(buf, want));
+  /* every subband's label and band, in order (a lh subband among them: band is not constant) */
+  int lh = 0;
+  const char *at = buf;
+  for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) {
+    snprintf(want, sizeof want, "{\"label\":\"%s\",\"band\":\"%s\",", ew_dispersion_label(d, j),
+             ew_dispersion_band(d, j));
+    at = strstr(at, want);
+    assert_non_null(at);
+    lh += strcmp(ew_dispersion_band(d, j), "lh") == 0;
+  }
+  assert_true(lh >= 1);
+  free(buf);
+  /* CSV: header, then k and every subband per row, read back with sscanf */
+  buf = NULL;
+  f = open_memstream(&buf, &len);
+  assert_int_equal(ew_dispersion_write_csv(d, f, NULL), EW_OK);
+  fclose(f);
+  const char *row = strchr(buf, '\n');
+  assert_non_null(row);
+  assert_int_equal(strncmp(buf, "k_inv_nm,", 9), 0);
+  for (size_t i = 0; i < ew_dispersion_point_count(d); i++) {
+    row++;
+    char *end;
+    TU_NEAR(strtod(row, &end), ew_dispersion_k_inv_nm(d, i), 1e-12, "CSV k column");
+    for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) {
+      assert_int_equal(*end, ',');
+      TU_NEAR(strtod(end + 1, &end), ew_dispersion_energy_eV(d, j, i), 1e-9, "CSV value");
+    }
+    row = strchr(end, '\n');
+    assert_non_null(row);
+  }
   free(buf);
   ew_dispersion_free(d);
   ew_stack_free(st);
