@@ -16,7 +16,7 @@
 #include "error.h"
 
 #define KP_MAX_ITER 400
-#define KP_RESID_TOL 1e-8 /* eV (B⁻¹ norm of a B-normalised residual) */
+#define KP_RESID_TOL (s->tol)
 #define KP_PHASE1_TOL 1e-4 /* eV: where phase 1 hands over to the per-pair shifts */
 
 struct ew_kp_solver {
@@ -31,6 +31,7 @@ struct ew_kp_solver {
   size_t lwork;
   size_t factorizations, solves, counts;
   int warm; /* X holds converged vectors of a previous call */
+  double tol; /* residual tolerance, eV */
 };
 
 static void seed(ew_kp_solver *s, size_t j0);
@@ -56,6 +57,7 @@ ew_kp_solver *ew_kp_solver_create(size_t n, int nb, size_t p) {
   if (!s) return NULL;
   s->n = n, s->nb = nb, s->p = p, s->dim = n * (size_t)nb;
   s->lwork = 64 * p;
+  s->tol = 1e-8;
   s->lu = ew_zshift_lu_create(n, nb);
   s->inertia = ew_kp_inertia_create(nb);
   s->X = malloc(s->dim * p * sizeof *s->X);
@@ -76,6 +78,13 @@ ew_kp_solver *ew_kp_solver_create(size_t n, int nb, size_t p) {
 }
 
 const double complex *ew_kp_solver_vectors(const ew_kp_solver *s) { return s->X; }
+
+void ew_kp_solver_set_tol(ew_kp_solver *s, double tol_eV) { s->tol = tol_eV; }
+
+double complex *ew_kp_solver_start(ew_kp_solver *s) {
+  s->warm = 1;
+  return s->X;
+}
 
 void ew_kp_solver_work(const ew_kp_solver *s, size_t *f, size_t *so, size_t *c) {
   *f = s->factorizations, *so = s->solves, *c = s->counts;

@@ -33,6 +33,13 @@ void ew_kp_solver_free(ew_kp_solver *s);
 ew_status ew_kp_lowest(ew_kp_solver *s, const ew_kp_pencil *H, double lo, size_t m,
                        double *values, size_t *certified, ew_error *err);
 const double complex *ew_kp_solver_vectors(const ew_kp_solver *s);
+/* The residual tolerance of the m wanted pairs (B⁻¹ norm, eV; default 1e-8): the eigenvalue
+ * error is at most tol²/gap (Kato–Temple). */
+void ew_kp_solver_set_tol(ew_kp_solver *s, double tol_eV);
+/* The block (dim × p, column-major) for the caller to write good start vectors into (the
+ * next call then begins with a Rayleigh–Ritz step on them instead of the iteration from the
+ * pseudo-random block; a wrong start costs time, never the result: the count decides). */
+double complex *ew_kp_solver_start(ew_kp_solver *s);
 
 /* Work done so far, for the benchmark. */
 void ew_kp_solver_work(const ew_kp_solver *s, size_t *factorizations, size_t *solves,
