@@ -82,13 +82,12 @@ static void table(const ew_dispersion *d, FILE *out) {
   }
 }
 
-/* one output file, written atomically */
-static int write_file(const ew_dispersion *d, const char *path, int csv) {
+/* the CSV file, written atomically */
+static int write_file(const ew_dispersion *d, const char *path) {
   ew_error err;
   ew_output_file *f = NULL;
   if (ew_output_file_open(path, &f, &err)) return ew_cli_report(&err);
-  ew_status rc = csv ? ew_dispersion_write_csv(d, ew_output_file_stream(f), &err)
-                     : EW_OK;
+  ew_status rc = ew_dispersion_write_csv(d, ew_output_file_stream(f), &err);
   if (rc) {
     ew_output_file_abort(f);
     return ew_cli_report(&err);
@@ -113,13 +112,11 @@ int ew_cli_dispersion(int argc, char **argv) {
       ew_dispersion_compute(d, st, &a.o, &err)) {
     rc = ew_cli_report(&err);
   } else {
-    if (a.json) {
-      if (ew_dispersion_write_json(d, stdout, &err)) rc = ew_cli_report(&err);
-    } else {
-      table(d, stdout);
-    }
-    if (!rc && a.csv) rc = write_file(d, a.csv, 1);
+    /* the files first: on an error nothing reaches standard output */
+    if (a.csv) rc = write_file(d, a.csv);
     if (!rc && a.plot && ew_dispersion_write_plot(d, a.plot, &err)) rc = ew_cli_report(&err);
+    if (!rc && a.json && ew_dispersion_write_json(d, stdout, &err)) rc = ew_cli_report(&err);
+    if (!rc && !a.json) table(d, stdout);
   }
   ew_dispersion_free(d);
   ew_stack_free(st);
