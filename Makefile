@@ -13,7 +13,7 @@ ifeq ($(SANITIZE),1)
 endif
 
 # what the library links against; LAPACK(E) only for the tests and the benchmark (references)
-PKGS      := superlu libconfig zlib cairo
+PKGS      := superlu libconfig zlib cairo lapacke lapack
 TEST_PKGS := lapacke lapack cmocka
 # deferred (=): evaluated only when a compile or link runs, after any deps step
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS))

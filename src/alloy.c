@@ -394,6 +394,7 @@ static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double
   out->mhh_par = 1.0 / den[2];
   out->mlh_par = 1.0 / den[3];
   dos_masses(p, out);
+  out->gamma3 = p->have[EW_P_GAMMA3] ? p->v[EW_P_GAMMA3] : 0.0;
   out->eps_r = p->have[EW_P_EPS_S] ? p->v[EW_P_EPS_S] : 0.0;
   out->a_nm = p->have[EW_P_ALC] ? p->v[EW_P_ALC] / 10.0 : 0.0;
   out->Ep_eV = p->have[EW_P_EP] ? p->v[EW_P_EP] : 0.0;
@@ -433,6 +434,7 @@ static ew_status apply_strain(const ew_cat_entry *e, double x, double y, const e
   b->dEc_strain_eV = sh.dEc_eV;
   b->dEhh_strain_eV = sh.dEhh_eV;
   b->dElh_strain_eV = sh.dElh_eV;
+  b->dE_shear_strain_eV = sh.dE_shear_eV;
   b->Ec_eV += sh.dEc_eV;
   b->Ev_hh_eV += sh.dEhh_eV;
   b->Ev_lh_eV += sh.dElh_eV;

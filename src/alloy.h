@@ -68,6 +68,12 @@ typedef struct {
   /* the band-edge electron mass me follows the gap (Kane relation, alloy.c): me0 is the
      catalogue's 0 K mass at the 0 K Γ gap Eg0_G_eV (both 0 when me is not scaled: no E_P) */
   double me0, Eg0_G_eV;
+  /* for the multiband k·p model (kp_hamiltonian.c; appended): the Luttinger γ3 (0 when
+     unknown: user materials; the k·p model then takes γ3 = γ2) and the shear part of the
+     valence strain δE_sh = b (ε⊥ − ε∥) already inside Ev_hh_eV and Ev_lh_eV (strain.h; 0
+     unstrained) */
+  double gamma3;
+  double dE_shear_strain_eV;
 } ew_bands;
 
 /* Parameters at composition x in [0,1].  Fails (EW_ERR_INPUT) for an unknown name, x out

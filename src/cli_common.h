@@ -25,5 +25,7 @@ int ew_cli_match(int argc, char **argv);
 int ew_cli_tolerance(int argc, char **argv);
 /* `epiwell merge` (cli_merge.c). */
 int ew_cli_merge(int argc, char **argv);
+/* `epiwell dispersion` (cli_dispersion.c) */
+int ew_cli_dispersion(int argc, char **argv);
 
 #endif

@@ -516,6 +516,59 @@ EW_API ew_status ew_tolerance_write_json(const ew_tolerance *t, FILE *out, ew_er
  * (a ladder gives EW_ERR_USAGE). */
 EW_API ew_status ew_tolerance_set_growth_rate(ew_tolerance *t, double percent, ew_error *err);
 
+/* ---- hole subband dispersion in the multiband k·p model (api_dispersion.c) ------------
+ * 4-band (heavy and light holes) or 6-band (with the split-off band) Luttinger–Kohn model on
+ * the solve's grid, Burt–Foreman operator ordering, Bir–Pikus strain; subband energies
+ * against k∥ along [100] or [110], certified at every k∥ by a block LDLᴴ inertia count
+ * (README "Hole dispersion").  create → compute (again with other options if wanted) →
+ * accessors / writers → free. */
+typedef struct {
+  int model;           /* 4 (4band, default) or 6 (6band) */
+  int direction;       /* 100 (default) or 110: in-plane direction of k∥ */
+  int axial;           /* 1: axial approximation (γ2, γ3 → (γ2 + γ3)/2 in the in-plane
+                          warping terms); 0: full warping (default) */
+  double kmax_inv_nm;  /* largest k∥, 1/nm, in (0, 10] (default 0.5) */
+  size_t points;       /* k∥ samples from 0 to kmax, 2 … 10000 (default 51) */
+  double grid_step_nm; /* > 0 overrides the stack's grid_step; 0 = stack's or the solve's
+                          default (the same grid as ew_solve) */
+  int symmetrised;     /* 1: symmetrised operator ordering instead of Burt–Foreman (default
+                          0; for comparison) */
+} ew_dispersion_options;
+EW_API void ew_dispersion_options_default(ew_dispersion_options *o); /* NULL is a no-op */
+typedef struct ew_dispersion ew_dispersion;
+EW_API ew_status ew_dispersion_create(ew_dispersion **out, ew_error *err);
+EW_API void ew_dispersion_free(ew_dispersion *d); /* NULL is a no-op */
+/* Compute the dispersion of stack with options o (may be NULL: the defaults).  EW_ERR_USAGE
+ * for bad options, EW_ERR_INPUT when no hole subband is bound (or a 6-band layer lacks
+ * Delta_so), EW_ERR_NUMERIC when a count disagrees with the computed levels. */
+EW_API ew_status ew_dispersion_compute(ew_dispersion *d, const ew_stack *stack,
+                                       const ew_dispersion_options *o, ew_error *err);
+EW_API size_t ew_dispersion_point_count(const ew_dispersion *d);
+EW_API double ew_dispersion_k_inv_nm(const ew_dispersion *d, size_t i); /* NAN out of range */
+/* Subbands (Kramers pairs) followed: those bound at k∥ = 0. */
+EW_API size_t ew_dispersion_subband_count(const ew_dispersion *d);
+/* "hh1", "lh1", "so1", …: character at k∥ = 0 and index within it; NULL out of range. */
+EW_API const char *ew_dispersion_label(const ew_dispersion *d, size_t j);
+/* "hh", "lh" or "so"; NULL out of range. */
+EW_API const char *ew_dispersion_band(const ew_dispersion *d, size_t j);
+/* Energy of subband j at point i, absolute eV: the mean of its two Kramers branches. */
+EW_API double ew_dispersion_energy_eV(const ew_dispersion *d, size_t j, size_t i);
+/* Branch 0 or 1 of subband j at point i, absolute eV (they differ only without inversion
+ * symmetry). */
+EW_API double ew_dispersion_branch_eV(const ew_dispersion *d, size_t j, int branch, size_t i);
+/* Eigenvalues the inertia certified at point i (2 × subbands on success). */
+EW_API size_t ew_dispersion_certified(const ew_dispersion *d, size_t i);
+/* "4band" or "6band"; "100" or "110" (NULL before compute). */
+EW_API const char *ew_dispersion_model(const ew_dispersion *d);
+EW_API const char *ew_dispersion_direction(const ew_dispersion *d);
+/* Weight (0 … 1) of character c (0 hh, 1 lh, 2 so) in subband j at k∥ = 0; NAN out of range. */
+EW_API double ew_dispersion_weight(const ew_dispersion *d, size_t j, int c);
+/* JSON {"model":…,"direction":…,"k_inv_nm":[…],"subbands":[{"label":…,"band":…,
+ * "energy_eV":[…]},…]}; CSV k_inv_nm,LABEL… (one row per k∥); the picture (.svg/.png). */
+EW_API ew_status ew_dispersion_write_json(const ew_dispersion *d, FILE *out, ew_error *err);
+EW_API ew_status ew_dispersion_write_csv(const ew_dispersion *d, FILE *out, ew_error *err);
+EW_API ew_status ew_dispersion_write_plot(const ew_dispersion *d, const char *path, ew_error *err);
+
 /* ==== Version, struct sizes and stacks with settings (api_version.c) ====================
  * A program built against one version of this header may run with another shared library.
  * ew_version() is the library's "MAJOR.MINOR.PATCH" (a static string).  The *_size()
@@ -529,11 +582,13 @@ EW_API size_t ew_options_size(void);
 EW_API size_t ew_state_size(void);
 EW_API size_t ew_line_size(void);
 EW_API size_t ew_sweep_options_size(void);
+EW_API size_t ew_dispersion_options_size(void);
 /* 1 when every public struct has the size this header gives it, else 0. */
 #define EW_ABI_CHECK()                                                                     \
   (ew_error_size() == sizeof(ew_error) && ew_options_size() == sizeof(ew_options) &&        \
    ew_state_size() == sizeof(ew_state) && ew_line_size() == sizeof(ew_line) &&              \
-   ew_sweep_options_size() == sizeof(ew_sweep_options))
+   ew_sweep_options_size() == sizeof(ew_sweep_options) &&                                    \
+   ew_dispersion_options_size() == sizeof(ew_dispersion_options))
 
 /* Read a stack from text (as ew_stack_read_string) with keys[i] set to values[i], i < nkeys
  * (keys as in `epiwell sweep --vary`: "temperature", "grid_step", "well.thickness",

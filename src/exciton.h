@@ -46,8 +46,8 @@ ew_status ew_exciton_binding_ws(ew_exciton_ws *ws, const ew_grid *g, const doubl
 /* The interpolation table of I(x) (exciton.c, item 2): its size, entry k computed by
  * quadrature, and entry k as stored in exciton_table.inc (NaN past its end). */
 size_t ew_exciton_table_size(void);
-void ew_exciton_table_direct(size_t k, double *I, double *dIds);
-void ew_exciton_table_stored(size_t k, double *I, double *dIds);
+void ew_exciton_table_direct(size_t k, double *I_x, double *dIds);
+void ew_exciton_table_stored(size_t k, double *I_x, double *dIds);
 double ew_exciton_coulomb_G(double d_nm, double lambda_nm);
 double ew_exciton_coulomb_G_ws(const ew_exciton_ws *ws, double d_nm, double lambda_nm);
 

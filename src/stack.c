@@ -1520,6 +1520,9 @@ void ew_layer_bands_at(const ew_layer *ly, double f, ew_bands *out) {
   LERP(mlh_dos);
   LERP(eps_r);
   LERP(a_nm);
+  LERP(Dso_eV);
+  LERP(gamma3);
+  LERP(dE_shear_strain_eV);
 #undef LERP
 }
 

@@ -8,6 +8,7 @@
 #define EW_SUPERLU_ADAPTER_H
 
 #include "hamiltonian.h"
+#include "kp_hamiltonian.h"
 
 /* A factorization workspace for the pencils of one pattern (n × n tridiagonal). */
 typedef struct ew_shift_lu ew_shift_lu;
@@ -31,5 +32,20 @@ ew_status ew_shift_lu_solve(ew_shift_lu *s, double *x, ew_error *err);
  * EW_OK, EW_ERR_NOMEM, or EW_ERR_NUMERIC (non-finite input, exactly singular matrix). */
 ew_status ew_sparse_tridiag_solve(size_t n, const double *lower, const double *diag,
                                   const double *upper, double *rhs_inout, ew_error *err);
+
+/* ---- complex Hermitian block-tridiagonal pencils (the k·p model, kp_hamiltonian.h) ----------
+ * The same shift-invert service for H − σB of an ew_kp_pencil: SuperLU's complex LU (zgstrf,
+ * partial pivoting, natural column order: the matrix is banded), solved with zgstrs for
+ * several right-hand sides at once. */
+typedef struct ew_zshift_lu ew_zshift_lu;
+/* Workspace for pencils of n nodes with blocks of nb (the pattern is fixed); NULL when out of
+ * memory or too large. */
+ew_zshift_lu *ew_zshift_lu_create(size_t n, int nb);
+void ew_zshift_lu_free(ew_zshift_lu *s);
+/* Factor H − σB.  EW_OK; EW_ERR_NUMERIC for an exactly singular shift; EW_ERR_NOMEM. */
+ew_status ew_zshift_lu_factor(ew_zshift_lu *s, const ew_kp_pencil *H, double sigma,
+                              ew_error *err);
+/* X ← (H − σB)⁻¹ X for nrhs columns of n·nb (column-major).  EW_OK or EW_ERR_NOMEM. */
+ew_status ew_zshift_lu_solve(ew_zshift_lu *s, double complex *X, size_t nrhs, ew_error *err);
 
 #endif

@@ -133,6 +133,14 @@ MUTANTS = [
     ("match_nm", "src/match.c", 'ew_json_write_number(out, r->target[i].nm);', 'ew_json_write_number(out, r->target[i].eV);', "match target_nm prints eV"),
     ("sw_json", "src/sweep.c", 'if (k + 1 < ncol) ew_json_write_number(json, row[k]);', 'if (k + 1 < ncol) ew_json_write_number(json, row[k + 1 < ncol - 1 ? k + 1 : k]);', "sweep JSON value of the next column"),
     ("sw_total", "src/sweep.c", '"\\"count\\":%zu},\\"columns\\":[", P->np,', '"\\"count\\":%zu},\\"columns\\":[", P->hi - P->lo,', "sweep points_total = shard count"),
+    # k·p hole dispersion (src/kp_hamiltonian.c, src/dispersion_output.c)
+    ("kp_lt", "src/kp_hamiltonian.c", "double Lt = -g1 - 4.0 * g2, Mt = -g1 + 2.0 * g2;", "double Lt = -g1 - 4.0 * g2, Mt = -g1 + 2.2 * g2;", "in-plane Mt off by 10 % of γ2"),
+    ("kp_g3", "src/kp_hamiltonian.c", "A[1] = A[3] = -6.0 * gb * kx * ky;", "A[1] = A[3] = -6.0 * ga * kx * ky;", "warping term with γ2 for γ3"),
+    ("kp_axial", "src/kp_hamiltonian.c", "double ga = p->axial ? 0.5 * (g2 + g3) : g2,", "double ga = p->axial ? g2 : g2,", "axial approximation leaves γ2"),
+    ("kp_vz", "src/kp_hamiltonian.c", "p->v_z[i] = 0.5 * (3.0 * -g->pot[EW_BAND_LH][i] - p->v_xy[i]);", "p->v_z[i] = 0.5 * (3.0 * -g->pot[EW_BAND_HH][i] - p->v_xy[i]);", "4-band light hole at the heavy-hole edge"),
+    ("kp_dir", "src/dispersion.c", "cy = o->direction == 100 ? 0.0 : sqrt(0.5);", "cy = o->direction == 100 ? 0.0 : 0.0;", "[110] samples [100]"),
+    ("kp_json_band", "src/dispersion_output.c", 'ew_json_key_str(&j, "band", ew_dispersion_character_name(d->character[s]));', 'ew_json_key_str(&j, "band", ew_dispersion_character_name(0));', "band always hh"),
+    ("kp_csv_k", "src/dispersion_output.c", 'fprintf(out, "%.10g", d->k_inv_nm[i]);', 'fprintf(out, "%.10g", d->k_inv_nm[i ? i - 1 : 0]);', "CSV k column shifted"),
     ("line_name", "src/line_name.c", 'for (int b = 0; b < (int)band; b++) off += r->band_count[b];', 'for (int b = 0; b < (int)band; b++) off += r->band_count[0];', "level index offset uses e count"),
     # sharded sweeps joined (src/sweep_merge.c), progress and cancelling (src/progress.c, …)
     ("mg_count", "src/sweep_merge.c", '"count\\":%zu}%s", pt[0].pre,\n            pt[0].total,', '"count\\":%zu}%s", pt[0].pre,\n            pt[0].total - 1,', "merged JSON's shard count one short"),

@@ -152,6 +152,30 @@ static void merge_job(const void *ctx, outcome *out) {
   if (out->len && fread(out->bytes, 1, out->len, c->out) != out->len) out->len = 0;
 }
 
+/* A 6-band k·p dispersion (kp_*.c, dispersion.c, SuperLU's complex LU): every subband
+ * energy at every k∥. */
+static void dispersion_job(const void *ctx, outcome *out) {
+  const ew_stack *st = ctx;
+  ew_dispersion *d = NULL;
+  ew_error err;
+  out->len = 0;
+  out->rc = ew_dispersion_create(&d, &err);
+  ew_dispersion_options o;
+  ew_dispersion_options_default(&o);
+  o.model = 6;
+  o.points = 4;
+  o.kmax_inv_nm = 0.3;
+  if (out->rc == EW_OK) out->rc = ew_dispersion_compute(d, st, &o, &err);
+  for (size_t j = 0; out->rc == EW_OK && j < ew_dispersion_subband_count(d); j++)
+    for (size_t i = 0; i < ew_dispersion_point_count(d); i++) {
+      double e = ew_dispersion_energy_eV(d, j, i);
+      if (out->len + sizeof e > sizeof out->bytes) break;
+      memcpy(out->bytes + out->len, &e, sizeof e);
+      out->len += sizeof e;
+    }
+  ew_dispersion_free(d);
+}
+
 #if FAULTS_POSSIBLE
 /* Run job with the k-th allocation failing (k = 0: none); returns the count seen. */
 static long run_armed(job_fn job, const void *ctx, long k, outcome *out) {
@@ -357,16 +381,37 @@ static void faults_merge(void **state) {
 #endif
 }
 
+/* The k·p dispersion of a narrow well with thin barriers on the coarse job grid. */
+static void faults_dispersion(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  char text[512];
+  snprintf(text, sizeof text,
+           "temperature = 300.0;\ngrid_step = %s;\nlayers = (\n"
+           "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 4.0; },\n"
+           "  { name = \"well\"; material = \"GaAs\"; thickness = 6.0; },\n"
+           "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 4.0; }\n);\n",
+           job_grid());
+  ew_stack *st = read_stack(text);
+  int bad = every_fault("6-band dispersion", dispersion_job, st);
+  ew_stack_free(st);
+  assert_int_equal(bad, 0);
+#else
+  skip();
+#endif
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(faults_single_well),
       cmocka_unit_test(faults_doped_well),
       cmocka_unit_test(faults_sweep),
       cmocka_unit_test(faults_merge),
+      cmocka_unit_test(faults_dispersion),
   };
 #if !FAULTS_POSSIBLE
-  (void)solve_job, (void)sweep_job, (void)merge_job, (void)read_stack, (void)well_text,
-      (void)job_grid; /* skipped */
+  (void)solve_job, (void)sweep_job, (void)merge_job, (void)dispersion_job, (void)read_stack,
+      (void)well_text, (void)job_grid; /* skipped */
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
   const char *only = getenv("EW_FAULTS_ONLY");

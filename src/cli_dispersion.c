@@ -1,0 +1,125 @@
+/* cli_dispersion.c — `epiwell dispersion`: hole subbands against k∥ in the multiband k·p
+ * model.  A thin client of epiwell.h (ew_dispersion_*); outputs written atomically. */
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli_common.h"
+
+static const char usage[] =
+    "usage: epiwell dispersion STACK [--model 4band|6band] [--direction 100|110] [--axial]\n"
+    "                          [--kmax K] [--points N] [--grid-step NM] [--csv FILE] [--json]\n"
+    "                          [--plot FILE.svg|.png]\n"
+    "  hole subband energies (eV) against k (1/nm) in the 4-band or 6-band Luttinger-Kohn\n"
+    "  model, labelled by their k = 0 character; table on stdout unless --json\n";
+
+typedef struct {
+  const char *stack, *csv, *plot;
+  int json;
+  ew_dispersion_options o;
+} args_t;
+
+static int parse(int argc, char **argv, args_t *a) {
+  ew_dispersion_options_default(&a->o);
+  for (int i = 0; i < argc; i++) {
+    const char *s = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
+    double x;
+    if (!strcmp(s, "--help") || !strcmp(s, "-h")) {
+      fputs(usage, stdout);
+      exit(0);
+    } else if (!strcmp(s, "--json")) {
+      a->json = 1;
+    } else if (!strcmp(s, "--axial")) {
+      a->o.axial = 1;
+    } else if (s[0] == '-' && s[1] == '-' && !v) {
+      return ew_cli_bad(usage, "%s needs a value", s);
+    } else if (!strcmp(s, "--model")) {
+      if (!strcmp(v, "4band")) a->o.model = 4;
+      else if (!strcmp(v, "6band")) a->o.model = 6;
+      else return ew_cli_bad(usage, "--model %s: give 4band or 6band", v);
+      i++;
+    } else if (!strcmp(s, "--direction")) {
+      if (!strcmp(v, "100")) a->o.direction = 100;
+      else if (!strcmp(v, "110")) a->o.direction = 110;
+      else return ew_cli_bad(usage, "--direction %s: give 100 or 110", v);
+      i++;
+    } else if (!strcmp(s, "--kmax")) {
+      if (!ew_cli_parse_num(v, &x) || !(x > 0)) return ew_cli_bad(usage, "--kmax %s: give a positive number (1/nm)", v);
+      a->o.kmax_inv_nm = x, i++;
+    } else if (!strcmp(s, "--points")) {
+      if (!ew_cli_parse_num(v, &x) || x < 2 || x > 10000 || x != (double)(size_t)x)
+        return ew_cli_bad(usage, "--points %s: give a whole number from 2 to 10000", v);
+      a->o.points = (size_t)x, i++;
+    } else if (!strcmp(s, "--grid-step")) {
+      if (!ew_cli_parse_num(v, &x) || !(x > 0)) return ew_cli_bad(usage, "--grid-step %s: give a positive number (nm)", v);
+      a->o.grid_step_nm = x, i++;
+    } else if (!strcmp(s, "--csv")) {
+      a->csv = v, i++;
+    } else if (!strcmp(s, "--plot")) {
+      a->plot = v, i++;
+    } else if (s[0] == '-') {
+      return ew_cli_bad(usage, "unknown option %s", s);
+    } else if (!a->stack) {
+      a->stack = s;
+    } else {
+      return ew_cli_bad(usage, "more than one stack file (%s)", s);
+    }
+  }
+  if (!a->stack) return ew_cli_bad(usage, "give a stack file");
+  return 0;
+}
+
+static void table(const ew_dispersion *d, FILE *out) {
+  fprintf(out, "hole subbands, %s k.p, k along [%s] (energies eV)\n", ew_dispersion_model(d),
+          ew_dispersion_direction(d));
+  fprintf(out, "%10s", "k (1/nm)");
+  for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) fprintf(out, " %11s", ew_dispersion_label(d, j));
+  fputc('\n', out);
+  for (size_t i = 0; i < ew_dispersion_point_count(d); i++) {
+    fprintf(out, "%10.4f", ew_dispersion_k_inv_nm(d, i));
+    for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) fprintf(out, " %11.6f", ew_dispersion_energy_eV(d, j, i));
+    fputc('\n', out);
+  }
+}
+
+/* the CSV file, written atomically */
+static int write_file(const ew_dispersion *d, const char *path) {
+  ew_error err;
+  ew_output_file *f = NULL;
+  if (ew_output_file_open(path, &f, &err)) return ew_cli_report(&err);
+  ew_status rc = ew_dispersion_write_csv(d, ew_output_file_stream(f), &err);
+  if (rc) {
+    ew_output_file_abort(f);
+    return ew_cli_report(&err);
+  }
+  if (ew_output_file_commit(f, &err)) return ew_cli_report(&err);
+  return 0;
+}
+
+int ew_cli_dispersion(int argc, char **argv) {
+  args_t a;
+  memset(&a, 0, sizeof a);
+  int rc = parse(argc, argv, &a);
+  if (rc) return rc;
+  ew_error err;
+  if (a.csv && ew_data_path_check(a.csv, "--csv", &err)) return ew_cli_report(&err);
+  if (a.plot && ew_plot_path_check(a.plot, &err)) return ew_cli_report(&err);
+  ew_catalogue *cat = NULL;
+  ew_stack *st = NULL;
+  ew_dispersion *d = NULL;
+  if (ew_catalogue_load(NULL, &cat, &err)) return ew_cli_report(&err);
+  if (ew_stack_read_file(a.stack, cat, &st, &err) || ew_dispersion_create(&d, &err) ||
+      ew_dispersion_compute(d, st, &a.o, &err)) {
+    rc = ew_cli_report(&err);
+  } else {
+    /* the files first: on an error nothing reaches standard output */
+    if (a.csv) rc = write_file(d, a.csv);
+    if (!rc && a.plot && ew_dispersion_write_plot(d, a.plot, &err)) rc = ew_cli_report(&err);
+    if (!rc && a.json && ew_dispersion_write_json(d, stdout, &err)) rc = ew_cli_report(&err);
+    if (!rc && !a.json) table(d, stdout);
+  }
+  ew_dispersion_free(d);
+  ew_stack_free(st);
+  ew_catalogue_free(cat);
+  return rc;
+}

@@ -1,0 +1,48 @@
+/* dispersion.h — hole subband dispersions E(k∥) of a stack in the 4-band or 6-band k·p
+ * model (kp_hamiltonian.h), certified at every k∥ (kp_solve.h), each subband labelled by its
+ * character at k∥ = 0.  Internal definition of the public ew_dispersion.
+ *
+ * Which subbands: those bound at k∥ = 0, i.e. the eigenvalues (hole picture) below the hole
+ * window top of bound.h (the lower of the heavy- and light-hole windows); at every k∥ the
+ * same number of lowest eigenvalues is followed in energy order (a subband that disperses
+ * into the barrier continuum stays on the list as the corresponding box state).  Every level
+ * of the Luttinger–Kohn model is a Kramers pair (time reversal); pairs are the consecutive
+ * eigenvalues 2j, 2j + 1 and a subband's energy is the pair's mean (both branches are kept:
+ * a stack without inversion symmetry splits them at k∥ > 0).  Labels: the k∥ = 0 pair's
+ * weights in the |3/2, ±3/2> (hh), |3/2, ±1/2> (lh) and |1/2, ±1/2> (so) components; the
+ * largest names it, numbered from the band edge within its character (hh1, hh2, lh1, …). */
+#ifndef EW_DISPERSION_H
+#define EW_DISPERSION_H
+
+#include "kp_hamiltonian.h"
+
+struct ew_dispersion {
+  ew_kp_model model;
+  int direction;           /* 100 or 110 */
+  int axial;
+  size_t points;           /* k∥ samples */
+  double *k_inv_nm;        /* [points] */
+  size_t subbands;         /* Kramers pairs followed */
+  char (*label)[16];       /* [subbands] "hh1", "lh1", "so1", … */
+  int *character;          /* [subbands] 0 hh, 1 lh, 2 so */
+  double *weight;          /* [subbands × 3] k∥ = 0 weights of hh, lh, so */
+  double *branch_eV;       /* [subbands × 2 × points] absolute energies (electron scale) */
+  double *energy_eV;       /* [subbands × points] the pair means */
+  size_t *certified;       /* [points] eigenvalues counted by the inertia at each k∥ */
+  double window_eV;        /* absolute energy of the hole window top at k∥ = 0 */
+  double grid_step_nm;
+  size_t nodes;
+  size_t factorizations, solves, counts;
+};
+
+/* Compute d (cleared first; on failure left empty) for stack st with options o (checked
+ * here: EW_ERR_USAGE). */
+ew_status ew_dispersion_run(ew_dispersion *d, const ew_stack *st,
+                            const ew_dispersion_options *o, ew_error *err);
+/* Free d's arrays and zero it. */
+void ew_dispersion_clear(ew_dispersion *d);
+
+/* "hh", "lh", "so" for a character 0, 1, 2 */
+const char *ew_dispersion_character_name(int c);
+
+#endif

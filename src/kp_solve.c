@@ -1,0 +1,323 @@
+/* kp_solve.c — shift-invert subspace iteration with Rayleigh–Ritz and a certified count
+ * (see kp_solve.h). */
+/* Complex products without the C99 Annex G infinity/NaN recovery (a library call per
+ * product otherwise): every value here is finite.  GCC's -fcx-limited-range, for this file. */
+#if defined(__GNUC__) && !defined(__clang__)
+#pragma GCC optimize("cx-limited-range")
+#endif
+#include "kp_solve.h"
+
+#include <cblas.h>
+#include <lapacke.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "error.h"
+
+#define KP_MAX_ITER 400
+#define KP_RESID_TOL (s->tol)
+#define KP_PHASE1_TOL 1e-4 /* eV: where phase 1 hands over to the per-pair shifts */
+
+struct ew_kp_solver {
+  size_t n, dim, p;
+  int nb;
+  ew_zshift_lu *lu;
+  ew_kp_inertia *inertia;
+  double complex *X, *Y, *HY;  /* [dim × p] */
+  double complex *Hs, *Bs;     /* [p × p] */
+  double *theta, *rwork;       /* [p], [3p] */
+  double complex *work;        /* [lwork] */
+  size_t lwork;
+  size_t factorizations, solves, counts;
+  int warm; /* X holds converged vectors of a previous call */
+  double tol; /* residual tolerance, eV */
+};
+
+static void seed(ew_kp_solver *s, size_t j0);
+
+void ew_kp_solver_free(ew_kp_solver *s) {
+  if (!s) return;
+  ew_zshift_lu_free(s->lu);
+  ew_kp_inertia_free(s->inertia);
+  free(s->X);
+  free(s->Y);
+  free(s->HY);
+  free(s->Hs);
+  free(s->Bs);
+  free(s->theta);
+  free(s->rwork);
+  free(s->work);
+  free(s);
+}
+
+ew_kp_solver *ew_kp_solver_create(size_t n, int nb, size_t p) {
+  if (p < 2 || p > 64 || n < 1) return NULL; /* rayleigh_ritz keeps a row of p on the stack */
+  ew_kp_solver *s = calloc(1, sizeof *s);
+  if (!s) return NULL;
+  s->n = n, s->nb = nb, s->p = p, s->dim = n * (size_t)nb;
+  s->lwork = 64 * p;
+  s->tol = 1e-8;
+  s->lu = ew_zshift_lu_create(n, nb);
+  s->inertia = ew_kp_inertia_create(nb);
+  s->X = malloc(s->dim * p * sizeof *s->X);
+  s->Y = malloc(s->dim * p * sizeof *s->Y);
+  s->HY = malloc(s->dim * p * sizeof *s->HY);
+  s->Hs = malloc(p * p * sizeof *s->Hs);
+  s->Bs = malloc(p * p * sizeof *s->Bs);
+  s->theta = malloc(p * sizeof *s->theta);
+  s->rwork = malloc(3 * p * sizeof *s->rwork);
+  s->work = malloc(s->lwork * sizeof *s->work);
+  if (!s->lu || !s->inertia || !s->X || !s->Y || !s->HY || !s->Hs || !s->Bs || !s->theta ||
+      !s->rwork || !s->work) {
+    ew_kp_solver_free(s);
+    return NULL;
+  }
+  seed(s, 0);
+  return s;
+}
+
+const double complex *ew_kp_solver_vectors(const ew_kp_solver *s) { return s->X; }
+
+void ew_kp_solver_set_tol(ew_kp_solver *s, double tol_eV) { s->tol = tol_eV; }
+
+double complex *ew_kp_solver_start(ew_kp_solver *s) {
+  s->warm = 1;
+  return s->X;
+}
+
+void ew_kp_solver_work(const ew_kp_solver *s, size_t *f, size_t *so, size_t *c) {
+  *f = s->factorizations, *so = s->solves, *c = s->counts;
+}
+
+/* G = Aᴴ C for dim × p blocks A, C (p × p, column-major), by BLAS zgemm */
+static void gram(const ew_kp_solver *s, const double complex *A, const double complex *C,
+                 double complex *G) {
+  const double complex one = 1.0, zero = 0.0;
+  cblas_zgemm(CblasColMajor, CblasConjTrans, CblasNoTrans, (int)s->p, (int)s->p, (int)s->dim,
+              &one, A, (int)s->dim, C, (int)s->dim, &zero, G, (int)s->p);
+}
+
+/* One Rayleigh–Ritz step on span(Y): X, and HY turned into H X; theta ascending.  0 ok, −1
+ * when the small pencil is not definite (the block lost rank). */
+static int rayleigh_ritz(ew_kp_solver *s, const ew_kp_pencil *H) {
+  size_t dim = s->dim, p = s->p;
+  for (size_t j = 0; j < p; j++) ew_kp_pencil_apply(H, s->Y + j * dim, s->HY + j * dim);
+  gram(s, s->Y, s->HY, s->Hs);
+  for (size_t k = 0; k < dim * p; k++) s->X[k] = H->w[(k % dim) / (size_t)s->nb] * s->Y[k];
+  gram(s, s->Y, s->X, s->Bs); /* Yᴴ B Y, with B Y in X for the moment */
+  lapack_int info = LAPACKE_zhegv_work(LAPACK_COL_MAJOR, 1, 'V', 'L', (lapack_int)p, s->Hs,
+                                       (lapack_int)p, s->Bs, (lapack_int)p, s->theta, s->work,
+                                       (lapack_int)s->lwork, s->rwork);
+  if (info != 0) return -1;
+  /* X = Y c and H X = (H Y) c (into Y, free afterwards), by zgemm */
+  const double complex one = 1.0, zero = 0.0;
+  cblas_zgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)dim, (int)p, (int)p, &one, s->Y,
+              (int)dim, s->Hs, (int)p, &zero, s->X, (int)dim);
+  cblas_zgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)dim, (int)p, (int)p, &one, s->HY,
+              (int)dim, s->Hs, (int)p, &zero, s->Y, (int)dim);
+  double complex *t = s->HY;
+  s->HY = s->Y, s->Y = t;
+  return 0;
+}
+
+/* largest B⁻¹-norm residual of the m lowest Ritz pairs (H X in HY) */
+static double residual(const ew_kp_solver *s, const ew_kp_pencil *H, size_t m) {
+  double worst = 0.0;
+  for (size_t j = 0; j < m; j++) {
+    double rr = 0.0;
+    for (size_t k = 0; k < s->dim; k++) {
+      double wk = H->w[k / (size_t)s->nb];
+      double complex r = s->HY[j * s->dim + k] - s->theta[j] * wk * s->X[j * s->dim + k];
+      rr += creal(r * conj(r)) / wk;
+    }
+    if (rr > worst) worst = rr;
+  }
+  return sqrt(worst);
+}
+
+static ew_status factor_near(ew_kp_solver *s, const ew_kp_pencil *H, double *sigma,
+                             ew_error *err) {
+  ew_status rc = EW_ERR_NUMERIC;
+  for (int t = 0; t < 4 && rc == EW_ERR_NUMERIC; t++) {
+    rc = ew_zshift_lu_factor(s->lu, H, *sigma, err);
+    s->factorizations++;
+    if (rc == EW_ERR_NUMERIC) *sigma -= 1e-9 * (1.0 + fabs(*sigma)); /* an exact eigenvalue */
+  }
+  return rc;
+}
+
+static ew_status count_at(ew_kp_solver *s, const ew_kp_pencil *H, double sigma, size_t *c,
+                          ew_error *err) {
+  ew_status rc = EW_ERR_NUMERIC;
+  for (int t = 0; t < 4 && rc == EW_ERR_NUMERIC; t++) {
+    rc = ew_kp_count_below(s->inertia, H, sigma, c, err);
+    s->counts++;
+    sigma += 1e-11 * (1.0 + fabs(sigma)) * (t + 1); /* a singular leading block: move */
+  }
+  return rc;
+}
+
+/* Per-column residuals of the Ritz pairs j < m into r[m]. */
+static void residuals(const ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double *r) {
+  for (size_t j = 0; j < m; j++) {
+    double rr = 0.0;
+    for (size_t k = 0; k < s->dim; k++) {
+      double wk = H->w[k / (size_t)s->nb];
+      double complex d = s->HY[j * s->dim + k] - s->theta[j] * wk * s->X[j * s->dim + k];
+      rr += creal(d * conj(d)) / wk;
+    }
+    r[j] = sqrt(rr);
+  }
+}
+
+/* Y ← (H − σB)⁻¹ B X for columns [j0, j1) of X (the rest of Y: X itself), then Rayleigh–Ritz
+ * over all of Y. */
+static ew_status step(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t j1,
+                      ew_error *err) {
+  size_t dim = s->dim;
+  memcpy(s->Y, s->X, dim * s->p * sizeof *s->Y);
+  for (size_t j = j0; j < j1; j++)
+    for (size_t k = 0; k < dim; k++) s->Y[j * dim + k] *= H->w[k / (size_t)s->nb];
+  ew_status rc = ew_zshift_lu_solve(s->lu, s->Y + j0 * dim, j1 - j0, err);
+  if (rc) return rc;
+  s->solves += j1 - j0;
+  if (rayleigh_ritz(s, H))
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: the iterated block lost rank");
+  return EW_OK;
+}
+
+/* B-orthonormalise columns [j0, j1) of X among themselves (modified Gram–Schmidt). */
+static void b_orthonormalise(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t j1) {
+  size_t dim = s->dim;
+  for (size_t j = j0; j < j1; j++) {
+    double complex *x = s->X + j * dim;
+    for (size_t q = j0; q < j; q++) {
+      const double complex *y = s->X + q * dim;
+      double complex c = 0;
+      for (size_t k = 0; k < dim; k++) c += conj(y[k]) * H->w[k / (size_t)s->nb] * x[k];
+      for (size_t k = 0; k < dim; k++) x[k] -= c * y[k];
+    }
+    double nn = 0.0;
+    for (size_t k = 0; k < dim; k++) nn += H->w[k / (size_t)s->nb] * creal(x[k] * conj(x[k]));
+    double f = nn > 0.0 ? 1.0 / sqrt(nn) : 1.0;
+    for (size_t k = 0; k < dim; k++) x[k] *= f;
+  }
+}
+
+/* Phase 2: each Kramers pair (cluster) not yet converged gets shift-invert at its own Ritz
+ * value (inverse iteration converges there at |λ − θ|/gap per solve); one Rayleigh–Ritz step
+ * over the whole block after every sweep over the clusters puts them together again. */
+static ew_status refine(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double *r,
+                        ew_error *err) {
+  size_t dim = s->dim;
+  for (int round = 0; round < 6; round++) {
+    residuals(s, H, m, r);
+    int todo = 0;
+    for (size_t j = 0; j < m;) {
+      size_t j1 = j + 1;
+      while (j1 < s->p && fabs(s->theta[j1] - s->theta[j]) < 1e-6 * (1.0 + fabs(s->theta[j]))) j1++;
+      int conv = 1;
+      for (size_t q = j; q < j1 && q < m; q++) conv &= r[q] < KP_RESID_TOL;
+      if (!conv) {
+        todo = 1;
+        double sigma = s->theta[j];
+        ew_status rc = factor_near(s, H, &sigma, err);
+        for (int it = 0; it < 2 && rc == EW_OK; it++) {
+          for (size_t q = j; q < j1; q++)
+            for (size_t k = 0; k < dim; k++) s->X[q * dim + k] *= H->w[k / (size_t)s->nb];
+          rc = ew_zshift_lu_solve(s->lu, s->X + j * dim, j1 - j, err);
+          s->solves += j1 - j;
+          if (rc == EW_OK) b_orthonormalise(s, H, j, j1);
+        }
+        if (rc) return rc;
+      }
+      j = j1;
+    }
+    if (!todo) return EW_OK;
+    memcpy(s->Y, s->X, dim * s->p * sizeof *s->Y);
+    if (rayleigh_ritz(s, H))
+      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: the refined block lost rank");
+  }
+  residuals(s, H, m, r);
+  return EW_OK;
+}
+
+/* A fixed pseudo-random block (a linear congruential sequence: reproducible runs) into the
+ * columns from j0 on. */
+static void seed(ew_kp_solver *s, size_t j0) {
+  unsigned long long st = 0x9E3779B97F4A7C15ull + j0;
+  for (size_t k = j0 * s->dim; k < s->dim * s->p; k++) {
+    st = st * 6364136223846793005ull + 1442695040888963407ull;
+    double re = (double)(st >> 11) / 9007199254740992.0 - 0.5;
+    st = st * 6364136223846793005ull + 1442695040888963407ull;
+    double im = (double)(st >> 11) / 9007199254740992.0 - 0.5;
+    s->X[k] = re + I * im;
+  }
+}
+static void reseed_guard(ew_kp_solver *s, size_t m) { seed(s, m); }
+
+static ew_status phase1(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double lo,
+                        double tol, int min_iter, ew_error *err) {
+  double sigma = lo, res = INFINITY;
+  ew_status rc = factor_near(s, H, &sigma, err);
+  if (rc) return rc;
+  for (int iter = 0; iter < KP_MAX_ITER; iter++) {
+    if ((rc = step(s, H, 0, s->p, err))) return rc;
+    res = residual(s, H, m);
+    if (res < tol && iter + 1 >= min_iter) return EW_OK;
+  }
+  return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: subspace iteration did not converge in "
+                 "%d solves (residual %.3g eV)", KP_MAX_ITER, res);
+}
+
+ew_status ew_kp_lowest(ew_kp_solver *s, const ew_kp_pencil *H, double lo, size_t m,
+                       double *values, size_t *certified, ew_error *err) {
+  size_t p = s->p;
+  *certified = 0;
+  if (m < 1 || m >= p) return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: %zu eigenpairs "
+                                      "asked of a block of %zu", m, p);
+  double sigma = lo, r[64];
+  ew_status rc = EW_OK;
+  if (s->warm) {
+    /* the last pencil's vectors (a neighbouring k∥): their Ritz values on this pencil are
+       close enough for the per-pair shifts straight away */
+    memcpy(s->Y, s->X, s->dim * p * sizeof *s->Y);
+    if (rayleigh_ritz(s, H)) rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: block lost rank");
+  } else {
+    rc = phase1(s, H, m, lo, KP_PHASE1_TOL, 1, err);
+  }
+  if (!rc) rc = refine(s, H, m, r, err);
+  if (!rc && !(residual(s, H, m) < KP_RESID_TOL))
+    rc = phase1(s, H, m, lo, KP_RESID_TOL, 1, err); /* the slow, sure way */
+  if (rc) return rc;
+  /* the cut just above the m-th value: a Ritz value bounds its eigenvalue from above
+     (Cauchy interlacing), so the guard columns' θ say nothing below themselves; a level
+     within the margin of the m-th is retried with a closer cut */
+  size_t c_lo, c_cut = 0;
+  double cut = 0.0, margin = fmin(1e-6, 0.5 * (s->theta[m] - s->theta[m - 1]));
+  if ((rc = count_at(s, H, sigma, &c_lo, err))) return rc;
+  for (int t = 0; t < 6; t++) {
+    cut = s->theta[m - 1] + margin;
+    if ((rc = count_at(s, H, cut, &c_cut, err))) return rc;
+    if (c_cut == m) break;
+    if (c_cut < m) { /* a level within the margin of the m-th: a closer cut */
+      margin *= 1e-3;
+      continue;
+    }
+    /* converged pairs that are not the lowest (a level came down from the continuum where
+       the block had no component): fresh guard columns, then the sure way, long enough for
+       the new columns to reach the missing levels */
+    reseed_guard(s, m);
+    if ((rc = phase1(s, H, m, lo, KP_RESID_TOL, 60, err))) return rc;
+    margin = fmin(1e-6, 0.5 * (s->theta[m] - s->theta[m - 1]));
+  }
+  *certified = c_cut - c_lo;
+  if (c_lo != 0 || c_cut != m)
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: the inertia counts %zu eigenvalues below "
+                   "%.9g eV and %zu below %.9g eV where the iteration found 0 and %zu (a "
+                   "spurious or missed state)", c_lo, sigma, c_cut, cut, m);
+  memcpy(values, s->theta, m * sizeof *values);
+  s->warm = 1;
+  return EW_OK;
+}

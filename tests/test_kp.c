@@ -1,0 +1,408 @@
+/* test_kp.c — the multiband k·p hole model (kp_hamiltonian.c, kp_inertia.c, kp_solve.c,
+ * dispersion.c, api_dispersion.c) against outside references:
+ *  - k∥ = 0 limit: the 4-band (and 6-band heavy-hole) levels equal the single-band heavy- and
+ *    light-hole levels of ew_solve on the same grid (the Luttinger masses 1/(γ1 ∓ 2γ2) along
+ *    [001]; J. M. Luttinger, Phys. Rev. 102, 1030 (1956)), to solver precision;
+ *  - bulk limit: the top level of a thick GaAs layer at in-plane k, extrapolated in the layer
+ *    thickness (Richardson in 1/L²), equals the analytic bulk heavy-hole band
+ *    E = −K[γ1 k² − 2 √(γ2² k⁴ + 3(γ3² − γ2²)(kx²ky² + ky²kz² + kz²kx²))] (Luttinger 1956;
+ *    G. Dresselhaus, A. F. Kip, C. Kittel, Phys. Rev. 98, 368 (1955)), written out here with
+ *    the GaAs parameters of I. Vurgaftman et al., J. Appl. Phys. 89, 5815 (2001) typed in
+ *    (γ1 = 6.98, γ2 = 2.06, γ3 = 2.93, from memory) along [100] and [110];
+ *  - the axial approximation makes [100] and [110] identical; full warping does not;
+ *  - the pencil is Hermitian (⟨y, Hx⟩ = ⟨Hy, x⟩ for random x, y) in both orderings;
+ *  - the block LDLᴴ count agrees with LAPACK's zheev on a small pencil made dense;
+ *  - the JSON carries the accessor values. */
+#include <complex.h>
+#include <math.h>
+#include <lapacke.h>
+
+#include "testutil.h"
+
+#include "dispersion.h"
+#include "kp_solve.h"
+#include "schrodinger.h"
+
+static ew_catalogue *cat;
+
+/* a shallow-barrier GaAs/Al0.3Ga0.7As well with thin barriers (the box continuum sparse) */
+static const char *well_text =
+    "temperature = 300.0;\n"
+    "layers = (\n"
+    "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 5.0; },\n"
+    "  { name = \"well\"; material = \"GaAs\"; thickness = 6.0; },\n"
+    "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 5.0; }\n"
+    ");\n";
+
+static int setup(void **state) {
+  (void)state;
+  return tu_load_catalogue(&cat);
+}
+static int teardown(void **state) {
+  (void)state;
+  ew_catalogue_free(cat);
+  return 0;
+}
+
+static ew_stack *read_stack(const char *text) {
+  ew_stack *st = NULL;
+  ew_error err;
+  if (ew_stack_read_string(text, "test", cat, &st, &err)) print_error("%s\n", err.message);
+  return st;
+}
+
+/* k∥ = 0: every subband equals the single-band level of its character and number */
+static void check_k0(ew_kp_model model) {
+  ew_stack *st = read_stack(well_text);
+  assert_non_null(st);
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.grid_step_nm = 0.05;
+  opt.error_estimate = 0; /* the fine-grid eigenvalues themselves */
+  opt.excitons = 0;
+  ew_result *r = NULL;
+  assert_int_equal(ew_solve(st, &opt, &r, NULL), EW_OK);
+  ew_dispersion *d = NULL;
+  assert_int_equal(ew_dispersion_create(&d, NULL), EW_OK);
+  ew_dispersion_options o;
+  ew_dispersion_options_default(&o);
+  o.model = (int)model;
+  o.grid_step_nm = 0.05;
+  o.points = 3;
+  o.kmax_inv_nm = 0.1;
+  ew_error err;
+  assert_int_equal(ew_dispersion_compute(d, st, &o, &err), EW_OK);
+  size_t matched = 0;
+  for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) {
+    const char *lab = ew_dispersion_label(d, j);
+    if (model == EW_KP_6BAND && strncmp(lab, "hh", 2) != 0) continue; /* lh mixes with so */
+    for (size_t i = 0; i < ew_result_state_count(r); i++) {
+      const ew_state *s = ew_result_state(r, i);
+      if (strcmp(s->label, lab) != 0) continue;
+      /* both solvers stop at ~1e-12 eV (Newton on the LDLᵀ recurrence; residual 1e-8 eV
+         over gaps of >= 10 meV, Kato–Temple) */
+      TU_NEAR(ew_dispersion_energy_eV(d, j, 0), s->energy_eV, 1e-9,
+              "same grid, same masses: the k = 0 blocks are the single-band pencils");
+      TU_NEAR(ew_dispersion_branch_eV(d, j, 0, 0), ew_dispersion_branch_eV(d, j, 1, 0), 1e-9,
+              "Kramers pair");
+      matched++;
+    }
+    assert_int_equal(ew_dispersion_certified(d, 0), 2 * ew_dispersion_subband_count(d));
+  }
+  /* the single-band solve binds hh1, hh2, lh1 in this well (the 4-band must see them all) */
+  assert_true(matched >= (model == EW_KP_4BAND ? 3u : 2u));
+  if (model == EW_KP_4BAND)
+    assert_int_equal(ew_dispersion_subband_count(d),
+                     ew_result_band_count(r, EW_BAND_HH) + ew_result_band_count(r, EW_BAND_LH));
+  ew_dispersion_free(d);
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
+static void k0_4band(void **state) {
+  (void)state;
+  check_k0(EW_KP_4BAND);
+}
+static void k0_6band(void **state) {
+  (void)state;
+  check_k0(EW_KP_6BAND);
+}
+
+/* the lowest hole-picture eigenvalue of a GaAs layer of thickness L at (kx, ky) */
+static double bulk_top(double kx, double ky);
+static double box_top(double L, double kx, double ky) {
+  char text[512];
+  snprintf(text, sizeof text,
+           "temperature = 300.0;\ngrid_step = 0.5;\nlayers = ( { name = \"bulk\"; material = "
+           "\"GaAs\"; thickness = %g; } );\n", L);
+  ew_stack *st = read_stack(text);
+  assert_non_null(st);
+  ew_options so;
+  ew_options_default(&so);
+  ew_grid *g = ew_schrodinger_grid(st, &so);
+  ew_kp_profile *p = NULL;
+  assert_int_equal(ew_kp_profile_build(st, g, EW_KP_4BAND, EW_KP_BURT_FOREMAN, 0, &p, NULL), EW_OK);
+  ew_kp_pencil *H = ew_kp_pencil_create(p);
+  ew_kp_solver *s = ew_kp_solver_create(g->n, 4, 16);
+  assert_non_null(H);
+  assert_non_null(s);
+  ew_kp_pencil_fill(p, kx, ky, H);
+  double v[16];
+  size_t cert = 0;
+  ew_error err;
+  /* the shift half way to the level (any shift below it serves: the count at it must be 0;
+     a closer one only converges faster) */
+  double lo = p->vmin - bulk_top(kx, ky) - 2e-4; /* below the box level (see bulk_limit) */
+  ew_status rc = ew_kp_lowest(s, H, lo, 2, v, &cert, &err);
+  if (rc) print_error("%s\n", err.message);
+  assert_int_equal(rc, EW_OK);
+  double ev = -g->pot[EW_BAND_HH][g->n / 2]; /* the layer's valence edge */
+  ew_kp_solver_free(s);
+  ew_kp_pencil_free(H);
+  ew_kp_profile_free(p);
+  ew_grid_free(g);
+  ew_stack_free(st);
+  return -v[0] - ev; /* energy below the edge, electron sign */
+}
+
+static double luttinger_hh3(double kx, double ky, double kz) {
+  const double K = 0.0380998212, g1 = 6.98, g2 = 2.06, g3 = 2.93; /* ħ²/2m0 eV nm² (CODATA) */
+  double k2 = kx * kx + ky * ky + kz * kz;
+  double an = kx * kx * ky * ky + ky * ky * kz * kz + kz * kz * kx * kx;
+  return -K * (g1 * k2 - 2.0 * sqrt(g2 * g2 * k2 * k2 + 3.0 * (g3 * g3 - g2 * g2) * an));
+}
+
+/* the top of the bulk heavy-hole band over kz at fixed k∥: with γ3 > γ2 it lies at kz ≠ 0
+ * along [100] (a scan, then golden-section refinement) */
+static double bulk_top(double kx, double ky) {
+  double best = -INFINITY, kb = 0.0;
+  for (double kz = 0.0; kz <= 1.0; kz += 1e-3) {
+    double e = luttinger_hh3(kx, ky, kz);
+    if (e > best) best = e, kb = kz;
+  }
+  double a = fmax(0.0, kb - 1e-3), b = kb + 1e-3, r = 0.5 * (sqrt(5.0) - 1.0);
+  for (int it = 0; it < 80; it++) {
+    double c = b - r * (b - a), d = a + r * (b - a);
+    if (luttinger_hh3(kx, ky, c) > luttinger_hh3(kx, ky, d)) b = d;
+    else a = c;
+  }
+  return fmax(best, luttinger_hh3(kx, ky, 0.5 * (a + b)));
+}
+
+static void bulk_limit(void **state) {
+  (void)state;
+  const double ks[2][2] = {{0.3, 0.0}, {0.3 * 0.70710678118654752, 0.3 * 0.70710678118654752}};
+  for (int d = 0; d < 2; d++) {
+    double top = bulk_top(ks[d][0], ks[d][1]);
+    double e1 = box_top(150.0, ks[d][0], ks[d][1]), e2 = box_top(300.0, ks[d][0], ks[d][1]);
+    /* a box level lies below the bulk band's top (the Dirichlet quadratic form is a mean of
+       the bulk symbol over k) and approaches it as 1/L²: K γ_eff (π/L)² ≈ 4e-5 eV at 300 nm
+       for |γ_eff| <= 4; the grid (h = 0.5 nm) adds O(h² kz⁴) < 1e-8 eV */
+    assert_true(e2 <= top + 1e-8);
+    assert_true(e1 <= e2 + 1e-8);
+    TU_NEAR(e2, top, 5e-5, "thick layer → top of the analytic Luttinger heavy-hole band");
+  }
+  /* the bound would not catch a wrong γ3: the two directions differ by more than that */
+  assert_true(fabs(bulk_top(ks[1][0], ks[1][1]) - bulk_top(ks[0][0], 0.0)) > 2e-4);
+}
+
+/* The 6-band model's light hole of a thick tensile GaAs0.8P0.2 layer on GaAs at k∥ = 0:
+ * extrapolated in 1/L², the top level reaches the strained light-hole edge of strain.h, the
+ * upper eigenvalue of [[δEv,hyd + δE_sh, √2 δE_sh], [√2 δE_sh, δEv,hyd − Δso]] (Bir–Pikus with
+ * the split-off coupling; S. L. Chuang, Physics of Photonic Devices (Wiley, 2009), strain
+ * chapter, from memory), which the single-band light hole uses; the 6-band Hamiltonian
+ * produces that coupling from its own X,Y,Z strain terms.  Without the coupling the edge would
+ * be δEv,hyd + δE_sh, several meV away (checked). */
+static double strained_top(double L, double *edge_lh, double *edge_simple) {
+  char text[512];
+  snprintf(text, sizeof text,
+           "temperature = 300.0;\ngrid_step = 0.5;\nsubstrate = \"GaAs\";\nlayers = ( { name = "
+           "\"t\"; material = \"GaAsP\"; x = 0.8; thickness = %g; } );\n", L);
+  ew_stack *st = read_stack(text);
+  assert_non_null(st);
+  ew_options so;
+  ew_options_default(&so);
+  ew_grid *g = ew_schrodinger_grid(st, &so);
+  ew_kp_profile *p = NULL;
+  assert_int_equal(ew_kp_profile_build(st, g, EW_KP_6BAND, EW_KP_BURT_FOREMAN, 0, &p, NULL), EW_OK);
+  ew_kp_pencil *H = ew_kp_pencil_create(p);
+  ew_kp_solver *s = ew_kp_solver_create(g->n, 6, 10);
+  ew_kp_pencil_fill(p, 0.0, 0.0, H);
+  double v[10];
+  size_t cert = 0;
+  ew_error err;
+  ew_status rc = ew_kp_lowest(s, H, p->vmin - 1e-6, 2, v, &cert, &err);
+  if (rc) print_error("%s\n", err.message);
+  assert_int_equal(rc, EW_OK);
+  const ew_bands *b = &st->layers[0].bands;
+  *edge_lh = b->Ev_lh_eV;
+  *edge_simple = b->Ev_hh_eV + 2.0 * b->dE_shear_strain_eV; /* hyd + sh */
+  assert_true(b->Ev_lh_eV > b->Ev_hh_eV); /* tensile: light hole on top */
+  ew_kp_solver_free(s);
+  ew_kp_pencil_free(H);
+  ew_kp_profile_free(p);
+  ew_grid_free(g);
+  ew_stack_free(st);
+  return -v[0];
+}
+
+static void strained_6band(void **state) {
+  (void)state;
+  double lh, simple;
+  double e1 = strained_top(150.0, &lh, &simple), e2 = strained_top(300.0, &lh, &simple);
+  double ext = (4.0 * e2 - e1) / 3.0;
+  assert_true(fabs(lh - simple) > 1e-3); /* the coupling matters at this strain */
+  /* O(1/L⁴) after the extrapolation (~1e-9 eV) */
+  TU_NEAR(ext, lh, 1e-6, "6-band k = 0: strained light hole with the split-off coupling");
+}
+
+static void axial_and_warping(void **state) {
+  (void)state;
+  ew_stack *st = read_stack(well_text);
+  assert_non_null(st);
+  ew_dispersion_options o;
+  ew_dispersion_options_default(&o);
+  o.grid_step_nm = 0.1;
+  o.points = 11;
+  o.kmax_inv_nm = 0.3;
+  double e[2][2];
+  for (int ax = 0; ax < 2; ax++)
+    for (int dir = 0; dir < 2; dir++) {
+      ew_dispersion *d = NULL;
+      ew_dispersion_create(&d, NULL);
+      o.axial = ax;
+      o.direction = dir ? 110 : 100;
+      ew_error err;
+      ew_status rc = ew_dispersion_compute(d, st, &o, &err);
+      if (rc) print_error("%s\n", err.message);
+      assert_int_equal(rc, EW_OK);
+      assert_string_equal(ew_dispersion_direction(d), dir ? "110" : "100");
+      e[ax][dir] = ew_dispersion_energy_eV(d, 0, 10);
+      ew_dispersion_free(d);
+    }
+  /* axial: rotationally invariant in the plane (definition of the approximation) */
+  TU_NEAR(e[1][0], e[1][1], 1e-9, "axial approximation: isotropic in-plane");
+  assert_true(fabs(e[0][0] - e[0][1]) > 1e-4); /* warping is not */
+  ew_stack_free(st);
+}
+
+static void hermitian(void **state) {
+  (void)state;
+  ew_stack *st = read_stack(well_text);
+  ew_options so;
+  ew_options_default(&so);
+  so.grid_step_nm = 0.2;
+  ew_grid *g = ew_schrodinger_grid(st, &so);
+  for (int ord = 0; ord < 2; ord++) {
+    ew_kp_profile *p = NULL;
+    assert_int_equal(ew_kp_profile_build(st, g, EW_KP_6BAND, (ew_kp_ordering)ord, 0, &p, NULL), EW_OK);
+    ew_kp_pencil *H = ew_kp_pencil_create(p);
+    ew_kp_pencil_fill(p, 0.21, 0.13, H);
+    size_t dim = g->n * 6;
+    double complex *x = malloc(dim * sizeof *x), *y = malloc(dim * sizeof *y);
+    double complex *hx = malloc(dim * sizeof *hx), *hy = malloc(dim * sizeof *hy);
+    for (size_t k = 0; k < dim; k++) x[k] = sin(1.3 * k) + I * cos(0.7 * k), y[k] = cos(2.1 * k) - I * sin(0.3 * k);
+    ew_kp_pencil_apply(H, x, hx);
+    ew_kp_pencil_apply(H, y, hy);
+    double complex a = 0, b = 0;
+    double nrm = 0;
+    for (size_t k = 0; k < dim; k++) a += conj(y[k]) * hx[k], b += conj(hy[k]) * x[k], nrm += cabs(y[k]) * cabs(hx[k]);
+    TU_NEAR(cabs(a - b) / nrm, 0.0, 1e-13, "Hermitian to rounding");
+    free(x), free(y), free(hx), free(hy);
+    ew_kp_pencil_free(H);
+    ew_kp_profile_free(p);
+  }
+  ew_grid_free(g);
+  ew_stack_free(st);
+}
+
+/* the block LDLᴴ count against LAPACK zheev of the same pencil made dense (B⁻¹ᐟ² H B⁻¹ᐟ²) */
+static void inertia_vs_lapack(void **state) {
+  (void)state;
+  ew_stack *st = read_stack(well_text);
+  ew_options so;
+  ew_options_default(&so);
+  so.grid_step_nm = 0.4;
+  ew_grid *g = ew_schrodinger_grid(st, &so);
+  ew_kp_profile *p = NULL;
+  assert_int_equal(ew_kp_profile_build(st, g, EW_KP_4BAND, EW_KP_BURT_FOREMAN, 0, &p, NULL), EW_OK);
+  ew_kp_pencil *H = ew_kp_pencil_create(p);
+  ew_kp_pencil_fill(p, 0.4, 0.1, H);
+  size_t dim = g->n * 4;
+  double complex *A = calloc(dim * dim, sizeof *A), *e = calloc(dim, sizeof *e);
+  double *ev = malloc(dim * sizeof *ev);
+  for (size_t j = 0; j < dim; j++) { /* column j of H: H e_j */
+    e[j] = 1;
+    ew_kp_pencil_apply(H, e, A + j * dim);
+    e[j] = 0;
+  }
+  for (size_t j = 0; j < dim; j++)
+    for (size_t i = 0; i < dim; i++) A[j * dim + i] /= sqrt(p->w[i / 4] * p->w[j / 4]);
+  assert_int_equal(LAPACKE_zheev(LAPACK_COL_MAJOR, 'N', 'L', (lapack_int)dim, A, (lapack_int)dim, ev), 0);
+  ew_kp_inertia *in = ew_kp_inertia_create(4);
+  for (size_t t = 1; t < 40; t++) {
+    double sigma = ev[0] + (ev[dim / 3] - ev[0]) * (double)t / 40.0;
+    size_t want = 0, got = 0;
+    while (want < dim && ev[want] < sigma) want++;
+    assert_int_equal(ew_kp_count_below(in, H, sigma, &got, NULL), EW_OK);
+    assert_int_equal(got, want);
+  }
+  ew_kp_inertia_free(in);
+  free(A), free(e), free(ev);
+  ew_kp_pencil_free(H);
+  ew_kp_profile_free(p);
+  ew_grid_free(g);
+  ew_stack_free(st);
+}
+
+static void json_values(void **state) {
+  (void)state;
+  ew_stack *st = read_stack(well_text);
+  ew_dispersion *d = NULL;
+  ew_dispersion_create(&d, NULL);
+  ew_dispersion_options o;
+  ew_dispersion_options_default(&o);
+  o.grid_step_nm = 0.1;
+  o.points = 5;
+  o.kmax_inv_nm = 0.2;
+  o.model = 6;
+  assert_int_equal(ew_dispersion_compute(d, st, &o, NULL), EW_OK);
+  char *buf = NULL;
+  size_t len = 0;
+  FILE *f = open_memstream(&buf, &len);
+  assert_int_equal(ew_dispersion_write_json(d, f, NULL), EW_OK);
+  fclose(f);
+  assert_non_null(strstr(buf, "{\"model\":\"6band\",\"direction\":\"100\",\"k_inv_nm\":[0,0.05,"));
+  char want[128];
+  snprintf(want, sizeof want, "{\"label\":\"%s\",\"band\":\"%s\",\"energy_eV\":[%.10g,",
+           ew_dispersion_label(d, 0), ew_dispersion_band(d, 0), ew_dispersion_energy_eV(d, 0, 0));
+  assert_non_null(strstr(buf, want));
+  /* the last subband's last value closes its array */
+  size_t J = ew_dispersion_subband_count(d) - 1;
+  snprintf(want, sizeof want, ",%.10g]}]}", ew_dispersion_energy_eV(d, J, 4));
+  assert_non_null(strstr(buf, want));
+  /* every subband's label and band, in order (a lh subband among them: band is not constant) */
+  int lh = 0;
+  const char *at = buf;
+  for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) {
+    snprintf(want, sizeof want, "{\"label\":\"%s\",\"band\":\"%s\",", ew_dispersion_label(d, j),
+             ew_dispersion_band(d, j));
+    at = strstr(at, want);
+    assert_non_null(at);
+    lh += strcmp(ew_dispersion_band(d, j), "lh") == 0;
+  }
+  assert_true(lh >= 1);
+  free(buf);
+  /* CSV: header, then k and every subband per row, read back with sscanf */
+  buf = NULL;
+  f = open_memstream(&buf, &len);
+  assert_int_equal(ew_dispersion_write_csv(d, f, NULL), EW_OK);
+  fclose(f);
+  const char *row = strchr(buf, '\n');
+  assert_non_null(row);
+  assert_int_equal(strncmp(buf, "k_inv_nm,", 9), 0);
+  for (size_t i = 0; i < ew_dispersion_point_count(d); i++) {
+    row++;
+    char *end;
+    TU_NEAR(strtod(row, &end), ew_dispersion_k_inv_nm(d, i), 1e-12, "CSV k column");
+    for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) {
+      assert_int_equal(*end, ',');
+      TU_NEAR(strtod(end + 1, &end), ew_dispersion_energy_eV(d, j, i), 1e-9, "CSV value");
+    }
+    row = strchr(end, '\n');
+    assert_non_null(row);
+  }
+  free(buf);
+  ew_dispersion_free(d);
+  ew_stack_free(st);
+}
+
+int main(void) {
+  const struct CMUnitTest tests[] = {
+      cmocka_unit_test(k0_4band),          cmocka_unit_test(k0_6band),
+      cmocka_unit_test(bulk_limit),        cmocka_unit_test(axial_and_warping),
+      cmocka_unit_test(hermitian),         cmocka_unit_test(inertia_vs_lapack),
+      cmocka_unit_test(json_values),       cmocka_unit_test(strained_6band),
+  };
+  return cmocka_run_group_tests(tests, setup, teardown);
+}
