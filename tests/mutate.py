@@ -104,6 +104,9 @@ MUTANTS = [
     ("exc_hh", "src/exciton.c", 'if (hole_band == EW_BAND_HH) t = 0.5, m = 0.0;', 'if (hole_band == EW_BAND_HH) t = 0.5, m = 0.5;', "TE/TM weights of hh"),
     ("poisson_c", "src/poisson.c", '#define POISSON_C (EW_E_C / EW_EPS0_FM * 1e9)', '#define POISSON_C (1.01 * EW_E_C / EW_EPS0_FM * 1e9)', "Poisson factor +1 %"),
     ("hc_line", "src/lines.c", 'ln->wavelength_nm = EW_HC_EVNM / ln->energy_eV;', 'ln->wavelength_nm = 1.01 * EW_HC_EVNM / ln->energy_eV;', "wavelength hc/E +1 %"),
+    # lm_bisect and lm_mid are equivalent mutants (2026-12-02 campaign: both survive): the
+    # bisection tests only the sign of f(lo), which a stale value keeps, and it runs until the
+    # bracket is 1e-16 wide, so any point inside it is the same root
     ("lm_bisect", "src/lattice_match.c", 'if ((fm > 0) == (flo > 0)) lo = m, flo = fm;', 'if ((fm > 0) == (flo > 0)) lo = m;', "bisection keeps stale f(lo)"),
     ("lm_mid", "src/lattice_match.c", '*u = 0.5 * (lo + hi);', '*u = lo + 0.75 * (hi - lo);', "bisection result off the bracket middle"),
     ("mb_const", "src/strain.c", '(8.0 * EW_PI * f * (1.0 + nu) * cos(lambda))', '(8.0 * EW_PI * f * (1.0 + nu) * cos(lambda) * 1.01)', "MB constant +1 %"),
