@@ -11,7 +11,7 @@ prefix="$tmp/prefix"
 # the plain build, whatever the calling make was asked for (make check SANITIZE=1 passes its
 # variables down through MAKEFLAGS)
 if env -u MAKEFLAGS -u MAKELEVEL make -s install SANITIZE=0 PREFIX="$prefix" >"$tmp/log" 2>&1; then ok "make install PREFIX=…"; else nok "make install PREFIX=…" "$(tail -3 "$tmp/log")"; fi
-for f in bin/epiwell lib/libepiwell.a lib/libepiwell.so lib/libepiwell.so.0 include/epiwell.h lib/pkgconfig/epiwell.pc \
+for f in bin/epiwell lib/libepiwell.a lib/libepiwell.so lib/libepiwell.so.1 include/epiwell.h lib/pkgconfig/epiwell.pc \
          share/man/man1/epiwell.1 share/epiwell/materials/GaAs.cfg share/epiwell/materials/AlGaAs.cfg; do
   if [ -s "$prefix/$f" ]; then ok "installed $f"; else nok "installed $f"; fi
 done
@@ -35,10 +35,10 @@ fi
 # pkg-config --libs links the shared library: found through LD_LIBRARY_PATH for a prefix
 # outside the loader's path; with no EPIWELL_MATERIALS the library finds the catalogue
 # beside itself (PREFIX/lib/../share/epiwell/materials) wherever the program is
-if [ -x "$tmp/use" ] && LD_LIBRARY_PATH="$prefix/lib" ldd "$tmp/use" 2>/dev/null | grep -q "libepiwell.so.0 => $prefix/lib/"; then
-  ok "the linked program uses $prefix/lib/libepiwell.so.0"
+if [ -x "$tmp/use" ] && LD_LIBRARY_PATH="$prefix/lib" ldd "$tmp/use" 2>/dev/null | grep -q "libepiwell.so.1 => $prefix/lib/"; then
+  ok "the linked program uses $prefix/lib/libepiwell.so.1"
 else
-  nok "the linked program uses $prefix/lib/libepiwell.so.0" "$(LD_LIBRARY_PATH="$prefix/lib" ldd "$tmp/use" 2>&1 | grep epiwell)"
+  nok "the linked program uses $prefix/lib/libepiwell.so.1" "$(LD_LIBRARY_PATH="$prefix/lib" ldd "$tmp/use" 2>&1 | grep epiwell)"
 fi
 if [ -x "$tmp/use" ] && (cd "$tmp" && env -u EPIWELL_MATERIALS LD_LIBRARY_PATH="$prefix/lib" "$tmp/use" "$root/examples/detector_well.cfg") | grep -q '^e1 0\.7'; then
   ok "the linked program solves examples/detector_well.cfg (e1 near 0.77 eV), catalogue found beside the library"
@@ -74,13 +74,13 @@ elif cp -r src/python "$tmp/pysrc" && "$py" -m venv --system-site-packages "$tmp
      (cd "$tmp" && env -u EPIWELL_MATERIALS LD_LIBRARY_PATH="$prefix/lib" "$tmp/venv/bin/python" -c "
 import epiwell, os
 assert os.path.dirname(epiwell.__file__).startswith('$tmp/venv'), epiwell.__file__
-assert '$prefix/lib/libepiwell.so.0' in open('/proc/self/maps').read()
+assert '$prefix/lib/libepiwell.so.1' in open('/proc/self/maps').read()
 r = epiwell.solve('$root/examples/detector_well.cfg')
 sw = epiwell.sweep('$root/examples/detector_well.cfg', 'well.thickness=6:7:0.5', grid_step_nm=0.1)
 assert len(sw) == 3 and sw['e1_eV'][0] > sw['e1_eV'][2]  # e1 falls as the well widens
 print(epiwell.version(), r.states[0].label, '%.6f' % r.states[0].energy_eV)") >"$tmp/py.out" 2>>"$tmp/venv.log" &&
      grep -q '^0\.1\.0 e1 0\.7' "$tmp/py.out"; then
-  ok "pip install src/python into a venv: imports from the venv, loads $prefix/lib/libepiwell.so.0, solves, sweeps"
+  ok "pip install src/python into a venv: imports from the venv, loads $prefix/lib/libepiwell.so.1, solves, sweeps"
 else
   nok "pip install src/python into a venv" "$(tail -3 "$tmp/venv.log")"
 fi

@@ -7,7 +7,7 @@ import ctypes
 import os
 import sys
 
-ABI_MAJOR = 0  # the soname's major version this package is written for
+ABI_MAJOR = 1  # the soname's major version this package is written for
 SONAME = "libepiwell.so.%d" % ABI_MAJOR
 
 
