@@ -13,6 +13,7 @@
  * gaps are then compared at 300 K, where the catalogue applies its Varshni law.
  * Run from the project root (catalogue in ./materials). */
 #include <math.h>
+#include <string.h>
 
 #include "materials.h"
 #include "testutil.h"
@@ -266,6 +267,13 @@ static void test_antimonides(void **state) {
   }
   TU_NEAR(lo, 0.38, 0.03, "InAsSb gap minimum composition (from memory)");
   TU_NEAR(bands_ok(cat, "InAsSb", lo, 300.0).Eg_G_eV, 0.10, 0.02, "InAsSb minimum gap");
+  /* a name with the same elements in another order is pointed at the catalogue's spelling
+     (issue 17: "did you mean" prefers a name with the same elements) */
+  char hint[256];
+  ew_catalogue_hint(cat, "GaInAsSb", hint, sizeof hint);
+  if (!strstr(hint, "'InGaAsSb'")) fail_msg("GaInAsSb: hint '%s'", hint);
+  ew_catalogue_hint(cat, "InGaSb", hint, sizeof hint);
+  if (!strstr(hint, "'GaInSb'")) fail_msg("InGaSb: hint '%s'", hint);
   /* quaternaries on GaSb: solve the lattice match for y at a given x */
   static const struct { const char *name; double x, slope; } q[] = {
       {"InGaAsSb", 0.2, 0.867 / (1 - 0.048 * 0.2)}, {"AlGaAsSb", 0.35, 0.08}};
