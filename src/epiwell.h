@@ -498,6 +498,18 @@ EW_API double ew_match_solution_value(const ew_match *mt, size_t i, size_t k);
 EW_API const char *ew_match_message(const ew_match *mt);
 EW_API ew_status ew_match_write_table(const ew_match *mt, FILE *out, ew_error *err);
 EW_API ew_status ew_match_write_json(const ew_match *mt, FILE *out, ew_error *err);
+/* Compute only part k of n (1 ≤ k ≤ n; n ≤ 1: the whole match, the default) of the match's
+ * sample scan, so that n machines share one match (README "Sweeps on a cluster"): 1D, the
+ * k-th contiguous run of the intervals between samples; 2D, of the rows of grid cells.  After
+ * compute, ew_match_write_json writes the part (one line, every number at full precision) and
+ * ew_match_write_table refuses (EW_ERR_USAGE); ew_match_merge joins the parts.  Before
+ * compute; EW_ERR_USAGE for k outside 1..n. */
+EW_API ew_status ew_match_shard(ew_match *mt, size_t k, size_t n, ew_error *err);
+/* Join the parts (files written by ew_match_write_json of a sharded match, any order) into
+ * exactly the JSON of the whole match, to out.  Nothing is written unless every part checks:
+ * EW_ERR_INPUT naming the part for a part missing, given twice, of another match or cut
+ * short; EW_ERR_IO when a part cannot be read or out written; EW_ERR_USAGE for n == 0. */
+EW_API ew_status ew_match_merge(size_t n, const char *const *paths, FILE *out, ew_error *err);
 
 /* ---- growth tolerances and the monolayer ladder (api_tolerance.c) ---------------------- */
 typedef struct ew_tolerance ew_tolerance;

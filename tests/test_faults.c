@@ -400,6 +400,70 @@ static void faults_merge(void **state) {
 #endif
 }
 
+/* The two parts of a 1D match (match_part.c), written unarmed, then joined with every
+ * allocation failing in turn. */
+typedef struct {
+  const char *paths[2];
+  FILE *out;
+} match_merge_ctx;
+
+static void match_merge_job(const void *ctx, outcome *out) {
+  const match_merge_ctx *c = ctx;
+  ew_error err;
+  rewind(c->out);
+  out->rc = ew_wf_match_merge(2, c->paths, c->out, &err);
+  fflush(c->out);
+  long end = ftell(c->out);
+  rewind(c->out);
+  out->len = end > 0 && (size_t)end <= sizeof out->bytes ? (size_t)end : 0;
+  if (out->len && fread(out->bytes, 1, out->len, c->out) != out->len) out->len = 0;
+}
+
+static void faults_match_merge(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  char dir[512], path[600], parts[2][600];
+  assert_int_equal(tu_mkdtemp("faults", dir, sizeof dir), 0);
+  snprintf(path, sizeof path, "%s/well.cfg", dir);
+  FILE *f = fopen(path, "w");
+  assert_non_null(f);
+  fprintf(f, "temperature = 300.0;\ngrid_step = %s;\n%s", job_grid(), strstr(well_text, "layers"));
+  fclose(f);
+  ew_wf_model *m = NULL;
+  ew_wf_range range;
+  ew_wf_quantity target;
+  ew_error err;
+  assert_int_equal(ew_wf_model_open(path, cat, NULL, &m, &err), EW_OK);
+  assert_int_equal(ew_wf_range_parse("well.thickness=5:9", 0, "--vary", &range, &err), EW_OK);
+  assert_int_equal(ew_wf_quantity_parse("10um", 0, "--target", &target, &err), EW_OK);
+  const char *line = "e1-e2";
+  match_merge_ctx c;
+  for (int k = 0; k < 2; k++) {
+    snprintf(parts[k], sizeof parts[k], "%s/part%d.json", dir, k + 1);
+    FILE *p = fopen(parts[k], "w");
+    assert_non_null(p);
+    ew_wf_match_opt o = {.threads = 1, .samples = 5, .shard_k = (size_t)k + 1, .shard_n = 2};
+    ew_wf_match_result r;
+    assert_int_equal(ew_wf_match(m, &range, 1, &line, &target, 1, NULL, &o, &r, &err), EW_OK);
+    ew_wf_match_part_write(&r, p);
+    ew_wf_match_result_free(&r);
+    fclose(p);
+    c.paths[k] = parts[k];
+  }
+  static char iobuf[1 << 16];
+  c.out = tmpfile();
+  assert_non_null(c.out);
+  setvbuf(c.out, iobuf, _IOFBF, sizeof iobuf);
+  int bad = every_fault("merge of 2 match parts", match_merge_job, &c);
+  fclose(c.out);
+  ew_wf_model_free(m);
+  tu_rm_tree(dir);
+  assert_int_equal(bad, 0);
+#else
+  skip(); /* AddressSanitizer owns malloc */
+#endif
+}
+
 /* The k·p dispersion of a narrow well with thin barriers on the coarse job grid. */
 static void faults_dispersion(void **state) {
   (void)state;
@@ -427,6 +491,7 @@ int main(void) {
       cmocka_unit_test(faults_sweep),
       cmocka_unit_test(faults_sweep_absent_keys),
       cmocka_unit_test(faults_merge),
+      cmocka_unit_test(faults_match_merge),
       cmocka_unit_test(faults_dispersion),
   };
 #if !FAULTS_POSSIBLE
