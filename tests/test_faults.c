@@ -133,18 +133,20 @@ static void sweep_job(const void *ctx, outcome *out) {
   if (out->len && fread(out->bytes, 1, out->len, c->csv) != out->len) out->len = 0;
 }
 
-/* Two JSON parts of a sweep merged (sweep_merge.c) into a file whose buffer exists before
- * arming; the parts' own files are opened while armed. */
+/* Two JSON parts of a sweep (sweep_merge.c) or of a match (match_part.c) merged into a file
+ * whose buffer exists before arming; the parts' own files are opened while armed. */
 typedef struct {
   const char *paths[2];
   FILE *out;
+  int match; /* 1: parts of a match */
 } merge_ctx;
 
 static void merge_job(const void *ctx, outcome *out) {
   const merge_ctx *c = ctx;
   ew_error err;
   rewind(c->out);
-  out->rc = ew_wf_sweep_merge(NULL, 0, 2, c->paths, c->out, &err);
+  out->rc = c->match ? ew_wf_match_merge(2, c->paths, c->out, &err)
+                     : ew_wf_sweep_merge(NULL, 0, 2, c->paths, c->out, &err);
   fflush(c->out);
   long end = ftell(c->out);
   rewind(c->out);
@@ -290,6 +292,16 @@ static const char *job_grid(void) {
   return e && !strcmp(e, "1") ? "0.1" : "0.4";
 }
 
+/* A fresh directory dir holding the single well on the job grid as path (DIR/well.cfg). */
+static void job_well(char *dir, size_t dsize, char *path, size_t psize) {
+  assert_int_equal(tu_mkdtemp("faults", dir, dsize), 0);
+  snprintf(path, psize, "%s/well.cfg", dir);
+  FILE *f = fopen(path, "w");
+  assert_non_null(f);
+  fprintf(f, "temperature = 300.0;\ngrid_step = %s;\n%s", job_grid(), strstr(well_text, "layers"));
+  fclose(f);
+}
+
 static void faults_doped_well(void **state) {
   (void)state;
 #if FAULTS_POSSIBLE
@@ -313,12 +325,7 @@ static void faults_doped_well(void **state) {
 /* A 3-point sweep over range (KEY=FROM:TO:STEP) of the single well on the coarse grid. */
 static int sweep_faults(const char *what, const char *range) {
   char dir[512], path[600];
-  assert_int_equal(tu_mkdtemp("faults", dir, sizeof dir), 0);
-  snprintf(path, sizeof path, "%s/well.cfg", dir);
-  FILE *f = fopen(path, "w");
-  assert_non_null(f);
-  fprintf(f, "temperature = 300.0;\ngrid_step = %s;\n%s", job_grid(), strstr(well_text, "layers"));
-  fclose(f);
+  job_well(dir, sizeof dir, path, sizeof path);
   sweep_ctx c;
   ew_error err;
   assert_int_equal(ew_wf_model_open(path, cat, NULL, &c.m, &err), EW_OK);
@@ -362,18 +369,13 @@ static void faults_merge(void **state) {
   (void)state;
 #if FAULTS_POSSIBLE
   char dir[512], path[600], parts[2][600];
-  assert_int_equal(tu_mkdtemp("faults", dir, sizeof dir), 0);
-  snprintf(path, sizeof path, "%s/well.cfg", dir);
-  FILE *f = fopen(path, "w");
-  assert_non_null(f);
-  fprintf(f, "temperature = 300.0;\ngrid_step = %s;\n%s", job_grid(), strstr(well_text, "layers"));
-  fclose(f);
+  job_well(dir, sizeof dir, path, sizeof path);
   ew_wf_model *m = NULL;
   ew_wf_range range;
   ew_error err;
   assert_int_equal(ew_wf_model_open(path, cat, NULL, &m, &err), EW_OK);
   assert_int_equal(ew_wf_range_parse("well.thickness=6:8:1", 1, "--vary", &range, &err), EW_OK);
-  merge_ctx c;
+  merge_ctx c = {.match = 0};
   for (int k = 0; k < 2; k++) {
     snprintf(parts[k], sizeof parts[k], "%s/part%d.json", dir, k + 1);
     FILE *p = fopen(parts[k], "w");
@@ -402,33 +404,11 @@ static void faults_merge(void **state) {
 
 /* The two parts of a 1D match (match_part.c), written unarmed, then joined with every
  * allocation failing in turn. */
-typedef struct {
-  const char *paths[2];
-  FILE *out;
-} match_merge_ctx;
-
-static void match_merge_job(const void *ctx, outcome *out) {
-  const match_merge_ctx *c = ctx;
-  ew_error err;
-  rewind(c->out);
-  out->rc = ew_wf_match_merge(2, c->paths, c->out, &err);
-  fflush(c->out);
-  long end = ftell(c->out);
-  rewind(c->out);
-  out->len = end > 0 && (size_t)end <= sizeof out->bytes ? (size_t)end : 0;
-  if (out->len && fread(out->bytes, 1, out->len, c->out) != out->len) out->len = 0;
-}
-
 static void faults_match_merge(void **state) {
   (void)state;
 #if FAULTS_POSSIBLE
   char dir[512], path[600], parts[2][600];
-  assert_int_equal(tu_mkdtemp("faults", dir, sizeof dir), 0);
-  snprintf(path, sizeof path, "%s/well.cfg", dir);
-  FILE *f = fopen(path, "w");
-  assert_non_null(f);
-  fprintf(f, "temperature = 300.0;\ngrid_step = %s;\n%s", job_grid(), strstr(well_text, "layers"));
-  fclose(f);
+  job_well(dir, sizeof dir, path, sizeof path);
   ew_wf_model *m = NULL;
   ew_wf_range range;
   ew_wf_quantity target;
@@ -437,7 +417,7 @@ static void faults_match_merge(void **state) {
   assert_int_equal(ew_wf_range_parse("well.thickness=5:9", 0, "--vary", &range, &err), EW_OK);
   assert_int_equal(ew_wf_quantity_parse("10um", 0, "--target", &target, &err), EW_OK);
   const char *line = "e1-e2";
-  match_merge_ctx c;
+  merge_ctx c = {.match = 1};
   for (int k = 0; k < 2; k++) {
     snprintf(parts[k], sizeof parts[k], "%s/part%d.json", dir, k + 1);
     FILE *p = fopen(parts[k], "w");
@@ -454,7 +434,7 @@ static void faults_match_merge(void **state) {
   c.out = tmpfile();
   assert_non_null(c.out);
   setvbuf(c.out, iobuf, _IOFBF, sizeof iobuf);
-  int bad = every_fault("merge of 2 match parts", match_merge_job, &c);
+  int bad = every_fault("merge of 2 match parts", merge_job, &c);
   fclose(c.out);
   ew_wf_model_free(m);
   tu_rm_tree(dir);
