@@ -364,6 +364,18 @@ static void faults_sweep_absent_keys(void **state) {
 #endif
 }
 
+/* The merge of c's parts with every allocation failing in turn, into a file whose buffer
+ * exists before arming; the number of bad outcomes. */
+static int merge_faults(const char *what, merge_ctx *c) {
+  static char iobuf[1 << 16];
+  c->out = tmpfile();
+  assert_non_null(c->out);
+  setvbuf(c->out, iobuf, _IOFBF, sizeof iobuf);
+  int bad = every_fault(what, merge_job, c);
+  fclose(c->out);
+  return bad;
+}
+
 /* The parts written once (unarmed), then merged with every allocation failing in turn. */
 static void faults_merge(void **state) {
   (void)state;
@@ -388,12 +400,7 @@ static void faults_merge(void **state) {
     fclose(p);
     c.paths[k] = parts[k];
   }
-  static char iobuf[1 << 16];
-  c.out = tmpfile();
-  assert_non_null(c.out);
-  setvbuf(c.out, iobuf, _IOFBF, sizeof iobuf);
-  int bad = every_fault("merge of 2 parts", merge_job, &c);
-  fclose(c.out);
+  int bad = merge_faults("merge of 2 parts", &c);
   ew_wf_model_free(m);
   tu_rm_tree(dir);
   assert_int_equal(bad, 0);
@@ -430,12 +437,7 @@ static void faults_match_merge(void **state) {
     fclose(p);
     c.paths[k] = parts[k];
   }
-  static char iobuf[1 << 16];
-  c.out = tmpfile();
-  assert_non_null(c.out);
-  setvbuf(c.out, iobuf, _IOFBF, sizeof iobuf);
-  int bad = every_fault("merge of 2 match parts", merge_job, &c);
-  fclose(c.out);
+  int bad = merge_faults("merge of 2 match parts", &c);
   ew_wf_model_free(m);
   tu_rm_tree(dir);
   assert_int_equal(bad, 0);
