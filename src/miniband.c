@@ -142,6 +142,12 @@ static void count_order(const ew_mb_pencil *p, double qd, double sigma, int rev,
   out->acc = acc;
 }
 
+size_t ew_mb_count_in_order(const ew_mb_pencil *p, double qd, double sigma, int reverse) {
+  arrow_count c;
+  count_order(p, qd, sigma, reverse != 0, &c);
+  return c.neg;
+}
+
 size_t ew_mb_count_below(const ew_mb_pencil *p, double qd, double sigma) {
   arrow_count f, r;
   count_order(p, qd, sigma, 0, &f);
@@ -419,6 +425,7 @@ static ew_status certify_band(const ew_minibands *mb, const ew_mb_pencil *p, siz
  * that the single-well solve uses (bound.c), i.e. the larger of the two end counts. */
 static size_t band_count(const ew_mb_pencil *p, double top) {
   double lo = p->vmin - 1e-9 * (1.0 + fabs(p->vmin));
+  top -= 1e-9 * (1.0 + fabs(top)); /* strictly below: a flat period's q = 0 state sits at it */
   if (!(top > lo)) return 0;
   size_t c0 = ew_mb_count_below(p, 0.0, top), cp = ew_mb_count_below(p, EW_PI, top);
   return c0 > cp ? c0 : cp;

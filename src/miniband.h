@@ -53,6 +53,9 @@ void ew_mb_pencil_free(ew_mb_pencil *p);
 /* Number of eigenvalues of the pencil at phase qd (= q·d, radians) below sigma. */
 size_t ew_mb_count_below(const ew_mb_pencil *p, double qd, double sigma);
 
+/* The count in one node order only (reverse: N−1 … 0), for tests of both orders. */
+size_t ew_mb_count_in_order(const ew_mb_pencil *p, double qd, double sigma, int reverse);
+
 /* Dense Hermitian H(q) (row-major N × N, out[N·N]) for tests against LAPACK. */
 void ew_mb_dense(const ew_mb_pencil *p, double qd, double complex *out);
 
