@@ -36,6 +36,7 @@
 #include "constants.h"
 #include "miniband.h"
 #include "roundtrip.h"
+#include "xy_chart.h"
 
 /* ---- the Kronig–Penney reference ---------------------------------------------------------- */
 typedef struct {
@@ -528,6 +529,101 @@ static void json_csv_roundtrip(void **state) {
   ew_catalogue_free(cat);
 }
 
+/* ---- the picture read back ------------------------------------------------------------------ */
+/* Our SVG's energy ticks (right-aligned at x = 76, baseline 4 below the tick, running upward;
+ * the lower panel's start low again) give each panel's map E(y) = a + b·y; every curve (the
+ * path in its series colour, one vertex per q) must sit at the library's energies within one
+ * SVG unit, with equally spaced vertices (the uniform q grid). */
+typedef struct {
+  double x, y;
+  char s[64];
+} tick_text;
+
+static int panel_map(const char *svg, int panel, double *a, double *b) {
+  double ys[2], es[2], prev = -1;
+  int k = 0, q = 0;
+  for (const char *e = strstr(svg, "<text "); e && k < 2; e = strstr(e + 1, "<text ")) {
+    const char *gt = strchr(e, '>'), *xa = strstr(e, " x=\""), *ya = strstr(e, " y=\"");
+    if (!gt || !xa || !ya || xa > gt || ya > gt || !strstr(e, "text-anchor=\"end\"")) continue;
+    if (strstr(e, "text-anchor=\"end\"") > gt) continue;
+    double x = atof(xa + 4), y = atof(ya + 4);
+    if (fabs(x - 76.0) > 1e-6) continue;
+    char v[64];
+    size_t n = 0;
+    for (const char *c = gt + 1; *c && *c != '<' && n + 1 < sizeof v;)
+      if (!strncmp(c, "\xe2\x88\x92", 3)) v[n++] = '-', c += 3; /* U+2212 minus */
+      else v[n++] = *c++;
+    v[n] = '\0';
+    if (prev >= 0 && y > prev) q++;
+    prev = y;
+    if (q != panel) continue;
+    ys[k] = y - 4, es[k++] = atof(v);
+  }
+  if (k < 2) return -1;
+  *b = (es[1] - es[0]) / (ys[1] - ys[0]);
+  *a = es[0] - *b * ys[0];
+  return 0;
+}
+
+/* vertices of the first path stroked colour with more than two vertices */
+static size_t curve(const char *svg, const char *colour, double *x, double *y, size_t cap) {
+  char key[40];
+  snprintf(key, sizeof key, "stroke=\"%s\"", colour);
+  for (const char *e = strstr(svg, "<path "); e; e = strstr(e + 1, "<path ")) {
+    const char *gt = strchr(e, '>'), *st = strstr(e, key), *d = strstr(e, " d=\"");
+    if (!gt || !st || st > gt || !d || d > gt) continue;
+    size_t n = 0;
+    for (d += 4; *d != '"' && n < cap;) {
+      while (*d == 'M' || *d == 'L' || *d == ' ') d++;
+      if (*d == '"') break;
+      char *end;
+      x[n] = strtod(d, &end);
+      y[n++] = strtod(end, &end);
+      d = end;
+    }
+    if (n > 2) return n;
+  }
+  return 0;
+}
+
+static void picture_read_back(void **state) {
+  (void)state;
+  tu_layer gapped[3];
+  memcpy(gapped, period_layers, sizeof gapped);
+  for (int k = 0; k < 3; k++) gapped[k].Ec += 1.5; /* a gap: the axis breaks between e and h */
+  ew_stack *st = tu_stack(3, gapped);
+  const size_t P = 9;
+  ew_minibands *mb = minibands_at(st, P, 0.05);
+  char dir[256], path[300];
+  assert_int_equal(tu_mkdtemp("minibands-svg", dir, sizeof dir), 0);
+  snprintf(path, sizeof path, "%s/mb.svg", dir);
+  ew_error err;
+  assert_int_equal(ew_minibands_write_plot(mb, path, &err), EW_OK);
+  char *svg = rt_slurp(path);
+  assert_non_null(svg);
+  double a[2], b[2];
+  assert_int_equal(panel_map(svg, 0, &a[0], &b[0]), 0); /* electrons, upper panel */
+  assert_int_equal(panel_map(svg, 1, &a[1], &b[1]), 0); /* holes, lower panel */
+  for (size_t j = 0; j < ew_minibands_count(mb); j++) {
+    char col[8], label[40];
+    snprintf(col, sizeof col, "#%06x", (unsigned)ew_xy_series_colour(j));
+    double x[64], y[64];
+    assert_int_equal(curve(svg, col, x, y, 64), P);
+    int q = mb->band[j] == EW_BAND_E ? 0 : 1;
+    for (size_t i = 0; i < P; i++) {
+      TU_NEAR(a[q] + b[q] * y[i], ew_minibands_energy_eV(mb, j, i), fabs(b[q]),
+              "curve at the library's E(q), one SVG unit");
+      TU_NEAR(x[i] - x[0], (double)i * (x[1] - x[0]), 1e-3, "uniform q grid");
+    }
+    snprintf(label, sizeof label, ">%s<", ew_minibands_label(mb, j));
+    assert_non_null(strstr(svg, label)); /* the legend names it */
+  }
+  free(svg);
+  tu_rm_tree(dir);
+  ew_minibands_free(mb);
+  tu_stack_free(st);
+}
+
 /* ---- refusals and warnings ------------------------------------------------------------------- */
 static void refusals_and_warnings(void **state) {
   (void)state;
@@ -587,6 +683,7 @@ int main(void) {
       cmocka_unit_test(certified_count_refuses),
       cmocka_unit_test(finite_stack_fills_miniband),
       cmocka_unit_test(json_csv_roundtrip),
+      cmocka_unit_test(picture_read_back),
       cmocka_unit_test(refusals_and_warnings),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
