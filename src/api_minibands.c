@@ -66,32 +66,23 @@ double ew_minibands_window_top_eV(const ew_minibands *mb, ew_band band) {
 }
 
 /* ---- warnings ------------------------------------------------------------------------- */
-static const char *const warn_code[2] = {"miniband-parabolic-mass", "miniband-doping-ignored"};
-static const char *const warn_text[2] = {
-    "the stack asks for the Kane energy-dependent electron mass; minibands use the band-edge "
-    "(parabolic) masses",
-    "the stack is doped; minibands are computed for flat bands (no charge, no self-consistent "
-    "potential)"};
-
-/* which warning is the i-th present: -1 if none */
-static int warning_at(const ew_minibands *mb, size_t i) {
-  if (!mb || !mb->points) return -1;
-  int on[2] = {mb->parabolic, mb->doping_ignored};
-  for (int w = 0; w < 2; w++)
-    if (on[w] && i-- == 0) return w;
-  return -1;
-}
+static const char warn_code[] = "miniband-doping-ignored";
+static const char warn_text[] = "the stack is doped; minibands are computed for flat bands (no "
+                                "charge, no self-consistent potential)";
 
 size_t ew_minibands_warning_count(const ew_minibands *mb) {
-  return mb && mb->points ? (size_t)(mb->parabolic != 0) + (size_t)(mb->doping_ignored != 0) : 0;
+  return mb && mb->points && mb->doping_ignored ? 1 : 0;
 }
 const char *ew_minibands_warning(const ew_minibands *mb, size_t i) {
-  int w = warning_at(mb, i);
-  return w < 0 ? NULL : warn_code[w];
+  return i < ew_minibands_warning_count(mb) ? warn_code : NULL;
 }
 const char *ew_minibands_warning_text(const ew_minibands *mb, size_t i) {
-  int w = warning_at(mb, i);
-  return w < 0 ? NULL : warn_text[w];
+  return i < ew_minibands_warning_count(mb) ? warn_text : NULL;
+}
+
+const char *ew_minibands_electron_mass(const ew_minibands *mb) {
+  if (!mb || !mb->points) return NULL;
+  return mb->kane ? "kane" : "parabolic";
 }
 
 /* ---- writers ---------------------------------------------------------------------------- */
@@ -110,7 +101,7 @@ ew_status ew_minibands_write_json(const ew_minibands *mb, FILE *out, ew_error *e
   ew_json_begin_object(&j);
   ew_json_key_num(&j, "period_nm", mb->period_nm);
   ew_json_key_num(&j, "grid_step_nm", mb->step_nm);
-  ew_json_key_str(&j, "electron_mass", "parabolic");
+  ew_json_key_str(&j, "electron_mass", ew_minibands_electron_mass(mb));
   ew_json_key(&j, "warnings");
   ew_json_begin_array(&j);
   for (size_t w = 0; w < ew_minibands_warning_count(mb); w++) {

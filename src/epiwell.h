@@ -571,8 +571,9 @@ EW_API ew_status ew_dispersion_write_plot(const ew_dispersion *d, const char *pa
 
 /* ---- minibands of an infinite superlattice (api_minibands.c) ----------------------------
  * The stack is one period d.  The Bloch condition ψ(z + d) = e^{iqd} ψ(z) on the solve's
- * grid gives E_n(q), q in [0, π/d], per band (e, hh, lh) with parabolic growth-axis masses,
- * every value certified by an inertia count (README "Minibands").  Followed: the minibands
+ * grid gives E_n(q), q in [0, π/d], per band (e, hh, lh) with the growth-axis masses of the
+ * single-well solve (the Kane electron mass where it applies), every value certified by an
+ * inertia count (README "Minibands").  Followed: the minibands
  * whose bottom lies below the band's bound window top as the single-well solve of the same
  * stack has it (the lower edge of the two outer layers).  create → compute → accessors /
  * writers → free.  Energies are absolute eV; a miniband's "bottom" is its edge nearest its
@@ -606,13 +607,17 @@ EW_API double ew_minibands_energy_eV(const ew_minibands *mb, size_t j, size_t i)
 EW_API double ew_minibands_bound_eV(const ew_minibands *mb, size_t j);
 /* Window top of band (absolute eV) that chose the minibands. */
 EW_API double ew_minibands_window_top_eV(const ew_minibands *mb, ew_band band);
-/* Warnings of the computation (code "miniband-parabolic-mass": the stack asks for a Kane
- * electron mass, minibands use the band-edge mass; "miniband-doping-ignored": flat bands).
- * warning(i): the code, NULL out of range; warning_text(i): one sentence. */
+/* Warnings of the computation (code "miniband-doping-ignored": the stack is doped, the
+ * minibands are flat-band).  warning(i): the code, NULL out of range; warning_text(i): one
+ * sentence. */
 EW_API size_t ew_minibands_warning_count(const ew_minibands *mb);
 EW_API const char *ew_minibands_warning(const ew_minibands *mb, size_t i);
 EW_API const char *ew_minibands_warning_text(const ew_minibands *mb, size_t i);
-/* JSON {"period_nm":…,"grid_step_nm":…,"electron_mass":"parabolic","warnings":[…],
+/* "kane" when electrons take the Kane energy-dependent mass (exactly when ew_solve would:
+ * the stack's nonparabolic setting and layers with E_P), else "parabolic"; NULL before
+ * compute. */
+EW_API const char *ew_minibands_electron_mass(const ew_minibands *mb);
+/* JSON {"period_nm":…,"grid_step_nm":…,"electron_mass":"kane"|"parabolic","warnings":[…],
  * "minibands":[{"band":"e","index":1,"label":"e1","bottom_eV":…,"top_eV":…,"width_eV":…,
  * "mass_m0":…,"bound_eV":…,"q_inv_nm":[…],"energy_eV":[…]},…]};
  * CSV q_inv_nm,LABEL_eV… (one row per q); the picture E(q) (.svg/.png). */

@@ -4,15 +4,11 @@
 
 #include <float.h>
 #include <math.h>
-#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "bound.h"
 #include "constants.h"
 #include "error.h"
-#include "nonparabolic.h"
-#include "schrodinger.h"
 
 /* ---- the pencil -------------------------------------------------------------------------- */
 static double band_edge(const ew_bands *b, ew_band band) {
@@ -66,7 +62,7 @@ static void standard_form(ew_mb_pencil *p) {
 
 ew_mb_pencil *ew_mb_pencil_build(const ew_stack *st, const ew_grid *g, ew_band band) {
   if (g->n < 2) return NULL;
-  size_t n = g->n, N = n + 1;
+  size_t N = g->n + 1;
   ew_mb_pencil *p = calloc(1, sizeof *p);
   if (!p) return NULL;
   p->n = N;
@@ -80,7 +76,14 @@ ew_mb_pencil *ew_mb_pencil_build(const ew_stack *st, const ew_grid *g, ew_band b
     ew_mb_pencil_free(p);
     return NULL;
   }
-  const double K = EW_HB2M0_EVNM2, *cm = g->cell_mass[band];
+  ew_mb_pencil_set_masses(p, st, g, band, NULL);
+  return p;
+}
+
+void ew_mb_pencil_set_masses(ew_mb_pencil *p, const ew_stack *st, const ew_grid *g, ew_band band,
+                             const double *M) {
+  size_t n = g->n, N = p->n;
+  const double K = EW_HB2M0_EVNM2, *cm = M ? M : g->cell_mass[band];
   /* Mc(j): the cell joining node j − 1 to node j; Mc(0) is the face cell [z_{n−1}, d] */
 #define MC(j) ((j) == 0 ? cm[n] : cm[(j) - 1])
   p->vmin = INFINITY;
@@ -93,7 +96,6 @@ ew_mb_pencil *ew_mb_pencil_build(const ew_stack *st, const ew_grid *g, ew_band b
   }
 #undef MC
   standard_form(p);
-  return p;
 }
 
 void ew_mb_dense(const ew_mb_pencil *p, double qd, double complex *out) {
@@ -327,197 +329,4 @@ ew_status ew_mb_certify(const ew_mb_pencil *p, double qd, const double *values,
                      ew_mb_count_below(p, qd, values[j] - bound[j]),
                      ew_mb_count_below(p, qd, values[j] + bound[j]));
   return EW_OK;
-}
-
-/* ---- the minibands of a stack ------------------------------------------------------------ */
-void ew_minibands_clear(ew_minibands *mb) {
-  if (!mb) return;
-  free(mb->q_inv_nm);
-  free(mb->band);
-  free(mb->index);
-  free(mb->label);
-  free(mb->energy_eV);
-  free(mb->bottom_eV);
-  free(mb->top_eV);
-  free(mb->width_eV);
-  free(mb->mass_m0);
-  free(mb->bound_eV);
-  memset(mb, 0, sizeof *mb);
-}
-
-static int mb_alloc(ew_minibands *mb, size_t count, size_t points) {
-  size_t c = count ? count : 1;
-  mb->q_inv_nm = malloc(points * sizeof *mb->q_inv_nm);
-  mb->band = malloc(c * sizeof *mb->band);
-  mb->index = malloc(c * sizeof *mb->index);
-  mb->label = malloc(c * sizeof *mb->label);
-  mb->energy_eV = malloc(c * points * sizeof *mb->energy_eV);
-  mb->bottom_eV = malloc(c * sizeof(double));
-  mb->top_eV = malloc(c * sizeof(double));
-  mb->width_eV = malloc(c * sizeof(double));
-  mb->mass_m0 = malloc(c * sizeof(double));
-  mb->bound_eV = malloc(c * sizeof(double));
-  return mb->q_inv_nm && mb->band && mb->index && mb->label && mb->energy_eV && mb->bottom_eV &&
-         mb->top_eV && mb->width_eV && mb->mass_m0 && mb->bound_eV;
-}
-
-/* Mass at the bottom q0 (0 or π/d) from the curvature of λ_k: with D(δ) = 2(λ(q0 ± δ) − λ(q0))/δ²
- * (λ is even about both ends), λ'' = (4 D(δ) − D(2δ))/3 + O(δ⁴) (Richardson), and
- * m* = ħ²/λ'', i.e. m*(m0) = 2K/λ''.  δ = EW_MB_MASS_DQ π/d keeps λ(q0 + δ) − λ(q0) some 10⁵ times
- * the eigenvalues' certified accuracy for bands up to ~100 m0 heavy. */
-static ew_status bottom_mass(const ew_mb_pencil *p, ew_mb_solver *s, size_t k, int at_pi,
-                             double e0, double *mass, ew_error *err) {
-  double dq = EW_MB_MASS_DQ * EW_PI, e1, e2; /* in qd */
-  ew_status rc = ew_mb_eigenvalue(p, s, at_pi ? EW_PI - dq : dq, k, &e1, NULL, err);
-  if (rc == EW_OK) rc = ew_mb_eigenvalue(p, s, at_pi ? EW_PI - 2 * dq : 2 * dq, k, &e2, NULL, err);
-  if (rc != EW_OK) return rc;
-  double d = dq / p->period_nm; /* 1/nm */
-  double D1 = 2.0 * (e1 - e0) / (d * d), D2 = 2.0 * (e2 - e0) / (4.0 * d * d);
-  *mass = 2.0 * EW_HB2M0_EVNM2 / ((4.0 * D1 - D2) / 3.0);
-  return EW_OK;
-}
-
-/* Miniband j (index k of its band) on every q point, then its bottom, top and mass. */
-static ew_status one_miniband(ew_minibands *mb, const ew_mb_pencil *p, ew_mb_solver *s,
-                              ew_band band, size_t k, size_t j, ew_error *err) {
-  double sgn = band == EW_BAND_E ? 1.0 : -1.0, lo = INFINITY, hi = -INFINITY, bmax = 0.0;
-  double *lam = mb->energy_eV + j * mb->points;
-  for (size_t i = 0; i < mb->points; i++) {
-    double qd = EW_PI * (double)i / (double)(mb->points - 1), b;
-    ew_status rc = ew_mb_eigenvalue(p, s, qd, k, &lam[i], &b, err);
-    if (rc != EW_OK) return rc;
-    lo = fmin(lo, lam[i]);
-    hi = fmax(hi, lam[i]);
-    bmax = fmax(bmax, b);
-  }
-  int at_pi = lam[mb->points - 1] < lam[0];
-  ew_status rc = bottom_mass(p, s, k, at_pi, at_pi ? lam[mb->points - 1] : lam[0], &mb->mass_m0[j], err);
-  if (rc != EW_OK) return rc;
-  mb->band[j] = band;
-  mb->index[j] = (int)k + 1;
-  snprintf(mb->label[j], EW_MB_LABEL, "%s%u", ew_band_name(band), (unsigned)(k + 1) % 100000u);
-  mb->bottom_eV[j] = sgn * lo;
-  mb->top_eV[j] = sgn * hi;
-  mb->width_eV[j] = hi - lo;
-  mb->bound_eV[j] = bmax;
-  for (size_t i = 0; i < mb->points; i++) lam[i] *= sgn; /* absolute energies */
-  return EW_OK;
-}
-
-/* Every q point's values of one band certified together (ew_mb_certify). */
-static ew_status certify_band(const ew_minibands *mb, const ew_mb_pencil *p, size_t first,
-                              size_t m, ew_error *err) {
-  double v[64], b[64];
-  if (m > 64) return EW_OK; /* each value was certified alone; the joint check is a cross-check */
-  double sgn = mb->band[first] == EW_BAND_E ? 1.0 : -1.0;
-  for (size_t i = 0; i < mb->points; i++) {
-    for (size_t k = 0; k < m; k++) {
-      v[k] = sgn * mb->energy_eV[(first + k) * mb->points + i];
-      b[k] = mb->bound_eV[first + k];
-    }
-    ew_status rc = ew_mb_certify(p, EW_PI * (double)i / (double)(mb->points - 1), v, b, m, err);
-    if (rc != EW_OK) return rc;
-  }
-  return EW_OK;
-}
-
-/* The minibands of one band: those whose bottom (at q = 0 or π/d) lies below the window top
- * that the single-well solve uses (bound.c), i.e. the larger of the two end counts. */
-static size_t band_count(const ew_mb_pencil *p, double top) {
-  double lo = p->vmin - 1e-9 * (1.0 + fabs(p->vmin));
-  top -= 1e-9 * (1.0 + fabs(top)); /* strictly below: a flat period's q = 0 state sits at it */
-  if (!(top > lo)) return 0;
-  size_t c0 = ew_mb_count_below(p, 0.0, top), cp = ew_mb_count_below(p, EW_PI, top);
-  return c0 > cp ? c0 : cp;
-}
-
-static ew_status run_checks(const ew_stack *st, size_t points, double step_nm, double *step,
-                            ew_error *err) {
-  if (points < 2 || points > EW_MB_POINTS_MAX)
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "minibands: %zu q points (give 2 to %d)", points,
-                   EW_MB_POINTS_MAX);
-  if (isnan(step_nm) || !isfinite(step_nm) || step_nm < 0)
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "grid step %g nm: give a positive step, or 0 "
-                   "for the stack's or the default", step_nm);
-  if (st->field_kV_cm != 0.0)
-    return ew_fail(err, EW_ERR_INPUT, st->path, 0, "minibands: the applied field (%g kV/cm) "
-                   "breaks the periodicity; remove `field` for a superlattice period",
-                   st->field_kV_cm);
-  *step = step_nm > 0 ? step_nm : st->grid_step_nm > 0 ? st->grid_step_nm : EW_DEFAULT_STEP_NM;
-  if (st->total_nm / *step > EW_GRID_MAX_NODES)
-    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "minibands: a grid of %.3g nodes is too large "
-                   "(limit %g)", st->total_nm / *step, EW_GRID_MAX_NODES);
-  return EW_OK;
-}
-
-/* The period's grid and the three pencils. */
-static ew_status build_pencils(const ew_stack *st, double step, ew_grid **g,
-                               ew_mb_pencil *pen[EW_BAND_COUNT], ew_error *err) {
-  size_t *cells = calloc(st->n_layers, sizeof *cells);
-  if (!cells) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (minibands)");
-  ew_grid_cells_for_step(st, step, cells);
-  *g = ew_grid_layered(st, cells);
-  free(cells);
-  if (!*g) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (minibands grid)");
-  if ((*g)->n < 2)
-    return ew_fail(err, EW_ERR_INPUT, st->path, 0, "minibands: the period (%g nm) is thinner "
-                   "than two grid steps", st->total_nm);
-  for (int b = 0; b < EW_BAND_COUNT; b++)
-    if (!(pen[b] = ew_mb_pencil_build(st, *g, (ew_band)b)))
-      return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (minibands pencil, n = %zu)",
-                     (*g)->n + 1);
-  return EW_OK;
-}
-
-static ew_status fill_bands(ew_minibands *mb, ew_mb_pencil *pen[EW_BAND_COUNT], ew_error *err) {
-  size_t j = 0;
-  for (int b = 0; b < EW_BAND_COUNT; b++) {
-    if (!mb->per_band[b]) continue;
-    ew_mb_solver *s = ew_mb_solver_create(pen[b]);
-    if (!s) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (minibands solver)");
-    size_t first = j;
-    ew_status rc = EW_OK;
-    for (size_t k = 0; k < mb->per_band[b] && rc == EW_OK; k++, j++)
-      rc = one_miniband(mb, pen[b], s, (ew_band)b, k, j, err);
-    ew_mb_solver_free(s);
-    if (rc == EW_OK) rc = certify_band(mb, pen[b], first, mb->per_band[b], err);
-    if (rc != EW_OK) return rc;
-  }
-  return EW_OK;
-}
-
-ew_status ew_minibands_run(ew_minibands *mb, const ew_stack *st, size_t points, double step_nm,
-                           ew_error *err) {
-  double step = 0.0;
-  ew_status rc = run_checks(st, points, step_nm, &step, err);
-  if (rc != EW_OK) return rc;
-  ew_minibands_clear(mb);
-  ew_grid *g = NULL;
-  ew_mb_pencil *pen[EW_BAND_COUNT] = {NULL};
-  rc = build_pencils(st, step, &g, pen, err);
-  size_t count = 0;
-  for (int b = 0; b < EW_BAND_COUNT && rc == EW_OK; b++) {
-    double top = ew_bound_window_top(st, g, (ew_band)b);
-    mb->window_top_eV[b] = b == EW_BAND_E ? top : -top;
-    count += mb->per_band[b] = band_count(pen[b], top);
-  }
-  if (rc == EW_OK && count == 0)
-    rc = ew_fail(err, EW_ERR_INPUT, st->path, 0, "minibands: no band has a miniband below its "
-                 "window top (the lower edge of the period's two outer layers: put barrier "
-                 "material at both faces of the period)");
-  if (rc == EW_OK && !mb_alloc(mb, count, points))
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (minibands, %zu x %zu)", count, points);
-  if (rc == EW_OK) {
-    mb->points = points, mb->count = count;
-    mb->period_nm = st->total_nm, mb->step_nm = step, mb->nodes = pen[0]->n;
-    for (size_t i = 0; i < points; i++)
-      mb->q_inv_nm[i] = EW_PI / st->total_nm * (double)i / (double)(points - 1);
-    mb->parabolic = ew_nonparabolic_applies(st);
-    mb->doping_ignored = st->doped;
-    rc = fill_bands(mb, pen, err);
-  }
-  for (int b = 0; b < EW_BAND_COUNT; b++) ew_mb_pencil_free(pen[b]);
-  ew_grid_free(g);
-  if (rc != EW_OK) ew_minibands_clear(mb);
-  return rc;
 }

@@ -49,6 +49,10 @@ typedef struct {
  * or when the grid has fewer than 2 nodes (N < 3). */
 ew_mb_pencil *ew_mb_pencil_build(const ew_stack *st, const ew_grid *g, ew_band band);
 void ew_mb_pencil_free(ew_mb_pencil *p);
+/* Refill H with the cell mass integrals M[g->n + 1] of the grid's cells (energy-dependent
+ * masses); M == NULL: the grid's band-edge masses. */
+void ew_mb_pencil_set_masses(ew_mb_pencil *p, const ew_stack *st, const ew_grid *g, ew_band band,
+                             const double *M);
 
 /* Number of eigenvalues of the pencil at phase qd (= q·d, radians) below sigma. */
 size_t ew_mb_count_below(const ew_mb_pencil *p, double qd, double sigma);
@@ -76,7 +80,9 @@ ew_status ew_mb_eigenvalue(const ew_mb_pencil *p, ew_mb_solver *s, double qd, si
 ew_status ew_mb_certify(const ew_mb_pencil *p, double qd, const double *values,
                         const double *bound, size_t m, ew_error *err);
 
-/* ---- the minibands of a stack (the opaque ew_minibands of epiwell.h) --------------------- */
+/* ---- the minibands of a stack (the opaque ew_minibands of epiwell.h; miniband_run.c) ------
+ * Electrons take the Kane energy-dependent mass exactly when the single-well solve does
+ * (ew_nonparabolic_applies): each E_n(q) is then the fixed point E = λ_n(H(q, E)). */
 #define EW_MB_LABEL 16
 #define EW_MB_POINTS_MAX 10000
 /* q offset of the effective-mass differences, as a fraction of π/d (see miniband.c) */
@@ -95,7 +101,7 @@ struct ew_minibands {
   double *bottom_eV, *top_eV, *width_eV, *mass_m0, *bound_eV; /* [count] */
   double window_top_eV[EW_BAND_COUNT]; /* absolute energy of each band's window top */
   size_t per_band[EW_BAND_COUNT];      /* minibands of each band */
-  int parabolic;           /* 1: the stack asks for a Kane electron mass; minibands use me */
+  int kane;                /* 1: electrons with the Kane energy-dependent mass (as solve) */
   int doping_ignored;      /* 1: the stack is doped; minibands are flat-band */
 };
 

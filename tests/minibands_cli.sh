@@ -82,13 +82,21 @@ else
   nok "--plot PNG" "exit $rc"
 fi
 
-# a Kane electron mass asked for: computed with parabolic masses and warned on stderr
+# the Kane electron mass where solve uses it (the example switches it off)
 sed 's/^nonparabolic = false;.*$//' examples/miniband_period.cfg >"$tmp/kane.cfg"
 run "$bin" minibands "$tmp/kane.cfg" --points 3 --json
-if [ "$rc" -eq 0 ] && grep -q 'miniband-parabolic-mass' "$tmp/err" && grep -q '"code":"miniband-parabolic-mass"' "$tmp/out"; then
-  ok "Kane mass asked for: warning on stderr and in the JSON"
+if [ "$rc" -eq 0 ] && grep -q '"electron_mass":"kane"' "$tmp/out" && grep -q '"electron_mass":"parabolic"' "$tmp/m.json"; then
+  ok "electron_mass: kane where solve uses it, parabolic with nonparabolic = false"
 else
-  nok "Kane warning" "exit $rc: $(head -n 2 "$tmp/err")"
+  nok "electron_mass" "exit $rc: $(head -n 2 "$tmp/err")"
+fi
+# a doped period: flat bands, warned on stderr and in the JSON
+sed 's/thickness = 4.0; }/thickness = 4.0; doping = { donors = 1e17; }; }/' examples/miniband_period.cfg >"$tmp/doped.cfg"
+run "$bin" minibands "$tmp/doped.cfg" --points 3 --json
+if [ "$rc" -eq 0 ] && grep -q 'miniband-doping-ignored' "$tmp/err" && grep -q '"code":"miniband-doping-ignored"' "$tmp/out"; then
+  ok "doped period: warning on stderr and in the JSON"
+else
+  nok "doping warning" "exit $rc: $(head -n 2 "$tmp/err")"
 fi
 
 run "$bin" minibands examples/miniband_period.cfg --points 1

@@ -189,11 +189,27 @@ static void kronig_penney(void **state) {
  * with k² = −κ² below the edge).  Its product P over the period has det P = 1, and the Bloch
  * condition P u = e^{iqd} u gives cos qd = ½ tr P (Bastard 1988, ch. III, the same derivation
  * as the two-layer relation above, which is its special case: checked below). */
+/* Kane energy, gap and spin–orbit splitting of each layer (NULL: parabolic) */
+typedef struct {
+  double Ep, Eg, D;
+} tm_kane;
+static const tm_kane *tm_kane_of; /* the layers' Kane data while a Kane check runs */
+
+/* The Kane mass at kinetic energy ε, typed from its source (not from the library):
+ * m0/m(ε) = m0/m_e + (E_P/3) [2/(E_g + ε) + 1/(E_g + Δ + ε) − 2/E_g − 1/(E_g + Δ)]
+ * (E. O. Kane, J. Phys. Chem. Solids 1, 249 (1957); anchored at the band-edge mass as in
+ * D. F. Nelson, R. C. Miller, D. A. Kleinman, Phys. Rev. B 35, 7770 (1987)). */
+static double kane_mass(double me, const tm_kane *k, double eps) {
+  return 1.0 / (1.0 / me + k->Ep / 3.0 * (2.0 / (k->Eg + eps) + 1.0 / (k->Eg + k->D + eps) -
+                                          2.0 / k->Eg - 1.0 / (k->Eg + k->D)));
+}
+
 static double tm_half_trace(size_t n, const tu_layer *ly, ew_band band, double E) {
   double P[2][2] = {{1, 0}, {0, 1}};
   for (size_t j = 0; j < n; j++) {
     double V = band == EW_BAND_E ? ly[j].Ec : -ly[j].Ev;
     double m = band == EW_BAND_E ? ly[j].me : band == EW_BAND_HH ? ly[j].mhh : ly[j].mlh;
+    if (band == EW_BAND_E && tm_kane_of) m = kane_mass(m, &tm_kane_of[j], E - V);
     double k2 = m * (V - E) / EW_HB2M0_EVNM2, t = ly[j].t, M[2][2];
     if (k2 > 0) {
       double k = sqrt(k2);
@@ -258,6 +274,46 @@ static void asymmetric_period(void **state) {
       TU_NEAR(got, want, tol, "transfer matrix of the period (BenDaniel–Duke), Bastard 1988");
     }
   }
+  ew_minibands_free(fine);
+  ew_minibands_free(coarse);
+  tu_stack_free(st);
+}
+
+/* Electrons with the Kane mass (in each constant layer the BenDaniel–Duke equation at energy E
+ * is parabolic with the mass m(E − Ec): the transfer matrix holds with those masses), against
+ * the library's fixed point E = λ(H(q, E)). */
+static void kane_period(void **state) {
+  (void)state;
+  /* invented Kane parameters of the well and barrier materials, plausible for III–V's */
+  static const tm_kane kk[3] = {{26.0, 1.80, 0.32}, {28.0, 1.42, 0.34}, {26.0, 1.80, 0.32}};
+  ew_stack *st = tu_stack(3, period_layers);
+  st->nonparabolic = 1;
+  for (int k = 0; k < 3; k++) {
+    st->layers[k].bands.Ep_eV = kk[k].Ep;
+    st->layers[k].bands.Eg_G_eV = kk[k].Eg;
+    st->layers[k].bands.Dso_eV = kk[k].D;
+  }
+  const size_t P = 5;
+  ew_minibands *fine = minibands_at(st, P, 0.025), *coarse = minibands_at(st, P, 0.05);
+  RT_STREQ(ew_minibands_electron_mass(fine), "kane", "layers with E_P, nonparabolic on");
+  tm_kane_of = kk;
+  size_t checked = 0;
+  for (size_t j = 0; j < ew_minibands_count(fine); j++) {
+    if (fine->band[j] != EW_BAND_E) continue;
+    for (size_t i = 0; i < P; i++) {
+      double qd = EW_PI * (double)i / (double)(P - 1);
+      double want = tm_root(3, period_layers, EW_BAND_E, 0.0, qd, ew_minibands_index(fine, j) - 1);
+      double got = lam(fine, j, i), tol = fabs(lam(coarse, j, i) - got) + 1e-9;
+      TU_NEAR(got, want, tol, "transfer matrix with Kane masses m(E - Ec) per layer");
+      /* and not the parabolic answer: the Kane shift is many times the tolerance */
+      tm_kane_of = NULL;
+      assert_true(fabs(got - tm_root(3, period_layers, EW_BAND_E, 0.0, qd, ew_minibands_index(fine, j) - 1)) > 10 * tol);
+      tm_kane_of = kk;
+      checked++;
+    }
+  }
+  tm_kane_of = NULL;
+  assert_true(checked >= P);
   ew_minibands_free(fine);
   ew_minibands_free(coarse);
   tu_stack_free(st);
@@ -399,15 +455,29 @@ static const char finite_text[] = FINITE_MATERIALS
     "  { name = \"w5\"; material = \"wellium\"; thickness = 4.5; },\n"
     "  { name = \"outer2\"; material = \"barrium\"; thickness = 20.0; }\n);\n";
 
-static void finite_stack_fills_miniband(void **state) {
-  (void)state;
+/* The same with catalogue GaAs wells and Al0.3Ga0.7As barriers at 300 K, where both solve
+ * and minibands take the Kane electron mass (the default for layers with E_P). */
+#define CAT_LAYER(name, mat, t) "  { name = \"" name "\"; material = \"" mat "\"; " t " }"
+#define CAT_B(name, t) CAT_LAYER(name, "AlGaAs", "x = 0.3; thickness = " t ";")
+#define CAT_W(name) CAT_LAYER(name, "GaAs", "thickness = 4.5;")
+#define NL ",\n"
+static const char cat_period_text[] = "temperature = 300.0;\ngrid_step = 0.025;\nlayers = (\n"
+    CAT_B("half1", "1.25") NL CAT_W("well") NL CAT_B("half2", "1.25") "\n);\n";
+static const char cat_finite_text[] = "temperature = 300.0;\ngrid_step = 0.025;\nlayers = (\n"
+    CAT_B("outer1", "20.0") NL CAT_W("w1") NL CAT_B("b1", "2.5") NL CAT_W("w2") NL
+    CAT_B("b2", "2.5") NL CAT_W("w3") NL CAT_B("b3", "2.5") NL CAT_W("w4") NL
+    CAT_B("b4", "2.5") NL CAT_W("w5") NL CAT_B("outer2", "20.0") "\n);\n";
+#undef NL
+
+static void fills(const char *period, const char *finite, const char *mass_model) {
   ew_catalogue *cat = NULL;
   assert_int_equal(tu_load_catalogue(&cat), 0);
   ew_stack *per = NULL, *fin = NULL;
   ew_error err;
-  assert_int_equal(ew_stack_read_string(period_text, "period", cat, &per, &err), EW_OK);
+  assert_int_equal(ew_stack_read_string(period, "period", cat, &per, &err), EW_OK);
   ew_minibands *mb = minibands_at(per, 17, 0.0);
-  ew_result *r = tu_solve_text(cat, finite_text, &fin, NULL);
+  RT_STREQ(ew_minibands_electron_mass(mb), mass_model, "electron mass model");
+  ew_result *r = tu_solve_text(cat, finite, &fin, NULL);
   assert_non_null(r);
   const int N = 5;
   for (size_t j = 0; j < ew_minibands_count(mb); j++) {
@@ -422,8 +492,8 @@ static void finite_stack_fills_miniband(void **state) {
       inside += in;
       first_inside += in && s->n <= N;
     }
-    print_message("%s: [%.6f, %.6f] eV holds %d levels of the 5-well stack\n",
-                  ew_minibands_label(mb, j), fmin(b, t), fmax(b, t), inside);
+    print_message("%s (%s): [%.6f, %.6f] eV holds %d levels of the 5-well stack\n",
+                  ew_minibands_label(mb, j), mass_model, fmin(b, t), fmax(b, t), inside);
     assert_int_equal(inside, N);       /* N periods: N levels in the miniband */
     assert_int_equal(first_inside, N); /* and they are levels 1 … N of their band */
     assert_true(ew_minibands_width_eV(mb, j) > 1e-3);
@@ -433,6 +503,12 @@ static void finite_stack_fills_miniband(void **state) {
   ew_minibands_free(mb);
   ew_stack_free(per);
   ew_catalogue_free(cat);
+}
+
+static void finite_stack_fills_miniband(void **state) {
+  (void)state;
+  fills(period_text, finite_text, "parabolic");
+  fills(cat_period_text, cat_finite_text, "kane");
 }
 
 /* ---- JSON and CSV read back ------------------------------------------------------------------ */
@@ -457,7 +533,8 @@ static void json_csv_roundtrip(void **state) {
   assert_int_equal(rj_parse(text, &doc), 0);
   RT_JSON(&doc, "period_nm", ew_minibands_period_nm(mb), "json");
   RT_JSON(&doc, "grid_step_nm", ew_minibands_grid_step_nm(mb), "json");
-  RT_STREQ(rj_str(&doc, "electron_mass"), "parabolic", "json.electron_mass");
+  RT_STREQ(rj_str(&doc, "electron_mass"), ew_minibands_electron_mass(mb), "json.electron_mass");
+  RT_STREQ(ew_minibands_electron_mass(mb), "parabolic", "the example sets nonparabolic = false");
   const rj *w = rj_get(&doc, "warnings"), *arr = rj_get(&doc, "minibands");
   assert_non_null(w);
   assert_int_equal(w->n, ew_minibands_warning_count(mb));
@@ -656,7 +733,7 @@ static void refusals_and_warnings(void **state) {
   st = tu_stack(1, flat);
   assert_int_equal(ew_minibands_compute(mb, st, 5, 0.05, &err), EW_ERR_INPUT);
   tu_stack_free(st);
-  /* a Kane mass asked for (GaAs has E_P) and doping: both warned, with their codes */
+  /* GaAs has E_P: the Kane mass, as solve; doping: warned, with its code */
   ew_catalogue *cat = NULL;
   assert_int_equal(tu_load_catalogue(&cat), 0);
   const char *text =
@@ -666,10 +743,10 @@ static void refusals_and_warnings(void **state) {
       "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 1.5; }\n);\n";
   assert_int_equal(ew_stack_read_string(text, "warn", cat, &st, &err), EW_OK);
   assert_int_equal(ew_minibands_compute(mb, st, 3, 0.0, &err), EW_OK);
-  assert_int_equal(ew_minibands_warning_count(mb), 2);
-  RT_STREQ(ew_minibands_warning(mb, 0), "miniband-parabolic-mass", "warning code");
-  RT_STREQ(ew_minibands_warning(mb, 1), "miniband-doping-ignored", "warning code");
-  assert_null(ew_minibands_warning(mb, 2));
+  RT_STREQ(ew_minibands_electron_mass(mb), "kane", "catalogue GaAs: Kane, as solve");
+  assert_int_equal(ew_minibands_warning_count(mb), 1);
+  RT_STREQ(ew_minibands_warning(mb, 0), "miniband-doping-ignored", "warning code");
+  assert_null(ew_minibands_warning(mb, 1));
   ew_stack_free(st);
   ew_catalogue_free(cat);
   ew_minibands_free(mb);
@@ -679,6 +756,7 @@ int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(kronig_penney),
       cmocka_unit_test(asymmetric_period),
+      cmocka_unit_test(kane_period),
       cmocka_unit_test(count_against_lapack),
       cmocka_unit_test(certified_count_refuses),
       cmocka_unit_test(finite_stack_fills_miniband),
