@@ -178,6 +178,26 @@ static void dispersion_job(const void *ctx, outcome *out) {
   ew_dispersion_free(d);
 }
 
+/* The minibands of a superlattice period (miniband.c, api_minibands.c, SuperLU's complex LU
+ * over the periodic pattern): every miniband energy at every q, and each mass. */
+static void minibands_job(const void *ctx, outcome *out) {
+  const ew_stack *st = ctx;
+  ew_minibands *mb = NULL;
+  ew_error err;
+  out->len = 0;
+  out->rc = ew_minibands_create(&mb, &err);
+  if (out->rc == EW_OK) out->rc = ew_minibands_compute(mb, st, 4, 0.0, &err);
+  for (size_t j = 0; out->rc == EW_OK && j < ew_minibands_count(mb); j++)
+    for (size_t i = 0; i <= ew_minibands_point_count(mb); i++) {
+      double e = i < ew_minibands_point_count(mb) ? ew_minibands_energy_eV(mb, j, i)
+                                                   : ew_minibands_mass_m0(mb, j);
+      if (out->len + sizeof e > sizeof out->bytes) break;
+      memcpy(out->bytes + out->len, &e, sizeof e);
+      out->len += sizeof e;
+    }
+  ew_minibands_free(mb);
+}
+
 #if FAULTS_POSSIBLE
 /* Run job with the k-th allocation failing (k = 0: none); returns the count seen. */
 static long run_armed(job_fn job, const void *ctx, long k, outcome *out) {
@@ -466,6 +486,26 @@ static void faults_dispersion(void **state) {
 #endif
 }
 
+/* The minibands of a short period (barrier halves around a well) on the coarse job grid. */
+static void faults_minibands(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  char text[512];
+  snprintf(text, sizeof text,
+           "temperature = 300.0;\ngrid_step = %s;\nlayers = (\n"
+           "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 1.5; },\n"
+           "  { name = \"well\"; material = \"GaAs\"; thickness = 4.0; },\n"
+           "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 1.5; }\n);\n",
+           job_grid());
+  ew_stack *st = read_stack(text);
+  int bad = every_fault("minibands", minibands_job, st);
+  ew_stack_free(st);
+  assert_int_equal(bad, 0);
+#else
+  skip();
+#endif
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(faults_single_well),
@@ -475,9 +515,11 @@ int main(void) {
       cmocka_unit_test(faults_merge),
       cmocka_unit_test(faults_match_merge),
       cmocka_unit_test(faults_dispersion),
+      cmocka_unit_test(faults_minibands),
   };
 #if !FAULTS_POSSIBLE
-  (void)solve_job, (void)sweep_job, (void)merge_job, (void)dispersion_job, (void)read_stack,
+  (void)solve_job, (void)sweep_job, (void)merge_job, (void)dispersion_job, (void)minibands_job,
+      (void)read_stack,
       (void)well_text, (void)job_grid; /* skipped */
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
