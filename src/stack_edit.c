@@ -40,8 +40,8 @@ struct ew_stack_editor {
   const ew_catalogue *cat;
   edit_undo *undo; /* the edits of the build in progress, in order */
   size_t n_undo, cap_undo;
-  copy_edit *copies; /* the one-copy keys of the build in progress */
-  size_t n_copies, cap_copies, copy_mark;
+  copy_edit *copies; /* the one-copy keys of the build in progress ([nkeys], its own) */
+  size_t n_copies, copy_mark;
   int broken; /* a restore failed (out of memory): the tree is no longer the file's */
 };
 
@@ -67,7 +67,6 @@ void ew_stack_editor_free(ew_stack_editor *ed) {
   if (!ed) return;
   config_destroy(&ed->cfg);
   free(ed->undo);
-  free(ed->copies);
   free(ed);
 }
 
@@ -319,13 +318,6 @@ static ew_status set_one(ew_stack_editor *ed, const char *key, double value, ew_
   if (s && !numeric_type(config_setting_type(s)))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: that setting is not a number", key);
   if (copy == SIZE_MAX) return set_in(ed, key, g, name, value, err);
-  if (ed->n_copies == ed->cap_copies) {
-    size_t cap = ed->cap_copies ? 2 * ed->cap_copies : 4;
-    copy_edit *c = realloc(ed->copies, cap * sizeof *c);
-    if (!c) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (stack edit)");
-    ed->copies = c;
-    ed->cap_copies = cap;
-  }
   ed->copies[ed->n_copies++] = (copy_edit){copy, g, name, key, value};
   return EW_OK;
 }
@@ -372,6 +364,8 @@ ew_status ew_stack_editor_build(ew_stack_editor *ed, size_t nkeys, const char *c
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (stack tree lost)");
   ew_status rc = EW_OK;
   ed->n_copies = 0;
+  ed->copies = nkeys ? malloc(nkeys * sizeof *ed->copies) : NULL;
+  if (nkeys && !ed->copies) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (stack edit)");
   for (size_t i = 0; i < nkeys && rc == EW_OK; i++) rc = set_one(ed, keys[i], values[i], err);
   if (rc == EW_OK) {
     ew_error e2 = {0};
@@ -386,6 +380,9 @@ ew_status ew_stack_editor_build(ew_stack_editor *ed, size_t nkeys, const char *c
     }
   }
   ew_status ru = undo_all(ed, rc == EW_OK ? err : NULL);
+  free(ed->copies);
+  ed->copies = NULL;
+  ed->n_copies = 0;
   if (ru != EW_OK && rc == EW_OK) {
     ew_stack_free(*out);
     *out = NULL;

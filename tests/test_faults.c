@@ -133,6 +133,32 @@ static void sweep_job(const void *ctx, outcome *out) {
   if (out->len && fread(out->bytes, 1, out->len, c->csv) != out->len) out->len = 0;
 }
 
+/* The stack of a model at key values (faults_repeat_build): every layer's name, thickness,
+ * position and conduction edge. */
+typedef struct {
+  ew_wf_model *m;
+  const char *const *keys;
+  const double *values;
+  size_t nkeys;
+} build_ctx;
+
+static void build_job(const void *ctx, outcome *out) {
+  const build_ctx *c = ctx;
+  ew_stack *st = NULL;
+  ew_error err;
+  out->len = 0;
+  out->rc = ew_wf_stack_at(c->m, c->nkeys, c->keys, c->values, &st, &err);
+  for (size_t k = 0; out->rc == EW_OK && k < st->n_layers; k++) {
+    const ew_layer *L = &st->layers[k];
+    double v[3] = {L->thickness_nm, L->z_start_nm, L->bands.Ec_eV};
+    if (out->len + sizeof L->name + sizeof v > sizeof out->bytes) break;
+    memcpy(out->bytes + out->len, L->name, sizeof L->name);
+    memcpy(out->bytes + out->len + sizeof L->name, v, sizeof v);
+    out->len += sizeof L->name + sizeof v;
+  }
+  ew_stack_free(st);
+}
+
 /* Two JSON parts of a sweep merged (sweep_merge.c) into a file whose buffer exists before
  * arming; the parts' own files are opened while armed. */
 typedef struct {
@@ -338,6 +364,40 @@ static void faults_sweep(void **state) {
 #endif
 }
 
+/* The keys of a repeated layer (issue 14 §1): well.thickness sets every copy in the tree,
+ * well#2.thickness one copy through the reader's hook (stack_edit.c), and the build walks the
+ * repeat group (stack_repeat.c) into the expanded layers (stack.c).  A build, not a sweep:
+ * the solves after it are the other cases' (a sweep here took 9000 allocations, 8 minutes). */
+static void faults_repeat_build(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  char dir[512], path[600];
+  assert_int_equal(tu_mkdtemp("faults", dir, sizeof dir), 0);
+  snprintf(path, sizeof path, "%s/sl.cfg", dir);
+  FILE *f = fopen(path, "w");
+  assert_non_null(f);
+  fprintf(f, "temperature = 300.0;\nlayers = (\n"
+          "  { name = \"lower\"; material = \"AlGaAs\"; x = 0.30; thickness = 10.0; },\n"
+          "  { repeat = 2; layers = (\n"
+          "    { name = \"well\"; material = \"GaAs\"; thickness = 6.0; },\n"
+          "    { repeat = 3; layers = ( { name = \"barrier\"; material = \"AlGaAs\"; x = 0.30; "
+          "thickness = 1.2; } ); } ); },\n"
+          "  { name = \"upper\"; material = \"AlGaAs\"; x = 0.30; thickness = 10.0; }\n);\n");
+  fclose(f);
+  static const char *const keys[] = {"well.thickness", "well#2.thickness", "barrier#4.thickness"};
+  static const double values[] = {7.0, 5.0, 1.5};
+  build_ctx c = {NULL, keys, values, 3};
+  ew_error err;
+  assert_int_equal(ew_wf_model_open(path, cat, NULL, &c.m, &err), EW_OK);
+  int bad = every_fault("repeat build", build_job, &c);
+  ew_wf_model_free(c.m);
+  tu_rm_tree(dir);
+  assert_int_equal(bad, 0);
+#else
+  skip(); /* AddressSanitizer owns malloc */
+#endif
+}
+
 /* The parts written once (unarmed), then merged with every allocation failing in turn. */
 static void faults_merge(void **state) {
   (void)state;
@@ -408,9 +468,10 @@ int main(void) {
       cmocka_unit_test(faults_sweep),
       cmocka_unit_test(faults_merge),
       cmocka_unit_test(faults_dispersion),
+      cmocka_unit_test(faults_repeat_build),
   };
 #if !FAULTS_POSSIBLE
-  (void)solve_job, (void)sweep_job, (void)merge_job, (void)dispersion_job, (void)read_stack,
+  (void)solve_job, (void)sweep_job, (void)build_job, (void)merge_job, (void)dispersion_job, (void)read_stack,
       (void)well_text, (void)job_grid; /* skipped */
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
