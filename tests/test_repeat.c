@@ -341,6 +341,26 @@ static void key_sets_copies(void **state) {
   tu_rm_tree(dir);
 }
 
+/* Nested groups: a key of one copy (w#5, in the second outer period) and of every copy (b),
+ * against the thicknesses the design gives each layer (typed here). */
+static void nested_keys(void **state) {
+  (void)state;
+  char dir[512];
+  ew_wf_model *m = open_model(nested_text, dir, sizeof dir);
+  const char *keys[3] = {"w#5.thickness", "b.thickness", "spacer#2.thickness"};
+  double v[3] = {3.25, 2.0, 7.5};
+  ew_stack *st = NULL;
+  ew_error err;
+  assert_int_equal(ew_wf_stack_at(m, 3, keys, v, &st, &err), EW_OK);
+  static const double want[] = {8.0, 6.0, 4.0, 2.0, 4.0, 2.0, 4.0, 2.0, 7.5, 4.0, 2.0, 3.25, 2.0,
+                                4.0, 2.0, 8.0};
+  assert_int_equal(st->n_layers, sizeof want / sizeof want[0]);
+  for (size_t k = 0; k < st->n_layers; k++) assert_true(st->layers[k].thickness_nm == want[k]);
+  ew_stack_free(st);
+  ew_wf_model_free(m);
+  tu_rm_tree(dir);
+}
+
 /* The sweep's CSV over well.thickness of the repeated layer, read back: every level column
  * equals the typed stack's level at that value (printed %.10g). */
 static void sweep_of_repeated_layer(void **state) {
@@ -443,6 +463,7 @@ int main(void) {
       cmocka_unit_test(nested_groups),
       cmocka_unit_test(refused),
       cmocka_unit_test(key_sets_copies),
+      cmocka_unit_test(nested_keys),
       cmocka_unit_test(sweep_of_repeated_layer),
       cmocka_unit_test(miniband_in_kronig_penney_band),
   };
