@@ -5,12 +5,14 @@
 
 #include <libconfig.h>
 #include <math.h>
+#include <stdint.h> /* SIZE_MAX */
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "error.h"
 #include "stack.h"
+#include "stack_repeat.h"
 
 /* How to put one setting back after a build.  No undo allocates: a changed scalar gets its
  * type and value back in place, and a setting that a build added or took away is detached
@@ -33,6 +35,15 @@ typedef struct {
   int attached;
 } reserved_key;
 
+/* A key of one copy of a repeated layer (NAME#k.KEY): set in the written group only while
+ * that copy is read (the hook of ew_stack_from_config_hooked), since all copies share it. */
+typedef struct {
+  size_t layer; /* index in the expanded stack */
+  config_setting_t *group;
+  const char *name, *key;
+  double value;
+} copy_edit;
+
 struct ew_stack_editor {
   config_t cfg;
   const ew_stack *nominal;
@@ -41,6 +52,8 @@ struct ew_stack_editor {
   size_t n_undo, cap_undo;
   reserved_key *res;
   size_t n_res, cap_res;
+  copy_edit *copies; /* the one-copy keys of the build in progress ([nkeys], its own) */
+  size_t n_copies, copy_mark;
 };
 
 /* ---- settings in and out of a group without allocating ----------------------------------
@@ -94,28 +107,42 @@ void ew_stack_editor_free(ew_stack_editor *ed) {
 }
 
 /* ---- finding the setting a key names --------------------------------------------------- */
-/* The layer or user material whose name is the longest prefix of key followed by '.' and
- * more; NULL when none.  *plen receives the name's length. */
-static config_setting_t *find_owner(const ew_stack_editor *ed, const char *key, size_t *plen) {
+/* 1 when name[0..len) followed by '.' and more starts key. */
+static int owns(const char *name, size_t len, const char *key) {
+  return !strncmp(name, key, len) && key[len] == '.' && key[len + 1];
+}
+
+/* The written group of the layer or user material whose name is the longest prefix of key
+ * followed by '.' and more; NULL when none.  *plen receives the name's length, *copy the
+ * expanded index of the one copy the name is (NAME#k, or any layer of a repeat group by its
+ * full name), else SIZE_MAX: a layer in no repeat group, or the written NAME of a repeated
+ * layer, whose every copy is read from the group (stack_repeat.h). */
+static config_setting_t *find_owner(const ew_stack_editor *ed, const char *key, size_t *plen,
+                                    size_t *copy) {
   const ew_stack *st = ed->nominal;
   config_setting_t *root = config_root_setting(&ed->cfg), *best = NULL;
   *plen = 0;
+  *copy = SIZE_MAX;
   config_setting_t *list = config_setting_get_member(root, "layers");
+  size_t best_k = SIZE_MAX;
   for (size_t k = 0; list && k < st->n_layers; k++) {
-    size_t L = strlen(st->layers[k].name);
-    if (L > *plen && !strncmp(st->layers[k].name, key, L) && key[L] == '.' && key[L + 1]) {
-      config_setting_t *g = config_setting_get_elem(list, (unsigned)k);
-      if (g) best = g, *plen = L;
-    }
+    const ew_layer *Ly = &st->layers[k];
+    size_t L = strlen(Ly->name);
+    const char *hash = Ly->copy == 1 ? strrchr(Ly->name, '#') : NULL;
+    if (L > *plen && owns(Ly->name, L, key)) best_k = k, *plen = L, *copy = Ly->copy ? k : SIZE_MAX;
+    if (hash && (L = (size_t)(hash - Ly->name)) > *plen && owns(Ly->name, L, key))
+      best_k = k, *plen = L, *copy = SIZE_MAX;
   }
+  if (best_k != SIZE_MAX) best = ew_repeat_written(list, st->layers[best_k].written);
+  if (!best) *plen = 0, *copy = SIZE_MAX;
   config_setting_t *mats = config_setting_get_member(root, "materials");
   for (int i = 0; mats && i < config_setting_length(mats); i++) {
     config_setting_t *g = config_setting_get_elem(mats, (unsigned)i);
     const char *nm = NULL;
     size_t L;
     if (g && config_setting_lookup_string(g, "name", &nm) && (L = strlen(nm)) > *plen &&
-        !strncmp(nm, key, L) && key[L] == '.' && key[L + 1])
-      best = g, *plen = L;
+        owns(nm, L, key))
+      best = g, *plen = L, *copy = SIZE_MAX;
   }
   return best;
 }
@@ -146,10 +173,14 @@ static ew_status no_such_owner(const ew_stack *st, const char *key, const char *
                  "%s (layers: %s)", opt, key, (int)head, key, st->path, names);
 }
 
-/* The group and setting name a key refers to (see stack_edit.h).  *group is NULL on error. */
+/* The group and setting name a key refers to (see stack_edit.h), and in *copy the expanded
+ * index of the one copy it is for (SIZE_MAX: every layer read from the group).  *group is
+ * NULL on error. */
 static ew_status locate(const ew_stack_editor *ed, const char *key, const char *opt,
-                        config_setting_t **group, const char **name, ew_error *err) {
+                        config_setting_t **group, const char **name, size_t *copy,
+                        ew_error *err) {
   *group = NULL;
+  *copy = SIZE_MAX;
   const char *dot = strrchr(key, '.');
   if (!key[0] || (dot && !dot[1]) || dot == key)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0,
@@ -161,7 +192,7 @@ static ew_status locate(const ew_stack_editor *ed, const char *key, const char *
     return EW_OK;
   }
   size_t plen;
-  config_setting_t *best = find_owner(ed, key, &plen);
+  config_setting_t *best = find_owner(ed, key, &plen, copy);
   const char *rest = best ? key + plen + 1 : key;
   config_setting_t *owner = best ? best : config_root_setting(&ed->cfg);
   const char *sub = strchr(rest, '.');
@@ -246,8 +277,9 @@ ew_status ew_stack_editor_check(ew_stack_editor *ed, const char *key, const char
                                 double *nominal, ew_error *err) {
   config_setting_t *g;
   const char *name;
+  size_t copy;
   *nominal = NAN;
-  ew_status rc = locate(ed, key, opt, &g, &name, err);
+  ew_status rc = locate(ed, key, opt, &g, &name, &copy, err);
   if (rc != EW_OK) return rc;
   config_setting_t *s = config_setting_get_member(g, name);
   if (!s && (rc = ew_stack_check_key(g, name, opt, key, err)) != EW_OK) return rc;
@@ -330,15 +362,11 @@ static ew_status take_out(ew_stack_editor *ed, config_setting_t *g, const char *
   return EW_OK;
 }
 
-static ew_status set_one(ew_stack_editor *ed, const char *key, double value, ew_error *err) {
-  config_setting_t *g;
-  const char *name;
-  ew_status rc = locate(ed, key, "--vary", &g, &name, err);
-  if (rc != EW_OK) return rc;
-  if (!isfinite(value)) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s: value is not finite", key);
+/* Setting name of group g (key names it) to value, logged for the undo. */
+static ew_status set_in(ew_stack_editor *ed, const char *key, config_setting_t *g,
+                        const char *name, double value, ew_error *err) {
+  ew_status rc = EW_OK;
   config_setting_t *s = config_setting_get_member(g, name);
-  if (s && !numeric_type(config_setting_type(s)))
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: that setting is not a number", key);
   unsigned line = g->line; /* an added setting reports its group */
   /* a layer's thickness is given one way: setting one form takes the other out */
   const char *other = !strcmp(name, "thickness") ? "thickness_ml"
@@ -373,6 +401,43 @@ static ew_status set_one(ew_stack_editor *ed, const char *key, double value, ew_
   return EW_OK;
 }
 
+/* Keys of every copy are set now; a key of one copy is kept for the hook below. */
+static ew_status set_one(ew_stack_editor *ed, const char *key, double value, ew_error *err) {
+  config_setting_t *g;
+  const char *name;
+  size_t copy;
+  ew_status rc = locate(ed, key, "--vary", &g, &name, &copy, err);
+  if (rc != EW_OK) return rc;
+  if (!isfinite(value)) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "%s: value is not finite", key);
+  config_setting_t *s = config_setting_get_member(g, name);
+  if (s && !numeric_type(config_setting_type(s)))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s: that setting is not a number", key);
+  if (copy == SIZE_MAX) return set_in(ed, key, g, name, value, err);
+  ed->copies[ed->n_copies++] = (copy_edit){copy, g, name, key, value};
+  return EW_OK;
+}
+
+/* The hook around each layer's read: one copy's keys set in its written group before, the
+ * group put back after (undo entries above copy_mark are that copy's). */
+static ew_status copy_before(void *ctx, size_t layer, ew_error *err) {
+  ew_stack_editor *ed = ctx;
+  ed->copy_mark = ed->n_undo;
+  ew_status rc = EW_OK;
+  for (size_t i = 0; i < ed->n_copies && rc == EW_OK; i++) {
+    const copy_edit *c = &ed->copies[i];
+    if (c->layer == layer) rc = set_in(ed, c->key, c->group, c->name, c->value, err);
+  }
+  return rc;
+}
+
+static ew_status copy_after(void *ctx, size_t layer, ew_error *err) {
+  ew_stack_editor *ed = ctx;
+  (void)layer;
+  (void)err; /* putting settings back allocates nothing */
+  while (ed->n_undo > ed->copy_mark) undo_one(ed, &ed->undo[--ed->n_undo]);
+  return EW_OK;
+}
+
 /* "KEY = VALUE, KEY = VALUE" for messages. */
 static void values_text(char *buf, size_t size, size_t nkeys, const char *const *keys,
                         const double *values) {
@@ -389,11 +454,16 @@ ew_status ew_stack_editor_build(ew_stack_editor *ed, size_t nkeys, const char *c
                                 const double *values, ew_stack **out, ew_error *err) {
   *out = NULL;
   ew_status rc = EW_OK;
+  ed->n_copies = 0;
+  ed->copies = nkeys ? malloc(nkeys * sizeof *ed->copies) : NULL;
+  if (nkeys && !ed->copies) return out_of_memory(err);
   for (size_t i = 0; i < nkeys && rc == EW_OK; i++) rc = set_one(ed, keys[i], values[i], err);
   if (rc == EW_OK) {
     ew_error e2 = {0};
     const char *path = ed->nominal->path;
-    rc = ew_stack_from_config(&ed->cfg, path, ed->cat, out, &e2);
+    const ew_stack_layer_hook hook = {ed, copy_before, copy_after};
+    rc = ew_stack_from_config_hooked(&ed->cfg, path, ed->cat, ed->n_copies ? &hook : NULL, out,
+                                     &e2);
     if (rc != EW_OK && err) { /* the reader's words and line, and the values that were set */
       char what[512];
       values_text(what, sizeof what, nkeys, keys, values);
@@ -401,5 +471,8 @@ ew_status ew_stack_editor_build(ew_stack_editor *ed, size_t nkeys, const char *c
     }
   }
   undo_all(ed);
+  free(ed->copies);
+  ed->copies = NULL;
+  ed->n_copies = 0;
   return rc;
 }

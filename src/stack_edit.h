@@ -15,6 +15,9 @@
  *                    deep_barrier.Ec); the longest name that prefixes the key (names may
  *                    hold dots)
  *   NAME.GROUP.KEY   a setting of one of its groups (well.grade.x_end, well.doping.donors)
+ * For a layer of a repeat group (stack_repeat.h) NAME is its written name, and the key sets
+ * every copy (well.thickness), or one copy's name NAME#k, and it sets that copy only
+ * (well#3.thickness; set in the written group while that copy is read, then put back).
  * A setting absent from the file is added; it reports the line of its group.  It is created
  * once, when its key is checked, and attached to its group only during builds that set it:
  * a build calls no libconfig allocator (libconfig 1.5 does not survive a failed allocation),
