@@ -27,5 +27,7 @@ int ew_cli_tolerance(int argc, char **argv);
 int ew_cli_merge(int argc, char **argv);
 /* `epiwell dispersion` (cli_dispersion.c) */
 int ew_cli_dispersion(int argc, char **argv);
+/* `epiwell gain` (cli_gain.c) */
+int ew_cli_gain(int argc, char **argv);
 
 #endif
