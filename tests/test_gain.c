@@ -396,6 +396,37 @@ static void lorentzian_artefact(void **state) {
   ew_stack_free(st);
 }
 
+/* The line's width: a symmetric line over the step of the 2-D joint density of states at the
+ * edge E0 gives g(E0 − Γ/2) = C(−Γ/2) · step, C the line's cumulative distribution: for the
+ * secant (2/π) atan(e^{−arcosh 2}) = 1/6 exactly (sech(x/γ) = 1/2 at x = γ arcosh 2), for the
+ * Lorentzian 1/2 − atan(1)/π = 1/4.  The step is read with a 0.05 meV line 0.5 meV above E0. */
+static void line_width(void **state) {
+  (void)state;
+  ew_stack *st = read_stack(gaas_text);
+  ew_gain_options o;
+  ew_gain_options_default(&o);
+  o.density_from_cm2 = o.density_to_cm2 = 4e12;
+  ew_gain *g0 = gain_of(st, &o);
+  double E0 = ew_gain_edge_eV(g0);
+  ew_gain_free(g0);
+  o.linewidth_meV = 0.05, o.energy_from_eV = o.energy_to_eV = E0 + 0.0005;
+  ew_gain *gs = gain_of(st, &o);
+  double step = ew_gain_te_cm(gs, 0, 0);
+  ew_gain_free(gs);
+  double want[2] = {1.0 / 6.0, 0.25};
+  for (int k = 0; k < 2; k++) {
+    o.lorentzian = k, o.linewidth_meV = 2.0;
+    o.energy_from_eV = o.energy_to_eV = E0 - 0.001;
+    ew_gain *g = gain_of(st, &o);
+    /* the step varies by ~1 % over the few meV the secant reaches; the Lorentzian's 1/x²
+       tails also reach the absorbing part above ΔF (~60 meV away: weight Γ/(2π·60 meV) ≈ 0.5 %
+       of the line) and vary more: 0.02 (a width of Γ instead of Γ/2 would give 0.35) */
+    TU_NEAR(ew_gain_te_cm(g, 0, 0) / step, want[k], k ? 0.02 : 0.006, "FWHM = --linewidth");
+    ew_gain_free(g);
+  }
+  ew_stack_free(st);
+}
+
 static void roundtrip(void **state) {
   (void)state;
   ew_stack *st = read_stack(gaas_text);
@@ -518,7 +549,8 @@ int main(void) {
       cmocka_unit_test(step_gain),         cmocka_unit_test(bernard_duraffourg),
       cmocka_unit_test(lasher_stern),      cmocka_unit_test(textbook_size),
       cmocka_unit_test(compressive_strain), cmocka_unit_test(lorentzian_artefact),
-      cmocka_unit_test(roundtrip),         cmocka_unit_test(refusals),
+      cmocka_unit_test(line_width),        cmocka_unit_test(roundtrip),
+      cmocka_unit_test(refusals),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
