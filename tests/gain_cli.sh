@@ -88,4 +88,21 @@ sed 's/thickness = 6.0; }/thickness = 6.0; doping = { donors = 1e17; }; }/' "$tm
 run "$bin" gain "$tmp/doped.cfg" --density 1e12:2e12:1e12
 if [ "$rc" -eq 2 ] && grep -q 'doped' "$tmp/err"; then ok "doped stack: exit 2"; else nok "doped stack" "exit $rc: $(head -n 1 "$tmp/err")"; fi
 
+# user materials give no Kane energy: an input error naming the layer's line
+cat >"$tmp/user.cfg" <<'CFG'
+temperature = 300.0;
+grid_step = 0.1;
+materials = (
+  { name = "bar"; Ec = 1.0; Ev = -0.3; me = 0.09; mhh = 0.40; mlh = 0.10; },
+  { name = "wel"; Ec = 0.7; Ev = -0.1; me = 0.067; mhh = 0.35; mlh = 0.09; }
+);
+layers = (
+  { name = "b1"; material = "bar"; thickness = 8.0; },
+  { name = "well"; material = "wel"; thickness = 6.0; },
+  { name = "b2"; material = "bar"; thickness = 8.0; }
+);
+CFG
+run "$bin" gain "$tmp/user.cfg" --density 1e12:1e12:1e12
+if [ "$rc" -eq 2 ] && grep -q 'user.cfg:9:.*Ep' "$tmp/err"; then ok "user material without Ep: exit 2 at the layer's line"; else nok "user material" "exit $rc: $(head -n 1 "$tmp/err")"; fi
+
 finish gain_cli
