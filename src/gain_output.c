@@ -37,15 +37,16 @@ ew_status ew_gain_write_json(const ew_gain *g, FILE *out, ew_error *err) {
     ew_json_begin_object(&j);
     ew_json_key_num(&j, "density_cm2", g->density_cm2[d]);
     ew_json_key_num(&j, "fermi_separation_eV", g->fermi_c_eV[d] - g->fermi_v_eV[d]);
+    num_array(&j, "energy_eV", g->energy_eV, g->ne_pts);
+    num_array(&j, "gain_te_cm", g->gain_te + at, g->ne_pts);
+    num_array(&j, "gain_tm_cm", g->gain_tm + at, g->ne_pts);
+    num_array(&j, "spontaneous", g->spont + at, g->ne_pts);
+    /* after the six keys: the levels and the peak */
     ew_json_key_num(&j, "fermi_electron_eV", g->fermi_c_eV[d]);
     ew_json_key_num(&j, "fermi_hole_eV", g->fermi_v_eV[d]);
     ew_json_key_num(&j, "peak_gain_te_cm", g->peak_te[d]);
     ew_json_key_num(&j, "peak_energy_te_eV", g->peak_te_eV[d]);
     ew_json_key_num(&j, "peak_gain_tm_cm", g->peak_tm[d]);
-    num_array(&j, "energy_eV", g->energy_eV, g->ne_pts);
-    num_array(&j, "gain_te_cm", g->gain_te + at, g->ne_pts);
-    num_array(&j, "gain_tm_cm", g->gain_tm + at, g->ne_pts);
-    num_array(&j, "spontaneous", g->spont + at, g->ne_pts);
     ew_json_end_object(&j);
   }
   ew_json_end_array(&j);
