@@ -42,6 +42,9 @@ static const char usage[] =
     "                     [--points N] [--csv FILE] [--json] [--plot FILE.svg|.png]\n"
     "  epiwell minibands STACK [--points N] [--grid-step NM] [--csv FILE] [--json]\n"
     "                    [--plot FILE.svg|.png]  (the stack is one superlattice period)\n"
+    "  epiwell gain STACK --density FROM:TO:STEP [--model 4band|6band] [--linewidth MEV]\n"
+    "               [--lineshape sech|lorentzian] [--index N_R] [--energy FROM:TO:STEP]\n"
+    "               [--csv FILE] [--json] [--plot FILE.svg|.png]  (epiwell gain --help)\n"
     "    (sweep, match, tolerance also take --grid-step NM and --no-estimate)\n"
     "  epiwell --version | --help\n"
     "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"
@@ -433,5 +436,6 @@ int main(int argc, char **argv) {
   if (!strcmp(argv[1], "merge")) return ew_cli_merge(argc - 2, argv + 2);
   if (!strcmp(argv[1], "dispersion")) return ew_cli_dispersion(argc - 2, argv + 2);
   if (!strcmp(argv[1], "minibands")) return ew_cli_minibands(argc - 2, argv + 2);
+  if (!strcmp(argv[1], "gain")) return ew_cli_gain(argc - 2, argv + 2);
   return ew_cli_bad(usage, "unknown command %s", argv[1]);
 }

@@ -29,5 +29,7 @@ int ew_cli_merge(int argc, char **argv);
 int ew_cli_dispersion(int argc, char **argv);
 /* `epiwell minibands` (cli_minibands.c) */
 int ew_cli_minibands(int argc, char **argv);
+/* `epiwell gain` (cli_gain.c) */
+int ew_cli_gain(int argc, char **argv);
 
 #endif

@@ -185,6 +185,12 @@ static ew_status check_options(const ew_dispersion_options *o, ew_error *err) {
 
 ew_status ew_dispersion_run(ew_dispersion *d, const ew_stack *st,
                             const ew_dispersion_options *o, ew_error *err) {
+  return ew_dispersion_run_vectors(d, st, o, NULL, NULL, err);
+}
+
+ew_status ew_dispersion_run_vectors(ew_dispersion *d, const ew_stack *st,
+                                    const ew_dispersion_options *o,
+                                    ew_dispersion_vectors_fn fn, void *ctx, ew_error *err) {
   ew_status rc = check_options(o, err);
   if (rc) return rc;
   ew_dispersion_clear(d);
@@ -221,6 +227,9 @@ ew_status ew_dispersion_run(ew_dispersion *d, const ew_stack *st,
       d->branch_eV[(2 * j + 1) * d->points + i] = e1;
       d->energy_eV[j * d->points + i] = 0.5 * (e0 + e1);
     }
+    if (fn && (rc = fn(ctx, i, ew_kp_solver_vectors(w.sol), w.g->n * (size_t)o->model,
+                       o->model, w.prof->w, err)))
+      break;
   }
   if (w.sol) ew_kp_solver_work(w.sol, &d->factorizations, &d->solves, &d->counts);
   work_free(&w);

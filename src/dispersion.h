@@ -39,6 +39,16 @@ struct ew_dispersion {
  * here: EW_ERR_USAGE). */
 ew_status ew_dispersion_run(ew_dispersion *d, const ew_stack *st,
                             const ew_dispersion_options *o, ew_error *err);
+/* The same, calling fn (may be NULL) after every k∥ point i with the eigenvectors there:
+ * X column-major, 2 × d->subbands columns of dim = nodes × nb (B-normalised: Σ w |x|² = 1
+ * with w the dual-cell lengths, nm), the Kramers pairs 2j, 2j + 1 (gain.c takes its momentum
+ * matrix elements from them).  A nonzero return stops the run with that status. */
+typedef ew_status (*ew_dispersion_vectors_fn)(void *ctx, size_t i, const double complex *X,
+                                              size_t dim, int nb, const double *w,
+                                              ew_error *err);
+ew_status ew_dispersion_run_vectors(ew_dispersion *d, const ew_stack *st,
+                                    const ew_dispersion_options *o,
+                                    ew_dispersion_vectors_fn fn, void *ctx, ew_error *err);
 /* Free d's arrays and zero it. */
 void ew_dispersion_clear(ew_dispersion *d);
 

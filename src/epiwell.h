@@ -636,6 +636,68 @@ EW_API const char *ew_minibands_electron_mass(const ew_minibands *mb);
 EW_API ew_status ew_minibands_write_json(const ew_minibands *mb, FILE *out, ew_error *err);
 EW_API ew_status ew_minibands_write_csv(const ew_minibands *mb, FILE *out, ew_error *err);
 EW_API ew_status ew_minibands_write_plot(const ew_minibands *mb, const char *path, ew_error *err);
+/* ---- material gain of an undoped well with injected carriers (api_gain.c) --------------
+ * TE and TM material gain (1/cm) and the spontaneous-emission spectrum at each sheet carrier
+ * density (equal electrons and holes): electrons from the solver's subbands (parabolic in
+ * k∥ with their in-plane masses), holes from the 4- or 6-band k·p dispersion (axial
+ * approximation), momentum matrix elements from the k·p eigenvectors and the electron
+ * envelopes, quasi-Fermi levels by root finding of the density integrals (README "Gain").
+ * create → compute → accessors / writers → free. */
+typedef struct {
+  int model;                 /* 4 (default) or 6: the hole k·p model */
+  double density_from_cm2;   /* sheet densities from, to, step (cm^-2; default 1e12, 5e12, */
+  double density_to_cm2;     /* 1e12); from > 0, to >= from, step > 0, at most 1000 */
+  double density_step_cm2;
+  double linewidth_meV;      /* FWHM of the lineshape, (0, 200] (default 10) */
+  int lorentzian;            /* 1: Lorentzian lineshape; 0: hyperbolic secant (default) */
+  double refractive_index;   /* background index n_r (default 3.6; the catalogue has none) */
+  double energy_from_eV;     /* photon energies, absolute eV; from = to = 0 (default): the */
+  double energy_to_eV;       /* lowest transition − 0.1 eV to + 0.2 eV */
+  double energy_step_eV;     /* default 0.001; at most 20000 energies */
+  double kmax_inv_nm;        /* hole dispersion to kmax (default 0.8 /nm), k_points samples */
+  size_t k_points;           /* (default 65; 2 … 2000; the k·p solve follows the subbands
+                                reliably at steps up to ~0.0125 /nm) */
+  double grid_step_nm;       /* as ew_options (0: the stack's or the default) */
+} ew_gain_options;
+EW_API void ew_gain_options_default(ew_gain_options *o); /* NULL is a no-op */
+typedef struct ew_gain ew_gain;
+EW_API ew_status ew_gain_create(ew_gain **out, ew_error *err);
+EW_API void ew_gain_free(ew_gain *g); /* NULL is a no-op */
+/* Compute the spectra of stack with options o (may be NULL: the defaults).  EW_ERR_USAGE for
+ * bad options; EW_ERR_INPUT for a doped stack, no bound electron or hole subband, or a well
+ * material without a Kane energy Ep (user materials); EW_ERR_NUMERIC from the k·p solve. */
+EW_API ew_status ew_gain_compute(ew_gain *g, const ew_stack *stack, const ew_gain_options *o,
+                                 ew_error *err);
+EW_API size_t ew_gain_density_count(const ew_gain *g);
+EW_API size_t ew_gain_energy_count(const ew_gain *g);
+EW_API double ew_gain_density_cm2(const ew_gain *g, size_t d);       /* NAN out of range */
+EW_API double ew_gain_fermi_electron_eV(const ew_gain *g, size_t d); /* absolute eV */
+EW_API double ew_gain_fermi_hole_eV(const ew_gain *g, size_t d);
+EW_API double ew_gain_fermi_separation_eV(const ew_gain *g, size_t d);
+EW_API double ew_gain_energy_eV(const ew_gain *g, size_t i);
+/* TE, TM gain (1/cm, negative: absorption) and spontaneous emission (1/(s cm³ eV)) at
+ * density d and photon energy i. */
+EW_API double ew_gain_te_cm(const ew_gain *g, size_t d, size_t i);
+EW_API double ew_gain_tm_cm(const ew_gain *g, size_t d, size_t i);
+EW_API double ew_gain_spontaneous(const ew_gain *g, size_t d, size_t i);
+/* Largest TE gain over the spectrum at density d (1/cm), its photon energy (eV); largest TM. */
+EW_API double ew_gain_peak_te_cm(const ew_gain *g, size_t d);
+EW_API double ew_gain_peak_te_energy_eV(const ew_gain *g, size_t d);
+EW_API double ew_gain_peak_tm_cm(const ew_gain *g, size_t d);
+/* Density at which Fc − Fv reaches the lowest transition energy (cm^-2; NAN if not reached
+ * in 1e8 … 1e15); that lowest transition (e_n − hole branch at k∥ = 0, eV). */
+EW_API double ew_gain_transparency_density_cm2(const ew_gain *g);
+EW_API double ew_gain_edge_eV(const ew_gain *g);
+/* Well width L_w (nm) and Kane energy Ep (eV) used; the lineshape "sech" or "lorentzian". */
+EW_API double ew_gain_well_nm(const ew_gain *g);
+EW_API double ew_gain_Ep_eV(const ew_gain *g);
+EW_API const char *ew_gain_lineshape(const ew_gain *g);
+/* JSON {"model":…,…,"transparency_density_cm2":…,"densities":[{"density_cm2":…,
+ * "fermi_separation_eV":…,"energy_eV":[…],"gain_te_cm":[…],"gain_tm_cm":[…],
+ * "spontaneous":[…],…},…]}; CSV one row per density and energy; the TE gain picture. */
+EW_API ew_status ew_gain_write_json(const ew_gain *g, FILE *out, ew_error *err);
+EW_API ew_status ew_gain_write_csv(const ew_gain *g, FILE *out, ew_error *err);
+EW_API ew_status ew_gain_write_plot(const ew_gain *g, const char *path, ew_error *err);
 
 /* ==== Version, struct sizes and stacks with settings (api_version.c) ====================
  * A program built against one version of this header may run with another shared library.
@@ -651,12 +713,14 @@ EW_API size_t ew_state_size(void);
 EW_API size_t ew_line_size(void);
 EW_API size_t ew_sweep_options_size(void);
 EW_API size_t ew_dispersion_options_size(void);
+EW_API size_t ew_gain_options_size(void);
 /* 1 when every public struct has the size this header gives it, else 0. */
 #define EW_ABI_CHECK()                                                                     \
   (ew_error_size() == sizeof(ew_error) && ew_options_size() == sizeof(ew_options) &&        \
    ew_state_size() == sizeof(ew_state) && ew_line_size() == sizeof(ew_line) &&              \
    ew_sweep_options_size() == sizeof(ew_sweep_options) &&                                    \
-   ew_dispersion_options_size() == sizeof(ew_dispersion_options))
+   ew_dispersion_options_size() == sizeof(ew_dispersion_options) &&                        \
+   ew_gain_options_size() == sizeof(ew_gain_options))
 
 /* Read a stack from text (as ew_stack_read_string) with keys[i] set to values[i], i < nkeys
  * (keys as in `epiwell sweep --vary`: "temperature", "grid_step", "well.thickness",

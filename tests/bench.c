@@ -314,6 +314,46 @@ static int bench_dispersion(void) {
   return 0;
 }
 
+/* 7. gain spectra of examples/emitter_well.cfg (8 nm GaAs, 1161 nodes) at ten densities,
+ * defaults: 4-band holes to 0.8 /nm at 65 k points, 301 photon energies (target < 1 s) */
+static int bench_gain(void) {
+  ew_catalogue *cat = NULL;
+  ew_stack *st = NULL;
+  ew_gain *g = NULL;
+  ew_error e;
+  if (ew_catalogue_load("materials", &cat, &e) ||
+      ew_stack_read_file("examples/emitter_well.cfg", cat, &st, &e) || ew_gain_create(&g, &e)) {
+    printf("gain: setup failed: %s\n", e.message);
+    return 1;
+  }
+  ew_gain_options o;
+  ew_gain_options_default(&o);
+  o.density_from_cm2 = 1e12, o.density_to_cm2 = 1e13, o.density_step_cm2 = 1e12;
+  double t0 = now(), c0 = (double)clock() / CLOCKS_PER_SEC;
+  ew_status rc = ew_gain_compute(g, st, &o, &e);
+  double t1 = now(), c1 = (double)clock() / CLOCKS_PER_SEC;
+  /* the k·p part alone (the same dispersion the gain runs), to show where the time goes */
+  ew_dispersion *d = NULL;
+  ew_dispersion_options dp;
+  ew_dispersion_options_default(&dp);
+  dp.axial = 1, dp.kmax_inv_nm = o.kmax_inv_nm, dp.points = o.k_points;
+  double c2 = (double)clock() / CLOCKS_PER_SEC;
+  if (!rc && !(rc = ew_dispersion_create(&d, &e))) rc = ew_dispersion_compute(d, st, &dp, &e);
+  double c3 = (double)clock() / CLOCKS_PER_SEC;
+  ew_dispersion_free(d);
+  if (rc) printf("gain: failed: %s\n", e.message);
+  else
+    printf("gain spectra, examples/emitter_well.cfg, %zu densities x %zu energies (4-band "
+           "holes, 65 k points): %.3f s wall, %.3f s CPU (target < 1 s, ratio %.2f); of it "
+           "the k.p dispersion %.3f s CPU, the rest (matrix elements, Fermi levels, spectra, "
+           "transparency) %.3f s\n", ew_gain_density_count(g), ew_gain_energy_count(g), t1 - t0,
+           c1 - c0, (t1 - t0) / 1.0, c3 - c2, (c1 - c0) - (c3 - c2));
+  ew_gain_free(g);
+  ew_stack_free(st);
+  ew_catalogue_free(cat);
+  return rc != EW_OK;
+}
+
 int main(int argc, char **argv) {
 #ifdef __GLIBC__
   /* as the CLI does (src/cli.c): keep freed arrays in the heap between solves */
@@ -322,9 +362,11 @@ int main(int argc, char **argv) {
 #endif
   const char *cli = argc > 1 ? argv[1] : "build/epiwell";
   if (argc > 2 && !strcmp(argv[2], "reader")) return bench_reader(); /* part 5 alone */
+  if (argc > 2 && !strcmp(argv[2], "gain")) return bench_gain();     /* part 7 alone */
   if (bench_superlattice() != 0 || bench_single_well(cli) != 0 || bench_sweep_throughput() != 0)
     return 1;
   if (bench_self_consistent() != 0) return 1;
   if (bench_reader()) return 1;
-  return bench_dispersion();
+  if (bench_dispersion()) return 1;
+  return bench_gain();
 }

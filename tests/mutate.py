@@ -144,6 +144,15 @@ MUTANTS = [
     ("kp_dir", "src/dispersion.c", "cy = o->direction == 100 ? 0.0 : sqrt(0.5);", "cy = o->direction == 100 ? 0.0 : 0.0;", "[110] samples [100]"),
     ("kp_json_band", "src/dispersion_output.c", 'ew_json_key_str(&j, "band", ew_dispersion_character_name(d->character[s]));', 'ew_json_key_str(&j, "band", ew_dispersion_character_name(0));', "band always hh"),
     ("kp_csv_k", "src/dispersion_output.c", 'fprintf(out, "%.10g", d->k_inv_nm[i]);', 'fprintf(out, "%.10g", d->k_inv_nm[i ? i - 1 : 0]);', "CSV k column shifted"),
+    # material gain (src/gain*.c)
+    ("gn_json_dF", "src/gain_output.c", 'ew_json_key_num(&j, "fermi_separation_eV", g->fermi_c_eV[d] - g->fermi_v_eV[d]);', 'ew_json_key_num(&j, "fermi_separation_eV", g->fermi_c_eV[d]);', "fermi_separation prints Fc"),
+    ("gn_json_tm", "src/gain_output.c", 'num_array(&j, "gain_tm_cm", g->gain_tm + at, g->ne_pts);', 'num_array(&j, "gain_tm_cm", g->gain_te + at, g->ne_pts);', "gain_tm prints TE"),
+    ("gn_csv_swap", "src/gain_output.c", 'g->energy_eV[i], g->gain_te[at],\n              g->gain_tm[at], g->spont[at]);', 'g->energy_eV[i], g->gain_tm[at],\n              g->gain_te[at], g->spont[at]);', "CSV TE and TM columns swapped"),
+    ("gn_pref", "src/gain_spectrum.c", '(2.0 * n_r * EW_C_MS * EW_EPS0_FM * EW_M0_KG * g->well_nm * 1e-9) * 1e18 * 0.01;', '(2.0 * n_r * EW_C_MS * EW_EPS0_FM * EW_M0_KG * g->well_nm * 1e-9) * 1e18 * 0.0101;', "gain prefactor off by 1 %"),
+    ("gn_sp_avg", "src/gain_spectrum.c", 'double wsp = ds * (2.0 * te + tm) / 3.0 * fc * (1.0 - fv);', 'double wsp = ds * (te + tm) / 2.0 * fc * (1.0 - fv);', "spontaneous emission polarisation average"),
+    ("gn_tm", "src/gain.c", 'if (r % 3 == 2) tm += a2;', 'if (r % 3 == 1) tm += a2;', "TM takes the y component"),
+    ("gn_hole_tail", "src/gain_fermi.c", 'p += m * kT / (2.0 * EW_PI * 2.0 * EW_HB2M0_EVNM2) * ew_gain_softplus((E[N] - Fv) / kT);', 'p += m * kT / (2.0 * EW_PI * 2.2 * EW_HB2M0_EVNM2) * ew_gain_softplus((E[N] - Fv) / kT);', "hole tail beyond kmax 10 % short"),
+    ("gn_sech", "src/gain_spectrum.c", 'g->o.lorentzian ? 2.0 : 2.0 * acosh(2.0))};', 'g->o.lorentzian ? 2.0 : 2.0)};', "secant width without arcosh 2"),
     ("line_name", "src/line_name.c", 'for (int b = 0; b < (int)band; b++) off += r->band_count[b];', 'for (int b = 0; b < (int)band; b++) off += r->band_count[0];', "level index offset uses e count"),
     # sharded sweeps joined (src/sweep_merge.c), progress and cancelling (src/progress.c, …)
     ("mg_count", "src/sweep_merge.c", '"count\\":%zu}%s", pt[0].pre,\n            pt[0].total,', '"count\\":%zu}%s", pt[0].pre,\n            pt[0].total - 1,', "merged JSON's shard count one short"),

@@ -224,6 +224,32 @@ static void minibands_job(const void *ctx, outcome *out) {
   ew_minibands_free(mb);
 }
 
+/* The gain spectra (gain*.c over the solve and the 4-band dispersion with its matrix
+ * elements): every TE, TM and spontaneous value at two densities, the transparency. */
+static void gain_job(const void *ctx, outcome *out) {
+  const ew_stack *st = ctx;
+  ew_gain *g = NULL;
+  ew_error err;
+  out->len = 0;
+  out->rc = ew_gain_create(&g, &err);
+  ew_gain_options o;
+  ew_gain_options_default(&o);
+  o.k_points = 9, o.kmax_inv_nm = 0.1;
+  o.density_from_cm2 = 2e12, o.density_to_cm2 = 3e12;
+  o.energy_step_eV = 0.02;
+  if (out->rc == EW_OK) out->rc = ew_gain_compute(g, st, &o, &err);
+  double t = ew_gain_transparency_density_cm2(g);
+  if (out->rc == EW_OK) memcpy(out->bytes, &t, sizeof t), out->len = sizeof t;
+  for (size_t d = 0; out->rc == EW_OK && d < ew_gain_density_count(g); d++)
+    for (size_t i = 0; i < ew_gain_energy_count(g); i++) {
+      double v[3] = {ew_gain_te_cm(g, d, i), ew_gain_tm_cm(g, d, i), ew_gain_spontaneous(g, d, i)};
+      if (out->len + sizeof v > sizeof out->bytes) break;
+      memcpy(out->bytes + out->len, v, sizeof v);
+      out->len += sizeof v;
+    }
+  ew_gain_free(g);
+}
+
 #if FAULTS_POSSIBLE
 /* Run job with the k-th allocation failing (k = 0: none); returns the count seen. */
 static long run_armed(job_fn job, const void *ctx, long k, outcome *out) {
@@ -552,21 +578,39 @@ static void faults_dispersion(void **state) {
 #endif
 }
 
+#if FAULTS_POSSIBLE
+/* job over a well of w_nm GaAs between two b_nm Al0.3Ga0.7As layers on the coarse job grid,
+ * every allocation failing in turn; the number of bad outcomes. */
+static int narrow_well_faults(const char *what, job_fn job, double b_nm, double w_nm) {
+  char text[512];
+  snprintf(text, sizeof text,
+           "temperature = 300.0;\ngrid_step = %s;\nlayers = (\n"
+           "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = %g; },\n"
+           "  { name = \"well\"; material = \"GaAs\"; thickness = %g; },\n"
+           "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = %g; }\n);\n",
+           job_grid(), b_nm, w_nm, b_nm);
+  ew_stack *st = read_stack(text);
+  int bad = every_fault(what, job, st);
+  ew_stack_free(st);
+  return bad;
+}
+#endif
+
 /* The minibands of a short period (barrier halves around a well) on the coarse job grid. */
 static void faults_minibands(void **state) {
   (void)state;
 #if FAULTS_POSSIBLE
-  char text[512];
-  snprintf(text, sizeof text,
-           "temperature = 300.0;\ngrid_step = %s;\nlayers = (\n"
-           "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 1.5; },\n"
-           "  { name = \"well\"; material = \"GaAs\"; thickness = 4.0; },\n"
-           "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 1.5; }\n);\n",
-           job_grid());
-  ew_stack *st = read_stack(text);
-  int bad = every_fault("minibands", minibands_job, st);
-  ew_stack_free(st);
-  assert_int_equal(bad, 0);
+  assert_int_equal(narrow_well_faults("minibands", minibands_job, 1.5, 4.0), 0);
+#else
+  skip();
+#endif
+}
+
+/* The gain model on a 6 nm well. */
+static void faults_gain(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  assert_int_equal(narrow_well_faults("gain", gain_job, 4.0, 6.0), 0);
 #else
   skip();
 #endif
@@ -582,11 +626,12 @@ int main(void) {
       cmocka_unit_test(faults_match_merge),
       cmocka_unit_test(faults_dispersion),
       cmocka_unit_test(faults_minibands),
+      cmocka_unit_test(faults_gain),
       cmocka_unit_test(faults_repeat_build),
   };
 #if !FAULTS_POSSIBLE
   (void)solve_job, (void)sweep_job, (void)build_job, (void)merge_job, (void)dispersion_job,
-      (void)minibands_job, (void)read_stack,
+      (void)minibands_job, (void)gain_job, (void)read_stack,
       (void)well_text, (void)job_grid; /* skipped */
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
