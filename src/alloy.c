@@ -365,8 +365,10 @@ static ew_status bands_wurtzite(const ew_catalogue *cat, const ew_cat_entry *e, 
   if (ew_wurtzite_bands(&in, a_sub_nm, &wb, &sub))
     return ew_fail(err, EW_ERR_CATALOGUE, e->path, 0, "%s at x = %g: %s", e->name, x,
                    sub.message);
-  /* nitride gaps have no X or L data: the Γ gap stands for all three (no indirect warning) */
-  out->Eg_X_eV = out->Eg_L_eV = out->Eg_G_eV;
+  /* nitride gaps: no X or L data in the catalogue (0 = unknown, as for a zinc-blende
+     entry without them) */
+  out->Eg_X_eV = out->Eg_L_eV = 0.0;
+  out->c_nm = p->have[EW_P_CLC] ? p->v[EW_P_CLC] / 10.0 : 0.0;
   out->Ev_eV = p->v[EW_P_VBO];
   out->Ec_eV = out->Ev_eV + out->Eg_G_eV + wb.dEc_eV;
   out->Ev_hh_eV = out->Ev_eV + wb.E_eV[0];
@@ -400,6 +402,11 @@ static ew_status bands_wurtzite(const ew_catalogue *cat, const ew_cat_entry *e, 
                    "%s at x = %g on a template a = %g nm: no gap (Ec = %g, Ev_hh = %g eV) or "
                    "electron mass %g", e->name, x, a_sub_nm, out->Ec_eV, out->Ev_hh_eV, out->me);
   return EW_OK;
+}
+
+double ew_bands_monolayer_nm(const ew_bands *b) {
+  if (b->wurtzite) return b->c_nm > 0 ? 0.5 * b->c_nm * (1.0 + b->eps_perp) : 0.0;
+  return b->a_nm > 0 ? 0.5 * b->a_nm * (1.0 + b->eps_perp) : 0.0;
 }
 
 /* Unstrained band parameters of entry e at (x, y, T); (x, y, T) already checked. */

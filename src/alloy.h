@@ -82,7 +82,13 @@ typedef struct {
   int wurtzite;
   double Ev_ch_eV, mch_z, mch_par;
   double Psp_C_m2, Ppz_C_m2;
+  double c_nm;             /* wurtzite lattice constant c, nm (0 zinc blende or unknown) */
 } ew_bands;
+
+/* One monolayer along the growth axis, nm: half the strained growth-axis lattice constant,
+ * a (1 + ε⊥)/2 for [001] zinc blende, c (1 + ε_zz)/2 for c-plane wurtzite (two atomic
+ * bilayers per c); 0 when the lattice constant is unknown. */
+double ew_bands_monolayer_nm(const ew_bands *b);
 
 /* Parameters at composition x in [0,1].  Fails (EW_ERR_INPUT) for an unknown name, x out
  * of range, or a quaternary (which needs y: ew_material_params2). */

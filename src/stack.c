@@ -782,12 +782,12 @@ static ew_status resolve_layer_bands(reader *r, ew_layer *L, double T, const lay
       return fail(r, ll->line, "layer '%s' (%s%s): %s", L->name, L->material,
                   k < 0 ? "" : ", along its grade", why);
   if (!ll->got_ml) return EW_OK;
-  /* one monolayer of [001] zincblende is half the lattice constant along the growth axis */
-  if (!(L->bands.a_nm > 0))
+  /* one monolayer: half the growth-axis lattice constant (ew_bands_monolayer_nm) */
+  if (!(ew_bands_monolayer_nm(&L->bands) > 0))
     return fail(r, ll->thickness_ml, "layer '%s': thickness_ml needs a lattice constant, which "
                 "'%s' does not have; give 'thickness' in nm", L->name, L->material);
   /* pseudomorphic: the growth-axis lattice constant is a (1 + ε⊥) */
-  L->thickness_nm = L->thickness_ml * 0.5 * L->bands.a_nm * (1.0 + L->bands.eps_perp);
+  L->thickness_nm = L->thickness_ml * ew_bands_monolayer_nm(&L->bands);
   if (L->thickness_nm < MIN_LAYER_NM) /* robustness: see MIN_LAYER_NM */
     return fail(r, ll->thickness_ml, "layer '%s': %g ML is %g nm, below the %g nm minimum",
                 L->name, L->thickness_ml, L->thickness_nm, MIN_LAYER_NM);
