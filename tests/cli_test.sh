@@ -428,6 +428,13 @@ if [ "$rc" -eq 0 ] && [ -s "$tmp/hemt.html" ] && grep -q "^Polarisation" "$tmp/o
 else
   nok "nitride solve with --report: table with the polarisation section, report written" "$(ran "$bin" solve algan_hemt.cfg --report)"
 fi
+run "$bin" match "$root/examples/ingan_led.cfg" --vary well.thickness=2:4 --line e1-hh1 --target 450nm
+t450=$(awk '$1 == "1" { print $2 }' "$tmp/out")
+if [ "$rc" -eq 0 ] && awk -v t="$t450" 'BEGIN { exit !(t > 2.5 && t < 4) }'; then
+  ok "nitride match: e1-hh1 at 450 nm needs a wider well than the 439 nm of 2.5 nm (QCSE red shift; found $t450 nm)"
+else
+  nok "nitride match: e1-hh1 at 450 nm needs a wider well than 2.5 nm" "$(ran "$bin" match ingan_led.cfg)" "thickness '$t450'"
+fi
 run "$bin" materials AlGaN --x 0.3 --substrate GaN
 if [ "$rc" -eq 0 ] && grep -q "^Psp  *-0.04681 " "$tmp/out" && grep -q "^mch_z " "$tmp/out"; then
   ok "materials AlGaN: Psp(0.3) = -0.04681 C/m2 (Ambacher et al. 2002 non-linear law) and the crystal-field hole"
