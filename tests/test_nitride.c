@@ -459,6 +459,108 @@ static void json_roundtrip(void **state) {
   ew_stack_free(st);
 }
 
+/* The numbers of the td cells of table id in html, row by row after the name cells: the
+ * report's polarisation tables read back (*n numbers; 0 when the table is absent). */
+static size_t report_cells(const char *html, const char *id, double *out, size_t max) {
+  char key[96];
+  snprintf(key, sizeof key, "<table id=\"%s\">", id);
+  const char *p = strstr(html, key), *end = p ? strstr(p, "</table>") : NULL;
+  size_t n = 0;
+  while (p && end && (p = strstr(p, "<td class=\"n\">")) && p < end && n < max) {
+    p += strlen("<td class=\"n\">");
+    out[n++] = strtod(p, NULL);
+  }
+  return n;
+}
+
+/* The report's polarisation section: every cell read back and compared with the library's
+ * values to the printed decimals (5 for charges, 1 for fields). */
+static void report_roundtrip(void **state) {
+  (void)state;
+  char text[1024];
+  snprintf(text, sizeof text, hemt_fmt, 1.23, 0.3, 25.0);
+  ew_stack *st = read_text(text);
+  ew_result *r = solve(st);
+  assert_non_null(r);
+  char dir[] = "/tmp/ew_nitride_rep_XXXXXX";
+  assert_non_null(mkdtemp(dir));
+  char path[256];
+  snprintf(path, sizeof path, "%s/r.html", dir);
+  ew_error err;
+  assert_int_equal(ew_result_write_report(r, cat, path, &err), EW_OK);
+  char *html = rt_slurp(path);
+  assert_non_null(html);
+  double v[64];
+  size_t n = report_cells(html, "polarization-table", v, 64);
+  assert_int_equal(n, 4 * st->n_layers);
+  for (size_t k = 0; k < st->n_layers; k++) {
+    const ew_layer *ly = &st->layers[k];
+    TU_NEAR(v[4 * k], ly->bands.Psp_C_m2, rt_tol_fix(ly->bands.Psp_C_m2, 5), "report P_sp");
+    TU_NEAR(v[4 * k + 1], ly->bands.Ppz_C_m2, rt_tol_fix(ly->bands.Ppz_C_m2, 5), "report P_pz");
+    TU_NEAR(v[4 * k + 2], ly->polarization_C_m2, rt_tol_fix(ly->polarization_C_m2, 5), "report P");
+    double F = ew_result_layer_field_kV_cm(r, k);
+    TU_NEAR(v[4 * k + 3], F, rt_tol_fix(F, 1), "report field");
+  }
+  n = report_cells(html, "interface-charge-table", v, 64);
+  assert_int_equal(n, 2 * (st->n_layers - 1));
+  for (size_t k = 0; k + 1 < st->n_layers; k++) {
+    double b = ew_interface_bound_C_m2(st, k), c = ew_interface_charge_C_m2(st, k);
+    TU_NEAR(v[2 * k], b, rt_tol_fix(b, 5), "report bound charge");
+    TU_NEAR(v[2 * k + 1], c, rt_tol_fix(c, 5), "report screened charge");
+  }
+  free(html);
+  tu_rm_tree(dir);
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
+/* The terminal table's "Polarisation" section read back: each layer row (P_sp, P_pz to 5
+ * decimals, field to 1) and each interface row (z to 3, bound and screened charge to 5, the
+ * screened charge in e/cm² to 4 significant digits), compared with the library's values. */
+static void table_roundtrip(void **state) {
+  (void)state;
+  ew_stack *st = mqw(3e12, 8.0, 3.0);
+  ew_result *r = solve(st);
+  assert_non_null(r);
+  char *buf = NULL;
+  size_t len = 0;
+  FILE *f = open_memstream(&buf, &len);
+  ew_error err;
+  assert_int_equal(ew_result_write_table(r, f, &err), EW_OK);
+  fclose(f);
+  const char *p = strstr(buf, "\nPolarisation (");
+  assert_non_null(p);
+  p = strchr(p + 1, '\n') + 1; /* the layer header */
+  p = strchr(p, '\n') + 1;
+  for (size_t k = 0; k < st->n_layers; k++) {
+    char name[64];
+    double psp, ppz, F;
+    assert_int_equal(sscanf(p, "%63s %lf %lf %lf", name, &psp, &ppz, &F), 4);
+    assert_string_equal(name, st->layers[k].name);
+    TU_NEAR(psp, st->layers[k].bands.Psp_C_m2, rt_tol_fix(psp, 5), "table P_sp");
+    TU_NEAR(ppz, st->layers[k].bands.Ppz_C_m2, rt_tol_fix(ppz, 5), "table P_pz");
+    TU_NEAR(F, ew_result_layer_field_kV_cm(r, k), rt_tol_fix(F, 1), "table field");
+    p = strchr(p, '\n') + 1;
+  }
+  p = strchr(p, '\n') + 1; /* the interface header */
+  for (size_t k = 0; k + 1 < st->n_layers; k++) {
+    char a[64], b[64];
+    double z, bound, sheet, cm2;
+    assert_int_equal(sscanf(p, "%63s %63s %lf %lf %lf %lf", a, b, &z, &bound, &sheet, &cm2), 6);
+    assert_string_equal(a, st->layers[k].name);
+    assert_string_equal(b, st->layers[k + 1].name);
+    double s0 = ew_interface_bound_C_m2(st, k), s1 = ew_interface_charge_C_m2(st, k);
+    TU_NEAR(z, st->layers[k + 1].z_start_nm, rt_tol_fix(z, 3), "table z");
+    TU_NEAR(bound, s0, rt_tol_fix(s0, 5), "table bound charge");
+    TU_NEAR(sheet, s1, rt_tol_fix(s1, 5), "table screened charge");
+    TU_NEAR(cm2, s1 / EW_E_C * 1e-4, rt_tol_sig(s1 / EW_E_C * 1e-4, 4), "table charge in e/cm2");
+    p = strchr(p, '\n') + 1;
+  }
+  free(buf);
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
 /* Stacks mixing structures and graded wurtzite layers are refused at the layer's line. */
 static void stack_refusals(void **state) {
   (void)state;
@@ -480,7 +582,7 @@ int main(void) {
       cmocka_unit_test(masses_band_edge),       cmocka_unit_test(periodic_field),
       cmocka_unit_test(screening_blue_shift),   cmocka_unit_test(qcse_red_shift),
       cmocka_unit_test(hemt_sheet_density),     cmocka_unit_test(json_roundtrip),
-      cmocka_unit_test(stack_refusals),
+      cmocka_unit_test(report_roundtrip),       cmocka_unit_test(table_roundtrip),       cmocka_unit_test(stack_refusals),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
