@@ -97,7 +97,8 @@ static void table_polarization(const ew_result *r, FILE *out) {
   const ew_stack *st = r->stack;
   if (!st->polarized) return;
   int wn = name_width(st, 0);
-  fprintf(out, "\nPolarisation (c plane, +z = [0001]; field %s%s)\n",
+  fprintf(out, "\nPolarisation (c plane, [0001] along %s; P_sp, P_pz along [0001]; field along +z %s%s)\n",
+          st->c_sign > 0 ? "+z" : "-z",
           st->pol_in_poisson ? "of the self-consistent potential"
                              : "of the interface charges, zero drop over the stack",
           st->screening_sheet_cm2 > 0 ? "; wells screened" : "");
