@@ -28,8 +28,9 @@ double ew_interface_bound_C_m2(const ew_stack *st, size_t k) {
 double ew_interface_charge_C_m2(const ew_stack *st, size_t k) {
   double s = ew_interface_bound_C_m2(st, k);
   if (!(st->screening_sheet_cm2 > 0.0)) return s;
-  /* interface k is the right face of layer k and the left face of layer k + 1 */
-  int faces = is_well(st, k) + is_well(st, k + 1);
+  /* interface k is the right face of layer k and the left face of layer k + 1; at most one
+     of them is a well (a well's neighbours have wider gaps), none at a step between barriers */
+  int faces = is_well(st, k) || is_well(st, k + 1);
   double cut = faces * EW_E_C * st->screening_sheet_cm2 * 1e4; /* C/m² */
   double mag = fmax(fabs(s) - cut, 0.0);
   return s < 0 ? -mag : mag;

@@ -254,6 +254,17 @@ static void screening_blue_shift(void **state) {
   double dP = b->polarization_C_m2 - w->polarization_C_m2 + EW_E_C * n * 1e4;
   double Fw = dP * Lb / (EW_EPS0_FM * (w->bands.eps_r * Lb + b->bands.eps_r * Lw)) * 1e-5;
   TU_NEAR(w->pol_field_kV_cm, Fw, 1e-9 * fabs(Fw), "periodic formula with screened charges");
+  /* a step between two barriers (AlGaN/GaN) is no well face: its charge stays unscreened */
+  ew_stack *s2 = read_text("temperature = 300.0;\nsubstrate = \"GaN\";\nscreening_sheet = 5e12;\n"
+                           "layers = (\n { material = \"AlGaN\"; x = 0.1; thickness = 5; },\n"
+                           " { material = \"GaN\"; thickness = 5; },\n"
+                           " { material = \"InGaN\"; x = 0.15; thickness = 3; },\n"
+                           " { material = \"GaN\"; thickness = 5; }\n);\n");
+  assert_non_null(s2);
+  TU_NEAR(ew_interface_charge_C_m2(s2, 0), ew_interface_bound_C_m2(s2, 0), 1e-15, "no well face");
+  double b1 = ew_interface_bound_C_m2(s2, 1);
+  TU_NEAR(fabs(ew_interface_charge_C_m2(s2, 1)), fabs(b1) - EW_E_C * n * 1e4, 1e-12, "well face screened");
+  ew_stack_free(s2);
   ew_result *r0 = solve(s0), *r1 = solve(s1);
   assert_non_null(r0);
   assert_non_null(r1);
