@@ -14,6 +14,7 @@
 
 #include "error.h"
 #include "strain.h"
+#include "strain_wurtzite.h"
 
 #include <math.h>
 #include <string.h>
@@ -333,6 +334,81 @@ double ew_kane_edge_mass(double me0, double Ep, double Dso, double Eg0, double E
   return inv > 0.0 ? 1.0 / inv : me0;
 }
 
+/* A wurtzite entry's band parameters at (x, T) on a template a_sub_nm (<= 0: unstrained):
+ * gap by Varshni and bowing, edges and masses of strain_wurtzite.h, polarisation. */
+static ew_status bands_wurtzite(const ew_catalogue *cat, const ew_cat_entry *e, double x,
+                                double T_K, const ew_params *p, double a_sub_nm,
+                                ew_bands *out, ew_error *err) {
+  int strained = a_sub_nm > 0.0;
+  static const ew_param need_s[] = {EW_P_ALC, EW_P_C13, EW_P_C33, EW_P_WA1, EW_P_WA2, EW_P_D1,
+                                    EW_P_D2,  EW_P_D3,  EW_P_D4,  EW_P_E31, EW_P_E33};
+  for (size_t k = 0; strained && k < sizeof need_s / sizeof need_s[0]; k++)
+    if (!p->have[need_s[k]])
+      return ew_fail(err, EW_ERR_CATALOGUE, e->path, 0,
+                     "%s lacks %s (needed for the strain on a template)", e->name,
+                     ew_param_key(need_s[k]));
+  memset(out, 0, sizeof *out);
+  out->wurtzite = 1;
+  if (!ew_entry_value(cat, e, -1, 0, x, 0.0, T_K, &out->Eg_G_eV) || !(out->Eg_G_eV > 0.0))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "%s at x = %g, T = %g K has a gap of %g eV (must be > 0)", e->name, x, T_K,
+                   out->Eg_G_eV);
+  ew_wz_input in = {.a_nm = p->v[EW_P_ALC] / 10.0, .c13_kbar = p->v[EW_P_C13],
+                    .c33_kbar = p->v[EW_P_C33], .a1_eV = p->v[EW_P_WA1],
+                    .a2_eV = p->v[EW_P_WA2], .Dcr_eV = p->v[EW_P_DCR], .Dso_eV = p->v[EW_P_DSO],
+                    .e31_C_m2 = p->v[EW_P_E31], .e33_C_m2 = p->v[EW_P_E33]};
+  for (int k = 0; k < 4; k++) in.D_eV[k] = p->v[EW_P_D1 + k];
+  for (int k = 0; k < 6; k++) in.A[k] = p->v[EW_P_A1 + k];
+  ew_wz_bands wb;
+  ew_error sub;
+  memset(&sub, 0, sizeof sub);
+  if (ew_wurtzite_bands(&in, a_sub_nm, &wb, &sub))
+    return ew_fail(err, EW_ERR_CATALOGUE, e->path, 0, "%s at x = %g: %s", e->name, x,
+                   sub.message);
+  /* nitride gaps: no X or L data in the catalogue (0 = unknown, as for a zinc-blende
+     entry without them) */
+  out->Eg_X_eV = out->Eg_L_eV = 0.0;
+  out->c_nm = p->have[EW_P_CLC] ? p->v[EW_P_CLC] / 10.0 : 0.0;
+  out->Ev_eV = p->v[EW_P_VBO];
+  out->Ec_eV = out->Ev_eV + out->Eg_G_eV + wb.dEc_eV;
+  out->Ev_hh_eV = out->Ev_eV + wb.E_eV[0];
+  out->Ev_lh_eV = out->Ev_eV + wb.E_eV[1];
+  out->Ev_ch_eV = out->Ev_eV + wb.E_eV[2];
+  out->me = p->v[EW_P_ME];
+  out->mhh_z = wb.m_z[0], out->mhh_par = wb.m_t[0];
+  out->mlh_z = wb.m_z[1], out->mlh_par = wb.m_t[1];
+  out->mch_z = wb.m_z[2], out->mch_par = wb.m_t[2];
+  out->eps_r = p->have[EW_P_EPS_S] ? p->v[EW_P_EPS_S] : 0.0;
+  out->a_nm = p->have[EW_P_ALC] ? p->v[EW_P_ALC] / 10.0 : 0.0;
+  out->Dso_eV = p->v[EW_P_DSO];
+  out->c11_kbar = p->have[EW_P_C11] ? p->v[EW_P_C11] : 0.0;
+  out->c12_kbar = p->have[EW_P_C12] ? p->v[EW_P_C12] : 0.0;
+  out->eps_par = wb.eps_xx;
+  out->eps_perp = wb.eps_zz;
+  out->dEc_strain_eV = wb.dEc_eV;
+  /* the shifts from the unstrained edges (the unstrained top is Ev_eV) */
+  ew_wz_bands w0;
+  if (strained && ew_wurtzite_bands(&in, 0.0, &w0, &sub) == EW_OK) {
+    out->dEhh_strain_eV = wb.E_eV[0] - w0.E_eV[0];
+    out->dElh_strain_eV = wb.E_eV[1] - w0.E_eV[1];
+  }
+  /* Matthews–Blakeslee (60° dislocations of zinc blende) does not apply to the c plane */
+  out->critical_thickness_nm = INFINITY;
+  out->Psp_C_m2 = p->v[EW_P_PSP];
+  out->Ppz_C_m2 = wb.Ppz_C_m2;
+  if (!(out->me > 0.0) || !(out->Ec_eV > out->Ev_hh_eV && out->Ec_eV > out->Ev_lh_eV &&
+                            out->Ec_eV > out->Ev_ch_eV))
+    return ew_fail(err, EW_ERR_INPUT, NULL, 0,
+                   "%s at x = %g on a template a = %g nm: no gap (Ec = %g, Ev_hh = %g eV) or "
+                   "electron mass %g", e->name, x, a_sub_nm, out->Ec_eV, out->Ev_hh_eV, out->me);
+  return EW_OK;
+}
+
+double ew_bands_monolayer_nm(const ew_bands *b) {
+  if (b->wurtzite) return b->c_nm > 0 ? 0.5 * b->c_nm * (1.0 + b->eps_perp) : 0.0;
+  return b->a_nm > 0 ? 0.5 * b->a_nm * (1.0 + b->eps_perp) : 0.0;
+}
+
 /* Unstrained band parameters of entry e at (x, y, T); (x, y, T) already checked. */
 static ew_status bands_at(const ew_catalogue *cat, const ew_cat_entry *e, double x, double y,
                           double T_K, const ew_params *p, ew_bands *out, ew_error *err) {
@@ -465,6 +541,7 @@ ew_status ew_material_bands(const ew_catalogue *cat, const char *name, double x,
   if (st) return st;
   ew_params p;
   params_of(cat, e, x, 0.0, &p);
+  if (e->wurtzite) return bands_wurtzite(cat, e, x, T_K, &p, 0.0, out, err);
   return bands_at(cat, e, x, 0.0, T_K, &p, out, err);
 }
 
@@ -478,6 +555,7 @@ ew_status ew_material_bands_on(const ew_catalogue *cat, const char *name, double
                    a_sub_nm);
   ew_params p;
   params_of(cat, e, x, y, &p);
+  if (e->wurtzite) return bands_wurtzite(cat, e, x, T_K, &p, a_sub_nm, out, err);
   if ((st = bands_at(cat, e, x, y, T_K, &p, out, err))) return st;
   if (a_sub_nm <= 0.0) return EW_OK;
   return apply_strain(e, x, y, &p, a_sub_nm, out, err);

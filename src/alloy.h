@@ -74,7 +74,21 @@ typedef struct {
      unstrained) */
   double gamma3;
   double dE_shear_strain_eV;
+  /* wurtzite layers (strain_wurtzite.h; appended): wurtzite = 1, the solver's hh and lh bands
+     are the Γ9 (A) and upper Γ7 (B) valence bands (edges Ev_hh_eV, Ev_lh_eV, masses mhh_z …
+     mlh_par above: growth axis = c), the crystal-field split-off band is reported only (its
+     edge and masses below); eps_par = ε_xx, eps_perp = ε_zz; the polarisation along +z
+     (spontaneous, and piezoelectric from the strain), C/m² */
+  int wurtzite;
+  double Ev_ch_eV, mch_z, mch_par;
+  double Psp_C_m2, Ppz_C_m2;
+  double c_nm;             /* wurtzite lattice constant c, nm (0 zinc blende or unknown) */
 } ew_bands;
+
+/* One monolayer along the growth axis, nm: half the strained growth-axis lattice constant,
+ * a (1 + ε⊥)/2 for [001] zinc blende, c (1 + ε_zz)/2 for c-plane wurtzite (two atomic
+ * bilayers per c); 0 when the lattice constant is unknown. */
+double ew_bands_monolayer_nm(const ew_bands *b);
 
 /* Parameters at composition x in [0,1].  Fails (EW_ERR_INPUT) for an unknown name, x out
  * of range, or a quaternary (which needs y: ew_material_params2). */

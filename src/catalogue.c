@@ -34,12 +34,17 @@ static const char *const param_keys[EW_P_COUNT] = {
     "Eg_G",   "alpha_G", "beta_G",   "Eg_X",   "alpha_X", "beta_X",   "Eg_L",
     "alpha_L", "beta_L", "VBO",      "Delta_so", "me",    "gamma1",   "gamma2",
     "gamma3", "eps_static", "a_lattice", "Ep",  "F",       "a_c",      "a_v",
-    "b_shear", "d_shear", "c11",     "c12",    "c44",  "mhh",     "mlh"};
+    "b_shear", "d_shear", "c11",     "c12",    "c44",  "mhh",     "mlh",
+    "c_lattice", "c13",  "c33",      "Delta_cr", "A1",   "A2",      "A3",
+    "A4",     "A5",      "A6",       "a1",     "a2",      "D1",       "D2",
+    "D3",     "D4",      "Psp",      "e31",    "e33"};
 
 static const char *const param_units[EW_P_COUNT] = {
     "eV", "meV/K", "K", "eV", "meV/K", "K", "eV", "meV/K", "K", "eV", "eV", "m0", "-",
     "-",  "-",     "-", "Å",  "eV",    "-", "eV", "eV",    "eV", "eV", "kbar", "kbar", "kbar",
-    "m0", "m0"};
+    "m0", "m0",
+    "Å",  "kbar", "kbar", "eV", "-", "-", "-", "-", "-", "-", "eV", "eV", "eV", "eV", "eV",
+    "eV", "C/m2", "C/m2", "C/m2"};
 
 const char *ew_param_key(ew_param p) {
   return (p >= 0 && p < EW_P_COUNT) ? param_keys[p] : "?";
@@ -63,8 +68,17 @@ int ew_param_is_varshni(ew_param p) {
  * (the end binaries' gaps are taken at T instead). */
 int ew_param_is_hole_mass(ew_param p) { return p == EW_P_MHH || p == EW_P_MLH; }
 
+/* The A parameters too: Vurgaftman & Meyer 2003 interpolate them linearly (from memory). */
 int ew_param_no_bowing(ew_param p) {
-  return p == EW_P_GAMMA1 || p == EW_P_GAMMA2 || p == EW_P_GAMMA3 || ew_param_is_varshni(p);
+  return p == EW_P_GAMMA1 || p == EW_P_GAMMA2 || p == EW_P_GAMMA3 || ew_param_is_varshni(p) ||
+         (p >= EW_P_A1 && p <= EW_P_A6);
+}
+
+int ew_param_wurtzite_only(ew_param p) { return p >= EW_P_CLC && p <= EW_P_E33; }
+
+int ew_param_zincblende_only(ew_param p) {
+  return p == EW_P_GAMMA1 || p == EW_P_GAMMA2 || p == EW_P_GAMMA3 || p == EW_P_EP ||
+         p == EW_P_F || p == EW_P_AC || p == EW_P_AV || p == EW_P_B || p == EW_P_D;
 }
 
 /* ---- catalogue ------------------------------------------------------------------------ */
@@ -446,6 +460,8 @@ static ew_status check_range(const ew_cat_entry *e, ew_param p, int bowing, cons
                  "is beyond +-%g %s, the width of its plausible range", key, c0, c1, w, unit);
 }
 
+#define COUNT(a) (sizeof(a) / sizeof((a)[0]))
+
 /* Read the group "params" (binary, bowing = 0) or "bowing" (alloy, bowing = 1). */
 static ew_status read_params(const config_setting_t *grp, int bowing, const char *path,
                              ew_cat_entry *e, ew_error *err) {
@@ -465,11 +481,19 @@ static ew_status read_params(const config_setting_t *grp, int bowing, const char
       return ew_fail(err, EW_ERR_CATALOGUE, path, ln, "unknown parameter '%s' in %s%s", key,
                      what, mean_text(ew_text_nearest(key, param_keys, EW_P_COUNT), mean,
                                      sizeof mean));
+    if (e->wurtzite ? ew_param_zincblende_only((ew_param)p) : ew_param_wurtzite_only((ew_param)p))
+      return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
+                     "'%s' belongs to %s materials: this entry is %s (structure = \"%s\")", key,
+                     e->wurtzite ? "zinc-blende" : "wurtzite",
+                     e->wurtzite ? "wurtzite" : "zinc blende",
+                     e->wurtzite ? "wurtzite" : "zincblende");
     if (bowing && ew_param_no_bowing((ew_param)p))
       return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
                      "no bowing allowed for '%s': %s", key,
                      (p == EW_P_GAMMA1 || p == EW_P_GAMMA2 || p == EW_P_GAMMA3)
                          ? "Luttinger parameters are interpolated linearly"
+                         : (p >= EW_P_A1 && p <= EW_P_A6)
+                         ? "the wurtzite A parameters are interpolated linearly"
                          : "alloy gaps at T use the end binaries' Varshni parameters");
     if (!bowing && ew_param_is_hole_mass((ew_param)p))
       return ew_fail(err, EW_ERR_CATALOGUE, path, ln,
@@ -496,8 +520,15 @@ static ew_status read_params(const config_setting_t *grp, int bowing, const char
 /* Checks on a binary's values that the band calculation relies on. */
 static ew_status check_binary(const ew_cat_entry *e, const char *path, int root_line,
                               ew_error *err) {
-  static const ew_param need[] = {EW_P_EG_G, EW_P_VBO, EW_P_ME, EW_P_GAMMA1, EW_P_GAMMA2};
-  for (size_t k = 0; k < sizeof need / sizeof need[0]; k++)
+  static const ew_param need_zb[] = {EW_P_EG_G, EW_P_VBO, EW_P_ME, EW_P_GAMMA1, EW_P_GAMMA2};
+  /* a wurtzite binary needs what its band edges, masses and polarisation need
+   * (strain_wurtzite.h, polarization.h) */
+  static const ew_param need_wz[] = {EW_P_EG_G, EW_P_VBO, EW_P_ME,  EW_P_DSO, EW_P_DCR,
+                                     EW_P_A1,   EW_P_A2,  EW_P_A3,  EW_P_A4,  EW_P_A5,
+                                     EW_P_A6,   EW_P_PSP};
+  const ew_param *need = e->wurtzite ? need_wz : need_zb;
+  size_t n_need = e->wurtzite ? COUNT(need_wz) : COUNT(need_zb);
+  for (size_t k = 0; k < n_need; k++)
     if (!e->have[need[k]])
       return ew_fail(err, EW_ERR_CATALOGUE, path, root_line,
                      "binary '%s' lacks %s (needed for the band edges and masses)", e->name,
@@ -530,8 +561,6 @@ static ew_status check_binary(const ew_cat_entry *e, const char *path, int root_
   return EW_OK;
 }
 
-#define COUNT(a) (sizeof(a) / sizeof((a)[0]))
-
 /* The first of keys that root holds (*which = its key), or NULL. */
 static const config_setting_t *first_present(const config_setting_t *root,
                                              const char *const *keys, size_t n,
@@ -548,7 +577,7 @@ static const config_setting_t *first_present(const config_setting_t *root,
 
 static const char *const top_keys[] = {"name", "kind",   "description", "params",
                                        "first", "second", "x_is",        "bowing",
-                                       "y_is", "scheme", "binaries"};
+                                       "y_is", "scheme", "binaries",    "structure"};
 
 /* Every top-level setting must be one of top_keys (parameters belong in a group). */
 static ew_status check_top_keys(const config_setting_t *root, const char *path,
@@ -593,6 +622,20 @@ static ew_status read_kind(const config_setting_t *root, const char *path, ew_ca
   }
   free(kind);
   e->is_alloy = e->kind != EW_KIND_BINARY;
+  /* structure = "zincblende" (the default) | "wurtzite": which parameter set applies */
+  if (config_setting_get_member(root, "structure")) {
+    char *sv = NULL;
+    if ((st = get_string(root, "structure", 1, path, &sv, &e->structure_line, err))) return st;
+    if (strcmp(sv, "wurtzite") == 0) e->wurtzite = 1;
+    else if (strcmp(sv, "zincblende") != 0)
+      st = ew_fail(err, EW_ERR_CATALOGUE, path, e->structure_line,
+                   "structure must be \"zincblende\" or \"wurtzite\", not \"%s\"", sv);
+    free(sv);
+    if (st) return st;
+    if (e->wurtzite && e->kind == EW_KIND_QUATERNARY)
+      return ew_fail(err, EW_ERR_CATALOGUE, path, e->structure_line,
+                     "wurtzite quaternaries are not supported");
+  }
   return get_string(root, "description", e->kind != EW_KIND_ALLOY, path, &e->description,
                     NULL, err);
 }
@@ -962,6 +1005,17 @@ static ew_status resolve_alloy(const ew_catalogue *cat, ew_cat_entry *e, ew_erro
   if (e->i_first == e->i_second)
     return ew_fail(err, EW_ERR_CATALOGUE, e->path, e->second_line,
                    "alloy '%s' has the same end binary twice", e->name);
+  /* an alloy's structure (its own key, default zinc blende: its bowings were read against
+   * that key set) must be its binaries' */
+  int wa = cat->e[e->i_first].wurtzite, wb = cat->e[e->i_second].wurtzite;
+  if (wa != wb || e->wurtzite != wa)
+    return ew_fail(err, EW_ERR_CATALOGUE, e->path,
+                   e->structure_line ? e->structure_line : e->second_line,
+                   "alloy '%s' (%s) and its binaries must share one crystal structure: %s is "
+                   "%s, %s is %s%s", e->name, e->wurtzite ? "wurtzite" : "zinc blende",
+                   e->first, wa ? "wurtzite" : "zinc blende", e->second,
+                   wb ? "wurtzite" : "zinc blende",
+                   e->structure_line ? "" : " (give structure = \"wurtzite\" in the alloy)");
   return EW_OK;
 }
 

@@ -16,6 +16,17 @@
  *   Ep, F                     Kane energy (eV) and remote-band parameter F
  *   a_c, a_v, b_shear, d_shear deformation potentials, eV (sign convention of Vurgaftman 2001)
  *   c11, c12, c44             elastic constants, kbar = 10^8 Pa = 0.1 GPa (GaAs c11 = 1221)
+ * Wurtzite only (structure = "wurtzite"; refused for zinc blende, and the zinc-blende-only
+ * gamma1-3, Ep, F, a_c, a_v, b_shear, d_shear refused for wurtzite; strain_wurtzite.h):
+ *   c_lattice                 lattice constant c along the hexagonal axis at 300 K, Å
+ *   c13, c33                  elastic constants, kbar
+ *   Delta_cr                  crystal-field splitting Δcr, eV (Δso is Delta_so above)
+ *   A1 … A6                   valence-band (Rashba–Sheka–Pikus) parameters, units ħ²/2m0
+ *   a1, a2                    interband deformation potentials along / across c, eV
+ *   D1, D2, D3, D4            valence-band deformation potentials, eV
+ *   Psp                       spontaneous polarisation along +c (metal face), C/m²
+ *   e31, e33                  piezoelectric constants, C/m²
+ *   (me is the electron mass along c, taken isotropic)
  *
  * Catalogue kinds: "binary" (params), "alloy" = ternary (first, second, x_is, bowing; x is
  * the fraction of the first-named binary) and "quaternary" (description, x_is, y_is,
@@ -41,6 +52,11 @@ typedef enum {
    * parameters for binaries, and the quantities an alloy may bow (Vurgaftman 2001 give
    * hole-mass bowings, not γ bowings, e.g. for InGaAs); see ew_param_is_hole_mass */
   EW_P_MHH, EW_P_MLH,
+  /* wurtzite (appended: the indices above keep their values) */
+  EW_P_CLC, EW_P_C13, EW_P_C33, EW_P_DCR,
+  EW_P_A1, EW_P_A2, EW_P_A3, EW_P_A4, EW_P_A5, EW_P_A6,
+  EW_P_WA1, EW_P_WA2, EW_P_D1, EW_P_D2, EW_P_D3, EW_P_D4,
+  EW_P_PSP, EW_P_E31, EW_P_E33,
   EW_P_COUNT
 } ew_param;
 
@@ -96,6 +112,8 @@ typedef struct {
   char *name, *description, *x_is, *path;
   int is_alloy; /* 1 for ternary alloys and quaternaries: x is needed */
   int kind;     /* EW_KIND_* */
+  int wurtzite; /* structure = "wurtzite" (alloys: their binaries'); 0 zinc blende */
+  int structure_line;
   int name_line;
   /* binary: values; alloy: bowing C0 (v), C1 (per_x) */
   double v[EW_P_COUNT], per_x[EW_P_COUNT];
@@ -131,6 +149,10 @@ extern const ew_param ew_gap_param[3], ew_alpha_param[3], ew_beta_param[3];
 int ew_param_no_bowing(ew_param p);
 /* 1 for the [001] hole masses: never given by a binary (derived from γ1, γ2), only bowed. */
 int ew_param_is_hole_mass(ew_param p);
+/* 1 for parameters only a wurtzite entry may give (EW_P_CLC … EW_P_E33); 1 for those only a
+ * zinc-blende entry may give (γ1–γ3, Ep, F, a_c, a_v, b_shear, d_shear). */
+int ew_param_wurtzite_only(ew_param p);
+int ew_param_zincblende_only(ew_param p);
 /* 1 for the Varshni α, β (no bowing, and shown for alloys for display only). */
 int ew_param_is_varshni(ew_param p);
 

@@ -1,5 +1,6 @@
 /* grid.c — node placement and exact piecewise integrals of mass and potential. */
 #include "grid.h"
+#include "polarization.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -27,7 +28,8 @@ double ew_layer_mass(const ew_layer *ly, ew_band band) {
 static double field_slope(const ew_stack *st) { return st->field_kV_cm * 1e-4; }
 
 double ew_stack_field_eV(const ew_stack *st, double z) {
-  return field_slope(st) * (z - 0.5 * st->total_nm);
+  /* plus the static polarisation fields of an undoped wurtzite stack (polarization.h) */
+  return field_slope(st) * (z - 0.5 * st->total_nm) + ew_polarization_eV(st, z);
 }
 
 static double edge_of(const ew_bands *b, ew_band band) {
@@ -81,6 +83,10 @@ static double integrate(const ew_stack *st, ew_band band, int what, double a, do
     double F = field_slope(st), c = 0.5 * st->total_nm;
     double lin = 0.5 * ((b - c) * (b - c) - (a - c) * (a - c)); /* ∫ (z − c) dz */
     sum += (band == EW_BAND_E ? F : -F) * lin;
+  }
+  if (what == 1 && st->polarized) {
+    double u = ew_polarization_integral(st, a, b);
+    sum += band == EW_BAND_E ? u : -u;
   }
   return sum;
 }

@@ -111,8 +111,8 @@ static void print_bands(const ew_cat_entry *e, const ew_bands *bp, double T_K, d
     int show;
   } rows[] = {
       {"Eg_G(T)", b.Eg_G_eV, "eV", 1},
-      {"Eg_X(T)", b.Eg_X_eV, "eV", b.Eg_X_eV != 0.0},
-      {"Eg_L(T)", b.Eg_L_eV, "eV", b.Eg_L_eV != 0.0},
+      {"Eg_X(T)", b.Eg_X_eV, "eV", b.Eg_X_eV != 0.0 && !b.wurtzite},
+      {"Eg_L(T)", b.Eg_L_eV, "eV", b.Eg_L_eV != 0.0 && !b.wurtzite},
       {"Ec", b.Ec_eV, "eV", 1},
       {"Ev", b.Ev_eV, "eV", 1},
       {"Ev_hh", b.Ev_hh_eV, "eV", 1},
@@ -122,6 +122,12 @@ static void print_bands(const ew_cat_entry *e, const ew_bands *bp, double T_K, d
       {"mlh_z", b.mlh_z, "m0", 1},
       {"mhh_par", b.mhh_par, "m0", 1},
       {"mlh_par", b.mlh_par, "m0", 1},
+      /* wurtzite: the crystal-field split-off band and the polarisation (strain_wurtzite.h) */
+      {"Ev_ch", b.Ev_ch_eV, "eV", b.wurtzite},
+      {"mch_z", b.mch_z, "m0", b.wurtzite},
+      {"mch_par", b.mch_par, "m0", b.wurtzite},
+      {"Psp", b.Psp_C_m2, "C/m2", b.wurtzite},
+      {"Ppz", b.Ppz_C_m2, "C/m2", b.wurtzite},
       {"eps_r", b.eps_r, "-", b.eps_r != 0.0},
       {"a", b.a_nm, "nm", b.a_nm != 0.0},
       {"Ep", b.Ep_eV, "eV", b.Ep_eV != 0.0},
@@ -138,6 +144,19 @@ static void print_bands(const ew_cat_entry *e, const ew_bands *bp, double T_K, d
 /* The strain block: the pseudomorphic strain, its shifts, the top valence band and h_c. */
 static void print_strain(const ew_bands *bp, double a_sub_nm, FILE *out) {
   const ew_bands b = *bp;
+  if (b.wurtzite) {
+    fprintf(out, "\nstrain: pseudomorphic on the c plane, template a = %g nm (300 K)\n"
+                 "eps_par = eps_xx = (a_sub - a)/a; eps_perp = eps_zz = -2 (c13/c33) eps_xx; "
+                 "edges and Ppz = 2 eps_xx (e31 - e33 c13/c33)\nfrom src/strain_wurtzite.h\n",
+            a_sub_nm);
+    put_row(out, "eps_par", b.eps_par, "-");
+    put_row(out, "eps_perp", b.eps_perp, "-");
+    put_row(out, "dEc", b.dEc_strain_eV, "eV");
+    put_row(out, "dEhh", b.dEhh_strain_eV, "eV");
+    put_row(out, "dElh", b.dElh_strain_eV, "eV");
+    put_row(out, "Eg_hh", b.Ec_eV - b.Ev_hh_eV, "eV");
+    return;
+  }
   fprintf(out,
           "\nstrain: pseudomorphic on (001), substrate a = %g nm (lattice constants at 300 K)\n",
           a_sub_nm);

@@ -2,6 +2,7 @@
  * and CSV syntax comes from json_writer.c and csv_writer.c, the atomic file set from
  * atomic.c. */
 #include "output.h"
+#include "polarization.h"
 
 #include <errno.h>
 #include <math.h>
@@ -88,6 +89,31 @@ static void table_offsets(const ew_stack *st, FILE *out) {
     if (isfinite(in.conduction_share)) snprintf(sh, sizeof sh, "%.3f", in.conduction_share);
     fprintf(out, "  %-*s %-*s %10.3f %9.4f %9.4f %7s\n", wn, st->layers[k].name, wn,
             st->layers[k + 1].name, in.z_nm, in.dEc_eV, in.dEv_eV, sh);
+  }
+}
+
+/* Polarisation of a wurtzite stack: each layer's P and field, each interface's charges. */
+static void table_polarization(const ew_result *r, FILE *out) {
+  const ew_stack *st = r->stack;
+  if (!st->polarized) return;
+  int wn = name_width(st, 0);
+  fprintf(out, "\nPolarisation (c plane, [0001] along %s; P_sp, P_pz along [0001]; field along +z %s%s)\n",
+          st->c_sign > 0 ? "+z" : "-z",
+          st->pol_in_poisson ? "of the self-consistent potential"
+                             : "of the interface charges, zero drop over the stack",
+          st->screening_sheet_cm2 > 0 ? "; wells screened" : "");
+  fprintf(out, "  %-*s %12s %12s %12s\n", wn, "layer", "P_sp_C_m2", "P_pz_C_m2", "field_kV_cm");
+  for (size_t k = 0; k < st->n_layers; k++)
+    fprintf(out, "  %-*s %12.5f %12.5f %12.1f\n", wn, st->layers[k].name,
+            st->layers[k].bands.Psp_C_m2, st->layers[k].bands.Ppz_C_m2,
+            ew_result_layer_field_kV_cm(r, k));
+  fprintf(out, "  %-*s %-*s %10s %12s %12s %12s\n", wn, "first", wn, "second", "z_nm",
+          "bound_C_m2", "sheet_C_m2", "sheet_cm-2");
+  for (size_t k = 0; k + 1 < st->n_layers; k++) {
+    double s = ew_interface_charge_C_m2(st, k);
+    fprintf(out, "  %-*s %-*s %10.3f %12.5f %12.5f %12.4g\n", wn, st->layers[k].name, wn,
+            st->layers[k + 1].name, st->layers[k + 1].z_start_nm,
+            ew_interface_bound_C_m2(st, k), s, s / EW_E_C * 1e-4);
   }
 }
 
@@ -209,6 +235,7 @@ void ew_output_table(const ew_result *r, FILE *out) {
   table_head(r, out);
   table_layers(r->stack, out);
   table_offsets(r->stack, out);
+  table_polarization(r, out);
   table_levels(r, out);
   table_lines(r, out);
   if (r->sp) table_sp(r, out);
@@ -221,7 +248,8 @@ void ew_output_table(const ew_result *r, FILE *out) {
 }
 
 /* ---- JSON (README "Output reference"; the writer places the commas) ------------------- */
-static void json_layers(ew_json *j, const ew_stack *st) {
+static void json_layers(ew_json *j, const ew_result *r) {
+  const ew_stack *st = r->stack;
   ew_json_key(j, "layers");
   ew_json_begin_array(j);
   for (size_t k = 0; k < st->n_layers; k++) {
@@ -243,6 +271,15 @@ static void json_layers(ew_json *j, const ew_stack *st) {
     ew_json_key_num(j, "eps_perp", ly->bands.eps_perp);
     /* by the one rule of stack_caveats.c: one interface for the uncapped surface layer */
     ew_json_key_num(j, "critical_thickness_nm", ew_stack_layer_hc_nm(st, k));
+    if (st->polarized) { /* wurtzite stacks (polarization.h) */
+      ew_json_key_num(j, "polarization_C_m2", ly->polarization_C_m2);
+      ew_json_key_num(j, "field_kV_cm", ew_result_layer_field_kV_cm(r, k));
+      ew_json_key_num(j, "Ev_ch_eV", ly->bands.Ev_ch_eV);
+      ew_json_key_num(j, "mhh_par", ly->bands.mhh_par);
+      ew_json_key_num(j, "mlh_par", ly->bands.mlh_par);
+      ew_json_key_num(j, "mch", ly->bands.mch_z);
+      ew_json_key_num(j, "mch_par", ly->bands.mch_par);
+    }
     ew_json_end_object(j);
   }
   ew_json_end_array(j);
@@ -266,6 +303,11 @@ static void json_interfaces(ew_json *j, const ew_stack *st) {
     ew_json_key_num(j, "dEc_eV", in.dEc_eV);
     ew_json_key_num(j, "dEv_eV", in.dEv_eV);
     ew_json_key_num(j, "conduction_share", in.conduction_share);
+    if (st->polarized) {
+      /* bound charge P_k − P_{k+1}, and with the screening sheets (what the fields see) */
+      ew_json_key_num(j, "bound_charge_C_m2", ew_interface_bound_C_m2(st, k));
+      ew_json_key_num(j, "sheet_charge_C_m2", ew_interface_charge_C_m2(st, k));
+    }
     ew_json_end_object(j);
   }
   ew_json_end_array(j);
@@ -381,7 +423,7 @@ void ew_output_json(const ew_result *r, FILE *out) {
   ew_json_begin_array(&j);
   for (size_t i = 0; i < r->n_warnings; i++) ew_json_str(&j, r->warning_codes[i]);
   ew_json_end_array(&j);
-  json_layers(&j, st);
+  json_layers(&j, r);
   json_interfaces(&j, st);
   json_bands(&j, r);
   json_states(&j, r);

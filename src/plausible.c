@@ -24,6 +24,19 @@ void ew_param_range(ew_param p, double *lo, double *hi) {
   case EW_P_F: *lo = -20.0, *hi = 20.0; break;
   case EW_P_AC: case EW_P_AV: case EW_P_B: case EW_P_D: *lo = -50.0, *hi = 50.0; break; /* eV */
   case EW_P_C11: case EW_P_C12: case EW_P_C44: *lo = 1.0, *hi = 1e4; break; /* GaAs c11 1221 */
+  /* wurtzite (Vurgaftman & Meyer 2003, binaries' tables, from memory): c = 4.98 (AlN) …
+   * 5.70 Å (InN); c33 2240 (InN) … 3980 kbar (GaN); Δcr −0.169 (AlN) … 0.040 eV (InN);
+   * |A_i| ≤ 8.3 (InN A1); deformation potentials within ±18 eV (AlN D1 −17.1); Psp
+   * −0.090 (AlN) … −0.034 C/m² (GaN); e33 ≤ 1.46 C/m² (AlN, Bernardini et al. 1997) */
+  case EW_P_CLC: *lo = 10 * EW_PLAUSIBLE_A_MIN_NM, *hi = 10 * EW_PLAUSIBLE_A_MAX_NM; break; /* Å */
+  case EW_P_C13: case EW_P_C33: *lo = 1.0, *hi = 1e4; break;
+  case EW_P_DCR: *lo = -1.0, *hi = 1.0; break;
+  case EW_P_A1: case EW_P_A2: case EW_P_A3: case EW_P_A4: case EW_P_A5: case EW_P_A6:
+    *lo = -50.0, *hi = 50.0; break;
+  case EW_P_WA1: case EW_P_WA2: case EW_P_D1: case EW_P_D2: case EW_P_D3: case EW_P_D4:
+    *lo = -50.0, *hi = 50.0; break;
+  case EW_P_PSP: *lo = -0.5, *hi = 0.5; break;
+  case EW_P_E31: case EW_P_E33: *lo = -5.0, *hi = 5.0; break;
   default: *lo = -INFINITY, *hi = INFINITY; break;
   }
 }

@@ -77,6 +77,7 @@
  * dimensionless.  The exciton-like (final-state) correction is left out.
  */
 #include "poisson.h"
+#include "polarization.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -170,6 +171,7 @@ typedef struct {
   double *box;            /* [n] box length */
   sheet *sh;
   size_t n_sheets;
+  double *bound;          /* [n] fixed interface charges of a wurtzite stack, nm^-2 (polarization.h) */
   int dir_left, dir_right;    /* Dirichlet faces */
   double off_left, off_right; /* U(face) − E_F(face) for the Dirichlet faces */
   double bias_eV;             /* E_F(last) = E_F(first) − bias_eV */
@@ -409,6 +411,7 @@ static void charges(const model *m, const snap *s, double EF0, const double *U, 
                     double *dq, double *const parts[4]) {
   bulk_charges(m, s, EF0, U, q, dq, parts);
   sheet_charges(m, EF0, U, q, dq, parts);
+  for (size_t i = 0; m->bound && i < m->n; i++) q[i] += m->bound[i];
   if (s) subband_charges(m, s, EF0, U, q, dq, parts);
 }
 
@@ -527,6 +530,7 @@ static void model_free(model *m) {
   free(m->ec);
   free(m->box);
   free(m->sh);
+  free(m->bound);
 }
 
 /* Cells (εr / h, one layer per cell) and the two halves of every node's box. */
@@ -615,12 +619,14 @@ static ew_status model_build(model *m, const ew_stack *st, const ew_grid *g, dou
   for (size_t k = 0; k < st->n_layers; k++)
     ns += (st->layers[k].donor_sheet_cm2 > 0) + (st->layers[k].acceptor_sheet_cm2 > 0);
   m->sh = calloc(ns ? ns : 1, sizeof *m->sh);
-  if (!m->hc || !m->ec || !m->box || !m->sh) {
+  if (st->polarized) m->bound = calloc(n, sizeof *m->bound);
+  if (!m->hc || !m->ec || !m->box || !m->sh || (st->polarized && !m->bound)) {
     model_free(m);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (Poisson model, n = %zu)", n);
   }
   fill_cells_and_boxes(m, g);
   fill_sheets(m, g);
+  if (m->bound) ew_polarization_sheets_nm2(st, g->z, n, m->bound);
   fill_faces(m, g);
   return EW_OK;
 }

@@ -13,6 +13,7 @@
 #include "error.h"
 #include "grid.h"
 #include "materials.h"
+#include "polarization.h"
 #include "output.h"
 #include "plot.h"
 #include "spectra_workflow.h"
@@ -154,6 +155,40 @@ static void layers_table(FILE *f, const ew_result *r) {
              "energies absolute (eV) at T = %g K. Total thickness %.3f nm; the outer faces "
              "are hard walls.</p>\n",
           st->temperature_K, st->total_nm);
+}
+
+/* Polarisation of a wurtzite stack, as the terminal table's section (polarization.h). */
+static void polarization_table(FILE *f, const ew_result *r) {
+  const ew_stack *st = r->stack;
+  if (!st->polarized) return;
+  fputs("<h2 id=\"polarization\">Polarisation</h2>\n<table id=\"polarization-table\">\n"
+        "<tr><th>layer</th><th>P<sub>sp</sub> (C/m&#178;)</th><th>P<sub>pz</sub> (C/m&#178;)</th>"
+        "<th>P (C/m&#178;, along +z)</th><th>field (kV/cm)</th></tr>\n", f);
+  for (size_t k = 0; k < st->n_layers; k++) {
+    fputs("<tr><td>", f);
+    h(f, st->layers[k].name);
+    fputs("</td>", f);
+    num(f, 5, 'f', st->layers[k].bands.Psp_C_m2);
+    num(f, 5, 'f', st->layers[k].bands.Ppz_C_m2);
+    num(f, 5, 'f', st->layers[k].polarization_C_m2);
+    num(f, 1, 'f', ew_result_layer_field_kV_cm(r, k));
+    fputs("</tr>\n", f);
+  }
+  fputs("</table>\n<table id=\"interface-charge-table\">\n<tr><th>first</th><th>second</th>"
+        "<th>bound charge (C/m&#178;)</th><th>with screening (C/m&#178;)</th></tr>\n", f);
+  for (size_t k = 0; k + 1 < st->n_layers; k++) {
+    fputs("<tr><td>", f);
+    h(f, st->layers[k].name);
+    fputs("</td><td>", f);
+    h(f, st->layers[k + 1].name);
+    fputs("</td>", f);
+    num(f, 5, 'f', ew_interface_bound_C_m2(st, k));
+    num(f, 5, 'f', ew_interface_charge_C_m2(st, k));
+    fputs("</tr>\n", f);
+  }
+  fprintf(f, "</table>\n<p class=\"meta\">c plane; the field is %s.</p>\n",
+          st->pol_in_poisson ? "the self-consistent potential's mean over each layer"
+                             : "that of the interface charges with a zero drop over the stack");
 }
 
 /* Band offsets of each interface (signs as in stack.h ew_interface). */
@@ -527,6 +562,7 @@ static ew_status write_page(FILE *f, const ew_result *r, const ew_catalogue *cat
   warnings(f, r);
   layers_table(f, r);
   offsets_table(f, r->stack);
+  polarization_table(f, r);
   fputs("<h2 id=\"diagram\">Band diagram</h2>\n<figure>\n", f);
   ew_status rc = ew_plot_band_diagram_svg(r, f, err);
   if (rc != EW_OK) return rc;

@@ -4,6 +4,7 @@
  * checks physical plausibility as well as syntax because a typo such as "thickness = 8000"
  * would otherwise surface much later as a solver running out of memory. */
 #include "stack.h"
+#include "polarization.h"
 
 #include <ctype.h>
 #include <errno.h>
@@ -47,7 +48,8 @@ static const char *const top_keys[] = {"temperature", "grid_step",    "materials
                                        "alloys",      "layers",       "substrate",
                                        "field",       "nonparabolic", "sheet_density",
                                        "linewidth",   "surface",      "bias",
-                                       "conduction_share", "offset_reference"};
+                                       "conduction_share", "offset_reference",
+                                       "screening_sheet", "c_axis"};
 static const char *const layer_keys[] = {"name", "material", "x", "y", "thickness",
                                          "thickness_ml", "grade", "doping", "conduction_share"};
 static const char *const doping_keys[] = {"donors", "acceptors", "donor_sheet",
@@ -783,12 +785,12 @@ static ew_status resolve_layer_bands(reader *r, ew_layer *L, double T, const lay
       return fail(r, ll->line, "layer '%s' (%s%s): %s", L->name, L->material,
                   k < 0 ? "" : ", along its grade", why);
   if (!ll->got_ml) return EW_OK;
-  /* one monolayer of [001] zincblende is half the lattice constant along the growth axis */
-  if (!(L->bands.a_nm > 0))
+  /* one monolayer: half the growth-axis lattice constant (ew_bands_monolayer_nm) */
+  if (!(ew_bands_monolayer_nm(&L->bands) > 0))
     return fail(r, ll->thickness_ml, "layer '%s': thickness_ml needs a lattice constant, which "
                 "'%s' does not have; give 'thickness' in nm", L->name, L->material);
   /* pseudomorphic: the growth-axis lattice constant is a (1 + ε⊥) */
-  L->thickness_nm = L->thickness_ml * 0.5 * L->bands.a_nm * (1.0 + L->bands.eps_perp);
+  L->thickness_nm = L->thickness_ml * ew_bands_monolayer_nm(&L->bands);
   if (L->thickness_nm < MIN_LAYER_NM) /* robustness: see MIN_LAYER_NM */
     return fail(r, ll->thickness_ml, "layer '%s': %g ML is %g nm, below the %g nm minimum",
                 L->name, L->thickness_ml, L->thickness_nm, MIN_LAYER_NM);
@@ -1193,6 +1195,22 @@ static ew_status read_spectrum_keys(reader *r, const config_setting_t *root, ew_
   if (got && (v <= 0 || v > 500))
     return fail(r, lf, "linewidth = %g meV must be in (0, 500] meV", v);
   s->linewidth_meV = got ? v : DEFAULT_LINEWIDTH_MEV;
+  /* injected electron–hole pairs per well screening a wurtzite stack's charges (polarization.h) */
+  got = get_number(r, root, "screening_sheet", "", &v, &lf);
+  if (got < 0) return EW_ERR_INPUT;
+  if (got && (v < 0 || v > MAX_SHEET_DENSITY_CM2))
+    return fail(r, lf, "screening_sheet = %g cm^-2 must be in [0, %g]", v, MAX_SHEET_DENSITY_CM2);
+  s->screening_sheet_cm2 = got ? v : 0.0;
+  /* c_axis = "+z" | "-z": which way [0001] points along the stack's z (polarization.h) */
+  s->c_sign = 1;
+  const config_setting_t *ca = config_setting_get_member(root, "c_axis");
+  if (ca) {
+    const char *t = config_setting_get_string(ca);
+    if (!t || (strcmp(t, "+z") && strcmp(t, "-z")))
+      return fail(r, line_of(ca), "c_axis must be \"+z\" ([0001] along the layer order) or "
+                  "\"-z\" (layers listed from a metal-face surface down)");
+    s->c_sign = t[0] == '-' ? -1 : 1;
+  }
   return EW_OK;
 }
 
@@ -1247,6 +1265,7 @@ static ew_status read_top(reader *r, const config_setting_t *root, ew_stack *s) 
   if (!st) st = read_user_alloys(r, root);
   if (!st) st = read_layers(r, root, s);
   if (!st) st = apply_offsets(r, root, s);
+  if (!st) st = ew_polarization_apply(s, r->err);
   if (!st) st = check_grid_size(r, s, lg);
   return st;
 }
@@ -1374,7 +1393,7 @@ static const char *implied_unit(const char *key, size_t len) {
   static const char *const tab[][2] = {
       {"thickness", "nm"}, {"grid_step", "nm"}, {"temperature", "K"}, {"field", "kV/cm"},
       {"linewidth", "meV"}, {"donors", "cm^-3"}, {"acceptors", "cm^-3"},
-      {"donor_sheet", "cm^-2"}, {"acceptor_sheet", "cm^-2"}, {"sheet_density", "cm^-2"},
+      {"donor_sheet", "cm^-2"}, {"acceptor_sheet", "cm^-2"}, {"sheet_density", "cm^-2"}, {"screening_sheet", "cm^-2"},
       {"donor_energy", "eV"}, {"acceptor_energy", "eV"}, {"thickness_ml", "monolayers"}};
   for (size_t i = 0; i < COUNT(tab); i++)
     if (strlen(tab[i][0]) == len && !strncmp(tab[i][0], key, len)) return tab[i][1];

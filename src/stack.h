@@ -42,6 +42,11 @@ typedef struct {
   /* repeat groups (stack_repeat.h): the number of the written layer this one is read from
      (depth first through the file) and its copy number k of NAME#k (0: in no repeat group) */
   size_t written, copy;
+  /* polarisation (polarization.h; appended, 0 for zinc-blende stacks): the layer's
+     polarisation along +z, C/m², and the static field of an undoped stack's charges (kV/cm,
+     0 when the self-consistent solve carries them) with the potential energy at its first
+     face, eV */
+  double polarization_C_m2, pol_field_kV_cm, pol_V0_eV;
 } ew_layer;
 
 struct ew_stack {
@@ -70,6 +75,13 @@ struct ew_stack {
   double conduction_share;
   size_t offset_reference;
   int offsets_set;         /* 1 when any layer was re-split (the outputs say so) */
+  /* polarisation (polarization.h; appended): 1 for a wurtzite stack; 1 when its interface
+     charges are fixed charges of the self-consistent Poisson solve rather than the static
+     fields of the layers; screening_sheet_cm2 = injected electron–hole pairs per well (cm^-2,
+     0 none) that screen the charges at each well's faces */
+  int polarized, pol_in_poisson;
+  double screening_sheet_cm2;
+  int c_sign;              /* +1: [0001] along +z (c_axis = "+z", default); −1: along −z */
 };
 
 /* One interface: between layers `first` and first + 1 (growth order) at z_nm, with the edges

@@ -87,7 +87,9 @@ static double layer_nu(const ew_bands *b) {
 
 double ew_stack_layer_hc_nm(const ew_stack *st, size_t k) {
   const ew_bands *b = &st->layers[k].bands;
-  if (b->eps_par == 0.0 || !(b->a_nm > 0.0)) return INFINITY;
+  /* the 60° misfit dislocations of zinc blende do not exist on the wurtzite c plane: no
+     critical thickness is claimed there (README "Nitrides", limits) */
+  if (b->wurtzite || b->eps_par == 0.0 || !(b->a_nm > 0.0)) return INFINITY;
   double hc = ew_mb_critical_thickness_nm(b->a_nm, b->eps_par, layer_nu(b),
                                           k == surface_layer(st) ? 1 : 2);
   return isnan(hc) ? INFINITY : hc;
@@ -151,6 +153,7 @@ static int strain_caveats(ew_result *r) {
       return 0;
   }
   ew_strain_block blk;
+  if (st->polarized) return 1; /* wurtzite: no Matthews–Blakeslee rule (above) */
   if (ew_stack_strain_block(st, &blk) < 2 || !(blk.thickness_nm > blk.hc_nm)) return 1;
   return ew_result_warn_code(r, "critical-thickness", "cumulative strain: layers '%s' to '%s' "
                         "(%.1f nm, spacers included) have a mean strain of %.3f %%, beyond the "

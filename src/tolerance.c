@@ -74,9 +74,11 @@ static double ml_of(const ew_layer *ly, int *dflt) {
   *dflt = 0;
   /* a layer written in whole monolayers: the reader's own monolayer */
   if (ly->thickness_ml > 0) return ly->thickness_nm / ly->thickness_ml;
-  *dflt = !(ly->bands.a_nm > 0);
-  /* one monolayer = a/2 (zinc blende, [001]); a pseudomorphic layer has a(1 + ε⊥) along z */
-  return *dflt ? EW_WF_DEFAULT_ML_NM : 0.5 * ly->bands.a_nm * (1.0 + ly->bands.eps_perp);
+  /* one monolayer: a/2 (zinc blende, [001]) or c/2 (wurtzite, c plane), strained along z
+     (ew_bands_monolayer_nm) */
+  double ml = ew_bands_monolayer_nm(&ly->bands);
+  *dflt = !(ml > 0);
+  return *dflt ? EW_WF_DEFAULT_ML_NM : ml;
 }
 
 /* The key that sets a layer's thickness and its value for thickness t_nm: thickness_ml
@@ -231,6 +233,9 @@ static void thickness_row(const ew_result *res, const wf_itemdef *defs,
     L->dEdt_fd[i] = (J[3].E[i] - J[2].E[i]) / (2.0 * WF_FD_DT_NM);
     if (!J[2].ok) L->dEdt_fd[i] = (J[3].E[i] - E0) / WF_FD_DT_NM;
     L->dEdt_hf[i] = item_deriv(res, &defs[i], dS);
+    /* wurtzite: a thickness moves every layer's polarisation field (polarization.h), which
+       the Hellmann–Feynman term of the moved interface does not see: no HF value */
+    if (res->stack->polarized) L->dEdt_hf[i] = NAN;
   }
   snprintf(L->warn_ml_minus, sizeof L->warn_ml_minus, "%s", J[0].codes);
   snprintf(L->warn_ml_plus, sizeof L->warn_ml_plus, "%s", J[1].codes);
@@ -254,6 +259,7 @@ static void composition_row(const ew_result *res, const wf_itemdef *defs,
     double el = J[6].ok ? J[6].E[i] : E0, eh = J[7].ok ? J[7].E[i] : E0;
     L->dEdx_fd[i] = hi_x > lo_x ? (eh - el) / (hi_x - lo_x) : NAN;
     L->dEdx_hf[i] = item_deriv(res, &defs[i], dS);
+    if (res->stack->polarized) L->dEdx_hf[i] = NAN; /* the fields move with x too (above) */
   }
   snprintf(L->warn_dx_minus, sizeof L->warn_dx_minus, "%s", J[4].codes);
   snprintf(L->warn_dx_plus, sizeof L->warn_dx_plus, "%s", J[5].codes);
@@ -353,17 +359,21 @@ static void cell(FILE *out, int width, int digits, double v) {
   else fprintf(out, "%*s", width, "-");
 }
 
+/* the HF derivative, or the central difference where there is none (wurtzite stacks) */
+static double deriv_of(double hf, double fd) { return isfinite(hf) ? hf : fd; }
+
 ew_wf_spread ew_wf_tolerance_spread(const ew_wf_tolerance *t, size_t i) {
   ew_wf_spread s = {0, 0, 0, 0, 0};
   double rate = 0;
   for (size_t k = 0; k < t->n_layers; k++) {
     const ew_wf_tol_layer *L = &t->layers[k];
-    double a = L->dEdt_hf[i] * L->ml_nm;
+    double dt = deriv_of(L->dEdt_hf[i], L->dEdt_fd[i]);
+    double a = dt * L->ml_nm;
     s.thickness_eV += a * a;
     s.worst_eV += fabs(a);
-    rate += L->dEdt_hf[i] * L->thickness_nm;
+    rate += dt * L->thickness_nm;
     if (!L->has_x) continue;
-    double c = L->dEdx_hf[i] * L->dx;
+    double c = deriv_of(L->dEdx_hf[i], L->dEdx_fd[i]) * L->dx;
     s.composition_eV += c * c;
     s.worst_eV += fabs(c);
   }

@@ -38,6 +38,19 @@ COPY = ["src", "tests", "materials", "examples", "Makefile", ".ci"]
 
 # (id, file, old, new, what the bug is)
 MUTANTS = [
+    # wurtzite nitrides (test_nitride.c)
+    ("json_pol", "src/output.c", '"polarization_C_m2", ly->polarization_C_m2', '"polarization_C_m2", ly->bands.Psp_C_m2', "layer polarization prints P_sp only"),
+    ("json_mch", "src/output.c", '"mch", ly->bands.mch_z', '"mch", ly->bands.mch_par', "mch prints the in-plane mass"),
+    ("json_sheet", "src/output.c", '"sheet_charge_C_m2", ew_interface_charge_C_m2(st, k)', '"sheet_charge_C_m2", ew_interface_bound_C_m2(st, k)', "sheet charge prints the unscreened charge"),
+    ("wz_ezz", "src/strain_wurtzite.c", '-2.0 * m->c13_kbar / m->c33_kbar * exx', '-2.0 * m->c13_kbar / m->c33_kbar * exx * 1.01', "eps_zz off by 1 %"),
+    ("wz_ppz", "src/strain_wurtzite.c", '(m->e31_C_m2 - m->e33_C_m2 * m->c13_kbar / m->c33_kbar)', '(m->e31_C_m2 + m->e33_C_m2 * m->c13_kbar / m->c33_kbar)', "piezoelectric sign of e33 term"),
+    ("wz_lh_weight", "src/strain_wurtzite.c", 'double w_lh = gap > 0.0 ? (E[1] - la) / gap : 1.0', 'double w_lh = gap > 0.0 ? (E[1] - la) / gap * 0.99 : 1.0', "Γ7 mixing weight off by 1 %"),
+    ("pol_sigma", "src/polarization.c", 'return st->layers[k].polarization_C_m2 - st->layers[k + 1].polarization_C_m2;', 'return st->layers[k + 1].polarization_C_m2 - st->layers[k].polarization_C_m2;', "interface charge sign"),
+    ("pol_eps0", "src/polarization.c", 'double E = (D - ly->pol_field_kV_cm) / (EW_EPS0_FM * ly->bands.eps_r);', 'double E = (D - ly->pol_field_kV_cm) / (1.01 * EW_EPS0_FM * ly->bands.eps_r);', "static field off by 1 %"),
+    ("pol_screen", "src/polarization.c", 'double cut = faces * EW_E_C * st->screening_sheet_cm2 * 1e4;', 'double cut = EW_E_C * st->screening_sheet_cm2 * 1e4;', "screening counts one face only"),
+    ("rep_pol", "src/report.c", 'num(f, 5, \'f\', st->layers[k].polarization_C_m2);', 'num(f, 5, \'f\', st->layers[k].bands.Psp_C_m2);', "report P prints P_sp"),
+    ("tab_pol_field", "src/output.c", 'st->layers[k].bands.Psp_C_m2, st->layers[k].bands.Ppz_C_m2,\n            ew_result_layer_field_kV_cm(r, k));', 'st->layers[k].bands.Psp_C_m2, st->layers[k].bands.Psp_C_m2,\n            ew_result_layer_field_kV_cm(r, k));', "table P_pz prints P_sp"),
+    ("pol_poisson", "src/polarization.c", 'q[i] += ew_interface_charge_C_m2(st, k) / EW_E_C * 1e-18;', 'q[i] += 0.99 * ew_interface_charge_C_m2(st, k) / EW_E_C * 1e-18;', "Poisson bound charge off by 1 %"),
     # JSON fields printing a neighbour's member (src/output.c)
     ("json_ec", "src/output.c", '"Ec_eV", ly->bands.Ec_eV', '"Ec_eV", ly->bands.Ev_hh_eV', "layer Ec_eV prints Ev_hh"),
     ("json_mhh", "src/output.c", '"mhh", ly->bands.mhh_z', '"mhh", ly->bands.mlh_z', "layer mhh prints mlh"),

@@ -394,6 +394,27 @@ static void faults_doped_well(void **state) {
 #endif
 }
 
+/* A wurtzite AlGaN/GaN transistor stack: the polarisation charges of the Poisson model
+ * (poisson.c, polarization.c) are allocated with the rest of the self-consistent solve. */
+static void faults_nitride_2deg(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  char text[640];
+  snprintf(text, sizeof text,
+           "temperature = 300.0;\ngrid_step = %s;\nsubstrate = \"GaN\";\nc_axis = \"-z\";\n"
+           "surface = { barrier = 1.23; };\nlayers = (\n"
+           "  { name = \"barrier\"; material = \"AlGaN\"; x = 0.30; thickness = 20.0; },\n"
+           "  { name = \"channel\"; material = \"GaN\"; thickness = 30.0; }\n);\n",
+           job_grid());
+  ew_stack *st = read_stack(text);
+  int bad = every_fault("nitride 2DEG", solve_job, st);
+  ew_stack_free(st);
+  assert_int_equal(bad, 0);
+#else
+  skip(); /* AddressSanitizer owns malloc */
+#endif
+}
+
 /* A 3-point sweep over range (KEY=FROM:TO:STEP) of the single well on the coarse grid. */
 static int sweep_faults(const char *what, const char *range) {
   char dir[512], path[600];
@@ -620,6 +641,7 @@ int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(faults_single_well),
       cmocka_unit_test(faults_doped_well),
+      cmocka_unit_test(faults_nitride_2deg),
       cmocka_unit_test(faults_sweep),
       cmocka_unit_test(faults_sweep_absent_keys),
       cmocka_unit_test(faults_merge),
