@@ -464,8 +464,12 @@ static double newton_index(const tri *t, size_t idx, double x0, double w, double
     int inside = nx > a && nx < b && step != 0.0 && isfinite(nx) &&
                  (it < 30 || (isfinite(a) && isfinite(b)));
     if (inside && fabs(step) < 0.25 * tol) { /* converged: confirm the count brackets it */
-      size_t cl = tri_count(t, nx - tol), ch = tri_count(t, nx + tol);
-      *counts += 2;
+      /* a side the bracket already decides needs no pass: the count is monotone in σ
+         (J. W. Demmel, I. S. Dhillon, H. Ren, ETNA 3, 116 (1995)), so a >= nx − tol gives
+         count(nx − tol) <= count(a) <= idx and b <= nx + tol gives count(nx + tol) > idx */
+      size_t cl = idx, ch = idx + 1;
+      if (a < nx - tol) cl = tri_count(t, nx - tol), (*counts)++;
+      if (b > nx + tol) ch = tri_count(t, nx + tol), (*counts)++;
       if (cl <= idx && ch > idx) return nx;
       if (cl > idx) b = fmin(b, nx - tol); /* converged to another eigenvalue: keep bisecting */
       else a = fmax(a, nx - tol);
