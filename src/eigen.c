@@ -363,15 +363,17 @@ static int localise_degenerate(const ew_pencil *p, ew_eigenpairs *out, double ga
 
 /* The vectors of every slice, then the degenerate groups localised. */
 static ew_status window_vectors(const ew_pencil *p, const tri *t, slice *sl, size_t ns,
-                                double tol, size_t clo, ew_eigenpairs *out, ew_error *err) {
+                                double tol, size_t clo, ew_shift_lu *given, ew_eigenpairs *out,
+                                ew_error *err) {
   size_t n = p->n, k = out->certified;
   if (k > 0 && n > SIZE_MAX / sizeof(double) / k)
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "too many eigenvectors (%zu of size %zu)", k, n);
   out->vectors = malloc((k ? k : 1) * n * sizeof *out->vectors);
   double *x = malloc(n * sizeof *x), *y = malloc(n * sizeof *y);
-  ew_shift_lu *lu = out->vectors && x && y ? ew_shift_lu_create(n) : NULL;
+  ew_shift_lu *own = NULL, *lu = given && ew_shift_lu_size(given) == n ? given : NULL;
+  if (!lu && out->vectors && x && y) lu = own = ew_shift_lu_create(n);
   ew_status rc = EW_OK;
-  if (!lu)
+  if (!lu || !out->vectors || !x || !y)
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvectors of size %zu)", k, n);
   size_t j = 0;
   for (size_t q = 0; rc == EW_OK && q < ns; q++) {
@@ -381,7 +383,7 @@ static ew_status window_vectors(const ew_pencil *p, const tri *t, slice *sl, siz
   out->count = rc == EW_OK ? j : 0;
   if (rc == EW_OK && !localise_degenerate(p, out, 64.0 * tol))
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (degenerate eigenvectors)");
-  ew_shift_lu_free(lu);
+  ew_shift_lu_free(own);
   free(x);
   free(y);
   return rc;
@@ -389,6 +391,11 @@ static ew_status window_vectors(const ew_pencil *p, const tri *t, slice *sl, siz
 
 ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vectors,
                           ew_eigenpairs *out, ew_error *err) {
+  return ew_eigen_window_lu(p, lo, hi, want_vectors, NULL, out, err);
+}
+
+ew_status ew_eigen_window_lu(const ew_pencil *p, double lo, double hi, int want_vectors,
+                             ew_shift_lu *lu, ew_eigenpairs *out, ew_error *err) {
   memset(out, 0, sizeof *out);
   out->n = p->n;
   if (p->n < 2 || !(lo < hi))
@@ -409,7 +416,7 @@ ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vec
   else if (!want_vectors)
     window_values(&t, sl, ns, tol, out);
   else
-    rc = window_vectors(p, &t, sl, ns, tol, clo, out, err);
+    rc = window_vectors(p, &t, sl, ns, tol, clo, lu, out, err);
   free(sl);
   tri_free(&t);
   if (rc != EW_OK) ew_eigenpairs_free(out);
@@ -457,8 +464,12 @@ static double newton_index(const tri *t, size_t idx, double x0, double w, double
     int inside = nx > a && nx < b && step != 0.0 && isfinite(nx) &&
                  (it < 30 || (isfinite(a) && isfinite(b)));
     if (inside && fabs(step) < 0.25 * tol) { /* converged: confirm the count brackets it */
-      size_t cl = tri_count(t, nx - tol), ch = tri_count(t, nx + tol);
-      *counts += 2;
+      /* a side the bracket already decides needs no pass: the count is monotone in σ
+         (J. W. Demmel, I. S. Dhillon, H. Ren, ETNA 3, 116 (1995)), so a >= nx − tol gives
+         count(nx − tol) <= count(a) <= idx and b <= nx + tol gives count(nx + tol) > idx */
+      size_t cl = idx, ch = idx + 1;
+      if (a < nx - tol) cl = tri_count(t, nx - tol), (*counts)++;
+      if (b > nx + tol) ch = tri_count(t, nx + tol), (*counts)++;
       if (cl <= idx && ch > idx) return nx;
       if (cl > idx) b = fmin(b, nx - tol); /* converged to another eigenvalue: keep bisecting */
       else a = fmax(a, nx - tol);

@@ -49,6 +49,11 @@ typedef struct {
  * the isolated eigenvalue: the message says which and how close it got). */
 ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vectors,
                           ew_eigenpairs *out, ew_error *err);
+/* The same with the caller's factorization workspace lu (ew_shift_lu_create(p->n); kept
+ * between calls, so that the pencils of one grid share one pattern analysis and one L/U
+ * storage); lu == NULL or of another size: a workspace of its own, as ew_eigen_window. */
+ew_status ew_eigen_window_lu(const ew_pencil *p, double lo, double hi, int want_vectors,
+                             ew_shift_lu *lu, ew_eigenpairs *out, ew_error *err);
 void ew_eigenpairs_free(ew_eigenpairs *e);
 
 /* The k lowest eigenvalues of p above lo, from approximate vectors guess[j·n …] (see

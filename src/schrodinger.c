@@ -58,8 +58,20 @@ static ew_status coarse_values(ew_result *r, const ew_grid *coarse, ew_band band
   return EW_OK;
 }
 
+/* The factorization workspace of the fine grid: the caller's (ws->given, when its size fits)
+ * or one of the pass's own, made when a band first needs it and shared by the bands. */
+typedef struct {
+  ew_shift_lu *given, *own;
+} pass_lu;
+
+static ew_shift_lu *pass_lu_get(pass_lu *ws, size_t n) {
+  if (ws->given && ew_shift_lu_size(ws->given) == n) return ws->given;
+  if (!ws->own) ws->own = ew_shift_lu_create(n);
+  return ws->own;
+}
+
 /* Solve one band on the fine grid (vectors) and, if asked, the coarse grid (values). */
-static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band,
+static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band, pass_lu *ws,
                             ew_eigenpairs *fine, double **coarse_vals, size_t *n_coarse,
                             ew_error *err) {
   const ew_grid *g = r->grid;
@@ -82,7 +94,14 @@ static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band,
     r->nonparabolic = rc == EW_OK;
     return rc;
   }
-  ew_status rc = ew_eigen_window(p, lo, top, 1, fine, err);
+  ew_shift_lu *lu = pass_lu_get(ws, g->n);
+  if (!lu) {
+    memset(fine, 0, sizeof *fine);
+    ew_pencil_free(p);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (factorization workspace, n = %zu)",
+                   g->n);
+  }
+  ew_status rc = ew_eigen_window_lu(p, lo, top, 1, lu, fine, err);
   ew_pencil_free(p);
   r->work_factorizations += fine->factorizations;
   r->work_solves += fine->solves;
@@ -175,6 +194,11 @@ static int pass_warnings(ew_result *r) {
 
 ew_status ew_schrodinger_pass(const ew_stack *st, const ew_options *optin, const double *U,
                               ew_result **out, ew_error *err) {
+  return ew_schrodinger_pass_lu(st, optin, U, NULL, out, err);
+}
+
+ew_status ew_schrodinger_pass_lu(const ew_stack *st, const ew_options *optin, const double *U,
+                                 ew_shift_lu *lu, ew_result **out, ew_error *err) {
   *out = NULL;
   ew_options opt;
   if (optin) opt = *optin;
@@ -190,9 +214,11 @@ ew_status ew_schrodinger_pass(const ew_stack *st, const ew_options *optin, const
   ew_grid *coarse = NULL;
   band_pairs bp;
   memset(&bp, 0, sizeof bp);
+  pass_lu ws = {lu, NULL};
   rc = build_grids(r, U, &coarse, err);
   for (int b = 0; b < EW_BAND_COUNT && rc == EW_OK; b++) {
-    rc = solve_band(r, coarse, (ew_band)b, &bp.fine[b], &bp.coarse[b], &bp.n_coarse[b], err);
+    rc = solve_band(r, coarse, (ew_band)b, &ws, &bp.fine[b], &bp.coarse[b], &bp.n_coarse[b],
+                    err);
     double top = ew_bound_window_top(st, r->grid, (ew_band)b);
     r->window_eV[b] = b == EW_BAND_E ? top : -top;
   }
@@ -200,6 +226,7 @@ ew_status ew_schrodinger_pass(const ew_stack *st, const ew_options *optin, const
   if (rc == EW_OK) rc = ew_lines_build(r, err);
   if (rc == EW_OK && !pass_warnings(r)) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   band_pairs_free(&bp);
+  ew_shift_lu_free(ws.own);
   ew_grid_free(coarse);
   if (rc == EW_ERR_NOMEM) /* what it takes, measured (grid.h), so the user can size the step */
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "%s: a grid of %.0f nodes needs about %.2g GB "

@@ -9,6 +9,7 @@
 #define EW_SCHRODINGER_H
 
 #include "result.h"
+#include "superlu_adapter.h"
 
 #define EW_DEFAULT_STEP_NM 0.05 /* grid step when neither the options nor the stack give one */
 
@@ -21,5 +22,10 @@ ew_grid *ew_schrodinger_grid(const ew_stack *st, const ew_options *opt);
  * lines and warnings; the exciton fields of its lines are 0 (exciton.c fills them). */
 ew_status ew_schrodinger_pass(const ew_stack *st, const ew_options *opt, const double *U,
                               ew_result **out, ew_error *err);
+/* The same with the caller's factorization workspace for the fine grid (superlu_adapter.h;
+ * kept between passes on one grid: the self-consistent iterations), shared by the bands of
+ * the plain eigensolver; NULL or of another size: the pass makes its own, also shared. */
+ew_status ew_schrodinger_pass_lu(const ew_stack *st, const ew_options *opt, const double *U,
+                                 ew_shift_lu *lu, ew_result **out, ew_error *err);
 
 #endif

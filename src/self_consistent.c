@@ -14,13 +14,14 @@
 /* Alternate passes and Poisson updates from p's first guess until converged; *res is the
  * last pass (caller frees), *iters and *dU the iterations done and the last max|ΔU|. */
 static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson *p,
-                         ew_progress *pg, int *iters, double *dU, ew_error *err) {
+                         ew_shift_lu *lu, ew_progress *pg, int *iters, double *dU,
+                         ew_error *err) {
   ew_options iopt = *uopt;
   iopt.error_estimate = 0;
   iopt.excitons = 0;
   iopt.lowest_levels = 1;
   ew_result *res = NULL;
-  ew_status rc = ew_schrodinger_pass(st, &iopt, ew_poisson_potential(p), &res, err);
+  ew_status rc = ew_schrodinger_pass_lu(st, &iopt, ew_poisson_potential(p), lu, &res, err);
   const int max_it = uopt->sp_max_iterations > 0 ? uopt->sp_max_iterations : EW_SP_MAX_ITER;
   int it = 0, conv = 0;
   *dU = INFINITY;
@@ -40,7 +41,7 @@ static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson 
     }
     ew_result_free(res);
     res = NULL;
-    rc = ew_schrodinger_pass(st, &iopt, ew_poisson_potential(p), &res, err);
+    rc = ew_schrodinger_pass_lu(st, &iopt, ew_poisson_potential(p), lu, &res, err);
   }
   ew_result_free(res);
   *iters = it;
@@ -77,8 +78,12 @@ ew_status ew_solve_self_consistent_progress(const ew_stack *st, const ew_options
   else rc = ew_poisson_new(st, g, fmax(st->temperature_K, EW_SP_T_FLOOR_K), &p, err);
   int it = 0;
   double dU = INFINITY;
-  if (rc == EW_OK) rc = iterate(st, &uopt, p, pg, &it, &dU, err);
-  if (rc == EW_OK) rc = ew_schrodinger_pass(st, &uopt, ew_poisson_potential(p), &res, err);
+  /* one factorization workspace for every pass on this grid: the pattern analysis and the L/U
+     storage are kept across the outer iterations (only the potential changes) */
+  ew_shift_lu *lu = rc == EW_OK ? ew_shift_lu_create(g->n) : NULL;
+  if (rc == EW_OK && !lu) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (workspace)");
+  if (rc == EW_OK) rc = iterate(st, &uopt, p, lu, pg, &it, &dU, err);
+  if (rc == EW_OK) rc = ew_schrodinger_pass_lu(st, &uopt, ew_poisson_potential(p), lu, &res, err);
   if (rc == EW_OK && pg && ew_progress_step(pg))
     rc = ew_progress_fail(pg, "the self-consistent solve", "steps", err);
   if (rc == EW_OK) rc = ew_poisson_attach(p, res, it, dU, err);
@@ -87,6 +92,7 @@ ew_status ew_solve_self_consistent_progress(const ew_stack *st, const ew_options
     res = NULL;
   }
   ew_result_free(res);
+  ew_shift_lu_free(lu);
   ew_poisson_free(p);
   ew_grid_free(g);
   return rc;

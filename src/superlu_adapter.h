@@ -14,9 +14,12 @@
 typedef struct ew_shift_lu ew_shift_lu;
 
 /* Workspace for pencils of size n (column order and elimination tree computed once: the
- * pattern never changes between shifts).  NULL when out of memory. */
+ * pattern never changes between shifts; L and U are allocated by the first factorization and
+ * refilled by the later ones, see superlu_adapter.c).  NULL when out of memory. */
 ew_shift_lu *ew_shift_lu_create(size_t n);
 void ew_shift_lu_free(ew_shift_lu *s);
+/* The n the workspace was made for (0 for NULL). */
+size_t ew_shift_lu_size(const ew_shift_lu *s);
 
 /* Factor H − σB of p (p->n must be the workspace's n).
  * EW_OK; EW_ERR_NUMERIC when U has an exactly zero pivot (σ is an eigenvalue to working

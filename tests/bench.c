@@ -6,9 +6,21 @@
  *  3. Well-width sweep throughput: examples/detector_well.cfg, well.thickness over 800
  *     values 4–12 nm (levels and main lines of all three bands, error estimates on, as
  *     `epiwell sweep`), with 1 and with 2 OpenMP threads: solves per second and the scaling.
+ *  4. Self-consistent solves: the 1e19 cm^-3 well; examples/doped_detector.cfg end to end
+ *     through the CLI; a doped sweep (its donor density over 40 values, 1 and 2 threads).
  *  5. The layer reader on 10^5 layers (GaAs, 0.1 nm each) refused at the last one (an
  *     unknown material): linear in the number of layers (issue 18: 45 s to 288 s before the
  *     duplicate-name check was hashed and integer literals found by a line index).
+ *  7. The scripted tridiagonal baseline (a reference, not a dependency of the tool):
+ *     tests/bench_scipy.py solves the single well's pencils with Debian's python3-scipy
+ *     (eigh_tridiagonal: fine eigenpairs and coarse values of e, hh, lh, and the main lines)
+ *     and its time per solve is set against epiwell's sweep point (target: 3x faster).
+ *     Skipped, with a message, when /usr/bin/python3 has no scipy.
+ * `build/bench build/epiwell PART` runs one part alone (superlattice, memory, cli, sweep, sc,
+ * reader, dispersion).
+ * EW_BENCH_REF=path/to/an/older/epiwell (e.g. build/same-5dbb810/build/epiwell, which
+ * tests/same_outputs.sh 5dbb810 builds) times that program on the same end-to-end runs in the
+ * same bench run and prints the ratios.
  * The machine is shared: compare the ratios printed in one run, not absolute times. */
 #include <lapacke.h>
 #ifdef __GLIBC__
@@ -19,10 +31,14 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/resource.h>
+#include <sys/wait.h>
 #include <time.h>
+#include <unistd.h>
 
+#include "bound.h"
 #include "eigen.h"
 #include "error.h"
+#include "schrodinger.h"
 #include "solve.h"
 #include "workflow.h"
 
@@ -130,19 +146,90 @@ static double dstemr_same_matrices(const ew_stack *st, const ew_result *res) {
   return t_lap;
 }
 
-/* 1. the superlattice eigen-solve against dstemr on the same matrices */
-static int bench_superlattice(void) {
+/* The 100-period superlattice's stack text (nonparabolic: the Kane electron mass or not). */
+static char *superlattice_text(int nonparabolic) {
   size_t cap = 64 * 1024, len = 0;
   char *text = malloc(cap);
   len += (size_t)snprintf(text + len, cap - len,
-                          "temperature = 10.0;\ngrid_step = 0.01;\nnonparabolic = false;\nlayers = (\n"
-                          "  { name = \"b0\"; material = \"AlGaAs\"; x = 0.3; thickness = 5.0; }");
+                          "temperature = 10.0;\ngrid_step = 0.01;\nnonparabolic = %s;\nlayers = (\n"
+                          "  { name = \"b0\"; material = \"AlGaAs\"; x = 0.3; thickness = 5.0; }",
+                          nonparabolic ? "true" : "false");
   for (int k = 1; k <= 100; k++)
     len += (size_t)snprintf(text + len, cap - len,
                             ",\n  { name = \"w%d\"; material = \"GaAs\"; thickness = 5.0; },\n"
                             "  { name = \"b%d\"; material = \"AlGaAs\"; x = 0.3; thickness = 5.0; }",
                             k, k);
   snprintf(text + len, cap - len, "\n);\n");
+  return text;
+}
+
+/* One solve of a stack text in a child process (its own peak memory): time, peak resident
+ * memory against the eigenvectors the result holds (states × nodes × 8 bytes).  The child
+ * prints; *seconds receives its solve time (−1 when it failed). */
+static void child_solve(const char *what, const char *text, double step_nm, double *seconds) {
+  int fd[2];
+  *seconds = -1.0;
+  fflush(stdout);
+  if (pipe(fd) != 0) return;
+  pid_t pid = fork();
+  if (pid == 0) {
+    close(fd[0]);
+    ew_catalogue *cat = NULL;
+    ew_stack *st = NULL;
+    ew_result *res = NULL;
+    ew_error err = {0};
+    ew_options opt;
+    ew_options_default(&opt);
+    opt.grid_step_nm = step_nm;
+    double t = -1.0;
+    if (ew_catalogue_load(NULL, &cat, &err) == EW_OK &&
+        ew_stack_read_string(text, what, cat, &st, &err) == EW_OK) {
+      double t0 = now();
+      if (ew_solve(st, &opt, &res, &err) == EW_OK) t = now() - t0;
+    }
+    if (t < 0) printf("  %s: failed: %s\n", what, err.message);
+    else {
+      double vec_mb = (double)ew_result_state_count(res) * (double)ew_result_node_count(res) *
+                      8.0 / 1048576.0, peak = peak_mb();
+      printf("  %s: N = %zu, %zu levels, %.3f s; peak memory %.0f MiB, eigenvectors %.0f MiB, "
+             "ratio %.2f%s\n", what, ew_result_node_count(res), ew_result_state_count(res), t,
+             peak, vec_mb, peak / vec_mb, step_nm > 0 ? "" : " (target <= 1.3)");
+    }
+    fflush(stdout);
+    if (write(fd[1], &t, sizeof t) != (ssize_t)sizeof t) _exit(1);
+    _exit(0);
+  }
+  close(fd[1]);
+  if (pid > 0) {
+    if (read(fd[0], seconds, sizeof *seconds) != (ssize_t)sizeof *seconds) *seconds = -1.0;
+    waitpid(pid, NULL, 0);
+  }
+  close(fd[0]);
+}
+
+/* 1b. the Kane superlattice against the parabolic one, and a 10^6-node single well, each in a
+ * child process (peak memory of its own) */
+static void bench_memory(void) {
+  char *par = superlattice_text(0), *kane = superlattice_text(1);
+  double tp, tk, tw;
+  printf("superlattice and large-grid runs, each in its own process:\n");
+  child_solve("superlattice, parabolic", par, 0.0, &tp);
+  child_solve("superlattice, Kane mass", kane, 0.0, &tk);
+  if (tp > 0 && tk > 0) printf("  Kane / parabolic = %.2f (target <= 1.5)\n", tk / tp);
+  FILE *f = fopen("examples/detector_well.cfg", "r");
+  char well[4096];
+  size_t k = f ? fread(well, 1, sizeof well - 1, f) : 0;
+  well[k] = 0;
+  if (f) fclose(f);
+  /* 66.2 nm at 6.62e-5 nm: 10^6 cells */
+  child_solve("examples/detector_well.cfg at 10^6 nodes (target < 1024 MiB)", well, 6.62e-5, &tw);
+  free(par);
+  free(kane);
+}
+
+/* 1. the superlattice eigen-solve against dstemr on the same matrices */
+static int bench_superlattice(void) {
+  char *text = superlattice_text(0);
   ew_catalogue *cat = NULL;
   ew_stack *st = NULL;
   ew_error err = {0};
@@ -173,7 +260,10 @@ static int bench_superlattice(void) {
   double t_lap = dstemr_same_matrices(st, res);
   printf("  LAPACK dstemr, same matrices: %.3f s; peak memory after both %.0f MB\n", t_lap,
          peak_mb());
-  printf("  ratio dstemr / epiwell = %.2f (target >= 1)\n", t_lap / t_ours);
+  double vec_mb = (double)ew_result_state_count(res) * (double)ew_result_node_count(res) * 8.0 /
+                  1048576.0;
+  printf("  ratio dstemr / epiwell = %.2f (target >= 4); peak memory / eigenvectors (%.0f MiB) "
+         "= %.2f (target <= 1.3)\n", t_lap / t_ours, vec_mb, mem_ours / vec_mb);
   ew_result_free(res);
   ew_stack_free(st);
   ew_catalogue_free(cat);
@@ -181,57 +271,189 @@ static int bench_superlattice(void) {
   return 0;
 }
 
-/* 2. a single-well solve end to end through the CLI */
-static int bench_single_well(const char *cli) {
+/* Seconds of one run of `cli ARGS > /dev/null`; negative when it failed. */
+static double time_cli(const char *cli, const char *args) {
   char cmd[1024];
-  snprintf(cmd, sizeof cmd, "%s solve examples/detector_well.cfg --json > /dev/null", cli);
-  int runs = 20;
+  snprintf(cmd, sizeof cmd, "%s %s > /dev/null", cli, args);
   double t0 = now();
-  for (int i = 0; i < runs; i++)
-    if (system(cmd) != 0) {
-      fprintf(stderr, "bench: '%s' failed\n", cmd);
-      return 1;
-    }
-  double per = (now() - t0) / runs;
-  printf("single well end to end (%s): %.1f ms per run over %d runs (target < 20 ms)\n", cmd,
-         per * 1e3, runs);
-  return 0;
-}
-
-/* 3. well-width sweep throughput with 1 and 2 threads */
-static int bench_sweep_throughput(void) {
-  {
-    ew_error err = {0};
-    char msg[2048];
-    ew_catalogue *wcat = NULL;
-    ew_wf_model *wm = NULL;
-    sweep_bench br;
-    const size_t points = 800;
-    ew_options wo; /* as `epiwell sweep` solves: its columns carry no PL peaks */
-    ew_options_default(&wo);
-    wo.excitons = 0;
-    if (ew_catalogue_load(NULL, &wcat, &err) != EW_OK ||
-        ew_wf_model_open("examples/detector_well.cfg", wcat, &wo, &wm, &err) != EW_OK ||
-        bench_sweep(wm, "well.thickness", 4.0, 12.0, points, 2, &br, &err) != EW_OK) {
-      fprintf(stderr, "bench: sweep: %s\n", ew_error_text(&err, msg, sizeof msg));
-      ew_wf_model_free(wm);
-      ew_catalogue_free(wcat);
-      return 1;
-    }
-    printf("well-width sweep throughput: examples/detector_well.cfg well.thickness 4-12 nm, %zu "
-           "values, levels and main lines of e, hh, lh%s\n",
-           br.points, ew_wf_have_openmp() ? "" : " (built without OpenMP)");
-    printf("  1 thread : %.3f s, %.0f solves/s\n", br.seconds_1, br.per_s_1);
-    printf("  %d threads: %.3f s, %.0f solves/s\n", br.threads, br.seconds_n, br.per_s_n);
-    printf("  scaling %d/1 threads = %.2f; target >= 500 single-well solves/s on 2 cores\n",
-           br.threads, br.per_s_n / br.per_s_1);
-    ew_wf_model_free(wm);
-    ew_catalogue_free(wcat);
+  if (system(cmd) != 0) {
+    fprintf(stderr, "bench: '%s' failed\n", cmd);
+    return -1.0;
   }
+  return now() - t0;
+}
+
+/* One end-to-end CLI run, timed for this program and (EW_BENCH_REF) the reference one, runs
+ * times each, alternating (so that both see the same load): the best run of each, the
+ * figure least disturbed by the other users of the machine. */
+static int bench_cli_pair(const char *what, const char *cli, const char *ref, const char *args,
+                          int runs, double target_ratio) {
+  double best = INFINITY, best_ref = INFINITY;
+  for (int i = 0; i < runs; i++) {
+    double t = time_cli(cli, args), tr = ref ? time_cli(ref, args) : 0.0;
+    if (t < 0 || tr < 0) return 1;
+    best = fmin(best, t), best_ref = fmin(best_ref, tr);
+  }
+  printf("%s end to end (epiwell %s): %.1f ms, best of %d runs\n", what, args, best * 1e3,
+         runs);
+  if (!ref)
+    printf("  (set EW_BENCH_REF to an older epiwell for the before/after ratio; target: "
+           "before / after >= %.0f)\n", target_ratio);
+  else
+    printf("  reference %s: %.1f ms; ratio reference / this = %.2f (target >= %.0f)\n", ref,
+           best_ref * 1e3, best_ref / best, target_ratio);
   return 0;
 }
 
-/* 4. self-consistent Schrödinger–Poisson at 1e19 cm^-3 */
+/* 2. single-well and doped solves end to end through the CLI */
+static int bench_single_well(const char *cli, const char *ref) {
+  return bench_cli_pair("single well", cli, ref, "solve examples/detector_well.cfg --json", 20,
+                        2.0) ||
+         bench_cli_pair("doped detector", cli, ref, "solve examples/doped_detector.cfg --json",
+                        3, 10.0);
+}
+
+/* A copy of examples/detector_well.cfg with the parabolic electron mass (nonparabolic =
+ * false) in a temporary file; path receives its name.  0 on success. */
+static int parabolic_copy(char *path, size_t size) {
+  snprintf(path, size, "/tmp/epiwell-bench-parabolic-%ld.cfg", (long)getpid());
+  FILE *in = fopen("examples/detector_well.cfg", "r"), *out = fopen(path, "w");
+  int ok = in && out && fputs("nonparabolic = false;\n", out) >= 0;
+  char buf[4096];
+  size_t k;
+  while (ok && (k = fread(buf, 1, sizeof buf, in)) > 0) ok = fwrite(buf, 1, k, out) == k;
+  if (in) fclose(in);
+  if (out && fclose(out) != 0) ok = 0;
+  return ok ? 0 : 1;
+}
+
+/* The sweep throughput of stack file path over `key` from..to (points values). */
+static int sweep_of(const char *path, const char *key, double from, double to, size_t points,
+                    sweep_bench *br) {
+  ew_error err = {0};
+  char msg[2048];
+  ew_catalogue *wcat = NULL;
+  ew_wf_model *wm = NULL;
+  ew_options wo; /* as `epiwell sweep` solves: its columns carry no PL peaks */
+  ew_options_default(&wo);
+  wo.excitons = 0;
+  int rc = 0;
+  if (ew_catalogue_load(NULL, &wcat, &err) != EW_OK ||
+      ew_wf_model_open(path, wcat, &wo, &wm, &err) != EW_OK ||
+      bench_sweep(wm, key, from, to, points, 2, br, &err) != EW_OK) {
+    fprintf(stderr, "bench: sweep %s: %s\n", path, ew_error_text(&err, msg, sizeof msg));
+    rc = 1;
+  }
+  ew_wf_model_free(wm);
+  ew_catalogue_free(wcat);
+  return rc;
+}
+
+static void print_sweep(const char *what, const sweep_bench *br, double target) {
+  printf("  %s: 1 thread %.3f s, %.0f solves/s; %d threads %.3f s, %.0f solves/s (scaling "
+         "%.2f); ratio to the target %.0f/s = %.2f\n", what, br->seconds_1, br->per_s_1,
+         br->threads, br->seconds_n, br->per_s_n, br->per_s_n / br->per_s_1, target,
+         br->per_s_n / target);
+}
+
+/* The pencils of stack file path (fine grid and coarse grid of every second node, per band,
+ * with the bound window) written for tests/bench_scipy.py; 0 on success. */
+static int write_pencils(const char *path, const char *out) {
+  ew_catalogue *cat = NULL;
+  ew_stack *st = NULL;
+  ew_error err = {0};
+  if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
+      ew_stack_read_file(path, cat, &st, &err) != EW_OK) {
+    ew_catalogue_free(cat);
+    return 1;
+  }
+  size_t *cells = calloc(st->n_layers, sizeof *cells);
+  double step = st->grid_step_nm > 0 ? st->grid_step_nm : EW_DEFAULT_STEP_NM;
+  ew_grid_cells_for_step(st, step, cells);
+  ew_grid *g[2] = {ew_grid_layered(st, cells), NULL};
+  for (size_t k = 0; k < st->n_layers; k++) cells[k] /= 2;
+  g[1] = ew_grid_layered(st, cells);
+  FILE *f = fopen(out, "w");
+  int rc = f && g[0] && g[1] ? 0 : 1;
+  if (!rc) fprintf(f, "%d\n", EW_BAND_COUNT);
+  for (int b = 0; !rc && b < EW_BAND_COUNT; b++) {
+    ew_pencil *p = ew_pencil_build(g[0], (ew_band)b);
+    double top = ew_bound_window_top(st, g[0], (ew_band)b);
+    fprintf(f, "%.17g %.17g\n", p->vmin - 1e-9 * (1.0 + fabs(p->vmin)), top);
+    ew_pencil_free(p);
+    for (int k = 0; k < 2; k++) {
+      ew_pencil *q = ew_pencil_build(g[k], (ew_band)b);
+      fprintf(f, "%zu\n", q->n);
+      for (size_t i = 0; i < q->n; i++) fprintf(f, "%.17g ", q->diag[i]);
+      for (size_t i = 0; i + 1 < q->n; i++) fprintf(f, "%.17g ", q->off[i]);
+      for (size_t i = 0; i < q->n; i++) fprintf(f, "%.17g ", q->b[i]);
+      for (size_t i = 0; i < q->n; i++) fprintf(f, "%.17g ", g[k]->z[i]);
+      fprintf(f, "\n");
+      ew_pencil_free(q);
+    }
+  }
+  if (f && fclose(f) != 0) rc = 1;
+  ew_grid_free(g[0]);
+  ew_grid_free(g[1]);
+  free(cells);
+  ew_stack_free(st);
+  ew_catalogue_free(cat);
+  return rc;
+}
+
+/* Seconds per solve of the scipy baseline on the parabolic single well, or −1 when it cannot
+ * run (no Debian python3 with scipy: the line is skipped). */
+static double scipy_baseline(const char *cfg) {
+  if (system("/usr/bin/python3 -c 'import scipy.linalg' > /dev/null 2>&1") != 0) {
+    printf("  scripted baseline: SKIPPED - /usr/bin/python3 has no scipy (Debian: apt-get "
+           "install python3-scipy; a reference for the benchmark only)\n");
+    return -1.0;
+  }
+  char pen[256], cmd[1024], line[1 << 16];
+  snprintf(pen, sizeof pen, "/tmp/epiwell-bench-pencils-%ld.txt", (long)getpid());
+  if (write_pencils(cfg, pen) != 0) {
+    printf("  scripted baseline: could not write the pencils\n");
+    return -1.0;
+  }
+  snprintf(cmd, sizeof cmd, "/usr/bin/python3 tests/bench_scipy.py %s 200", pen);
+  FILE *p = popen(cmd, "r");
+  double sec = -1.0;
+  while (p && fgets(line, sizeof line, p))
+    if (sscanf(line, "seconds_per_solve %lf", &sec) == 1) break;
+  while (p && fgets(line, sizeof line, p)) {
+  }
+  if (p) pclose(p);
+  remove(pen);
+  return sec;
+}
+
+/* 3. sweep throughput (parabolic and Kane) and the scripted scipy baseline */
+static int bench_sweep_throughput(void) {
+  char par[256];
+  sweep_bench kane, para;
+  const size_t points = 800;
+  if (parabolic_copy(par, sizeof par) != 0 ||
+      sweep_of("examples/detector_well.cfg", "well.thickness", 4.0, 12.0, points, &kane) ||
+      sweep_of(par, "well.thickness", 4.0, 12.0, points, &para)) {
+    remove(par);
+    return 1;
+  }
+  printf("well-width sweep throughput: examples/detector_well.cfg well.thickness 4-12 nm, %zu "
+         "values, levels and main lines of e, hh, lh%s\n",
+         kane.points, ew_wf_have_openmp() ? "" : " (built without OpenMP)");
+  print_sweep("Kane mass ", &kane, 2000.0);
+  print_sweep("parabolic ", &para, 2000.0);
+  printf("  Kane / parabolic time per solve (1 thread) = %.2f\n", para.per_s_1 / kane.per_s_1);
+  double base = scipy_baseline(par);
+  remove(par);
+  if (base > 0)
+    printf("  scripted baseline (Debian python3-scipy eigh_tridiagonal, a reference only): "
+           "%.3f ms per solve; baseline / epiwell per solve (1 thread): parabolic %.2f, Kane "
+           "%.2f (target >= 3)\n", base * 1e3, base * para.per_s_1, base * kane.per_s_1);
+  return 0;
+}
+
+/* 4. self-consistent Schrödinger–Poisson: the 1e19 cm^-3 well and a doped sweep */
 static int bench_self_consistent(void) {
   { /* 10 nm GaAs doped 1e19 cm^-3 between Al0.3Ga0.7As barriers, 77 K: the outer iterations
        (target <= 30) */
@@ -256,6 +478,12 @@ static int bench_self_consistent(void) {
     ew_stack_free(sst);
     ew_catalogue_free(scat);
   }
+  sweep_bench br;
+  if (sweep_of("examples/doped_detector.cfg", "well.doping.donors", 1e18, 5e18, 40, &br))
+    return 1;
+  printf("doped sweep: examples/doped_detector.cfg well.doping.donors 1e18-5e18 cm^-3, %zu "
+         "values, self-consistent\n", br.points);
+  print_sweep("doped     ", &br, 50.0);
   return 0;
 }
 
@@ -361,12 +589,20 @@ int main(int argc, char **argv) {
   mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
 #endif
   const char *cli = argc > 1 ? argv[1] : "build/epiwell";
-  if (argc > 2 && !strcmp(argv[2], "reader")) return bench_reader(); /* part 5 alone */
-  if (argc > 2 && !strcmp(argv[2], "gain")) return bench_gain();     /* part 7 alone */
-  if (bench_superlattice() != 0 || bench_single_well(cli) != 0 || bench_sweep_throughput() != 0)
-    return 1;
-  if (bench_self_consistent() != 0) return 1;
-  if (bench_reader()) return 1;
-  if (bench_dispersion()) return 1;
-  return bench_gain();
+  const char *ref = getenv("EW_BENCH_REF");
+  if (ref && !*ref) ref = NULL;
+  /* build/bench CLI [PART]: one part alone (superlattice, memory, cli, sweep, sc, reader,
+     dispersion, gain); no PART: all of them */
+  const char *part = argc > 2 ? argv[2] : NULL;
+#define PART(name) (!part || !strcmp(part, name))
+  if (PART("superlattice") && bench_superlattice() != 0) return 1;
+  if (PART("memory")) bench_memory();
+  if (PART("cli") && bench_single_well(cli, ref) != 0) return 1;
+  if (PART("sweep") && bench_sweep_throughput() != 0) return 1;
+  if (PART("sc") && bench_self_consistent() != 0) return 1;
+  if (PART("reader") && bench_reader() != 0) return 1;
+  if (PART("dispersion") && bench_dispersion() != 0) return 1;
+  if (PART("gain") && bench_gain() != 0) return 1;
+#undef PART
+  return 0;
 }
