@@ -21,7 +21,7 @@
 #include "error.h"
 #include "nonparabolic.h"
 
-#define CT_PANELS 64    /* geometric panels in s = √(E − E_edge) per piece */
+#define CT_PANELS 32    /* geometric panels in s = √(E − E_edge) per piece */
 #define CT_GRADE 14.0   /* panel growth: the first panel is e^−14 of the piece (in s) */
 #define CT_RESCALE 1e150 /* rescale a shot solution beyond this size */
 
@@ -46,6 +46,12 @@ int ew_continuum_applies(const ew_result *r, size_t lower, char *why, size_t siz
   else if (r->grid->n < 3) msg = "the grid is too small";
   if (msg && why && size) snprintf(why, size, "%s", msg);
   return msg == NULL;
+}
+
+double ew_continuum_edge_eV(const ew_result *r, ew_band band) {
+  const ew_grid *g = r->grid;
+  double v = fmin(g->pot[band][0], g->pot[band][g->n - 1]); /* positive-mass scale */
+  return band == EW_BAND_E ? v : -v;
 }
 
 void ew_continuum_free(ew_continuum *c) {

@@ -36,6 +36,10 @@
  * (a sentence) in why[size] (why may be NULL). */
 int ew_continuum_applies(const ew_result *r, size_t lower, char *why, size_t size);
 
+/* The bottom of band's continuum on its own scale (absolute eV as the states': electrons
+ * Ec, holes Ev): the lower of the two outer faces' band edges, where the leads open. */
+double ew_continuum_edge_eV(const ew_result *r, ew_band band);
+
 typedef struct ew_continuum ew_continuum;
 
 /* The continuum of the band of bound state `lower` (an index into r->states) as seen from
@@ -51,7 +55,8 @@ double ew_continuum_threshold_eV(const ew_continuum *c);
 double ew_continuum_dfdE(ew_continuum *c, double photon_eV);
 /* ∫ df/dE over the whole continuum of the grid (up to the leads' band tops), by composite
  * Gauss–Legendre quadrature in s = √(E − E_edge) on geometrically graded panels, split at
- * each lead's band bottom.  Quadrature error below 1e-6 of the sum for the wells tested. */
+ * each lead's band bottom.  Quadrature: 24, 32 and 64 panels agree within 3e-4 of the
+ * whole sum rule (1) on the examples; the parabolic sum comes out 1 within 1e-4. */
 double ew_continuum_oscillator_sum(ew_continuum *c);
 /* Σ_j f_ij over the bound lines i → j of r (the bound part of the sum rule). */
 double ew_continuum_bound_sum(const ew_result *r, size_t lower);
