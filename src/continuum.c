@@ -35,6 +35,7 @@ struct ew_continuum {
   const double *psi;
   double *M;       /* [n+1] cell mass integrals at the energy of the last shot */
   ew_kane_cells *kane; /* Kane electrons, else NULL (masses fixed: g->cell_mass) */
+  double kane_cap;     /* Kane masses are taken at min(E, kane_cap) */
   double V[2];     /* lead potentials: left, right */
 };
 
@@ -89,19 +90,33 @@ ew_status ew_continuum_new(const ew_result *r, size_t lower, ew_continuum **out,
   c->zbar = zb;
   c->V[0] = g->pot[c->band][0];
   c->V[1] = g->pot[c->band][g->n - 1];
+  /* The Kane masses up to the smallest Γ gap of the stack above the continuum's bottom, held
+     there beyond: far above the gap the three-level model means nothing (its mass grows
+     without bound and then turns negative, kane_m falls back to m_e), and the far continuum
+     weighs in the sum rule only through its tail, which then decays as for constant masses. */
+  double gap = INFINITY;
+  for (size_t k = 0; k < r->stack->n_layers; k++)
+    if (r->stack->layers[k].bands.Eg_G_eV > 0) gap = fmin(gap, r->stack->layers[k].bands.Eg_G_eV);
+  c->kane_cap = fmin(c->V[0], c->V[1]) + (isfinite(gap) ? gap : 1.0);
   *out = c;
   return EW_OK;
 }
 
-/* cos θ of a lead (t, h, V) at E: |cos θ| < 1 when its channel is open */
-static double lead_cos(double t, double h, double V, double E) { return 1.0 - h * (E - V) / (2.0 * t); }
+/* cos θ of a lead (t, h, V) at E (|cos θ| < 1 when its channel is open) and sin θ, from
+ * x = 1 − cos θ: sin²θ = x(2 − x) keeps its digits near the band bottom, where cos θ → 1 */
+static double lead_cos(double t, double h, double V, double E, double *sn) {
+  double x = h * (E - V) / (2.0 * t);
+  *sn = x > 0 && x < 2 ? sqrt(x * (2.0 - x)) : 0.0;
+  return 1.0 - x;
+}
 
 /* The root λ of λ + 1/λ = 2c with |λ| < 1 (|c| > 1): the solution decaying into a closed lead */
 static double decaying(double c) { return c > 0 ? c - sqrt(c * c - 1.0) : c + sqrt(c * c - 1.0); }
 
 /* (π t / sin θ)·[…] of continuum.h for two solutions sampled at consecutive lead nodes */
-static double lead_gram(double t, double cs, double a0, double a1, double b0, double b1) {
-  return EW_PI * t / sqrt(1.0 - cs * cs) * (a0 * b0 + a1 * b1 - cs * (a0 * b1 + a1 * b0));
+static double lead_gram(double t, double cs, double sn, double a0, double a1, double b0,
+                        double b1) {
+  return EW_PI * t / sn * (a0 * b0 + a1 * b1 - cs * (a0 * b1 + a1 * b0));
 }
 
 /* d^T G⁻¹ d (nm²/eV) of the continuum at E (positive-mass scale); 0 where no lead is open. */
@@ -109,15 +124,18 @@ static double shoot(ew_continuum *c, double E) {
   const ew_grid *g = c->g;
   const size_t n = g->n;
   const double K = EW_HB2M0_EVNM2, *V = g->pot[c->band], *M = c->M;
-  if (c->kane) ew_kane_cells_eval(c->kane, E, c->M);
+  if (c->kane) ew_kane_cells_eval(c->kane, fmin(E, c->kane_cap), c->M);
   double tL = K / M[0], tR = K / M[n];
-  double cL = lead_cos(tL, g->h[0], c->V[0], E), cR = lead_cos(tR, g->h[n], c->V[1], E);
-  int openL = fabs(cL) < 1.0, openR = fabs(cR) < 1.0;
+  double sL, sR;
+  double cL = lead_cos(tL, g->h[0], c->V[0], E, &sL), cR = lead_cos(tR, g->h[n], c->V[1], E, &sR);
+  int openL = sL > 0, openR = sR > 0;
   if (!openL && !openR) return 0.0;
   /* solutions a (and b when the left lead is open), from the samples at nodes −1 and 0 */
   int ns = openL ? 2 : 1;
   double pm[2], p0[2], l0[2][2], d[2] = {0.0, 0.0};
-  if (openL) pm[0] = 1.0, p0[0] = 0.0, pm[1] = 0.0, p0[1] = 1.0;
+  /* open: the lead's standing waves sin θj and cos θj (orthogonal there, G_L = π t sin θ · 1,
+     well conditioned even at the band bottom); closed: the wave decaying into the lead */
+  if (openL) pm[0] = -sL, p0[0] = 0.0, pm[1] = cL, p0[1] = 1.0;
   else pm[0] = decaying(cL), p0[0] = 1.0;
   for (int s = 0; s < ns; s++) l0[s][0] = pm[s], l0[s][1] = p0[s];
   double off_prev = -tL;
@@ -142,13 +160,13 @@ static double shoot(ew_continuum *c, double E) {
     double lam = decaying(cR), al = p0[1] - lam * pm[1], be = -(p0[0] - lam * pm[0]);
     double dd = al * d[0] + be * d[1], x0 = al * l0[0][0] + be * l0[1][0],
            x1 = al * l0[0][1] + be * l0[1][1];
-    double gl = lead_gram(tL, cL, x0, x1, x0, x1);
+    double gl = lead_gram(tL, cL, sL, x0, x1, x0, x1);
     return gl > 0 ? dd * dd / gl : 0.0;
   }
   for (int a = 0; a < ns; a++)
     for (int b = 0; b < ns; b++) {
-      if (openL) G[a][b] += lead_gram(tL, cL, l0[a][0], l0[a][1], l0[b][0], l0[b][1]);
-      if (openR) G[a][b] += lead_gram(tR, cR, pm[a], p0[a], pm[b], p0[b]);
+      if (openL) G[a][b] += lead_gram(tL, cL, sL, l0[a][0], l0[a][1], l0[b][0], l0[b][1]);
+      if (openR) G[a][b] += lead_gram(tR, cR, sR, pm[a], p0[a], pm[b], p0[b]);
     }
   if (ns == 1) return G[0][0] > 0 ? d[0] * d[0] / G[0][0] : 0.0;
   /* 2×2 by the Cholesky form d1²/g11 + (d2 − g12 d1/g11)² / (g22 − g12²/g11) */
