@@ -41,7 +41,9 @@ static const char match_usage[] =
     "                     [--tolerance VALUE] [--samples N] [--json] [--threads N]\n"
     "                     [--grid-step NM] [--no-estimate]\n"
     "       (two unknowns: --vary twice and --line/--target twice)\n"
-    "       VALUE is a number with a unit: eV, meV, nm, um or \xc2\xb5m (e.g. 9.0um, 1.548eV)\n";
+    "       VALUE is a number with a unit: eV, meV, nm, um or \xc2\xb5m (e.g. 9.0um, 1.548eV)\n"
+    "       LINE: e1-e2, e1-hh1, e1-hh1:pl (PL peak), e1-e2:depol (depolarised), or e2-top\n"
+    "       (e2's distance below the barrier top: --target 0meV puts it at the top)\n";
 static const char tolerance_usage[] =
     "usage: epiwell tolerance STACK [--dx DX] [--rate PCT] [--ladder LAYER] [--json]\n"
     "                         [--threads N] [--grid-step NM] [--no-estimate]\n"
