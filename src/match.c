@@ -656,6 +656,8 @@ static ew_status match_setup(const ew_wf_model *m, const ew_wf_range *ranges, si
       return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--target '%g%s' must be > 0 (only a level's "
                      "distance below the barrier top, e.g. --line e2-top, may be aimed at 0)",
                      targets[i].value, targets[i].is_wavelength ? " (wavelength)" : " eV");
+    if (!(targets[i].eV > 0) && nr == 2) /* Newton's residual is relative to the targets */
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--target 0 works with one unknown only");
     if (ew_wf_line_is_top(lines[i]) && targets[i].is_wavelength)
       return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--line %s is an energy below the barrier top: "
                      "give --target in eV or meV", lines[i]);
