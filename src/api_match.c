@@ -66,7 +66,11 @@ ew_status ew_match_line(ew_match *mt, const char *line, ew_error *err) {
 ew_status ew_match_target(ew_match *mt, const char *quantity, ew_error *err) {
   if (!mt || !quantity) return NULL_ARG("ew_match_target");
   if (mt->nt == 2) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--target: at most two targets");
-  ew_status st = ew_wf_quantity_parse(quantity, 0, "--target", &mt->targets[mt->nt], err);
+  /* 0 is accepted here for an energy: the distance below the barrier top (--line e2-top)
+     may be aimed at 0; the match refuses it for every other line */
+  ew_status st = ew_wf_quantity_parse(quantity, 1, "--target", &mt->targets[mt->nt], err);
+  if (st == EW_OK && mt->targets[mt->nt].value == 0 && mt->targets[mt->nt].is_wavelength)
+    st = ew_fail(err, EW_ERR_USAGE, NULL, 0, "--target '%s' must be > 0", quantity);
   if (st == EW_OK) mt->nt++;
   return st;
 }

@@ -6,6 +6,7 @@
 #include "chart_file.h"
 #include "epiwell.h"
 #include "error.h"
+#include "continuum.h"
 #include "output.h"
 #include "output_set.h"
 #include "plot.h"
@@ -26,7 +27,10 @@ ew_status ew_result_write_table(const ew_result *res, FILE *out, ew_error *err) 
 
 ew_status ew_result_write_json(const ew_result *res, FILE *out, ew_error *err) {
   if (!res || !out) return NULL_ARG("ew_result_write_json");
-  ew_output_json(res, out);
+  double sr[2];
+  ew_status st = ew_continuum_sum_rule_e1(res, &sr[0], &sr[1], err);
+  if (st != EW_OK) return st;
+  ew_output_json_sum(res, sr, out);
   return stream_ok(out, "result JSON", err);
 }
 

@@ -41,11 +41,13 @@ static const char match_usage[] =
     "                     [--tolerance VALUE] [--samples N] [--json] [--threads N]\n"
     "                     [--grid-step NM] [--no-estimate] [--shard K/N|auto]\n"
     "       (two unknowns: --vary twice and --line/--target twice)\n"
+    "       VALUE is a number with a unit: eV, meV, nm, um or \xc2\xb5m (e.g. 9.0um, 1.548eV)\n"
+    "       LINE: e1-e2, e1-hh1, e1-hh1:pl (PL peak), e1-e2:depol (depolarised), or e2-top\n"
+    "       (e2's distance below the barrier top: --target 0meV puts it at the top)\n"
     "  --shard K/N  scan only the K-th of N parts of the samples (1D: of the intervals\n"
     "      between samples; 2D: of the rows of grid cells) and write that part as JSON, one\n"
     "      line; epiwell merge joins the parts into exactly the --json of the whole match\n"
-    "  --shard auto  the part of this task of a Slurm job array (as for sweep)\n"
-    "       VALUE is a number with a unit: eV, meV, nm, um or \xc2\xb5m (e.g. 9.0um, 1.548eV)\n";
+    "  --shard auto  the part of this task of a Slurm job array (as for sweep)";
 static const char tolerance_usage[] =
     "usage: epiwell tolerance STACK [--dx DX] [--rate PCT] [--ladder LAYER] [--json]\n"
     "                         [--threads N] [--grid-step NM] [--no-estimate]\n"

@@ -51,11 +51,26 @@ static int parse_line(const char *line, ew_wf_level *a, ew_wf_level *b, int *int
   return a->band == EW_BAND_E || b->band == EW_BAND_E;
 }
 
+int ew_wf_line_is_top(const char *line) {
+  size_t len = strlen(line);
+  ew_wf_level lv;
+  return len > 4 && !strcmp(line + len - 4, "-top") && parse_level(line, len - 4, &lv);
+}
+
 ew_status ew_wf_line_energy(const ew_result *res, const char *line_in, double *energy_eV,
                             ew_error *err) {
   ew_wf_level a, b;
   int ib;
   *energy_eV = NAN;
+  /* "e2-top": how far e2 lies below the top of its band's bound window (below_top_eV; 0 at
+     the top, where the level leaves the well) */
+  if (ew_wf_line_is_top(line_in)) {
+    parse_level(line_in, strlen(line_in) - 4, &a);
+    if (!res) return EW_OK;
+    size_t i = ew_wf_level_index(res, a.band, a.n);
+    if (i != SIZE_MAX) *energy_eV = ew_result_state_below_top_eV(res, i);
+    return EW_OK;
+  }
   /* "e1-hh1:pl": the photoluminescence peak, the interband line less its exciton binding */
   char line[64];
   snprintf(line, sizeof line, "%s", line_in);
@@ -72,7 +87,8 @@ ew_status ew_wf_line_energy(const ew_result *res, const char *line_in, double *e
                    "level (interband, e.g. e1-hh1, e1-lh1); an interband line with ':pl' "
                    "(e1-hh1:pl) is its photoluminescence peak, exciton included; an "
                    "intersubband line with ':depol' (e1-e2:depol) its depolarisation-shifted "
-                   "absorption line", line_in);
+                   "absorption line; a level with '-top' (e2-top) its distance below the "
+                   "barrier top", line_in);
   if (!res) return EW_OK;
   if (depol) {
     size_t ia = ew_wf_level_index(res, a.band, a.n), ib2 = ew_wf_level_index(res, b.band, b.n);

@@ -29,10 +29,16 @@ const ew_line *ew_wf_find_line(const ew_result *r, size_t upper, size_t lower);
 
 /* Energy of line "A-B" in a result: A, B level labels of one band (intersubband,
  * |E_A − E_B|) or an electron and a hole level (interband, E_e − E_h); "A-B:pl" the
- * photoluminescence peak of an interband line.  NaN when a level is not bound.  EW_ERR_USAGE
+ * photoluminescence peak of an interband line; "A-B:depol" the depolarisation-shifted
+ * intersubband line; "e2-top" below (ew_wf_line_is_top).  NaN when a level is not bound.  EW_ERR_USAGE
  * for a malformed name (checked without a result when res is NULL). */
 ew_status ew_wf_line_energy(const ew_result *res, const char *line, double *energy_eV,
                             ew_error *err);
+/* "e2-top" (a level and "-top"): the "line" is the level's distance below the top of its
+ * band's bound window, ew_result_state_below_top_eV (> 0 while bound; 0 where the level
+ * leaves the well, the aim of a bound-to-quasi-bound design); NaN when not bound.  1 for
+ * such a name. */
+int ew_wf_line_is_top(const char *line);
 
 /* ---- main lines ------------------------------------------------------------------------ */
 typedef struct {

@@ -22,6 +22,7 @@ typedef struct {
   const char *keys[2];
   const char *line[2];
   size_t nlines;
+  int top;  /* line[0] is a level's distance below the barrier top ("e2-top", line_name.h) */
 } wf_eval;
 
 /* Line energies at vals; NaN where a level is not bound.  Errors of the stack (a value the
@@ -196,6 +197,10 @@ static ew_status sample_grid(const wf_eval *ev, size_t npts, const double *vals,
 }
 
 static void fmt_energy(char *buf, size_t size, double eV) {
+  if (!(eV > 0)) { /* a distance below the barrier top may be 0: no wavelength */
+    snprintf(buf, size, "%.6g eV", eV);
+    return;
+  }
   double nm = EW_HC_EVNM / eV;
   if (nm >= 2000) snprintf(buf, size, "%.6g eV = %.5g \xc2\xb5m", eV, nm / 1e3);
   else snprintf(buf, size, "%.6g eV = %.5g nm", eV, nm);
@@ -242,8 +247,12 @@ static ew_status find_edges(const wf_eval *ev, samples_1d *s, double span, int n
 }
 
 /* The line's range over the samples, and every bracket of E − T (an exact hit is a bracket
- * of its own; an interval with one end unbound is bracketed from the edge). */
-static void brackets_1d(samples_1d *s, double T) {
+ * of its own; an interval with one end unbound is bracketed from the edge).  A level's
+ * distance below the barrier top (top) goes to 0 where the level leaves the well, which is
+ * the edge itself: a target between 0 and the value at the edge (the bisection's last bound
+ * point, within its tolerance of the edge) is met at the edge, an exact hit whose residual
+ * is that value. */
+static void brackets_1d(samples_1d *s, double T, int top) {
   const double *v = s->v, *E = s->E;
   s->emin = INFINITY;
   s->emax = -INFINITY;
@@ -259,6 +268,10 @@ static void brackets_1d(samples_1d *s, double T) {
     if (i + 1 == s->S) break;
     double a = v[i], fa = E[i] - T, b = v[i + 1], fb = E[i + 1] - T;
     if (isfinite(s->Eedge[i])) { /* one end unbound: bracket from the edge */
+      if (top && T >= 0 && T <= s->Eedge[i]) {
+        s->br[s->nb++] = (wf_bracket){s->vedge[i], s->Eedge[i] - T, s->vedge[i], 0, 1};
+        continue;
+      }
       if (isfinite(E[i])) b = s->vedge[i], fb = s->Eedge[i] - T;
       else a = s->vedge[i], fa = s->Eedge[i] - T;
     } else if (!isfinite(fa) || !isfinite(fb)) {
@@ -296,13 +309,14 @@ static ew_status solve_brackets(const wf_eval *ev, const ew_wf_range *r,
     ew_error e = {0};
     ew_wf_solution *sol = &out->sol[k];
     const wf_bracket *br = &s->br[k];
-    double root = br->a, froot = 0.0;
+    double root = br->a, froot = br->exact ? br->fa : 0.0; /* exact: its residual */
     ew_status q = EW_OK;
     if (!br->exact)
       q = brent(ev, T, br->a, br->fa, br->b, br->fb, WF_XTOL_REL, xtol_abs, &root, &froot, &e);
     sol->value[0] = root;
     sol->energy_eV[0] = froot + T;
-    sol->wavelength_nm[0] = EW_HC_EVNM / sol->energy_eV[0];
+    /* a distance below the barrier top is no photon energy: no wavelength */
+    sol->wavelength_nm[0] = ev->top ? NAN : EW_HC_EVNM / sol->energy_eV[0];
     sol->residual_eV[0] = froot;
     sol->value_minus = sol->value_plus = sol->uncertainty = NAN;
     if (q == EW_OK && tol && isfinite(tm))
@@ -358,7 +372,7 @@ static ew_status match_1d(const wf_eval *ev, const ew_wf_range *r, const ew_wf_q
   rc = sample_grid(ev, m, s.v, s.E, nt, err);
   if (rc == EW_OK) rc = find_edges(ev, &s, span, nt, err);
   if (rc != EW_OK) goto done;
-  brackets_1d(&s, out->target[0].eV);
+  brackets_1d(&s, out->target[0].eV, ev->top);
   out->reached_min_eV[0] = isfinite(s.emin) ? s.emin : NAN;
   out->reached_max_eV[0] = isfinite(s.emax) ? s.emax : NAN;
   out->sol = calloc(s.nb ? s.nb : 1, sizeof *out->sol);
@@ -680,6 +694,15 @@ static ew_status match_setup(const ew_wf_model *m, const ew_wf_range *ranges, si
     if (rc != EW_OK) return rc;
     if (strlen(ranges[i].key) >= sizeof out->key[i] || strlen(lines[i]) >= sizeof out->line[i])
       return ew_fail(err, EW_ERR_USAGE, NULL, 0, "key or line name too long");
+    if (!(targets[i].eV > 0) && !(ew_wf_line_is_top(lines[i]) && !targets[i].is_wavelength))
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--target '%g%s' must be > 0 (only a level's "
+                     "distance below the barrier top, e.g. --line e2-top, may be aimed at 0)",
+                     targets[i].value, targets[i].is_wavelength ? " (wavelength)" : " eV");
+    if (!(targets[i].eV > 0) && nr == 2) /* Newton's residual is relative to the targets */
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--target 0 works with one unknown only");
+    if (ew_wf_line_is_top(lines[i]) && targets[i].is_wavelength)
+      return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--line %s is an energy below the barrier top: "
+                     "give --target in eV or meV", lines[i]);
     strcpy(out->key[i], ranges[i].key);
     strcpy(out->line[i], lines[i]);
     out->target[i] = targets[i];
@@ -689,6 +712,7 @@ static ew_status match_setup(const ew_wf_model *m, const ew_wf_range *ranges, si
   }
   if (nr == 2 && !strcmp(ranges[0].key, ranges[1].key))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--vary %s given twice", ranges[0].key);
+  ev->top = ew_wf_line_is_top(lines[0]);
   if (tolerance) {
     out->have_tolerance = 1;
     out->tolerance = *tolerance;
@@ -750,7 +774,7 @@ ew_status ew_wf_match(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
   memset(out, 0, sizeof *out);
   ew_wf_match_opt o = {0};
   if (oin) o = *oin;
-  wf_eval ev = {NULL, 0, {NULL, NULL}, {NULL, NULL}, 0};
+  wf_eval ev = {NULL, 0, {NULL, NULL}, {NULL, NULL}, 0, 0};
   ew_status rc = match_setup(m, ranges, nr, lines, targets, nlines, tolerance, &ev, out, err);
   if (rc == EW_OK) rc = match_samples(ranges, nr, &o, out, err);
   if (rc != EW_OK) return rc;
@@ -794,7 +818,9 @@ static int same_band_line(const char *line) {
 void ew_wf_match_print(const ew_wf_match_result *r, FILE *out) {
   for (size_t i = 0; i < r->nkeys; i++) {
     char t[64];
-    fmt_energy(t, sizeof t, r->target[i].eV);
+    if (ew_wf_line_is_top(r->line[i])) /* an energy below the barrier top: no wavelength */
+      snprintf(t, sizeof t, "%.6g eV below the barrier top", r->target[i].eV);
+    else fmt_energy(t, sizeof t, r->target[i].eV);
     fprintf(out, "target: %s at %s\n", r->line[i], t);
   }
   if (r->have_tolerance)
@@ -809,7 +835,8 @@ void ew_wf_match_print(const ew_wf_match_result *r, FILE *out) {
   for (size_t i = 0; i < r->nkeys; i++) fprintf(out, " %16s", r->key[i]);
   if (r->have_tolerance) fprintf(out, " %12s %14s %14s", "uncertainty", "at_target-tol", "at_target+tol");
   for (size_t i = 0; i < r->nkeys; i++)
-    fprintf(out, " %13s %13s", "energy_eV", same_band_line(r->line[i]) ? "lambda_um" : "lambda_nm");
+    fprintf(out, " %13s %13s", ew_wf_line_is_top(r->line[i]) ? "below_top_eV" : "energy_eV",
+            same_band_line(r->line[i]) ? "lambda_um" : ew_wf_line_is_top(r->line[i]) ? "" : "lambda_nm");
   fputc('\n', out);
   for (size_t k = 0; k < r->n; k++) {
     const ew_wf_solution *s = &r->sol[k];
@@ -819,8 +846,9 @@ void ew_wf_match_print(const ew_wf_match_result *r, FILE *out) {
       fprintf(out, " %12.4g %14.8g %14.8g", s->uncertainty, s->value_minus, s->value_plus);
     for (size_t i = 0; i < r->nkeys; i++) {
       int um = same_band_line(r->line[i]);
-      fprintf(out, um ? " %13.7f %13.5f" : " %13.7f %13.3f", s->energy_eV[i],
-              um ? s->wavelength_nm[i] * 1e-3 : s->wavelength_nm[i]);
+      if (ew_wf_line_is_top(r->line[i])) fprintf(out, " %13.3e %13s", s->energy_eV[i], "");
+      else fprintf(out, um ? " %13.7f %13.5f" : " %13.7f %13.3f", s->energy_eV[i],
+                   um ? s->wavelength_nm[i] * 1e-3 : s->wavelength_nm[i]);
     }
     fputc('\n', out);
   }

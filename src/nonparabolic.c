@@ -158,6 +158,29 @@ double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, con
   return slope_of(g->n, work, work + nc, psi);
 }
 
+struct ew_kane_cells {
+  np_ctx c;
+};
+
+ew_kane_cells *ew_kane_cells_new(const ew_stack *st, const ew_grid *g) {
+  ew_kane_cells *k = malloc(sizeof *k);
+  if (k && !ctx_build(&k->c, st, g)) {
+    free(k);
+    k = NULL;
+  }
+  return k;
+}
+
+void ew_kane_cells_eval(const ew_kane_cells *k, double E, double *M) {
+  ctx_eval(&k->c, E, M, NULL, NULL);
+}
+
+void ew_kane_cells_free(ew_kane_cells *k) {
+  if (!k) return;
+  ctx_free(&k->c);
+  free(k);
+}
+
 int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int nonparabolic,
                       size_t count, const double *E, const double *psi, double *out,
                       double *trk) {

@@ -31,6 +31,14 @@ double ew_kane_mass(const ew_bands *b, double eps_eV);
 double ew_nonparabolic_slope(const ew_stack *st, const ew_grid *g, double E, const double *psi,
                              double *work);
 
+/* The electrons' cell mass integrals M_c = ∫_c m(E) dz at many energies E (the continuum,
+ * continuum.c): the cell ∩ layer pieces are found once by _new (NULL when out of memory),
+ * _eval fills M[g->n + 1] at E (the Kane mass where a piece has one, else m_e). */
+typedef struct ew_kane_cells ew_kane_cells;
+ew_kane_cells *ew_kane_cells_new(const ew_stack *st, const ew_grid *g);
+void ew_kane_cells_eval(const ew_kane_cells *k, double E, double *M);
+void ew_kane_cells_free(ew_kane_cells *k); /* NULL is a no-op */
+
 /* In-plane masses (m0) of count subbands of one band at k∥ = 0: E(k∥) = E + K k∥² m0/m∥ with
  *   m0/m∥ = ⟨ψ| m0/m∥(z, E) |ψ⟩ / (1 − ∂λ/∂E)
  * (first order in k∥²; U. Ekenberg, Phys. Rev. B 40, 7714 (1989)): electrons use the Kane

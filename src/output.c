@@ -17,6 +17,7 @@
 #include "text.h"
 #include "csv_writer.h"
 #include "error.h"
+#include "continuum.h"
 #include "json_writer.h"
 #include "poisson.h"
 #include "stack_caveats.h" /* ew_stack_layer_hc_nm */
@@ -403,7 +404,28 @@ static void json_sp(ew_json *j, const ew_sp_info *sp) {
   ew_json_key_num(j, "acceptors_ionised_cm2", sp->acceptors_ion_cm2);
 }
 
+/* "sum_rule": the Thomas–Reiche–Kuhn sum from e1, bound lines and continuum (continuum.h);
+ * null without e1 or where the continuum does not apply (a field). */
+static void json_sum_rule(ew_json *j, const double sr[2]) {
+  ew_json_key(j, "sum_rule");
+  if (!sr || !isfinite(sr[0]) || !isfinite(sr[1])) {
+    ew_json_null(j);
+    return;
+  }
+  ew_json_begin_object(j);
+  ew_json_key_str(j, "from", "e1");
+  ew_json_key_num(j, "bound", sr[0]);
+  ew_json_key_num(j, "continuum", sr[1]);
+  ew_json_end_object(j);
+}
+
 void ew_output_json(const ew_result *r, FILE *out) {
+  double sr[2];
+  if (ew_continuum_sum_rule_e1(r, &sr[0], &sr[1], NULL) != EW_OK) sr[0] = sr[1] = NAN;
+  ew_output_json_sum(r, sr, out);
+}
+
+void ew_output_json_sum(const ew_result *r, const double sum_rule[2], FILE *out) {
   const ew_stack *st = r->stack;
   ew_json j;
   ew_json_init(&j, out);
@@ -429,6 +451,7 @@ void ew_output_json(const ew_result *r, FILE *out) {
   json_states(&j, r);
   json_transitions(&j, r);
   json_sp(&j, r->sp);
+  json_sum_rule(&j, sum_rule);
   ew_json_end_object(&j);
   ew_json_finish(&j); /* the stream's error state stays for the caller to check */
 }

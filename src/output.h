@@ -9,6 +9,10 @@
 void ew_output_table(const ew_result *r, FILE *out);
 /* One JSON object (see README "Output reference"). */
 void ew_output_json(const ew_result *r, FILE *out);
+/* The same with the sum rule from e1 given ({bound, continuum}, ew_continuum_sum_rule_e1;
+ * NaN or NULL: "sum_rule":null): ew_output_json computes it and writes null when that fails
+ * (out of memory); ew_result_write_json computes it first and fails instead. */
+void ew_output_json_sum(const ew_result *r, const double sum_rule[2], FILE *out);
 /* Write profile.csv, levels.csv, lines.csv and wavefunctions.csv (or .csv.gz when gzip is
  * 1, or when gzip is −1 and the table is large) into dir.  Every file is written under a
  * temporary name first and all are renamed only when all were written, so an error leaves

@@ -405,7 +405,6 @@ static void sp_section(FILE *f, const ew_result *r) {
 /* One spectrum (0 interband, 1 intersubband) of s: the chart inline and its peaks. */
 static ew_status spectrum_figure(FILE *f, const ew_wf_spectra *s, int w, ew_error *err) {
   static const char *const id[2] = {"spectrum-interband", "spectrum-intersubband"};
-  const double *v = w ? s->intersubband : s->interband_rel;
   double *x = malloc((s->n ? s->n : 1) * sizeof *x), *y = malloc((s->n ? s->n : 1) * sizeof *y);
   if (!x || !y) {
     free(x);
@@ -416,7 +415,7 @@ static ew_status spectrum_figure(FILE *f, const ew_wf_spectra *s, int w, ew_erro
   for (size_t k = 0; k < s->n; k++)
     if (s->grid[k] & (w ? 2 : 1)) {
       x[m] = w ? 1e3 * s->E_eV[k] : s->E_eV[k];
-      y[m++] = v[k];
+      y[m++] = ew_wf_spectra_value(s, w, k); /* intersubband: bound lines + continuum */
     }
   const double *ys[1] = {y};
   const char *names[1] = {w ? "absorbed fraction per pass" : "interband_rel"};

@@ -22,6 +22,7 @@
 
 #include "constants.h"
 #include "error.h"
+#include "continuum.h"
 #include "exciton.h"
 
 double ew_intersubband_prefactor_eVcm2(void) {
@@ -41,10 +42,12 @@ static ew_status check_arrays(size_t npts, const double *E, const double *out, e
   return EW_OK;
 }
 
-ew_status ew_intersubband_absorption(const ew_result *r, double sheet_density_cm2,
-                                     double linewidth_meV, double theta_deg, double n_refr,
-                                     size_t npts, const double *E_eV, double *fraction,
-                                     ew_error *err) {
+/* The checks, e1 and the prefactor (e² h / (4 ε0 n c m*)) N_s (sin²θ / cos θ) in eV, with
+ * 1/m* = ⟨e1|1/m|e1⟩, shared by the bound and the continuum spectrum; *e1 = n_states when
+ * there is no bound electron. */
+static ew_status isb_setup(const ew_result *r, double sheet_density_cm2, double linewidth_meV,
+                           double theta_deg, double n_refr, size_t npts, const double *E_eV,
+                           double *fraction, size_t *e1_out, double *pref, ew_error *err) {
   if (!r) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "spectrum: no result");
   if (!(sheet_density_cm2 >= 0) || !isfinite(sheet_density_cm2))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0,
@@ -69,7 +72,9 @@ ew_status ew_intersubband_absorption(const ew_result *r, double sheet_density_cm
       e1 = i;
       break;
     }
-  if (e1 == r->n_states) return EW_OK; /* no bound electron: nothing absorbs (bound-bound) */
+  *e1_out = e1;
+  *pref = 0.0;
+  if (e1 == r->n_states) return EW_OK; /* no bound electron: nothing absorbs */
   /* the same ⟨e1|m0/m|e1⟩ the oscillator strengths were made with, so that f/m* is exactly
      2ΔE|z|²/ħ² (Kane electrons: the masses at e1's energy) */
   double invm = r->mean_inv_mass[e1];
@@ -78,8 +83,19 @@ ew_status ew_intersubband_absorption(const ew_result *r, double sheet_density_cm
                    invm);
   double th = theta_deg * EW_PI / 180.0;
   double geom = sin(th) * sin(th) / cos(th);
-  /* (e² h / (4 ε0 n c m*)) N_s (sin²θ / cos θ), with 1/m* = ⟨e1|1/m|e1⟩: eV */
-  double pref = ew_intersubband_prefactor_eVcm2() * invm / n_refr * sheet_density_cm2 * geom;
+  *pref = ew_intersubband_prefactor_eVcm2() * invm / n_refr * sheet_density_cm2 * geom;
+  return EW_OK;
+}
+
+ew_status ew_intersubband_absorption(const ew_result *r, double sheet_density_cm2,
+                                     double linewidth_meV, double theta_deg, double n_refr,
+                                     size_t npts, const double *E_eV, double *fraction,
+                                     ew_error *err) {
+  size_t e1;
+  double pref;
+  ew_status rc = isb_setup(r, sheet_density_cm2, linewidth_meV, theta_deg, n_refr, npts, E_eV,
+                           fraction, &e1, &pref, err);
+  if (rc != EW_OK || e1 == r->n_states) return rc;
   double g = 0.5e-3 * linewidth_meV; /* HWHM, eV */
   for (size_t j = 0; j < r->n_lines; j++) {
     const ew_line *ln = &r->lines[j];
@@ -88,6 +104,68 @@ ew_status ew_intersubband_absorption(const ew_result *r, double sheet_density_cm
     if (a == 0.0) continue;
     for (size_t k = 0; k < npts; k++) fraction[k] += a * lorentz(E_eV[k] - ln->energy_eV, g);
   }
+  return EW_OK;
+}
+
+/* The continuum's df/dE sampled for a Lorentzian of HWHM g up to photon energy xmax: the
+ * midpoint rule in s = √(x − threshold) (dense at the √ onset), steps of at most g/4 in
+ * energy.  *nodes, *weights (df/dE × dx) malloc'd; *count.  EW_ERR_NOMEM. */
+static ew_status continuum_nodes(ew_continuum *c, double g, double xmax, double **nodes,
+                                 double **weights, size_t *count, ew_error *err) {
+  double thr = ew_continuum_threshold_eV(c), span = xmax - thr;
+  *count = 0;
+  if (!(span > 0)) return EW_OK;
+  double smax = sqrt(span);
+  size_t m = (size_t)ceil(8.0 * span / g);
+  if (m > EW_CONTINUUM_NODES_MAX) m = EW_CONTINUUM_NODES_MAX;
+  if (m < 16) m = 16;
+  double ds = smax / (double)m;
+  *nodes = malloc(m * sizeof **nodes);
+  *weights = malloc(m * sizeof **weights);
+  if (!*nodes || !*weights) {
+    free(*nodes), free(*weights);
+    *nodes = *weights = NULL;
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (continuum spectrum)");
+  }
+  for (size_t j = 0; j < m; j++) {
+    double s = ((double)j + 0.5) * ds, x = thr + s * s;
+    (*nodes)[j] = x;
+    (*weights)[j] = ew_continuum_dfdE(c, x) * 2.0 * s * ds;
+  }
+  *count = m;
+  return EW_OK;
+}
+
+ew_status ew_intersubband_continuum_absorption(const ew_result *r, double sheet_density_cm2,
+                                               double linewidth_meV, double theta_deg,
+                                               double n_refr, size_t npts, const double *E_eV,
+                                               double *fraction, ew_error *err) {
+  size_t e1;
+  double pref;
+  ew_status rc = isb_setup(r, sheet_density_cm2, linewidth_meV, theta_deg, n_refr, npts, E_eV,
+                           fraction, &e1, &pref, err);
+  if (rc != EW_OK || e1 == r->n_states || pref == 0.0 || npts == 0 ||
+      !ew_continuum_applies(r, e1, NULL, 0))
+    return rc;
+  double g = 0.5e-3 * linewidth_meV, xmax = E_eV[0];
+  for (size_t k = 1; k < npts; k++) xmax = fmax(xmax, E_eV[k]);
+  ew_continuum *c;
+  rc = ew_continuum_new(r, e1, &c, err);
+  if (rc != EW_OK) return rc;
+  double *x = NULL, *wt = NULL;
+  size_t m = 0;
+  /* states up to 60 linewidths above the highest photon energy: the Lorentzian tails of
+     the rest weigh less than 1e-3 of a line's peak there */
+  rc = continuum_nodes(c, g, xmax + 120.0 * g, &x, &wt, &m, err);
+  ew_continuum_free(c);
+  if (rc != EW_OK) return rc;
+  for (size_t k = 0; k < npts; k++) {
+    double a = 0.0;
+    for (size_t j = 0; j < m; j++) a += wt[j] * lorentz(E_eV[k] - x[j], g);
+    fraction[k] = pref * a;
+  }
+  free(x);
+  free(wt);
   return EW_OK;
 }
 

@@ -30,6 +30,19 @@ ew_status ew_intersubband_absorption(const ew_result *r, double sheet_density_cm
                                      size_t npts, const double *E_eV, double *fraction,
                                      ew_error *err);
 
+/* The bound-to-continuum part of the same absorption: e1 into the open-boundary continuum
+ * of continuum.h, A(ħω) = (same prefactor) ∫ dE (df/dE) L(ħω − E) over photon energies E
+ * above the threshold (bound window top − E1), the states sampled with steps of at most a
+ * quarter of the half width (midpoint rule in √(E − threshold), at most
+ * EW_CONTINUUM_NODES_MAX states) up to 60 linewidths above the highest ħω.  Independent of
+ * the outer barriers' thickness (no box).  Zero without e1 or in a field (no flat barrier
+ * to open).  Same refusals as ew_intersubband_absorption. */
+#define EW_CONTINUUM_NODES_MAX 40000
+ew_status ew_intersubband_continuum_absorption(const ew_result *r, double sheet_density_cm2,
+                                               double linewidth_meV, double theta_deg,
+                                               double n_refr, size_t npts, const double *E_eV,
+                                               double *fraction, ew_error *err);
+
 /* Prefactor e² h / (4 ε0 c m0) of the intersubband absorption in eV cm² (to be divided by
  * n_refr and by the mass ratio m* / m0): 1.0977e-16 eV cm². */
 double ew_intersubband_prefactor_eVcm2(void);

@@ -9,6 +9,7 @@
 
 #include "chart_file.h"
 #include "constants.h"
+#include "continuum.h"
 #include "error.h"
 #include "solve.h"
 #include "spectra.h"
@@ -19,6 +20,7 @@ void ew_wf_spectra_free(ew_wf_spectra *s) {
   free(s->E_eV);
   free(s->interband_rel);
   free(s->intersubband);
+  free(s->continuum);
   free(s->grid);
   memset(s, 0, sizeof *s);
 }
@@ -42,7 +44,8 @@ static void interband_grid(const ew_result *r, ew_wf_spectra *s) {
   }
 }
 
-/* Intersubband grid: 0 to 1.5 × the highest e1 → ej line. */
+/* Intersubband grid: 0 to 1.5 × the highest of the e1 → ej lines and the continuum
+ * threshold (bound window top − e1). */
 static void intersubband_grid(const ew_result *r, ew_wf_spectra *s) {
   const ew_stack *st = r->stack;
   size_t e1 = r->n_states;
@@ -52,12 +55,18 @@ static void intersubband_grid(const ew_result *r, ew_wf_spectra *s) {
   for (size_t j = 0; j < r->n_lines; j++)
     if (r->lines[j].kind == EW_LINE_INTERSUBBAND && r->lines[j].lower == e1)
       emax = fmax(emax, r->lines[j].energy_eV);
+  char why[160] = "";
+  if (e1 < r->n_states && ew_continuum_applies(r, e1, why, sizeof why)) {
+    s->has_continuum = 1;
+    s->threshold_eV = ew_continuum_edge_eV(r, EW_BAND_E) - r->states[e1].energy_eV;
+    emax = fmax(emax, s->threshold_eV);
+  }
   if (!(st->sheet_density_cm2 > 0))
     snprintf(s->note[1], sizeof s->note[1], "intersubband column empty: %s sets no "
              "sheet_density (electrons per well in cm^-2, e.g. sheet_density = 5e11;)", st->path);
   else if (!isfinite(emax))
     snprintf(s->note[1], sizeof s->note[1], "intersubband column empty: %s has no e1->ej line "
-             "(fewer than two bound electron levels)", st->path);
+             "and no continuum from e1 (%s)", st->path, e1 < r->n_states ? why : "no bound e1");
   else {
     s->lo_eV[1] = 0.0;
     s->hi_eV[1] = 1.5 * emax;
@@ -79,7 +88,9 @@ static ew_status union_grid(ew_wf_spectra *s, ew_error *err) {
   s->grid = malloc(cap ? cap : 1);
   if (have[0]) s->interband_rel = malloc((cap ? cap : 1) * sizeof(double));
   if (have[1]) s->intersubband = malloc((cap ? cap : 1) * sizeof(double));
-  if (!s->E_eV || !s->grid || (have[0] && !s->interband_rel) || (have[1] && !s->intersubband))
+  if (have[1] && s->has_continuum) s->continuum = malloc((cap ? cap : 1) * sizeof(double));
+  if (!s->E_eV || !s->grid || (have[0] && !s->interband_rel) || (have[1] && !s->intersubband) ||
+      (have[1] && s->has_continuum && !s->continuum))
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (spectra)");
   size_t i[2] = {have[0] ? 0 : N, have[1] ? 0 : N}, n = 0;
   while (i[0] < N || i[1] < N) {
@@ -118,41 +129,54 @@ ew_status ew_wf_spectra_compute(const ew_result *r, double theta_deg, double n_r
   if (rc == EW_OK && s->intersubband)
     rc = ew_intersubband_absorption(r, st->sheet_density_cm2, st->linewidth_meV, theta_deg,
                                     n_refr, s->n, s->E_eV, s->intersubband, err);
+  if (rc == EW_OK && s->continuum)
+    rc = ew_intersubband_continuum_absorption(r, st->sheet_density_cm2, st->linewidth_meV,
+                                              theta_deg, n_refr, s->n, s->E_eV, s->continuum,
+                                              err);
   if (rc != EW_OK) ew_wf_spectra_free(s);
   return rc;
 }
 
 void ew_wf_spectra_write_csv(const ew_wf_spectra *s, FILE *out) {
-  fputs("E_eV,interband_rel,intersubband_fraction\n", out);
+  fputs("E_eV,interband_rel,intersubband_fraction,intersubband_continuum_fraction\n", out);
   for (size_t k = 0; k < s->n; k++) {
     fprintf(out, "%.10g,", s->E_eV[k]);
     if (s->interband_rel) fprintf(out, "%.10g", s->interband_rel[k]);
     fputc(',', out);
     if (s->intersubband) fprintf(out, "%.10g", s->intersubband[k]);
+    fputc(',', out);
+    if (s->continuum) fprintf(out, "%.10g", s->continuum[k]);
     fputc('\n', out);
   }
 }
 
+double ew_wf_spectra_value(const ew_wf_spectra *s, int which, size_t k) {
+  if (!which) return s->interband_rel[k];
+  return s->intersubband[k] + (s->continuum ? s->continuum[k] : 0.0);
+}
+
 size_t ew_wf_spectra_peaks(const ew_wf_spectra *s, int which, ew_wf_peak *out, size_t cap) {
-  const double *v = which ? s->intersubband : s->interband_rel;
+  const double *v0 = which ? s->intersubband : s->interband_rel;
   unsigned char bit = which ? 2 : 1;
-  if (!v) return 0;
+  if (!v0) return 0;
+#define v(k) ew_wf_spectra_value(s, which, (k))
   double vmax = -INFINITY;
   for (size_t k = 0; k < s->n; k++)
-    if (s->grid[k] & bit) vmax = fmax(vmax, v[k]);
+    if (s->grid[k] & bit) vmax = fmax(vmax, v(k));
   if (!(vmax > 0)) return 0;
   /* walk the spectrum's own grid: prev, cur, next are consecutive points of it */
   size_t cnt = 0, prev = SIZE_MAX, cur = SIZE_MAX;
   for (size_t k = 0; k <= s->n; k++) {
     if (k < s->n && !(s->grid[k] & bit)) continue;
-    if (prev != SIZE_MAX && cur != SIZE_MAX && k < s->n && v[cur] > v[prev] &&
-        v[cur] >= v[k] && v[cur] >= EW_WF_PEAK_FRACTION * vmax) {
-      if (cnt < cap) out[cnt] = (ew_wf_peak){s->E_eV[cur], v[cur]};
+    if (prev != SIZE_MAX && cur != SIZE_MAX && k < s->n && v(cur) > v(prev) &&
+        v(cur) >= v(k) && v(cur) >= EW_WF_PEAK_FRACTION * vmax) {
+      if (cnt < cap) out[cnt] = (ew_wf_peak){s->E_eV[cur], v(cur)};
       cnt++;
     }
     prev = cur;
     cur = k;
   }
+#undef v
   return cnt;
 }
 
@@ -163,6 +187,9 @@ void ew_wf_spectra_print_peaks(const ew_wf_spectra *s, FILE *out) {
             s->sheet_density_cm2, s->theta_deg, s->n_refr);
   fprintf(out, ")\n  peaks: local maxima above %g %% of each spectrum's maximum\n",
           100.0 * EW_WF_PEAK_FRACTION);
+  if (s->continuum)
+    fprintf(out, "  intersubband: bound lines and e1 to the continuum (threshold %.6f eV), "
+            "summed\n", s->threshold_eV);
   fprintf(out, "  %-13s %10s %13s %12s\n", "spectrum", "energy_eV", "wavelength", "value");
   static const char *const nm[2] = {"interband", "intersubband"};
   for (int w = 0; w < 2; w++) {
@@ -194,10 +221,11 @@ ew_status ew_wf_spectra_plot(const ew_wf_spectra *s, const char *path, ew_wf_out
     rc = ew_wf_plot_companion(path, "intersubband", "--spectra-plot", paths[1], sizeof paths[1],
                               err);
   if (rc != EW_OK) return rc;
-  double *x = malloc((s->n ? s->n : 1) * sizeof *x), *y = malloc((s->n ? s->n : 1) * sizeof *y);
-  if (!x || !y) {
-    free(x);
-    free(y);
+  size_t cap = s->n ? s->n : 1;
+  double *x = malloc(cap * sizeof *x), *y = malloc(cap * sizeof *y);
+  double *yb = malloc(cap * sizeof *yb), *yc = malloc(cap * sizeof *yc);
+  if (!x || !y || !yb || !yc) {
+    free(x), free(y), free(yb), free(yc);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (spectra picture)");
   }
   for (int w = 0; w < 2 && rc == EW_OK; w++) {
@@ -207,24 +235,34 @@ ew_status ew_wf_spectra_plot(const ew_wf_spectra *s, const char *path, ew_wf_out
     for (size_t k = 0; k < s->n; k++)
       if (s->grid[k] & (w ? 2 : 1)) {
         x[m] = w ? 1e3 * s->E_eV[k] : s->E_eV[k];
-        y[m++] = v[k];
+        y[m++] = ew_wf_spectra_value(s, w, k);
       }
     char title[400];
     if (w)
-      snprintf(title, sizeof title, "Intersubband absorption (%g meV FWHM, %g deg, n = %g)",
-               s->linewidth_meV, s->theta_deg, s->n_refr);
+      snprintf(title, sizeof title, "Intersubband absorption%s (%g meV FWHM, %g deg, n = %g)",
+               s->continuum ? ", bound and continuum" : "", s->linewidth_meV, s->theta_deg,
+               s->n_refr);
     else
       snprintf(title, sizeof title, "Interband absorption, relative (%g meV FWHM)",
                s->linewidth_meV);
-    const double *ys[1] = {y};
-    const char *names[1] = {w ? "absorbed fraction per pass" : "interband_rel"};
+    /* the intersubband chart with a continuum: the total, the bound lines and the
+       bound-to-continuum part as three curves */
+    const double *ys[3] = {y, yb, yc};
+    const char *names[3] = {w ? (s->continuum ? "total" : "absorbed fraction per pass")
+                              : "interband_rel",
+                            "bound lines", "continuum"};
+    size_t ns = 1;
+    if (w && s->continuum) {
+      ns = 3;
+      for (size_t k = 0, q = 0; k < s->n; k++)
+        if (s->grid[k] & 2) yb[q] = s->intersubband[k], yc[q++] = s->continuum[k];
+    }
     rc = ew_wf_chart_into_set(set, paths[w], "--spectra-plot", title,
                               w ? "photon energy (meV)" : "photon energy (eV)",
-                              w ? "fraction absorbed per pass" : "relative absorption", m, x, 1,
+                              w ? "fraction absorbed per pass" : "relative absorption", m, x, ns,
                               ys, names, err);
     if (rc == EW_OK) written[w] = 1;
   }
-  free(x);
-  free(y);
+  free(x), free(y), free(yb), free(yc);
   return rc;
 }

@@ -46,6 +46,8 @@ typedef struct {
   ew_wf_pool pool;
   ew_wf_cols cols;
   size_t nl, ncol;       /* main lines, columns */
+  int doped;             /* the sub-grid's stacks are self-consistent: depolarised columns */
+  size_t nd;             /* depolarised columns: one per intersubband main line when doped */
   ew_wf_linedef *lines;  /* [nl] */
   char (*names)[64];     /* [ncol] */
   /* the keys set at each point: a tied range ("a.x,b.x=…") sets each of its keys to the
@@ -175,6 +177,7 @@ static size_t column_points(const sweep_plan *P, size_t *corner) {
 static ew_status plan_columns(sweep_plan *P, size_t min_levels, ew_error *err) {
   size_t corner[WF_COLUMN_SAMPLES * WF_COLUMN_SAMPLES];
   size_t ccount[WF_COLUMN_SAMPLES * WF_COLUMN_SAMPLES][EW_BAND_COUNT];
+  unsigned char dp[WF_COLUMN_SAMPLES * WF_COLUMN_SAMPLES] = {0}; /* self-consistent there */
   size_t nc = column_points(P, corner);
   ew_wf_fail fl = EW_WF_FAIL_NONE;
   EW_OMP(omp parallel for num_threads(P->nt) schedule(dynamic, 1))
@@ -185,14 +188,16 @@ static ew_status plan_columns(sweep_plan *P, size_t min_levels, ew_error *err) {
     ew_result *res = NULL;
     point_values(P, corner[q], vals);
     ew_status rc = solve_point(P, vals, &st, &res, &e);
-    if (rc == EW_OK)
+    if (rc == EW_OK) {
       for (int b = 0; b < EW_BAND_COUNT; b++) ccount[q][b] = res->band_count[b];
-    else
+      dp[q] = res->sp != NULL;
+    } else
       ew_wf_fail_record(&fl, corner[q], rc, &e);
     ew_result_free(res);
     ew_stack_free(st);
   }
   if (fl.index != SIZE_MAX) return ew_wf_fail_report(&fl, err);
+  for (size_t q = 0; q < nc; q++) P->doped |= dp[q];
   size_t maxc[EW_BAND_COUNT];
   for (int b = 0; b < EW_BAND_COUNT; b++) {
     maxc[b] = min_levels;
@@ -218,7 +223,10 @@ static void column_name(const sweep_plan *P, size_t j, char *buf, size_t size) {
     j -= c->nlev[b];
   }
   if (j / 3 >= P->nl) {
-    snprintf(buf, size, "warnings");
+    j -= 3 * P->nl;
+    /* the depolarisation-shifted intersubband lines (line_name.h "e1-e2:depol") */
+    if (j < P->nd) snprintf(buf, size, "%s_depol_eV", P->lines[j].name);
+    else snprintf(buf, size, "warnings");
     return;
   }
   const ew_wf_linedef *d = &P->lines[j / 3];
@@ -226,11 +234,15 @@ static void column_name(const sweep_plan *P, size_t j, char *buf, size_t size) {
   snprintf(buf, size, "%s_%s", d->name, (d->interband ? ib : isb)[j % 3]);
 }
 
-/* Columns: keys, levels, per main line three values, then the warning codes. */
+/* Columns: keys, levels, per main line three values, for a doped stack the depolarised
+ * energy of every intersubband main line (…_depol_eV, the main lines list those first), then
+ * the warning codes. */
 static ew_status plan_names(sweep_plan *P, ew_error *err) {
   const ew_wf_cols *c = &P->cols;
   P->nl = ew_wf_main_lines(c, NULL, 0);
-  P->ncol = P->nr + c->nlev[0] + c->nlev[1] + c->nlev[2] + 3 * P->nl + 1;
+  P->nd = P->doped ? c->nlev[0] + c->nlev[1] + c->nlev[2] : 0;
+  for (int b = 0; b < EW_BAND_COUNT && P->doped; b++) P->nd -= c->nlev[b] ? 1 : 0;
+  P->ncol = P->nr + c->nlev[0] + c->nlev[1] + c->nlev[2] + 3 * P->nl + P->nd + 1;
   P->lines = malloc((P->nl ? P->nl : 1) * sizeof *P->lines);
   P->names = malloc(P->ncol * sizeof *P->names);
   if (!P->lines || !P->names)
@@ -310,6 +322,11 @@ static void fill_row(const ew_result *r, const sweep_plan *P, const double *vals
     row[j] = ln->energy_eV;
     row[j + 1] = d->interband ? ln->wavelength_nm : ln->wavelength_nm / 1e3;
     row[j + 2] = d->interband ? ln->overlap : ln->oscillator_strength;
+  }
+  for (size_t k = 0; k < P->nd; k++) { /* the match target's one definition */
+    char nm[80];
+    snprintf(nm, sizeof nm, "%s:depol", P->lines[k].name);
+    ew_wf_line_energy(r, nm, &row[j++], NULL);
   }
 }
 

@@ -146,6 +146,13 @@ MUTANTS = [
     ("tol_dxhf", "src/tolerance.c", '"dEdx_HF_eV", L->has_x ? L->dEdx_hf', '"dEdx_HF_eV", L->has_x ? L->dEdx_fd', "tolerance dE/dx HF prints FD"),
     ("tol_ml_nm", "src/tolerance.c", 'ew_json_write_number(out, L->ml_nm);', 'ew_json_write_number(out, L->thickness_nm);', "monolayer_nm prints thickness"),
     ("spec_csv", "src/spectra_workflow.c", 'if (s->interband_rel) fprintf(out, "%.10g", s->interband_rel[k]);', 'if (s->interband_rel) fprintf(out, "%.10g", s->intersubband ? s->intersubband[k] : s->interband_rel[k]);', "spectra CSV interband column holds intersubband"),
+    # continuum (src/continuum.c, src/output.c, src/spectra_workflow.c, src/sweep.c, src/match.c)
+    ("ct_norm", "src/continuum.c", 'return EW_PI * t / sn * (a0 * b0', 'return 1.01 * EW_PI * t / sn * (a0 * b0', "lead normalisation off by 1 %"),
+    ("ct_dfde", "src/continuum.c", 'return photon_eV * q / (EW_HB2M0_EVNM2 * c->invm);', 'return photon_eV * q / (EW_HB2M0_EVNM2 * c->invm * 1.01);', "df/dE off by 1 %"),
+    ("ct_json", "src/output.c", 'ew_json_key_num(j, "continuum", sr[1]);', 'ew_json_key_num(j, "continuum", sr[0]);', "sum_rule continuum prints bound"),
+    ("ct_csv", "src/spectra_workflow.c", 'if (s->continuum) fprintf(out, "%.10g", s->continuum[k]);', 'if (s->continuum) fprintf(out, "%.10g", s->intersubband[k]);', "continuum column holds the bound lines"),
+    ("sw_depol", "src/sweep.c", 'snprintf(nm, sizeof nm, "%s:depol", P->lines[k].name);', 'snprintf(nm, sizeof nm, "%s", P->lines[k].name);', "depol column holds the bare line"),
+    ("match_top", "src/match.c", 'if (top && T >= 0 && T <= s->Eedge[i]) {', 'if (top && T > 0 && T <= s->Eedge[i]) {', "e2-top at 0 finds nothing"),
     ("match_nm", "src/match.c", 'ew_json_write_number(out, r->target[i].nm);', 'ew_json_write_number(out, r->target[i].eV);', "match target_nm prints eV"),
     ("sw_json", "src/sweep.c", 'if (k + 1 < ncol) ew_json_write_number(json, row[k]);', 'if (k + 1 < ncol) ew_json_write_number(json, row[k + 1 < ncol - 1 ? k + 1 : k]);', "sweep JSON value of the next column"),
     ("sw_total", "src/sweep.c", '"\\"count\\":%zu},\\"columns\\":[", P->np,', '"\\"count\\":%zu},\\"columns\\":[", P->hi - P->lo,', "sweep points_total = shard count"),

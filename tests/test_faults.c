@@ -20,6 +20,7 @@
 
 #include "testutil.h"
 
+#include "continuum.h"
 #include "workflow.h"
 
 #if defined(__SANITIZE_ADDRESS__)
@@ -252,6 +253,29 @@ static void gain_job(const void *ctx, outcome *out) {
 
 #if FAULTS_POSSIBLE
 /* Run job with the k-th allocation failing (k = 0: none); returns the count seen. */
+/* Over a solved result: the sum rule from e1 (continuum.c) and the spectra with their
+ * bound-to-continuum column (spectra.c, spectra_workflow.c); the fingerprint keeps both parts
+ * of the sum and every 50th value of the continuum column. */
+static void continuum_job(const void *ctx, outcome *out) {
+  const ew_result *r = ctx;
+  double b = 0, c = 0;
+  ew_error err;
+  ew_wf_spectra sp;
+  out->len = 0;
+  out->rc = ew_continuum_sum_rule_e1(r, &b, &c, &err);
+  if (out->rc != EW_OK) return;
+  out->rc = ew_wf_spectra_compute(r, 45.0, 3.3, &sp, &err);
+  if (out->rc != EW_OK) return;
+  memcpy(out->bytes, &b, sizeof b);
+  memcpy(out->bytes + sizeof b, &c, sizeof c);
+  out->len = 2 * sizeof(double);
+  for (size_t k = 0; sp.continuum && k < sp.n && out->len + sizeof(double) <= sizeof out->bytes; k += 50) {
+    memcpy(out->bytes + out->len, &sp.continuum[k], sizeof(double));
+    out->len += sizeof(double);
+  }
+  ew_wf_spectra_free(&sp);
+}
+
 static long run_armed(job_fn job, const void *ctx, long k, outcome *out) {
   atomic_store(&alloc_seen, 0);
   fail_at = k;
@@ -637,6 +661,24 @@ static void faults_gain(void **state) {
 #endif
 }
 
+/* The continuum over the single well (Kane electrons) with a sheet density for the spectra. */
+static void faults_continuum(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  char text[640];
+  snprintf(text, sizeof text, "sheet_density = 5e11;\n%s", well_text);
+  ew_stack *st = read_stack(text);
+  ew_result *r = NULL;
+  assert_int_equal(ew_solve(st, NULL, &r, NULL), EW_OK);
+  int bad = every_fault("continuum and spectra", continuum_job, r);
+  ew_result_free(r);
+  ew_stack_free(st);
+  assert_int_equal(bad, 0);
+#else
+  skip();
+#endif
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(faults_single_well),
@@ -650,10 +692,11 @@ int main(void) {
       cmocka_unit_test(faults_minibands),
       cmocka_unit_test(faults_gain),
       cmocka_unit_test(faults_repeat_build),
+      cmocka_unit_test(faults_continuum),
   };
 #if !FAULTS_POSSIBLE
   (void)solve_job, (void)sweep_job, (void)build_job, (void)merge_job, (void)dispersion_job,
-      (void)minibands_job, (void)gain_job, (void)read_stack,
+      (void)minibands_job, (void)gain_job, (void)continuum_job, (void)read_stack,
       (void)well_text, (void)job_grid; /* skipped */
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */

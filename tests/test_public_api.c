@@ -404,7 +404,8 @@ static void spectra_csv_grid(void **state) {
   FILE *m = open_memstream(&buf, &len);
   assert_int_equal(ew_spectra_write_csv(sp, m, &err), EW_OK);
   fclose(m);
-  assert_memory_equal(buf, "E_eV,interband_rel,intersubband_fraction\n", 41);
+  assert_memory_equal(buf, "E_eV,interband_rel,intersubband_fraction,"
+                           "intersubband_continuum_fraction\n", 73);
   size_t rows = 0;
   for (const char *p = buf; *p; p++)
     rows += *p == '\n';
@@ -414,7 +415,7 @@ static void spectra_csv_grid(void **state) {
     const ew_line *l = ew_result_line(res, i);
     if (l->kind == EW_LINE_INTERBAND && l->pl_peak_eV < lowest_pl) lowest_pl = l->pl_peak_eV;
   }
-  double first = strtod(buf + 41, NULL);
+  double first = strtod(buf + 73, NULL);
   assert_true(fabs(first - (lowest_pl - 0.020)) < 1e-6);
   ew_spectra_free(sp);
   free(buf);

@@ -537,7 +537,8 @@ static void spectra_csv(void **state) {
   snprintf(args, sizeof args, "solve '%s' --spectra '%s'", sv.path, csvp);
   assert_int_equal(rt_run(&env, args, out), 0);
   rcsv c;
-  assert_int_equal(csv_open(env.tmp, "spectra.csv", &c, "E_eV,interband_rel,intersubband_fraction"), 0);
+  assert_int_equal(csv_open(env.tmp, "spectra.csv", &c, "E_eV,interband_rel,intersubband_fraction,"
+                                                  "intersubband_continuum_fraction"), 0);
   const double e = 1.602176634e-19, h = 6.62607015e-34, hbar = 1.054571817e-34;
   const double eps0 = 8.8541878128e-12, cl = 299792458.0, nr = 3.3, th = 45.0 * M_PI / 180;
   const double Ns = 4e11 * 1e4, fwhm = 8e-3; /* the stack's sheet_density (m^-2), linewidth */
@@ -556,7 +557,10 @@ static void spectra_csv(void **state) {
   double pref = e * e * h / (4 * eps0 * nr * cl) * Ns * sin(th) * sin(th) / cos(th);
   double amax = 0, ibmax = -1, E_ibmax = 0;
   int grid_ends[4] = {0, 0, 0, 0};
-  double ends[4] = {Emin_pl - 0.020, Emax_ib + 0.100, 0.0, 1.5 * Emax_isb};
+  /* the intersubband grid reaches 1.5 × the higher of the e1 lines and the continuum
+     threshold, e1's distance below the barrier top */
+  double thr = ew_result_state_below_top_eV(r, e1);
+  double ends[4] = {Emin_pl - 0.020, Emax_ib + 0.100, 0.0, 1.5 * fmax(Emax_isb, thr)};
   for (size_t k = 0; k < c.nrows; k++) {
     double E = rcsv_num(&c, k, 0);
     if (k) assert_true(E > rcsv_num(&c, k - 1, 0)); /* ascending, each energy once */

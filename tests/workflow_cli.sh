@@ -148,8 +148,8 @@ sed 's/^temperature = 77.0;/temperature = 77.0;\nsheet_density = 5e11;/' $det >"
 mkdir "$tmp/sp"
 run "$bin" solve "$tmp/ns.cfg" --spectra "$tmp/sp/ns.csv" --spectra-plot "$tmp/sp/ns.svg"
 check "solve --spectra: exit 0" [ "$rc" -eq 0 ]
-check "solve --spectra: header E_eV,interband_rel,intersubband_fraction" \
-  sh -c "[ \"\$(head -n 1 '$tmp/sp/ns.csv')\" = 'E_eV,interband_rel,intersubband_fraction' ]"
+check "solve --spectra: header E_eV,interband_rel,intersubband_fraction,intersubband_continuum_fraction" \
+  sh -c "[ \"\$(head -n 1 '$tmp/sp/ns.csv')\" = 'E_eV,interband_rel,intersubband_fraction,intersubband_continuum_fraction' ]"
 check "solve --spectra: 4002 rows (two grids of 2001) with both spectra set" \
   sh -c "[ \$(tail -n +2 '$tmp/sp/ns.csv' | wc -l) -eq 4002 ] && [ -z \"\$(tail -n +2 '$tmp/sp/ns.csv' | grep -E ',$|,,')\" ]"
 # reference: the e1-e2 line of the same solve (the table); a Lorentzian peaks at its line

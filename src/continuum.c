@@ -1,0 +1,247 @@
+/* continuum.c — open-boundary continuum states and the bound-to-continuum oscillator
+ * strength (see continuum.h).
+ *
+ * Energy normalisation on a lead, derived.  A lead of cells of length h and mass integral
+ * M has rows −t ψ_j−1 + (2t + h(V − E)) ψ_j − t ψ_j+1 = 0, t = K/M (K = ħ²/2m0), solved by
+ * ψ_j = a sin(θj + φ) with E = V + 2t(1 − cos θ)/h.  Over a half-infinite lead with weights
+ * h, Σ_j h a_a sin(θj + φ_a) a_b sin(θ′j + φ_b) has the singular part
+ * h a_a a_b (π/2) cos(φ_a − φ_b) δ(θ − θ′), and δ(θ − θ′) = (dE/dθ) δ(E − E′) with
+ * dE/dθ = 2t sin θ / h: the coefficient is π t sin θ a_a a_b cos(φ_a − φ_b).  Writing
+ * u = a e^{i(θj + φ)} from two consecutive samples (Im u = ψ_j, Re u = (ψ_j+1 − ψ_j cos θ)/
+ * sin θ), a_a a_b cos(φ_a − φ_b) = Re(u_a ū_b) = [ψa_j ψb_j + ψa_j+1 ψb_j+1 − cos θ (ψa_j
+ * ψb_j+1 + ψa_j+1 ψb_j)] / sin²θ, which gives G_ab of continuum.h.  The continuum limit
+ * (h → 0) is the familiar (π/2) ħ v a² of a plane wave of velocity v per lead. */
+#include "continuum.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "constants.h"
+#include "error.h"
+#include "nonparabolic.h"
+
+#define CT_PANELS 32    /* geometric panels in s = √(E − E_edge) per piece */
+#define CT_GRADE 14.0   /* panel growth: the first panel is e^−14 of the piece (in s) */
+#define CT_RESCALE 1e150 /* rescale a shot solution beyond this size */
+
+struct ew_continuum {
+  const ew_result *r;
+  const ew_grid *g;
+  ew_band band;
+  double Ei;       /* the bound state's energy, positive-mass scale (its reported energy) */
+  double invm;     /* ⟨i|m0/m|i⟩ of the state's lines */
+  double zbar;     /* ⟨i|z|i⟩ */
+  const double *psi;
+  double *M;       /* [n+1] cell mass integrals at the energy of the last shot */
+  ew_kane_cells *kane; /* Kane electrons, else NULL (masses fixed: g->cell_mass) */
+  double kane_cap;     /* Kane masses are taken at min(E, kane_cap) */
+  double V[2];     /* lead potentials: left, right */
+};
+
+int ew_continuum_applies(const ew_result *r, size_t lower, char *why, size_t size) {
+  const char *msg = NULL;
+  if (!r || lower >= r->n_states) msg = "no such bound state";
+  else if (r->stack->field_kV_cm != 0.0)
+    msg = "a stack in a field has no flat outer barrier to open (the continuum is tilted)";
+  else if (r->grid->n < 3) msg = "the grid is too small";
+  if (msg && why && size) snprintf(why, size, "%s", msg);
+  return msg == NULL;
+}
+
+double ew_continuum_edge_eV(const ew_result *r, ew_band band) {
+  const ew_grid *g = r->grid;
+  double v = fmin(g->pot[band][0], g->pot[band][g->n - 1]); /* positive-mass scale */
+  return band == EW_BAND_E ? v : -v;
+}
+
+void ew_continuum_free(ew_continuum *c) {
+  if (!c) return;
+  free(c->M);
+  ew_kane_cells_free(c->kane);
+  free(c);
+}
+
+ew_status ew_continuum_new(const ew_result *r, size_t lower, ew_continuum **out,
+                           ew_error *err) {
+  *out = NULL;
+  char why[160];
+  if (!ew_continuum_applies(r, lower, why, sizeof why))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "continuum: %s", why);
+  const ew_grid *g = r->grid;
+  ew_continuum *c = calloc(1, sizeof *c);
+  if (!c) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (continuum)");
+  c->r = r;
+  c->g = g;
+  c->band = r->states[lower].band;
+  c->Ei = c->band == EW_BAND_E ? r->states[lower].energy_eV : -r->states[lower].energy_eV;
+  c->invm = r->mean_inv_mass[lower];
+  c->psi = r->psi + lower * g->n;
+  c->M = malloc((g->n + 1) * sizeof *c->M);
+  if (c->M && c->band == EW_BAND_E && r->nonparabolic && !(c->kane = ew_kane_cells_new(r->stack, g)))
+    free(c->M), c->M = NULL;
+  if (!c->M) {
+    ew_continuum_free(c);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (continuum)");
+  }
+  memcpy(c->M, g->cell_mass[c->band], (g->n + 1) * sizeof *c->M);
+  double zb = 0.0;
+  for (size_t i = 0; i < g->n; i++) zb += g->w[i] * g->z[i] * c->psi[i] * c->psi[i];
+  c->zbar = zb;
+  c->V[0] = g->pot[c->band][0];
+  c->V[1] = g->pot[c->band][g->n - 1];
+  /* The Kane masses up to the smallest Γ gap of the stack above the continuum's bottom, held
+     there beyond: far above the gap the three-level model means nothing (its mass grows
+     without bound and then turns negative, kane_m falls back to m_e), and the far continuum
+     weighs in the sum rule only through its tail, which then decays as for constant masses. */
+  double gap = INFINITY;
+  for (size_t k = 0; k < r->stack->n_layers; k++)
+    if (r->stack->layers[k].bands.Eg_G_eV > 0) gap = fmin(gap, r->stack->layers[k].bands.Eg_G_eV);
+  c->kane_cap = fmin(c->V[0], c->V[1]) + (isfinite(gap) ? gap : 1.0);
+  *out = c;
+  return EW_OK;
+}
+
+/* cos θ of a lead (t, h, V) at E (|cos θ| < 1 when its channel is open) and sin θ, from
+ * x = 1 − cos θ: sin²θ = x(2 − x) keeps its digits near the band bottom, where cos θ → 1 */
+static double lead_cos(double t, double h, double V, double E, double *sn) {
+  double x = h * (E - V) / (2.0 * t);
+  *sn = x > 0 && x < 2 ? sqrt(x * (2.0 - x)) : 0.0;
+  return 1.0 - x;
+}
+
+/* The root λ of λ + 1/λ = 2c with |λ| < 1 (|c| > 1): the solution decaying into a closed lead */
+static double decaying(double c) { return c > 0 ? c - sqrt(c * c - 1.0) : c + sqrt(c * c - 1.0); }
+
+/* (π t / sin θ)·[…] of continuum.h for two solutions sampled at consecutive lead nodes */
+static double lead_gram(double t, double cs, double sn, double a0, double a1, double b0,
+                        double b1) {
+  return EW_PI * t / sn * (a0 * b0 + a1 * b1 - cs * (a0 * b1 + a1 * b0));
+}
+
+/* d^T G⁻¹ d (nm²/eV) of the continuum at E (positive-mass scale); 0 where no lead is open. */
+static double shoot(ew_continuum *c, double E) {
+  const ew_grid *g = c->g;
+  const size_t n = g->n;
+  const double K = EW_HB2M0_EVNM2, *V = g->pot[c->band], *M = c->M;
+  if (c->kane) ew_kane_cells_eval(c->kane, fmin(E, c->kane_cap), c->M);
+  double tL = K / M[0], tR = K / M[n];
+  double sL, sR;
+  double cL = lead_cos(tL, g->h[0], c->V[0], E, &sL), cR = lead_cos(tR, g->h[n], c->V[1], E, &sR);
+  int openL = sL > 0, openR = sR > 0;
+  if (!openL && !openR) return 0.0;
+  /* solutions a (and b when the left lead is open), from the samples at nodes −1 and 0 */
+  int ns = openL ? 2 : 1;
+  double pm[2], p0[2], l0[2][2], d[2] = {0.0, 0.0};
+  /* open: the lead's standing waves sin θj and cos θj (orthogonal there, G_L = π t sin θ · 1,
+     well conditioned even at the band bottom); closed: the wave decaying into the lead */
+  if (openL) pm[0] = -sL, p0[0] = 0.0, pm[1] = cL, p0[1] = 1.0;
+  else pm[0] = decaying(cL), p0[0] = 1.0;
+  for (int s = 0; s < ns; s++) l0[s][0] = pm[s], l0[s][1] = p0[s];
+  double off_prev = -tL;
+  for (size_t i = 0; i < n; i++) {
+    double off = -K / M[i + 1], diag = K / M[i] + K / M[i + 1] + g->w[i] * (V[i] - E);
+    double wz = g->w[i] * (g->z[i] - c->zbar) * c->psi[i];
+    for (int s = 0; s < ns; s++) {
+      d[s] += wz * p0[s];
+      double p1 = -(off_prev * pm[s] + diag * p0[s]) / off;
+      pm[s] = p0[s];
+      p0[s] = p1;
+      if (fabs(p1) > CT_RESCALE) { /* d^T G⁻¹ d does not change when a solution is scaled */
+        pm[s] /= CT_RESCALE, p0[s] /= CT_RESCALE, d[s] /= CT_RESCALE;
+        l0[s][0] /= CT_RESCALE, l0[s][1] /= CT_RESCALE;
+      }
+    }
+    off_prev = off;
+  }
+  /* pm, p0: the samples at nodes n−1 and n (the right lead's first two nodes) */
+  double G[2][2] = {{0, 0}, {0, 0}};
+  if (openL && !openR) { /* one state: the combination decaying into the right lead */
+    double lam = decaying(cR), al = p0[1] - lam * pm[1], be = -(p0[0] - lam * pm[0]);
+    double dd = al * d[0] + be * d[1], x0 = al * l0[0][0] + be * l0[1][0],
+           x1 = al * l0[0][1] + be * l0[1][1];
+    double gl = lead_gram(tL, cL, sL, x0, x1, x0, x1);
+    return gl > 0 ? dd * dd / gl : 0.0;
+  }
+  for (int a = 0; a < ns; a++)
+    for (int b = 0; b < ns; b++) {
+      if (openL) G[a][b] += lead_gram(tL, cL, sL, l0[a][0], l0[a][1], l0[b][0], l0[b][1]);
+      if (openR) G[a][b] += lead_gram(tR, cR, sR, pm[a], p0[a], pm[b], p0[b]);
+    }
+  if (ns == 1) return G[0][0] > 0 ? d[0] * d[0] / G[0][0] : 0.0;
+  /* 2×2 by the Cholesky form d1²/g11 + (d2 − g12 d1/g11)² / (g22 − g12²/g11) */
+  if (!(G[0][0] > 0)) return 0.0;
+  double r1 = G[0][1] / G[0][0], s2 = G[1][1] - G[0][1] * r1, y = d[1] - r1 * d[0];
+  return d[0] * d[0] / G[0][0] + (s2 > 0 ? y * y / s2 : 0.0);
+}
+
+double ew_continuum_threshold_eV(const ew_continuum *c) { return fmin(c->V[0], c->V[1]) - c->Ei; }
+
+double ew_continuum_dfdE(ew_continuum *c, double photon_eV) {
+  if (!(photon_eV > ew_continuum_threshold_eV(c))) return 0.0;
+  double q = shoot(c, c->Ei + photon_eV);
+  return photon_eV * q / (EW_HB2M0_EVNM2 * c->invm); /* f = ΔE|z|² / (K ⟨m0/m⟩) */
+}
+
+/* 8-point Gauss–Legendre on [−1, 1] (abscissae and weights to 16 digits; M. Abramowitz,
+ * I. A. Stegun, Handbook of Mathematical Functions (1964), Table 25.4) */
+static const double GL_X[4] = {0.1834346424956498, 0.5255324099163290, 0.7966664774136267,
+                               0.9602898564975363};
+static const double GL_W[4] = {0.3626837833783620, 0.3137066661265559, 0.2223810344533745,
+                               0.1012285362903763};
+
+/* ∫ df/dE over photon energies [a, b], a the bottom of a lead's band (√ onset): in s = √(E − a),
+ * ∫ 2s df/dE ds on CT_PANELS panels growing geometrically from s = 0 */
+static double integrate_piece(ew_continuum *c, double a, double b) {
+  if (!(b > a)) return 0.0;
+  double smax = sqrt(b - a), sum = 0.0, den = expm1(CT_GRADE);
+  for (int k = 0; k < CT_PANELS; k++) {
+    double s0 = smax * expm1(CT_GRADE * k / CT_PANELS) / den;
+    double s1 = smax * expm1(CT_GRADE * (k + 1) / CT_PANELS) / den;
+    double mid = 0.5 * (s0 + s1), half = 0.5 * (s1 - s0);
+    for (int q = 0; q < 8; q++) {
+      double s = mid + (q < 4 ? -GL_X[q] : GL_X[q - 4]) * half;
+      sum += GL_W[q % 4] * half * 2.0 * s * ew_continuum_dfdE(c, a + s * s);
+    }
+  }
+  return sum;
+}
+
+double ew_continuum_oscillator_sum(ew_continuum *c) {
+  const ew_grid *g = c->g;
+  const size_t n = g->n;
+  if (c->kane) ew_kane_cells_eval(c->kane, fmin(c->V[0], c->V[1]), c->M);
+  /* the leads' band tops V + 4t/h (with the masses at the threshold: Kane masses grow with
+     E, so a lead closes a little earlier, where df/dE is long negligible) */
+  double top[2] = {c->V[0] + 4.0 * EW_HB2M0_EVNM2 / (c->M[0] * g->h[0]),
+                   c->V[1] + 4.0 * EW_HB2M0_EVNM2 / (c->M[n] * g->h[n])};
+  double lo = fmin(c->V[0], c->V[1]) - c->Ei, mid = fmax(c->V[0], c->V[1]) - c->Ei;
+  double hi = fmax(top[0], top[1]) - c->Ei;
+  if (mid - lo < 1e-12) return integrate_piece(c, lo, hi);
+  return integrate_piece(c, lo, mid) + integrate_piece(c, mid, hi);
+}
+
+double ew_continuum_bound_sum(const ew_result *r, size_t lower) {
+  double f = 0.0;
+  for (size_t j = 0; j < r->n_lines; j++) {
+    const ew_line *ln = &r->lines[j];
+    if (ln->kind == EW_LINE_INTERSUBBAND && ln->lower == lower) f += ln->oscillator_strength;
+  }
+  return f;
+}
+
+ew_status ew_continuum_sum_rule_e1(const ew_result *r, double *bound, double *continuum,
+                                   ew_error *err) {
+  *bound = *continuum = NAN;
+  size_t e1 = r->n_states;
+  for (size_t i = 0; i < r->n_states && e1 == r->n_states; i++)
+    if (r->states[i].band == EW_BAND_E && r->states[i].n == 1) e1 = i;
+  if (e1 == r->n_states || !ew_continuum_applies(r, e1, NULL, 0)) return EW_OK;
+  ew_continuum *c;
+  ew_status rc = ew_continuum_new(r, e1, &c, err);
+  if (rc != EW_OK) return rc;
+  *bound = ew_continuum_bound_sum(r, e1);
+  *continuum = ew_continuum_oscillator_sum(c);
+  ew_continuum_free(c);
+  return EW_OK;
+}
