@@ -47,7 +47,7 @@ static const char match_usage[] =
     "  --shard K/N  scan only the K-th of N parts of the samples (1D: of the intervals\n"
     "      between samples; 2D: of the rows of grid cells) and write that part as JSON, one\n"
     "      line; epiwell merge joins the parts into exactly the --json of the whole match\n"
-    "  --shard auto  the part of this task of a Slurm job array (as for sweep)";
+    "  --shard auto  the part of this task of a Slurm job array (as for sweep)\n";
 static const char tolerance_usage[] =
     "usage: epiwell tolerance STACK [--dx DX] [--rate PCT] [--ladder LAYER] [--json]\n"
     "                         [--threads N] [--grid-step NM] [--no-estimate]\n"
