@@ -41,9 +41,9 @@ extern "C" {
 /* Version of this header.  ew_version() gives the library's at run time; the shared
  * library's soname carries the major number (libepiwell.so.MAJOR). */
 #define EW_VERSION_MAJOR 1
-#define EW_VERSION_MINOR 0
+#define EW_VERSION_MINOR 1
 #define EW_VERSION_PATCH 0
-#define EW_VERSION "1.0.0"
+#define EW_VERSION "1.1.0"
 
 /* Status codes.  The CLI uses them as its exit codes (documented in README.md). */
 typedef enum {
