@@ -7,13 +7,13 @@
 #endif
 #include "kp_solve.h"
 
-#include <cblas.h>
 #include <lapacke.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "error.h"
+#include "kp_blocklu.h"
 
 #define KP_MAX_ITER 400
 #define KP_RESID_TOL (s->tol)
@@ -22,7 +22,9 @@
 struct ew_kp_solver {
   size_t n, dim, p;
   int nb;
-  ew_zshift_lu *lu;
+  ew_zshift_lu *lu;            /* the pivoting sparse LU: when the block LU's elements grow */
+  ew_kp_blocklu *blu;          /* the block-tridiagonal LU (kp_blocklu.h), tried first */
+  int use_blu;                 /* the current factorisation is blu's */
   ew_kp_inertia *inertia;
   double complex *X, *Y, *HY;  /* [dim × p] */
   double complex *Hs, *Bs;     /* [p × p] */
@@ -39,6 +41,7 @@ static void seed(ew_kp_solver *s, size_t j0);
 void ew_kp_solver_free(ew_kp_solver *s) {
   if (!s) return;
   ew_zshift_lu_free(s->lu);
+  ew_kp_blocklu_free(s->blu);
   ew_kp_inertia_free(s->inertia);
   free(s->X);
   free(s->Y);
@@ -59,6 +62,7 @@ ew_kp_solver *ew_kp_solver_create(size_t n, int nb, size_t p) {
   s->lwork = 64 * p;
   s->tol = 1e-8;
   s->lu = ew_zshift_lu_create(n, nb);
+  s->blu = ew_kp_blocklu_create(n, nb);
   s->inertia = ew_kp_inertia_create(nb);
   s->X = malloc(s->dim * p * sizeof *s->X);
   s->Y = malloc(s->dim * p * sizeof *s->Y);
@@ -68,7 +72,7 @@ ew_kp_solver *ew_kp_solver_create(size_t n, int nb, size_t p) {
   s->theta = malloc(p * sizeof *s->theta);
   s->rwork = malloc(3 * p * sizeof *s->rwork);
   s->work = malloc(s->lwork * sizeof *s->work);
-  if (!s->lu || !s->inertia || !s->X || !s->Y || !s->HY || !s->Hs || !s->Bs || !s->theta ||
+  if (!s->lu || !s->blu || !s->inertia || !s->X || !s->Y || !s->HY || !s->Hs || !s->Bs || !s->theta ||
       !s->rwork || !s->work) {
     ew_kp_solver_free(s);
     return NULL;
@@ -90,12 +94,58 @@ void ew_kp_solver_work(const ew_kp_solver *s, size_t *f, size_t *so, size_t *c) 
   *f = s->factorizations, *so = s->solves, *c = s->counts;
 }
 
-/* G = Aᴴ C for dim × p blocks A, C (p × p, column-major), by BLAS zgemm */
+/* The lower triangle of G = Aᴴ C for dim × p blocks A, C (p × p, column-major; zhegv reads
+ * only that triangle): written out, the pairs two at a time (half of a general product, and
+ * no reference-BLAS call: ~4× fewer instructions measured on a 5292 × 14 block). */
 static void gram(const ew_kp_solver *s, const double complex *A, const double complex *C,
                  double complex *G) {
-  const double complex one = 1.0, zero = 0.0;
-  cblas_zgemm(CblasColMajor, CblasConjTrans, CblasNoTrans, (int)s->p, (int)s->p, (int)s->dim,
-              &one, A, (int)s->dim, C, (int)s->dim, &zero, G, (int)s->p);
+  size_t dim = s->dim, p = s->p;
+  for (size_t j = 0; j < p; j++) {
+    const double *c = (const double *)(const void *)(C + j * dim);
+    size_t i = j;
+    for (; i + 1 < p; i += 2) {
+      const double *a0 = (const double *)(const void *)(A + i * dim), *a1 = a0 + 2 * dim;
+      double r0 = 0, i0 = 0, r1 = 0, i1 = 0;
+      for (size_t k = 0; k < 2 * dim; k += 2) {
+        r0 += a0[k] * c[k] + a0[k + 1] * c[k + 1], i0 += a0[k] * c[k + 1] - a0[k + 1] * c[k];
+        r1 += a1[k] * c[k] + a1[k + 1] * c[k + 1], i1 += a1[k] * c[k + 1] - a1[k + 1] * c[k];
+      }
+      G[j * p + i] = r0 + I * i0, G[j * p + i + 1] = r1 + I * i1;
+    }
+    for (; i < p; i++) {
+      const double *a0 = (const double *)(const void *)(A + i * dim);
+      double r0 = 0, i0 = 0;
+      for (size_t k = 0; k < 2 * dim; k += 2)
+        r0 += a0[k] * c[k] + a0[k + 1] * c[k + 1], i0 += a0[k] * c[k + 1] - a0[k + 1] * c[k];
+      G[j * p + i] = r0 + I * i0;
+    }
+  }
+}
+
+/* Out = A c for a dim × p block A and p × p c (column-major), by row chunks that stay in
+ * the first-level cache, two output columns at a time summed in registers */
+static void times_small(const ew_kp_solver *s, const double complex *A, const double complex *c,
+                        double complex *Out) {
+  size_t dim = s->dim, p = s->p;
+  for (size_t k0 = 0; k0 < dim; k0 += 256) {
+    size_t k1 = k0 + 256 < dim ? k0 + 256 : dim;
+    for (size_t j = 0; j < p; j += 2) {
+      size_t j1 = j + 1 < p ? j + 1 : j; /* an odd last column: computed twice */
+      double *o0 = (double *)(void *)(Out + j * dim), *o1 = (double *)(void *)(Out + j1 * dim);
+      for (size_t k = 2 * k0; k < 2 * k1; k += 2) {
+        double r0 = 0.0, i0 = 0.0, r1 = 0.0, i1 = 0.0;
+        for (size_t q = 0; q < p; q++) {
+          const double *a = (const double *)(const void *)(A + q * dim);
+          double ar = a[k], ai = a[k + 1];
+          double c0r = creal(c[j * p + q]), c0i = cimag(c[j * p + q]);
+          double c1r = creal(c[j1 * p + q]), c1i = cimag(c[j1 * p + q]);
+          r0 += c0r * ar - c0i * ai, i0 += c0r * ai + c0i * ar;
+          r1 += c1r * ar - c1i * ai, i1 += c1r * ai + c1i * ar;
+        }
+        o0[k] = r0, o0[k + 1] = i0, o1[k] = r1, o1[k + 1] = i1;
+      }
+    }
+  }
 }
 
 /* One Rayleigh–Ritz step on span(Y): X, and HY turned into H X; theta ascending.  0 ok, −1
@@ -110,12 +160,9 @@ static int rayleigh_ritz(ew_kp_solver *s, const ew_kp_pencil *H) {
                                        (lapack_int)p, s->Bs, (lapack_int)p, s->theta, s->work,
                                        (lapack_int)s->lwork, s->rwork);
   if (info != 0) return -1;
-  /* X = Y c and H X = (H Y) c (into Y, free afterwards), by zgemm */
-  const double complex one = 1.0, zero = 0.0;
-  cblas_zgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)dim, (int)p, (int)p, &one, s->Y,
-              (int)dim, s->Hs, (int)p, &zero, s->X, (int)dim);
-  cblas_zgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)dim, (int)p, (int)p, &one, s->HY,
-              (int)dim, s->Hs, (int)p, &zero, s->Y, (int)dim);
+  /* X = Y c and H X = (H Y) c (into Y, free afterwards) */
+  times_small(s, s->Y, s->Hs, s->X);
+  times_small(s, s->HY, s->Hs, s->Y);
   double complex *t = s->HY;
   s->HY = s->Y, s->Y = t;
   return 0;
@@ -136,11 +183,26 @@ static double residual(const ew_kp_solver *s, const ew_kp_pencil *H, size_t m) {
   return sqrt(worst);
 }
 
+/* Factor H − σB: the block LU, or the pivoting sparse LU when its elements grow. */
+static ew_status factor_at(ew_kp_solver *s, const ew_kp_pencil *H, double sigma,
+                           ew_error *err) {
+  ew_error quiet;
+  s->use_blu = ew_kp_blocklu_factor(s->blu, H, sigma, &quiet) == EW_OK;
+  return s->use_blu ? EW_OK : ew_zshift_lu_factor(s->lu, H, sigma, err);
+}
+
+/* X ← (H − σB)⁻¹ X with the last factorisation */
+static ew_status solve_at(ew_kp_solver *s, double complex *X, size_t nrhs, ew_error *err) {
+  if (!s->use_blu) return ew_zshift_lu_solve(s->lu, X, nrhs, err);
+  ew_kp_blocklu_solve(s->blu, X, nrhs);
+  return EW_OK;
+}
+
 static ew_status factor_near(ew_kp_solver *s, const ew_kp_pencil *H, double *sigma,
                              ew_error *err) {
   ew_status rc = EW_ERR_NUMERIC;
   for (int t = 0; t < 4 && rc == EW_ERR_NUMERIC; t++) {
-    rc = ew_zshift_lu_factor(s->lu, H, *sigma, err);
+    rc = factor_at(s, H, *sigma, err);
     s->factorizations++;
     if (rc == EW_ERR_NUMERIC) *sigma -= 1e-9 * (1.0 + fabs(*sigma)); /* an exact eigenvalue */
   }
@@ -179,7 +241,7 @@ static ew_status step(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t 
   memcpy(s->Y, s->X, dim * s->p * sizeof *s->Y);
   for (size_t j = j0; j < j1; j++)
     for (size_t k = 0; k < dim; k++) s->Y[j * dim + k] *= H->w[k / (size_t)s->nb];
-  ew_status rc = ew_zshift_lu_solve(s->lu, s->Y + j0 * dim, j1 - j0, err);
+  ew_status rc = solve_at(s, s->Y + j0 * dim, j1 - j0, err);
   if (rc) return rc;
   s->solves += j1 - j0;
   if (rayleigh_ritz(s, H))
@@ -226,7 +288,7 @@ static ew_status refine(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double
         for (int it = 0; it < 2 && rc == EW_OK; it++) {
           for (size_t q = j; q < j1; q++)
             for (size_t k = 0; k < dim; k++) s->X[q * dim + k] *= H->w[k / (size_t)s->nb];
-          rc = ew_zshift_lu_solve(s->lu, s->X + j * dim, j1 - j, err);
+          rc = solve_at(s, s->X + j * dim, j1 - j, err);
           s->solves += j1 - j;
           if (rc == EW_OK) b_orthonormalise(s, H, j, j1);
         }
