@@ -34,6 +34,7 @@ struct ew_kp_solver {
   size_t factorizations, solves, counts;
   int warm; /* X holds converged vectors of a previous call */
   double tol; /* residual tolerance, eV */
+  size_t win0; /* first column of the last ew_kp_around window */
 };
 
 static void seed(ew_kp_solver *s, size_t j0);
@@ -220,9 +221,10 @@ static ew_status count_at(ew_kp_solver *s, const ew_kp_pencil *H, double sigma, 
   return rc;
 }
 
-/* Per-column residuals of the Ritz pairs j < m into r[m]. */
-static void residuals(const ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double *r) {
-  for (size_t j = 0; j < m; j++) {
+/* Per-column residuals of the Ritz pairs j0 <= j < j1 into r[j]. */
+static void residuals_range(const ew_kp_solver *s, const ew_kp_pencil *H, size_t j0,
+                            size_t j1, double *r) {
+  for (size_t j = j0; j < j1; j++) {
     double rr = 0.0;
     for (size_t k = 0; k < s->dim; k++) {
       double wk = H->w[k / (size_t)s->nb];
@@ -270,17 +272,17 @@ static void b_orthonormalise(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, 
 /* Phase 2: each Kramers pair (cluster) not yet converged gets shift-invert at its own Ritz
  * value (inverse iteration converges there at |λ − θ|/gap per solve); one Rayleigh–Ritz step
  * over the whole block after every sweep over the clusters puts them together again. */
-static ew_status refine(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double *r,
-                        ew_error *err) {
+static ew_status refine_range(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t m,
+                              double *r, ew_error *err) {
   size_t dim = s->dim;
   for (int round = 0; round < 6; round++) {
-    residuals(s, H, m, r);
+    residuals_range(s, H, j0, j0 + m, r);
     int todo = 0;
-    for (size_t j = 0; j < m;) {
+    for (size_t j = j0; j < j0 + m;) {
       size_t j1 = j + 1;
       while (j1 < s->p && fabs(s->theta[j1] - s->theta[j]) < 1e-6 * (1.0 + fabs(s->theta[j]))) j1++;
       int conv = 1;
-      for (size_t q = j; q < j1 && q < m; q++) conv &= r[q] < KP_RESID_TOL;
+      for (size_t q = j; q < j1 && q < j0 + m; q++) conv &= r[q] < KP_RESID_TOL;
       if (!conv) {
         todo = 1;
         double sigma = s->theta[j];
@@ -301,8 +303,12 @@ static ew_status refine(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double
     if (rayleigh_ritz(s, H))
       return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: the refined block lost rank");
   }
-  residuals(s, H, m, r);
+  residuals_range(s, H, j0, j0 + m, r);
   return EW_OK;
+}
+static ew_status refine(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double *r,
+                        ew_error *err) {
+  return refine_range(s, H, 0, m, r, err);
 }
 
 /* A fixed pseudo-random block (a linear congruential sequence: reproducible runs) into the
@@ -383,3 +389,89 @@ ew_status ew_kp_lowest(ew_kp_solver *s, const ew_kp_pencil *H, double lo, size_t
   s->warm = 1;
   return EW_OK;
 }
+
+/* ---- interior windows (the 8-band model) ---------------------------------------------- */
+
+/* first wanted column: below ref the mb highest Ritz values; SIZE_MAX when the block does not
+ * hold mb below and ma above */
+static size_t window_start(const ew_kp_solver *s, double ref, size_t mb, size_t ma) {
+  size_t below = 0;
+  while (below < s->p && s->theta[below] < ref) below++;
+  if (below < mb || s->p - below < ma) return (size_t)-1;
+  return below - mb;
+}
+
+static double range_residual(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t m) {
+  double r[64], worst = 0.0;
+  residuals_range(s, H, j0, j0 + m, r);
+  for (size_t j = j0; j < j0 + m; j++) worst = fmax(worst, r[j]);
+  return worst;
+}
+
+/* subspace iteration at sigma until the window's pairs have residuals below tol */
+static ew_status phase1_window(ew_kp_solver *s, const ew_kp_pencil *H, double sigma,
+                               double ref, size_t mb, size_t ma, double tol, int min_iter,
+                               size_t *j0, ew_error *err) {
+  double res = INFINITY;
+  ew_status rc = factor_near(s, H, &sigma, err);
+  if (rc) return rc;
+  for (int iter = 0; iter < KP_MAX_ITER; iter++) {
+    if ((rc = step(s, H, 0, s->p, err))) return rc;
+    *j0 = window_start(s, ref, mb, ma);
+    if (*j0 == (size_t)-1) continue;
+    res = range_residual(s, H, *j0, mb + ma);
+    if (res < tol && iter + 1 >= min_iter) return EW_OK;
+  }
+  return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: subspace iteration in the window did not "
+                 "converge in %d solves (residual %.3g eV)", KP_MAX_ITER, res);
+}
+
+ew_status ew_kp_around(ew_kp_solver *s, const ew_kp_pencil *H, double ref, size_t mb,
+                       size_t ma, double sigma, double *values, size_t *certified,
+                       ew_error *err) {
+  size_t m = mb + ma, j0 = (size_t)-1, c_ref = 0, c_lo = 0, c_hi = 0;
+  double r[64];
+  *certified = 0;
+  if (m < 1 || m >= s->p) return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: %zu eigenpairs "
+                                         "asked of a block of %zu", m, s->p);
+  ew_status rc = count_at(s, H, ref, &c_ref, err);
+  if (rc) return rc;
+  if (c_ref < mb) return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: only %zu eigenvalues "
+                                 "below the gap reference %.9g eV, %zu wanted", c_ref, ref, mb);
+  if (s->warm) {
+    memcpy(s->Y, s->X, s->dim * s->p * sizeof *s->Y);
+    if (rayleigh_ritz(s, H)) rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: block lost rank");
+    j0 = rc ? (size_t)-1 : window_start(s, ref, mb, ma);
+  }
+  if (!rc && j0 == (size_t)-1) rc = phase1_window(s, H, sigma, ref, mb, ma, KP_PHASE1_TOL, 1, &j0, err);
+  for (int t = 0; t < 6 && !rc; t++) {
+    rc = refine_range(s, H, j0, m, r, err);
+    size_t j = rc ? j0 : window_start(s, ref, mb, ma);
+    if (!rc && (j != j0 || !(range_residual(s, H, j, m) < KP_RESID_TOL)))
+      rc = phase1_window(s, H, sigma, ref, mb, ma, KP_RESID_TOL, 1, &j, err); /* the sure way */
+    if (rc) break;
+    j0 = j;
+    /* cuts just outside the window's first and last values; every eigenvalue in between
+       must be one of the window's (counts by the inertia) */
+    double g_lo = j0 > 0 ? 0.5 * (s->theta[j0] - s->theta[j0 - 1]) : 1e-6;
+    double g_hi = j0 + m < s->p ? 0.5 * (s->theta[j0 + m] - s->theta[j0 + m - 1]) : 1e-6;
+    double lo = s->theta[j0] - fmin(1e-6, g_lo), hi = s->theta[j0 + m - 1] + fmin(1e-6, g_hi);
+    if ((rc = count_at(s, H, lo, &c_lo, err)) || (rc = count_at(s, H, hi, &c_hi, err))) break;
+    if (c_lo + mb == c_ref && c_hi == c_ref + ma) {
+      *certified = c_hi - c_lo;
+      memcpy(values, s->theta + j0, m * sizeof *values);
+      s->warm = 1, s->win0 = j0;
+      return EW_OK;
+    }
+    /* a level the block missed: fresh guard columns and the long way */
+    seed(s, m);
+    rc = phase1_window(s, H, sigma, ref, mb, ma, KP_RESID_TOL, 60, &j0, err);
+  }
+  if (!rc)
+    rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: the inertia counts %zu eigenvalues in the "
+                 "window where the iteration found %zu (a spurious or missed state)",
+                 c_hi - c_lo, m);
+  return rc;
+}
+
+size_t ew_kp_window_column(const ew_kp_solver *s) { return s->win0; }
