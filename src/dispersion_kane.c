@@ -27,7 +27,7 @@
 
 #define GUARD 8     /* extra vectors of each block */
 #define MAX_E 8     /* electron-side eigenvalues followed: the 4 lowest subbands */
-#define MAX_H 32    /* hole-side eigenvalues: the 16 highest subbands */
+#define MAX_H 16    /* hole-side eigenvalues: the 8 highest subbands */
 
 typedef struct {
   ew_grid *g;
@@ -112,7 +112,14 @@ static ew_status sides(const ew_stack *st, kwork *w, double top_e, double top_h,
   /* the shifts: the middle of each side's single-band levels (refined from k∥ > 0 on) */
   size_t ne = e->count < w->me / 2 ? e->count : w->me / 2;
   w->sig_e = ne ? -0.5 * (e->values[0] + e->values[ne - 1]) : w->ref - 0.1;
-  w->sig_h = isfinite(h1) ? 0.5 * (-h1 + w->ref) + 0.05 : w->ref + 0.1;
+  /* the hole side: the (mh/2)-th highest of the merged heavy- and light-hole levels */
+  size_t a = 0, b = 0;
+  double last = -h1;
+  for (size_t q = 0; q < w->mh / 2 && (a < hh->count || b < lh->count); q++) {
+    int take_hh = b >= lh->count || (a < hh->count && hh->values[a] <= lh->values[b]);
+    last = take_hh ? hh->values[a++] : lh->values[b++];
+  }
+  w->sig_h = isfinite(h1) ? 0.5 * (-h1 + last) : w->ref + 0.1;
   return EW_OK;
 }
 

@@ -176,6 +176,30 @@ static void dispersion_job(const void *ctx, outcome *out) {
   ew_dispersion_free(d);
 }
 
+/* The same in the 8-band model (kp_hamiltonian.c's Kane terms, kp_blocklu.c,
+ * dispersion_kane.c: both sides of the gap). */
+static void dispersion8_job(const void *ctx, outcome *out) {
+  const ew_stack *st = ctx;
+  ew_dispersion *d = NULL;
+  ew_error err;
+  out->len = 0;
+  out->rc = ew_dispersion_create(&d, &err);
+  ew_dispersion_options o;
+  ew_dispersion_options_default(&o);
+  o.model = 8;
+  o.points = 3;
+  o.kmax_inv_nm = 0.3;
+  if (out->rc == EW_OK) out->rc = ew_dispersion_compute(d, st, &o, &err);
+  for (size_t j = 0; out->rc == EW_OK && j < ew_dispersion_subband_count(d); j++)
+    for (size_t i = 0; i < ew_dispersion_point_count(d); i++) {
+      double e = ew_dispersion_energy_eV(d, j, i);
+      if (out->len + sizeof e > sizeof out->bytes) break;
+      memcpy(out->bytes + out->len, &e, sizeof e);
+      out->len += sizeof e;
+    }
+  ew_dispersion_free(d);
+}
+
 #if FAULTS_POSSIBLE
 /* Run job with the k-th allocation failing (k = 0: none); returns the count seen. */
 static long run_armed(job_fn job, const void *ctx, long k, outcome *out) {
@@ -401,6 +425,26 @@ static void faults_dispersion(void **state) {
 #endif
 }
 
+/* The 8-band dispersion of the same well. */
+static void faults_dispersion8(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  char text[512];
+  snprintf(text, sizeof text,
+           "temperature = 300.0;\ngrid_step = %s;\nlayers = (\n"
+           "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 4.0; },\n"
+           "  { name = \"well\"; material = \"GaAs\"; thickness = 6.0; },\n"
+           "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 4.0; }\n);\n",
+           job_grid());
+  ew_stack *st = read_stack(text);
+  int bad = every_fault("8-band dispersion", dispersion8_job, st);
+  ew_stack_free(st);
+  assert_int_equal(bad, 0);
+#else
+  skip();
+#endif
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(faults_single_well),
@@ -408,10 +452,12 @@ int main(void) {
       cmocka_unit_test(faults_sweep),
       cmocka_unit_test(faults_merge),
       cmocka_unit_test(faults_dispersion),
+      cmocka_unit_test(faults_dispersion8),
   };
 #if !FAULTS_POSSIBLE
   (void)solve_job, (void)sweep_job, (void)merge_job, (void)dispersion_job, (void)read_stack,
       (void)well_text, (void)job_grid; /* skipped */
+  (void)dispersion8_job;
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
   const char *only = getenv("EW_FAULTS_ONLY");
