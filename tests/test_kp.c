@@ -20,6 +20,7 @@
 #include "testutil.h"
 
 #include "dispersion.h"
+#include "kp_blocklu.h"
 #include "kp_solve.h"
 #include "hamiltonian.h"
 #include "schrodinger.h"
@@ -276,12 +277,13 @@ static void hermitian(void **state) {
   ew_options_default(&so);
   so.grid_step_nm = 0.2;
   ew_grid *g = ew_schrodinger_grid(st, &so);
-  for (int ord = 0; ord < 2; ord++) {
+  for (int run = 0; run < 4; run++) { /* 6-band, 8-band; both orderings */
+    int ord = run % 2, nb = run < 2 ? 6 : 8;
     ew_kp_profile *p = NULL;
-    assert_int_equal(ew_kp_profile_build(st, g, EW_KP_6BAND, (ew_kp_ordering)ord, 0, &p, NULL), EW_OK);
+    assert_int_equal(ew_kp_profile_build(st, g, (ew_kp_model)nb, (ew_kp_ordering)ord, 0, &p, NULL), EW_OK);
     ew_kp_pencil *H = ew_kp_pencil_create(p);
     ew_kp_pencil_fill(p, 0.21, 0.13, H);
-    size_t dim = g->n * 6;
+    size_t dim = g->n * (size_t)nb;
     double complex *x = malloc(dim * sizeof *x), *y = malloc(dim * sizeof *y);
     double complex *hx = malloc(dim * sizeof *hx), *hy = malloc(dim * sizeof *hy);
     for (size_t k = 0; k < dim; k++) x[k] = sin(1.3 * k) + I * cos(0.7 * k), y[k] = cos(2.1 * k) - I * sin(0.3 * k);
@@ -300,18 +302,18 @@ static void hermitian(void **state) {
 }
 
 /* the block LDLᴴ count against LAPACK zheev of the same pencil made dense (B⁻¹ᐟ² H B⁻¹ᐟ²) */
-static void inertia_vs_lapack(void **state) {
-  (void)state;
+static void inertia_check(ew_kp_model model) {
+  size_t nb = (size_t)model;
   ew_stack *st = read_stack(well_text);
   ew_options so;
   ew_options_default(&so);
   so.grid_step_nm = 0.4;
   ew_grid *g = ew_schrodinger_grid(st, &so);
   ew_kp_profile *p = NULL;
-  assert_int_equal(ew_kp_profile_build(st, g, EW_KP_4BAND, EW_KP_BURT_FOREMAN, 0, &p, NULL), EW_OK);
+  assert_int_equal(ew_kp_profile_build(st, g, model, EW_KP_BURT_FOREMAN, 0, &p, NULL), EW_OK);
   ew_kp_pencil *H = ew_kp_pencil_create(p);
   ew_kp_pencil_fill(p, 0.4, 0.1, H);
-  size_t dim = g->n * 4;
+  size_t dim = g->n * nb;
   double complex *A = calloc(dim * dim, sizeof *A), *e = calloc(dim, sizeof *e);
   double *ev = malloc(dim * sizeof *ev);
   for (size_t j = 0; j < dim; j++) { /* column j of H: H e_j */
@@ -320,11 +322,13 @@ static void inertia_vs_lapack(void **state) {
     e[j] = 0;
   }
   for (size_t j = 0; j < dim; j++)
-    for (size_t i = 0; i < dim; i++) A[j * dim + i] /= sqrt(p->w[i / 4] * p->w[j / 4]);
+    for (size_t i = 0; i < dim; i++) A[j * dim + i] /= sqrt(p->w[i / nb] * p->w[j / nb]);
   assert_int_equal(LAPACKE_zheev(LAPACK_COL_MAJOR, 'N', 'L', (lapack_int)dim, A, (lapack_int)dim, ev), 0);
-  ew_kp_inertia *in = ew_kp_inertia_create(4);
+  ew_kp_inertia *in = ew_kp_inertia_create((int)nb);
   for (size_t t = 1; t < 40; t++) {
-    double sigma = ev[0] + (ev[dim / 3] - ev[0]) * (double)t / 40.0;
+    /* 4-band: the lowest third; 8-band: across the middle (both sides of the gap) */
+    double lo = nb == 4 ? ev[0] : ev[dim / 4], hi = nb == 4 ? ev[dim / 3] : ev[3 * dim / 4];
+    double sigma = lo + (hi - lo) * (double)t / 40.0;
     size_t want = 0, got = 0;
     while (want < dim && ev[want] < sigma) want++;
     assert_int_equal(ew_kp_count_below(in, H, sigma, &got, NULL), EW_OK);
@@ -332,6 +336,47 @@ static void inertia_vs_lapack(void **state) {
   }
   ew_kp_inertia_free(in);
   free(A), free(e), free(ev);
+  ew_kp_pencil_free(H);
+  ew_kp_profile_free(p);
+  ew_grid_free(g);
+  ew_stack_free(st);
+}
+
+static void inertia_vs_lapack(void **state) {
+  (void)state;
+  inertia_check(EW_KP_4BAND);
+  inertia_check(EW_KP_8BAND);
+}
+
+/* The block LU solve (kp_blocklu.h): ‖(H − σB) x − b‖ at rounding level for a shift inside
+ * the 8-band spectrum (H − σB indefinite), against the matrix–vector product. */
+static void blocklu_solves(void **state) {
+  (void)state;
+  ew_stack *st = read_stack(well_text);
+  ew_options so;
+  ew_options_default(&so);
+  so.grid_step_nm = 0.2;
+  ew_grid *g = ew_schrodinger_grid(st, &so);
+  ew_kp_profile *p = NULL;
+  assert_int_equal(ew_kp_profile_build(st, g, EW_KP_8BAND, EW_KP_BURT_FOREMAN, 0, &p, NULL), EW_OK);
+  ew_kp_pencil *H = ew_kp_pencil_create(p);
+  ew_kp_pencil_fill(p, 0.3, 0.1, H);
+  size_t dim = g->n * 8;
+  double sigma = -0.9; /* hole picture: E = 0.9 eV, in the GaAs gap region's neighbourhood */
+  ew_kp_blocklu *f = ew_kp_blocklu_create(g->n, 8);
+  assert_int_equal(ew_kp_blocklu_factor(f, H, sigma, NULL), EW_OK);
+  double complex *b = malloc(dim * sizeof *b), *x = malloc(dim * sizeof *x), *hx = malloc(dim * sizeof *hx);
+  for (size_t k = 0; k < dim; k++) b[k] = x[k] = sin(0.37 * k) + I * cos(1.1 * k);
+  ew_kp_blocklu_solve(f, x, 1);
+  ew_kp_pencil_apply(H, x, hx);
+  double r = 0, nb = 0;
+  for (size_t k = 0; k < dim; k++) {
+    double complex d = hx[k] - sigma * p->w[k / 8] * x[k] - b[k];
+    r += creal(d * conj(d)), nb += creal(b[k] * conj(b[k]));
+  }
+  TU_NEAR(sqrt(r / nb), 0.0, 1e-10, "block LU residual");
+  free(b), free(x), free(hx);
+  ew_kp_blocklu_free(f);
   ew_kp_pencil_free(H);
   ew_kp_profile_free(p);
   ew_grid_free(g);
@@ -606,6 +651,26 @@ static void superlattice_gap(void **state) {
   ew_kp_pencil_free(H);
   ew_kp_profile_free(p);
   ew_grid_free(g);
+  /* the electron's character and the JSON: every subband's label, band and values in order */
+  assert_string_equal(ew_dispersion_band(d, ie), "e");
+  assert_true(ew_dispersion_weight(d, ie, 3) > 0.5 && ew_dispersion_weight(d, ih, 0) > 0.5);
+  assert_string_equal(ew_dispersion_model(d), "8band");
+  char *buf = NULL;
+  size_t blen = 0;
+  FILE *f = open_memstream(&buf, &blen);
+  assert_int_equal(ew_dispersion_write_json(d, f, NULL), EW_OK);
+  fclose(f);
+  assert_non_null(strstr(buf, "{\"model\":\"8band\",\"direction\":\"100\",\"k_inv_nm\":[0,0.1,0.2],"));
+  const char *at = buf;
+  for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) {
+    char want[192];
+    snprintf(want, sizeof want, "{\"label\":\"%s\",\"band\":\"%s\",\"energy_eV\":[%.10g,%.10g,%.10g]}",
+             ew_dispersion_label(d, j), ew_dispersion_band(d, j), ew_dispersion_energy_eV(d, j, 0),
+             ew_dispersion_energy_eV(d, j, 1), ew_dispersion_energy_eV(d, j, 2));
+    at = strstr(at, want);
+    assert_non_null(at);
+  }
+  free(buf);
   ew_dispersion_free(d);
   ew_stack_free(st);
 }
@@ -617,7 +682,7 @@ int main(void) {
       cmocka_unit_test(hermitian),         cmocka_unit_test(inertia_vs_lapack),
       cmocka_unit_test(json_values),       cmocka_unit_test(strained_6band),
       cmocka_unit_test(bulk_kane_insb),    cmocka_unit_test(k0_8band_decouples),
-      cmocka_unit_test(superlattice_gap),
+      cmocka_unit_test(superlattice_gap),  cmocka_unit_test(blocklu_solves),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
