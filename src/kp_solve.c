@@ -35,6 +35,7 @@ struct ew_kp_solver {
   int warm; /* X holds converged vectors of a previous call */
   double tol; /* residual tolerance, eV */
   size_t win0; /* first column of the last ew_kp_around window */
+  size_t rr;   /* Rayleigh–Ritz steps so far */
 };
 
 static void seed(ew_kp_solver *s, size_t j0);
@@ -153,6 +154,7 @@ static void times_small(const ew_kp_solver *s, const double complex *A, const do
  * when the small pencil is not definite (the block lost rank). */
 static int rayleigh_ritz(ew_kp_solver *s, const ew_kp_pencil *H) {
   size_t dim = s->dim, p = s->p;
+  s->rr++;
   for (size_t j = 0; j < p; j++) ew_kp_pencil_apply(H, s->Y + j * dim, s->HY + j * dim);
   gram(s, s->Y, s->HY, s->Hs);
   for (size_t k = 0; k < dim * p; k++) s->X[k] = H->w[(k % dim) / (size_t)s->nb] * s->Y[k];
@@ -339,6 +341,23 @@ static ew_status phase1(ew_kp_solver *s, const ew_kp_pencil *H, size_t m, double
                  "%d solves (residual %.3g eV)", KP_MAX_ITER, res);
 }
 
+/* θ_j = x_jᴴ H x_j for the first m columns, B-normalised first, with H x_j into HY (the
+ * guard columns get θ = ∞: no cluster with them) */
+static void rayleigh_quotients(ew_kp_solver *s, const ew_kp_pencil *H, size_t m) {
+  size_t dim = s->dim;
+  for (size_t j = 0; j < s->p; j++) s->theta[j] = INFINITY;
+  for (size_t j = 0; j < m; j++) {
+    double complex *x = s->X + j * dim, *hx = s->HY + j * dim;
+    double nn = 0.0;
+    for (size_t k = 0; k < dim; k++) nn += H->w[k / (size_t)s->nb] * creal(x[k] * conj(x[k]));
+    double f = nn > 0.0 ? 1.0 / sqrt(nn) : 1.0, t = 0.0;
+    for (size_t k = 0; k < dim; k++) x[k] *= f;
+    ew_kp_pencil_apply(H, x, hx);
+    for (size_t k = 0; k < dim; k++) t += creal(conj(x[k]) * hx[k]);
+    s->theta[j] = t;
+  }
+}
+
 ew_status ew_kp_lowest(ew_kp_solver *s, const ew_kp_pencil *H, double lo, size_t m,
                        double *values, size_t *certified, ew_error *err) {
   size_t p = s->p;
@@ -348,14 +367,21 @@ ew_status ew_kp_lowest(ew_kp_solver *s, const ew_kp_pencil *H, double lo, size_t
   double sigma = lo, r[64];
   ew_status rc = EW_OK;
   if (s->warm) {
-    /* the last pencil's vectors (a neighbouring k∥): their Ritz values on this pencil are
-       close enough for the per-pair shifts straight away */
-    memcpy(s->Y, s->X, s->dim * p * sizeof *s->Y);
-    if (rayleigh_ritz(s, H)) rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: block lost rank");
+    /* the last pencil's vectors (a neighbouring k∥): their Rayleigh quotients on this pencil
+       (second-order accurate) are close enough for the per-pair shifts straight away; the
+       refinement's Rayleigh–Ritz step puts the block together (one such step per k∥
+       instead of two: ~20 % of the work) */
+    rayleigh_quotients(s, H, m);
+    size_t rr0 = s->rr;
+    rc = refine(s, H, m, r, err);
+    if (!rc && s->rr == rr0) { /* all converged as they came: order the block for the cut */
+      memcpy(s->Y, s->X, s->dim * p * sizeof *s->Y);
+      if (rayleigh_ritz(s, H)) rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: block lost rank");
+    }
   } else {
     rc = phase1(s, H, m, lo, KP_PHASE1_TOL, 1, err);
+    if (!rc) rc = refine(s, H, m, r, err);
   }
-  if (!rc) rc = refine(s, H, m, r, err);
   if (!rc && !(residual(s, H, m) < KP_RESID_TOL))
     rc = phase1(s, H, m, lo, KP_RESID_TOL, 1, err); /* the slow, sure way */
   if (rc) return rc;
