@@ -116,26 +116,25 @@ ew_status ew_kp_blocklu_factor(ew_kp_blocklu *f, const ew_kp_pencil *H, double s
   return EW_OK;
 }
 
-/* one column: forward u_i = D_i⁻¹ (b_i − C_{i−1}ᴴ u_{i−1}), back x_i = u_i − X_i x_{i+1} */
-static void solve1(const ew_kp_blocklu *f, double complex *x) {
-  int nb = f->nb;
+/* one column: forward u_i = D_i⁻¹ (b_i − C_{i−1}ᴴ u_{i−1}), back x_i = u_i − X_i x_{i+1};
+ * nb a compile-time constant in each instance below (the small loops unroll) */
+static inline void solve1(const ew_kp_blocklu *f, double complex *x, const int nb) {
   size_t nb2 = (size_t)nb * (size_t)nb, n = f->n;
   double complex g[EW_KP_MAX_NB];
   for (size_t i = 0; i < n; i++) {
     double complex *xi = x + i * (size_t)nb;
-    memcpy(g, xi, (size_t)nb * sizeof *g);
+    for (int a = 0; a < nb; a++) g[a] = xi[a];
     if (i > 0) {
       const double complex *C = f->off + (i - 1) * nb2, *u = xi - nb;
-      for (int a = 0; a < nb; a++) {
-        double complex acc = 0;
-        for (int q = 0; q < nb; q++) acc += conj(C[a * nb + q]) * u[q];
-        g[a] -= acc;
-      }
+      for (int a = 0; a < nb; a++)
+        for (int q = 0; q < nb; q++) g[a] -= conj(C[a * nb + q]) * u[q];
     }
     const double complex *Di = f->dinv + i * nb2;
-    for (int a = 0; a < nb; a++) xi[a] = 0;
+    double complex acc[EW_KP_MAX_NB];
+    for (int a = 0; a < nb; a++) acc[a] = 0;
     for (int q = 0; q < nb; q++)
-      for (int a = 0; a < nb; a++) xi[a] += Di[q * nb + a] * g[q];
+      for (int a = 0; a < nb; a++) acc[a] += Di[q * nb + a] * g[q];
+    for (int a = 0; a < nb; a++) xi[a] = acc[a];
   }
   for (size_t i = n - 1; i-- > 0;) {
     double complex *xi = x + i * (size_t)nb;
@@ -147,5 +146,10 @@ static void solve1(const ew_kp_blocklu *f, double complex *x) {
 
 void ew_kp_blocklu_solve(const ew_kp_blocklu *f, double complex *X, size_t nrhs) {
   size_t dim = f->n * (size_t)f->nb;
-  for (size_t j = 0; j < nrhs; j++) solve1(f, X + j * dim);
+  for (size_t j = 0; j < nrhs; j++) switch (f->nb) {
+    case 4: solve1(f, X + j * dim, 4); break;
+    case 6: solve1(f, X + j * dim, 6); break;
+    case 8: solve1(f, X + j * dim, 8); break;
+    default: solve1(f, X + j * dim, f->nb); break;
+    }
 }
