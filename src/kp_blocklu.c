@@ -46,7 +46,7 @@ void ew_kp_blocklu_free(ew_kp_blocklu *f) {
 
 /* inv ← A⁻¹ (nb × nb column-major) by Gauss–Jordan with partial pivoting (by |re| + |im|); A is destroyed.
  * 0 ok, −1 for a zero pivot. */
-static int invert(int nb, double complex *A, double complex *inv) {
+static inline int invert(const int nb, double complex *A, double complex *inv) {
   for (int k = 0; k < nb * nb; k++) inv[k] = 0;
   for (int a = 0; a < nb; a++) inv[a * nb + a] = 1;
   for (int c = 0; c < nb; c++) {
@@ -76,9 +76,10 @@ static int invert(int nb, double complex *A, double complex *inv) {
   return 0;
 }
 
-ew_status ew_kp_blocklu_factor(ew_kp_blocklu *f, const ew_kp_pencil *H, double sigma,
-                               ew_error *err) {
-  int nb = f->nb;
+/* the factorisation with nb a compile-time constant in each instance (the small loops
+ * unroll); *at (out) the failing node, *growth its element growth (0: a singular block) */
+static inline int factor_nb(ew_kp_blocklu *f, const ew_kp_pencil *H, double sigma, const int nb,
+                            size_t *at, double *grow) {
   size_t nb2 = (size_t)nb * (size_t)nb;
   double complex D[EW_KP_MAX_NB * EW_KP_MAX_NB];
   memcpy(D, H->diag, nb2 * sizeof *D);
@@ -86,9 +87,10 @@ ew_status ew_kp_blocklu_factor(ew_kp_blocklu *f, const ew_kp_pencil *H, double s
   f->off = H->off;
   for (size_t i = 0; i < f->n; i++) {
     double complex *Di = f->dinv + i * nb2;
-    if (invert(nb, D, Di))
-      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "block LU at %.12g eV: singular pivot "
-                     "block at node %zu", sigma, i);
+    if (invert(nb, D, Di)) {
+      *at = i, *grow = 0.0;
+      return -1;
+    }
     if (i + 1 == f->n) break;
     const double complex *C = H->off + i * nb2;
     double complex *X = f->x + i * nb2;
@@ -101,9 +103,10 @@ ew_status ew_kp_blocklu_factor(ew_kp_blocklu *f, const ew_kp_pencil *H, double s
         double m = fabs(creal(acc)) + fabs(cimag(acc));
         if (m > growth) growth = m;
       }
-    if (!(growth < GROWTH_MAX))
-      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "block LU at %.12g eV: element growth "
-                     "%.3g at node %zu", sigma, growth, i);
+    if (!(growth < GROWTH_MAX)) {
+      *at = i, *grow = growth;
+      return -1;
+    }
     const double complex *A = H->diag + (i + 1) * nb2;
     for (int b = 0; b < nb; b++) /* D_{i+1} = A − σ w − Cᴴ X */
       for (int a = 0; a < nb; a++) {
@@ -113,7 +116,23 @@ ew_status ew_kp_blocklu_factor(ew_kp_blocklu *f, const ew_kp_pencil *H, double s
       }
     for (int a = 0; a < nb; a++) D[a * nb + a] -= sigma * H->w[i + 1];
   }
-  return EW_OK;
+  return 0;
+}
+
+ew_status ew_kp_blocklu_factor(ew_kp_blocklu *f, const ew_kp_pencil *H, double sigma,
+                               ew_error *err) {
+  size_t at = 0;
+  double grow = 0.0;
+  int bad = f->nb == 4 ? factor_nb(f, H, sigma, 4, &at, &grow)
+            : f->nb == 6 ? factor_nb(f, H, sigma, 6, &at, &grow)
+            : f->nb == 8 ? factor_nb(f, H, sigma, 8, &at, &grow)
+                         : factor_nb(f, H, sigma, f->nb, &at, &grow);
+  if (!bad) return EW_OK;
+  if (grow == 0.0)
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "block LU at %.12g eV: singular pivot block "
+                   "at node %zu", sigma, at);
+  return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "block LU at %.12g eV: element growth %.3g at "
+                 "node %zu", sigma, grow, at);
 }
 
 /* one column: forward u_i = D_i⁻¹ (b_i − C_{i−1}ᴴ u_{i−1}), back x_i = u_i − X_i x_{i+1};
