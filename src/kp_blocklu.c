@@ -2,7 +2,7 @@
 /* Complex products without the C99 Annex G infinity/NaN recovery (a library call per
  * product otherwise): every value here is finite.  GCC's -fcx-limited-range, for this file. */
 #if defined(__GNUC__) && !defined(__clang__)
-#pragma GCC optimize("cx-limited-range")
+#pragma GCC optimize("cx-limited-range", "unroll-loops")
 #endif
 #include "kp_blocklu.h"
 
@@ -65,12 +65,14 @@ static inline int invert(const int nb, double complex *A, double complex *inv) {
         inv[k * nb + c] = inv[k * nb + piv], inv[k * nb + piv] = t;
       }
     double complex s = 1.0 / A[c * nb + c];
-    for (int k = 0; k < nb; k++) A[k * nb + c] *= s, inv[k * nb + c] *= s;
+    /* columns < c of A are eliminated already, column c becomes e_c: only k > c of A */
+    for (int k = c + 1; k < nb; k++) A[k * nb + c] *= s;
+    for (int k = 0; k < nb; k++) inv[k * nb + c] *= s;
     for (int r = 0; r < nb; r++) {
       if (r == c) continue;
       double complex m = A[c * nb + r];
-      if (m == 0) continue;
-      for (int k = 0; k < nb; k++) A[k * nb + r] -= m * A[k * nb + c], inv[k * nb + r] -= m * inv[k * nb + c];
+      for (int k = c + 1; k < nb; k++) A[k * nb + r] -= m * A[k * nb + c];
+      for (int k = 0; k < nb; k++) inv[k * nb + r] -= m * inv[k * nb + c];
     }
   }
   return 0;
@@ -108,12 +110,13 @@ static inline int factor_nb(ew_kp_blocklu *f, const ew_kp_pencil *H, double sigm
       return -1;
     }
     const double complex *A = H->diag + (i + 1) * nb2;
-    for (int b = 0; b < nb; b++) /* D_{i+1} = A − σ w − Cᴴ X */
-      for (int a = 0; a < nb; a++) {
+    for (int b = 0; b < nb; b++) /* D_{i+1} = A − σ w − Cᴴ X: Hermitian, the lower half */
+      for (int a = b; a < nb; a++) {
         double complex acc = A[b * nb + a];
         for (int q = 0; q < nb; q++) acc -= conj(C[a * nb + q]) * X[b * nb + q];
-        D[b * nb + a] = acc;
+        D[b * nb + a] = acc, D[a * nb + b] = conj(acc);
       }
+    for (int a = 0; a < nb; a++) D[a * nb + a] = creal(D[a * nb + a]);
     for (int a = 0; a < nb; a++) D[a * nb + a] -= sigma * H->w[i + 1];
   }
   return 0;

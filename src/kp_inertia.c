@@ -2,7 +2,7 @@
 /* Complex products without the C99 Annex G infinity/NaN recovery (a library call per
  * product otherwise): every value here is finite.  GCC's -fcx-limited-range, for this file. */
 #if defined(__GNUC__) && !defined(__clang__)
-#pragma GCC optimize("cx-limited-range")
+#pragma GCC optimize("cx-limited-range", "unroll-loops")
 #endif
 #include "kp_inertia.h"
 

@@ -3,7 +3,7 @@
 /* Complex products without the C99 Annex G infinity/NaN recovery (a library call per
  * product otherwise): every value here is finite.  GCC's -fcx-limited-range, for this file. */
 #if defined(__GNUC__) && !defined(__clang__)
-#pragma GCC optimize("cx-limited-range")
+#pragma GCC optimize("cx-limited-range", "unroll-loops")
 #endif
 #include "kp_solve.h"
 
@@ -36,6 +36,7 @@ struct ew_kp_solver {
   double tol; /* residual tolerance, eV */
   size_t win0; /* first column of the last ew_kp_around window */
   size_t rr;   /* Rayleigh–Ritz steps so far */
+  size_t hx_cols; /* columns of H X a Rayleigh–Ritz step must form (the wanted ones) */
 };
 
 static void seed(ew_kp_solver *s, size_t j0);
@@ -63,6 +64,7 @@ ew_kp_solver *ew_kp_solver_create(size_t n, int nb, size_t p) {
   s->n = n, s->nb = nb, s->p = p, s->dim = n * (size_t)nb;
   s->lwork = 64 * p;
   s->tol = 1e-8;
+  s->hx_cols = p;
   s->lu = ew_zshift_lu_create(n, nb);
   s->blu = ew_kp_blocklu_create(n, nb);
   s->inertia = ew_kp_inertia_create(nb);
@@ -127,12 +129,12 @@ static void gram(const ew_kp_solver *s, const double complex *A, const double co
 /* Out = A c for a dim × p block A and p × p c (column-major), by row chunks that stay in
  * the first-level cache, two output columns at a time summed in registers */
 static void times_small(const ew_kp_solver *s, const double complex *A, const double complex *c,
-                        double complex *Out) {
+                        double complex *Out, size_t ncols) {
   size_t dim = s->dim, p = s->p;
   for (size_t k0 = 0; k0 < dim; k0 += 256) {
     size_t k1 = k0 + 256 < dim ? k0 + 256 : dim;
-    for (size_t j = 0; j < p; j += 2) {
-      size_t j1 = j + 1 < p ? j + 1 : j; /* an odd last column: computed twice */
+    for (size_t j = 0; j < ncols; j += 2) {
+      size_t j1 = j + 1 < ncols ? j + 1 : j; /* an odd last column: computed twice */
       double *o0 = (double *)(void *)(Out + j * dim), *o1 = (double *)(void *)(Out + j1 * dim);
       for (size_t k = 2 * k0; k < 2 * k1; k += 2) {
         double r0 = 0.0, i0 = 0.0, r1 = 0.0, i1 = 0.0;
@@ -164,8 +166,8 @@ static int rayleigh_ritz(ew_kp_solver *s, const ew_kp_pencil *H) {
                                        (lapack_int)s->lwork, s->rwork);
   if (info != 0) return -1;
   /* X = Y c and H X = (H Y) c (into Y, free afterwards) */
-  times_small(s, s->Y, s->Hs, s->X);
-  times_small(s, s->HY, s->Hs, s->Y);
+  times_small(s, s->Y, s->Hs, s->X, p);
+  times_small(s, s->HY, s->Hs, s->Y, s->hx_cols); /* H X: only the columns residuals read */
   double complex *t = s->HY;
   s->HY = s->Y, s->Y = t;
   return 0;
@@ -366,6 +368,7 @@ ew_status ew_kp_lowest(ew_kp_solver *s, const ew_kp_pencil *H, double lo, size_t
                                       "asked of a block of %zu", m, p);
   double sigma = lo, r[64];
   ew_status rc = EW_OK;
+  s->hx_cols = m; /* residuals of the m lowest only */
   if (s->warm) {
     /* the last pencil's vectors (a neighbouring k∥): their Rayleigh quotients on this pencil
        (second-order accurate) are close enough for the per-pair shifts straight away; the
@@ -460,6 +463,7 @@ ew_status ew_kp_around(ew_kp_solver *s, const ew_kp_pencil *H, double ref, size_
   *certified = 0;
   if (m < 1 || m >= s->p) return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: %zu eigenpairs "
                                          "asked of a block of %zu", m, s->p);
+  s->hx_cols = s->p; /* the window may sit anywhere in the block */
   ew_status rc = count_at(s, H, ref, &c_ref, err);
   if (rc) return rc;
   if (c_ref < mb) return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: only %zu eigenvalues "
