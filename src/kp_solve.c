@@ -470,8 +470,9 @@ ew_status ew_kp_around(ew_kp_solver *s, const ew_kp_pencil *H, double ref, size_
                                  "below the gap reference %.9g eV, %zu wanted", c_ref, ref, mb);
   if (s->warm) {
     memcpy(s->Y, s->X, s->dim * s->p * sizeof *s->Y);
-    if (rayleigh_ritz(s, H)) rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: block lost rank");
-    j0 = rc ? (size_t)-1 : window_start(s, ref, mb, ma);
+    /* start vectors without full rank (a caller's block): the pseudo-random block instead */
+    if (rayleigh_ritz(s, H)) seed(s, 0);
+    else j0 = window_start(s, ref, mb, ma);
   }
   if (!rc && j0 == (size_t)-1) rc = phase1_window(s, H, sigma, ref, mb, ma, KP_PHASE1_TOL, 1, &j0, err);
   for (int t = 0; t < 6 && !rc; t++) {
