@@ -11,7 +11,8 @@ static const char usage[] =
     "                          [--kmax K] [--points N] [--grid-step NM] [--csv FILE] [--json]\n"
     "                          [--plot FILE.svg|.png]\n"
     "  hole subband energies (eV) against k (1/nm) in the 4-band or 6-band Luttinger-Kohn\n"
-    "  model, labelled by their k = 0 character; table on stdout unless --json\n";
+    "  model (8band: with the conduction band, electron subbands e1... too), labelled by\n"
+    "  their k = 0 character; table on stdout unless --json\n";
 
 typedef struct {
   const char *stack, *csv, *plot;

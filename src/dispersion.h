@@ -1,6 +1,7 @@
 /* dispersion.h — hole subband dispersions E(k∥) of a stack in the 4-band or 6-band k·p
  * model (kp_hamiltonian.h), certified at every k∥ (kp_solve.h), each subband labelled by its
- * character at k∥ = 0.  Internal definition of the public ew_dispersion.
+ * character at k∥ = 0; the 8-band model's electron and hole subbands in dispersion_kane.c
+ * (its own header comment).  Internal definition of the public ew_dispersion.
  *
  * Which subbands: those bound at k∥ = 0, i.e. the eigenvalues (hole picture) below the hole
  * window top of bound.h (the lower of the heavy- and light-hole windows); at every k∥ the

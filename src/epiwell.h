@@ -541,7 +541,7 @@ typedef struct ew_dispersion ew_dispersion;
 EW_API ew_status ew_dispersion_create(ew_dispersion **out, ew_error *err);
 EW_API void ew_dispersion_free(ew_dispersion *d); /* NULL is a no-op */
 /* Compute the dispersion of stack with options o (may be NULL: the defaults).  EW_ERR_USAGE
- * for bad options, EW_ERR_INPUT when no hole subband is bound (or a 6-band layer lacks
+ * for bad options, EW_ERR_INPUT when no subband is bound (or a 6- or 8-band layer lacks
  * Delta_so), EW_ERR_NUMERIC when a count disagrees with the computed levels. */
 EW_API ew_status ew_dispersion_compute(ew_dispersion *d, const ew_stack *stack,
                                        const ew_dispersion_options *o, ew_error *err);

@@ -1,5 +1,6 @@
 /* kp_hamiltonian.h — the 4-band (heavy and light holes) and 6-band (with the split-off band)
- * Luttinger–Kohn Hamiltonians of an [001]-grown zinc-blende stack on the finite-difference
+ * Luttinger–Kohn Hamiltonians and the 8-band Kane Hamiltonian (with the Γ6 conduction band;
+ * below) of an [001]-grown zinc-blende stack on the finite-difference
  * grid of grid.h, as a block-tridiagonal Hermitian pencil (H, B) in the hole picture
  * (eigenvalue λ = −E: a hole's energy counted downwards, as the single-band hole pencils of
  * hamiltonian.h are).
@@ -117,8 +118,9 @@ typedef struct {
   double norm;          /* a bound on ‖B^−1/2 H B^−1/2‖ (block Gershgorin) */
 } ew_kp_pencil;
 
-/* Profile of the stack on grid g.  EW_ERR_NOMEM; EW_ERR_INPUT for a 6-band model of a layer
- * without Δso (user materials give none). */
+/* Profile of the stack on grid g.  EW_ERR_NOMEM; EW_ERR_INPUT for a 6- or 8-band model of a
+ * layer without Δso (user materials give none) and an 8-band model of a layer without a
+ * positive Γ gap. */
 ew_status ew_kp_profile_build(const ew_stack *st, const ew_grid *g, ew_kp_model model,
                               ew_kp_ordering ordering, int axial, ew_kp_profile **out,
                               ew_error *err);

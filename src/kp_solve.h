@@ -1,7 +1,8 @@
 /* kp_solve.h — the lowest eigenpairs of a k·p pencil (kp_hamiltonian.h) with a certified
- * count, by shift-invert subspace iteration through SuperLU's complex LU.
+ * count, by shift-invert subspace iteration through a block-tridiagonal LU (kp_blocklu.h;
+ * SuperLU's pivoting complex LU, superlu_adapter.h, when the blocks' elements grow).
  *
- * Method.  H − σB is factorised once (superlu_adapter.h, zgstrf) at a shift σ below the
+ * Method.  H − σB is factorised once at a shift σ below the
  * wanted eigenvalues; a block of p = m + guard vectors is iterated X ← (H − σB)⁻¹ B X with a
  * Rayleigh–Ritz step on (H, B) after every solve (LAPACK zhegv for the small p × p pencil)
  * until the m lowest Ritz pairs have B⁻¹-norm residuals ‖Hx − θBx‖ below tol (then
