@@ -8,6 +8,7 @@
 #include "error.h"
 #include "line_name.h"
 #include "match.h"
+#include "match_part.h"
 #include "range.h"
 #include "stack_model.h"
 
@@ -25,6 +26,7 @@ struct ew_match {
   ew_wf_match_result res;
   ew_progress_fn progress;
   void *progress_ctx;
+  size_t shard_k, shard_n; /* part K of N (0 and 0: the whole match) */
 };
 
 ew_status ew_match_create(ew_match **out, ew_error *err) {
@@ -90,7 +92,8 @@ ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalo
   ew_wf_model *m = NULL;
   ew_status st = ew_wf_model_open(stack_path, cat, opt, &m, err);
   if (st == EW_OK) {
-    ew_wf_match_opt mo = {threads, samples, mt->progress, mt->progress_ctx};
+    ew_wf_match_opt mo = {threads, samples, mt->progress, mt->progress_ctx, mt->shard_k,
+                          mt->shard_n};
     const char *lines[2] = {mt->lines[0], mt->lines[1]};
     st = ew_wf_match(m, mt->ranges, mt->nr, lines, mt->targets, mt->nr,
                      mt->have_tol ? &mt->tol : NULL, &mo, &mt->res, err);
@@ -98,6 +101,22 @@ ew_status ew_match_compute(ew_match *mt, const char *stack_path, const ew_catalo
   ew_wf_model_free(m);
   mt->computed = st == EW_OK;
   return st;
+}
+
+ew_status ew_match_shard(ew_match *mt, size_t k, size_t n, ew_error *err) {
+  if (!mt) return NULL_ARG("ew_match_shard");
+  if (n > 1 && (k < 1 || k > n))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--shard %zu/%zu: K must be in 1..N", k, n);
+  mt->shard_k = n > 1 ? k : 0;
+  mt->shard_n = n > 1 ? n : 0;
+  return EW_OK;
+}
+
+ew_status ew_match_merge(size_t n, const char *const *paths, FILE *out, ew_error *err) {
+  if ((n && !paths) || !out) return NULL_ARG("ew_match_merge");
+  for (size_t i = 0; i < n; i++)
+    if (!paths[i]) return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_match_merge: path %zu is NULL", i);
+  return ew_wf_match_merge(n, paths, out, err);
 }
 
 ew_status ew_match_progress(ew_match *mt, ew_progress_fn fn, void *ctx, ew_error *err) {
@@ -122,7 +141,13 @@ static ew_status write_as(const ew_match *mt, FILE *out, int json, ew_error *err
   if (!mt || !out) return NULL_ARG(json ? "ew_match_write_json" : "ew_match_write_table");
   if (!mt->computed)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_match: nothing computed to write");
-  if (json)
+  int part = mt->res.shard_n > 1;
+  if (part && !json)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "a part of a sharded match is written as JSON "
+                   "(--json) and joined with the other parts (epiwell merge)");
+  if (part)
+    ew_wf_match_part_write(&mt->res, out);
+  else if (json)
     ew_wf_match_print_json(&mt->res, out);
   else
     ew_wf_match_print(&mt->res, out);

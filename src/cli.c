@@ -40,6 +40,8 @@ static const char usage[] =
     "  epiwell merge PART... [--vary KEY=FROM:TO:STEP ...] [-o FILE]  (epiwell merge --help)\n"
     "  epiwell dispersion STACK [--model 4band|6band] [--direction 100|110] [--kmax K]\n"
     "                     [--points N] [--csv FILE] [--json] [--plot FILE.svg|.png]\n"
+    "  epiwell minibands STACK [--points N] [--grid-step NM] [--csv FILE] [--json]\n"
+    "                    [--plot FILE.svg|.png]  (the stack is one superlattice period)\n"
     "    (sweep, match, tolerance also take --grid-step NM and --no-estimate)\n"
     "  epiwell --version | --help\n"
     "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"
@@ -430,5 +432,6 @@ int main(int argc, char **argv) {
   if (!strcmp(argv[1], "tolerance")) return ew_cli_tolerance(argc - 2, argv + 2);
   if (!strcmp(argv[1], "merge")) return ew_cli_merge(argc - 2, argv + 2);
   if (!strcmp(argv[1], "dispersion")) return ew_cli_dispersion(argc - 2, argv + 2);
+  if (!strcmp(argv[1], "minibands")) return ew_cli_minibands(argc - 2, argv + 2);
   return ew_cli_bad(usage, "unknown command %s", argv[1]);
 }

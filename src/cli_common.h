@@ -27,5 +27,7 @@ int ew_cli_tolerance(int argc, char **argv);
 int ew_cli_merge(int argc, char **argv);
 /* `epiwell dispersion` (cli_dispersion.c) */
 int ew_cli_dispersion(int argc, char **argv);
+/* `epiwell minibands` (cli_minibands.c) */
+int ew_cli_minibands(int argc, char **argv);
 
 #endif

@@ -13,7 +13,9 @@ static const char merge_usage[] =
     "usage: epiwell merge PART... [--vary KEY=FROM:TO:STEP [--vary ...]] [-o FILE]\n"
     "  PART  the outputs of `epiwell sweep ... --shard K/N` (or --shard auto), all JSON\n"
     "        (--json) or all CSV, in any order; written in point order to standard output\n"
-    "        or FILE, byte for byte what one `epiwell sweep` without --shard writes\n"
+    "        or FILE, byte for byte what one `epiwell sweep` without --shard writes;\n"
+    "        or the parts of `epiwell match ... --json --shard K/N`: the --json of the\n"
+    "        whole match\n"
     "  --vary  CSV parts only (they carry no part number): the sweep's own --vary, to place\n"
     "        their rows; JSON parts are checked against it when given\n"
     "  a part missing, given twice, of another sweep or cut short is refused (exit 2)\n";
@@ -52,12 +54,28 @@ static int merge_parse(int argc, char **argv, merge_cmd *m) {
   return 0;
 }
 
+/* 1 when the first part is a part of a match (its first bytes), not of a sweep. */
+static int match_parts(const merge_cmd *m) {
+  char head[16] = {0};
+  FILE *f = fopen(m->parts[0], "rb");
+  if (!f) return 0; /* the merge names the file it cannot read */
+  size_t got = fread(head, 1, sizeof head - 1, f);
+  fclose(f);
+  return got == sizeof head - 1 && !strncmp(head, "{\"match_part\":", 14);
+}
+
+static ew_status merge_into(const merge_cmd *m, FILE *out, ew_error *err) {
+  if (match_parts(m)) return ew_match_merge(m->n, m->parts, out, err);
+  return ew_sweep_merge(ew_sweep_key_count(m->sw) ? m->sw : NULL, m->n, m->parts, out, err);
+}
+
 /* Merge into -o FILE (staged, renamed into place on success) or standard output. */
 static int merge_run(const merge_cmd *m) {
   ew_error err = {0};
-  const ew_sweep *sw = ew_sweep_key_count(m->sw) ? m->sw : NULL;
+  if (match_parts(m) && ew_sweep_key_count(m->sw))
+    return ew_cli_bad(merge_usage, "%s", "--vary: parts of a match carry their ranges; leave it out");
   if (!m->out_path) {
-    ew_status st = ew_sweep_merge(sw, m->n, m->parts, stdout, &err);
+    ew_status st = merge_into(m, stdout, &err);
     if (st != EW_OK) return ew_cli_report(&err);
     return fflush(stdout) == 0 ? 0 : (fprintf(stderr, "epiwell: cannot write standard output\n"),
                                       EW_ERR_IO);
@@ -65,7 +83,7 @@ static int merge_run(const merge_cmd *m) {
   ew_output_file *f = NULL;
   ew_status st = ew_data_path_check(m->out_path, "-o", &err);
   if (st == EW_OK) st = ew_output_file_open(m->out_path, &f, &err);
-  if (st == EW_OK) st = ew_sweep_merge(sw, m->n, m->parts, ew_output_file_stream(f), &err);
+  if (st == EW_OK) st = merge_into(m, ew_output_file_stream(f), &err);
   if (st == EW_OK) {
     st = ew_output_file_commit(f, &err);
     f = NULL;

@@ -39,8 +39,12 @@ static const char sweep_usage[] =
 static const char match_usage[] =
     "usage: epiwell match STACK --vary KEY=FROM:TO --line LINE --target VALUE\n"
     "                     [--tolerance VALUE] [--samples N] [--json] [--threads N]\n"
-    "                     [--grid-step NM] [--no-estimate]\n"
+    "                     [--grid-step NM] [--no-estimate] [--shard K/N|auto]\n"
     "       (two unknowns: --vary twice and --line/--target twice)\n"
+    "  --shard K/N  scan only the K-th of N parts of the samples (1D: of the intervals\n"
+    "      between samples; 2D: of the rows of grid cells) and write that part as JSON, one\n"
+    "      line; epiwell merge joins the parts into exactly the --json of the whole match\n"
+    "  --shard auto  the part of this task of a Slurm job array (as for sweep)\n"
     "       VALUE is a number with a unit: eV, meV, nm, um or \xc2\xb5m (e.g. 9.0um, 1.548eV)\n";
 static const char tolerance_usage[] =
     "usage: epiwell tolerance STACK [--dx DX] [--rate PCT] [--ladder LAYER] [--json]\n"
@@ -186,17 +190,17 @@ static int env_whole(const char *name, size_t *v) {
 /* --shard auto: part K of N of a Slurm job array, K = SLURM_ARRAY_TASK_ID −
  * SLURM_ARRAY_TASK_MIN + 1, N = SLURM_ARRAY_TASK_COUNT (so the IDs must be consecutive:
  * --array=MIN-MAX, no step, no list).  0 or the exit code of a usage error. */
-static int shard_auto(size_t *k, size_t *n) {
+static int shard_auto(const char *usage, size_t *k, size_t *n) {
   static const char *const vars[3] = {"SLURM_ARRAY_TASK_ID", "SLURM_ARRAY_TASK_COUNT",
                                       "SLURM_ARRAY_TASK_MIN"};
   size_t v[3];
   for (int i = 0; i < 3; i++)
     if (!env_whole(vars[i], &v[i]))
-      return ew_cli_bad(sweep_usage, "--shard auto: %s is %s (auto takes the part from a Slurm "
+      return ew_cli_bad(usage, "--shard auto: %s is %s (auto takes the part from a Slurm "
                         "job array: sbatch --array=1-N; elsewhere give --shard K/N)", vars[i],
                         getenv(vars[i]) ? "not a whole number" : "not set");
   if (v[0] < v[2] || v[1] < 1 || v[0] - v[2] + 1 > v[1] || v[1] > 1000000)
-    return ew_cli_bad(sweep_usage, "--shard auto: task %zu of an array of %zu from %zu: the task "
+    return ew_cli_bad(usage, "--shard auto: task %zu of an array of %zu from %zu: the task "
                       "IDs must be consecutive (sbatch --array=MIN-MAX, without :STEP or a list)",
                       v[0], v[1], v[2]);
   *k = v[0] - v[2] + 1;
@@ -236,7 +240,7 @@ static int sweep_value(const char *a, const char *v, sweep_cmd *s) {
   } else if (!strcmp(a, "--csv")) {
     s->csv_path = v;
   } else if (!strcmp(a, "--shard") && !strcmp(v, "auto")) {
-    return shard_auto(&s->so.shard_k, &s->so.shard_n);
+    return shard_auto(sweep_usage, &s->so.shard_k, &s->so.shard_n);
   } else if (!strcmp(a, "--shard")) {
     if (!parse_shard(v, &s->so.shard_k, &s->so.shard_n))
       return ew_cli_bad(sweep_usage, "--shard wants K/N with 1 <= K <= N (e.g. 3/8), got %s", v);
@@ -409,6 +413,7 @@ typedef struct {
   common_opt c;
   const char *path;
   size_t nr, nl, nt, samples;
+  size_t shard_k, shard_n; /* --shard K/N (0, 0: none) */
   int have_tol, help;
   ew_match *mt; /* holds the unknowns, lines and targets */
 } match_cmd;
@@ -433,6 +438,11 @@ static int match_value(const char *a, const char *v, match_cmd *m) {
   } else if (!strcmp(a, "--tolerance")) {
     if (ew_match_tolerance(m->mt, v, &err) != EW_OK) return report(&err);
     m->have_tol = 1;
+  } else if (!strcmp(a, "--shard") && !strcmp(v, "auto")) {
+    return shard_auto(match_usage, &m->shard_k, &m->shard_n);
+  } else if (!strcmp(a, "--shard")) {
+    if (!parse_shard(v, &m->shard_k, &m->shard_n))
+      return ew_cli_bad(match_usage, "--shard wants K/N with 1 <= K <= N (e.g. 3/8), got %s", v);
   } else if (!parse_whole(v, 2, 1e6, &m->samples)) {
     return ew_cli_bad(match_usage, "--samples wants a whole number >= 2, got %s", v);
   }
@@ -450,7 +460,7 @@ static int match_parse(int argc, char **argv, match_cmd *m) {
       return 0;
     }
     if (!strcmp(a, "--vary") || !strcmp(a, "--line") || !strcmp(a, "--target") ||
-        !strcmp(a, "--tolerance") || !strcmp(a, "--samples")) {
+        !strcmp(a, "--tolerance") || !strcmp(a, "--samples") || !strcmp(a, "--shard")) {
       if (i + 1 >= argc) return ew_cli_bad(match_usage, "%s needs a value", a);
       rc = match_value(a, argv[++i], m);
     } else if (a[0] == '-' && a[1]) {
@@ -468,6 +478,8 @@ static int match_parse(int argc, char **argv, match_cmd *m) {
     return ew_cli_bad(match_usage, "%s", "match needs one --line and one --target per --vary");
   if (m->have_tol && m->nr == 2)
     return ew_cli_bad(match_usage, "%s", "--tolerance works with one --vary only");
+  if (m->shard_n > 1 && !m->c.json)
+    return ew_cli_bad(match_usage, "%s", "--shard writes a part for epiwell merge: add --json");
   return 0;
 }
 
@@ -479,12 +491,13 @@ static int match_run(match_cmd *m) {
   catch_stop_signals();
   if (ew_catalogue_load(NULL, &cat, &err) != EW_OK ||
       ew_match_progress(m->mt, match_cancel, NULL, &err) != EW_OK ||
+      ew_match_shard(m->mt, m->shard_k, m->shard_n, &err) != EW_OK ||
       ew_match_compute(m->mt, m->path, cat, &m->c.solve, m->c.threads, m->samples, &err) !=
           EW_OK) {
     rc = report(&err);
   } else {
     /* no solution is an answer, not an error: exit 0, the reached range on stderr too */
-    if (ew_match_solution_count(m->mt) == 0)
+    if (ew_match_solution_count(m->mt) == 0 && m->shard_n <= 1)
       fprintf(stderr, "epiwell: %s\n", ew_match_message(m->mt));
     ew_status st = m->c.json ? ew_match_write_json(m->mt, stdout, NULL)
                              : ew_match_write_table(m->mt, stdout, NULL);

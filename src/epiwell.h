@@ -498,6 +498,18 @@ EW_API double ew_match_solution_value(const ew_match *mt, size_t i, size_t k);
 EW_API const char *ew_match_message(const ew_match *mt);
 EW_API ew_status ew_match_write_table(const ew_match *mt, FILE *out, ew_error *err);
 EW_API ew_status ew_match_write_json(const ew_match *mt, FILE *out, ew_error *err);
+/* Compute only part k of n (1 ≤ k ≤ n; n ≤ 1: the whole match, the default) of the match's
+ * sample scan, so that n machines share one match (README "Sweeps on a cluster"): 1D, the
+ * k-th contiguous run of the intervals between samples; 2D, of the rows of grid cells.  After
+ * compute, ew_match_write_json writes the part (one line, every number at full precision) and
+ * ew_match_write_table refuses (EW_ERR_USAGE); ew_match_merge joins the parts.  Before
+ * compute; EW_ERR_USAGE for k outside 1..n. */
+EW_API ew_status ew_match_shard(ew_match *mt, size_t k, size_t n, ew_error *err);
+/* Join the parts (files written by ew_match_write_json of a sharded match, any order) into
+ * exactly the JSON of the whole match, to out.  Nothing is written unless every part checks:
+ * EW_ERR_INPUT naming the part for a part missing, given twice, of another match or cut
+ * short; EW_ERR_IO when a part cannot be read or out written; EW_ERR_USAGE for n == 0. */
+EW_API ew_status ew_match_merge(size_t n, const char *const *paths, FILE *out, ew_error *err);
 
 /* ---- growth tolerances and the monolayer ladder (api_tolerance.c) ---------------------- */
 typedef struct ew_tolerance ew_tolerance;
@@ -572,6 +584,62 @@ EW_API double ew_dispersion_weight(const ew_dispersion *d, size_t j, int c);
 EW_API ew_status ew_dispersion_write_json(const ew_dispersion *d, FILE *out, ew_error *err);
 EW_API ew_status ew_dispersion_write_csv(const ew_dispersion *d, FILE *out, ew_error *err);
 EW_API ew_status ew_dispersion_write_plot(const ew_dispersion *d, const char *path, ew_error *err);
+
+/* ---- minibands of an infinite superlattice (api_minibands.c) ----------------------------
+ * The stack is one period d.  The Bloch condition ψ(z + d) = e^{iqd} ψ(z) on the solve's
+ * grid gives E_n(q), q in [0, π/d], per band (e, hh, lh) with the growth-axis masses of the
+ * single-well solve (the Kane electron mass where it applies), every value certified by an
+ * inertia count (README "Minibands").  Followed: the minibands
+ * whose bottom lies below the band's bound window top as the single-well solve of the same
+ * stack has it (the lower edge of the two outer layers).  create → compute → accessors /
+ * writers → free.  Energies are absolute eV; a miniband's "bottom" is its edge nearest its
+ * band edge (for holes the higher energy), width = |top − bottom|. */
+typedef struct ew_minibands ew_minibands;
+EW_API ew_status ew_minibands_create(ew_minibands **out, ew_error *err);
+EW_API void ew_minibands_free(ew_minibands *mb); /* NULL is a no-op */
+/* points: q samples from 0 to π/d inclusive, 2 … 10000; grid_step_nm > 0 overrides the
+ * stack's step, 0 the stack's or the solve's default.  EW_ERR_USAGE for bad arguments,
+ * EW_ERR_INPUT for a stack with an applied field or with no miniband below any window top,
+ * EW_ERR_NUMERIC when a count does not certify a value, EW_ERR_NOMEM. */
+EW_API ew_status ew_minibands_compute(ew_minibands *mb, const ew_stack *stack, size_t points,
+                                      double grid_step_nm, ew_error *err);
+EW_API double ew_minibands_period_nm(const ew_minibands *mb);    /* NAN before compute */
+EW_API double ew_minibands_grid_step_nm(const ew_minibands *mb); /* NAN before compute */
+EW_API size_t ew_minibands_point_count(const ew_minibands *mb);
+EW_API double ew_minibands_q_inv_nm(const ew_minibands *mb, size_t i); /* NAN out of range */
+/* Minibands followed: electrons first, then heavy and light holes, each from its band edge. */
+EW_API size_t ew_minibands_count(const ew_minibands *mb);
+EW_API const char *ew_minibands_band(const ew_minibands *mb, size_t j);  /* "e", "hh", "lh" */
+EW_API const char *ew_minibands_label(const ew_minibands *mb, size_t j); /* "e1", "hh2", … */
+EW_API int ew_minibands_index(const ew_minibands *mb, size_t j); /* 1-based; 0 out of range */
+/* Absolute eV (NAN out of range); mass at the bottom in m0, from the curvature there. */
+EW_API double ew_minibands_bottom_eV(const ew_minibands *mb, size_t j);
+EW_API double ew_minibands_top_eV(const ew_minibands *mb, size_t j);
+EW_API double ew_minibands_width_eV(const ew_minibands *mb, size_t j);
+EW_API double ew_minibands_mass_m0(const ew_minibands *mb, size_t j);
+EW_API double ew_minibands_energy_eV(const ew_minibands *mb, size_t j, size_t i);
+/* The largest certified |E − E_exact(grid)| bound of miniband j over its points (the
+ * eigenvalue of the discrete problem, not the grid error). */
+EW_API double ew_minibands_bound_eV(const ew_minibands *mb, size_t j);
+/* Window top of band (absolute eV) that chose the minibands. */
+EW_API double ew_minibands_window_top_eV(const ew_minibands *mb, ew_band band);
+/* Warnings of the computation (code "miniband-doping-ignored": the stack is doped, the
+ * minibands are flat-band).  warning(i): the code, NULL out of range; warning_text(i): one
+ * sentence. */
+EW_API size_t ew_minibands_warning_count(const ew_minibands *mb);
+EW_API const char *ew_minibands_warning(const ew_minibands *mb, size_t i);
+EW_API const char *ew_minibands_warning_text(const ew_minibands *mb, size_t i);
+/* "kane" when electrons take the Kane energy-dependent mass (exactly when ew_solve would:
+ * the stack's nonparabolic setting and layers with E_P), else "parabolic"; NULL before
+ * compute. */
+EW_API const char *ew_minibands_electron_mass(const ew_minibands *mb);
+/* JSON {"period_nm":…,"grid_step_nm":…,"electron_mass":"kane"|"parabolic","warnings":[…],
+ * "minibands":[{"band":"e","index":1,"label":"e1","bottom_eV":…,"top_eV":…,"width_eV":…,
+ * "mass_m0":…,"bound_eV":…,"q_inv_nm":[…],"energy_eV":[…]},…]};
+ * CSV q_inv_nm,LABEL_eV… (one row per q); the picture E(q) (.svg/.png). */
+EW_API ew_status ew_minibands_write_json(const ew_minibands *mb, FILE *out, ew_error *err);
+EW_API ew_status ew_minibands_write_csv(const ew_minibands *mb, FILE *out, ew_error *err);
+EW_API ew_status ew_minibands_write_plot(const ew_minibands *mb, const char *path, ew_error *err);
 
 /* ==== Version, struct sizes and stacks with settings (api_version.c) ====================
  * A program built against one version of this header may run with another shared library.

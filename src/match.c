@@ -211,6 +211,7 @@ typedef struct {
   wf_bracket *br;       /* [2S] */
   size_t nb;
   double emin, emax;    /* the line's range over samples and edges */
+  int own_last;         /* an exact hit on the last sample is this part's (the last part's) */
 } samples_1d;
 
 static void samples_free(samples_1d *s) {
@@ -253,7 +254,8 @@ static void brackets_1d(samples_1d *s, double T) {
   }
   s->nb = 0;
   for (size_t i = 0; i < s->S; i++) {
-    if (isfinite(E[i]) && E[i] == T) s->br[s->nb++] = (wf_bracket){v[i], 0, v[i], 0, 1};
+    if (isfinite(E[i]) && E[i] == T && (i + 1 < s->S || s->own_last))
+      s->br[s->nb++] = (wf_bracket){v[i], 0, v[i], 0, 1};
     if (i + 1 == s->S) break;
     double a = v[i], fa = E[i] - T, b = v[i + 1], fb = E[i + 1] - T;
     if (isfinite(s->Eedge[i])) { /* one end unbound: bracket from the edge */
@@ -315,37 +317,45 @@ static ew_status solve_brackets(const wf_eval *ev, const ew_wf_range *r,
   return fl.index != SIZE_MAX ? ew_wf_fail_report(&fl, err) : EW_OK;
 }
 
-static void no_match_1d(const wf_eval *ev, const ew_wf_range *r, const samples_1d *s,
-                        ew_wf_match_result *out) {
+static void no_match_1d(ew_wf_match_result *out) {
   char t[64], a[64], b[64];
   fmt_energy(t, sizeof t, out->target[0].eV);
-  if (!isfinite(s->emin)) {
+  const char *key = out->key[0], *line = out->line[0];
+  if (!isfinite(out->reached_min_eV[0])) {
     snprintf(out->message, sizeof out->message, "no value of %s in [%g, %g] puts %s at %s: "
-             "%s is not bound anywhere in the range", r->key, r->from, r->to, ev->line[0], t,
-             ev->line[0]);
+             "%s is not bound anywhere in the range", key, out->from[0], out->to[0], line, t,
+             line);
   } else {
-    fmt_energy(a, sizeof a, s->emin);
-    fmt_energy(b, sizeof b, s->emax);
+    fmt_energy(a, sizeof a, out->reached_min_eV[0]);
+    fmt_energy(b, sizeof b, out->reached_max_eV[0]);
     snprintf(out->message, sizeof out->message, "no value of %s in [%g, %g] puts %s at %s; "
-             "over the range %s spans %s to %s", r->key, r->from, r->to, ev->line[0], t,
-             ev->line[0], a, b);
+             "over the range %s spans %s to %s", key, out->from[0], out->to[0], line, t, line, a,
+             b);
   }
 }
 
+/* Sample i of S over range r (the last one is r->to itself). */
+static double sample_value(const ew_wf_range *r, size_t i, size_t S) {
+  return i + 1 == S ? r->to : r->from + (r->to - r->from) * (double)i / (double)(S - 1);
+}
+
+/* 1D: the samples i0 … i1 of S (the intervals [i0, i1) of a part; 0 … S − 1 for the whole
+ * match), their edges and brackets, and Brent in each. */
 static ew_status match_1d(const wf_eval *ev, const ew_wf_range *r, const ew_wf_quantity *tol,
-                          size_t S, int nt, ew_wf_match_result *out, ew_error *err) {
-  samples_1d s = {S, malloc(S * sizeof(double)), malloc(S * sizeof(double)),
-                  calloc(S, sizeof(double)), calloc(S, sizeof(double)),
-                  malloc(2 * S * sizeof(wf_bracket)), 0, NAN, NAN};
+                          size_t S, size_t i0, size_t i1, int nt, ew_wf_match_result *out,
+                          ew_error *err) {
+  size_t m = i1 - i0 + 1;
+  samples_1d s = {m, malloc(m * sizeof(double)), malloc(m * sizeof(double)),
+                  calloc(m, sizeof(double)), calloc(m, sizeof(double)),
+                  malloc(2 * m * sizeof(wf_bracket)), 0, NAN, NAN, i1 + 1 == S};
   ew_status rc = EW_OK;
   if (!s.v || !s.E || !s.vedge || !s.Eedge || !s.br) {
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (samples)");
     goto done;
   }
-  for (size_t i = 0; i < S; i++) s.v[i] = r->from + (r->to - r->from) * (double)i / (double)(S - 1);
-  s.v[S - 1] = r->to;
+  for (size_t i = 0; i < m; i++) s.v[i] = sample_value(r, i0 + i, S);
   double span = fabs(r->to - r->from), xtol_abs = 1e-9 * span;
-  rc = sample_grid(ev, S, s.v, s.E, nt, err);
+  rc = sample_grid(ev, m, s.v, s.E, nt, err);
   if (rc == EW_OK) rc = find_edges(ev, &s, span, nt, err);
   if (rc != EW_OK) goto done;
   brackets_1d(&s, out->target[0].eV);
@@ -359,7 +369,7 @@ static ew_status match_1d(const wf_eval *ev, const ew_wf_range *r, const ew_wf_q
   rc = solve_brackets(ev, r, tol, &s, xtol_abs, nt, out, err);
   if (rc != EW_OK) goto done;
   out->n = s.nb;
-  if (s.nb == 0) no_match_1d(ev, r, &s, out);
+  if (s.nb == 0 && out->shard_n <= 1) no_match_1d(out);
 done:
   samples_free(&s);
   return rc;
@@ -465,30 +475,27 @@ static int cmp_sol(const void *pa, const void *pb) {
   return (a->value[1] > b->value[1]) - (a->value[1] < b->value[1]);
 }
 
-typedef struct {
-  double r;
-  size_t i, j;
-} wf_start;
-
 static int cmp_start(const void *pa, const void *pb) {
-  const wf_start *a = pa, *b = pb;
+  const ew_wf_match_start *a = pa, *b = pb;
   if (a->r != b->r) return a->r < b->r ? -1 : 1;
   return a->i != b->i ? (a->i < b->i ? -1 : 1) : (a->j > b->j) - (a->j < b->j);
 }
 
 #define WF_MAX_STARTS 8
 
-/* The grid of a 2D match: S0 × S1 points, values v[2p..2p+1] and energies E[2p..2p+1]. */
+/* The grid of a 2D match (or of a part's rows): S0 × S1 points from row i0 of the whole
+ * grid, values v[2p..2p+1] and energies E[2p..2p+1]. */
 typedef struct {
-  size_t S0, S1, np;
+  size_t S0, S1, np, i0;
   double *v, *E;
 } grid_2d;
 
-/* The best corner of grid cell (i, j) when both residuals change sign across the cell. */
+/* The best corner of grid cell (i, j) (local rows) when both residuals change sign across the
+ * cell; the start's i is the whole grid's row. */
 static int cell_start(const grid_2d *g, const ew_wf_match_result *out, size_t i, size_t j,
-                      wf_start *best) {
+                      ew_wf_match_start *best) {
   int neg[2] = {0, 0}, pos[2] = {0, 0}, ok = 1;
-  *best = (wf_start){INFINITY, 0, 0};
+  *best = (ew_wf_match_start){.r = INFINITY, .cell = 1};
   for (size_t di = 0; di < 2; di++)
     for (size_t dj = 0; dj < 2; dj++) {
       size_t p = (i + di) * g->S1 + j + dj;
@@ -500,102 +507,130 @@ static int cell_start(const grid_2d *g, const ew_wf_match_result *out, size_t i,
       }
       if (ok) {
         double q = rnorm(&g->E[2 * p], out);
-        if (q < best->r) *best = (wf_start){q, i + di, j + dj};
+        if (q < best->r) best->r = q, best->i = g->i0 + i + di, best->j = j + dj;
       }
     }
   return ok && neg[0] && pos[0] && neg[1] && pos[1];
 }
 
-/* Newton's starts: the best corner of every grid cell across which both residuals change
- * sign, the best grid point when no cell qualifies; one per grid point (a point is the best
- * corner of up to four cells), the best WF_MAX_STARTS.  Returns how many (st has np). */
-static size_t starts_2d(const grid_2d *g, const ew_wf_match_result *out, wf_start *st) {
+/* The starts Newton goes from, chosen from candidates st[0..n) (all of one kind: cell
+ * corners, or best points): sorted by residual (ties by row, column), one per grid point, the
+ * best WF_MAX_STARTS (one when they are best points).  Returns how many, at the front of st. */
+static size_t pick_starts(ew_wf_match_start *st, size_t n) {
+  qsort(st, n, sizeof *st, cmp_start);
+  size_t u = 0;
+  for (size_t k = 0; k < n; k++) {
+    size_t q = 0;
+    while (q < u && (st[q].i != st[k].i || st[q].j != st[k].j)) q++;
+    if (q == u) st[u++] = st[k];
+  }
+  size_t keep = u > 0 && !st[0].cell ? 1 : WF_MAX_STARTS;
+  return u < keep ? u : keep;
+}
+
+/* Newton's starts of grid g: the best corner of every grid cell across which both residuals
+ * change sign, the best grid point when no cell qualifies (pick_starts).  st has np. */
+static size_t starts_2d(const grid_2d *g, const ew_wf_match_result *out, ew_wf_match_start *st) {
   size_t ns = 0;
   for (size_t i = 0; i + 1 < g->S0; i++)
     for (size_t j = 0; j + 1 < g->S1; j++)
       if (cell_start(g, out, i, j, &st[ns])) ns++;
   if (ns == 0) {
-    wf_start best = {INFINITY, 0, 0};
+    ew_wf_match_start best = {.r = INFINITY};
     for (size_t p = 0; p < g->np; p++)
       if (isfinite(g->E[2 * p]) && isfinite(g->E[2 * p + 1]) && rnorm(&g->E[2 * p], out) < best.r)
-        best = (wf_start){rnorm(&g->E[2 * p], out), p / g->S1, p % g->S1};
+        best.r = rnorm(&g->E[2 * p], out), best.i = g->i0 + p / g->S1, best.j = p % g->S1;
     if (isfinite(best.r)) st[ns++] = best;
   }
-  qsort(st, ns, sizeof *st, cmp_start);
-  size_t u = 0;
-  for (size_t k = 0; k < ns; k++) {
-    size_t q = 0;
-    while (q < u && (st[q].i != st[k].i || st[q].j != st[k].j)) q++;
-    if (q == u) st[u++] = st[k];
-  }
-  return u < WF_MAX_STARTS ? u : WF_MAX_STARTS;
+  return pick_starts(st, ns);
 }
 
-/* Newton from every start; the distinct solutions (starts converging to the same point agree
- * to ~1e-6 of the box), sorted, into out. */
+/* Newton from every start (its found and sol). */
 static ew_status newton_starts(const wf_eval *ev, const ew_wf_range *r, const grid_2d *g,
-                               const wf_start *st, size_t ns, int nt, ew_wf_match_result *out,
-                               ew_error *err) {
+                               ew_wf_match_start *st, size_t ns, int nt,
+                               const ew_wf_match_result *out, ew_error *err) {
   (void)nt; /* unused without OpenMP */
-  ew_wf_solution *sol = calloc(ns ? ns : 1, sizeof *sol);
-  int *found = calloc(ns ? ns : 1, sizeof *found);
-  if (!sol || !found) {
-    free(sol);
-    free(found);
-    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
-  }
   ew_wf_fail fl = EW_WF_FAIL_NONE;
   EW_OMP(omp parallel for num_threads(nt) schedule(dynamic, 1))
   for (size_t k = 0; k < ns; k++) {
     ew_error e = {0};
-    ew_status q = newton_2d(ev, r, &g->v[2 * (st[k].i * g->S1 + st[k].j)], out, &sol[k],
-                            &found[k], &e);
+    ew_status q = newton_2d(ev, r, &g->v[2 * ((st[k].i - g->i0) * g->S1 + st[k].j)], out,
+                            &st[k].sol, &st[k].found, &e);
     if (q != EW_OK) ew_wf_fail_record(&fl, k, q, &e);
   }
-  if (fl.index != SIZE_MAX) {
-    free(sol);
-    free(found);
-    return ew_wf_fail_report(&fl, err);
-  }
+  return fl.index != SIZE_MAX ? ew_wf_fail_report(&fl, err) : EW_OK;
+}
+
+/* The distinct solutions of the starts st[0..ns) (starts converging to the same point agree
+ * to ~1e-6 of the box), sorted, into out. */
+static ew_status collect_solutions(const ew_wf_match_start *st, size_t ns,
+                                   ew_wf_match_result *out, ew_error *err) {
+  ew_wf_solution *sol = calloc(ns ? ns : 1, sizeof *sol);
+  if (!sol) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   size_t n = 0;
   for (size_t k = 0; k < ns; k++) {
-    if (!found[k]) continue;
+    if (!st[k].found) continue;
     size_t q = 0;
     for (; q < n; q++)
-      if (fabs(sol[q].value[0] - sol[k].value[0]) <= 1e-4 * fabs(r[0].to - r[0].from) &&
-          fabs(sol[q].value[1] - sol[k].value[1]) <= 1e-4 * fabs(r[1].to - r[1].from))
+      if (fabs(sol[q].value[0] - st[k].sol.value[0]) <= 1e-4 * fabs(out->to[0] - out->from[0]) &&
+          fabs(sol[q].value[1] - st[k].sol.value[1]) <= 1e-4 * fabs(out->to[1] - out->from[1]))
         break;
-    if (q == n) sol[n++] = sol[k];
+    if (q == n) sol[n++] = st[k].sol;
   }
   qsort(sol, n, sizeof *sol, cmp_sol);
-  free(found);
+  free(out->sol);
   out->sol = sol;
   out->n = n;
   return EW_OK;
 }
 
-static void no_match_2d(const wf_eval *ev, const ew_wf_range *r, ew_wf_match_result *out) {
-  snprintf(out->message, sizeof out->message, "no pair of %s in [%g, %g] and %s in [%g, %g] "
-           "puts %s at %.6g eV and %s at %.6g eV; over the box %s spans %.6g to %.6g eV and "
-           "%s %.6g to %.6g eV", r[0].key, r[0].from, r[0].to, r[1].key, r[1].from, r[1].to,
-           ev->line[0], out->target[0].eV, ev->line[1], out->target[1].eV, ev->line[0],
-           out->reached_min_eV[0], out->reached_max_eV[0], ev->line[1], out->reached_min_eV[1],
-           out->reached_max_eV[1]);
+ew_status ew_wf_match_merge_starts(ew_wf_match_start *st, size_t n, ew_wf_match_result *out,
+                                   ew_error *err) {
+  /* the cell corners of every part, or (no part had one) every part's best point */
+  size_t nc = 0;
+  for (size_t k = 0; k < n; k++)
+    if (st[k].cell) {
+      ew_wf_match_start t = st[nc];
+      st[nc++] = st[k];
+      st[k] = t;
+    }
+  size_t ns = pick_starts(st, nc ? nc : n);
+  return collect_solutions(st, ns, out, err);
 }
 
-static ew_status match_2d(const wf_eval *ev, const ew_wf_range *r, size_t S0, size_t S1, int nt,
-                          ew_wf_match_result *out, ew_error *err) {
-  size_t np = S0 * S1;
-  grid_2d g = {S0, S1, np, malloc(2 * np * sizeof(double)), malloc(2 * np * sizeof(double))};
-  wf_start *st = malloc(np * sizeof *st);
+static void no_match_2d(ew_wf_match_result *out) {
+  int w = snprintf(out->message, sizeof out->message, "no pair of %s in [%g, %g] and %s in [%g, %g] "
+           "puts %s at %.6g eV and %s at %.6g eV; over the box %s spans %.6g to %.6g eV and "
+           "%s %.6g to %.6g eV", out->key[0], out->from[0], out->to[0], out->key[1],
+           out->from[1], out->to[1], out->line[0], out->target[0].eV, out->line[1],
+           out->target[1].eV, out->line[0], out->reached_min_eV[0], out->reached_max_eV[0],
+           out->line[1], out->reached_min_eV[1], out->reached_max_eV[1]);
+  if (w < 0) out->message[0] = '\0';
+}
+
+void ew_wf_match_message(ew_wf_match_result *out) {
+  out->message[0] = '\0';
+  if (out->n > 0) return;
+  if (out->nkeys == 2) no_match_2d(out);
+  else no_match_1d(out);
+}
+
+/* 2D: the grid rows i0 … i1 of S0 (the cell rows [i0, i1) of a part; all for the whole match),
+ * Newton's starts and Newton from each.  A part keeps its starts (out->starts) for the merge;
+ * the whole match its solutions. */
+static ew_status match_2d(const wf_eval *ev, const ew_wf_range *r, size_t S0, size_t S1,
+                          size_t i0, size_t i1, int nt, ew_wf_match_result *out, ew_error *err) {
+  size_t rows = i1 - i0 + 1, np = rows * S1;
+  grid_2d g = {rows, S1, np, i0, malloc(2 * np * sizeof(double)), malloc(2 * np * sizeof(double))};
+  ew_wf_match_start *st = calloc(np, sizeof *st);
   ew_status rc = EW_OK;
   if (!g.v || !g.E || !st) {
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (samples)");
     goto done;
   }
-  for (size_t i = 0; i < S0; i++)
+  for (size_t i = 0; i < rows; i++)
     for (size_t j = 0; j < S1; j++) {
-      g.v[2 * (i * S1 + j)] = r[0].from + (r[0].to - r[0].from) * (double)i / (double)(S0 - 1);
+      g.v[2 * (i * S1 + j)] = r[0].from + (r[0].to - r[0].from) * (double)(i0 + i) / (double)(S0 - 1);
       g.v[2 * (i * S1 + j) + 1] = r[1].from + (r[1].to - r[1].from) * (double)j / (double)(S1 - 1);
     }
   rc = sample_grid(ev, np, g.v, g.E, nt, err);
@@ -609,7 +644,14 @@ static ew_status match_2d(const wf_eval *ev, const ew_wf_range *r, size_t S0, si
   }
   size_t ns = starts_2d(&g, out, st);
   rc = newton_starts(ev, r, &g, st, ns, nt, out, err);
-  if (rc == EW_OK && out->n == 0) no_match_2d(ev, r, out);
+  if (rc == EW_OK && out->shard_n > 1) {
+    out->starts = st;
+    out->n_starts = ns;
+    st = NULL;
+  } else if (rc == EW_OK) {
+    rc = collect_solutions(st, ns, out, err);
+    if (rc == EW_OK && out->n == 0) no_match_2d(out);
+  }
 done:
   free(g.v);
   free(g.E);
@@ -654,17 +696,50 @@ static ew_status match_setup(const ew_wf_model *m, const ew_wf_range *ranges, si
   return EW_OK;
 }
 
-/* The warning codes of the stack at every solution (README "Warnings"). */
-static ew_status solution_codes(const wf_eval *ev, ew_wf_match_result *out, ew_error *err) {
-  for (size_t k = 0; k < out->n; k++) {
-    ew_stack *st = NULL;
-    ew_result *res = NULL;
-    ew_status rc = ew_wf_pool_solve(ev->pool, ev->nk, ev->keys, out->sol[k].value, &st, &res, err);
-    if (rc != EW_OK) return rc;
-    ew_result_warning_codes_join(res, out->sol[k].warnings, sizeof out->sol[k].warnings);
-    ew_result_free(res);
-    ew_stack_free(st);
+/* The warning codes of the stack at solution s (README "Warnings"). */
+static ew_status solution_codes(const wf_eval *ev, ew_wf_solution *s, ew_error *err) {
+  ew_stack *st = NULL;
+  ew_result *res = NULL;
+  ew_status rc = ew_wf_pool_solve(ev->pool, ev->nk, ev->keys, s->value, &st, &res, err);
+  if (rc != EW_OK) return rc;
+  ew_result_warning_codes_join(res, s->warnings, sizeof s->warnings);
+  ew_result_free(res);
+  ew_stack_free(st);
+  return EW_OK;
+}
+
+/* ... of every solution, and of every found start of a 2D part. */
+static ew_status all_codes(const wf_eval *ev, ew_wf_match_result *out, ew_error *err) {
+  ew_status rc = EW_OK;
+  for (size_t k = 0; rc == EW_OK && k < out->n; k++) rc = solution_codes(ev, &out->sol[k], err);
+  for (size_t k = 0; rc == EW_OK && k < out->n_starts; k++)
+    if (out->starts[k].found) rc = solution_codes(ev, &out->starts[k].sol, err);
+  return rc;
+}
+
+void ew_wf_match_part_span(size_t n, size_t k, size_t parts, size_t *lo, size_t *hi) {
+  *lo = (size_t)((unsigned long long)n * (k - 1) / parts);
+  *hi = (size_t)((unsigned long long)n * k / parts);
+}
+
+/* Samples per range (the option, or one per STEP, or 41 in 1D and 11 in 2D), and the shard. */
+static ew_status match_samples(const ew_wf_range *ranges, size_t nr, const ew_wf_match_opt *o,
+                               ew_wf_match_result *out, ew_error *err) {
+  for (size_t i = 0; i < nr; i++) {
+    size_t S = o->samples ? o->samples
+               : ranges[i].step > 0 ? ew_wf_range_count(&ranges[i])
+                                    : (nr == 1 ? 41 : 11);
+    out->samples[i] = S < 2 ? 2 : S;
+    out->from[i] = ranges[i].from;
+    out->to[i] = ranges[i].to;
   }
+  if ((double)out->samples[0] * (nr == 2 ? (double)out->samples[1] : 1.0) > 1e6)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--samples: too many samples (limit 10^6 solves)");
+  out->shard_n = o->shard_n > 1 ? o->shard_n : 1;
+  out->shard_k = o->shard_n > 1 ? o->shard_k : 1;
+  if (out->shard_k < 1 || out->shard_k > out->shard_n)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--shard %zu/%zu: K must be in 1..N",
+                   out->shard_k, out->shard_n);
   return EW_OK;
 }
 
@@ -673,21 +748,13 @@ ew_status ew_wf_match(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
                       const ew_wf_quantity *tolerance, const ew_wf_match_opt *oin,
                       ew_wf_match_result *out, ew_error *err) {
   memset(out, 0, sizeof *out);
-  ew_wf_match_opt o = {0, 0, NULL, NULL};
+  ew_wf_match_opt o = {0};
   if (oin) o = *oin;
   wf_eval ev = {NULL, 0, {NULL, NULL}, {NULL, NULL}, 0};
   ew_status rc = match_setup(m, ranges, nr, lines, targets, nlines, tolerance, &ev, out, err);
+  if (rc == EW_OK) rc = match_samples(ranges, nr, &o, out, err);
   if (rc != EW_OK) return rc;
   int nt = ew_wf_threads(o.threads);
-  size_t S[2] = {2, 2};
-  for (size_t i = 0; i < nr; i++) {
-    S[i] = o.samples ? o.samples
-           : ranges[i].step > 0 ? ew_wf_range_count(&ranges[i])
-                                : (nr == 1 ? 41 : 11);
-    if (S[i] < 2) S[i] = 2;
-  }
-  if ((double)S[0] * (nr == 2 ? (double)S[1] : 1.0) > 1e6)
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--samples: too many samples (limit 10^6 solves)");
   ew_wf_pool pool;
   rc = ew_wf_pool_open(m, nt, &pool, err);
   if (rc != EW_OK) return rc;
@@ -695,23 +762,24 @@ ew_status ew_wf_match(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
   ew_progress_init(&pg, o.progress, o.progress_ctx, 0);
   if (o.progress) pool.progress = &pg;
   ev.pool = &pool;
-  rc = nr == 1 ? match_1d(&ev, ranges, tolerance, S[0], nt, out, err)
-               : match_2d(&ev, ranges, S[0], S[1], nt, out, err);
-  if (rc == EW_OK) rc = solution_codes(&ev, out, err);
+  /* the part's intervals (1D) or cell rows (2D): [lo, hi) of samples[0] − 1 */
+  size_t lo, hi;
+  ew_wf_match_part_span(out->samples[0] - 1, out->shard_k, out->shard_n, &lo, &hi);
+  rc = nr == 1 ? match_1d(&ev, ranges, tolerance, out->samples[0], lo, hi, nt, out, err)
+               : match_2d(&ev, ranges, out->samples[0], out->samples[1], lo, hi, nt, out, err);
+  if (rc == EW_OK) rc = all_codes(&ev, out, err);
   ew_wf_pool_free(&pool);
-  if (rc != EW_OK) {
-    free(out->sol);
-    out->sol = NULL;
-    out->n = 0;
-  }
+  if (rc != EW_OK) ew_wf_match_result_free(out);
   return rc;
 }
 
 void ew_wf_match_result_free(ew_wf_match_result *r) {
   if (!r) return;
   free(r->sol);
+  free(r->starts);
   r->sol = NULL;
-  r->n = 0;
+  r->starts = NULL;
+  r->n = r->n_starts = 0;
 }
 
 /* ---- reports ---------------------------------------------------------------------------- */

@@ -22,6 +22,17 @@ typedef struct {
   char warnings[EW_WARNING_CODES_MAX]; /* the stack's warning codes at value, ';'-joined */
 } ew_wf_solution;
 
+/* A start of Newton's method in a 2D match part (see ew_wf_match_opt.shard_n): a grid point
+ * (i, j), its relative residual r, whether it is the best corner of a cell across which both
+ * residuals change sign (cell 1) or the part's best point (cell 0, when the part has no such
+ * cell), and where Newton went from it (found 0: nowhere in the box). */
+typedef struct {
+  double r;
+  size_t i, j;
+  int cell, found;
+  ew_wf_solution sol;
+} ew_wf_match_start;
+
 typedef struct {
   size_t nkeys;            /* 1 or 2 */
   char key[2][EW_WF_KEY_MAX];
@@ -34,6 +45,14 @@ typedef struct {
   /* what the range reaches: line energy min/max over the samples (1D), NaN if never bound */
   double reached_min_eV[2], reached_max_eV[2];
   char message[512];       /* "no value … reaches …" when n == 0, otherwise empty */
+  /* A part of a sharded match (shard_n > 1): the samples, range ends and shard it was cut
+   * from; 1D: the solutions of its intervals (no message); 2D: the Newton starts of its rows
+   * (n = 0 until merged, ew_wf_match_merge_starts). */
+  size_t shard_k, shard_n;  /* 1 and 1 for a whole match */
+  size_t samples[2];
+  double from[2], to[2];
+  ew_wf_match_start *starts;
+  size_t n_starts;
 } ew_wf_match_result;
 
 typedef struct {
@@ -41,6 +60,12 @@ typedef struct {
   size_t samples;  /* samples per range; 0: from STEP if given, else 41 (1D) / 11 (2D) */
   ew_progress_fn progress; /* may be NULL: one step per solve, total 0; nonzero cancels */
   void *progress_ctx;
+  /* Part shard_k of shard_n (1 ≤ k ≤ n; n ≤ 1: the whole match): 1D, the K-th of N
+   * contiguous runs of the sample intervals (an exact hit on a sample belongs to the interval
+   * it starts, the last sample to the last part); 2D, of the rows of grid cells.  Every part
+   * samples its points exactly as the whole match would, so ew_wf_match_merge of all parts
+   * is the whole match to the last bit. */
+  size_t shard_k, shard_n;
 } ew_wf_match_opt;
 
 /* Every value of ranges[0] (1D; nranges = 1, nlines = 1) or pair of values (2D; nranges =
@@ -56,7 +81,18 @@ ew_status ew_wf_match(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
                       const char *const *lines, const ew_wf_quantity *targets, size_t nlines,
                       const ew_wf_quantity *tolerance, const ew_wf_match_opt *o,
                       ew_wf_match_result *out, ew_error *err);
-void ew_wf_match_result_free(ew_wf_match_result *r); /* frees sol; NULL is a no-op */
+void ew_wf_match_result_free(ew_wf_match_result *r); /* frees sol, starts; NULL is a no-op */
+
+/* The runs [*lo, *hi) of n items in part k of parts (1 ≤ k ≤ parts): contiguous, in order. */
+void ew_wf_match_part_span(size_t n, size_t k, size_t parts, size_t *lo, size_t *hi);
+/* 2D, merging: Newton's starts st[0..n) gathered from every part become what the whole match
+ * keeps (the same selection, de-duplication and order) in out->sol and out->n.  st is
+ * reordered.  EW_ERR_NOMEM. */
+ew_status ew_wf_match_merge_starts(ew_wf_match_start *st, size_t n, ew_wf_match_result *out,
+                                   ew_error *err);
+/* The "no value … puts …" message of a merged match without solutions (out->n == 0), from
+ * its keys, lines, targets, range ends and reached energies. */
+void ew_wf_match_message(ew_wf_match_result *out);
 void ew_wf_match_print(const ew_wf_match_result *r, FILE *out);      /* table */
 void ew_wf_match_print_json(const ew_wf_match_result *r, FILE *out); /* one JSON object */
 

@@ -10,6 +10,7 @@
 #include <libconfig.h>
 #include <math.h>
 #include <stdarg.h>
+#include <stdint.h> /* SIZE_MAX */
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -18,6 +19,7 @@
 #include "error.h"
 #include "grid.h" /* EW_GRID_MAX_NODES: the reader refuses a stack the grid cannot hold */
 #include "plausible.h"
+#include "stack_repeat.h"
 #include "text.h"
 
 /* Plausibility limits (see the header of this file for why they exist). */
@@ -93,6 +95,7 @@ typedef struct {
   double a_sub_nm; /* substrate lattice constant, 0 = unstrained */
   const char **line_start; /* [n_lines]: where each line of text starts (int_is_exact) */
   size_t n_lines;
+  const ew_stack_layer_hook *hook; /* NULL, or stack editing around each layer's read */
 } reader;
 
 /* Formats the message once here so call sites stay one line each. */
@@ -861,11 +864,26 @@ static int name_set_init(name_set *h, size_t n) {
   return h->slot == NULL;
 }
 
+static size_t name_hash(const char *name, size_t len) {
+  size_t hash = 14695981039346656037u;
+  for (const unsigned char *p = (const unsigned char *)name; len--; p++)
+    hash = (hash ^ *p) * 1099511628211u;
+  return hash;
+}
+
+/* The index of the layer called name[0..len) among those added, or SIZE_MAX. */
+static size_t name_set_find(const name_set *h, const ew_layer *layers, const char *name,
+                            size_t len) {
+  for (size_t k = name_hash(name, len) & h->mask; h->slot[k]; k = (k + 1) & h->mask) {
+    const char *other = layers[h->slot[k] - 1].name;
+    if (!strncmp(other, name, len) && !other[len]) return h->slot[k] - 1;
+  }
+  return SIZE_MAX;
+}
+
 /* Adds layer i by its name; returns i, or the index of the earlier layer of the same name. */
 static size_t name_set_add(name_set *h, const ew_layer *layers, size_t i) {
-  size_t hash = 14695981039346656037u;
-  for (const unsigned char *p = (const unsigned char *)layers[i].name; *p; p++)
-    hash = (hash ^ *p) * 1099511628211u;
+  size_t hash = name_hash(layers[i].name, strlen(layers[i].name));
   for (size_t k = hash & h->mask;; k = (k + 1) & h->mask) {
     if (!h->slot[k]) {
       h->slot[k] = i + 1;
@@ -875,38 +893,94 @@ static size_t name_set_add(name_set *h, const ew_layer *layers, size_t i) {
   }
 }
 
+/* ---- repeat groups (stack_repeat.c walks them; the copies are read here) ---------------- */
+static int repeat_number(void *ctx, const config_setting_t *g, const char *key,
+                         const char *where, double *value, int *line) {
+  return get_number(ctx, g, key, where, value, line);
+}
+
+static ew_status repeat_keys(void *ctx, const config_setting_t *g, const char *const *keys,
+                             size_t n, const char *where) {
+  return check_keys(ctx, g, keys, n, where);
+}
+
+/* A copy of a named layer in a repeat group is NAME#k (stack_repeat.h). */
+static ew_status name_copy(reader *r, const ew_repeat_layer *e, ew_layer *L) {
+  L->written = e->written;
+  L->copy = e->copy;
+  if (!e->copy || !config_setting_get_member(e->group, "name")) return EW_OK;
+  char name[EW_NAME_MAX + 24];
+  int w = snprintf(name, sizeof name, "%s#%zu", L->name, e->copy);
+  if (w < 0 || (size_t)w >= sizeof L->name)
+    return fail(r, L->line, "layer name '%s' is too long for the names of its copies (%s: at "
+                "most %d characters)", L->name, name, EW_NAME_MAX - 1);
+  memcpy(L->name, name, (size_t)w + 1);
+  return EW_OK;
+}
+
+/* NAME.KEY sets every copy of the repeated layer NAME (stack_edit.c): no layer of the stack
+ * may carry that name itself. */
+static ew_status check_repeated_names(reader *r, const ew_stack *s, const name_set *names) {
+  for (size_t k = 0; k < s->n_layers; k++) {
+    const ew_layer *L = &s->layers[k];
+    const char *hash = L->copy == 1 ? strrchr(L->name, '#') : NULL;
+    size_t len = hash ? (size_t)(hash - L->name) : 0, j;
+    if (!hash || (j = name_set_find(names, s->layers, L->name, len)) == SIZE_MAX) continue;
+    return fail(r, L->line, "layer name '%.*s' is given to a repeated layer here and to the "
+                "layer at line %d: a key '%.*s.KEY' sets every copy of the repeated one, so the "
+                "names must differ", (int)len, L->name, s->layers[j].line, (int)len, L->name);
+  }
+  return EW_OK;
+}
+
+/* Layer i of the expanded stack from its written group (hook: stack editing of one copy). */
+static ew_status read_copy(reader *r, const ew_repeat_layer *e, size_t i, ew_layer *L,
+                           double T) {
+  ew_status st = r->hook ? r->hook->before(r->hook->ctx, i, r->err) : EW_OK;
+  if (st) return st;
+  st = read_layer(r, e->group, i, L, T);
+  if (!st) st = name_copy(r, e, L);
+  ew_status sa = r->hook ? r->hook->after(r->hook->ctx, i, st ? NULL : r->err) : EW_OK;
+  return st ? st : sa;
+}
+
 static ew_status read_layers(reader *r, const config_setting_t *root, ew_stack *s) {
   const config_setting_t *list = config_setting_get_member(root, "layers");
   if (!list)
     return fail(r, 1, "no 'layers' list: the stack needs at least one layer, e.g. layers = ( "
                 "{ material = \"GaAs\"; thickness = 8.0; } );");
-  int type = config_setting_type(list), n = config_setting_length(list);
-  if (type != CONFIG_TYPE_LIST && !(type == CONFIG_TYPE_ARRAY && n == 0))
+  int type = config_setting_type(list), len = config_setting_length(list);
+  if (type != CONFIG_TYPE_LIST && !(type == CONFIG_TYPE_ARRAY && len == 0))
     return fail(r, line_of(list), "'layers' must be a list of groups: layers = ( { ... }, ... ); "
                 "not %s", type_word(list));
-  if (n == 0) return fail(r, line_of(list), "'layers' is empty: the stack needs at least one layer");
+  if (len == 0) return fail(r, line_of(list), "'layers' is empty: the stack needs at least one layer");
+  ew_repeat_reader rr = {r, repeat_number, repeat_keys, r->path, r->err};
+  size_t n = 0;
+  ew_status st = ew_repeat_count(&rr, list, &n);
+  if (st) return st;
 
-  s->layers = calloc((size_t)n, sizeof *s->layers);
+  s->layers = calloc(n, sizeof *s->layers);
   name_set names = {NULL, 0};
-  if (!s->layers || name_set_init(&names, (size_t)n)) {
+  if (!s->layers || name_set_init(&names, n)) {
     free(names.slot);
     return ew_fail(r->err, EW_ERR_NOMEM, r->path, 0, "out of memory");
   }
-  ew_status st = EW_OK;
   double z = 0;
-  for (int i = 0; i < n && !st; i++) {
+  ew_repeat_iter it;
+  ew_repeat_layer e;
+  ew_repeat_begin(&it, list);
+  for (size_t i = 0; !st && ew_repeat_next(&it, &e); i++) {
     ew_layer *L = &s->layers[i];
-    st = read_layer(r, config_setting_get_elem(list, (unsigned)i), (size_t)i, L,
-                    s->temperature_K);
+    st = read_copy(r, &e, i, L, s->temperature_K);
     if (st) break;
-    s->n_layers = (size_t)i + 1;
-    size_t j = name_set_add(&names, s->layers, (size_t)i);
-    if (j != (size_t)i) {
+    s->n_layers = i + 1;
+    size_t j = name_set_add(&names, s->layers, i);
+    if (j != i) {
       st = fail(r, L->line, "duplicate layer name '%s' (first used at line %d)%s", L->name,
                 s->layers[j].line,
-                config_setting_get_member(config_setting_get_elem(list, (unsigned)i), "name")
-                    ? ""
-                    : "; an unnamed layer gets its position as name");
+                !config_setting_get_member(e.group, "name")
+                    ? "; an unnamed layer gets its position as name"
+                : L->copy ? "; the copies of a repeated layer are named NAME#k" : "");
       break;
     }
     L->z_start_nm = z;
@@ -915,6 +989,7 @@ static ew_status read_layers(reader *r, const config_setting_t *root, ew_stack *
       st = fail(r, L->line, "total thickness reaches %g nm at layer '%s', above the %g nm "
                 "limit", z, L->name, MAX_TOTAL_NM);
   }
+  if (!st) st = check_repeated_names(r, s, &names);
   free(names.slot);
   if (st) return st;
   s->total_nm = z;
@@ -1241,8 +1316,9 @@ static int index_lines(reader *r) {
  * from (to re-check integer literals, see int_is_exact); NULL when values were set in the tree
  * after parsing (stack editing), where every stored integer is exact. */
 static ew_status read_tree(const config_t *cfg, const char *text, const char *name,
-                           const ew_catalogue *cat, ew_stack **out, ew_error *err) {
-  reader r = {name, text, cat, err, NULL, 0, NULL, 0, 0.0, NULL, 0};
+                           const ew_catalogue *cat, const ew_stack_layer_hook *hook,
+                           ew_stack **out, ew_error *err) {
+  reader r = {name, text, cat, err, NULL, 0, NULL, 0, 0.0, NULL, 0, hook};
   if (text && index_lines(&r)) return ew_fail(err, EW_ERR_NOMEM, name, 0, "out of memory");
   ew_stack *s = calloc(1, sizeof *s);
   if (!s) {
@@ -1272,14 +1348,20 @@ static ew_status read_tree(const config_t *cfg, const char *text, const char *na
   return EW_OK;
 }
 
-ew_status ew_stack_from_config(const config_t *cfg, const char *display_name,
-                               const ew_catalogue *cat, ew_stack **out, ew_error *err) {
+ew_status ew_stack_from_config_hooked(const config_t *cfg, const char *display_name,
+                                      const ew_catalogue *cat, const ew_stack_layer_hook *hook,
+                                      ew_stack **out, ew_error *err) {
   const char *name = display_name ? display_name : "<config>";
   if (out) *out = NULL;
   if (!out || !cfg)
     return ew_fail(err, EW_ERR_INPUT, name, 0, "ew_stack_from_config: NULL %s",
                    !out ? "output pointer" : "config");
-  return read_tree(cfg, NULL, name, cat, out, err);
+  return read_tree(cfg, NULL, name, cat, hook, out, err);
+}
+
+ew_status ew_stack_from_config(const config_t *cfg, const char *display_name,
+                               const ew_catalogue *cat, ew_stack **out, ew_error *err) {
+  return ew_stack_from_config_hooked(cfg, display_name, cat, NULL, out, err);
 }
 
 /* ---- what a generic libconfig "syntax error" usually means ------------------------------
@@ -1414,7 +1496,7 @@ static ew_status read_text(const char *text, const char *name, const ew_catalogu
                  "%s (libconfig syntax: key = value; groups in { }, lists in ( ))",
                  why ? why : "syntax error");
   } else {
-    st = read_tree(&cfg, text, name, cat, out, err);
+    st = read_tree(&cfg, text, name, cat, NULL, out, err);
   }
   config_destroy(&cfg);
   return st;

@@ -39,6 +39,9 @@ typedef struct {
      (stack offset_reference) so that Ec − Ec_ref = S (Eg − Eg_ref); < 0: not given */
   double conduction_share;
   int conduction_share_line;
+  /* repeat groups (stack_repeat.h): the number of the written layer this one is read from
+     (depth first through the file) and its copy number k of NAME#k (0: in no repeat group) */
+  size_t written, copy;
 } ew_layer;
 
 struct ew_stack {
@@ -94,6 +97,18 @@ ew_status ew_stack_check_key(const struct config_setting_t *group, const char *k
                              const char *opt, const char *full_key, ew_error *err);
 ew_status ew_stack_from_config(const struct config_t *cfg, const char *display_name,
                                const ew_catalogue *cat, ew_stack **out, ew_error *err);
+/* The same with hook->before called before and hook->after after the reading of every
+ * expanded layer (by its index): stack_edit.c sets a key of one copy of a repeated layer in
+ * the written group that copy is read from and puts it back.  A nonzero status stops the
+ * read (after gets err NULL when the layer's read failed, so its message stays). */
+typedef struct {
+  void *ctx;
+  ew_status (*before)(void *ctx, size_t layer, ew_error *err);
+  ew_status (*after)(void *ctx, size_t layer, ew_error *err);
+} ew_stack_layer_hook;
+ew_status ew_stack_from_config_hooked(const struct config_t *cfg, const char *display_name,
+                                      const ew_catalogue *cat, const ew_stack_layer_hook *hook,
+                                      ew_stack **out, ew_error *err);
 
 /* Band parameters of layer ly at fraction f ∈ [0, 1] of its thickness (graded layers are
  * interpolated linearly between samples). */

@@ -15,7 +15,14 @@
  *                    deep_barrier.Ec); the longest name that prefixes the key (names may
  *                    hold dots)
  *   NAME.GROUP.KEY   a setting of one of its groups (well.grade.x_end, well.doping.donors)
- * A setting absent from the file is added; it reports the line of its group.  A layer's
+ * For a layer of a repeat group (stack_repeat.h) NAME is its written name, and the key sets
+ * every copy (well.thickness), or one copy's name NAME#k, and it sets that copy only
+ * (well#3.thickness; set in the written group while that copy is read, then put back).
+ * A setting absent from the file is added; it reports the line of its group.  It is created
+ * once, when its key is checked, and attached to its group only during builds that set it:
+ * a build calls no libconfig allocator (libconfig 1.5 does not survive a failed allocation),
+ * so a sweep over a key the file leaves out meets every allocation failure with
+ * EW_ERR_NOMEM like any other.  A layer's
  * thickness is given one way: setting thickness removes thickness_ml and the reverse (the new
  * setting reports the line of the one it replaces); so does a number written as an integer,
  * which is replaced by a floating-point setting. */
@@ -36,9 +43,11 @@ ew_status ew_stack_editor_open(const char *text, const ew_stack *nominal,
 void ew_stack_editor_free(ew_stack_editor *ed); /* NULL is a no-op */
 
 /* Check that key names a setting (see above) that can take a number.  *nominal receives its
- * value in the file, or NaN when it is absent (it will be added).  opt_name (e.g. "--vary")
- * starts the message of an EW_ERR_USAGE error.  Does not change the tree. */
-ew_status ew_stack_editor_check(const ew_stack_editor *ed, const char *key,
+ * value in the file, or NaN when it is absent: the setting is then created, kept out of the
+ * tree between builds (builds without the key see the file as it was).  Every key a build
+ * sets must have been checked first.  opt_name (e.g. "--vary") starts the message of an
+ * EW_ERR_USAGE error. */
+ew_status ew_stack_editor_check(ew_stack_editor *ed, const char *key,
                                 const char *opt_name, double *nominal, ew_error *err);
 
 /* The stack with keys[i] set to values[i] (i < nkeys), validated by the stack reader; the

@@ -354,12 +354,12 @@ static int guarded_zcreate(slu_section *sec, ew_zshift_lu *s) {
   return 1;
 }
 
-ew_zshift_lu *ew_zshift_lu_create(size_t n, int nb) {
-  if (n < 1 || nb < 1 || nb > 8 || n > 10000000u / (size_t)nb) return NULL;
+/* The workspace of a dim × dim pattern of nnz entries: arrays only (zpattern_finish does the
+ * rest once col/row are filled).  NULL when out of memory. */
+static ew_zshift_lu *zpattern_alloc(int n, int nb, int dim, int nnz) {
   ew_zshift_lu *s = calloc(1, sizeof *s);
   if (!s) return NULL;
-  s->n = (int)n, s->nb = nb, s->dim = (int)n * nb;
-  s->nnz = nb * nb * (3 * (int)n - 2);
+  s->n = n, s->nb = nb, s->dim = dim, s->nnz = nnz;
   s->nz = malloc((size_t)s->nnz * sizeof *s->nz);
   s->row = malloc((size_t)s->nnz * sizeof *s->row);
   s->col = malloc((size_t)(s->dim + 1) * sizeof *s->col);
@@ -370,15 +370,12 @@ ew_zshift_lu *ew_zshift_lu_create(size_t n, int nb) {
     ew_zshift_lu_free(s);
     return NULL;
   }
-  int k = 0;
-  for (int j = 0; j < s->dim; j++) { /* column j: every row of nodes J − 1, J, J + 1 */
-    int J = j / nb;
-    s->col[j] = k;
-    for (int R = J > 0 ? J - 1 : 0; R <= J + 1 && R < s->n; R++)
-      for (int a = 0; a < nb; a++) s->row[k++] = R * nb + a;
-    s->perm_c[j] = j;
-  }
-  s->col[s->dim] = k;
+  for (int j = 0; j < s->dim; j++) s->perm_c[j] = j;
+  return s;
+}
+
+/* SuperLU's matrix over the filled pattern, column order and elimination tree. */
+static ew_zshift_lu *zpattern_finish(ew_zshift_lu *s) {
   slu_section sec;
   section_begin(&sec);
   if (!guarded_zcreate(&sec, s)) {
@@ -391,6 +388,33 @@ ew_zshift_lu *ew_zshift_lu_create(size_t n, int nb) {
   section_end(&sec);
   s->have_ac = 1;
   return s;
+}
+
+ew_zshift_lu *ew_zshift_lu_create(size_t n, int nb) {
+  if (n < 1 || nb < 1 || nb > 8 || n > 10000000u / (size_t)nb) return NULL;
+  ew_zshift_lu *s = zpattern_alloc((int)n, nb, (int)n * nb, nb * nb * (3 * (int)n - 2));
+  if (!s) return NULL;
+  int k = 0;
+  for (int j = 0; j < s->dim; j++) { /* column j: every row of nodes J − 1, J, J + 1 */
+    int J = j / nb;
+    s->col[j] = k;
+    for (int R = J > 0 ? J - 1 : 0; R <= J + 1 && R < s->n; R++)
+      for (int a = 0; a < nb; a++) s->row[k++] = R * nb + a;
+  }
+  s->col[s->dim] = k;
+  return zpattern_finish(s);
+}
+
+ew_zshift_lu *ew_zshift_lu_create_pattern(size_t dim, size_t nnz, const int *colptr,
+                                          const int *rowind) {
+  if (dim < 1 || dim > 10000000u || nnz < dim || nnz > 10 * dim || !colptr || !rowind ||
+      colptr[0] != 0 || colptr[dim] != (int)nnz)
+    return NULL;
+  ew_zshift_lu *s = zpattern_alloc((int)dim, 1, (int)dim, (int)nnz);
+  if (!s) return NULL;
+  memcpy(s->col, colptr, (dim + 1) * sizeof *colptr);
+  memcpy(s->row, rowind, nnz * sizeof *rowind);
+  return zpattern_finish(s);
 }
 
 static void zdrop_lu(ew_zshift_lu *s) {
@@ -425,6 +449,28 @@ static int guarded_zgstrf(slu_section *sec, ew_zshift_lu *s) {
   return info;
 }
 
+/* Factor the values now in s->nz (sigma only names the shift in messages). */
+static ew_status zfactor(ew_zshift_lu *s, double sigma, ew_error *err) {
+  zdrop_lu(s);
+  slu_section sec;
+  section_begin(&sec);
+  int info = guarded_zgstrf(&sec, s);
+  if (info == 0) {
+    section_end(&sec);
+    s->have_lu = 1;
+    return EW_OK;
+  }
+  if (info > 0 && info <= s->dim) {
+    section_end(&sec);
+    s->have_lu = 1;
+    zdrop_lu(s);
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "shift %.12g eV is an eigenvalue (zero pivot in "
+                   "column %d)", sigma, info);
+  }
+  section_unwind(&sec);
+  return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "SuperLU ran out of memory (complex LU, n = %d)", s->dim);
+}
+
 ew_status ew_zshift_lu_factor(ew_zshift_lu *s, const ew_kp_pencil *H, double sigma,
                               ew_error *err) {
   int nb = s->nb, k = 0;
@@ -442,24 +488,16 @@ ew_status ew_zshift_lu_factor(ew_zshift_lu *s, const ew_kp_pencil *H, double sig
         k++;
       }
   }
-  zdrop_lu(s);
-  slu_section sec;
-  section_begin(&sec);
-  int info = guarded_zgstrf(&sec, s);
-  if (info == 0) {
-    section_end(&sec);
-    s->have_lu = 1;
-    return EW_OK;
+  return zfactor(s, sigma, err);
+}
+
+ew_status ew_zshift_lu_factor_values(ew_zshift_lu *s, const double complex *values,
+                                     double sigma, ew_error *err) {
+  for (int k = 0; k < s->nnz; k++) {
+    s->nz[k].r = creal(values[k]);
+    s->nz[k].i = cimag(values[k]);
   }
-  if (info > 0 && info <= s->dim) {
-    section_end(&sec);
-    s->have_lu = 1;
-    zdrop_lu(s);
-    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "shift %.12g eV is an eigenvalue (k·p, zero "
-                   "pivot in column %d)", sigma, info);
-  }
-  section_unwind(&sec);
-  return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "SuperLU ran out of memory (k·p, n = %d)", s->dim);
+  return zfactor(s, sigma, err);
 }
 
 static int guarded_zgstrs(slu_section *sec, ew_zshift_lu *s, double complex *x, int nrhs) {

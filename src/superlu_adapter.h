@@ -45,6 +45,16 @@ void ew_zshift_lu_free(ew_zshift_lu *s);
 /* Factor H − σB.  EW_OK; EW_ERR_NUMERIC for an exactly singular shift; EW_ERR_NOMEM. */
 ew_status ew_zshift_lu_factor(ew_zshift_lu *s, const ew_kp_pencil *H, double sigma,
                               ew_error *err);
+/* The same service for any fixed complex pattern (the periodic tridiagonal of miniband.c,
+ * whose Bloch corners e^{±iqd} leave the block-tridiagonal pattern): dim × dim in compressed
+ * columns, colptr[dim + 1] (colptr[0] = 0, colptr[dim] = nnz), rowind[nnz] (rows ascending
+ * in each column; copied).  nb = 1.  NULL when out of memory or malformed. */
+ew_zshift_lu *ew_zshift_lu_create_pattern(size_t dim, size_t nnz, const int *colptr,
+                                          const int *rowind);
+/* Factor the matrix with values[nnz] in the pattern's order (the caller has subtracted σB;
+ * sigma only names the shift in messages).  Status as ew_zshift_lu_factor. */
+ew_status ew_zshift_lu_factor_values(ew_zshift_lu *s, const double complex *values,
+                                     double sigma, ew_error *err);
 /* X ← (H − σB)⁻¹ X for nrhs columns of n·nb (column-major).  EW_OK or EW_ERR_NOMEM. */
 ew_status ew_zshift_lu_solve(ew_zshift_lu *s, double complex *X, size_t nrhs, ew_error *err);
 

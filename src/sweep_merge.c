@@ -269,10 +269,14 @@ static ew_status csv_agree(part *pt, size_t n, ew_error *err) {
 }
 
 /* ---- both: the parts tile the sweep ---------------------------------------------------- */
-/* Point order; parts without points last (they hold nothing to place). */
+/* Point order; parts without points last (they hold nothing to place), except a CSV part
+ * that holds only the header: part 1 of a sweep with fewer points than parts, whose header
+ * opens the output. */
+static int rank(const part *x) { return x->count ? 1 : x->header ? 0 : 2; }
+
 static int by_first(const void *a, const void *b) {
   const part *x = a, *y = b;
-  if ((x->count == 0) != (y->count == 0)) return x->count == 0 ? 1 : -1;
+  if (rank(x) != rank(y)) return rank(x) < rank(y) ? -1 : 1;
   return x->first < y->first ? -1 : x->first > y->first;
 }
 

@@ -118,7 +118,13 @@ static double item_pl(const ew_result *r, const wf_itemdef *d) {
 static ew_status run_jobs(const ew_wf_model *m, wf_job *jobs, size_t nj, const wf_itemdef *defs,
                           size_t ni, int nt, ew_error *err) {
   ew_wf_pool pool;
-  ew_status rc = ew_wf_pool_open(m, nt, &pool, err);
+  /* every key checked before the loop: one the file leaves out is created here, not per job */
+  ew_status rc = EW_OK;
+  for (size_t j = 0; j < nj && rc == EW_OK; j++) {
+    double nominal;
+    rc = ew_wf_key_check(m, jobs[j].key, "tolerance", &nominal, err);
+  }
+  if (rc == EW_OK) rc = ew_wf_pool_open(m, nt, &pool, err);
   if (rc != EW_OK) return rc;
   const ew_options *opt = ew_wf_model_options(m);
   ew_wf_fail fl = EW_WF_FAIL_NONE;

@@ -27,6 +27,7 @@
 #include "hellmann_feynman.h"
 #include "line_name.h"
 #include "match.h"
+#include "match_part.h"
 #include "output_set.h"
 #include "parallel.h"
 #include "range.h"

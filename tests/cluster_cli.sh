@@ -122,4 +122,87 @@ check "SIGTERM: the sweep stops with exit 7 (cancelled)" sh -c "[ $rc -eq 7 ] &&
 check "SIGTERM: no output file and no staging leftovers in the directory" \
   sh -c "[ -z \"\$(ls -A '$tmp/cancel')\" ] && [ ! -s '$tmp/out' ]"
 
+# ---- more parts than points: part 1 of 4 of a 2-point sweep holds the CSV header only,
+# part 3 nothing; merged (any order) they are still the one-machine sweep
+V2=well.thickness=5:6:1
+"$bin" sweep $det --vary $V2 --grid-step 0.2 >"$tmp/two.csv"
+"$bin" sweep $det --vary $V2 --grid-step 0.2 --json >"$tmp/two.json"
+for k in 1 2 3 4; do
+  "$bin" sweep $det --vary $V2 --grid-step 0.2 --shard $k/4 --csv "$tmp/t$k.csv"
+  "$bin" sweep $det --vary $V2 --grid-step 0.2 --shard $k/4 --json >"$tmp/t$k.json"
+done
+run "$bin" merge --vary $V2 "$tmp/t3.csv" "$tmp/t2.csv" "$tmp/t1.csv" "$tmp/t4.csv"
+check "merge: 4 CSV parts of a 2-point sweep (a header-only part, an empty part) give the sweep" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/two.csv'"
+run "$bin" merge "$tmp/t3.json" "$tmp/t1.json" "$tmp/t4.json" "$tmp/t2.json"
+check "merge: 4 JSON parts of a 2-point sweep give the sweep" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/two.json'"
+
+# ---- a match scan over many machines: the parts of `match --shard K/N` merged give the
+# one-machine `match --json` byte for byte (the reference: the same match without --shard)
+mt() { "$bin" match $det --grid-step 0.1 --no-estimate --json "$@"; }
+match_parts() { # match_parts NAME N ARGS...: parts NAME-1..N of the match with ARGS
+  name=$1 n=$2
+  shift 2
+  k=1
+  while [ "$k" -le "$n" ]; do mt "$@" --shard "$k/$n" >"$tmp/$name-$k.mp"; k=$((k + 1)); done
+}
+M1="--vary well.thickness=4:9 --line e1-e2 --target 9.0um"
+mt $M1 >"$tmp/m1.json"
+match_parts m1 3 $M1
+run "$bin" merge "$tmp/m1-3.mp" "$tmp/m1-1.mp" "$tmp/m1-2.mp"
+check "merge: 3 parts of a 1D match give the one-machine match --json byte for byte" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/m1.json'"
+check "the 1D match found its solution (e1-e2 at 9.0 um near 6.48 nm)" has '"value":6.47' "$tmp/m1.json"
+MT="--vary well.thickness=3:12 --line e1-hh1 --target 1.5480eV --tolerance 0.002eV"
+mt $MT >"$tmp/mt.json"
+match_parts mt 4 $MT
+run "$bin" merge "$tmp"/mt-*.mp
+check "merge: 4 parts of a match with --tolerance (uncertainty, values at target -/+ tolerance)" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/mt.json' && grep -q value_at_target_plus '$tmp/out'"
+MN="--vary well.thickness=3:12 --line e1-e2 --target 0.3eV"
+mt $MN >"$tmp/mn.json"
+match_parts mn 2 $MN
+run "$bin" merge "$tmp"/mn-*.mp
+check "merge: a match without solution gets the whole range's message (reached energies)" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/mn.json' && grep -q 'spans' '$tmp/out'"
+MS="--vary well.thickness=4:9 --line e1-e2 --target 9.0um --samples 3"
+mt $MS >"$tmp/ms.json"
+match_parts ms 5 $MS
+run "$bin" merge "$tmp"/ms-*.mp
+check "merge: more parts (5) than sample intervals (2): the empty parts join too" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/ms.json'"
+M2="--vary well.thickness=5:8 --vary temperature=50:300 --line e1-e2 --target 0.1393eV --line e1-hh1 --target 1.5066eV --samples 6"
+mt $M2 >"$tmp/m2.json"
+match_parts m2 3 $M2
+run "$bin" merge "$tmp"/m2-*.mp
+check "merge: 3 parts of a 2D match (Newton's starts chosen again over all parts)" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/m2.json' && grep -q '\"solutions\":\[{' '$tmp/out'"
+M2N="--vary well.thickness=5:8 --vary temperature=50:300 --line e1-e2 --target 0.3eV --line e1-hh1 --target 1.5066eV --samples 5"
+mt $M2N >"$tmp/m2n.json"
+match_parts m2n 2 $M2N
+run "$bin" merge "$tmp"/m2n-*.mp
+check "merge: a 2D match without a sign-changing cell (Newton from the best point of all parts)" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/m2n.json'"
+run env SLURM_ARRAY_TASK_ID=5 SLURM_ARRAY_TASK_COUNT=3 SLURM_ARRAY_TASK_MIN=4 \
+  "$bin" match $det --grid-step 0.1 --no-estimate --json $M1 --shard auto
+check "match --shard auto: task 5 of an array 4..6 is part 2 of 3" \
+  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/m1-2.mp'"
+run "$bin" merge "$tmp/m1-1.mp" "$tmp/m1-3.mp"
+check "merge: a missing match part is refused naming it (exit 2)" \
+  sh -c "[ $rc -eq 2 ] && grep -q 'part 2 of 3 is missing' '$tmp/err' && [ ! -s '$tmp/out' ]"
+run "$bin" merge "$tmp/m1-1.mp" "$tmp/m1-2.mp" "$tmp/m1-2.mp" "$tmp/m1-3.mp"
+check "merge: a match part given twice is refused (exit 2)" sh -c "[ $rc -eq 2 ] && grep -q 'given twice' '$tmp/err'"
+run "$bin" merge "$tmp/m1-1.mp" "$tmp/mn-2.mp"
+check "merge: a part of another match is refused naming it (exit 2)" \
+  sh -c "[ $rc -eq 2 ] && grep -q 'another match' '$tmp/err' && grep -q 'mn-2.mp' '$tmp/err'"
+head -c 300 "$tmp/m1-2.mp" >"$tmp/cut.mp"
+run "$bin" merge "$tmp/m1-1.mp" "$tmp/cut.mp" "$tmp/m1-3.mp"
+check "merge: a match part cut short is refused naming it (exit 2)" \
+  sh -c "[ $rc -eq 2 ] && grep -q 'cut.mp' '$tmp/err'"
+run "$bin" match $det $M1 --shard 1/2
+check "match --shard without --json is refused (exit 1)" sh -c "[ $rc -eq 1 ] && grep -q -- '--json' '$tmp/err'"
+run "$bin" match $det $M1 --json --shard 3/2
+check "match --shard 3/2 is refused (exit 1)" sh -c "[ $rc -eq 1 ] && grep -q -- '--shard' '$tmp/err'"
+
 finish cluster

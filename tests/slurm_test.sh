@@ -1,5 +1,5 @@
 #!/bin/sh
-# slurm_test.sh [BINARY] — examples/slurm_sweep.sh through a real Slurm workload manager: a
+# slurm_test.sh [BINARY] — examples/slurm_sweep.sh and slurm_match.sh through a real Slurm workload manager: a
 # single-node cluster on localhost (Debian's slurm-wlm and munge, daemons started as root,
 # configuration, keys, state and logs in $EPIWELL_SLURM_DIR, default /tmp/cluster-slurm),
 # the job array submitted with sbatch, the parts joined with `epiwell merge` and compared byte
@@ -140,6 +140,20 @@ if (cd "$W" && ./epiwell merge --vary "$V" parts/part-*.csv >merged.csv) && cmp 
   ok "epiwell merge of the array's CSV parts = the one-machine sweep, byte for byte"
 else
   nok "epiwell merge of the array's CSV parts = the one-machine sweep, byte for byte" "$(cmp "$W/merged.csv" "$W/one.csv" 2>&1)"
+fi
+
+# ---- a match scan over the array: examples/slurm_match.sh, 3 tasks --------------------
+MA="--grid-step 0.1 --samples 61"
+if (cd "$W" && EPIWELL="$W/epiwell" VARY=well.thickness=3:12 LINE=e1-e2 TARGET=9.0um \
+    EPIWELL_MATCH_ARGS="$MA" timeout 120 sbatch --wait --array=1-3 --cpus-per-task=1 --time=5 \
+      --export=ALL "$root/examples/slurm_match.sh" >"$sd/log/sbatch-m.out" 2>&1) &&
+  (cd "$W" && ./epiwell match examples/detector_well.cfg --vary well.thickness=3:12 --line e1-e2 \
+    --target 9.0um --json $MA >one-match.json && ./epiwell merge match-parts/part-*.json >merged-match.json) &&
+  cmp -s "$W/merged-match.json" "$W/one-match.json" && grep -q '"value":6.4' "$W/one-match.json"; then
+  ok "sbatch --array=1-3 examples/slurm_match.sh, merged = the one-machine match --json, byte for byte"
+else
+  nok "sbatch --array=1-3 examples/slurm_match.sh, merged = the one-machine match --json, byte for byte" \
+    "$(cat "$sd/log/sbatch-m.out" "$W"/slurm-*.out 2>/dev/null | tail -n 6 | tr '\n' '|')"
 fi
 
 # ---- scancel: SIGTERM to a running task -----------------------------------------------

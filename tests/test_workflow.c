@@ -223,6 +223,39 @@ static void keys_are_checked(void **state) {
   assert_non_null(strstr(err.message, "thickness"));
 }
 
+/* A key the file leaves out (the field of examples/detector_well.cfg, and the thickness in
+ * monolayers of a well written in nm) is reserved when checked and present only in the builds
+ * that set it: a build without it reads the file as written (the reader's defaults: no field;
+ * the thickness in nm), before and after builds that set it.  The field read back against the
+ * value set; 20 ML of GaAs = 20 a/2, a = 0.565325 nm (I. Vurgaftman et al., J. Appl. Phys. 89,
+ * 5815 (2001), from memory). */
+static void absent_keys_only_in_their_builds(void **state) {
+  fixture *fx = *state;
+  double nominal;
+  ew_error err = {0};
+  assert_int_equal(ew_wf_key_check(fx->det, "field", "--vary", &nominal, &err), EW_OK);
+  assert_true(isnan(nominal));
+  assert_int_equal(ew_wf_key_check(fx->det, "well.thickness_ml", "--vary", &nominal, &err), EW_OK);
+  assert_true(isnan(nominal));
+  const char *kf = "field", *kt = "well.thickness_ml", *kw = "well.thickness";
+  double vf = 25.0, vt = 20.0, vw = 6.2;
+  for (int round = 0; round < 2; round++) {
+    ew_stack *st = NULL;
+    assert_int_equal(ew_wf_stack_at(fx->det, 1, &kf, &vf, &st, &err), EW_OK);
+    TU_NEAR(st->field_kV_cm, 25.0, 0.0, "field set");
+    TU_NEAR(st->layers[1].thickness_nm, 6.2, 0.0, "examples/detector_well.cfg: 6.2 nm");
+    ew_stack_free(st);
+    assert_int_equal(ew_wf_stack_at(fx->det, 1, &kt, &vt, &st, &err), EW_OK);
+    TU_NEAR(st->layers[1].thickness_nm, 20 * 0.565325 / 2, 1e-9, "20 ML of GaAs");
+    TU_NEAR(st->field_kV_cm, 0.0, 0.0, "no field: the file has none");
+    ew_stack_free(st);
+    assert_int_equal(ew_wf_stack_at(fx->det, 1, &kw, &vw, &st, &err), EW_OK);
+    TU_NEAR(st->field_kV_cm, 0.0, 0.0, "no field: the file has none");
+    TU_NEAR(st->layers[1].thickness_nm, 6.2, 0.0, "thickness in nm as written");
+    ew_stack_free(st);
+  }
+}
+
 /* Keys inside a layer's groups and the two thickness forms: NAME.grade.KEY and
  * NAME.doping.KEY reach the nested settings, and varying thickness_ml of a layer written in
  * nm (or the reverse) replaces the other form.  Checked against the stack read back: the
@@ -875,6 +908,7 @@ int main(void) {
       cmocka_unit_test(ranges_include_both_ends),
       cmocka_unit_test(quantities_parse_units),
       cmocka_unit_test(keys_are_checked),
+      cmocka_unit_test(absent_keys_only_in_their_builds),
       cmocka_unit_test(nested_keys_and_thickness_forms),
       cmocka_unit_test(sweep_error_names_the_setting_line),
       cmocka_unit_test(sweep_monotonic_and_identity),
