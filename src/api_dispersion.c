@@ -68,7 +68,7 @@ size_t ew_dispersion_certified(const ew_dispersion *d, size_t i) {
 
 const char *ew_dispersion_model(const ew_dispersion *d) {
   if (!d || !d->points) return NULL;
-  return d->model == EW_KP_6BAND ? "6band" : "4band";
+  return d->model == EW_KP_8BAND ? "8band" : d->model == EW_KP_6BAND ? "6band" : "4band";
 }
 
 const char *ew_dispersion_direction(const ew_dispersion *d) {
@@ -77,5 +77,7 @@ const char *ew_dispersion_direction(const ew_dispersion *d) {
 }
 
 double ew_dispersion_weight(const ew_dispersion *d, size_t j, int c) {
-  return d && j < d->subbands && c >= 0 && c < 3 ? d->weight[3 * j + (size_t)c] : NAN;
+  return d && j < d->subbands && c >= 0 && c < EW_DISP_CHARACTERS
+             ? d->weight[EW_DISP_CHARACTERS * j + (size_t)c]
+             : NAN;
 }

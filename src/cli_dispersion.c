@@ -7,11 +7,12 @@
 #include "cli_common.h"
 
 static const char usage[] =
-    "usage: epiwell dispersion STACK [--model 4band|6band] [--direction 100|110] [--axial]\n"
+    "usage: epiwell dispersion STACK [--model 4band|6band|8band] [--direction 100|110] [--axial]\n"
     "                          [--kmax K] [--points N] [--grid-step NM] [--csv FILE] [--json]\n"
     "                          [--plot FILE.svg|.png]\n"
     "  hole subband energies (eV) against k (1/nm) in the 4-band or 6-band Luttinger-Kohn\n"
-    "  model, labelled by their k = 0 character; table on stdout unless --json\n";
+    "  model (8band: with the conduction band, electron subbands e1... too), labelled by\n"
+    "  their k = 0 character; table on stdout unless --json\n";
 
 typedef struct {
   const char *stack, *csv, *plot;
@@ -36,7 +37,8 @@ static int parse(int argc, char **argv, args_t *a) {
     } else if (!strcmp(s, "--model")) {
       if (!strcmp(v, "4band")) a->o.model = 4;
       else if (!strcmp(v, "6band")) a->o.model = 6;
-      else return ew_cli_bad(usage, "--model %s: give 4band or 6band", v);
+      else if (!strcmp(v, "8band")) a->o.model = 8;
+      else return ew_cli_bad(usage, "--model %s: give 4band, 6band or 8band", v);
       i++;
     } else if (!strcmp(s, "--direction")) {
       if (!strcmp(v, "100")) a->o.direction = 100;
@@ -70,8 +72,9 @@ static int parse(int argc, char **argv, args_t *a) {
 }
 
 static void table(const ew_dispersion *d, FILE *out) {
-  fprintf(out, "hole subbands, %s k.p, k along [%s] (energies eV)\n", ew_dispersion_model(d),
-          ew_dispersion_direction(d));
+  fprintf(out, "%s, %s k.p, k along [%s] (energies eV)\n",
+          strcmp(ew_dispersion_model(d), "8band") ? "hole subbands" : "subbands",
+          ew_dispersion_model(d), ew_dispersion_direction(d));
   fprintf(out, "%10s", "k (1/nm)");
   for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) fprintf(out, " %11s", ew_dispersion_label(d, j));
   fputc('\n', out);

@@ -15,7 +15,7 @@
 #define MAX_WANTED 56
 
 const char *ew_dispersion_character_name(int c) {
-  return c == 0 ? "hh" : c == 1 ? "lh" : "so";
+  return c == 0 ? "hh" : c == 1 ? "lh" : c == 2 ? "so" : "e";
 }
 
 void ew_dispersion_clear(ew_dispersion *d) {
@@ -29,34 +29,38 @@ void ew_dispersion_clear(ew_dispersion *d) {
   memset(d, 0, sizeof *d);
 }
 
+void ew_dispersion_label_pair(ew_dispersion *d, size_t j, const double complex *X, size_t dim,
+                              int nb, const double *w, int seen[EW_DISP_CHARACTERS]) {
+  double wt[EW_DISP_CHARACTERS] = {0, 0, 0, 0};
+  for (size_t v = 0; v < 2; v++)
+    for (size_t k = 0; k < dim; k++) {
+      int comp = (int)(k % (size_t)nb);
+      int c = comp == 0 || comp == 3 ? 0 : comp < 4 ? 1 : comp < 6 ? 2 : 3;
+      wt[c] += 0.5 * w[k / (size_t)nb] * creal(X[v * dim + k] * conj(X[v * dim + k]));
+    }
+  int best = 0;
+  for (int c = 1; c < EW_DISP_CHARACTERS; c++)
+    if (wt[c] > wt[best]) best = c;
+  d->character[j] = best;
+  memcpy(d->weight + EW_DISP_CHARACTERS * j, wt, sizeof wt);
+  snprintf(d->label[j], sizeof d->label[j], "%s%d", ew_dispersion_character_name(best),
+           ++seen[best]);
+}
+
 /* labels from the k∥ = 0 vectors: pair j's weights in the hh, lh, so components */
 static void label_pairs(ew_dispersion *d, const double complex *X, size_t dim, int nb,
                         const double *w) {
-  int seen[3] = {0, 0, 0};
-  for (size_t j = 0; j < d->subbands; j++) {
-    double wt[3] = {0, 0, 0};
-    for (size_t v = 2 * j; v < 2 * j + 2; v++)
-      for (size_t k = 0; k < dim; k++) {
-        int comp = (int)(k % (size_t)nb);
-        int c = comp == 0 || comp == 3 ? 0 : comp < 4 ? 1 : 2;
-        wt[c] += 0.5 * w[k / (size_t)nb] * creal(X[v * dim + k] * conj(X[v * dim + k]));
-      }
-    int best = 0;
-    for (int c = 1; c < 3; c++)
-      if (wt[c] > wt[best]) best = c;
-    d->character[j] = best;
-    memcpy(d->weight + 3 * j, wt, sizeof wt);
-    snprintf(d->label[j], sizeof d->label[j], "%s%d", ew_dispersion_character_name(best),
-             ++seen[best]);
-  }
+  int seen[EW_DISP_CHARACTERS] = {0, 0, 0, 0};
+  for (size_t j = 0; j < d->subbands; j++)
+    ew_dispersion_label_pair(d, j, X + 2 * j * dim, dim, nb, w, seen);
 }
 
-static ew_status alloc_result(ew_dispersion *d, size_t points, size_t sub) {
+ew_status ew_dispersion_alloc(ew_dispersion *d, size_t points, size_t sub) {
   d->k_inv_nm = malloc(points * sizeof *d->k_inv_nm);
   d->certified = calloc(points, sizeof *d->certified);
   d->label = calloc(sub ? sub : 1, sizeof *d->label);
   d->character = calloc(sub ? sub : 1, sizeof *d->character);
-  d->weight = calloc(3 * (sub ? sub : 1), sizeof *d->weight);
+  d->weight = calloc(EW_DISP_CHARACTERS * (sub ? sub : 1), sizeof *d->weight);
   d->branch_eV = malloc(2 * (sub ? sub : 1) * points * sizeof *d->branch_eV);
   d->energy_eV = malloc((sub ? sub : 1) * points * sizeof *d->energy_eV);
   return d->k_inv_nm && d->certified && d->label && d->character && d->weight &&
@@ -168,8 +172,9 @@ static ew_status start_vectors(const ew_grid *g, double top, ew_kp_solver *sol, 
 }
 
 static ew_status check_options(const ew_dispersion_options *o, ew_error *err) {
-  if (o->model != 4 && o->model != 6)
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "model %d: give 4 (4band) or 6 (6band)", o->model);
+  if (o->model != 4 && o->model != 6 && o->model != 8)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "model %d: give 4 (4band), 6 (6band) or 8 "
+                   "(8band)", o->model);
   if (o->direction != 100 && o->direction != 110)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "direction %d: give 100 or 110", o->direction);
   if (!(o->kmax_inv_nm > 0.0) || !isfinite(o->kmax_inv_nm) || o->kmax_inv_nm > 10.0)
@@ -194,6 +199,7 @@ ew_status ew_dispersion_run_vectors(ew_dispersion *d, const ew_stack *st,
   ew_status rc = check_options(o, err);
   if (rc) return rc;
   ew_dispersion_clear(d);
+  if (o->model == 8) return ew_dispersion_run_kane(d, st, o, err);
   work_t w = {0};
   size_t m = 0;
   double lo = 0.0;
@@ -201,7 +207,7 @@ ew_status ew_dispersion_run_vectors(ew_dispersion *d, const ew_stack *st,
   if (!rc) {
     d->model = (ew_kp_model)o->model, d->direction = o->direction, d->axial = o->axial;
     d->points = o->points, d->subbands = m / 2;
-    if (alloc_result(d, d->points, d->subbands))
+    if (ew_dispersion_alloc(d, d->points, d->subbands))
       rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (dispersion)");
   }
   /* along [100]: k = (k, 0); along [110]: k = (k, k)/√2 */

@@ -1,6 +1,7 @@
 /* dispersion.h — hole subband dispersions E(k∥) of a stack in the 4-band or 6-band k·p
  * model (kp_hamiltonian.h), certified at every k∥ (kp_solve.h), each subband labelled by its
- * character at k∥ = 0.  Internal definition of the public ew_dispersion.
+ * character at k∥ = 0; the 8-band model's electron and hole subbands in dispersion_kane.c
+ * (its own header comment).  Internal definition of the public ew_dispersion.
  *
  * Which subbands: those bound at k∥ = 0, i.e. the eigenvalues (hole picture) below the hole
  * window top of bound.h (the lower of the heavy- and light-hole windows); at every k∥ the
@@ -24,12 +25,17 @@ struct ew_dispersion {
   double *k_inv_nm;        /* [points] */
   size_t subbands;         /* Kramers pairs followed */
   char (*label)[16];       /* [subbands] "hh1", "lh1", "so1", … */
-  int *character;          /* [subbands] 0 hh, 1 lh, 2 so */
-  double *weight;          /* [subbands × 3] k∥ = 0 weights of hh, lh, so */
+  int *character;          /* [subbands] 0 hh, 1 lh, 2 so, 3 e */
+  double *weight;          /* [subbands × EW_DISP_CHARACTERS] k∥ = 0 weights of hh, lh, so, e */
   double *branch_eV;       /* [subbands × 2 × points] absolute energies (electron scale) */
   double *energy_eV;       /* [subbands × points] the pair means */
   size_t *certified;       /* [points] eigenvalues counted by the inertia at each k∥ */
   double window_eV;        /* absolute energy of the hole window top at k∥ = 0 */
+  /* 8-band (0 otherwise): electron-side subbands (listed first, e1 upwards, then the hole
+     side from the top down), the electron window top (absolute eV) and the k∥ = 0 gap
+     reference between the two sides (absolute eV) */
+  size_t electron_subbands;
+  double window_e_eV, gap_ref_eV;
   double grid_step_nm;
   size_t nodes;
   size_t factorizations, solves, counts;
@@ -52,7 +58,18 @@ ew_status ew_dispersion_run_vectors(ew_dispersion *d, const ew_stack *st,
 /* Free d's arrays and zero it. */
 void ew_dispersion_clear(ew_dispersion *d);
 
-/* "hh", "lh", "so" for a character 0, 1, 2 */
+/* "hh", "lh", "so", "e" for a character 0, 1, 2, 3 */
 const char *ew_dispersion_character_name(int c);
+#define EW_DISP_CHARACTERS 4
+
+/* shared by dispersion.c and dispersion_kane.c: the result arrays (EW_ERR_NOMEM), and the
+ * label, character and weights of subband j from its k∥ = 0 Kramers pair X (two columns of
+ * dim), numbered within its character by seen[] */
+ew_status ew_dispersion_alloc(ew_dispersion *d, size_t points, size_t sub);
+void ew_dispersion_label_pair(ew_dispersion *d, size_t j, const double complex *X, size_t dim,
+                              int nb, const double *w, int seen[EW_DISP_CHARACTERS]);
+/* The 8-band model (dispersion_kane.c): electron- and hole-side subbands around the gap. */
+ew_status ew_dispersion_run_kane(ew_dispersion *d, const ew_stack *st,
+                                 const ew_dispersion_options *o, ew_error *err);
 
 #endif

@@ -68,7 +68,8 @@ ew_status ew_dispersion_write_plot(const ew_dispersion *d, const char *path, ew_
     names[s] = d->label[s];
   }
   char title[96];
-  snprintf(title, sizeof title, "Hole subbands, %s k·p, k∥ along [%s]%s", ew_dispersion_model(d),
+  snprintf(title, sizeof title, "%s, %s k·p, k∥ along [%s]%s",
+           d->model == EW_KP_8BAND ? "Subbands" : "Hole subbands", ew_dispersion_model(d),
            ew_dispersion_direction(d), d->axial ? " (axial)" : "");
   ew_status rc = ew_plot_xy(path, title, "k∥ (1/nm)", "energy (eV)", d->points, d->k_inv_nm,
                             d->subbands, (const double *const *)y, (const char *const *)names,

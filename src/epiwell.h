@@ -530,12 +530,14 @@ EW_API ew_status ew_tolerance_set_growth_rate(ew_tolerance *t, double percent, e
 
 /* ---- hole subband dispersion in the multiband k·p model (api_dispersion.c) ------------
  * 4-band (heavy and light holes) or 6-band (with the split-off band) Luttinger–Kohn model on
- * the solve's grid, Burt–Foreman operator ordering, Bir–Pikus strain; subband energies
+ * the solve's grid, or the 8-band model with the Γ conduction band (Foreman-rescaled Kane
+ * energy; electron subbands first, then holes: README "Eight bands"), Burt–Foreman operator
+ * ordering, Bir–Pikus strain; subband energies
  * against k∥ along [100] or [110], certified at every k∥ by a block LDLᴴ inertia count
  * (README "Hole dispersion").  create → compute (again with other options if wanted) →
  * accessors / writers → free. */
 typedef struct {
-  int model;           /* 4 (4band, default) or 6 (6band) */
+  int model;           /* 4 (4band, default), 6 (6band) or 8 (8band) */
   int direction;       /* 100 (default) or 110: in-plane direction of k∥ */
   int axial;           /* 1: axial approximation (γ2, γ3 → (γ2 + γ3)/2 in the in-plane
                           warping terms); 0: full warping (default) */
@@ -551,7 +553,7 @@ typedef struct ew_dispersion ew_dispersion;
 EW_API ew_status ew_dispersion_create(ew_dispersion **out, ew_error *err);
 EW_API void ew_dispersion_free(ew_dispersion *d); /* NULL is a no-op */
 /* Compute the dispersion of stack with options o (may be NULL: the defaults).  EW_ERR_USAGE
- * for bad options, EW_ERR_INPUT when no hole subband is bound (or a 6-band layer lacks
+ * for bad options, EW_ERR_INPUT when no subband is bound (or a 6- or 8-band layer lacks
  * Delta_so), EW_ERR_NUMERIC when a count disagrees with the computed levels. */
 EW_API ew_status ew_dispersion_compute(ew_dispersion *d, const ew_stack *stack,
                                        const ew_dispersion_options *o, ew_error *err);
@@ -559,9 +561,10 @@ EW_API size_t ew_dispersion_point_count(const ew_dispersion *d);
 EW_API double ew_dispersion_k_inv_nm(const ew_dispersion *d, size_t i); /* NAN out of range */
 /* Subbands (Kramers pairs) followed: those bound at k∥ = 0. */
 EW_API size_t ew_dispersion_subband_count(const ew_dispersion *d);
-/* "hh1", "lh1", "so1", …: character at k∥ = 0 and index within it; NULL out of range. */
+/* "hh1", "lh1", "so1", "e1" (8band), …: character at k∥ = 0 and index within it; NULL out
+ * of range. */
 EW_API const char *ew_dispersion_label(const ew_dispersion *d, size_t j);
-/* "hh", "lh" or "so"; NULL out of range. */
+/* "hh", "lh", "so" or "e" (8band); NULL out of range. */
 EW_API const char *ew_dispersion_band(const ew_dispersion *d, size_t j);
 /* Energy of subband j at point i, absolute eV: the mean of its two Kramers branches. */
 EW_API double ew_dispersion_energy_eV(const ew_dispersion *d, size_t j, size_t i);
@@ -570,10 +573,11 @@ EW_API double ew_dispersion_energy_eV(const ew_dispersion *d, size_t j, size_t i
 EW_API double ew_dispersion_branch_eV(const ew_dispersion *d, size_t j, int branch, size_t i);
 /* Eigenvalues the inertia certified at point i (2 × subbands on success). */
 EW_API size_t ew_dispersion_certified(const ew_dispersion *d, size_t i);
-/* "4band" or "6band"; "100" or "110" (NULL before compute). */
+/* "4band", "6band" or "8band"; "100" or "110" (NULL before compute). */
 EW_API const char *ew_dispersion_model(const ew_dispersion *d);
 EW_API const char *ew_dispersion_direction(const ew_dispersion *d);
-/* Weight (0 … 1) of character c (0 hh, 1 lh, 2 so) in subband j at k∥ = 0; NAN out of range. */
+/* Weight (0 … 1) of character c (0 hh, 1 lh, 2 so, 3 e: 8band) in subband j at k∥ = 0; NAN
+ * out of range. */
 EW_API double ew_dispersion_weight(const ew_dispersion *d, size_t j, int c);
 /* JSON {"model":…,"direction":…,"k_inv_nm":[…],"subbands":[{"label":…,"band":…,
  * "energy_eV":[…]},…]}; CSV k_inv_nm,LABEL… (one row per k∥); the picture (.svg/.png). */

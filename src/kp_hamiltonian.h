@@ -1,5 +1,6 @@
 /* kp_hamiltonian.h — the 4-band (heavy and light holes) and 6-band (with the split-off band)
- * Luttinger–Kohn Hamiltonians of an [001]-grown zinc-blende stack on the finite-difference
+ * Luttinger–Kohn Hamiltonians and the 8-band Kane Hamiltonian (with the Γ6 conduction band;
+ * below) of an [001]-grown zinc-blende stack on the finite-difference
  * grid of grid.h, as a block-tridiagonal Hermitian pencil (H, B) in the hole picture
  * (eigenvalue λ = −E: a hole's energy counted downwards, as the single-band hole pencils of
  * hamiltonian.h are).
@@ -42,6 +43,31 @@
  * hole sits at the grid's light-hole edge (which already holds the strained split-off
  * coupling, as the single-band model has it); in the 6-band model at δEv,hyd + δE_sh with the
  * coupling explicit.
+ * 8-band model (narrow and broken gaps; E. O. Kane, J. Phys. Chem. Solids 1, 249 (1957);
+ * the parameters of I. Vurgaftman, J. R. Meyer, L. R. Ram-Mohan, J. Appl. Phys. 89, 5815
+ * (2001)): the Γ6 conduction band |S> joins the six valence states through
+ * <S|H|X_j> = i P k_j, P² = Ep ħ²/2m0.  The valence parameters lose the part the conduction
+ * band now gives explicitly: γ1' = γ1 − Ep/(3Eg), γ2' = γ2 − Ep/(6Eg), γ3' = γ3 − Ep/(6Eg)
+ * (so γ1' − 2γ2' = γ1 − 2γ2: the heavy hole does not couple at k∥ = 0), and the electron
+ * keeps S = 1/me − Ep (Eg + 2Δ/3)/(Eg (Eg + Δ)) (units ħ²/2m0).  With the catalogue's Ep,
+ * S is negative in most III–V compounds (InAs −4.8, GaSb −2.3, GaAs −2.9), and a negative S
+ * gives spurious states in the gap (at large kz, and on the grid at the zone edge, where
+ * the central difference of P kz vanishes).  Following B. A. Foreman, Phys. Rev. B 56,
+ * R12748 (1997) we rescale Ep per layer so that S is not below +1 (the free-electron term:
+ * no remote-band contribution, F = 0): Ep' <= (1/me − 1) Eg (Eg + Δ)/(Eg + 2Δ/3); S = 1
+ * rather than Foreman's S = 0 because S = 0 leaves the conduction row without a second
+ * difference and the grid's zone-edge mode then falls into the gap.  The valence side has
+ * the same trap: in a narrow gap γ1' + 2γ2' and γ3' turn negative (InAs at 300 K with the
+ * S = 1 value of Ep: −2.7 and −0.7) and the light-hole band's large-kz branch then fills
+ * the gap with spurious states (found so, by the inertia count, on an InAs/GaSb
+ * superlattice); the envelope equations must stay elliptic (R. G. Veprek, S. Steiger,
+ * B. Witzigmann, Phys. Rev. B 76, 165320 (2007) (from memory)).  So also
+ * Ep' <= 0.8 Eg min(3γ1, 3(γ1 + 2γ2)/2, 6γ3), which keeps γ1', γ1' + 2γ2' and γ3' at >= 1/5
+ * of γ1, γ1 + 2γ2, γ3 (the factor 0.8 is our choice).  Ep' = min(Ep, both bounds); S then
+ * takes whatever keeps me exact (S >= 1).  The Kane term is ordered as Foreman's Burt–Foreman form: P kz in the conduction
+ * row, kz P in the valence rows (F kz + kz F† with F_SZ = iP; the symmetrised option takes
+ * ½(P kz + kz P)); it is Hermitian on the grid by the same discretisation as above.  The
+ * conduction edge is the grid's (Bir–Pikus hydrostatic a_c (2ε∥ + ε⊥) included, strain.h).
  * Axial approximation: the in-plane anisotropic terms γ2 (kx² − ky²) and γ3 kx ky both take
  * γ̄ = (γ2 + γ3)/2 (the dispersion becomes isotropic in the plane). */
 #ifndef EW_KP_HAMILTONIAN_H
@@ -51,14 +77,15 @@
 
 #include "grid.h"
 
-typedef enum { EW_KP_4BAND = 4, EW_KP_6BAND = 6 } ew_kp_model;
+typedef enum { EW_KP_4BAND = 4, EW_KP_6BAND = 6, EW_KP_8BAND = 8 } ew_kp_model;
 
 /* ordering of the kz-linear terms at interfaces */
 typedef enum { EW_KP_BURT_FOREMAN = 0, EW_KP_SYMMETRISED = 1 } ew_kp_ordering;
 
 /* Basis order of the blocks: 0 |3/2,+3/2> (hh), 1 |3/2,+1/2> (lh), 2 |3/2,−1/2> (lh),
- * 3 |3/2,−3/2> (hh), 4 |1/2,+1/2> (so), 5 |1/2,−1/2> (so). */
-#define EW_KP_MAX_NB 6
+ * 3 |3/2,−3/2> (hh), 4 |1/2,+1/2> (so), 5 |1/2,−1/2> (so), and in the 8-band model
+ * 6 |S↑> (e), 7 |S↓> (e). */
+#define EW_KP_MAX_NB 8
 
 /* The k-independent material profile of a stack on a grid (built once per dispersion). */
 typedef struct {
@@ -72,6 +99,11 @@ typedef struct {
   double *w;              /* [n] dual-cell lengths (B = w ⊗ 1) */
   double *v_xy, *v_z;     /* [n] electron-sign potential of the X,Y and Z components, eV */
   double *dso;            /* [n] dual-cell mean Δso, eV (6-band) */
+  /* 8-band only (NULL otherwise): per cell the electron's 1/me (h_c / ∫_cell m dz), the
+     Kane energy used (Foreman-rescaled, kp_hamiltonian.h) and (Eg + 2Δ/3)/(Eg (Eg + Δ)),
+     1/eV; per node the Γ conduction edge (grid's dual-cell mean, a_c strain included) */
+  double *g_e, *ep, *fk;  /* [n+1] */
+  double *v_c;            /* [n] eV */
   double vmin;            /* lowest hole-picture potential over nodes and components, eV */
 } ew_kp_profile;
 
@@ -86,8 +118,9 @@ typedef struct {
   double norm;          /* a bound on ‖B^−1/2 H B^−1/2‖ (block Gershgorin) */
 } ew_kp_pencil;
 
-/* Profile of the stack on grid g.  EW_ERR_NOMEM; EW_ERR_INPUT for a 6-band model of a layer
- * without Δso (user materials give none). */
+/* Profile of the stack on grid g.  EW_ERR_NOMEM; EW_ERR_INPUT for a 6- or 8-band model of a
+ * layer without Δso (user materials give none) and an 8-band model of a layer without a
+ * positive Γ gap. */
 ew_status ew_kp_profile_build(const ew_stack *st, const ew_grid *g, ew_kp_model model,
                               ew_kp_ordering ordering, int axial, ew_kp_profile **out,
                               ew_error *err);

@@ -1,7 +1,8 @@
 /* kp_solve.h — the lowest eigenpairs of a k·p pencil (kp_hamiltonian.h) with a certified
- * count, by shift-invert subspace iteration through SuperLU's complex LU.
+ * count, by shift-invert subspace iteration through a block-tridiagonal LU (kp_blocklu.h;
+ * SuperLU's pivoting complex LU, superlu_adapter.h, when the blocks' elements grow).
  *
- * Method.  H − σB is factorised once (superlu_adapter.h, zgstrf) at a shift σ below the
+ * Method.  H − σB is factorised once at a shift σ below the
  * wanted eigenvalues; a block of p = m + guard vectors is iterated X ← (H − σB)⁻¹ B X with a
  * Rayleigh–Ritz step on (H, B) after every solve (LAPACK zhegv for the small p × p pencil)
  * until the m lowest Ritz pairs have B⁻¹-norm residuals ‖Hx − θBx‖ below tol (then
@@ -32,6 +33,18 @@ void ew_kp_solver_free(ew_kp_solver *s);
  * disagrees; EW_ERR_NOMEM. */
 ew_status ew_kp_lowest(ew_kp_solver *s, const ew_kp_pencil *H, double lo, size_t m,
                        double *values, size_t *certified, ew_error *err);
+/* Interior window (the 8-band model, whose spectrum lies on both sides of the gap): the mb
+ * highest eigenvalues below ref and the ma lowest above it, shift-invert at sigma (the
+ * window's expected centre, so that the window's levels are the ones nearest to it).
+ * values[mb + ma] ascending, vectors as above (columns from ew_kp_window_column on).
+ * Certified by three counts: with c = count(ref), count(lo) = c − mb and count(hi) = c + ma
+ * at cuts just outside the first and last values (*certified = mb + ma then).  EW_OK;
+ * EW_ERR_NUMERIC; EW_ERR_NOMEM. */
+ew_status ew_kp_around(ew_kp_solver *s, const ew_kp_pencil *H, double ref, size_t mb,
+                       size_t ma, double sigma, double *values, size_t *certified,
+                       ew_error *err);
+/* The block column of the first window value after ew_kp_around. */
+size_t ew_kp_window_column(const ew_kp_solver *s);
 const double complex *ew_kp_solver_vectors(const ew_kp_solver *s);
 /* The residual tolerance of the m wanted pairs (B⁻¹ norm, eV; default 1e-8): the eigenvalue
  * error is at most tol²/gap (Kato–Temple). */

@@ -1,7 +1,8 @@
 #!/bin/sh
 # kp_cli.sh [BINARY] — `epiwell dispersion` (k·p hole subbands): its JSON read by Python's
 # json module (an independent parser) against the CSV of the same run and against `solve`'s
-# single-band levels at k = 0 (same grid: the k = 0 limit of the 4-band model); the k grid;
+# single-band levels at k = 0 (same grid: the k = 0 limit of the 4-band model); the 8-band
+# model's two sides against its CSV; the k grid;
 # the picture; usage errors.  POSIX sh; last line "kp_cli: N passed, M failed".
 . "$(dirname "$0")/lib.sh"
 use_binary "${1:-build/epiwell}"
@@ -62,8 +63,34 @@ else
   nok "--plot SVG" "missing or without labels"
 fi
 
-run "$bin" dispersion "$tmp/w.cfg" --model 8band
-if [ "$rc" -eq 1 ] && grep -q -- '--model' "$tmp/err"; then ok "--model 8band: exit 1 naming the option"; else nok "--model 8band" "exit $rc"; fi
+run "$bin" dispersion "$tmp/w.cfg" --model 10band
+if [ "$rc" -eq 1 ] && grep -q -- '--model' "$tmp/err"; then ok "--model 10band: exit 1 naming the option"; else nok "--model 10band" "exit $rc"; fi
+
+# 8-band: electron and hole sides; JSON read back against the CSV of the same run, the
+# electron side first (e1 upwards), then the holes from the top down
+run "$bin" dispersion "$tmp/w.cfg" --model 8band --points 3 --kmax 0.2 --json --csv "$tmp/d8.csv"
+cp "$tmp/out" "$tmp/d8.json"
+out=$(python3 - "$tmp/d8.json" "$tmp/d8.csv" <<'PY' 2>&1
+import csv, json, sys
+d = json.load(open(sys.argv[1]))
+rows = list(csv.reader(open(sys.argv[2])))
+bad = []
+if d["model"] != "8band": bad.append("model %s" % d["model"])
+labs = [b["label"] for b in d["subbands"]]
+if labs[0] != "e1" or d["subbands"][0]["band"] != "e" or "hh1" not in labs: bad.append("labels %s" % labs)
+for b in d["subbands"]:
+    if b["band"] != b["label"].rstrip("0123456789"): bad.append("band of %s" % b["label"])
+if rows[0] != ["k_inv_nm"] + [l + "_eV" for l in labs]: bad.append("csv header %s" % rows[0])
+for i, r in enumerate(rows[1:]):
+    for j, b in enumerate(d["subbands"]):
+        if abs(float(r[j + 1]) - b["energy_eV"][i]) > 1e-12: bad.append("csv %s row %d" % (b["label"], i))
+e = [b["energy_eV"][0] for b in d["subbands"] if b["band"] == "e"]
+h = [b["energy_eV"][0] for b in d["subbands"] if b["band"] != "e"]
+if e != sorted(e) or h != sorted(h, reverse=True) or not min(e) > max(h) + 1.0: bad.append("order/gap %s %s" % (e, h))
+print("; ".join(bad) if bad else "OK")
+PY
+)
+if [ "$rc" -eq 0 ] && [ "$out" = OK ]; then ok "--model 8band: JSON = CSV, e1 first, GaAs-sized gap"; else nok "--model 8band" "exit $rc: $out $(head -n 2 "$tmp/err")"; fi
 run "$bin" dispersion "$tmp/w.cfg" --direction 111
 if [ "$rc" -eq 1 ]; then ok "--direction 111: exit 1"; else nok "--direction 111" "exit $rc"; fi
 run "$bin" dispersion "$tmp/w.cfg" --points 1

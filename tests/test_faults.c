@@ -205,6 +205,30 @@ static void dispersion_job(const void *ctx, outcome *out) {
   ew_dispersion_free(d);
 }
 
+/* The same in the 8-band model (kp_hamiltonian.c's Kane terms, kp_blocklu.c,
+ * dispersion_kane.c: both sides of the gap). */
+static void dispersion8_job(const void *ctx, outcome *out) {
+  const ew_stack *st = ctx;
+  ew_dispersion *d = NULL;
+  ew_error err;
+  out->len = 0;
+  out->rc = ew_dispersion_create(&d, &err);
+  ew_dispersion_options o;
+  ew_dispersion_options_default(&o);
+  o.model = 8;
+  o.points = 3;
+  o.kmax_inv_nm = 0.3;
+  if (out->rc == EW_OK) out->rc = ew_dispersion_compute(d, st, &o, &err);
+  for (size_t j = 0; out->rc == EW_OK && j < ew_dispersion_subband_count(d); j++)
+    for (size_t i = 0; i < ew_dispersion_point_count(d); i++) {
+      double e = ew_dispersion_energy_eV(d, j, i);
+      if (out->len + sizeof e > sizeof out->bytes) break;
+      memcpy(out->bytes + out->len, &e, sizeof e);
+      out->len += sizeof e;
+    }
+  ew_dispersion_free(d);
+}
+
 /* The minibands of a superlattice period (miniband.c, api_minibands.c, SuperLU's complex LU
  * over the periodic pattern): every miniband energy at every q, and each mass. */
 static void minibands_job(const void *ctx, outcome *out) {
@@ -641,6 +665,16 @@ static int narrow_well_faults(const char *what, job_fn job, double b_nm, double 
 }
 #endif
 
+/* The 8-band dispersion of the same well. */
+static void faults_dispersion8(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  assert_int_equal(narrow_well_faults("8-band dispersion", dispersion8_job, 4.0, 6.0), 0);
+#else
+  skip();
+#endif
+}
+
 /* The minibands of a short period (barrier halves around a well) on the coarse job grid. */
 static void faults_minibands(void **state) {
   (void)state;
@@ -689,6 +723,7 @@ int main(void) {
       cmocka_unit_test(faults_merge),
       cmocka_unit_test(faults_match_merge),
       cmocka_unit_test(faults_dispersion),
+      cmocka_unit_test(faults_dispersion8),
       cmocka_unit_test(faults_minibands),
       cmocka_unit_test(faults_gain),
       cmocka_unit_test(faults_repeat_build),
@@ -698,6 +733,7 @@ int main(void) {
   (void)solve_job, (void)sweep_job, (void)build_job, (void)merge_job, (void)dispersion_job,
       (void)minibands_job, (void)gain_job, (void)continuum_job, (void)read_stack,
       (void)well_text, (void)job_grid; /* skipped */
+  (void)dispersion8_job;
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
   const char *only = getenv("EW_FAULTS_ONLY");
