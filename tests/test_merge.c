@@ -2,7 +2,8 @@
  * output.  The reference is the same sweep computed once without shards (ew_wf_sweep, CSV and
  * JSON): the merge of its parts must equal it byte for byte, whatever the order of the parts;
  * and the refusals (a part missing, given twice, of another sweep, cut short) must name the
- * part at fault and write nothing.  tests/cluster_cli.sh checks the same through `epiwell
+ * part at fault and write nothing.  match_part.c likewise: a match's merged parts equal the
+ * match computed whole, byte for byte.  tests/cluster_cli.sh checks the same through `epiwell
  * merge`, tests/slurm_test.sh through a real Slurm job array. */
 #include "testutil.h"
 
@@ -198,11 +199,86 @@ static void foreign_and_cut_parts_are_refused(void **state) {
   refused(fx, 1, 3, cl, EW_ERR_INPUT, NULL, "points 4..4 of 12 are in no part");
 }
 
+/* ---- the parts of a sharded match (match_part.c) --------------------------------------- */
+/* The JSON of a match over ranges r (nr of them) at lines/targets, whole (n = 0) or merged
+ * from its n parts written to files and joined in reverse order (caller frees). */
+static char *match_json(fixture *fx, const char *const *specs, size_t nr, const char *const *lines,
+                        const char *const *targets, const char *tol, size_t samples, size_t n) {
+  ew_wf_range r[2];
+  ew_wf_quantity q[2], t;
+  ew_error err = {0};
+  for (size_t i = 0; i < nr; i++) {
+    assert_int_equal(ew_wf_range_parse(specs[i], 0, "--vary", &r[i], &err), EW_OK);
+    assert_int_equal(ew_wf_quantity_parse(targets[i], 0, "--target", &q[i], &err), EW_OK);
+  }
+  if (tol) assert_int_equal(ew_wf_quantity_parse(tol, 1, "--tolerance", &t, &err), EW_OK);
+  char *buf = NULL;
+  size_t len = 0;
+  FILE *out = open_memstream(&buf, &len);
+  assert_non_null(out);
+  char paths[4][600];
+  const char *pp[4];
+  for (size_t k = n ? 1 : 0; k <= n; k++) {
+    ew_wf_match_opt o = {.threads = 2, .samples = samples, .shard_k = k, .shard_n = n};
+    ew_wf_match_result res;
+    assert_int_equal(ew_wf_match(fx->m, r, nr, lines, q, nr, tol ? &t : NULL, &o, &res, &err),
+                     EW_OK);
+    if (n == 0) {
+      ew_wf_match_print_json(&res, out);
+    } else {
+      snprintf(paths[k - 1], sizeof paths[k - 1], "%s/match%zu.json", fx->dir, k);
+      pp[n - k] = paths[k - 1];
+      FILE *f = fopen(paths[k - 1], "w");
+      assert_non_null(f);
+      ew_wf_match_part_write(&res, f);
+      fclose(f);
+    }
+    ew_wf_match_result_free(&res);
+    if (n == 0) break;
+  }
+  if (n) assert_int_equal(ew_wf_match_merge(n, pp, out, &err), EW_OK);
+  fclose(out);
+  return buf;
+}
+
+/* Merged parts = the whole match byte for byte: one unknown with a tolerance, one without a
+ * solution (the message and the reach come from all parts), more parts than intervals, and
+ * two unknowns (Newton's starts chosen again over all parts). */
+static void match_parts_equal_the_whole_match(void **state) {
+  fixture *fx = *state;
+  struct {
+    const char *specs[2], *lines[2], *targets[2], *tol;
+    size_t nr, samples, n;
+    const char *must; /* in the whole match's JSON: it is the case meant */
+  } cases[] = {
+      {{"well.thickness=4:9"}, {"e1-e2"}, {"9.0um"}, "0.002eV", 1, 0, 3, "\"uncertainty\":"},
+      {{"well.thickness=4:9"}, {"e1-e2"}, {"0.3eV"}, NULL, 1, 0, 2, "\"solutions\":[]"},
+      {{"well.thickness=4:9"}, {"e1-e2"}, {"9.0um"}, NULL, 1, 3, 4, "\"value\":6.4"},
+      /* the root (6.48 nm) in the first interval of part 2, [6, 7] */
+      {{"well.thickness=5:7"}, {"e1-e2"}, {"9.0um"}, NULL, 1, 3, 2, "\"value\":6.4"},
+      {{"well.thickness=5:8", "temperature=50:300"}, {"e1-e2", "e1-hh1"}, {"0.1393eV", "1.5066eV"},
+       NULL, 2, 6, 3, "\"value\":[6."},
+      {{"well.thickness=5:8", "temperature=50:300"}, {"e1-e2", "e1-hh1"}, {"0.3eV", "1.5066eV"},
+       NULL, 2, 5, 2, "\"solutions\":[]"},
+  };
+  for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+    char *whole = match_json(fx, cases[c].specs, cases[c].nr, cases[c].lines, cases[c].targets,
+                             cases[c].tol, cases[c].samples, 0);
+    char *merged = match_json(fx, cases[c].specs, cases[c].nr, cases[c].lines, cases[c].targets,
+                              cases[c].tol, cases[c].samples, cases[c].n);
+    assert_non_null(strstr(whole, cases[c].must));
+    assert_string_equal(merged, whole);
+    free(whole);
+    free(merged);
+  }
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(parts_in_any_order_equal_one_machine),
       cmocka_unit_test(missing_duplicated_and_foreign_parts_are_refused),
       cmocka_unit_test(foreign_and_cut_parts_are_refused),
+      cmocka_unit_test(match_parts_equal_the_whole_match),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
