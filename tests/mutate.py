@@ -117,6 +117,15 @@ MUTANTS = [
     ("exc_hh", "src/exciton.c", 'if (hole_band == EW_BAND_HH) t = 0.5, m = 0.0;', 'if (hole_band == EW_BAND_HH) t = 0.5, m = 0.5;', "TE/TM weights of hh"),
     ("poisson_c", "src/poisson.c", '#define POISSON_C (EW_E_C / EW_EPS0_FM * 1e9)', '#define POISSON_C (1.01 * EW_E_C / EW_EPS0_FM * 1e9)', "Poisson factor +1 %"),
     ("hc_line", "src/lines.c", 'ln->wavelength_nm = EW_HC_EVNM / ln->energy_eV;', 'ln->wavelength_nm = 1.01 * EW_HC_EVNM / ln->energy_eV;', "wavelength hc/E +1 %"),
+    # sharded matches (match.c, match_part.c; killed by test_merge.c)
+    ("mp_minus", "src/match_part.c", 'num(out, s->value_minus);', 'num(out, s->value_plus);', "match part writes value_plus as value_minus"),
+    ("mp_reach", "src/match_part.c", 'm->reached_max_eV[i] = fmax(', 'm->reached_max_eV[i] = fmin(', "merged reach: max of the parts' minima"),
+    ("mp_span", "src/match.c", '*lo = (size_t)((unsigned long long)n * (k - 1) / parts);', '*lo = (size_t)((unsigned long long)n * (k - 1) / parts + (k > 1));', "a part skips its first interval"),
+    # mp_cells is equivalent in the tested cases (survives): a part without a sign-changing
+    # cell offers its best point, and Newton from it reaches the same root as from the cells
+    ("mp_cells", "src/match.c", '    if (st[k].cell) {', '    if (!st[k].cell) {', "merge picks the best points over the cell corners"),
+    # stack editor (stack_edit.c; killed by test_workflow.c)
+    ("ed_detach", "src/stack_edit.c", '  s->line = g->line;\n  detach(g, s);', '  s->line = g->line;', "a reserved key stays in the tree between builds"),
     # lm_bisect and lm_mid are equivalent mutants (2026-12-02 campaign: both survive): the
     # bisection tests only the sign of f(lo), which a stale value keeps, and it runs until the
     # bracket is 1e-16 wide, so any point inside it is the same root
