@@ -64,10 +64,13 @@ static void intersubband_grid(const ew_result *r, ew_wf_spectra *s) {
   if (!(st->sheet_density_cm2 > 0))
     snprintf(s->note[1], sizeof s->note[1], "intersubband column empty: %s sets no "
              "sheet_density (electrons per well in cm^-2, e.g. sheet_density = 5e11;)", st->path);
-  else if (!isfinite(emax))
-    snprintf(s->note[1], sizeof s->note[1], "intersubband column empty: %s has no e1->ej line "
-             "and no continuum from e1 (%s)", st->path, e1 < r->n_states ? why : "no bound e1");
-  else {
+  else if (!isfinite(emax)) {
+    /* a long path is cut: the note is a hint, the return value says so */
+    if (snprintf(s->note[1], sizeof s->note[1], "intersubband column empty: %s has no "
+                 "e1->ej line and no continuum from e1 (%s)", st->path,
+                 e1 < r->n_states ? why : "no bound e1") < 0)
+      s->note[1][0] = '\0';
+  } else {
     s->lo_eV[1] = 0.0;
     s->hi_eV[1] = 1.5 * emax;
   }
