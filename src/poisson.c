@@ -537,6 +537,7 @@ static double neutral_offset(const half *h, double kT) {
   for (int it = 0; it < 200; it++) { /* ρ(U) increases with U */
     double mid = 0.5 * (lo + hi);
     double r = half_rho(h, mid, 0.0, NULL, kT, NULL, NULL);
+    if (r != 0 && (mid == lo || mid == hi)) return mid; /* converged (see neutral_fermi) */
     if (r > 0) hi = mid;
     else if (r < 0) lo = mid;
     else { /* both densities underflow: the midgap of the intrinsic bulk */
@@ -557,6 +558,9 @@ static double neutral_fermi(const model *m, const double *U, double *q) {
   hi += 2.0;
   for (int it = 0; it < 200; it++) { /* total charge decreases with E_F */
     double mid = 0.5 * (lo + hi), tot = 0.0;
+    /* lo and hi adjacent doubles: every further step keeps mid (it moves lo or hi onto
+       it, or neither), so the 200 steps would end on it as well */
+    if (mid == lo || mid == hi) return mid;
     charges(m, NULL, mid, U, q, NULL, NULL);
     for (size_t i = 0; i < m->n; i++) tot += q[i];
     if (tot > 0) lo = mid;
