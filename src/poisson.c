@@ -321,6 +321,16 @@ static const double blend_w[BLEND_POINTS] = {
     0.1739274225687269 * 6 * 0.9305681557970263 * (1 - 0.9305681557970263)};
 static double smoothstep(double x) { return x <= 0 ? 0.0 : x >= 1 ? 1.0 : x * x * (3.0 - 2.0 * x); }
 
+/* ℱ(η) and dℱ/dη, remembering the last argument */
+typedef struct {
+  double eta, F, dF;
+} fd_memo;
+static inline double fd_half_memo(fd_memo *c, double eta, double *dF) {
+  if (eta != c->eta) c->eta = eta, c->F = ew_fd_half(eta, &c->dF);
+  *dF = c->dF;
+  return c->F;
+}
+
 /* Charge density p − n + N_D⁺ − N_A⁻ (nm^-3) of a half at potential U, Fermi level EF and
  * continuum windows W[0..2] (electron energies, already shifted with the local U − U_S) with
  * the hand-over width W[3] (NULL: the whole bulk bands), with d/dU; parts[4] (may be NULL)
@@ -340,14 +350,17 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   } else {
     /* electrons above max(Ec + U, t), holes below min(Ev + U, t), the threshold t spread
        over the hand-over interval by the weight χ'(x) (see blend) */
+    /* where the band edge clips the thresholds several points share one argument: the
+       last value of each band is reused (the same bits as evaluating it again) */
+    fd_memo mm[3] = {{NAN, 0, 0}, {NAN, 0, 0}, {NAN, 0, 0}};
     for (int k = 0; k < BLEND_POINTS; k++) {
       double x = blend_x[k], wt = blend_w[k];
       double t = W[EW_BAND_E] - W[EW_BAND_COUNT] * x;
-      n += wt * h->Nc * ew_fd_half((EF - (t > ec ? t : ec)) / kT, &dF);
+      n += wt * h->Nc * fd_half_memo(&mm[0], (EF - (t > ec ? t : ec)) / kT, &dF);
       dn -= wt * h->Nc * dF / kT; /* the thresholds move with U as well (see charges) */
       for (int b = 0; b < 2; b++) {
         double th = W[1 + b] + W[EW_BAND_COUNT] * x;
-        p += wt * nv[b] * ew_fd_half(((th < ev[b] ? th : ev[b]) - EF) / kT, &dF);
+        p += wt * nv[b] * fd_half_memo(&mm[1 + b], ((th < ev[b] ? th : ev[b]) - EF) / kT, &dF);
         dp += wt * nv[b] * dF / kT;
       }
     }
