@@ -381,11 +381,41 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   return p - n + nd - na;
 }
 
+/* The last half_rho of bulk_charges with its inputs bit for bit (the edges, densities and
+ * dopants of the half, U, E_F and the windows): the two halves of a node inside one layer
+ * give the same inputs, and the same bits come out without a second evaluation. */
+#define RHO_KEY 17
+typedef struct {
+  double key[RHO_KEY];
+  int valid;
+  double rho, d, pp[4];
+} rho_memo;
+
+static int rho_memo_hit(rho_memo *c, const half *h, double U, double EF, const double *W,
+                        double *rho, double *d, double pp[4]) {
+  double key[RHO_KEY] = {h->Ec, h->Evh, h->Evl, h->Evtop, h->Nc, h->Nvh, h->Nvl, h->ND, h->NA,
+                         h->Ed, h->Ea, U, EF, W ? 1.0 : 0.0, W ? W[0] : 0.0, W ? W[1] : 0.0,
+                         W ? W[2] : 0.0};
+  /* W[EW_BAND_COUNT] (the hand-over width) is the same for every half of one call */
+  int hit = c->valid && memcmp(key, c->key, sizeof key) == 0;
+  memcpy(c->key, key, sizeof key);
+  if (!hit) return 0;
+  *rho = c->rho, *d = c->d;
+  memcpy(pp, c->pp, sizeof c->pp);
+  return 1;
+}
+
+static void rho_memo_store(rho_memo *c, double rho, double d, const double pp[4]) {
+  c->valid = 1, c->rho = rho, c->d = d;
+  memcpy(c->pp, pp, sizeof c->pp);
+}
+
 /* The bulk part of the box charges: continuum carriers and uniform dopants of both halves of
  * every node's box (q, dq, parts as in charges). */
 static void bulk_charges(const model *m, const snap *s, double EF0, const double *U, double *q,
                          double *dq, double *const parts[4]) {
   const double kT = m->kT;
+  rho_memo mm = {{0}, 0, 0, 0, {0}};
   for (size_t i = 0; i < m->n; i++) {
     double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
     double pa[4] = {0, 0, 0, 0};
@@ -399,8 +429,12 @@ static void bulk_charges(const model *m, const snap *s, double EF0, const double
     for (int k = 0; k < 2; k++) {
       const half *h = &m->hc[2 * i + k];
       if (h->len <= 0) continue;
-      double d, pp[4];
-      qi += h->len * half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
+      double d, pp[4], rho;
+      if (rho_memo_hit(&mm, h, U[i], EF, s ? Wl : NULL, &rho, &d, pp) == 0) {
+        rho = half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
+        rho_memo_store(&mm, rho, d, pp);
+      }
+      qi += h->len * rho;
       di += h->len * d;
       for (int t = 0; t < 4; t++) pa[t] += h->len * pp[t];
     }
