@@ -30,9 +30,9 @@
  *    above W_e is replaced by √(E − W_e)).  Holes: heavy and light separately below their
  *    windows, each with its bulk density-of-states mass (ew_hole_dos_masses: the spherical
  *    1/(γ1 ∓ 2γ̄) of alloy.c; the subbands above keep the in-plane masses).
- *  - ℱ_{1/2}: X. Aymerich-Humet, F. Serra-Mestres, J. Millán, J. Appl. Phys. 54, 2850
- *    (1983), their generalised approximation at j = 1/2 (constants a, b, c of that paper,
- *    from memory); tests/test_poisson.c checks it against quadrature (better than 0.6 %).
+ *  - ℱ_{1/2} and its derivative ℱ_{−1/2}: the rational approximations of H. M. Antia,
+ *    Astrophys. J. Suppl. 84, 101 (1993) (relative error ~1e-12); tests/test_poisson.c
+ *    checks both against quadrature and the analytic limits (5e-12).
  * Doping: uniform N_D, N_A per layer; delta layers (sheets) at the layer centre on the nearest
  * node, as sheet / box length.  Incomplete ionisation when the ionisation energy E_d, E_a > 0:
  *   N_D⁺ = N_D / (1 + 2 exp((E_F − E_D)/kT)),  E_D = Ec + U − E_d  (spin degeneracy 2),
