@@ -49,7 +49,7 @@
 #define EW_EXC_XMAX 40.0
 #define EW_EXC_DS 0.05        /* table step in ln x */
 #define EW_EXC_GL 10          /* Gauss–Legendre points per panel */
-#define EW_EXC_SCAN 28        /* scan points in ln λ */
+#define EW_EXC_SCAN 12        /* scan points in ln λ */
 
 struct ew_exciton_ws {
   double gl_x[EW_EXC_GL], gl_w[EW_EXC_GL]; /* Gauss–Legendre nodes and weights on [−1, 1] */

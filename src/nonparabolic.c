@@ -53,11 +53,12 @@ typedef struct {
   double *len, *me, *Ep, *Eg, *D, *ec; /* ec: conduction edge at the midpoint (field, U) */
   double *mhp, *mlp;                   /* hole in-plane masses */
   int *np;
+  unsigned char *same; /* piece k has the mass inputs of piece k − 1 (a uniform layer) */
 } np_ctx;
 
 static void ctx_free(np_ctx *c) {
   free(c->cell), free(c->len), free(c->me), free(c->Ep), free(c->Eg), free(c->D), free(c->ec);
-  free(c->mhp), free(c->mlp), free(c->np);
+  free(c->mhp), free(c->mlp), free(c->np), free(c->same);
   memset(c, 0, sizeof *c);
 }
 
@@ -67,8 +68,9 @@ static int ctx_alloc(np_ctx *c, size_t cap) {
   c->cap = cap;
   c->cell = malloc(cap * sizeof *c->cell);
   c->np = malloc(cap * sizeof *c->np);
+  c->same = malloc(cap * sizeof *c->same);
   double **arr[] = {&c->len, &c->me, &c->Ep, &c->Eg, &c->D, &c->ec, &c->mhp, &c->mlp};
-  int ok = c->cell && c->np;
+  int ok = c->cell && c->np && c->same;
   for (size_t k = 0; k < sizeof arr / sizeof *arr; k++) ok = (*arr[k] = malloc(cap * sizeof **arr[k])) && ok;
   return ok;
 }
@@ -79,6 +81,9 @@ static void ctx_push(np_ctx *c, size_t cell, double len, const ew_bands *b, doub
   c->Eg[k] = b->Eg_G_eV, c->D[k] = b->Dso_eV > 0 ? b->Dso_eV : 0.0, c->ec[k] = ec;
   c->mhp[k] = b->mhh_par, c->mlp[k] = b->mlh_par;
   c->np[k] = layer_np(b);
+  c->same[k] = k > 0 && c->me[k] == c->me[k - 1] && c->Ep[k] == c->Ep[k - 1] &&
+               c->Eg[k] == c->Eg[k - 1] && c->D[k] == c->D[k - 1] && c->ec[k] == c->ec[k - 1] &&
+               c->np[k] == c->np[k - 1];
 }
 
 static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
@@ -118,9 +123,12 @@ static void ctx_eval(const np_ctx *c, double E, double *M, double *dM, double *Q
   memset(M, 0, nc * sizeof *M);
   if (dM) memset(dM, 0, nc * sizeof *dM);
   if (Q) memset(Q, 0, nc * sizeof *Q);
+  double m = 0.0, dm = 0.0;
   for (size_t k = 0; k < c->n; k++) {
-    double m = c->me[k], dm = 0.0;
-    if (c->np[k]) m = kane_m(m, c->Ep[k], c->Eg[k], c->D[k], E - c->ec[k], dM ? &dm : NULL);
+    if (!c->same[k]) { /* else the previous piece's mass, the same bits */
+      m = c->me[k], dm = 0.0;
+      if (c->np[k]) m = kane_m(m, c->Ep[k], c->Eg[k], c->D[k], E - c->ec[k], dM ? &dm : NULL);
+    }
     size_t cc = c->cell[k];
     M[cc] += c->len[k] * m;
     if (dM) dM[cc] += c->len[k] * dm;

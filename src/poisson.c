@@ -30,9 +30,9 @@
  *    above W_e is replaced by √(E − W_e)).  Holes: heavy and light separately below their
  *    windows, each with its bulk density-of-states mass (ew_hole_dos_masses: the spherical
  *    1/(γ1 ∓ 2γ̄) of alloy.c; the subbands above keep the in-plane masses).
- *  - ℱ_{1/2}: X. Aymerich-Humet, F. Serra-Mestres, J. Millán, J. Appl. Phys. 54, 2850
- *    (1983), their generalised approximation at j = 1/2 (constants a, b, c of that paper,
- *    from memory); tests/test_poisson.c checks it against quadrature (better than 0.6 %).
+ *  - ℱ_{1/2} and its derivative ℱ_{−1/2}: the rational approximations of H. M. Antia,
+ *    Astrophys. J. Suppl. 84, 101 (1993) (relative error ~1e-12); tests/test_poisson.c
+ *    checks both against quadrature and the analytic limits (5e-12).
  * Doping: uniform N_D, N_A per layer; delta layers (sheets) at the layer centre on the nearest
  * node, as sheet / box length.  Incomplete ionisation when the ionisation energy E_d, E_a > 0:
  *   N_D⁺ = N_D / (1 + 2 exp((E_F − E_D)/kT)),  E_D = Ec + U − E_d  (spin degeneracy 2),
@@ -99,37 +99,77 @@
 #define NEWTON_TOL_EV 1e-12
 
 /* ---- Fermi–Dirac integral of order 1/2 ------------------------------------------------- */
-/* Aymerich-Humet, Serra-Mestres & Millán (1983): for the unnormalised integral F_j,
- *   F_j(η) ≈ [ (j+1) 2^{j+1} / (b + η + (|η − b|^c + a^c)^{1/c})^{j+1} + e^{−η}/Γ(j+1) ]^{−1},
- *   a = (1 + (15/4)(j+1) + (1/40)(j+1)²)^{1/2}, b = 1.8 + 0.61 j, c = 2 + (2 − √2) 2^{−j}
- * (from memory).  Divided by Γ(3/2) = √π/2 at j = 1/2: ℱ = 1 / (K s^{−3/2} + e^{−η}),
- * K = Γ(3/2)·(3/2)·2^{3/2} = 3 √(π/2), s = b + η + (|η − b|^c + a^c)^{1/c}.  Both limits are
- * exact: ℱ → e^η (η → −∞) and ℱ → (4/(3√π)) η^{3/2} (η → +∞). */
+/* H. M. Antia, Astrophys. J. Suppl. 84, 101 (1993), tables for j = 1/2 and j = −1/2: for the
+ * unnormalised F_j(η) = ∫0^∞ x^j dx / (1 + e^(x−η)),
+ *   η < 2:  F_j = e^η P(e^η) / Q(e^η),      η ≥ 2:  F_j = η^(j+1) P(η^−2) / Q(η^−2),
+ * P monic, relative error 5.5e-13 (j = 1/2) and 1.2e-12 (j = −1/2) by the paper's table.
+ * ℱ = F_{1/2} / Γ(3/2), and dℱ/dη = F_{−1/2} / (2 Γ(3/2)) = F_{−1/2} / √π (dF_j/dη = j F_{j−1}).
+ * Coefficients lowest order first; the leading 1 of each P is implicit. */
+static const double fdp_lo_p[7] = {5.75834152995465e6, 1.30964880355883e7, 1.07608632249013e7,
+                                   3.93536421893014e6, 6.42493233715640e5, 4.16031909245777e4,
+                                   7.77238678539648e2};
+static const double fdp_lo_q[8] = {6.49759261942269e6, 1.70750501625775e7, 1.69288134856160e7,
+                                   7.95192647756086e6, 1.83167424554505e6, 1.95155948326832e5,
+                                   8.17922106644547e3, 9.02129136642157e1};
+static const double fdp_hi_p[10] = {4.85378381173415e-14, 1.64429113030738e-11,
+                                    3.76794942277806e-9,  4.69233883900644e-7,
+                                    3.40679845803144e-5,  1.32212995937796e-3,
+                                    2.60768398973913e-2,  2.48653216266227e-1,
+                                    1.08037861921488e0,   1.91247528779676e0};
+static const double fdp_hi_q[12] = {7.28067571760518e-14, 2.45745452167585e-11,
+                                    5.62152894375277e-9,  6.96888634549649e-7,
+                                    5.02360015186394e-5,  1.92040136756592e-3,
+                                    3.66887808002874e-2,  3.24095226486468e-1,
+                                    1.16434871200131e0,   1.34981244060549e0,
+                                    2.01311836975930e-1,  -2.14562434782759e-2};
+static const double fdm_lo_p[7] = {1.71446374704454e7, 3.88148302324068e7, 3.16743385304962e7,
+                                   1.14587609192151e7, 1.83696370756153e6, 1.14980998186874e5,
+                                   1.98276889924768e3};
+static const double fdm_lo_q[8] = {9.67282587452899e6, 2.87386436731785e7, 3.26070130734158e7,
+                                   1.77657027846367e7, 4.81648022267831e6, 6.13709569333207e5,
+                                   3.13595854332114e4, 4.35061725080755e2};
+static const double fdm_hi_p[11] = {-4.46620341924942e-15, -1.58654991146236e-12,
+                                    -4.44467627042232e-10, -6.84738791621745e-8,
+                                    -6.64932238528105e-6,  -3.69976170193942e-4,
+                                    -1.12295393687006e-2,  -1.60926102124442e-1,
+                                    -8.52408612877447e-1,  -7.45519953763928e-1,
+                                    2.98435207466372e0};
+static const double fdm_hi_q[12] = {-2.23310170962369e-15, -7.94193282071464e-13,
+                                    -2.22564376956228e-10, -3.43299431079845e-8,
+                                    -3.33919612678907e-6,  -1.86432212187088e-4,
+                                    -5.69764436880529e-3,  -8.34904593067194e-2,
+                                    -4.78770844009440e-1,  -4.99759250374148e-1,
+                                    1.86795964993052e0,    4.16485970495288e-1};
+
+/* P(x) / Q(x) with P monic of degree np (np coefficients given) and Q of degree nq − 1 */
+static double ratio(const double *p, int np, const double *q, int nq, double x) {
+  double num = 1.0, den = q[nq - 1];
+  for (int i = np - 1; i >= 0; i--) num = num * x + p[i];
+  for (int i = nq - 2; i >= 0; i--) den = den * x + q[i];
+  return num / den;
+}
+
+#define SQRT_PI 1.7724538509055160273 /* √π = 2 Γ(3/2) */
+#define FD_EXP_ONLY -37.0 /* e^η / 2^{3/2} < 1e-16 below (the series ℱ = Σ (−1)^{k+1} e^{kη} k^{−3/2}) */
+
 double ew_fd_half(double eta, double *deriv) {
-  const double j = 0.5;
-  const double a = sqrt(1.0 + 3.75 * (j + 1.0) + (j + 1.0) * (j + 1.0) / 40.0);
-  const double b = 1.8 + 0.61 * j;
-  const double c = 2.0 + (2.0 - sqrt(2.0)) * pow(2.0, -j);
-  const double K = 3.0 * sqrt(EW_PI / 2.0);
-  double d = fabs(eta - b), ac = pow(a, c);
-  double r = pow(pow(d, c) + ac, 1.0 / c);
-  double s = b + eta + r;
-  /* ds/dη = 1 + r^{1−c} |η − b|^{c−1} sign(η − b) */
-  double ds = 1.0 + (d > 0 ? pow(r, 1.0 - c) * pow(d, c - 1.0) * (eta > b ? 1.0 : -1.0) : 0.0);
-  double ks = K * pow(s, -1.5);
-  double F, inv_e; /* F and F·e^{−η} computed without overflow */
-  if (eta < 0) {
-    double e = exp(eta);
-    F = e / (1.0 + ks * e);
-    inv_e = 1.0 / (1.0 + ks * e);
-  } else {
-    double e = exp(-eta);
-    F = 1.0 / (ks + e);
-    inv_e = e * F;
+  double F, dF = 0.0;
+  if (eta < FD_EXP_ONLY) { /* ℱ = e^η (1 − e^η/2^{3/2} + …): the correction is below 1e-16 */
+    F = exp(eta);
+    if (deriv) *deriv = F;
+    return F;
   }
-  if (deriv) /* dℱ/dη = ℱ² (1.5 K s^{−5/2} s' + e^{−η}) */
-    *deriv = F * (F * 1.5 * ks / s * ds + inv_e);
-  return F;
+  if (eta < 2.0) {
+    double x = exp(eta);
+    F = x * ratio(fdp_lo_p, 7, fdp_lo_q, 8, x);
+    if (deriv) dF = x * ratio(fdm_lo_p, 7, fdm_lo_q, 8, x);
+  } else {
+    double x = 1.0 / (eta * eta), r = sqrt(eta);
+    F = eta * r * ratio(fdp_hi_p, 10, fdp_hi_q, 12, x);
+    if (deriv) dF = r * ratio(fdm_hi_p, 11, fdm_hi_q, 12, x);
+  }
+  if (deriv) *deriv = dF / SQRT_PI;
+  return F * (2.0 / SQRT_PI);
 }
 
 /* kT ln(1 + e^x) / kT = ln(1 + e^x), without overflow */
@@ -281,6 +321,16 @@ static const double blend_w[BLEND_POINTS] = {
     0.1739274225687269 * 6 * 0.9305681557970263 * (1 - 0.9305681557970263)};
 static double smoothstep(double x) { return x <= 0 ? 0.0 : x >= 1 ? 1.0 : x * x * (3.0 - 2.0 * x); }
 
+/* ℱ(η) and dℱ/dη, remembering the last argument */
+typedef struct {
+  double eta, F, dF;
+} fd_memo;
+static inline double fd_half_memo(fd_memo *c, double eta, double *dF) {
+  if (eta != c->eta) c->eta = eta, c->F = ew_fd_half(eta, &c->dF);
+  *dF = c->dF;
+  return c->F;
+}
+
 /* Charge density p − n + N_D⁺ − N_A⁻ (nm^-3) of a half at potential U, Fermi level EF and
  * continuum windows W[0..2] (electron energies, already shifted with the local U − U_S) with
  * the hand-over width W[3] (NULL: the whole bulk bands), with d/dU; parts[4] (may be NULL)
@@ -300,14 +350,17 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   } else {
     /* electrons above max(Ec + U, t), holes below min(Ev + U, t), the threshold t spread
        over the hand-over interval by the weight χ'(x) (see blend) */
+    /* where the band edge clips the thresholds several points share one argument: the
+       last value of each band is reused (the same bits as evaluating it again) */
+    fd_memo mm[3] = {{NAN, 0, 0}, {NAN, 0, 0}, {NAN, 0, 0}};
     for (int k = 0; k < BLEND_POINTS; k++) {
       double x = blend_x[k], wt = blend_w[k];
       double t = W[EW_BAND_E] - W[EW_BAND_COUNT] * x;
-      n += wt * h->Nc * ew_fd_half((EF - (t > ec ? t : ec)) / kT, &dF);
+      n += wt * h->Nc * fd_half_memo(&mm[0], (EF - (t > ec ? t : ec)) / kT, &dF);
       dn -= wt * h->Nc * dF / kT; /* the thresholds move with U as well (see charges) */
       for (int b = 0; b < 2; b++) {
         double th = W[1 + b] + W[EW_BAND_COUNT] * x;
-        p += wt * nv[b] * ew_fd_half(((th < ev[b] ? th : ev[b]) - EF) / kT, &dF);
+        p += wt * nv[b] * fd_half_memo(&mm[1 + b], ((th < ev[b] ? th : ev[b]) - EF) / kT, &dF);
         dp += wt * nv[b] * dF / kT;
       }
     }
@@ -328,11 +381,41 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   return p - n + nd - na;
 }
 
+/* The last half_rho of bulk_charges with its inputs bit for bit (the edges, densities and
+ * dopants of the half, U, E_F and the windows): the two halves of a node inside one layer
+ * give the same inputs, and the same bits come out without a second evaluation. */
+#define RHO_KEY 17
+typedef struct {
+  double key[RHO_KEY];
+  int valid;
+  double rho, d, pp[4];
+} rho_memo;
+
+static int rho_memo_hit(rho_memo *c, const half *h, double U, double EF, const double *W,
+                        double *rho, double *d, double pp[4]) {
+  double key[RHO_KEY] = {h->Ec, h->Evh, h->Evl, h->Evtop, h->Nc, h->Nvh, h->Nvl, h->ND, h->NA,
+                         h->Ed, h->Ea, U, EF, W ? 1.0 : 0.0, W ? W[0] : 0.0, W ? W[1] : 0.0,
+                         W ? W[2] : 0.0};
+  /* W[EW_BAND_COUNT] (the hand-over width) is the same for every half of one call */
+  int hit = c->valid && memcmp(key, c->key, sizeof key) == 0;
+  memcpy(c->key, key, sizeof key);
+  if (!hit) return 0;
+  *rho = c->rho, *d = c->d;
+  memcpy(pp, c->pp, sizeof c->pp);
+  return 1;
+}
+
+static void rho_memo_store(rho_memo *c, double rho, double d, const double pp[4]) {
+  c->valid = 1, c->rho = rho, c->d = d;
+  memcpy(c->pp, pp, sizeof c->pp);
+}
+
 /* The bulk part of the box charges: continuum carriers and uniform dopants of both halves of
  * every node's box (q, dq, parts as in charges). */
 static void bulk_charges(const model *m, const snap *s, double EF0, const double *U, double *q,
                          double *dq, double *const parts[4]) {
   const double kT = m->kT;
+  rho_memo mm = {{0}, 0, 0, 0, {0}};
   for (size_t i = 0; i < m->n; i++) {
     double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
     double pa[4] = {0, 0, 0, 0};
@@ -346,8 +429,12 @@ static void bulk_charges(const model *m, const snap *s, double EF0, const double
     for (int k = 0; k < 2; k++) {
       const half *h = &m->hc[2 * i + k];
       if (h->len <= 0) continue;
-      double d, pp[4];
-      qi += h->len * half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
+      double d, pp[4], rho;
+      if (rho_memo_hit(&mm, h, U[i], EF, s ? Wl : NULL, &rho, &d, pp) == 0) {
+        rho = half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
+        rho_memo_store(&mm, rho, d, pp);
+      }
+      qi += h->len * rho;
       di += h->len * d;
       for (int t = 0; t < 4; t++) pa[t] += h->len * pp[t];
     }
@@ -497,6 +584,7 @@ static double neutral_offset(const half *h, double kT) {
   for (int it = 0; it < 200; it++) { /* ρ(U) increases with U */
     double mid = 0.5 * (lo + hi);
     double r = half_rho(h, mid, 0.0, NULL, kT, NULL, NULL);
+    if (r != 0 && (mid == lo || mid == hi)) return mid; /* converged (see neutral_fermi) */
     if (r > 0) hi = mid;
     else if (r < 0) lo = mid;
     else { /* both densities underflow: the midgap of the intrinsic bulk */
@@ -517,6 +605,9 @@ static double neutral_fermi(const model *m, const double *U, double *q) {
   hi += 2.0;
   for (int it = 0; it < 200; it++) { /* total charge decreases with E_F */
     double mid = 0.5 * (lo + hi), tot = 0.0;
+    /* lo and hi adjacent doubles: every further step keeps mid (it moves lo or hi onto
+       it, or neither), so the 200 steps would end on it as well */
+    if (mid == lo || mid == hi) return mid;
     charges(m, NULL, mid, U, q, NULL, NULL);
     for (size_t i = 0; i < m->n; i++) tot += q[i];
     if (tot > 0) lo = mid;

@@ -18,9 +18,9 @@
                                  window top (see poisson.c, "Hand-over") */
 
 /* Normalised Fermi–Dirac integral of order 1/2, ℱ(η) = (2/√π) ∫0^∞ √x dx / (1 + e^(x−η))
- * (→ e^η for η → −∞), from the analytic approximation of X. Aymerich-Humet,
- * F. Serra-Mestres, J. Millán, J. Appl. Phys. 54, 2850 (1983); *deriv (may be NULL) receives
- * dℱ/dη of the same approximation (so that Newton's Jacobian matches the residual). */
+ * (→ e^η for η → −∞), from the rational approximations of H. M. Antia, Astrophys. J. Suppl.
+ * 84, 101 (1993) (relative error ~1e-12); *deriv (may be NULL) receives dℱ/dη = ℱ_{−1/2}(η)
+ * from the same paper's approximation of order −1/2. */
 double ew_fd_half(double eta, double *deriv);
 
 /* Bulk density-of-states masses of the heavy [0] and light [1] holes of bands b, m0 (the

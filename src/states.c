@@ -6,6 +6,9 @@
 #include "states.h"
 
 #include <math.h>
+#ifdef __GLIBC__
+#include <malloc.h>
+#endif
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -69,24 +72,65 @@ static int inplane_masses(ew_result *r, ew_band b, size_t first, size_t count) {
   return ok;
 }
 
-/* The states of band b from its eigenpairs, appended from state *s on; the pencil p gives
- * the residuals the eigensolver did not and the potential minimum. */
-static void band_states(ew_result *r, ew_band b, const ew_pencil *p, const ew_eigenpairs *fine,
-                        const double *coarse, size_t n_coarse, size_t *s, double *prob) {
+/* Which eigenvectors of band b are kept (keep[j]): in a field, the box states of the tilted
+ * continuum are dropped (bound.h). */
+static void keep_flags(ew_result *r, ew_band b, const ew_eigenpairs *fine, char *keep) {
   const ew_stack *st = r->stack;
+  for (size_t j = 0; j < fine->count; j++) {
+    keep[j] = !(st->field_kV_cm != 0.0 &&
+                ew_bound_inner_probability(st, r->grid, fine->vectors + j * r->grid->n) <
+                    EW_BOUND_INNER_MIN);
+    if (!keep[j]) r->dropped[b]++;
+  }
+}
+
+/* The heap pages a shrink or free gave back.  The CLI keeps freed arrays in its heap
+ * (mallopt in cli.c), where a shrunk block's tail would stay resident; malloc_trim returns
+ * the free pages inside the heap to the system (glibc; elsewhere large blocks are mapped
+ * and the shrink itself returns them). */
+static void release_pages(void) {
+#ifdef __GLIBC__
+  malloc_trim(0);
+#endif
+}
+
+#define RELEASE_BYTES ((size_t)8 << 20) /* give back copied vectors every 8 MiB */
+
+/* Moves the kept vectors of band b into r->psi from state s0 on without holding a second
+ * copy of the band: copied from its last vector down while the band's own block is shrunk
+ * behind the copy, then freed (fine->vectors becomes NULL).  Returns the vectors kept. */
+static size_t place_vectors(ew_result *r, ew_eigenpairs *fine, const char *keep, size_t s0) {
+  size_t n = r->grid->n, kept = 0, vec = n * sizeof(double);
+  for (size_t j = 0; j < fine->count; j++) kept += keep[j] != 0;
+  size_t d = s0 + kept, since = 0;
+  int big = fine->count * vec >= RELEASE_BYTES;
+  for (size_t j = fine->count; j-- > 0;) {
+    if (keep[j]) memcpy(r->psi + --d * n, fine->vectors + j * n, vec);
+    if (big && (since += vec) >= RELEASE_BYTES && j > 0) {
+      double *t = realloc(fine->vectors, j * vec);
+      if (t) fine->vectors = t; /* a failed shrink only keeps the memory longer */
+      release_pages();
+      since = 0;
+    }
+  }
+  free(fine->vectors);
+  fine->vectors = NULL;
+  if (big) release_pages();
+  return kept;
+}
+
+/* The states of band b from their vectors already in r->psi, appended from state *s on;
+ * the pencil p gives the residuals the eigensolver did not and the potential minimum. */
+static void band_states(ew_result *r, ew_band b, const ew_pencil *p, const ew_eigenpairs *fine,
+                        const char *keep, const double *coarse, size_t n_coarse, size_t *s,
+                        double *prob) {
   size_t n = r->grid->n, kept = 0;
   double sign = b == EW_BAND_E ? 1.0 : -1.0; /* back to the electron energy scale */
   for (size_t j = 0; j < fine->count; j++) {
-    const double *v = fine->vectors + j * n;
-    if (st->field_kV_cm != 0.0 &&
-        ew_bound_inner_probability(st, r->grid, v) < EW_BOUND_INNER_MIN) {
-      r->dropped[b]++;
-      continue;
-    }
+    if (!keep[j]) continue;
     ew_state *q = &r->states[*s];
     kept++;
     double *psi = r->psi + (*s)++ * n;
-    memcpy(psi, v, n * sizeof *psi);
     fix_sign(psi, n);
     double e = fine->values[j];
     q->residual = fine->residual ? fine->residual[j] : ew_pencil_residual(p, psi, e);
@@ -101,28 +145,39 @@ static void band_states(ew_result *r, ew_band b, const ew_pencil *p, const ew_ei
   r->band_count[b] = kept;
 }
 
-ew_status ew_states_build(ew_result *r, const ew_eigenpairs fine[EW_BAND_COUNT],
+ew_status ew_states_build(ew_result *r, ew_eigenpairs fine[EW_BAND_COUNT],
                           double *const coarse[EW_BAND_COUNT],
                           const size_t n_coarse[EW_BAND_COUNT], ew_error *err) {
   size_t total = 0, n = r->grid->n, s = 0;
   for (int b = 0; b < EW_BAND_COUNT; b++) total += fine[b].count;
   r->n_states = total;
   r->states = calloc(total ? total : 1, sizeof *r->states);
-  r->psi = malloc((total ? total : 1) * n * sizeof *r->psi);
   r->mean_inv_mass = malloc((total ? total : 1) * sizeof *r->mean_inv_mass);
   double *prob = malloc(r->stack->n_layers * sizeof *prob);
-  if (!r->states || !r->psi || !r->mean_inv_mass || !prob) {
+  char *keep = malloc(total ? total : 1);
+  if (r->states && r->mean_inv_mass && prob && keep) {
+    for (int b = 0, j0 = 0; b < EW_BAND_COUNT; j0 += (int)fine[b].count, b++)
+      keep_flags(r, (ew_band)b, &fine[b], keep + j0);
+    r->psi = malloc((total ? total : 1) * n * sizeof *r->psi);
+  }
+  if (!r->states || !r->psi || !r->mean_inv_mass || !prob || !keep) {
     free(prob);
+    free(keep);
+    r->n_states = 0;
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu states)", total);
   }
   ew_status rc = EW_OK;
-  for (int b = 0; b < EW_BAND_COUNT && rc == EW_OK; b++) {
+  size_t j0 = 0;
+  for (int b = 0; b < EW_BAND_COUNT; j0 += fine[b].count, b++)
+    if (fine[b].count) s += place_vectors(r, &fine[b], keep + j0, s);
+  s = 0, j0 = 0;
+  for (int b = 0; b < EW_BAND_COUNT && rc == EW_OK; j0 += fine[b].count, b++) {
     ew_pencil *p = ew_pencil_build(r->grid, (ew_band)b);
     if (!p) {
       rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (pencil)");
       break;
     }
-    band_states(r, (ew_band)b, p, &fine[b], coarse[b], n_coarse[b], &s, prob);
+    band_states(r, (ew_band)b, p, &fine[b], keep + j0, coarse[b], n_coarse[b], &s, prob);
     ew_pencil_free(p);
     size_t kept = r->band_count[b];
     if (!inplane_masses(r, (ew_band)b, s - kept, kept) ||
@@ -133,6 +188,7 @@ ew_status ew_states_build(ew_result *r, const ew_eigenpairs fine[EW_BAND_COUNT],
       rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   }
   free(prob);
+  free(keep);
   r->n_states = s;
   return rc;
 }

@@ -14,8 +14,11 @@
 /* Fill r->states, r->psi, r->mean_inv_mass, r->n_states, r->band_count, r->dropped,
  * r->unestimated (and a warning per band with dropped box states) from the fine eigenpairs
  * of each band and, where r->opt.error_estimate, their coarse-grid values
- * coarse[b][0 … n_coarse[b] − 1] (NULL, 0: none). */
-ew_status ew_states_build(ew_result *r, const ew_eigenpairs fine[EW_BAND_COUNT],
+ * coarse[b][0 … n_coarse[b] − 1] (NULL, 0: none).  The vectors move into r->psi band by band
+ * while each band's block is shrunk and freed behind the copy (peak memory: about one set
+ * of vectors, not two); every fine[b].vectors moved is NULL on return (the caller still
+ * frees the rest of fine[] as before). */
+ew_status ew_states_build(ew_result *r, ew_eigenpairs fine[EW_BAND_COUNT],
                           double *const coarse[EW_BAND_COUNT],
                           const size_t n_coarse[EW_BAND_COUNT], ew_error *err);
 
