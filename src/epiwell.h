@@ -580,7 +580,13 @@ EW_API const char *ew_dispersion_direction(const ew_dispersion *d);
  * out of range. */
 EW_API double ew_dispersion_weight(const ew_dispersion *d, size_t j, int c);
 /* JSON {"model":…,"direction":…,"k_inv_nm":[…],"subbands":[{"label":…,"band":…,
- * "energy_eV":[…]},…]}; CSV k_inv_nm,LABEL… (one row per k∥); the picture (.svg/.png). */
+ * "energy_eV":[…],"dos_mass_m0":…},…]}; CSV k_inv_nm,LABEL… (one row per k∥); the picture. */
+/* Density-of-states mass (m0) of subband j within energy_eV (> 0) of its k∥ = 0 energy:
+ * 2π ħ² N(ε)/ε with N the states per area and spin within ε (dos_mass.c; a parabolic band
+ * gives its mass); NAN out of range or when the subband is still within ε at kmax.  The JSON
+ * prints it at EW_DOS_MASS_WINDOW_EV as "dos_mass_m0". */
+#define EW_DOS_MASS_WINDOW_EV 0.025 /* ≈ kT at 290 K */
+EW_API double ew_dispersion_dos_mass_m0(const ew_dispersion *d, size_t j, double energy_eV);
 EW_API ew_status ew_dispersion_write_json(const ew_dispersion *d, FILE *out, ew_error *err);
 EW_API ew_status ew_dispersion_write_csv(const ew_dispersion *d, FILE *out, ew_error *err);
 EW_API ew_status ew_dispersion_write_plot(const ew_dispersion *d, const char *path, ew_error *err);
@@ -789,13 +795,15 @@ EW_API size_t ew_line_size(void);
 EW_API size_t ew_sweep_options_size(void);
 EW_API size_t ew_dispersion_options_size(void);
 EW_API size_t ew_gain_options_size(void);
+EW_API size_t ew_hole_absorption_options_size(void);
 /* 1 when every public struct has the size this header gives it, else 0. */
 #define EW_ABI_CHECK()                                                                     \
   (ew_error_size() == sizeof(ew_error) && ew_options_size() == sizeof(ew_options) &&        \
    ew_state_size() == sizeof(ew_state) && ew_line_size() == sizeof(ew_line) &&              \
    ew_sweep_options_size() == sizeof(ew_sweep_options) &&                                    \
    ew_dispersion_options_size() == sizeof(ew_dispersion_options) &&                        \
-   ew_gain_options_size() == sizeof(ew_gain_options))
+   ew_gain_options_size() == sizeof(ew_gain_options) &&                                    \
+   ew_hole_absorption_options_size() == sizeof(ew_hole_absorption_options))
 
 /* Read a stack from text (as ew_stack_read_string) with keys[i] set to values[i], i < nkeys
  * (keys as in `epiwell sweep --vary`: "temperature", "grid_step", "well.thickness",
