@@ -147,14 +147,17 @@ static void single_band_dipole(void **state) {
      value */
   double want = 2.0 * dE * dE * d * d / (n1 * n2);
   double got = ew_hole_absorption_tm_eV2nm2(h, transition(h, "hh1", "hh2"), 0);
-  assert_true(fabs(got / want - 1.0) < 2e-3);
+  /* the k·p pencil at k∥ = 0 is the single-band one (kp_hamiltonian.h): measured 2e-12 */
+  assert_true(fabs(got / want - 1.0) < 1e-6);
   assert_true(fabs(ew_hole_absorption_transition_eV(h, transition(h, "hh1", "hh2")) - dE) < 1e-6);
   ew_result_free(r);
   ew_hole_absorption_free(h);
   ew_stack_free(st);
 }
 
-/* Σ over subbands, both branches, ∫ k dk/π f_h at the reported Fermi level (trapezoid in k) */
+/* Σ over subbands, both branches, ∫ d²k/(2π)² f_h at the reported Fermi level: each subband
+ * taken linear in k² between its samples (the model's statement) and integrated by the
+ * midpoint rule on 200 steps per interval here */
 static void fermi_density(void **state) {
   (void)state;
   ew_stack *st = read_stack(well_text);
@@ -164,11 +167,24 @@ static void fermi_density(void **state) {
   for (size_t j = 0; j < ew_hole_absorption_subband_count(h); j++)
     for (size_t i = 0; i + 1 < ew_hole_absorption_point_count(h); i++) {
       double ka = ew_hole_absorption_k_inv_nm(h, i), kb = ew_hole_absorption_k_inv_nm(h, i + 1);
-      double fa = 1.0 / (1.0 + exp((F - ew_hole_absorption_subband_eV(h, j, i)) / kT));
-      double fb = 1.0 / (1.0 + exp((F - ew_hole_absorption_subband_eV(h, j, i + 1)) / kT));
-      p += 0.5 * (kb - ka) * (ka * fa + kb * fb) / M_PI; /* 2 branches / 2π */
+      double ea = ew_hole_absorption_subband_eV(h, j, i), eb = ew_hole_absorption_subband_eV(h, j, i + 1);
+      double ds = (kb * kb - ka * ka) / 200.0;
+      for (int q = 0; q < 200; q++) {
+        double E = ea + (eb - ea) * (q + 0.5) / 200.0;
+        p += ds / (2.0 * M_PI) / (1.0 + exp((F - E) / kT)); /* 2 branches / 4π */
+      }
     }
-  assert_true(fabs(p * 1e14 / 5e11 - 1.0) < 0.02);
+  /* beyond kmax (hh1 there only 44 meV below F: 0.5 % of the density) each subband goes on
+     as the parabola of its last interval (the stated model, gain_fermi.c):
+     ∫ ds/2π f = (Δs/ΔE) kT ln(1 + e^{(E_N − F)/kT}) / 2π, written out here */
+  size_t N = ew_hole_absorption_point_count(h) - 1;
+  double kN = ew_hole_absorption_k_inv_nm(h, N), kM = ew_hole_absorption_k_inv_nm(h, N - 1);
+  for (size_t j = 0; j < ew_hole_absorption_subband_count(h); j++) {
+    double dE = ew_hole_absorption_subband_eV(h, j, N - 1) - ew_hole_absorption_subband_eV(h, j, N);
+    double EN = ew_hole_absorption_subband_eV(h, j, N);
+    if (dE > 0) p += (kN * kN - kM * kM) / dE * kT * log1p(exp((EN - F) / kT)) / (2.0 * M_PI);
+  }
+  assert_true(fabs(p * 1e14 / 5e11 - 1.0) < 1e-4);
   ew_hole_absorption_free(h);
   ew_stack_free(st);
 }
@@ -205,8 +221,9 @@ static void absorption_area(void **state) {
     }
   }
   assert_true(stm > 0 && ste > 0);
-  assert_true(fabs(atm / (A * stm) - 1.0) < 0.01);
-  assert_true(fabs(ate / (A * ste) - 1.0) < 0.01);
+  /* measured 0.9993 and 0.9998: the lines' tails outside 1 … 400 meV */
+  assert_true(fabs(atm / (A * stm) - 1.0) < 3e-3);
+  assert_true(fabs(ate / (A * ste) - 1.0) < 3e-3);
   /* the TM peak sits on hh1 → hh2 (the strong TM line), within the linewidth */
   double e12 = ew_hole_absorption_transition_eV(h, transition(h, "hh1", "hh2"));
   assert_true(fabs(ew_hole_absorption_peak_tm_eV(h) - e12) < 0.01);
