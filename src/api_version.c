@@ -25,6 +25,7 @@ size_t ew_line_size(void) { return sizeof(ew_line); }
 size_t ew_sweep_options_size(void) { return sizeof(ew_sweep_options); }
 size_t ew_dispersion_options_size(void) { return sizeof(ew_dispersion_options); }
 size_t ew_gain_options_size(void) { return sizeof(ew_gain_options); }
+size_t ew_hole_absorption_options_size(void) { return sizeof(ew_hole_absorption_options); }
 
 ew_status ew_stack_read_string_set(const char *text, const char *display_name,
                                    const ew_catalogue *cat, size_t nkeys,

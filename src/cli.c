@@ -47,6 +47,8 @@ static const char usage[] =
     "  epiwell gain STACK --density FROM:TO:STEP [--model 4band|6band] [--linewidth MEV]\n"
     "               [--lineshape sech|lorentzian] [--index N_R] [--energy FROM:TO:STEP]\n"
     "               [--csv FILE] [--json] [--plot FILE.svg|.png]  (epiwell gain --help)\n"
+    "  epiwell hole-absorption STACK --density P_CM2 [--model 4band|6band] [--linewidth MEV]\n"
+    "               [--energy FROM:TO:STEP] [--csv FILE] [--json] [--plot FILE.svg|.png]\n"
     "    (sweep, match, tolerance also take --grid-step NM and --no-estimate)\n"
     "  epiwell --version | --help\n"
     "exit codes: 0 ok, 1 usage, 2 stack-file error, 3 catalogue error, 4 out of memory or\n"
@@ -439,5 +441,6 @@ int main(int argc, char **argv) {
   if (!strcmp(argv[1], "dispersion")) return ew_cli_dispersion(argc - 2, argv + 2);
   if (!strcmp(argv[1], "minibands")) return ew_cli_minibands(argc - 2, argv + 2);
   if (!strcmp(argv[1], "gain")) return ew_cli_gain(argc - 2, argv + 2);
+  if (!strcmp(argv[1], "hole-absorption")) return ew_cli_hole_absorption(argc - 2, argv + 2);
   return ew_cli_bad(usage, "unknown command %s", argv[1]);
 }

@@ -31,5 +31,7 @@ int ew_cli_dispersion(int argc, char **argv);
 int ew_cli_minibands(int argc, char **argv);
 /* `epiwell gain` (cli_gain.c) */
 int ew_cli_gain(int argc, char **argv);
+/* `epiwell hole-absorption` (cli_hole_absorption.c) */
+int ew_cli_hole_absorption(int argc, char **argv);
 
 #endif

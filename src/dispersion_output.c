@@ -29,6 +29,7 @@ ew_status ew_dispersion_write_json(const ew_dispersion *d, FILE *out, ew_error *
     ew_json_begin_array(&j);
     for (size_t i = 0; i < d->points; i++) ew_json_num(&j, d->energy_eV[s * d->points + i]);
     ew_json_end_array(&j);
+    ew_json_key_num(&j, "dos_mass_m0", ew_dispersion_dos_mass_m0(d, s, EW_DOS_MASS_WINDOW_EV));
     ew_json_end_object(&j);
   }
   ew_json_end_array(&j);

@@ -580,7 +580,13 @@ EW_API const char *ew_dispersion_direction(const ew_dispersion *d);
  * out of range. */
 EW_API double ew_dispersion_weight(const ew_dispersion *d, size_t j, int c);
 /* JSON {"model":…,"direction":…,"k_inv_nm":[…],"subbands":[{"label":…,"band":…,
- * "energy_eV":[…]},…]}; CSV k_inv_nm,LABEL… (one row per k∥); the picture (.svg/.png). */
+ * "energy_eV":[…],"dos_mass_m0":…},…]}; CSV k_inv_nm,LABEL… (one row per k∥); the picture. */
+/* Density-of-states mass (m0) of subband j within energy_eV (> 0) of its k∥ = 0 energy:
+ * 2π ħ² N(ε)/ε with N the states per area and spin within ε (dos_mass.c; a parabolic band
+ * gives its mass); NAN out of range or when the subband is still within ε at kmax.  The JSON
+ * prints it at EW_DOS_MASS_WINDOW_EV as "dos_mass_m0". */
+#define EW_DOS_MASS_WINDOW_EV 0.025 /* ≈ kT at 290 K */
+EW_API double ew_dispersion_dos_mass_m0(const ew_dispersion *d, size_t j, double energy_eV);
 EW_API ew_status ew_dispersion_write_json(const ew_dispersion *d, FILE *out, ew_error *err);
 EW_API ew_status ew_dispersion_write_csv(const ew_dispersion *d, FILE *out, ew_error *err);
 EW_API ew_status ew_dispersion_write_plot(const ew_dispersion *d, const char *path, ew_error *err);
@@ -703,6 +709,77 @@ EW_API ew_status ew_gain_write_json(const ew_gain *g, FILE *out, ew_error *err);
 EW_API ew_status ew_gain_write_csv(const ew_gain *g, FILE *out, ew_error *err);
 EW_API ew_status ew_gain_write_plot(const ew_gain *g, const char *path, ew_error *err);
 
+/* ---- hole intersubband absorption with TE and TM components (api_hole_absorption.c) ----
+ * The absorption α(ħω) (1/cm: per pass of one well divided by the thickness L_w of the layer
+ * holding the first hole subband, no geometry factor) of transitions between the hole
+ * subbands of a well holding a given hole sheet density, from the 4- or 6-band k·p
+ * eigenvectors (axial approximation): matrix elements of the k·p velocity operator, ∂H/∂k∥
+ * (TE) and i[H, z] (TM), summed over k∥ with Fermi occupations at the quasi-Fermi level of
+ * the density at the stack's temperature, broadened by a hyperbolic secant or a Lorentzian
+ * (README "Hole intersubband absorption").  create → compute → accessors / writers → free. */
+typedef struct {
+  int model;               /* 4 (default) or 6: the hole k·p model */
+  double density_cm2;      /* hole sheet density per well, cm^-2, in (0, 1e15] (no default:
+                              0 is refused) */
+  double linewidth_meV;    /* FWHM, (0, 200] (default 10) */
+  int lorentzian;          /* 1: Lorentzian; 0: hyperbolic secant (default) */
+  double refractive_index; /* n_r (default 3.3: GaAs in the mid infrared, from memory) */
+  double energy_from_eV;   /* photon energies; from = to = 0 (default): 0.005 eV to the */
+  double energy_to_eV;     /* largest k∥ = 0 transition + 0.1 eV */
+  double energy_step_eV;   /* default 0.001; at most 20000 energies */
+  double kmax_inv_nm;      /* k∥ to kmax (default 0.8 /nm), k_points samples (default 65, */
+  size_t k_points;         /* 2 … 2000) */
+  double grid_step_nm;     /* as ew_options (0: the stack's or the default) */
+} ew_hole_absorption_options;
+EW_API void ew_hole_absorption_options_default(ew_hole_absorption_options *o); /* NULL no-op */
+typedef struct ew_hole_absorption ew_hole_absorption;
+EW_API ew_status ew_hole_absorption_create(ew_hole_absorption **out, ew_error *err);
+EW_API void ew_hole_absorption_free(ew_hole_absorption *h); /* NULL is a no-op */
+/* EW_ERR_USAGE for bad options; EW_ERR_INPUT for a doped stack (give the density instead),
+ * no temperature, fewer than two bound hole subbands; EW_ERR_NUMERIC from the k·p solve. */
+EW_API ew_status ew_hole_absorption_compute(ew_hole_absorption *h, const ew_stack *stack,
+                                            const ew_hole_absorption_options *o, ew_error *err);
+EW_API double ew_hole_absorption_density_cm2(const ew_hole_absorption *h); /* NAN before */
+EW_API double ew_hole_absorption_fermi_eV(const ew_hole_absorption *h);    /* absolute eV */
+EW_API double ew_hole_absorption_well_nm(const ew_hole_absorption *h);
+EW_API const char *ew_hole_absorption_lineshape(const ew_hole_absorption *h); /* sech|lorentzian */
+EW_API size_t ew_hole_absorption_energy_count(const ew_hole_absorption *h);
+EW_API double ew_hole_absorption_energy_eV(const ew_hole_absorption *h, size_t i); /* NAN out */
+EW_API double ew_hole_absorption_te_cm(const ew_hole_absorption *h, size_t i);
+EW_API double ew_hole_absorption_tm_cm(const ew_hole_absorption *h, size_t i);
+/* Hole subbands (k·p labels "hh1", "lh1", …) and their energies (absolute eV) on the k∥ grid. */
+EW_API size_t ew_hole_absorption_subband_count(const ew_hole_absorption *h);
+EW_API const char *ew_hole_absorption_label(const ew_hole_absorption *h, size_t j);
+EW_API size_t ew_hole_absorption_point_count(const ew_hole_absorption *h);
+EW_API double ew_hole_absorption_k_inv_nm(const ew_hole_absorption *h, size_t i);
+EW_API double ew_hole_absorption_subband_eV(const ew_hole_absorption *h, size_t j, size_t i);
+/* Transitions t (every pair of subbands u < l, the hole going from u to the deeper l):
+ * from, to (subband indices), energy E_u − E_l at k∥ = 0 (eV), and at point i the squared
+ * matrix elements |M|² = |ħ ê·v|² summed over both Kramers branches of each subband
+ * (eV² nm²): TE, TM (commutator form) and TM from the dipole (E_l − E_u) ⟨u|z|l⟩. */
+EW_API size_t ew_hole_absorption_transition_count(const ew_hole_absorption *h);
+EW_API size_t ew_hole_absorption_transition_from(const ew_hole_absorption *h, size_t t);
+EW_API size_t ew_hole_absorption_transition_to(const ew_hole_absorption *h, size_t t);
+EW_API double ew_hole_absorption_transition_eV(const ew_hole_absorption *h, size_t t);
+EW_API double ew_hole_absorption_te_eV2nm2(const ew_hole_absorption *h, size_t t, size_t i);
+EW_API double ew_hole_absorption_tm_eV2nm2(const ew_hole_absorption *h, size_t t, size_t i);
+EW_API double ew_hole_absorption_dipole_tm_eV2nm2(const ew_hole_absorption *h, size_t t,
+                                                  size_t i);
+/* Peak of α_TE / α_TM over the spectrum: photon energy (eV). */
+EW_API double ew_hole_absorption_peak_te_eV(const ew_hole_absorption *h);
+EW_API double ew_hole_absorption_peak_tm_eV(const ew_hole_absorption *h);
+/* JSON {"model":…,"temperature_K":…,"density_cm2":…,"fermi_eV":…,"well_nm":…,
+ * "linewidth_meV":…,"lineshape":…,"energy_eV":[…],"absorption_te_cm":[…],
+ * "absorption_tm_cm":[…],"transitions":[{"from":"hh1","to":"hh2","energy_eV":…,
+ * "te_eV2nm2":…,"tm_eV2nm2":…},…]} (matrix elements at k∥ = 0); CSV energy_eV,
+ * absorption_te_cm,absorption_tm_cm; the picture of both (.svg/.png). */
+EW_API ew_status ew_hole_absorption_write_json(const ew_hole_absorption *h, FILE *out,
+                                               ew_error *err);
+EW_API ew_status ew_hole_absorption_write_csv(const ew_hole_absorption *h, FILE *out,
+                                              ew_error *err);
+EW_API ew_status ew_hole_absorption_write_plot(const ew_hole_absorption *h, const char *path,
+                                               ew_error *err);
+
 /* ==== Version, struct sizes and stacks with settings (api_version.c) ====================
  * A program built against one version of this header may run with another shared library.
  * ew_version() is the library's "MAJOR.MINOR.PATCH" (a static string).  The *_size()
@@ -718,13 +795,15 @@ EW_API size_t ew_line_size(void);
 EW_API size_t ew_sweep_options_size(void);
 EW_API size_t ew_dispersion_options_size(void);
 EW_API size_t ew_gain_options_size(void);
+EW_API size_t ew_hole_absorption_options_size(void);
 /* 1 when every public struct has the size this header gives it, else 0. */
 #define EW_ABI_CHECK()                                                                     \
   (ew_error_size() == sizeof(ew_error) && ew_options_size() == sizeof(ew_options) &&        \
    ew_state_size() == sizeof(ew_state) && ew_line_size() == sizeof(ew_line) &&              \
    ew_sweep_options_size() == sizeof(ew_sweep_options) &&                                    \
    ew_dispersion_options_size() == sizeof(ew_dispersion_options) &&                        \
-   ew_gain_options_size() == sizeof(ew_gain_options))
+   ew_gain_options_size() == sizeof(ew_gain_options) &&                                    \
+   ew_hole_absorption_options_size() == sizeof(ew_hole_absorption_options))
 
 /* Read a stack from text (as ew_stack_read_string) with keys[i] set to values[i], i < nkeys
  * (keys as in `epiwell sweep --vary`: "temperature", "grid_step", "well.thickness",

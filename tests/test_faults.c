@@ -275,6 +275,31 @@ static void gain_job(const void *ctx, outcome *out) {
   ew_gain_free(g);
 }
 
+/* The hole intersubband absorption (hole_absorption*.c over the 4-band dispersion's
+ * eigenvectors): the Fermi level, every TE and TM value and the k∥ = 0 matrix elements. */
+static void hole_absorption_job(const void *ctx, outcome *out) {
+  const ew_stack *st = ctx;
+  ew_hole_absorption *h = NULL;
+  ew_error err;
+  out->len = 0;
+  out->rc = ew_hole_absorption_create(&h, &err);
+  ew_hole_absorption_options o;
+  ew_hole_absorption_options_default(&o);
+  o.density_cm2 = 5e11, o.k_points = 9, o.kmax_inv_nm = 0.1, o.energy_step_eV = 0.02;
+  if (out->rc == EW_OK) out->rc = ew_hole_absorption_compute(h, st, &o, &err);
+  double F = ew_hole_absorption_fermi_eV(h);
+  if (out->rc == EW_OK) memcpy(out->bytes, &F, sizeof F), out->len = sizeof F;
+  size_t np = ew_hole_absorption_energy_count(h), nt = ew_hole_absorption_transition_count(h);
+  for (size_t i = 0; out->rc == EW_OK && i < np + nt; i++) {
+    double v[2] = {i < np ? ew_hole_absorption_te_cm(h, i) : ew_hole_absorption_te_eV2nm2(h, i - np, 0),
+                   i < np ? ew_hole_absorption_tm_cm(h, i) : ew_hole_absorption_tm_eV2nm2(h, i - np, 0)};
+    if (out->len + sizeof v > sizeof out->bytes) break;
+    memcpy(out->bytes + out->len, v, sizeof v);
+    out->len += sizeof v;
+  }
+  ew_hole_absorption_free(h);
+}
+
 #if FAULTS_POSSIBLE
 /* Run job with the k-th allocation failing (k = 0: none); returns the count seen. */
 /* Over a solved result: the sum rule from e1 (continuum.c) and the spectra with their
@@ -695,6 +720,16 @@ static void faults_gain(void **state) {
 #endif
 }
 
+/* The hole intersubband absorption of a 6 nm well. */
+static void faults_hole_absorption(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  assert_int_equal(narrow_well_faults("hole absorption", hole_absorption_job, 4.0, 6.0), 0);
+#else
+  skip();
+#endif
+}
+
 /* The continuum over the single well (Kane electrons) with a sheet density for the spectra. */
 static void faults_continuum(void **state) {
   (void)state;
@@ -726,6 +761,7 @@ int main(void) {
       cmocka_unit_test(faults_dispersion8),
       cmocka_unit_test(faults_minibands),
       cmocka_unit_test(faults_gain),
+      cmocka_unit_test(faults_hole_absorption),
       cmocka_unit_test(faults_repeat_build),
       cmocka_unit_test(faults_continuum),
   };
@@ -733,7 +769,7 @@ int main(void) {
   (void)solve_job, (void)sweep_job, (void)build_job, (void)merge_job, (void)dispersion_job,
       (void)minibands_job, (void)gain_job, (void)continuum_job, (void)read_stack,
       (void)well_text, (void)job_grid; /* skipped */
-  (void)dispersion8_job;
+  (void)dispersion8_job, (void)hole_absorption_job;
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
   const char *only = getenv("EW_FAULTS_ONLY");

@@ -407,7 +407,7 @@ static void json_values(void **state) {
   assert_non_null(strstr(buf, want));
   /* the last subband's last value closes its array */
   size_t J = ew_dispersion_subband_count(d) - 1;
-  snprintf(want, sizeof want, ",%.10g]}]}", ew_dispersion_energy_eV(d, J, 4));
+  snprintf(want, sizeof want, ",%.10g],\"dos_mass_m0\":", ew_dispersion_energy_eV(d, J, 4));
   assert_non_null(strstr(buf, want));
   /* every subband's label and band, in order (a lh subband among them: band is not constant) */
   int lh = 0;
@@ -664,7 +664,8 @@ static void superlattice_gap(void **state) {
   const char *at = buf;
   for (size_t j = 0; j < ew_dispersion_subband_count(d); j++) {
     char want[192];
-    snprintf(want, sizeof want, "{\"label\":\"%s\",\"band\":\"%s\",\"energy_eV\":[%.10g,%.10g,%.10g]}",
+    snprintf(want, sizeof want, "{\"label\":\"%s\",\"band\":\"%s\",\"energy_eV\":[%.10g,%.10g,%.10g],"
+             "\"dos_mass_m0\":",
              ew_dispersion_label(d, j), ew_dispersion_band(d, j), ew_dispersion_energy_eV(d, j, 0),
              ew_dispersion_energy_eV(d, j, 1), ew_dispersion_energy_eV(d, j, 2));
     at = strstr(at, want);
