@@ -437,6 +437,7 @@ static const char *job_grid(void) {
   return e && !strcmp(e, "1") ? "0.1" : "0.4";
 }
 
+#if FAULTS_POSSIBLE
 /* A fresh directory dir holding the single well on the job grid as path (DIR/well.cfg). */
 static void job_well(char *dir, size_t dsize, char *path, size_t psize) {
   assert_int_equal(tu_mkdtemp("faults", dir, dsize), 0);
@@ -446,6 +447,7 @@ static void job_well(char *dir, size_t dsize, char *path, size_t psize) {
   fprintf(f, "temperature = 300.0;\ngrid_step = %s;\n%s", job_grid(), strstr(well_text, "layers"));
   fclose(f);
 }
+#endif
 
 static void faults_doped_well(void **state) {
   (void)state;
@@ -488,6 +490,7 @@ static void faults_nitride_2deg(void **state) {
 #endif
 }
 
+#if FAULTS_POSSIBLE
 /* A 3-point sweep over range (KEY=FROM:TO:STEP) of the single well on the coarse grid. */
 static int sweep_faults(const char *what, const char *range) {
   char dir[512], path[600];
@@ -506,6 +509,7 @@ static int sweep_faults(const char *what, const char *range) {
   tu_rm_tree(dir);
   return bad;
 }
+#endif
 
 static void faults_sweep(void **state) {
   (void)state;
@@ -570,6 +574,7 @@ static void faults_repeat_build(void **state) {
 #endif
 }
 
+#if FAULTS_POSSIBLE
 /* The merge of c's parts with every allocation failing in turn, into a file whose buffer
  * exists before arming; the number of bad outcomes. */
 static int merge_faults(const char *what, merge_ctx *c) {
@@ -581,6 +586,7 @@ static int merge_faults(const char *what, merge_ctx *c) {
   fclose(c->out);
   return bad;
 }
+#endif
 
 /* The parts written once (unarmed), then merged with every allocation failing in turn. */
 static void faults_merge(void **state) {
@@ -767,7 +773,7 @@ int main(void) {
   };
 #if !FAULTS_POSSIBLE
   (void)solve_job, (void)sweep_job, (void)build_job, (void)merge_job, (void)dispersion_job,
-      (void)minibands_job, (void)gain_job, (void)continuum_job, (void)read_stack,
+      (void)minibands_job, (void)gain_job, (void)read_stack,
       (void)well_text, (void)job_grid; /* skipped */
   (void)dispersion8_job, (void)hole_absorption_job;
 #endif
