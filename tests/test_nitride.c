@@ -198,18 +198,18 @@ static void masses_band_edge(void **state) {
 
 /* ---- polarisation fields ----------------------------------------------------------------- */
 
-static const char *mqw_fmt =
-    "temperature = 300.0;\nsubstrate = \"GaN\";\nscreening_sheet = %g;\n"
-    "layers = (\n"
-    "  { name = \"b0\"; material = \"GaN\"; thickness = %g; },\n"
-    "  { name = \"w1\"; material = \"InGaN\"; x = 0.15; thickness = %g; },\n"
-    "  { name = \"b1\"; material = \"GaN\"; thickness = %g; },\n"
-    "  { name = \"w2\"; material = \"InGaN\"; x = 0.15; thickness = %g; },\n"
-    "  { name = \"b2\"; material = \"GaN\"; thickness = %g; }\n);\n";
+#define MQW_FMT \
+    "temperature = 300.0;\nsubstrate = \"GaN\";\nscreening_sheet = %g;\n" \
+    "layers = (\n" \
+    "  { name = \"b0\"; material = \"GaN\"; thickness = %g; },\n" \
+    "  { name = \"w1\"; material = \"InGaN\"; x = 0.15; thickness = %g; },\n" \
+    "  { name = \"b1\"; material = \"GaN\"; thickness = %g; },\n" \
+    "  { name = \"w2\"; material = \"InGaN\"; x = 0.15; thickness = %g; },\n" \
+    "  { name = \"b2\"; material = \"GaN\"; thickness = %g; }\n);\n"
 
 static ew_stack *mqw(double n_cm2, double Lb, double Lw) {
   char text[1024];
-  snprintf(text, sizeof text, mqw_fmt, n_cm2, 0.5 * Lb, Lw, Lb, Lw, 0.5 * Lb);
+  snprintf(text, sizeof text, MQW_FMT, n_cm2, 0.5 * Lb, Lw, Lb, Lw, 0.5 * Lb);
   return read_text(text);
 }
 
@@ -344,11 +344,11 @@ static void qcse_red_shift(void **state) {
 
 /* ---- the two-dimensional electron gas ----------------------------------------------------- */
 
-static const char *hemt_fmt =
-    "temperature = 300.0;\nsubstrate = \"GaN\";\nc_axis = \"-z\";\n"
-    "surface = { barrier = %g; };\nlayers = (\n"
-    "  { name = \"barrier\"; material = \"AlGaN\"; x = %g; thickness = %g; },\n"
-    "  { name = \"channel\"; material = \"GaN\"; thickness = 60.0; }\n);\n";
+#define HEMT_FMT \
+    "temperature = 300.0;\nsubstrate = \"GaN\";\nc_axis = \"-z\";\n" \
+    "surface = { barrier = %g; };\nlayers = (\n" \
+    "  { name = \"barrier\"; material = \"AlGaN\"; x = %g; thickness = %g; },\n" \
+    "  { name = \"channel\"; material = \"GaN\"; thickness = 60.0; }\n);\n"
 
 /* The charge balance of O. Ambacher et al., J. Appl. Phys. 87, 334 (2000) (from memory):
  *   n_s = σ/e − (ε0 ε_b / (e² d)) (eφ_b + E_F − ΔEc),  E_F = E0 + πħ² n_s/m*,
@@ -382,7 +382,7 @@ static void hemt_sheet_density(void **state) {
   double last = 0.0;
   for (size_t k = 0; k < 3; k++) {
     char text[1024];
-    snprintf(text, sizeof text, hemt_fmt, phib, x, d_nm[k]);
+    snprintf(text, sizeof text, HEMT_FMT, phib, x, d_nm[k]);
     ew_stack *st = read_text(text);
     assert_non_null(st);
     ew_result *r = solve(st);
@@ -407,14 +407,13 @@ static void hemt_sheet_density(void **state) {
  * layer by layer; tolerance 1e-4 relative (the carriers left are below 1e-20 of σ/e). */
 static void poisson_charges_gauss(void **state) {
   (void)state;
-  static const char *fmt =
-      "temperature = 300.0;\nsubstrate = \"GaN\";\n%s"
-      "layers = (\n { material = \"GaN\"; thickness = 10; },\n"
-      " { material = \"AlGaN\"; x = 0.1; thickness = 5; },\n"
-      " { material = \"GaN\"; thickness = 10; }\n);\n";
-  char a[512], b[512];
-  snprintf(a, sizeof a, fmt, "");
-  snprintf(b, sizeof b, fmt, "bias = 0.0;\n");
+#define GAUSS_STACK(BIAS)                                                              \
+  "temperature = 300.0;\nsubstrate = \"GaN\";\n" BIAS                                       \
+  "layers = (\n { material = \"GaN\"; thickness = 10; },\n"                                 \
+  " { material = \"AlGaN\"; x = 0.1; thickness = 5; },\n"                                    \
+  " { material = \"GaN\"; thickness = 10; }\n);\n"
+  const char *a = GAUSS_STACK(""), *b = GAUSS_STACK("bias = 0.0;\n");
+#undef GAUSS_STACK
   ew_stack *st = read_text(a), *sc = read_text(b);
   assert_non_null(st);
   assert_non_null(sc);
@@ -486,7 +485,7 @@ static void json_roundtrip(void **state) {
   ew_result_free(r);
   ew_stack_free(st);
   char text[1024];
-  snprintf(text, sizeof text, hemt_fmt, 1.23, 0.3, 25.0);
+  snprintf(text, sizeof text, HEMT_FMT, 1.23, 0.3, 25.0);
   st = read_text(text);
   r = solve(st);
   assert_non_null(r);
@@ -519,7 +518,7 @@ static size_t report_cells(const char *html, const char *id, double *out, size_t
 static void report_roundtrip(void **state) {
   (void)state;
   char text[1024];
-  snprintf(text, sizeof text, hemt_fmt, 1.23, 0.3, 25.0);
+  snprintf(text, sizeof text, HEMT_FMT, 1.23, 0.3, 25.0);
   ew_stack *st = read_text(text);
   ew_result *r = solve(st);
   assert_non_null(r);

@@ -141,7 +141,7 @@ static void ten_periods(void **state) {
   assert_string_equal(ew_stack_layer_name(st, 0), "lower");
   assert_string_equal(ew_stack_layer_name(st, 2 * PERIODS + 1), "upper");
   for (int k = 0; k < PERIODS; k++) {
-    char wn[16], bn[16];
+    char wn[32], bn[32];
     snprintf(wn, sizeof wn, "well#%d", k + 1);
     snprintf(bn, sizeof bn, "barrier#%d", k + 1);
     size_t iw = (size_t)(1 + 2 * k), ib = iw + 1, idx = 99;
