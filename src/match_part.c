@@ -348,9 +348,9 @@ static ew_status join(const ew_wf_match_result *parts, const size_t *order, size
   nst = 0;
   for (size_t k = 0; k < N; k++) {
     const ew_wf_match_result *p = &parts[order[k]];
-    memcpy(m->sol + m->n, p->sol, p->n * sizeof *p->sol);
+    if (p->n) memcpy(m->sol + m->n, p->sol, p->n * sizeof *p->sol); /* NULL when none */
     m->n += p->n;
-    memcpy(st + nst, p->starts, p->n_starts * sizeof *st);
+    if (p->n_starts) memcpy(st + nst, p->starts, p->n_starts * sizeof *st);
     nst += p->n_starts;
     for (size_t i = 0; i < m->nkeys; i++) { /* fmin/fmax skip a NaN (a part never bound) */
       m->reached_min_eV[i] = fmin(m->reached_min_eV[i], p->reached_min_eV[i]);
