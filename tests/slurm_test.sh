@@ -161,7 +161,7 @@ rm -rf "$W/parts"
 id=$(cd "$W" && EPIWELL="$W/epiwell" VARY=well.thickness=4:12:0.001 EPIWELL_SWEEP_ARGS="--grid-step 0.1" \
   sbatch --parsable --array=1-2 --cpus-per-task=1 --time=5 --export=ALL "$root/examples/slurm_sweep.sh" 2>"$sd/log/sbatch2.err")
 i=0
-until [ "$(squeue -h -j "${id%%;*}" -t R -o %i 2>/dev/null | wc -l)" -ge 1 ] && [ -e "$W/parts" ]; do
+until [ "$(timeout 5 squeue -h -j "${id%%;*}" -t R -o %i 2>/dev/null | wc -l)" -ge 1 ] && [ -e "$W/parts" ]; do
   i=$((i + 1))
   [ $i -gt 100 ] && break
   sleep 0.1
@@ -169,7 +169,7 @@ done
 sleep 1
 scancel "${id%%;*}" 2>/dev/null
 i=0
-while [ -n "$(squeue -h -j "${id%%;*}" 2>/dev/null)" ] && [ $i -lt 150 ]; do
+while [ -n "$(timeout 5 squeue -h -j "${id%%;*}" 2>/dev/null)" ] && [ $i -lt 150 ]; do
   sleep 0.1
   i=$((i + 1))
 done
