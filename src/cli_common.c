@@ -32,7 +32,7 @@ int ew_cli_bad(const char *usage, const char *fmt, ...) {
   int len = 0;
   if (!strncmp(usage, "usage: epiwell ", 15) && islower((unsigned char)usage[15])) {
     cmd = usage + 15; /* a command's own usage: "usage: epiwell sweep ..." */
-    while (islower((unsigned char)cmd[len])) len++;
+    while (islower((unsigned char)cmd[len]) || cmd[len] == '-') len++; /* hole-absorption */
   }
   fputc('\n', stderr);
   help_line(cmd, len);
@@ -50,4 +50,92 @@ void ew_cli_prefix(ew_error *err, const char *opt) {
   char msg[sizeof err->message];
   snprintf(msg, sizeof msg, "%s: %.1000s", opt, err->message);
   memcpy(err->message, msg, sizeof err->message);
+}
+
+int ew_cli_triple(const char *v, double x[3]) {
+  char buf[256];
+  if (strlen(v) >= sizeof buf) return 0;
+  strcpy(buf, v);
+  char *p = buf;
+  for (int k = 0; k < 3; k++) {
+    char *c = k < 2 ? strchr(p, ':') : NULL;
+    if (k < 2 && !c) return 0;
+    if (c) *c = '\0';
+    if (!ew_cli_parse_num(p, &x[k])) return 0;
+    p = c ? c + 1 : p;
+  }
+  return 1;
+}
+
+int ew_cli_output_arg(const char *usage, ew_cli_outputs *o, const char *s, const char *v, int *used) {
+  *used = 1;
+  if (!strcmp(s, "--json")) {
+    o->json = 1;
+  } else if (v && (!strcmp(s, "--csv") || !strcmp(s, "--plot"))) {
+    *(s[2] == 'c' ? &o->csv : &o->plot) = v;
+    *used = 2;
+  } else if (s[0] == '-') {
+    return 0;
+  } else if (!o->stack) {
+    o->stack = s;
+  } else {
+    return -ew_cli_bad(usage, "more than one stack file (%s)", s);
+  }
+  return 1;
+}
+
+int ew_cli_read_stack(const ew_cli_outputs *o, ew_catalogue **cat, ew_stack **st) {
+  ew_error err;
+  *cat = NULL, *st = NULL;
+  if (o->csv && ew_data_path_check(o->csv, "--csv", &err)) return ew_cli_report(&err);
+  if (o->plot && ew_plot_path_check(o->plot, &err)) return ew_cli_report(&err);
+  if (ew_catalogue_load(NULL, cat, &err)) return ew_cli_report(&err);
+  if (ew_stack_read_file(o->stack, *cat, st, &err)) {
+    ew_catalogue_free(*cat);
+    *cat = NULL;
+    return ew_cli_report(&err);
+  }
+  return 0;
+}
+
+int ew_cli_optics_arg(const char *usage, ew_cli_optics *o, const char *s, const char *v) {
+  double x;
+  if (!strcmp(s, "--model")) {
+    if (!strcmp(v, "4band")) *o->model = 4;
+    else if (!strcmp(v, "6band")) *o->model = 6;
+    else return -ew_cli_bad(usage, "--model %s: give 4band or 6band", v);
+  } else if (!strcmp(s, "--lineshape")) {
+    if (!strcmp(v, "sech")) *o->lorentzian = 0;
+    else if (!strcmp(v, "lorentzian")) *o->lorentzian = 1;
+    else return -ew_cli_bad(usage, "--lineshape %s: give sech or lorentzian", v);
+  } else if (!strcmp(s, "--linewidth")) {
+    if (!ew_cli_parse_num(v, &x) || !(x > 0) || x > 200)
+      return -ew_cli_bad(usage, "--linewidth %s: give a FWHM in meV, (0, 200]", v);
+    *o->linewidth_meV = x;
+  } else if (!strcmp(s, "--index")) {
+    if (!ew_cli_parse_num(v, &x) || !(x >= 1) || x > 10)
+      return -ew_cli_bad(usage, "--index %s: give a refractive index from 1 to 10", v);
+    *o->refractive_index = x;
+  } else if (!strcmp(s, "--grid-step")) {
+    if (!ew_cli_parse_num(v, &x) || !(x > 0))
+      return -ew_cli_bad(usage, "--grid-step %s: give a positive number (nm)", v);
+    *o->grid_step_nm = x;
+  } else {
+    return 0;
+  }
+  return 1;
+}
+
+int ew_cli_file_open(const char *path, ew_output_file **f) {
+  ew_error err;
+  return ew_output_file_open(path, f, &err) ? ew_cli_report(&err) : 0;
+}
+
+int ew_cli_file_close(ew_output_file *f, ew_status written, const ew_error *err) {
+  if (written) {
+    ew_output_file_abort(f);
+    return ew_cli_report(err);
+  }
+  ew_error cerr;
+  return ew_output_file_commit(f, &cerr) ? ew_cli_report(&cerr) : 0;
 }

@@ -16,6 +16,40 @@ int ew_cli_parse_num(const char *s, double *v);
 /* Put "opt: " in front of err's message (which names a picture or file the option gave). */
 void ew_cli_prefix(ew_error *err, const char *opt);
 
+/* FROM:TO:STEP into x[0..2]; 1 when all three are finite numbers (no range check). */
+int ew_cli_triple(const char *v, double x[3]);
+
+/* What every computing command shares on its command line: the stack file (the one
+ * positional argument), --csv FILE, --plot FILE and --json. */
+typedef struct {
+  const char *stack, *csv, *plot;
+  int json;
+} ew_cli_outputs;
+/* Take argument s (with v, the next one, or NULL) when it is one of those: returns 1 with
+ * *used the number of arguments taken (1 or 2), 0 when s is something else, or −EW_ERR_USAGE
+ * (reported) for a second stack file. */
+int ew_cli_output_arg(const char *usage, ew_cli_outputs *o, const char *s, const char *v, int *used);
+/* After parsing: the output paths checked before any work, the catalogue and the stack
+ * read; 0, or the exit code (reported; *cat and *st then NULL). */
+int ew_cli_read_stack(const ew_cli_outputs *o, ew_catalogue **cat, ew_stack **st);
+
+/* The options the k·p optics commands (gain, hole-absorption) share: --model 4band|6band,
+ * --lineshape sech|lorentzian, --linewidth MEV, --index N_R, --grid-step NM.  Values as in
+ * ew_gain_options / ew_hole_absorption_options. */
+typedef struct {
+  int *model, *lorentzian; /* where the values go: the command's own options fields */
+  double *linewidth_meV, *refractive_index, *grid_step_nm;
+} ew_cli_optics;
+/* Take option s with value v when it is one of those: 1 taken, 0 not one of them, or
+ * −EW_ERR_USAGE (reported) for a bad value. */
+int ew_cli_optics_arg(const char *usage, ew_cli_optics *o, const char *s, const char *v);
+
+/* A CSV file written atomically: open it (0 or the exit code, reported), write to
+ * ew_output_file_stream(*f), then close with the writer's status — committed when it is
+ * EW_OK, else removed; returns the exit code (the writer's error, reported, wins). */
+int ew_cli_file_open(const char *path, ew_output_file **f);
+int ew_cli_file_close(ew_output_file *f, ew_status written, const ew_error *err);
+
 /* Longest output path the commands take (the library's output sets hold 1024 bytes). */
 #define EW_CLI_PATH_MAX 1024
 

@@ -15,59 +15,60 @@ static const char usage[] =
     "  their k = 0 character; table on stdout unless --json\n";
 
 typedef struct {
-  const char *stack, *csv, *plot;
-  int json;
+  ew_cli_outputs out;
   ew_dispersion_options o;
 } args_t;
+
+/* one option with its value v; 0 or the exit code */
+static int option(const char *s, const char *v, args_t *a) {
+  double x;
+  if (!strcmp(s, "--model")) {
+    if (!strcmp(v, "4band")) a->o.model = 4;
+    else if (!strcmp(v, "6band")) a->o.model = 6;
+    else if (!strcmp(v, "8band")) a->o.model = 8;
+    else return ew_cli_bad(usage, "--model %s: give 4band, 6band or 8band", v);
+  } else if (!strcmp(s, "--direction")) {
+    if (!strcmp(v, "100")) a->o.direction = 100;
+    else if (!strcmp(v, "110")) a->o.direction = 110;
+    else return ew_cli_bad(usage, "--direction %s: give 100 or 110", v);
+  } else if (!strcmp(s, "--kmax")) {
+    if (!ew_cli_parse_num(v, &x) || !(x > 0)) return ew_cli_bad(usage, "--kmax %s: give a positive number (1/nm)", v);
+    a->o.kmax_inv_nm = x;
+  } else if (!strcmp(s, "--points")) {
+    if (!ew_cli_parse_num(v, &x) || x < 2 || x > 10000 || x != (double)(size_t)x)
+      return ew_cli_bad(usage, "--points %s: give a whole number from 2 to 10000", v);
+    a->o.points = (size_t)x;
+  } else if (!strcmp(s, "--grid-step")) {
+    if (!ew_cli_parse_num(v, &x) || !(x > 0)) return ew_cli_bad(usage, "--grid-step %s: give a positive number (nm)", v);
+    a->o.grid_step_nm = x;
+  } else {
+    return ew_cli_bad(usage, "unknown option %s", s);
+  }
+  return 0;
+}
 
 static int parse(int argc, char **argv, args_t *a) {
   ew_dispersion_options_default(&a->o);
   for (int i = 0; i < argc; i++) {
     const char *s = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
-    double x;
+    int used, r;
     if (!strcmp(s, "--help") || !strcmp(s, "-h")) {
       fputs(usage, stdout);
       exit(0);
-    } else if (!strcmp(s, "--json")) {
-      a->json = 1;
+    } else if ((r = ew_cli_output_arg(usage, &a->out, s, v, &used))) {
+      if (r < 0) return -r;
+      i += used - 1;
     } else if (!strcmp(s, "--axial")) {
       a->o.axial = 1;
     } else if (s[0] == '-' && s[1] == '-' && !v) {
       return ew_cli_bad(usage, "%s needs a value", s);
-    } else if (!strcmp(s, "--model")) {
-      if (!strcmp(v, "4band")) a->o.model = 4;
-      else if (!strcmp(v, "6band")) a->o.model = 6;
-      else if (!strcmp(v, "8band")) a->o.model = 8;
-      else return ew_cli_bad(usage, "--model %s: give 4band, 6band or 8band", v);
-      i++;
-    } else if (!strcmp(s, "--direction")) {
-      if (!strcmp(v, "100")) a->o.direction = 100;
-      else if (!strcmp(v, "110")) a->o.direction = 110;
-      else return ew_cli_bad(usage, "--direction %s: give 100 or 110", v);
-      i++;
-    } else if (!strcmp(s, "--kmax")) {
-      if (!ew_cli_parse_num(v, &x) || !(x > 0)) return ew_cli_bad(usage, "--kmax %s: give a positive number (1/nm)", v);
-      a->o.kmax_inv_nm = x, i++;
-    } else if (!strcmp(s, "--points")) {
-      if (!ew_cli_parse_num(v, &x) || x < 2 || x > 10000 || x != (double)(size_t)x)
-        return ew_cli_bad(usage, "--points %s: give a whole number from 2 to 10000", v);
-      a->o.points = (size_t)x, i++;
-    } else if (!strcmp(s, "--grid-step")) {
-      if (!ew_cli_parse_num(v, &x) || !(x > 0)) return ew_cli_bad(usage, "--grid-step %s: give a positive number (nm)", v);
-      a->o.grid_step_nm = x, i++;
-    } else if (!strcmp(s, "--csv")) {
-      a->csv = v, i++;
-    } else if (!strcmp(s, "--plot")) {
-      a->plot = v, i++;
-    } else if (s[0] == '-') {
-      return ew_cli_bad(usage, "unknown option %s", s);
-    } else if (!a->stack) {
-      a->stack = s;
+    } else if ((r = option(s, v, a))) {
+      return r;
     } else {
-      return ew_cli_bad(usage, "more than one stack file (%s)", s);
+      i++;
     }
   }
-  if (!a->stack) return ew_cli_bad(usage, "give a stack file");
+  if (!a->out.stack) return ew_cli_bad(usage, "give a stack file");
   return 0;
 }
 
@@ -85,41 +86,25 @@ static void table(const ew_dispersion *d, FILE *out) {
   }
 }
 
-/* the CSV file, written atomically */
-static int write_file(const ew_dispersion *d, const char *path) {
-  ew_error err;
-  ew_output_file *f = NULL;
-  if (ew_output_file_open(path, &f, &err)) return ew_cli_report(&err);
-  ew_status rc = ew_dispersion_write_csv(d, ew_output_file_stream(f), &err);
-  if (rc) {
-    ew_output_file_abort(f);
-    return ew_cli_report(&err);
-  }
-  if (ew_output_file_commit(f, &err)) return ew_cli_report(&err);
-  return 0;
-}
-
 int ew_cli_dispersion(int argc, char **argv) {
   args_t a;
   memset(&a, 0, sizeof a);
   int rc = parse(argc, argv, &a);
-  if (rc) return rc;
-  ew_error err;
-  if (a.csv && ew_data_path_check(a.csv, "--csv", &err)) return ew_cli_report(&err);
-  if (a.plot && ew_plot_path_check(a.plot, &err)) return ew_cli_report(&err);
   ew_catalogue *cat = NULL;
   ew_stack *st = NULL;
+  if (rc || (rc = ew_cli_read_stack(&a.out, &cat, &st))) return rc;
+  ew_error err;
   ew_dispersion *d = NULL;
-  if (ew_catalogue_load(NULL, &cat, &err)) return ew_cli_report(&err);
-  if (ew_stack_read_file(a.stack, cat, &st, &err) || ew_dispersion_create(&d, &err) ||
-      ew_dispersion_compute(d, st, &a.o, &err)) {
+  if (ew_dispersion_create(&d, &err) || ew_dispersion_compute(d, st, &a.o, &err)) {
     rc = ew_cli_report(&err);
   } else {
     /* the files first: on an error nothing reaches standard output */
-    if (a.csv) rc = write_file(d, a.csv);
-    if (!rc && a.plot && ew_dispersion_write_plot(d, a.plot, &err)) rc = ew_cli_report(&err);
-    if (!rc && a.json && ew_dispersion_write_json(d, stdout, &err)) rc = ew_cli_report(&err);
-    if (!rc && !a.json) table(d, stdout);
+    ew_output_file *f;
+    if (a.out.csv && !(rc = ew_cli_file_open(a.out.csv, &f)))
+      rc = ew_cli_file_close(f, ew_dispersion_write_csv(d, ew_output_file_stream(f), &err), &err);
+    if (!rc && a.out.plot && ew_dispersion_write_plot(d, a.out.plot, &err)) rc = ew_cli_report(&err);
+    if (!rc && a.out.json && ew_dispersion_write_json(d, stdout, &err)) rc = ew_cli_report(&err);
+    if (!rc && !a.out.json) table(d, stdout);
   }
   ew_dispersion_free(d);
   ew_stack_free(st);

@@ -16,84 +16,55 @@ static const char usage[] =
     "  photon energies in eV; table of the peak gain against density unless --json\n";
 
 typedef struct {
-  const char *stack, *csv, *plot;
-  int json, have_density;
+  ew_cli_outputs out;
+  int have_density;
   ew_gain_options o;
 } args_t;
 
-/* FROM:TO:STEP into three numbers */
-static int triple(const char *v, double x[3]) {
-  char buf[256];
-  if (strlen(v) >= sizeof buf) return 0;
-  strcpy(buf, v);
-  char *p = buf;
-  for (int k = 0; k < 3; k++) {
-    char *c = k < 2 ? strchr(p, ':') : NULL;
-    if (k < 2 && !c) return 0;
-    if (c) *c = '\0';
-    if (!ew_cli_parse_num(p, &x[k])) return 0;
-    p = c ? c + 1 : p;
+/* one option with its value v; 0 or the exit code */
+static int option(const char *s, const char *v, args_t *a) {
+  double t[3];
+  ew_cli_optics c = {&a->o.model, &a->o.lorentzian, &a->o.linewidth_meV, &a->o.refractive_index,
+                     &a->o.grid_step_nm};
+  int r = ew_cli_optics_arg(usage, &c, s, v);
+  if (r) return r < 0 ? -r : 0;
+  if (!strcmp(s, "--density")) {
+    if (!ew_cli_triple(v, t) || !(t[0] > 0) || !(t[1] >= t[0]) || !(t[2] > 0))
+      return ew_cli_bad(usage, "--density %s: give FROM:TO:STEP in cm^-2, 0 < FROM <= TO, "
+                        "STEP > 0", v);
+    a->o.density_from_cm2 = t[0], a->o.density_to_cm2 = t[1], a->o.density_step_cm2 = t[2];
+    a->have_density = 1;
+  } else if (!strcmp(s, "--energy")) {
+    if (!ew_cli_triple(v, t) || !(t[0] > 0) || !(t[1] >= t[0]) || !(t[2] > 0))
+      return ew_cli_bad(usage, "--energy %s: give FROM:TO:STEP in eV, 0 < FROM <= TO, "
+                        "STEP > 0", v);
+    a->o.energy_from_eV = t[0], a->o.energy_to_eV = t[1], a->o.energy_step_eV = t[2];
+  } else {
+    return ew_cli_bad(usage, "unknown option %s", s);
   }
-  return 1;
+  return 0;
 }
 
 static int parse(int argc, char **argv, args_t *a) {
   ew_gain_options_default(&a->o);
   for (int i = 0; i < argc; i++) {
     const char *s = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
-    double x, t[3];
+    int used, r;
     if (!strcmp(s, "--help") || !strcmp(s, "-h")) {
       fputs(usage, stdout);
       exit(0);
-    } else if (!strcmp(s, "--json")) {
-      a->json = 1;
+    } else if ((r = ew_cli_output_arg(usage, &a->out, s, v, &used))) {
+      if (r < 0) return -r;
+      i += used - 1;
     } else if (s[0] == '-' && s[1] == '-' && !v) {
       return ew_cli_bad(usage, "%s needs a value", s);
-    } else if (!strcmp(s, "--density")) {
-      if (!triple(v, t) || !(t[0] > 0) || !(t[1] >= t[0]) || !(t[2] > 0))
-        return ew_cli_bad(usage, "--density %s: give FROM:TO:STEP in cm^-2, 0 < FROM <= TO, "
-                          "STEP > 0", v);
-      a->o.density_from_cm2 = t[0], a->o.density_to_cm2 = t[1], a->o.density_step_cm2 = t[2];
-      a->have_density = 1, i++;
-    } else if (!strcmp(s, "--energy")) {
-      if (!triple(v, t) || !(t[0] > 0) || !(t[1] >= t[0]) || !(t[2] > 0))
-        return ew_cli_bad(usage, "--energy %s: give FROM:TO:STEP in eV, 0 < FROM <= TO, "
-                          "STEP > 0", v);
-      a->o.energy_from_eV = t[0], a->o.energy_to_eV = t[1], a->o.energy_step_eV = t[2], i++;
-    } else if (!strcmp(s, "--model")) {
-      if (!strcmp(v, "4band")) a->o.model = 4;
-      else if (!strcmp(v, "6band")) a->o.model = 6;
-      else return ew_cli_bad(usage, "--model %s: give 4band or 6band", v);
-      i++;
-    } else if (!strcmp(s, "--lineshape")) {
-      if (!strcmp(v, "sech")) a->o.lorentzian = 0;
-      else if (!strcmp(v, "lorentzian")) a->o.lorentzian = 1;
-      else return ew_cli_bad(usage, "--lineshape %s: give sech or lorentzian", v);
-      i++;
-    } else if (!strcmp(s, "--linewidth")) {
-      if (!ew_cli_parse_num(v, &x) || !(x > 0) || x > 200)
-        return ew_cli_bad(usage, "--linewidth %s: give a FWHM in meV, (0, 200]", v);
-      a->o.linewidth_meV = x, i++;
-    } else if (!strcmp(s, "--index")) {
-      if (!ew_cli_parse_num(v, &x) || !(x >= 1) || x > 10)
-        return ew_cli_bad(usage, "--index %s: give a refractive index from 1 to 10", v);
-      a->o.refractive_index = x, i++;
-    } else if (!strcmp(s, "--grid-step")) {
-      if (!ew_cli_parse_num(v, &x) || !(x > 0)) return ew_cli_bad(usage, "--grid-step %s: give a positive number (nm)", v);
-      a->o.grid_step_nm = x, i++;
-    } else if (!strcmp(s, "--csv")) {
-      a->csv = v, i++;
-    } else if (!strcmp(s, "--plot")) {
-      a->plot = v, i++;
-    } else if (s[0] == '-') {
-      return ew_cli_bad(usage, "unknown option %s", s);
-    } else if (!a->stack) {
-      a->stack = s;
+    } else if ((r = option(s, v, a))) {
+      return r;
     } else {
-      return ew_cli_bad(usage, "more than one stack file (%s)", s);
+      i++;
     }
   }
-  if (!a->stack) return ew_cli_bad(usage, "give a stack file");
+  if (!a->out.stack) return ew_cli_bad(usage, "give a stack file");
   if (!a->have_density) return ew_cli_bad(usage, "give --density FROM:TO:STEP");
   return 0;
 }
@@ -111,38 +82,24 @@ static void table(const ew_gain *g, double linewidth_meV, FILE *out) {
             ew_gain_peak_te_energy_eV(g, d), ew_gain_peak_tm_cm(g, d));
 }
 
-static int write_file(const ew_gain *g, const char *path) {
-  ew_error err;
-  ew_output_file *f = NULL;
-  if (ew_output_file_open(path, &f, &err)) return ew_cli_report(&err);
-  if (ew_gain_write_csv(g, ew_output_file_stream(f), &err)) {
-    ew_output_file_abort(f);
-    return ew_cli_report(&err);
-  }
-  if (ew_output_file_commit(f, &err)) return ew_cli_report(&err);
-  return 0;
-}
-
 int ew_cli_gain(int argc, char **argv) {
   args_t a;
   memset(&a, 0, sizeof a);
   int rc = parse(argc, argv, &a);
-  if (rc) return rc;
-  ew_error err;
-  if (a.csv && ew_data_path_check(a.csv, "--csv", &err)) return ew_cli_report(&err);
-  if (a.plot && ew_plot_path_check(a.plot, &err)) return ew_cli_report(&err);
   ew_catalogue *cat = NULL;
   ew_stack *st = NULL;
+  if (rc || (rc = ew_cli_read_stack(&a.out, &cat, &st))) return rc;
+  ew_error err;
   ew_gain *g = NULL;
-  if (ew_catalogue_load(NULL, &cat, &err)) return ew_cli_report(&err);
-  if (ew_stack_read_file(a.stack, cat, &st, &err) || ew_gain_create(&g, &err) ||
-      ew_gain_compute(g, st, &a.o, &err)) {
+  if (ew_gain_create(&g, &err) || ew_gain_compute(g, st, &a.o, &err)) {
     rc = ew_cli_report(&err);
   } else {
-    if (a.csv) rc = write_file(g, a.csv);
-    if (!rc && a.plot && ew_gain_write_plot(g, a.plot, &err)) rc = ew_cli_report(&err);
-    if (!rc && a.json && ew_gain_write_json(g, stdout, &err)) rc = ew_cli_report(&err);
-    if (!rc && !a.json) table(g, a.o.linewidth_meV, stdout);
+    ew_output_file *f;
+    if (a.out.csv && !(rc = ew_cli_file_open(a.out.csv, &f)))
+      rc = ew_cli_file_close(f, ew_gain_write_csv(g, ew_output_file_stream(f), &err), &err);
+    if (!rc && a.out.plot && ew_gain_write_plot(g, a.out.plot, &err)) rc = ew_cli_report(&err);
+    if (!rc && a.out.json && ew_gain_write_json(g, stdout, &err)) rc = ew_cli_report(&err);
+    if (!rc && !a.out.json) table(g, a.o.linewidth_meV, stdout);
   }
   ew_gain_free(g);
   ew_stack_free(st);

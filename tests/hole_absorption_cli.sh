@@ -75,6 +75,12 @@ run "$bin" hole-absorption "$tmp/w.cfg" --density -1
 if [ "$rc" -eq 1 ]; then ok "--density -1: exit 1"; else nok "--density -1" "exit $rc"; fi
 run "$bin" hole-absorption "$tmp/w.cfg" --density 1e11 --model 8band
 if [ "$rc" -eq 1 ] && grep -q -- '--model' "$tmp/err"; then ok "--model 8band: exit 1"; else nok "--model 8band" "exit $rc"; fi
+# the pointer to the usage names the whole command, hyphen and all (it once said 'epiwell hole')
+if grep -q "run 'epiwell hole-absorption --help'" "$tmp/err"; then ok "usage error points at 'epiwell hole-absorption --help'"; else nok "usage pointer" "$(tail -n 1 "$tmp/err")"; fi
+run "$bin" hole-absorption "$tmp/w.cfg" "$tmp/w.cfg" --density 1e11
+if [ "$rc" -eq 1 ] && grep -q 'more than one stack file' "$tmp/err"; then ok "two stack files: exit 1"; else nok "two stack files" "exit $rc"; fi
+run "$bin" hole-absorption "$tmp/w.cfg" --density 1e11 --csv "$tmp/no/such/dir/a.csv"
+if [ "$rc" -ne 0 ] && grep -q -- '--csv' "$tmp/err" && [ ! -s "$tmp/out" ]; then ok "--csv into a missing directory: refused before any work"; else nok "--csv missing dir" "exit $rc"; fi
 run "$bin" hole-absorption "$tmp/w.cfg" --density 1e11 --energy 0.2:0.1:0.01
 if [ "$rc" -eq 1 ]; then ok "--energy TO < FROM: exit 1"; else nok "--energy reversed" "exit $rc"; fi
 sed 's/thickness = 5.0; }/thickness = 5.0; doping = { acceptors = 1e18; }; }/' "$tmp/w.cfg" >"$tmp/doped.cfg"
