@@ -139,3 +139,39 @@ int ew_cli_file_close(ew_output_file *f, ew_status written, const ew_error *err)
   ew_error cerr;
   return ew_output_file_commit(f, &cerr) ? ew_cli_report(&cerr) : 0;
 }
+
+int ew_cli_parse(int argc, char **argv, const char *usage, ew_cli_outputs *o, ew_cli_flag_fn flag,
+                 ew_cli_option_fn option, void *ctx) {
+  for (int i = 0; i < argc; i++) {
+    const char *s = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
+    int used, r;
+    if (!strcmp(s, "--help") || !strcmp(s, "-h")) {
+      fputs(usage, stdout);
+      exit(0);
+    } else if ((r = ew_cli_output_arg(usage, o, s, v, &used))) {
+      if (r < 0) return -r;
+      i += used - 1;
+    } else if (flag && flag(s, ctx)) {
+      continue;
+    } else if (s[0] == '-' && s[1] == '-' && !v) {
+      return ew_cli_bad(usage, "%s needs a value", s);
+    } else if ((r = option(s, v, ctx))) {
+      return r;
+    } else {
+      i++;
+    }
+  }
+  return o->stack ? 0 : ew_cli_bad(usage, "give a stack file");
+}
+
+int ew_cli_emit(const ew_cli_outputs *o, const void *r, const ew_cli_writers *w, const void *ctx) {
+  ew_error err;
+  ew_output_file *f;
+  int rc = 0;
+  if (o->csv && !(rc = ew_cli_file_open(o->csv, &f)))
+    rc = ew_cli_file_close(f, w->csv(r, ew_output_file_stream(f), &err), &err);
+  if (!rc && o->plot && w->plot(r, o->plot, &err)) rc = ew_cli_report(&err);
+  if (!rc && o->json && w->json(r, stdout, &err)) rc = ew_cli_report(&err);
+  if (!rc && !o->json) w->table(r, ctx, stdout);
+  return rc;
+}

@@ -29,6 +29,27 @@ typedef struct {
  * *used the number of arguments taken (1 or 2), 0 when s is something else, or −EW_ERR_USAGE
  * (reported) for a second stack file. */
 int ew_cli_output_arg(const char *usage, ew_cli_outputs *o, const char *s, const char *v, int *used);
+/* A command line: --help/-h (usage on stdout, exit 0), the outputs above, flag(s, ctx) for
+ * each other option (1: it was a flag and is taken; may be NULL), "needs a value" for an
+ * option at the end, else option(s, v, ctx) with its value (0, or the exit code, reported).
+ * Refuses a missing stack file.  0 or the exit code. */
+typedef int (*ew_cli_flag_fn)(const char *s, void *ctx);
+typedef int (*ew_cli_option_fn)(const char *s, const char *v, void *ctx);
+int ew_cli_parse(int argc, char **argv, const char *usage, ew_cli_outputs *o, ew_cli_flag_fn flag,
+                 ew_cli_option_fn option, void *ctx);
+
+/* A result's writers, each a one-line cast of the command's own ew_*_write_* function. */
+typedef struct {
+  ew_status (*csv)(const void *r, FILE *out, ew_error *err);
+  ew_status (*plot)(const void *r, const char *path, ew_error *err);
+  ew_status (*json)(const void *r, FILE *out, ew_error *err);
+  void (*table)(const void *r, const void *ctx, FILE *out);
+} ew_cli_writers;
+/* The outputs the command line asked for, files first (on an error nothing reaches standard
+ * output): the CSV file (atomic), the picture, then the JSON or the table (given ctx).  0 or
+ * the exit code (reported). */
+int ew_cli_emit(const ew_cli_outputs *o, const void *r, const ew_cli_writers *w, const void *ctx);
+
 /* After parsing: the output paths checked before any work, the catalogue and the stack
  * read; 0, or the exit code (reported; *cat and *st then NULL). */
 int ew_cli_read_stack(const ew_cli_outputs *o, ew_catalogue **cat, ew_stack **st);

@@ -20,7 +20,8 @@ typedef struct {
 } args_t;
 
 /* one option with its value v; 0 or the exit code */
-static int option(const char *s, const char *v, args_t *a) {
+static int option(const char *s, const char *v, void *ctx) {
+  args_t *a = ctx;
   double x;
   if (!strcmp(s, "--model")) {
     if (!strcmp(v, "4band")) a->o.model = 4;
@@ -47,32 +48,16 @@ static int option(const char *s, const char *v, args_t *a) {
   return 0;
 }
 
-static int parse(int argc, char **argv, args_t *a) {
-  ew_dispersion_options_default(&a->o);
-  for (int i = 0; i < argc; i++) {
-    const char *s = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
-    int used, r;
-    if (!strcmp(s, "--help") || !strcmp(s, "-h")) {
-      fputs(usage, stdout);
-      exit(0);
-    } else if ((r = ew_cli_output_arg(usage, &a->out, s, v, &used))) {
-      if (r < 0) return -r;
-      i += used - 1;
-    } else if (!strcmp(s, "--axial")) {
-      a->o.axial = 1;
-    } else if (s[0] == '-' && s[1] == '-' && !v) {
-      return ew_cli_bad(usage, "%s needs a value", s);
-    } else if ((r = option(s, v, a))) {
-      return r;
-    } else {
-      i++;
-    }
-  }
-  if (!a->out.stack) return ew_cli_bad(usage, "give a stack file");
-  return 0;
+/* the one flag */
+static int flag(const char *s, void *ctx) {
+  if (strcmp(s, "--axial")) return 0;
+  ((args_t *)ctx)->o.axial = 1;
+  return 1;
 }
 
-static void table(const ew_dispersion *d, FILE *out) {
+static void table(const void *r, const void *ctx, FILE *out) {
+  (void)ctx;
+  const ew_dispersion *d = r;
   fprintf(out, "%s, %s k.p, k along [%s] (energies eV)\n",
           strcmp(ew_dispersion_model(d), "8band") ? "hole subbands" : "subbands",
           ew_dispersion_model(d), ew_dispersion_direction(d));
@@ -86,26 +71,23 @@ static void table(const ew_dispersion *d, FILE *out) {
   }
 }
 
+static ew_status csv(const void *r, FILE *out, ew_error *err) { return ew_dispersion_write_csv(r, out, err); }
+static ew_status plot(const void *r, const char *path, ew_error *err) { return ew_dispersion_write_plot(r, path, err); }
+static ew_status json(const void *r, FILE *out, ew_error *err) { return ew_dispersion_write_json(r, out, err); }
+
 int ew_cli_dispersion(int argc, char **argv) {
   args_t a;
   memset(&a, 0, sizeof a);
-  int rc = parse(argc, argv, &a);
+  ew_dispersion_options_default(&a.o);
+  int rc = ew_cli_parse(argc, argv, usage, &a.out, flag, option, &a);
   ew_catalogue *cat = NULL;
   ew_stack *st = NULL;
   if (rc || (rc = ew_cli_read_stack(&a.out, &cat, &st))) return rc;
   ew_error err;
   ew_dispersion *d = NULL;
-  if (ew_dispersion_create(&d, &err) || ew_dispersion_compute(d, st, &a.o, &err)) {
-    rc = ew_cli_report(&err);
-  } else {
-    /* the files first: on an error nothing reaches standard output */
-    ew_output_file *f;
-    if (a.out.csv && !(rc = ew_cli_file_open(a.out.csv, &f)))
-      rc = ew_cli_file_close(f, ew_dispersion_write_csv(d, ew_output_file_stream(f), &err), &err);
-    if (!rc && a.out.plot && ew_dispersion_write_plot(d, a.out.plot, &err)) rc = ew_cli_report(&err);
-    if (!rc && a.out.json && ew_dispersion_write_json(d, stdout, &err)) rc = ew_cli_report(&err);
-    if (!rc && !a.out.json) table(d, stdout);
-  }
+  const ew_cli_writers w = {csv, plot, json, table};
+  if (ew_dispersion_create(&d, &err) || ew_dispersion_compute(d, st, &a.o, &err)) rc = ew_cli_report(&err);
+  else rc = ew_cli_emit(&a.out, d, &w, NULL);
   ew_dispersion_free(d);
   ew_stack_free(st);
   ew_catalogue_free(cat);

@@ -22,7 +22,8 @@ typedef struct {
 } args_t;
 
 /* one option with its value v; 0 or the exit code */
-static int option(const char *s, const char *v, args_t *a) {
+static int option(const char *s, const char *v, void *ctx) {
+  args_t *a = ctx;
   double t[3];
   ew_cli_optics c = {&a->o.model, &a->o.lorentzian, &a->o.linewidth_meV, &a->o.refractive_index,
                      &a->o.grid_step_nm};
@@ -45,31 +46,9 @@ static int option(const char *s, const char *v, args_t *a) {
   return 0;
 }
 
-static int parse(int argc, char **argv, args_t *a) {
-  ew_gain_options_default(&a->o);
-  for (int i = 0; i < argc; i++) {
-    const char *s = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
-    int used, r;
-    if (!strcmp(s, "--help") || !strcmp(s, "-h")) {
-      fputs(usage, stdout);
-      exit(0);
-    } else if ((r = ew_cli_output_arg(usage, &a->out, s, v, &used))) {
-      if (r < 0) return -r;
-      i += used - 1;
-    } else if (s[0] == '-' && s[1] == '-' && !v) {
-      return ew_cli_bad(usage, "%s needs a value", s);
-    } else if ((r = option(s, v, a))) {
-      return r;
-    } else {
-      i++;
-    }
-  }
-  if (!a->out.stack) return ew_cli_bad(usage, "give a stack file");
-  if (!a->have_density) return ew_cli_bad(usage, "give --density FROM:TO:STEP");
-  return 0;
-}
-
-static void table(const ew_gain *g, double linewidth_meV, FILE *out) {
+static void table(const void *r, const void *ctx, FILE *out) {
+  const ew_gain *g = r;
+  double linewidth_meV = ((const args_t *)ctx)->o.linewidth_meV;
   fprintf(out, "material gain, well %.4g nm, Ep %.4g eV, %s lineshape %.4g meV FWHM\n",
           ew_gain_well_nm(g), ew_gain_Ep_eV(g), ew_gain_lineshape(g), linewidth_meV);
   fprintf(out, "lowest transition %.6f eV; transparency density %.4g cm^-2\n", ew_gain_edge_eV(g),
@@ -82,25 +61,24 @@ static void table(const ew_gain *g, double linewidth_meV, FILE *out) {
             ew_gain_peak_te_energy_eV(g, d), ew_gain_peak_tm_cm(g, d));
 }
 
+static ew_status csv(const void *r, FILE *out, ew_error *err) { return ew_gain_write_csv(r, out, err); }
+static ew_status plot(const void *r, const char *path, ew_error *err) { return ew_gain_write_plot(r, path, err); }
+static ew_status json(const void *r, FILE *out, ew_error *err) { return ew_gain_write_json(r, out, err); }
+
 int ew_cli_gain(int argc, char **argv) {
   args_t a;
   memset(&a, 0, sizeof a);
-  int rc = parse(argc, argv, &a);
+  ew_gain_options_default(&a.o);
+  int rc = ew_cli_parse(argc, argv, usage, &a.out, NULL, option, &a);
+  if (!rc && !a.have_density) rc = ew_cli_bad(usage, "give --density FROM:TO:STEP");
   ew_catalogue *cat = NULL;
   ew_stack *st = NULL;
   if (rc || (rc = ew_cli_read_stack(&a.out, &cat, &st))) return rc;
   ew_error err;
   ew_gain *g = NULL;
-  if (ew_gain_create(&g, &err) || ew_gain_compute(g, st, &a.o, &err)) {
-    rc = ew_cli_report(&err);
-  } else {
-    ew_output_file *f;
-    if (a.out.csv && !(rc = ew_cli_file_open(a.out.csv, &f)))
-      rc = ew_cli_file_close(f, ew_gain_write_csv(g, ew_output_file_stream(f), &err), &err);
-    if (!rc && a.out.plot && ew_gain_write_plot(g, a.out.plot, &err)) rc = ew_cli_report(&err);
-    if (!rc && a.out.json && ew_gain_write_json(g, stdout, &err)) rc = ew_cli_report(&err);
-    if (!rc && !a.out.json) table(g, a.o.linewidth_meV, stdout);
-  }
+  const ew_cli_writers w = {csv, plot, json, table};
+  if (ew_gain_create(&g, &err) || ew_gain_compute(g, st, &a.o, &err)) rc = ew_cli_report(&err);
+  else rc = ew_cli_emit(&a.out, g, &w, &a);
   ew_gain_free(g);
   ew_stack_free(st);
   ew_catalogue_free(cat);

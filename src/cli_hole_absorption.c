@@ -22,7 +22,8 @@ typedef struct {
 } args_t;
 
 /* one option with its value v; 0 or the exit code */
-static int option(const char *s, const char *v, args_t *a) {
+static int option(const char *s, const char *v, void *ctx) {
+  args_t *a = ctx;
   double x, t[3];
   ew_cli_optics c = {&a->o.model, &a->o.lorentzian, &a->o.linewidth_meV, &a->o.refractive_index,
                      &a->o.grid_step_nm};
@@ -42,31 +43,9 @@ static int option(const char *s, const char *v, args_t *a) {
   return 0;
 }
 
-static int parse(int argc, char **argv, args_t *a) {
-  ew_hole_absorption_options_default(&a->o);
-  for (int i = 0; i < argc; i++) {
-    const char *s = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
-    int used, r;
-    if (!strcmp(s, "--help") || !strcmp(s, "-h")) {
-      fputs(usage, stdout);
-      exit(0);
-    } else if ((r = ew_cli_output_arg(usage, &a->out, s, v, &used))) {
-      if (r < 0) return -r;
-      i += used - 1;
-    } else if (s[0] == '-' && s[1] == '-' && !v) {
-      return ew_cli_bad(usage, "%s needs a value", s);
-    } else if ((r = option(s, v, a))) {
-      return r;
-    } else {
-      i++;
-    }
-  }
-  if (!a->out.stack) return ew_cli_bad(usage, "give a stack file");
-  if (!(a->o.density_cm2 > 0)) return ew_cli_bad(usage, "give --density P_CM2");
-  return 0;
-}
-
-static void table(const ew_hole_absorption *h, FILE *out) {
+static void table(const void *r, const void *ctx, FILE *out) {
+  (void)ctx;
+  const ew_hole_absorption *h = r;
   fprintf(out, "hole intersubband absorption, %.4g cm^-2, well %.4g nm, Fermi level %.6f eV, "
           "%s lineshape\n", ew_hole_absorption_density_cm2(h), ew_hole_absorption_well_nm(h),
           ew_hole_absorption_fermi_eV(h), ew_hole_absorption_lineshape(h));
@@ -81,25 +60,26 @@ static void table(const ew_hole_absorption *h, FILE *out) {
             ew_hole_absorption_tm_eV2nm2(h, t, 0));
 }
 
+static ew_status csv(const void *r, FILE *out, ew_error *err) { return ew_hole_absorption_write_csv(r, out, err); }
+static ew_status plot(const void *r, const char *path, ew_error *err) { return ew_hole_absorption_write_plot(r, path, err); }
+static ew_status json(const void *r, FILE *out, ew_error *err) { return ew_hole_absorption_write_json(r, out, err); }
+
 int ew_cli_hole_absorption(int argc, char **argv) {
   args_t a;
   memset(&a, 0, sizeof a);
-  int rc = parse(argc, argv, &a);
+  ew_hole_absorption_options_default(&a.o);
+  int rc = ew_cli_parse(argc, argv, usage, &a.out, NULL, option, &a);
+  if (!rc && !(a.o.density_cm2 > 0)) rc = ew_cli_bad(usage, "give --density P_CM2");
   ew_catalogue *cat = NULL;
   ew_stack *st = NULL;
   if (rc || (rc = ew_cli_read_stack(&a.out, &cat, &st))) return rc;
   ew_error err;
   ew_hole_absorption *h = NULL;
-  if (ew_hole_absorption_create(&h, &err) || ew_hole_absorption_compute(h, st, &a.o, &err)) {
+  const ew_cli_writers w = {csv, plot, json, table};
+  if (ew_hole_absorption_create(&h, &err) || ew_hole_absorption_compute(h, st, &a.o, &err))
     rc = ew_cli_report(&err);
-  } else {
-    ew_output_file *f;
-    if (a.out.csv && !(rc = ew_cli_file_open(a.out.csv, &f)))
-      rc = ew_cli_file_close(f, ew_hole_absorption_write_csv(h, ew_output_file_stream(f), &err), &err);
-    if (!rc && a.out.plot && ew_hole_absorption_write_plot(h, a.out.plot, &err)) rc = ew_cli_report(&err);
-    if (!rc && a.out.json && ew_hole_absorption_write_json(h, stdout, &err)) rc = ew_cli_report(&err);
-    if (!rc && !a.out.json) table(h, stdout);
-  }
+  else
+    rc = ew_cli_emit(&a.out, h, &w, NULL);
   ew_hole_absorption_free(h);
   ew_stack_free(st);
   ew_catalogue_free(cat);
