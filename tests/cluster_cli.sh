@@ -147,43 +147,35 @@ match_parts() { # match_parts NAME N ARGS...: parts NAME-1..N of the match with 
   k=1
   while [ "$k" -le "$n" ]; do mt "$@" --shard "$k/$n" >"$tmp/$name-$k.mp"; k=$((k + 1)); done
 }
+# merged NAME N ARGS...: the one-machine match (NAME.json), its N parts, and their merge (rc, out)
+merged() {
+  name=$1 n=$2
+  shift 2
+  mt "$@" >"$tmp/$name.json"
+  match_parts "$name" "$n" "$@"
+  run "$bin" merge "$tmp/$name"-*.mp
+}
+same_as() { [ "$rc" -eq 0 ] && cmp -s "$tmp/out" "$tmp/$1.json"; } # same_as NAME: the merge = NAME.json
 M1="--vary well.thickness=4:9 --line e1-e2 --target 9.0um"
-mt $M1 >"$tmp/m1.json"
-match_parts m1 3 $M1
-run "$bin" merge "$tmp/m1-3.mp" "$tmp/m1-1.mp" "$tmp/m1-2.mp"
-check "merge: 3 parts of a 1D match give the one-machine match --json byte for byte" \
-  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/m1.json'"
+merged m1 3 $M1
+run "$bin" merge "$tmp/m1-3.mp" "$tmp/m1-1.mp" "$tmp/m1-2.mp" # parts in any order
+check "merge: 3 parts of a 1D match give the one-machine match --json byte for byte" same_as m1
 check "the 1D match found its solution (e1-e2 at 9.0 um near 6.48 nm)" has '"value":6.47' "$tmp/m1.json"
-MT="--vary well.thickness=3:12 --line e1-hh1 --target 1.5480eV --tolerance 0.002eV"
-mt $MT >"$tmp/mt.json"
-match_parts mt 4 $MT
-run "$bin" merge "$tmp"/mt-*.mp
+merged mt 4 --vary well.thickness=3:12 --line e1-hh1 --target 1.5480eV --tolerance 0.002eV
 check "merge: 4 parts of a match with --tolerance (uncertainty, values at target -/+ tolerance)" \
   sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/mt.json' && grep -q value_at_target_plus '$tmp/out'"
-MN="--vary well.thickness=3:12 --line e1-e2 --target 0.3eV"
-mt $MN >"$tmp/mn.json"
-match_parts mn 2 $MN
-run "$bin" merge "$tmp"/mn-*.mp
+merged mn 2 --vary well.thickness=3:12 --line e1-e2 --target 0.3eV
 check "merge: a match without solution gets the whole range's message (reached energies)" \
   sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/mn.json' && grep -q 'spans' '$tmp/out'"
-MS="--vary well.thickness=4:9 --line e1-e2 --target 9.0um --samples 3"
-mt $MS >"$tmp/ms.json"
-match_parts ms 5 $MS
-run "$bin" merge "$tmp"/ms-*.mp
-check "merge: more parts (5) than sample intervals (2): the empty parts join too" \
-  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/ms.json'"
-M2="--vary well.thickness=5:8 --vary temperature=50:300 --line e1-e2 --target 0.1393eV --line e1-hh1 --target 1.5066eV --samples 6"
-mt $M2 >"$tmp/m2.json"
-match_parts m2 3 $M2
-run "$bin" merge "$tmp"/m2-*.mp
+merged ms 5 --vary well.thickness=4:9 --line e1-e2 --target 9.0um --samples 3
+check "merge: more parts (5) than sample intervals (2): the empty parts join too" same_as ms
+merged m2 3 --vary well.thickness=5:8 --vary temperature=50:300 --line e1-e2 --target 0.1393eV \
+  --line e1-hh1 --target 1.5066eV --samples 6
 check "merge: 3 parts of a 2D match (Newton's starts chosen again over all parts)" \
   sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/m2.json' && grep -q '\"solutions\":\[{' '$tmp/out'"
-M2N="--vary well.thickness=5:8 --vary temperature=50:300 --line e1-e2 --target 0.3eV --line e1-hh1 --target 1.5066eV --samples 5"
-mt $M2N >"$tmp/m2n.json"
-match_parts m2n 2 $M2N
-run "$bin" merge "$tmp"/m2n-*.mp
-check "merge: a 2D match without a sign-changing cell (Newton from the best point of all parts)" \
-  sh -c "[ $rc -eq 0 ] && cmp -s '$tmp/out' '$tmp/m2n.json'"
+merged m2n 2 --vary well.thickness=5:8 --vary temperature=50:300 --line e1-e2 --target 0.3eV \
+  --line e1-hh1 --target 1.5066eV --samples 5
+check "merge: a 2D match without a sign-changing cell (Newton from the best point of all parts)" same_as m2n
 run env SLURM_ARRAY_TASK_ID=5 SLURM_ARRAY_TASK_COUNT=3 SLURM_ARRAY_TASK_MIN=4 \
   "$bin" match $det --grid-step 0.1 --no-estimate --json $M1 --shard auto
 check "match --shard auto: task 5 of an array 4..6 is part 2 of 3" \
