@@ -80,6 +80,8 @@
 #include "polarization.h"
 
 #include <math.h>
+#include <stddef.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -191,6 +193,7 @@ typedef struct {
   double Nc, Nvh, Nvl;    /* effective densities of states at T, nm^-3 */
   double ND, NA;          /* nm^-3 */
   double Ed, Ea;          /* ionisation energies, eV (0: fully ionised) */
+  int same_prev;          /* Ec … Ea those of the half before it, bit for bit (rho_memo) */
 } half;
 
 typedef struct {
@@ -381,32 +384,36 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   return p - n + nd - na;
 }
 
-/* The last half_rho of bulk_charges with its inputs bit for bit (the edges, densities and
- * dopants of the half, U, E_F and the windows): the two halves of a node inside one layer
- * give the same inputs, and the same bits come out without a second evaluation. */
-#define RHO_KEY 17
+/* The last half_rho of bulk_charges with its inputs bit for bit: the two halves of a node
+ * inside one layer (same_prev) at the node's U, E_F and windows give the same bits without a
+ * second evaluation, as do neighbouring nodes of a layer at the same U (a flat start).  Only
+ * the half just before is compared (flags set once per model). */
 typedef struct {
-  double key[RHO_KEY];
-  int valid;
+  size_t j; /* the half evaluated last, SIZE_MAX: none */
+  int has_w;
+  double U, EF, W[EW_BAND_COUNT];
   double rho, d, pp[4];
 } rho_memo;
 
-static int rho_memo_hit(rho_memo *c, const half *h, double U, double EF, const double *W,
-                        double *rho, double *d, double pp[4]) {
-  double key[RHO_KEY] = {h->Ec, h->Evh, h->Evl, h->Evtop, h->Nc, h->Nvh, h->Nvl, h->ND, h->NA,
-                         h->Ed, h->Ea, U, EF, W ? 1.0 : 0.0, W ? W[0] : 0.0, W ? W[1] : 0.0,
-                         W ? W[2] : 0.0};
-  /* W[EW_BAND_COUNT] (the hand-over width) is the same for every half of one call */
-  int hit = c->valid && memcmp(key, c->key, sizeof key) == 0;
-  memcpy(c->key, key, sizeof key);
-  if (!hit) return 0;
-  *rho = c->rho, *d = c->d;
-  memcpy(pp, c->pp, sizeof c->pp);
+static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
+
+/* W[EW_BAND_COUNT] (the hand-over width) is the same for every half of one call */
+static int rho_memo_hit(rho_memo *c, const model *m, size_t j, double U, double EF,
+                        const double *W) {
+  if (c->j == SIZE_MAX || c->j + 1 != j || !m->hc[j].same_prev || !same_bits(U, c->U) ||
+      !same_bits(EF, c->EF) || c->has_w != (W != NULL))
+    return 0;
+  for (int b = 0; W && b < EW_BAND_COUNT; b++)
+    if (!same_bits(W[b], c->W[b])) return 0;
+  c->j = j; /* the same inputs: the memo now stands for half j, compared with the next one */
   return 1;
 }
 
-static void rho_memo_store(rho_memo *c, double rho, double d, const double pp[4]) {
-  c->valid = 1, c->rho = rho, c->d = d;
+static void rho_memo_store(rho_memo *c, size_t j, double U, double EF, const double *W,
+                           double rho, double d, const double pp[4]) {
+  c->j = j, c->U = U, c->EF = EF, c->has_w = W != NULL;
+  for (int b = 0; W && b < EW_BAND_COUNT; b++) c->W[b] = W[b];
+  c->rho = rho, c->d = d;
   memcpy(c->pp, pp, sizeof c->pp);
 }
 
@@ -415,7 +422,7 @@ static void rho_memo_store(rho_memo *c, double rho, double d, const double pp[4]
 static void bulk_charges(const model *m, const snap *s, double EF0, const double *U, double *q,
                          double *dq, double *const parts[4]) {
   const double kT = m->kT;
-  rho_memo mm = {{0}, 0, 0, 0, {0}};
+  rho_memo mm = {SIZE_MAX, 0, 0, 0, {0}, 0, 0, {0}};
   for (size_t i = 0; i < m->n; i++) {
     double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
     double pa[4] = {0, 0, 0, 0};
@@ -430,9 +437,12 @@ static void bulk_charges(const model *m, const snap *s, double EF0, const double
       const half *h = &m->hc[2 * i + k];
       if (h->len <= 0) continue;
       double d, pp[4], rho;
-      if (rho_memo_hit(&mm, h, U[i], EF, s ? Wl : NULL, &rho, &d, pp) == 0) {
+      if (rho_memo_hit(&mm, m, 2 * i + k, U[i], EF, s ? Wl : NULL)) {
+        rho = mm.rho, d = mm.d;
+        memcpy(pp, mm.pp, sizeof pp);
+      } else {
         rho = half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
-        rho_memo_store(&mm, rho, d, pp);
+        rho_memo_store(&mm, 2 * i + k, U[i], EF, s ? Wl : NULL, rho, d, pp);
       }
       qi += h->len * rho;
       di += h->len * d;
@@ -642,6 +652,10 @@ static void fill_cells_and_boxes(model *m, const ew_grid *g) {
     m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
     m->box[i] = b - a;
   }
+  /* the static inputs of half_rho (Ec … Ea, contiguous doubles) shared with the half before */
+  const size_t from = offsetof(half, Ec), len = offsetof(half, Ea) + sizeof(double) - from;
+  for (size_t j = 1; j < 2 * n; j++)
+    m->hc[j].same_prev = memcmp((const char *)&m->hc[j] + from, (const char *)&m->hc[j - 1] + from, len) == 0;
 }
 
 /* Delta layers on the node nearest their layer's centre. */
