@@ -63,7 +63,8 @@
  * the quantum density predicted from the last Schrödinger solve (at U_S) by shifting each
  * subband locally with the potential change, E_i → E_i + (U(z) − U_S(z)) in the term weighted
  * by |ψ_i(z)|²: the density stays a local function of U, so the Jacobian of each Newton
- * iteration is tridiagonal (solved through ew_sparse_tridiag_solve, SuperLU).  Then the
+ * iteration is tridiagonal (solved by newton_lu below, SuperLU's arithmetic without its set-up;
+ * ew_sparse_tridiag_solve, SuperLU, where a pivot would be exchanged).  Then the
  * Schrödinger equation is solved again at the new U.  Converged when max|ΔU| < 1e-6 eV
  * between outer iterations, at most 100 of them; each Newton solve is damped (steps of at
  * most 0.1 eV per node, halved while the residual norm grows) and bounded.
@@ -530,6 +531,35 @@ typedef struct {
   double *q, *dq, *R, *lo, *di, *up, *x, *Ut;
 } work;
 
+/* The Newton system lo/di/up x = rhs (x in place) by Gaussian elimination on the tridiagonal,
+ * in the very operations SuperLU's partial-pivoting LU and triangular solves make when no row
+ * is exchanged (dpivotL scales the column by 1/pivot; dgstrs divides by the diagonal), so the
+ * bits are those of ew_sparse_tridiag_solve, without its per-call set-up (allocations, column
+ * order, symbolic factorisation: 3.5M instructions per call on the doped detector against
+ * 2·10⁴).  The Jacobian is an M-matrix (diagonal ≤ −(off-diagonals), dq ≥ 0) so no row is
+ * exchanged; where one would be (|sub-diagonal| > |pivot|), or anything is not finite, the
+ * system goes to SuperLU as before.  piv[n] is scratch. */
+static ew_status newton_lu(size_t n, const double *lo, const double *di, const double *up,
+                           double *x, double *piv, ew_error *err) {
+  int ok = n >= 2;
+  for (size_t i = 0; ok && i < n; i++) {
+    double u = i ? di[i] - lo[i - 1] * (1.0 / piv[i - 1]) * up[i - 1] : di[0];
+    piv[i] = u;
+    ok = isfinite(u) && u != 0.0 && isfinite(x[i]) && (i + 1 == n || fabs(lo[i]) <= fabs(u));
+  }
+  if (!ok) return ew_sparse_tridiag_solve(n, lo, di, up, x, err);
+  for (size_t i = 1; i < n; i++) x[i] -= lo[i - 1] * (1.0 / piv[i - 1]) * x[i - 1];
+  x[n - 1] /= piv[n - 1];
+  for (size_t i = n - 1; i-- > 0;) {
+    x[i] -= up[i] * x[i + 1];
+    x[i] /= piv[i];
+  }
+  for (size_t i = 0; i < n; i++)
+    if (!isfinite(x[i]))
+      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "tridiagonal solve: non-finite solution");
+  return EW_OK;
+}
+
 /* One nonlinear Poisson solve for U (in place) at fixed E_F with the predicted densities. */
 static ew_status poisson_step(const model *m, const snap *s, double EF0, double *U, work *wk,
                               int outer, ew_error *err) {
@@ -546,7 +576,8 @@ static ew_status poisson_step(const model *m, const snap *s, double EF0, double 
       wk->x[i] = -wk->R[i];
       if (i + 1 < n) wk->lo[i] = wk->up[i] = m->ec[i + 1];
     }
-    ew_status rc = ew_sparse_tridiag_solve(n, wk->lo, wk->di, wk->up, wk->x, err);
+    /* wk->Ut is free until the step is taken: the pivots */
+    ew_status rc = newton_lu(n, wk->lo, wk->di, wk->up, wk->x, wk->Ut, err);
     if (rc != EW_OK) return rc;
     double mx = 0.0;
     for (size_t i = 0; i < n; i++) mx = fmax(mx, fabs(wk->x[i]));
