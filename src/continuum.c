@@ -140,12 +140,14 @@ static void kane_masses(ew_continuum *c, double E) {
   c->kane_at = Ek;
 }
 
-/* One solution's step to the next node; rescaled (with its dipole and start samples, which
+/* One solution's step to the next node, row i of hamiltonian.h solved for ψ_i+1:
+ * ψ_i+1 = (diag ψ_i − (K/M_i) ψ_i−1) / (K/M_i+1) (the off-diagonals −K/M with their signs
+ * taken out: the same bits); rescaled (with its dipole and start samples, which
  * d^T G⁻¹ d does not see scaled) beyond CT_RESCALE */
 #define CT_STEP(pm, p0, d, l0)                                                                 \
   do {                                                                                         \
     d += wz[i] * p0;                                                                           \
-    double p1_ = -(off_prev * pm + diag * p0) / off;                                           \
+    double p1_ = (diag * p0 - kl * pm) / kr;                                                   \
     pm = p0;                                                                                   \
     p0 = p1_;                                                                                  \
     if (fabs(p1_) > CT_RESCALE) {                                                              \
@@ -164,21 +166,18 @@ static void shoot_rows(const ew_continuum *c, double E, int ns, double *pm, doub
   const ew_grid *g = c->g;
   const size_t n = g->n;
   const double *V = g->pot[c->band], *kv = c->kinv, *w = g->w, *wz = c->wz;
-  double off_prev = -kv[0];
   double am = pm[0], a0 = p0[0], da = d[0], bm = ns > 1 ? pm[1] : 0.0, b0 = ns > 1 ? p0[1] : 0.0,
          db = ns > 1 ? d[1] : 0.0;
   if (ns > 1)
     for (size_t i = 0; i < n; i++) {
-      double off = -kv[i + 1], diag = kv[i] + kv[i + 1] + w[i] * (V[i] - E);
+      double kl = kv[i], kr = kv[i + 1], diag = kl + kr + w[i] * (V[i] - E);
       CT_STEP(am, a0, da, l0[0]);
       CT_STEP(bm, b0, db, l0[1]);
-      off_prev = off;
     }
   else
     for (size_t i = 0; i < n; i++) {
-      double off = -kv[i + 1], diag = kv[i] + kv[i + 1] + w[i] * (V[i] - E);
+      double kl = kv[i], kr = kv[i + 1], diag = kl + kr + w[i] * (V[i] - E);
       CT_STEP(am, a0, da, l0[0]);
-      off_prev = off;
     }
   pm[0] = am, p0[0] = a0, d[0] = da;
   if (ns > 1) pm[1] = bm, p0[1] = b0, d[1] = db;
