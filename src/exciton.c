@@ -367,11 +367,11 @@ static void correlate_block(const double *pe, const double *ph, ptrdiff_t ka, pt
   ptrdiff_t c0 = k0[CORR_BLOCK - 1], c1 = k1[0];
   if (c0 <= c1) {
     for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], c0 - 1, acc[j]);
-    const double *q0 = ph - m0, *q1 = q0 - 1, *q2 = q0 - 2, *q3 = q0 - 3;
     double a0 = acc[0], a1 = acc[1], a2 = acc[2], a3 = acc[3];
     for (ptrdiff_t k = c0; k <= c1; k++) {
       double p = pe[k];
-      a0 += p * q0[k], a1 += p * q1[k], a2 += p * q2[k], a3 += p * q3[k];
+      const double *q = ph + (k - m0); /* l = k − m0 − j ≥ la for every lag here */
+      a0 += p * q[0], a1 += p * q[-1], a2 += p * q[-2], a3 += p * q[-3];
     }
     acc[0] = a0, acc[1] = a1, acc[2] = a2, acc[3] = a3;
     for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), c1 + 1, k1[j], acc[j]);
@@ -381,11 +381,11 @@ static void correlate_block(const double *pe, const double *ph, ptrdiff_t ka, pt
   c0 = j0[0], c1 = j1[CORR_BLOCK - 1];
   if (c0 <= c1) {
     for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], c0 - 1, acc[j]);
-    const double *q0 = ph + m0, *q1 = q0 + 1, *q2 = q0 + 2, *q3 = q0 + 3;
     double a0 = acc[0], a1 = acc[1], a2 = acc[2], a3 = acc[3];
     for (ptrdiff_t k = c0; k <= c1; k++) {
       double p = pe[k];
-      a0 += p * q0[k], a1 += p * q1[k], a2 += p * q2[k], a3 += p * q3[k];
+      const double *q = ph + (k + m0); /* l = k + m0 + j ≤ lb for every lag here */
+      a0 += p * q[0], a1 += p * q[1], a2 += p * q[2], a3 += p * q[3];
     }
     acc[0] = a0, acc[1] = a1, acc[2] = a2, acc[3] = a3;
     for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, c1 + 1, j1[j], acc[j]);
