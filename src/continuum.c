@@ -34,8 +34,11 @@ struct ew_continuum {
   double zbar;     /* ⟨i|z|i⟩ */
   const double *psi;
   double *M;       /* [n+1] cell mass integrals at the energy of the last shot */
+  double *kinv;    /* [n+1] K / M, the chain's couplings at that energy */
+  double *wz;      /* [n] w_i (z_i − ⟨z⟩) ψ_i, the dipole weights (no energy in them) */
   ew_kane_cells *kane; /* Kane electrons, else NULL (masses fixed: g->cell_mass) */
   double kane_cap;     /* Kane masses are taken at min(E, kane_cap) */
+  double kane_at;      /* the energy M and kinv hold (NaN: none yet) */
   double V[2];     /* lead potentials: left, right */
 };
 
@@ -58,6 +61,8 @@ double ew_continuum_edge_eV(const ew_result *r, ew_band band) {
 void ew_continuum_free(ew_continuum *c) {
   if (!c) return;
   free(c->M);
+  free(c->kinv);
+  free(c->wz);
   ew_kane_cells_free(c->kane);
   free(c);
 }
@@ -78,6 +83,9 @@ ew_status ew_continuum_new(const ew_result *r, size_t lower, ew_continuum **out,
   c->invm = r->mean_inv_mass[lower];
   c->psi = r->psi + lower * g->n;
   c->M = malloc((g->n + 1) * sizeof *c->M);
+  c->kinv = malloc((g->n + 1) * sizeof *c->kinv);
+  c->wz = malloc(g->n * sizeof *c->wz);
+  if (!c->kinv || !c->wz) free(c->M), c->M = NULL;
   if (c->M && c->band == EW_BAND_E && r->nonparabolic && !(c->kane = ew_kane_cells_new(r->stack, g)))
     free(c->M), c->M = NULL;
   if (!c->M) {
@@ -85,9 +93,12 @@ ew_status ew_continuum_new(const ew_result *r, size_t lower, ew_continuum **out,
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (continuum)");
   }
   memcpy(c->M, g->cell_mass[c->band], (g->n + 1) * sizeof *c->M);
+  for (size_t i = 0; i <= g->n; i++) c->kinv[i] = EW_HB2M0_EVNM2 / c->M[i];
+  c->kane_at = NAN;
   double zb = 0.0;
   for (size_t i = 0; i < g->n; i++) zb += g->w[i] * g->z[i] * c->psi[i] * c->psi[i];
   c->zbar = zb;
+  for (size_t i = 0; i < g->n; i++) c->wz[i] = g->w[i] * (g->z[i] - c->zbar) * c->psi[i];
   c->V[0] = g->pot[c->band][0];
   c->V[1] = g->pot[c->band][g->n - 1];
   /* The Kane masses up to the smallest Γ gap of the stack above the continuum's bottom, held
@@ -119,13 +130,65 @@ static double lead_gram(double t, double cs, double sn, double a0, double a1, do
   return EW_PI * t / sn * (a0 * b0 + a1 * b1 - cs * (a0 * b1 + a1 * b0));
 }
 
+/* The Kane cell masses (and couplings K/M) at min(E, kane_cap); the last energy's are kept, so
+ * that the shots above the cap, which all see the cap's masses, evaluate them once. */
+static void kane_masses(ew_continuum *c, double E) {
+  double Ek = fmin(E, c->kane_cap);
+  if (Ek == c->kane_at) return;
+  ew_kane_cells_eval(c->kane, Ek, c->M);
+  for (size_t i = 0; i <= c->g->n; i++) c->kinv[i] = EW_HB2M0_EVNM2 / c->M[i];
+  c->kane_at = Ek;
+}
+
+/* One solution's step to the next node, row i of hamiltonian.h solved for ψ_i+1:
+ * ψ_i+1 = (diag ψ_i − (K/M_i) ψ_i−1) / (K/M_i+1) (the off-diagonals −K/M with their signs
+ * taken out: the same bits); rescaled (with its dipole and start samples, which
+ * d^T G⁻¹ d does not see scaled) beyond CT_RESCALE */
+#define CT_STEP(pm, p0, d, l0)                                                                 \
+  do {                                                                                         \
+    d += wz[i] * p0;                                                                           \
+    double p1_ = (diag * p0 - kl * pm) / kr;                                                   \
+    pm = p0;                                                                                   \
+    p0 = p1_;                                                                                  \
+    if (fabs(p1_) > CT_RESCALE) {                                                              \
+      pm /= CT_RESCALE, p0 /= CT_RESCALE, d /= CT_RESCALE;                                     \
+      l0[0] /= CT_RESCALE, l0[1] /= CT_RESCALE;                                                \
+    }                                                                                          \
+  } while (0)
+
+/* Shoot ns (1 or 2) solutions across the stack at E: on entry pm, p0 hold their samples at
+ * nodes −1 and 0, on return at n−1 and n; d accumulates the dipoles; l0 (the samples at −1
+ * and 0) is scaled along when a solution is rescaled.  The rows of hamiltonian.h with the
+ * couplings K/M_c read from c->kinv (the same quotients, computed once per cell); the
+ * solutions are held in locals, one loop for each ns. */
+static void shoot_rows(const ew_continuum *c, double E, int ns, double *pm, double *p0,
+                       double (*l0)[2], double *d) {
+  const ew_grid *g = c->g;
+  const size_t n = g->n;
+  const double *V = g->pot[c->band], *kv = c->kinv, *w = g->w, *wz = c->wz;
+  double am = pm[0], a0 = p0[0], da = d[0], bm = ns > 1 ? pm[1] : 0.0, b0 = ns > 1 ? p0[1] : 0.0,
+         db = ns > 1 ? d[1] : 0.0;
+  if (ns > 1)
+    for (size_t i = 0; i < n; i++) {
+      double kl = kv[i], kr = kv[i + 1], diag = kl + kr + w[i] * (V[i] - E);
+      CT_STEP(am, a0, da, l0[0]);
+      CT_STEP(bm, b0, db, l0[1]);
+    }
+  else
+    for (size_t i = 0; i < n; i++) {
+      double kl = kv[i], kr = kv[i + 1], diag = kl + kr + w[i] * (V[i] - E);
+      CT_STEP(am, a0, da, l0[0]);
+    }
+  pm[0] = am, p0[0] = a0, d[0] = da;
+  if (ns > 1) pm[1] = bm, p0[1] = b0, d[1] = db;
+}
+
 /* d^T G⁻¹ d (nm²/eV) of the continuum at E (positive-mass scale); 0 where no lead is open. */
 static double shoot(ew_continuum *c, double E) {
   const ew_grid *g = c->g;
   const size_t n = g->n;
-  const double K = EW_HB2M0_EVNM2, *V = g->pot[c->band], *M = c->M;
-  if (c->kane) ew_kane_cells_eval(c->kane, fmin(E, c->kane_cap), c->M);
-  double tL = K / M[0], tR = K / M[n];
+  if (c->kane) kane_masses(c, E);
+  double tL = c->kinv[0], tR = c->kinv[n];
   double sL, sR;
   double cL = lead_cos(tL, g->h[0], c->V[0], E, &sL), cR = lead_cos(tR, g->h[n], c->V[1], E, &sR);
   int openL = sL > 0, openR = sR > 0;
@@ -138,22 +201,7 @@ static double shoot(ew_continuum *c, double E) {
   if (openL) pm[0] = -sL, p0[0] = 0.0, pm[1] = cL, p0[1] = 1.0;
   else pm[0] = decaying(cL), p0[0] = 1.0;
   for (int s = 0; s < ns; s++) l0[s][0] = pm[s], l0[s][1] = p0[s];
-  double off_prev = -tL;
-  for (size_t i = 0; i < n; i++) {
-    double off = -K / M[i + 1], diag = K / M[i] + K / M[i + 1] + g->w[i] * (V[i] - E);
-    double wz = g->w[i] * (g->z[i] - c->zbar) * c->psi[i];
-    for (int s = 0; s < ns; s++) {
-      d[s] += wz * p0[s];
-      double p1 = -(off_prev * pm[s] + diag * p0[s]) / off;
-      pm[s] = p0[s];
-      p0[s] = p1;
-      if (fabs(p1) > CT_RESCALE) { /* d^T G⁻¹ d does not change when a solution is scaled */
-        pm[s] /= CT_RESCALE, p0[s] /= CT_RESCALE, d[s] /= CT_RESCALE;
-        l0[s][0] /= CT_RESCALE, l0[s][1] /= CT_RESCALE;
-      }
-    }
-    off_prev = off;
-  }
+  shoot_rows(c, E, ns, pm, p0, l0, d);
   /* pm, p0: the samples at nodes n−1 and n (the right lead's first two nodes) */
   double G[2][2] = {{0, 0}, {0, 0}};
   if (openL && !openR) { /* one state: the combination decaying into the right lead */
@@ -210,7 +258,7 @@ static double integrate_piece(ew_continuum *c, double a, double b) {
 double ew_continuum_oscillator_sum(ew_continuum *c) {
   const ew_grid *g = c->g;
   const size_t n = g->n;
-  if (c->kane) ew_kane_cells_eval(c->kane, fmin(c->V[0], c->V[1]), c->M);
+  if (c->kane) kane_masses(c, fmin(c->V[0], c->V[1]));
   /* the leads' band tops V + 4t/h (with the masses at the threshold: Kane masses grow with
      E, so a lead closes a little earlier, where df/dE is long negligible) */
   double top[2] = {c->V[0] + 4.0 * EW_HB2M0_EVNM2 / (c->M[0] * g->h[0]),

@@ -26,6 +26,7 @@
 #include "exciton.h"
 
 #include <math.h>
+#include <stddef.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -340,6 +341,72 @@ static void nonzero_range(const double *q, size_t M, size_t *a, size_t *b) {
     }
 }
 
+/* acc + Σ_{k=a..b} pe_k ph_{k+off}, k ascending (nothing when b < a) */
+static inline double dot_from(const double *pe, const double *ph, ptrdiff_t off, ptrdiff_t a,
+                              ptrdiff_t b, double acc) {
+  for (ptrdiff_t k = a; k <= b; k++) acc += pe[k] * ph[k + off];
+  return acc;
+}
+
+#define CORR_BLOCK 4 /* lags computed together: each pe_k loaded once for all four */
+
+/* P[m0 .. m0+CORR_BLOCK−1] (m0 > 0, all < M): for each lag the two sums of correlate in its
+ * order (k ascending over each range, the l < k sum first), the ranges' common part in one
+ * loop */
+static void correlate_block(const double *pe, const double *ph, ptrdiff_t ka, ptrdiff_t kb,
+                            ptrdiff_t la, ptrdiff_t lb, ptrdiff_t m0, double *P) {
+  double acc[CORR_BLOCK];
+  ptrdiff_t k0[CORR_BLOCK], k1[CORR_BLOCK], j0[CORR_BLOCK], j1[CORR_BLOCK];
+  for (int j = 0; j < CORR_BLOCK; j++) {
+    ptrdiff_t m = m0 + j;
+    acc[j] = 0.0;
+    k0[j] = ka > la + m ? ka : la + m, k1[j] = kb < lb + m ? kb : lb + m; /* l = k − m */
+    j0[j] = ka > la - m ? ka : la - m, j1[j] = kb < lb - m ? kb : lb - m; /* l = k + m */
+  }
+  /* l = k − m: k0, k1 grow with m; common part [k0 of the last lag, k1 of the first] */
+  ptrdiff_t c0 = k0[CORR_BLOCK - 1], c1 = k1[0];
+  if (c0 <= c1) {
+    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], c0 - 1, acc[j]);
+    double a0 = acc[0], a1 = acc[1], a2 = acc[2], a3 = acc[3];
+    for (ptrdiff_t k = c0; k <= c1; k++) {
+      double p = pe[k];
+      const double *q = ph + (k - m0); /* l = k − m0 − j ≥ la for every lag here */
+      a0 += p * q[0], a1 += p * q[-1], a2 += p * q[-2], a3 += p * q[-3];
+    }
+    acc[0] = a0, acc[1] = a1, acc[2] = a2, acc[3] = a3;
+    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), c1 + 1, k1[j], acc[j]);
+  } else
+    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], k1[j], acc[j]);
+  /* l = k + m: j0, j1 fall with m; common part [j0 of the first lag, j1 of the last] */
+  c0 = j0[0], c1 = j1[CORR_BLOCK - 1];
+  if (c0 <= c1) {
+    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], c0 - 1, acc[j]);
+    double a0 = acc[0], a1 = acc[1], a2 = acc[2], a3 = acc[3];
+    for (ptrdiff_t k = c0; k <= c1; k++) {
+      double p = pe[k];
+      const double *q = ph + (k + m0); /* l = k + m0 + j ≤ lb for every lag here */
+      a0 += p * q[0], a1 += p * q[1], a2 += p * q[2], a3 += p * q[3];
+    }
+    acc[0] = a0, acc[1] = a1, acc[2] = a2, acc[3] = a3;
+    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, c1 + 1, j1[j], acc[j]);
+  } else
+    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], j1[j], acc[j]);
+  for (int j = 0; j < CORR_BLOCK; j++) P[m0 + j] = acc[j];
+}
+
+/* P_m = Σ_k pe_k ph_{k−m} + Σ_k pe_k ph_{k+m} (m > 0) over the overlap of the supports */
+static void correlate_sums(const double *pe, const double *ph, size_t M, size_t ka, size_t kb,
+                           size_t la, size_t lb, double *P) {
+  ptrdiff_t a = (ptrdiff_t)ka, b = (ptrdiff_t)kb, c = (ptrdiff_t)la, d = (ptrdiff_t)lb;
+  P[0] = dot_from(pe, ph, 0, a > c ? a : c, b < d ? b : d, 0.0);
+  ptrdiff_t m = 1, mm = (ptrdiff_t)M;
+  for (; m + CORR_BLOCK <= mm; m += CORR_BLOCK) correlate_block(pe, ph, a, b, c, d, m, P);
+  for (; m < mm; m++) {
+    double acc = dot_from(pe, ph, -m, a > c + m ? a : c + m, b < d + m ? b : d + m, 0.0);
+    P[m] = dot_from(pe, ph, m, a > c - m ? a : c - m, b < d - m ? b : d - m, acc);
+  }
+}
+
 /* The correlation P_m = Σ_{|k−l| = m} pe_k ph_l in ws->P, normalised; 0 when empty. */
 static int correlate(ew_exciton_ws *ws, size_t M) {
   const double *pe = ws->pe, *ph = ws->ph;
@@ -348,23 +415,9 @@ static int correlate(ew_exciton_ws *ws, size_t M) {
   size_t ka, kb, la, lb;
   nonzero_range(pe, M, &ka, &kb);
   nonzero_range(ph, M, &la, &lb);
-  if (ka < M && la < M) {
-    /* P_m = Σ_k pe_k ph_{k−m} + Σ_k pe_k ph_{k+m} (m > 0): one dot product per m over the
-       overlap of the two supports, kept in a register (the scatter P[|k−l|] += … stored
-       on every step) */
-    for (size_t m = 0; m < M; m++) {
-      double acc = 0.0;
-      /* k − m = l in [la, lb], k in [ka, kb] */
-      size_t k0 = ka > la + m ? ka : la + m, k1 = kb < lb + m ? kb : lb + m;
-      for (size_t k = k0; k <= k1 && k0 <= k1; k++) acc += pe[k] * ph[k - m];
-      if (m > 0) { /* l − k = m: l = k + m in [la, lb] */
-        size_t j0 = ka + m > la ? ka : (la - m), j1 = kb + m < lb ? kb : (lb >= m ? lb - m : 0);
-        if (lb >= m && j0 <= j1)
-          for (size_t k = j0; k <= j1; k++) acc += pe[k] * ph[k + m];
-      }
-      P[m] = acc;
-    }
-  }
+  /* one dot product per m over the overlap of the two supports, kept in registers (the
+     scatter P[|k−l|] += … stored on every step), CORR_BLOCK lags at a time */
+  if (ka < M && la < M) correlate_sums(pe, ph, M, ka, kb, la, lb, P);
   double tot = 0.0;
   for (size_t m = 0; m < M; m++) tot += P[m];
   if (!(tot > 0)) return 0;

@@ -63,7 +63,8 @@
  * the quantum density predicted from the last Schrödinger solve (at U_S) by shifting each
  * subband locally with the potential change, E_i → E_i + (U(z) − U_S(z)) in the term weighted
  * by |ψ_i(z)|²: the density stays a local function of U, so the Jacobian of each Newton
- * iteration is tridiagonal (solved through ew_sparse_tridiag_solve, SuperLU).  Then the
+ * iteration is tridiagonal (solved by newton_lu below, SuperLU's arithmetic without its set-up;
+ * ew_sparse_tridiag_solve, SuperLU, where a pivot would be exchanged).  Then the
  * Schrödinger equation is solved again at the new U.  Converged when max|ΔU| < 1e-6 eV
  * between outer iterations, at most 100 of them; each Newton solve is damped (steps of at
  * most 0.1 eV per node, halved while the residual norm grows) and bounded.
@@ -80,6 +81,8 @@
 #include "polarization.h"
 
 #include <math.h>
+#include <stddef.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -191,6 +194,7 @@ typedef struct {
   double Nc, Nvh, Nvl;    /* effective densities of states at T, nm^-3 */
   double ND, NA;          /* nm^-3 */
   double Ed, Ea;          /* ionisation energies, eV (0: fully ionised) */
+  int same_prev;          /* Ec … Ea those of the half before it, bit for bit (rho_memo) */
 } half;
 
 typedef struct {
@@ -381,32 +385,36 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   return p - n + nd - na;
 }
 
-/* The last half_rho of bulk_charges with its inputs bit for bit (the edges, densities and
- * dopants of the half, U, E_F and the windows): the two halves of a node inside one layer
- * give the same inputs, and the same bits come out without a second evaluation. */
-#define RHO_KEY 17
+/* The last half_rho of bulk_charges with its inputs bit for bit: the two halves of a node
+ * inside one layer (same_prev) at the node's U, E_F and windows give the same bits without a
+ * second evaluation, as do neighbouring nodes of a layer at the same U (a flat start).  Only
+ * the half just before is compared (flags set once per model). */
 typedef struct {
-  double key[RHO_KEY];
-  int valid;
+  size_t j; /* the half evaluated last, SIZE_MAX: none */
+  int has_w;
+  double U, EF, W[EW_BAND_COUNT];
   double rho, d, pp[4];
 } rho_memo;
 
-static int rho_memo_hit(rho_memo *c, const half *h, double U, double EF, const double *W,
-                        double *rho, double *d, double pp[4]) {
-  double key[RHO_KEY] = {h->Ec, h->Evh, h->Evl, h->Evtop, h->Nc, h->Nvh, h->Nvl, h->ND, h->NA,
-                         h->Ed, h->Ea, U, EF, W ? 1.0 : 0.0, W ? W[0] : 0.0, W ? W[1] : 0.0,
-                         W ? W[2] : 0.0};
-  /* W[EW_BAND_COUNT] (the hand-over width) is the same for every half of one call */
-  int hit = c->valid && memcmp(key, c->key, sizeof key) == 0;
-  memcpy(c->key, key, sizeof key);
-  if (!hit) return 0;
-  *rho = c->rho, *d = c->d;
-  memcpy(pp, c->pp, sizeof c->pp);
+static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
+
+/* W[EW_BAND_COUNT] (the hand-over width) is the same for every half of one call */
+static int rho_memo_hit(rho_memo *c, const model *m, size_t j, double U, double EF,
+                        const double *W) {
+  if (c->j == SIZE_MAX || c->j + 1 != j || !m->hc[j].same_prev || !same_bits(U, c->U) ||
+      !same_bits(EF, c->EF) || c->has_w != (W != NULL))
+    return 0;
+  for (int b = 0; W && b < EW_BAND_COUNT; b++)
+    if (!same_bits(W[b], c->W[b])) return 0;
+  c->j = j; /* the same inputs: the memo now stands for half j, compared with the next one */
   return 1;
 }
 
-static void rho_memo_store(rho_memo *c, double rho, double d, const double pp[4]) {
-  c->valid = 1, c->rho = rho, c->d = d;
+static void rho_memo_store(rho_memo *c, size_t j, double U, double EF, const double *W,
+                           double rho, double d, const double pp[4]) {
+  c->j = j, c->U = U, c->EF = EF, c->has_w = W != NULL;
+  for (int b = 0; W && b < EW_BAND_COUNT; b++) c->W[b] = W[b];
+  c->rho = rho, c->d = d;
   memcpy(c->pp, pp, sizeof c->pp);
 }
 
@@ -415,7 +423,7 @@ static void rho_memo_store(rho_memo *c, double rho, double d, const double pp[4]
 static void bulk_charges(const model *m, const snap *s, double EF0, const double *U, double *q,
                          double *dq, double *const parts[4]) {
   const double kT = m->kT;
-  rho_memo mm = {{0}, 0, 0, 0, {0}};
+  rho_memo mm = {SIZE_MAX, 0, 0, 0, {0}, 0, 0, {0}};
   for (size_t i = 0; i < m->n; i++) {
     double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
     double pa[4] = {0, 0, 0, 0};
@@ -430,9 +438,12 @@ static void bulk_charges(const model *m, const snap *s, double EF0, const double
       const half *h = &m->hc[2 * i + k];
       if (h->len <= 0) continue;
       double d, pp[4], rho;
-      if (rho_memo_hit(&mm, h, U[i], EF, s ? Wl : NULL, &rho, &d, pp) == 0) {
+      if (rho_memo_hit(&mm, m, 2 * i + k, U[i], EF, s ? Wl : NULL)) {
+        rho = mm.rho, d = mm.d;
+        memcpy(pp, mm.pp, sizeof pp);
+      } else {
         rho = half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
-        rho_memo_store(&mm, rho, d, pp);
+        rho_memo_store(&mm, 2 * i + k, U[i], EF, s ? Wl : NULL, rho, d, pp);
       }
       qi += h->len * rho;
       di += h->len * d;
@@ -520,6 +531,35 @@ typedef struct {
   double *q, *dq, *R, *lo, *di, *up, *x, *Ut;
 } work;
 
+/* The Newton system lo/di/up x = rhs (x in place) by Gaussian elimination on the tridiagonal,
+ * in the very operations SuperLU's partial-pivoting LU and triangular solves make when no row
+ * is exchanged (dpivotL scales the column by 1/pivot; dgstrs divides by the diagonal), so the
+ * bits are those of ew_sparse_tridiag_solve, without its per-call set-up (allocations, column
+ * order, symbolic factorisation: 3.5M instructions per call on the doped detector against
+ * 2·10⁴).  The Jacobian is an M-matrix (diagonal ≤ −(off-diagonals), dq ≥ 0) so no row is
+ * exchanged; where one would be (|sub-diagonal| > |pivot|), or anything is not finite, the
+ * system goes to SuperLU as before.  piv[n] is scratch. */
+static ew_status newton_lu(size_t n, const double *lo, const double *di, const double *up,
+                           double *x, double *piv, ew_error *err) {
+  int ok = n >= 2;
+  for (size_t i = 0; ok && i < n; i++) {
+    double u = i ? di[i] - lo[i - 1] * (1.0 / piv[i - 1]) * up[i - 1] : di[0];
+    piv[i] = u;
+    ok = isfinite(u) && u != 0.0 && isfinite(x[i]) && (i + 1 == n || fabs(lo[i]) <= fabs(u));
+  }
+  if (!ok) return ew_sparse_tridiag_solve(n, lo, di, up, x, err);
+  for (size_t i = 1; i < n; i++) x[i] -= lo[i - 1] * (1.0 / piv[i - 1]) * x[i - 1];
+  x[n - 1] /= piv[n - 1];
+  for (size_t i = n - 1; i-- > 0;) {
+    x[i] -= up[i] * x[i + 1];
+    x[i] /= piv[i];
+  }
+  for (size_t i = 0; i < n; i++)
+    if (!isfinite(x[i]))
+      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "tridiagonal solve: non-finite solution");
+  return EW_OK;
+}
+
 /* One nonlinear Poisson solve for U (in place) at fixed E_F with the predicted densities. */
 static ew_status poisson_step(const model *m, const snap *s, double EF0, double *U, work *wk,
                               int outer, ew_error *err) {
@@ -536,7 +576,8 @@ static ew_status poisson_step(const model *m, const snap *s, double EF0, double 
       wk->x[i] = -wk->R[i];
       if (i + 1 < n) wk->lo[i] = wk->up[i] = m->ec[i + 1];
     }
-    ew_status rc = ew_sparse_tridiag_solve(n, wk->lo, wk->di, wk->up, wk->x, err);
+    /* wk->Ut is free until the step is taken: the pivots */
+    ew_status rc = newton_lu(n, wk->lo, wk->di, wk->up, wk->x, wk->Ut, err);
     if (rc != EW_OK) return rc;
     double mx = 0.0;
     for (size_t i = 0; i < n; i++) mx = fmax(mx, fabs(wk->x[i]));
@@ -642,6 +683,10 @@ static void fill_cells_and_boxes(model *m, const ew_grid *g) {
     m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
     m->box[i] = b - a;
   }
+  /* the static inputs of half_rho (Ec … Ea, contiguous doubles) shared with the half before */
+  const size_t from = offsetof(half, Ec), len = offsetof(half, Ea) + sizeof(double) - from;
+  for (size_t j = 1; j < 2 * n; j++)
+    m->hc[j].same_prev = memcmp((const char *)&m->hc[j] + from, (const char *)&m->hc[j - 1] + from, len) == 0;
 }
 
 /* Delta layers on the node nearest their layer's centre. */
