@@ -536,6 +536,38 @@ ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *gues
   return EW_OK;
 }
 
+ew_status ew_eigen_indices(const ew_pencil *p, size_t first, size_t k, double lo, double hi,
+                           double tol_eV, double *values, size_t *counts, ew_error *err) {
+  size_t dummy = 0;
+  if (!counts) counts = &dummy;
+  tri t;
+  if (!tri_init(&t, p)) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (eigenvalues)");
+  for (size_t j = 0; j < k; j++) values[j] = NAN;
+  size_t want = first + k < t.n ? first + k : t.n; /* indices the pencil has */
+  if (k == 0 || first >= want) return EW_OK;
+  /* a window [a, b) from lo, hi holding the indices first … want − 1 (widened when not) */
+  double w = fmax(hi - lo, 1e-3), a = lo, b = hi;
+  size_t ca = tri_count(&t, a), cb = tri_count(&t, b);
+  *counts += 2;
+  for (int it = 0; it < 200 && ca > first; it++, w *= 2) ca = tri_count(&t, a -= w), (*counts)++;
+  for (int it = 0; it < 200 && cb < want; it++, w *= 2) cb = tri_count(&t, b += w), (*counts)++;
+  const double res = 16.0 * DBL_EPSILON * t.norm, tol = fmax(tol_eV, 4.0 * DBL_EPSILON * t.norm);
+  slice *sl = NULL;
+  size_t ns = ca <= first && cb >= want ? isolate(&t, a, b, ca, cb, res, &sl, counts) : 0;
+  if (ns == (size_t)-1) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (eigenvalues)");
+  for (size_t q = 0; q < ns; q++) {
+    slice *c = &sl[q];
+    if (c->cb <= first || c->ca >= want) continue;
+    double v;
+    if (c->cb - c->ca == 1) v = refine_newton(&t, c, tol, counts);
+    else narrow(&t, c, tol, counts), v = 0.5 * (c->a + c->b);
+    for (size_t m = c->ca; m < c->cb; m++)
+      if (m >= first && m < want) values[m - first] = v;
+  }
+  free(sl);
+  return EW_OK;
+}
+
 double ew_eigen_index(const ew_pencil *p, size_t idx, double guess, double tol_eV,
                       size_t *counts) {
   size_t dummy = 0;

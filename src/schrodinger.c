@@ -88,8 +88,8 @@ static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band, p
   }
   if (band == EW_BAND_E && ew_nonparabolic_applies(r->stack)) {
     ew_pencil_free(p);
-    ew_status rc = ew_nonparabolic_levels(r->stack, g, coarse, lo, top, fine, coarse_vals,
-                                          &r->work_counts, err);
+    ew_status rc = ew_nonparabolic_levels_lu(r->stack, g, coarse, lo, top, pass_lu_get(ws, g->n),
+                                             fine, coarse_vals, &r->work_counts, err);
     *n_coarse = rc == EW_OK && coarse ? fine->count : 0;
     r->nonparabolic = rc == EW_OK;
     return rc;
