@@ -102,7 +102,8 @@ static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
     for (size_t k = k0; k < st->n_layers; k++) {
       const ew_layer *ly = &st->layers[k];
       if (ly->z_start_nm >= b) break;
-      double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
+      double z0 = ly->z_start_nm, z1 = z0 + ly->thickness_nm; /* finite: no fmax/fmin calls */
+      double lo = a > z0 ? a : z0, hi = b < z1 ? b : z1;
       if (hi <= lo) continue;
       double zm = 0.5 * (lo + hi), u = 0.0;
       ew_bands tmp;
@@ -191,19 +192,46 @@ void ew_kane_cells_free(ew_kane_cells *k) {
   free(k);
 }
 
+/* Q_c = ∫_c m0/m∥ dz of a parabolic band: the pieces of ctx_build (the same lengths and
+ * masses, summed in the same order) without building the context. */
+static void inplane_cells(const ew_stack *st, const ew_grid *g, ew_band band, double *Q) {
+  size_t n = g->n, k0 = 0;
+  memset(Q, 0, (n + 1) * sizeof *Q);
+  for (size_t cc = 0; cc <= n; cc++) {
+    double a = cc == 0 ? 0.0 : g->z[cc - 1], b = cc == n ? g->length_nm : g->z[cc];
+    while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
+    for (size_t k = k0; k < st->n_layers; k++) {
+      const ew_layer *ly = &st->layers[k];
+      if (ly->z_start_nm >= b) break;
+      double z0 = ly->z_start_nm, z1 = z0 + ly->thickness_nm;
+      double lo = a > z0 ? a : z0, hi = b < z1 ? b : z1;
+      if (hi <= lo) continue;
+      ew_bands tmp;
+      const ew_bands *bb = &ly->bands;
+      if (ly->profile) {
+        ew_layer_bands_at(ly, (0.5 * (lo + hi) - z0) / ly->thickness_nm, &tmp);
+        bb = &tmp;
+      }
+      Q[cc] += (hi - lo) / (band == EW_BAND_E ? bb->me : band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par);
+    }
+  }
+}
+
 int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int nonparabolic,
                       size_t count, const double *E, const double *psi, double *out,
                       double *trk) {
   size_t n = g->n, nc = n + 1;
   if (!count) return 1;
-  double *w = malloc(3 * nc * sizeof *w);
+  int kane = band == EW_BAND_E && nonparabolic;
+  double *w = malloc((kane ? 3 : 1) * nc * sizeof *w);
   np_ctx c;
-  if (!w || !ctx_build(&c, st, g)) {
+  memset(&c, 0, sizeof c);
+  if (!w || (kane && !ctx_build(&c, st, g))) {
     free(w);
     return 0;
   }
-  double *M = w, *dM = w + nc, *Q = w + 2 * nc;
-  if (band == EW_BAND_E && nonparabolic) {
+  double *M = w, *dM = w + nc, *Q = kane ? w + 2 * nc : w;
+  if (kane) {
     for (size_t j = 0; j < count; j++) {
       const double *v = psi + j * n;
       ctx_eval(&c, E[j], M, dM, Q);
@@ -211,9 +239,7 @@ int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int no
       if (trk) trk[j] = ew_obs_inverse_mass_M(g, M, v);
     }
   } else { /* parabolic: Q_c once for the band (m_e, or the holes' Luttinger in-plane masses) */
-    memset(Q, 0, nc * sizeof *Q);
-    for (size_t k = 0; k < c.n; k++)
-      Q[c.cell[k]] += c.len[k] / (band == EW_BAND_E ? c.me[k] : band == EW_BAND_HH ? c.mhp[k] : c.mlp[k]);
+    inplane_cells(st, g, band, Q);
     for (size_t j = 0; j < count; j++) {
       out[j] = 1.0 / inverse_mass_of(n, Q, psi + j * n);
       if (trk) trk[j] = ew_obs_inverse_mass(g, band, psi + j * n);
