@@ -301,6 +301,44 @@ static void eigenvalues_by_index(void **state) {
   tu_stack_free(st);
 }
 
+/* ---- 4c. coarse-grid values from the fine vectors (ew_eigen_values_near_fine) -------------
+ * Source: analytic, the exact discrete spectrum of test 1 (G. Strang, Introduction to Applied
+ * Mathematics (1986), §1.5) on the coarse grid of N cells, from the eigenvectors of the fine
+ * grid of 2N cells read at every second node (coarse node i = fine node 2i + 1): within
+ * 1e-12 relative (the method's tolerance 1e-11 eV is met by Newton where the Kato–Temple bound
+ * is not tight).  A fine size that is not 2n + 1 or more is refused. */
+static void coarse_values_from_fine(void **state) {
+  (void)state;
+  tu_layer ly[] = {{10.0, 0.0, -1.0, 0.067, 0.35, 0.09}};
+  ew_stack *st = tu_stack(1, ly);
+  ew_grid *gf = ew_grid_uniform(st, 400), *gc = ew_grid_uniform(st, 200);
+  ew_pencil *pf = ew_pencil_build(gf, EW_BAND_E), *pc = ew_pencil_build(gc, EW_BAND_E);
+  ew_eigenpairs ep;
+  assert_int_equal(ew_eigen_window(pf, -0.1, 2.0, 1, &ep, NULL), EW_OK);
+  assert_true(ep.count >= 5);
+  double v[16], h = 10.0 / 200, m = 0.067, L = 10.0;
+  size_t k = ep.count < 16 ? ep.count : 16, counts = 0;
+  assert_int_equal(ew_eigen_values_near_fine(pc, -0.1, ep.vectors, pf->n, k, 1e-11, v, &counts,
+                                             NULL), EW_OK);
+  /* the sampled fine sines are the coarse grid's exact eigenvectors (same z): every value is
+     certified by Kato–Temple, one count at lo and two per value, no Newton fallback (which a
+     wrong sampling node would need) */
+  assert_int_equal((int)counts, (int)(1 + 2 * k));
+  for (size_t j = 0; j < k; j++) {
+    double disc = 2 * K / (m * h * h) * (1 - cos((double)(j + 1) * M_PI * h / L));
+    TU_NEAR(v[j], disc, 1e-12 * disc + 1e-11, "exact discrete eigenvalue of the coarse grid");
+  }
+  ew_error e = {0};
+  assert_int_equal(ew_eigen_values_near_fine(pc, -0.1, ep.vectors, 2 * pc->n, k, 1e-11, v, NULL,
+                                             &e), EW_ERR_NUMERIC);
+  ew_eigenpairs_free(&ep);
+  ew_pencil_free(pf);
+  ew_pencil_free(pc);
+  ew_grid_free(gf);
+  ew_grid_free(gc);
+  tu_stack_free(st);
+}
+
 /* ---- 5. Thomas–Reiche–Kuhn sum rule ---------------------------------------------------------
  * Source: M. Helm, Semicond. Semimet. 62, 1 (2000): Σ_j f_ij = 1 for constant mass.  Over the
  * complete discrete spectrum (LAPACK dstev with vectors) the sum is 1 to 1e-9, for constant
@@ -432,6 +470,7 @@ int main(void) {
       cmocka_unit_test(second_order_convergence),
       cmocka_unit_test(lapack_single_and_double_wells),
       cmocka_unit_test(eigenvalues_by_index),
+      cmocka_unit_test(coarse_values_from_fine),
       cmocka_unit_test(trk_sum_rule),
       cmocka_unit_test(states_and_parity),
       cmocka_unit_test(bad_grid_step_refused),
