@@ -327,12 +327,15 @@ static ew_status level_energies(np_ctx *cf, np_ctx *cc, size_t clo, size_t nb,
   ew_pencil *pp = ew_pencil_build(cf->g, EW_BAND_E);
   if (!pp) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   ew_status rc = ew_eigen_indices(pp, clo, nb, lo, top, 1e-9, E, work_counts, err);
+  double fine_slope = 0.0;
   for (size_t j = 0; j < nb && rc == EW_OK; j++) {
     size_t idx = clo + j;
     double start = E[j], step;
     if (!isfinite(start) || start > top) start = top;
-    double slope = 0.0;
+    /* the previous level's slope starts the secant (levels of one band have similar ones) */
+    double slope = fine_slope;
     int fp = fixed_point(cf, idx, start, M, work_counts, &E[j], &step, &slope), fc = 0;
+    fine_slope = slope;
     if (fp == 0 && cc && idx >= cc->g->n) cv[j] = NAN; /* the coarse grid cannot hold it */
     else if (fp == 0 && cc) fc = fixed_point(cc, idx, E[j], M, work_counts, &cv[j], &step, &slope);
     if (fp < 0 || fc < 0)
