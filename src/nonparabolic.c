@@ -212,7 +212,8 @@ static void inplane_cells(const ew_stack *st, const ew_grid *g, ew_band band, do
         ew_layer_bands_at(ly, (0.5 * (lo + hi) - z0) / ly->thickness_nm, &tmp);
         bb = &tmp;
       }
-      Q[cc] += (hi - lo) / (band == EW_BAND_E ? bb->me : band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par);
+      double m = band == EW_BAND_E ? bb->me : band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
+      Q[cc] += (hi - lo) / m;
     }
   }
 }
@@ -457,8 +458,8 @@ ew_status ew_nonparabolic_levels_lu(const ew_stack *st, const ew_grid *g, const 
   /* one factorization workspace for every level's vectors (the caller's when it fits) */
   ew_shift_lu *own = NULL, *lu = given && ew_shift_lu_size(given) == g->n ? given : NULL;
   if (!lu && g->n >= 2) lu = own = ew_shift_lu_create(g->n);
-  if (!M || (!lu && g->n >= 2) || !ctx_build(&cf, st, g) || (coarse && !ctx_build(&cc, st, coarse)) ||
-      !(pt = ctx_pencil(&cf, top, M))) {
+  if (!M || (!lu && g->n >= 2) || !ctx_build(&cf, st, g) ||
+      (coarse && !ctx_build(&cc, st, coarse)) || !(pt = ctx_pencil(&cf, top, M))) {
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic masses)");
     goto done;
   }

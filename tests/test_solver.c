@@ -293,7 +293,8 @@ static void eigenvalues_by_index(void **state) {
   }
   assert_int_equal(LAPACKE_dstev(LAPACK_COL_MAJOR, 'N', (lapack_int)n, d, e, NULL, 1), 0);
   assert_int_equal(ew_eigen_indices(p, 0, 5, -1e-6, 0.01, 1e-13, u, NULL, NULL), EW_OK);
-  for (int j = 0; j < 5; j++) TU_NEAR(u[j], d[j], 64.0 * n * DBL_EPSILON * tn, "LAPACK dstev by index");
+  for (int j = 0; j < 5; j++)
+    TU_NEAR(u[j], d[j], 64.0 * n * DBL_EPSILON * tn, "LAPACK dstev by index");
   free(d);
   free(e);
   ew_pencil_free(p);
