@@ -488,33 +488,27 @@ static double newton_index(const tri *t, size_t idx, double x0, double w, double
   return isfinite(mid) ? mid : NAN; /* never an infinity: NaN is "not found" to callers */
 }
 
-ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *guess, size_t k,
-                               double tol_eV, double *values, size_t *counts, ew_error *err) {
-  size_t n = p->n, dummy = 0;
-  if (!counts) counts = &dummy;
-  tri t;
-  double *theta = malloc((k ? k : 1) * sizeof *theta), *rho2 = malloc((k ? k : 1) * sizeof *rho2);
-  if (!tri_init(&t, p) || !theta || !rho2) {
-    tri_free(&t);
-    free(theta);
-    free(rho2);
-    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (coarse eigenvalues)");
+/* The Rayleigh quotient θ of x and its residual norm ‖Hx − θBx‖²_{B⁻¹} / xᵀBx. */
+static void rayleigh(const ew_pencil *p, const double *x, double *theta, double *rho2) {
+  size_t n = p->n;
+  double xbx = bdot(p, x, x), th = hquad(p, x) / xbx, r2 = 0.0;
+  for (size_t i = 0; i < n; i++) {
+    double hx = p->diag[i] * x[i];
+    if (i > 0) hx += p->off[i - 1] * x[i - 1];
+    if (i + 1 < n) hx += p->off[i] * x[i + 1];
+    double r = hx - th * p->b[i] * x[i];
+    r2 += r * r / p->b[i];
   }
-  double res_tol = fmax(tol_eV, 16.0 * DBL_EPSILON * t.norm);
-  for (size_t j = 0; j < k; j++) { /* Rayleigh quotients and residual norms ‖r‖²_{B⁻¹} */
-    const double *x = guess + j * n;
-    double xbx = bdot(p, x, x), th = hquad(p, x) / xbx, r2 = 0.0;
-    for (size_t i = 0; i < n; i++) {
-      double hx = p->diag[i] * x[i];
-      if (i > 0) hx += p->off[i - 1] * x[i - 1];
-      if (i + 1 < n) hx += p->off[i] * x[i + 1];
-      double r = hx - th * p->b[i] * x[i];
-      r2 += r * r / p->b[i];
-    }
-    theta[j] = th;
-    rho2[j] = r2 / xbx;
-  }
-  size_t clo = tri_count(&t, lo);
+  *theta = th;
+  *rho2 = r2 / xbx;
+}
+
+/* The certified values from the Rayleigh quotients theta[k] and residuals rho2[k] (see
+ * ew_eigen_values_near). */
+static void values_near(const tri *t, double lo, const double *theta, const double *rho2,
+                        size_t k, double tol_eV, double *values, size_t *counts) {
+  double res_tol = fmax(tol_eV, 16.0 * DBL_EPSILON * t->norm);
+  size_t clo = tri_count(t, lo);
   (*counts)++;
   for (size_t j = 0; j < k; j++) {
     double left = j > 0 ? theta[j] - theta[j - 1] : theta[j] - lo;
@@ -522,17 +516,90 @@ ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *gues
     double gam = 0.5 * fmin(left, right);
     int ok = gam > 0 && rho2[j] / gam <= res_tol;
     if (ok) {
-      size_t ca = tri_count(&t, theta[j] - gam), cb = tri_count(&t, theta[j] + gam);
+      size_t ca = tri_count(t, theta[j] - gam), cb = tri_count(t, theta[j] + gam);
       *counts += 2;
       ok = ca == clo + j && cb == ca + 1;
     }
     values[j] = ok ? theta[j]
-                   : newton_index(&t, clo + j, theta[j], fmax(gam, 1e-9),
-                                  fmax(tol_eV, 4.0 * DBL_EPSILON * t.norm), counts);
+                   : newton_index(t, clo + j, theta[j], fmax(gam, 1e-9),
+                                  fmax(tol_eV, 4.0 * DBL_EPSILON * t->norm), counts);
   }
+}
+
+/* Both forms below: the guesses' Rayleigh quotients, then values_near.  fine == NULL: guess
+ * holds k vectors of p->n; else vector j is fine[j·nf + 2i + 1], i < p->n (sampled into a
+ * scratch vector one at a time). */
+static ew_status values_near_from(const ew_pencil *p, double lo, const double *guess,
+                                  const double *fine, size_t nf, size_t k, double tol_eV,
+                                  double *values, size_t *counts, ew_error *err) {
+  size_t n = p->n, dummy = 0;
+  if (!counts) counts = &dummy;
+  tri t;
+  double *theta = malloc((k ? k : 1) * sizeof *theta), *rho2 = malloc((k ? k : 1) * sizeof *rho2);
+  double *x = fine ? malloc(n * sizeof *x) : NULL;
+  if (!tri_init(&t, p) || !theta || !rho2 || (fine && !x)) {
+    tri_free(&t);
+    free(theta);
+    free(rho2);
+    free(x);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (coarse eigenvalues)");
+  }
+  for (size_t j = 0; j < k; j++) {
+    if (fine)
+      for (size_t i = 0; i < n; i++) x[i] = fine[j * nf + 2 * i + 1];
+    rayleigh(p, fine ? x : guess + j * n, &theta[j], &rho2[j]);
+  }
+  values_near(&t, lo, theta, rho2, k, tol_eV, values, counts);
   tri_free(&t);
   free(theta);
   free(rho2);
+  free(x);
+  return EW_OK;
+}
+
+ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *guess, size_t k,
+                               double tol_eV, double *values, size_t *counts, ew_error *err) {
+  return values_near_from(p, lo, guess, NULL, 0, k, tol_eV, values, counts, err);
+}
+
+ew_status ew_eigen_values_near_fine(const ew_pencil *p, double lo, const double *fine,
+                                    size_t nf, size_t k, double tol_eV, double *values,
+                                    size_t *counts, ew_error *err) {
+  if (nf < 2 * p->n + 1)
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "coarse grid of %zu nodes is not every second "
+                   "node of %zu", p->n, nf);
+  return values_near_from(p, lo, NULL, fine, nf, k, tol_eV, values, counts, err);
+}
+
+ew_status ew_eigen_indices(const ew_pencil *p, size_t first, size_t k, double lo, double hi,
+                           double tol_eV, double *values, size_t *counts, ew_error *err) {
+  size_t dummy = 0;
+  if (!counts) counts = &dummy;
+  tri t;
+  if (!tri_init(&t, p)) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (eigenvalues)");
+  for (size_t j = 0; j < k; j++) values[j] = NAN;
+  size_t want = first + k < t.n ? first + k : t.n; /* indices the pencil has */
+  if (k == 0 || first >= want) return EW_OK;
+  /* a window [a, b) from lo, hi holding the indices first … want − 1 (widened when not) */
+  double w = fmax(hi - lo, 1e-3), a = lo, b = hi;
+  size_t ca = tri_count(&t, a), cb = tri_count(&t, b);
+  *counts += 2;
+  for (int it = 0; it < 200 && ca > first; it++, w *= 2) ca = tri_count(&t, a -= w), (*counts)++;
+  for (int it = 0; it < 200 && cb < want; it++, w *= 2) cb = tri_count(&t, b += w), (*counts)++;
+  const double res = 16.0 * DBL_EPSILON * t.norm, tol = fmax(tol_eV, 4.0 * DBL_EPSILON * t.norm);
+  slice *sl = NULL;
+  size_t ns = ca <= first && cb >= want ? isolate(&t, a, b, ca, cb, res, &sl, counts) : 0;
+  if (ns == (size_t)-1) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (eigenvalues)");
+  for (size_t q = 0; q < ns; q++) {
+    slice *c = &sl[q];
+    if (c->cb <= first || c->ca >= want) continue;
+    double v;
+    if (c->cb - c->ca == 1) v = refine_newton(&t, c, tol, counts);
+    else narrow(&t, c, tol, counts), v = 0.5 * (c->a + c->b);
+    for (size_t m = c->ca; m < c->cb; m++)
+      if (m >= first && m < want) values[m - first] = v;
+  }
+  free(sl);
   return EW_OK;
 }
 

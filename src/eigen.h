@@ -63,6 +63,23 @@ void ew_eigenpairs_free(ew_eigenpairs *e);
 ew_status ew_eigen_values_near(const ew_pencil *p, double lo, const double *guess, size_t k,
                                double tol_eV, double *values, size_t *counts, ew_error *err);
 
+/* The k eigenvalues of p with 0-based indices first … first + k − 1 counted from −∞, all at
+ * once: one bisection on the count isolates them (from the window lo < hi, widened when it
+ * does not hold them), then Newton on the LDLᵀ recurrence inside each one's interval
+ * (bisection for an unresolvable cluster), accurate to tol_eV.  values[k]; NAN for an index
+ * the pencil does not have.  counts (may be NULL) is incremented by the counts used.
+ * EW_OK or EW_ERR_NOMEM. */
+ew_status ew_eigen_indices(const ew_pencil *p, size_t first, size_t k, double lo, double hi,
+                           double tol_eV, double *values, size_t *counts, ew_error *err);
+
+/* The same with the guesses read off fine-grid vectors instead of copied: guess j at coarse
+ * node i is fine[j·nf + 2i + 1] (the coarse grid of every second node, nf >= 2 p->n + 1), so
+ * that no copy of k coarse vectors is held (the superlattice's peak memory).  Same values
+ * as ew_eigen_values_near on the sampled copy; EW_ERR_NUMERIC when nf is too small. */
+ew_status ew_eigen_values_near_fine(const ew_pencil *p, double lo, const double *fine,
+                                    size_t nf, size_t k, double tol_eV, double *values,
+                                    size_t *counts, ew_error *err);
+
 /* Number of eigenvalues of the pencil below sigma (inertia of H − σB). */
 size_t ew_eigen_count_below(const ew_pencil *p, double sigma);
 

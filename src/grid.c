@@ -62,7 +62,8 @@ static double integrate(const ew_stack *st, ew_band band, int what, double a, do
     const ew_layer *ly = &st->layers[k];
     double z0 = ly->z_start_nm, t = ly->thickness_nm;
     if (z0 >= b) break;
-    double lo = fmax(a, z0), hi = fmin(b, z0 + t);
+    /* finite positions: comparisons, not fmax/fmin calls (this runs per cell, band, grid) */
+    double lo = a > z0 ? a : z0, hi = b < z0 + t ? b : z0 + t;
     if (hi <= lo) continue;
     if (!ly->profile) {
       double e = ew_layer_edge(ly, band);

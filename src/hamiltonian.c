@@ -35,6 +35,12 @@ ew_pencil *ew_pencil_build_mass(const ew_grid *g, ew_band band, const double *M)
     ew_pencil_free(p);
     return NULL;
   }
+  ew_pencil_refill_mass(p, g, band, M);
+  return p;
+}
+
+void ew_pencil_refill_mass(ew_pencil *p, const ew_grid *g, ew_band band, const double *M) {
+  size_t n = g->n;
   const double K = EW_HB2M0_EVNM2;
   const double *V = g->pot[band];
   /* one pass (the values are finite: plain comparisons instead of fmin/fmax calls, and each
@@ -64,7 +70,6 @@ ew_pencil *ew_pencil_build_mass(const ew_grid *g, ew_band band, const double *M)
   p->vmax = vmax;
   p->std_pivmin = DBL_MIN * fmax(1.0, emax);
   p->std_norm = norm;
-  return p;
 }
 
 double ew_pencil_residual(const ew_pencil *p, const double *x, double e) {

@@ -25,6 +25,9 @@ typedef struct {
 ew_pencil *ew_pencil_build(const ew_grid *g, ew_band band);
 /* The same with the cell mass integrals M[n+1] given (energy-dependent masses). */
 ew_pencil *ew_pencil_build_mass(const ew_grid *g, ew_band band, const double *M);
+/* Refill a pencil of g's size (p->n == g->n) with the masses M[n+1]: what _build_mass does
+ * without allocating (the Kane iterations evaluate one pencil at many energies). */
+void ew_pencil_refill_mass(ew_pencil *p, const ew_grid *g, ew_band band, const double *M);
 void ew_pencil_free(ew_pencil *p);
 /* r = Hx − e·Bx; returns ||r||_2 / (||H||_∞ ||x||_2), the relative residual. */
 double ew_pencil_residual(const ew_pencil *p, const double *x, double e);

@@ -54,11 +54,13 @@ typedef struct {
   double *mhp, *mlp;                   /* hole in-plane masses */
   int *np;
   unsigned char *same; /* piece k has the mass inputs of piece k − 1 (a uniform layer) */
+  ew_pencil *pen;      /* the pencil the iterations refill at each energy (ctx_pencil) */
 } np_ctx;
 
 static void ctx_free(np_ctx *c) {
   free(c->cell), free(c->len), free(c->me), free(c->Ep), free(c->Eg), free(c->D), free(c->ec);
   free(c->mhp), free(c->mlp), free(c->np), free(c->same);
+  ew_pencil_free(c->pen);
   memset(c, 0, sizeof *c);
 }
 
@@ -100,7 +102,8 @@ static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
     for (size_t k = k0; k < st->n_layers; k++) {
       const ew_layer *ly = &st->layers[k];
       if (ly->z_start_nm >= b) break;
-      double lo = fmax(a, ly->z_start_nm), hi = fmin(b, ly->z_start_nm + ly->thickness_nm);
+      double z0 = ly->z_start_nm, z1 = z0 + ly->thickness_nm; /* finite: no fmax/fmin calls */
+      double lo = a > z0 ? a : z0, hi = b < z1 ? b : z1;
       if (hi <= lo) continue;
       double zm = 0.5 * (lo + hi), u = 0.0;
       ew_bands tmp;
@@ -189,19 +192,47 @@ void ew_kane_cells_free(ew_kane_cells *k) {
   free(k);
 }
 
+/* Q_c = ∫_c m0/m∥ dz of a parabolic band: the pieces of ctx_build (the same lengths and
+ * masses, summed in the same order) without building the context. */
+static void inplane_cells(const ew_stack *st, const ew_grid *g, ew_band band, double *Q) {
+  size_t n = g->n, k0 = 0;
+  memset(Q, 0, (n + 1) * sizeof *Q);
+  for (size_t cc = 0; cc <= n; cc++) {
+    double a = cc == 0 ? 0.0 : g->z[cc - 1], b = cc == n ? g->length_nm : g->z[cc];
+    while (k0 + 1 < st->n_layers && st->layers[k0 + 1].z_start_nm <= a) k0++;
+    for (size_t k = k0; k < st->n_layers; k++) {
+      const ew_layer *ly = &st->layers[k];
+      if (ly->z_start_nm >= b) break;
+      double z0 = ly->z_start_nm, z1 = z0 + ly->thickness_nm;
+      double lo = a > z0 ? a : z0, hi = b < z1 ? b : z1;
+      if (hi <= lo) continue;
+      ew_bands tmp;
+      const ew_bands *bb = &ly->bands;
+      if (ly->profile) {
+        ew_layer_bands_at(ly, (0.5 * (lo + hi) - z0) / ly->thickness_nm, &tmp);
+        bb = &tmp;
+      }
+      double m = band == EW_BAND_E ? bb->me : band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
+      Q[cc] += (hi - lo) / m;
+    }
+  }
+}
+
 int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int nonparabolic,
                       size_t count, const double *E, const double *psi, double *out,
                       double *trk) {
   size_t n = g->n, nc = n + 1;
   if (!count) return 1;
-  double *w = malloc(3 * nc * sizeof *w);
+  int kane = band == EW_BAND_E && nonparabolic;
+  double *w = malloc((kane ? 3 : 1) * nc * sizeof *w);
   np_ctx c;
-  if (!w || !ctx_build(&c, st, g)) {
+  memset(&c, 0, sizeof c);
+  if (!w || (kane && !ctx_build(&c, st, g))) {
     free(w);
     return 0;
   }
-  double *M = w, *dM = w + nc, *Q = w + 2 * nc;
-  if (band == EW_BAND_E && nonparabolic) {
+  double *M = w, *dM = w + nc, *Q = kane ? w + 2 * nc : w;
+  if (kane) {
     for (size_t j = 0; j < count; j++) {
       const double *v = psi + j * n;
       ctx_eval(&c, E[j], M, dM, Q);
@@ -209,9 +240,7 @@ int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int no
       if (trk) trk[j] = ew_obs_inverse_mass_M(g, M, v);
     }
   } else { /* parabolic: Q_c once for the band (m_e, or the holes' Luttinger in-plane masses) */
-    memset(Q, 0, nc * sizeof *Q);
-    for (size_t k = 0; k < c.n; k++)
-      Q[c.cell[k]] += c.len[k] / (band == EW_BAND_E ? c.me[k] : band == EW_BAND_HH ? c.mhp[k] : c.mlp[k]);
+    inplane_cells(st, g, band, Q);
     for (size_t j = 0; j < count; j++) {
       out[j] = 1.0 / inverse_mass_of(n, Q, psi + j * n);
       if (trk) trk[j] = ew_obs_inverse_mass(g, band, psi + j * n);
@@ -222,9 +251,13 @@ int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int no
   return 1;
 }
 
-static ew_pencil *pencil_at(const np_ctx *c, double E, double *M) {
+/* H(E) in the context's own pencil, refilled (allocated at the first call; freed with the
+ * context): valid until the next call.  NULL when out of memory. */
+static ew_pencil *ctx_pencil(np_ctx *c, double E, double *M) {
   ctx_eval(c, E, M, NULL, NULL);
-  return ew_pencil_build_mass(c->g, EW_BAND_E, M);
+  if (!c->pen) c->pen = ew_pencil_build_mass(c->g, EW_BAND_E, M);
+  else ew_pencil_refill_mass(c->pen, c->g, EW_BAND_E, M);
+  return c->pen;
 }
 
 /* λ_idx(H(E)) − E; *ok becomes 0 when the eigenvalue is not found, −1 when out of memory */
@@ -232,16 +265,15 @@ static ew_pencil *pencil_at(const np_ctx *c, double E, double *M) {
  * counts as reached: NP_TOL_EV, or the eigenvalue's own resolution 16 ε ‖T‖ (eigen.c) when that
  * is larger.  Near the node limit (h ≈ 2e-4 nm, ‖T‖ ≈ 4K/(m h²) ≈ 1e8 eV) λ is only known to
  * ~3e-7 eV and steps of 1e-9 eV are noise: the iteration "did not converge" (exit 6, issue 18). */
-static double gap_fn(const np_ctx *c, double E, size_t idx, double *M, size_t *counts,
-                     int *ok, double *tol) {
-  ew_pencil *p = pencil_at(c, E, M);
+static double gap_fn(np_ctx *c, double E, size_t idx, double *M, size_t *counts, int *ok,
+                     double *tol) {
+  ew_pencil *p = ctx_pencil(c, E, M);
   if (!p) {
     *ok = -1;
     return 0.0;
   }
   double lam = ew_eigen_index(p, idx, E, 1e-13, counts);
   if (tol) *tol = fmax(NP_TOL_EV, 16.0 * DBL_EPSILON * p->std_norm);
-  ew_pencil_free(p);
   if (!isfinite(lam)) *ok = 0;
   return lam - E;
 }
@@ -251,7 +283,7 @@ static double gap_fn(const np_ctx *c, double E, size_t idx, double *M, size_t *c
  * *slope (in/out): the slope of g(E) = λ(E) − E; 0 on entry means unknown (the first step is
  * then the plain fixed-point step, slope −1).  The coarse grid starts from the fine grid's
  * slope, which is nearly the same, and usually converges in two evaluations. */
-static int fixed_point(const np_ctx *c, size_t idx, double start, double *M, size_t *counts,
+static int fixed_point(np_ctx *c, size_t idx, double start, double *M, size_t *counts,
                        double *E_out, double *last_step, double *slope) {
   int ok = 1;
   double tol = NP_TOL_EV;
@@ -288,19 +320,23 @@ static int fixed_point(const np_ctx *c, size_t idx, double start, double *M, siz
 
 /* The self-consistent energy of each of the nb levels from index clo (fine grid: E[j]) and,
  * with a coarse context, the same level's coarse value cv[j]. */
-static ew_status level_energies(const np_ctx *cf, const np_ctx *cc, size_t clo, size_t nb,
+static ew_status level_energies(np_ctx *cf, np_ctx *cc, size_t clo, size_t nb,
                                 double lo, double top, double *M, double *E, double *cv,
                                 size_t *work_counts, ew_error *err) {
-  /* start each level from the parabolic value (one solve of the plain pencil) */
+  /* start each level from the parabolic value: the plain pencil's eigenvalues of the levels'
+     indices, isolated together by one bisection on the count (E is their scratch) */
   ew_pencil *pp = ew_pencil_build(cf->g, EW_BAND_E);
   if (!pp) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
-  ew_status rc = EW_OK;
+  ew_status rc = ew_eigen_indices(pp, clo, nb, lo, top, 1e-9, E, work_counts, err);
+  double fine_slope = 0.0;
   for (size_t j = 0; j < nb && rc == EW_OK; j++) {
     size_t idx = clo + j;
-    double start = ew_eigen_index(pp, idx, 0.5 * (lo + top), 1e-9, work_counts), step;
+    double start = E[j], step;
     if (!isfinite(start) || start > top) start = top;
-    double slope = 0.0;
+    /* the previous level's slope starts the secant (levels of one band have similar ones) */
+    double slope = fine_slope;
     int fp = fixed_point(cf, idx, start, M, work_counts, &E[j], &step, &slope), fc = 0;
+    fine_slope = slope;
     if (fp == 0 && cc && idx >= cc->g->n) cv[j] = NAN; /* the coarse grid cannot hold it */
     else if (fp == 0 && cc) fc = fixed_point(cc, idx, E[j], M, work_counts, &cv[j], &step, &slope);
     if (fp < 0 || fc < 0)
@@ -324,12 +360,12 @@ static ew_status level_energies(const np_ctx *cf, const np_ctx *cc, size_t clo, 
  * an arbitrary, possibly the same, vector of the pair).  A single level keeps the eigenvalue
  * of its own pencil; a cluster keeps each level's fixed point, with the residual of its
  * vector in the level's own pencil H(E_j). */
-static ew_status cluster_vectors(const np_ctx *cf, size_t idx0, size_t j0, size_t m, double *M,
-                                 ew_eigenpairs *fine, ew_error *err) {
+static ew_status cluster_vectors(np_ctx *cf, size_t idx0, size_t j0, size_t m, double *M,
+                                 ew_shift_lu *lu, ew_eigenpairs *fine, ew_error *err) {
   size_t n = cf->g->n;
   double *E = fine->values + j0, mean = 0.0;
   for (size_t r = 0; r < m; r++) mean += E[r] / (double)m;
-  ew_pencil *p = pencil_at(cf, m == 1 ? E[0] : mean, M);
+  ew_pencil *p = ctx_pencil(cf, m == 1 ? E[0] : mean, M);
   if (!p) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
   double w = 1e-4; /* a window holding exactly the cluster's indices */
   int isolated = 0;
@@ -338,7 +374,7 @@ static ew_status cluster_vectors(const np_ctx *cf, size_t idx0, size_t j0, size_
                ew_eigen_count_below(p, E[m - 1] + w) == idx0 + m;
   w *= 4.0;
   ew_eigenpairs grp;
-  ew_status rc = isolated ? ew_eigen_window(p, E[0] - w, E[m - 1] + w, 1, &grp, err)
+  ew_status rc = isolated ? ew_eigen_window_lu(p, E[0] - w, E[m - 1] + w, 1, lu, &grp, err)
                           : ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu: "
                                     "cannot isolate its eigenvalue", j0 + 1);
   if (rc == EW_OK && grp.count != m)
@@ -352,17 +388,15 @@ static ew_status cluster_vectors(const np_ctx *cf, size_t idx0, size_t j0, size_
       fine->residual[j0 + r] = ew_pencil_residual(p, v, E[r]);
       continue;
     }
-    ew_pencil *pj = pencil_at(cf, E[r], M);
+    ew_pencil *pj = ctx_pencil(cf, E[r], M); /* p is not needed any more */
     if (!pj) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
     else fine->residual[j0 + r] = ew_pencil_residual(pj, v, E[r]);
-    ew_pencil_free(pj);
   }
   if (rc == EW_OK || isolated) {
     fine->factorizations += grp.factorizations;
     fine->solves += grp.solves;
     ew_eigenpairs_free(&grp);
   }
-  ew_pencil_free(p);
   return rc;
 }
 
@@ -377,7 +411,7 @@ static ew_status cluster_vectors(const np_ctx *cf, size_t idx0, size_t j0, size_
  * wells came out 1.3e-7 non-orthogonal); the exact non-orthogonality of an energy-dependent
  * H, ψiᵀ[H(Ej) − H(Ei)]/(Ej − Ei)ψj, is that of nearly identical, nearly decoupled wells
  * here (close levels arise no other way), far below that. */
-static ew_status orthogonalize_near(const np_ctx *cf, size_t j0, size_t m, double *M,
+static ew_status orthogonalize_near(np_ctx *cf, size_t j0, size_t m, double *M,
                                     ew_eigenpairs *fine, ew_error *err) {
   size_t n = cf->g->n;
   for (size_t j = j0; j < j0 + m; j++) {
@@ -393,10 +427,9 @@ static ew_status orthogonalize_near(const np_ctx *cf, size_t j0, size_t m, doubl
       again = 1;
     }
     if (!again) continue;
-    ew_pencil *p = pencil_at(cf, fine->values[j], M);
+    ew_pencil *p = ctx_pencil(cf, fine->values[j], M);
     if (!p) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
     fine->residual[j] = ew_pencil_residual(p, x, fine->values[j]);
-    ew_pencil_free(p);
   }
   return EW_OK;
 }
@@ -404,6 +437,14 @@ static ew_status orthogonalize_near(const np_ctx *cf, size_t j0, size_t m, doubl
 ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_grid *coarse,
                                  double lo, double top, ew_eigenpairs *fine,
                                  double **coarse_vals, size_t *work_counts, ew_error *err) {
+  return ew_nonparabolic_levels_lu(st, g, coarse, lo, top, NULL, fine, coarse_vals, work_counts,
+                                   err);
+}
+
+ew_status ew_nonparabolic_levels_lu(const ew_stack *st, const ew_grid *g, const ew_grid *coarse,
+                                    double lo, double top, ew_shift_lu *given,
+                                    ew_eigenpairs *fine, double **coarse_vals,
+                                    size_t *work_counts, ew_error *err) {
   memset(fine, 0, sizeof *fine);
   *coarse_vals = NULL;
   size_t nmax = (g->n > (coarse ? coarse->n : 0) ? g->n : coarse->n) + 1, dummy = 0;
@@ -414,14 +455,16 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
   memset(&cc, 0, sizeof cc);
   ew_status rc = EW_OK;
   ew_pencil *pt = NULL;
-  if (!M || !ctx_build(&cf, st, g) || (coarse && !ctx_build(&cc, st, coarse)) ||
-      !(pt = pencil_at(&cf, top, M))) {
+  /* one factorization workspace for every level's vectors (the caller's when it fits) */
+  ew_shift_lu *own = NULL, *lu = given && ew_shift_lu_size(given) == g->n ? given : NULL;
+  if (!lu && g->n >= 2) lu = own = ew_shift_lu_create(g->n);
+  if (!M || (!lu && g->n >= 2) || !ctx_build(&cf, st, g) ||
+      (coarse && !ctx_build(&cc, st, coarse)) || !(pt = ctx_pencil(&cf, top, M))) {
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic masses)");
     goto done;
   }
   /* bound count: eigenvalues of H(top) below top (see the header) */
   size_t clo = ew_eigen_count_below(pt, lo), nb = ew_eigen_count_below(pt, top) - clo;
-  ew_pencil_free(pt);
   size_t n = g->n;
   fine->n = n;
   fine->certified = nb;
@@ -437,12 +480,13 @@ ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_
                       work_counts, err);
   for (size_t j0 = 0, j1; rc == EW_OK && j0 < nb; j0 = j1) {
     for (j1 = j0 + 1; j1 < nb && fine->values[j1] - fine->values[j1 - 1] < NP_CLUSTER_EV;) j1++;
-    rc = cluster_vectors(&cf, clo + j0, j0, j1 - j0, M, fine, err);
+    rc = cluster_vectors(&cf, clo + j0, j0, j1 - j0, M, lu, fine, err);
     if (rc == EW_OK) rc = orthogonalize_near(&cf, j0, j1 - j0, M, fine, err);
     if (rc == EW_OK) fine->count = j1;
   }
 done:
   free(M);
+  ew_shift_lu_free(own);
   ctx_free(&cf);
   ctx_free(&cc);
   if (rc != EW_OK) {

@@ -61,5 +61,12 @@ int ew_inplane_masses(const ew_stack *st, const ew_grid *g, ew_band band, int no
 ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_grid *coarse,
                                  double lo, double top, ew_eigenpairs *fine,
                                  double **coarse_vals, size_t *work_counts, ew_error *err);
+/* The same with the caller's factorization workspace for g (ew_shift_lu_create(g->n), shared
+ * with the other bands of a pass); NULL or of another size: one of its own, shared by the
+ * levels. */
+ew_status ew_nonparabolic_levels_lu(const ew_stack *st, const ew_grid *g, const ew_grid *coarse,
+                                    double lo, double top, ew_shift_lu *lu,
+                                    ew_eigenpairs *fine, double **coarse_vals,
+                                    size_t *work_counts, ew_error *err);
 
 #endif

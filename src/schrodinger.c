@@ -28,27 +28,23 @@ static void band_pairs_free(band_pairs *bp) {
   }
 }
 
-/* The eigenvalues of the coarse grid near the fine vectors sampled on its nodes. */
+/* The eigenvalues of the coarse grid near the fine vectors sampled on its nodes (coarse node i
+ * is fine node 2i + 1: every layer has an even number of fine cells), read off the fine
+ * vectors without a copy of them. */
 static ew_status coarse_values(ew_result *r, const ew_grid *coarse, ew_band band, double lo,
                                const ew_eigenpairs *fine, double **coarse_vals,
                                size_t *n_coarse, ew_error *err) {
-  const ew_grid *g = r->grid;
   ew_pencil *pc = ew_pencil_build(coarse, band);
-  size_t nc = coarse->n, k = fine->count;
-  double *guess = pc ? malloc(nc * k * sizeof *guess) : NULL;
+  size_t k = fine->count;
   double *vals = malloc(k * sizeof *vals);
-  if (!pc || !guess || !vals) {
+  if (!pc || !vals) {
     ew_pencil_free(pc);
-    free(guess);
     free(vals);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (coarse grid)");
   }
-  /* coarse node i is fine node 2i + 1 (every layer has an even number of fine cells) */
-  for (size_t j = 0; j < k; j++)
-    for (size_t i = 0; i < nc; i++) guess[j * nc + i] = fine->vectors[j * g->n + 2 * i + 1];
-  ew_status rc = ew_eigen_values_near(pc, lo, guess, k, 1e-11, vals, &r->work_counts, err);
+  ew_status rc = ew_eigen_values_near_fine(pc, lo, fine->vectors, r->grid->n, k, 1e-11, vals,
+                                           &r->work_counts, err);
   ew_pencil_free(pc);
-  free(guess);
   if (rc != EW_OK) {
     free(vals);
     return rc;
@@ -88,8 +84,8 @@ static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band, p
   }
   if (band == EW_BAND_E && ew_nonparabolic_applies(r->stack)) {
     ew_pencil_free(p);
-    ew_status rc = ew_nonparabolic_levels(r->stack, g, coarse, lo, top, fine, coarse_vals,
-                                          &r->work_counts, err);
+    ew_status rc = ew_nonparabolic_levels_lu(r->stack, g, coarse, lo, top, pass_lu_get(ws, g->n),
+                                             fine, coarse_vals, &r->work_counts, err);
     *n_coarse = rc == EW_OK && coarse ? fine->count : 0;
     r->nonparabolic = rc == EW_OK;
     return rc;

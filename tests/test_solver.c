@@ -245,6 +245,101 @@ static void lapack_single_and_double_wells(void **state) {
   tu_stack_free(st);
 }
 
+/* ---- 4b. eigenvalues by index, all at once (ew_eigen_indices) -----------------------------
+ * Source: analytic (the infinite well's exact discrete eigenvalues of test 1, G. Strang,
+ * Introduction to Applied Mathematics (1986), §1.5) and LAPACK dstev on the coupled double
+ * wells of test 4 (near-degenerate pairs).  Indices first … first + k − 1 from a window that
+ * does not hold them (it is widened), values within 64 n ε ‖T‖ (the count's resolution, as
+ * test 4), NaN for indices the pencil does not have. */
+static void eigenvalues_by_index(void **state) {
+  (void)state;
+  tu_layer ly[] = {{10.0, 0.0, -1.0, 0.067, 0.35, 0.09}};
+  ew_stack *st = tu_stack(1, ly);
+  ew_grid *g = ew_grid_uniform(st, 200);
+  ew_pencil *p = ew_pencil_build(g, EW_BAND_E);
+  double h = 10.0 / 200, m = 0.067, L = 10.0, v[6];
+  size_t counts = 0;
+  /* indices 3 … 8 (levels n = 4 … 9) from the window (0.5, 0.6) eV, below all but n = 1, 2 */
+  assert_int_equal(ew_eigen_indices(p, 3, 6, 0.5, 0.6, 1e-12, v, &counts, NULL), EW_OK);
+  assert_true(counts > 0);
+  for (int j = 0; j < 6; j++) {
+    double disc = 2 * K / (m * h * h) * (1 - cos((j + 4) * M_PI * h / L));
+    TU_NEAR(v[j], disc, 1e-12 * disc + 1e-12, "exact discrete eigenvalue by index");
+  }
+  /* the last index the 199-node pencil has, then two it does not */
+  double w[3];
+  assert_int_equal(ew_eigen_indices(p, 198, 3, 0.0, 1.0, 1e-10, w, NULL, NULL), EW_OK);
+  double top = 2 * K / (m * h * h) * (1 - cos(199 * M_PI * h / L));
+  TU_NEAR(w[0], top, 1e-11 * top, "highest eigenvalue by index");
+  assert_true(isnan(w[1]) && isnan(w[2]));
+  ew_pencil_free(p);
+  ew_grid_free(g);
+  tu_stack_free(st);
+  /* the coupled double wells against LAPACK: pairs split by ~1e-7 eV */
+  tu_layer two[] = {{20, 0.3, -1, 0.092, 0.4, 0.1}, {6, 0.0, -1, 0.067, 0.4, 0.1},
+                    {12, 0.3, -1, 0.092, 0.4, 0.1}, {6, 0.0, -1, 0.067, 0.4, 0.1},
+                    {20, 0.3, -1, 0.092, 0.4, 0.1}};
+  st = tu_stack(5, two);
+  size_t c5[5];
+  ew_grid_cells_for_step(st, 0.05, c5);
+  g = ew_grid_layered(st, c5);
+  p = ew_pencil_build(g, EW_BAND_E);
+  size_t n = p->n;
+  double *d = malloc(n * sizeof *d), *e = malloc(n * sizeof *e), tn = 0, u[5];
+  for (size_t i = 0; i < n; i++) {
+    d[i] = p->diag[i] / p->b[i];
+    if (i + 1 < n) e[i] = p->off[i] / sqrt(p->b[i] * p->b[i + 1]);
+    tn = fmax(tn, fabs(d[i]) + 2 * (i + 1 < n ? fabs(e[i]) : 0));
+  }
+  assert_int_equal(LAPACKE_dstev(LAPACK_COL_MAJOR, 'N', (lapack_int)n, d, e, NULL, 1), 0);
+  assert_int_equal(ew_eigen_indices(p, 0, 5, -1e-6, 0.01, 1e-13, u, NULL, NULL), EW_OK);
+  for (int j = 0; j < 5; j++)
+    TU_NEAR(u[j], d[j], 64.0 * n * DBL_EPSILON * tn, "LAPACK dstev by index");
+  free(d);
+  free(e);
+  ew_pencil_free(p);
+  ew_grid_free(g);
+  tu_stack_free(st);
+}
+
+/* ---- 4c. coarse-grid values from the fine vectors (ew_eigen_values_near_fine) -------------
+ * Source: analytic, the exact discrete spectrum of test 1 (G. Strang, Introduction to Applied
+ * Mathematics (1986), §1.5) on the coarse grid of N cells, from the eigenvectors of the fine
+ * grid of 2N cells read at every second node (coarse node i = fine node 2i + 1): within
+ * 1e-12 relative (the method's tolerance 1e-11 eV is met by Newton where the Kato–Temple bound
+ * is not tight).  A fine size that is not 2n + 1 or more is refused. */
+static void coarse_values_from_fine(void **state) {
+  (void)state;
+  tu_layer ly[] = {{10.0, 0.0, -1.0, 0.067, 0.35, 0.09}};
+  ew_stack *st = tu_stack(1, ly);
+  ew_grid *gf = ew_grid_uniform(st, 400), *gc = ew_grid_uniform(st, 200);
+  ew_pencil *pf = ew_pencil_build(gf, EW_BAND_E), *pc = ew_pencil_build(gc, EW_BAND_E);
+  ew_eigenpairs ep;
+  assert_int_equal(ew_eigen_window(pf, -0.1, 2.0, 1, &ep, NULL), EW_OK);
+  assert_true(ep.count >= 5);
+  double v[16], h = 10.0 / 200, m = 0.067, L = 10.0;
+  size_t k = ep.count < 16 ? ep.count : 16, counts = 0;
+  assert_int_equal(ew_eigen_values_near_fine(pc, -0.1, ep.vectors, pf->n, k, 1e-11, v, &counts,
+                                             NULL), EW_OK);
+  /* the sampled fine sines are the coarse grid's exact eigenvectors (same z): every value is
+     certified by Kato–Temple, one count at lo and two per value, no Newton fallback (which a
+     wrong sampling node would need) */
+  assert_int_equal((int)counts, (int)(1 + 2 * k));
+  for (size_t j = 0; j < k; j++) {
+    double disc = 2 * K / (m * h * h) * (1 - cos((double)(j + 1) * M_PI * h / L));
+    TU_NEAR(v[j], disc, 1e-12 * disc + 1e-11, "exact discrete eigenvalue of the coarse grid");
+  }
+  ew_error e = {0};
+  assert_int_equal(ew_eigen_values_near_fine(pc, -0.1, ep.vectors, 2 * pc->n, k, 1e-11, v, NULL,
+                                             &e), EW_ERR_NUMERIC);
+  ew_eigenpairs_free(&ep);
+  ew_pencil_free(pf);
+  ew_pencil_free(pc);
+  ew_grid_free(gf);
+  ew_grid_free(gc);
+  tu_stack_free(st);
+}
+
 /* ---- 5. Thomas–Reiche–Kuhn sum rule ---------------------------------------------------------
  * Source: M. Helm, Semicond. Semimet. 62, 1 (2000): Σ_j f_ij = 1 for constant mass.  Over the
  * complete discrete spectrum (LAPACK dstev with vectors) the sum is 1 to 1e-9, for constant
@@ -375,6 +470,8 @@ int main(void) {
       cmocka_unit_test(finite_well_mass_mismatch),
       cmocka_unit_test(second_order_convergence),
       cmocka_unit_test(lapack_single_and_double_wells),
+      cmocka_unit_test(eigenvalues_by_index),
+      cmocka_unit_test(coarse_values_from_fine),
       cmocka_unit_test(trk_sum_rule),
       cmocka_unit_test(states_and_parity),
       cmocka_unit_test(bad_grid_step_refused),
