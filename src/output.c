@@ -505,7 +505,7 @@ static void write_levels(const ew_result *r, ew_csv *c) {
   static const char *const cols[] = {"label", "band", "n", "energy_eV", "error_eV", "edge_eV",
                                      "depth_eV", "layer", "layer_probability", "residual",
                                      "flagged", "sheet_density_cm2", "inplane_mass_m0",
-                                     "below_top_eV"};
+                                     "below_top_eV", "dos_mass_m0"};
   ew_csv_header(c, sizeof cols / sizeof cols[0], cols);
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *q = st_of(r, i);
@@ -524,6 +524,8 @@ static void write_levels(const ew_result *r, ew_csv *c) {
     else ew_csv_empty(c);
     ew_csv_format(c, "%.6f", q->inplane_mass);
     ew_csv_format(c, "%.10f", ew_result_state_below_top_eV(r, i));
+    if (q->dos_mass_m0 != 0.0 && isfinite(q->dos_mass_m0)) ew_csv_format(c, "%.6f", q->dos_mass_m0);
+    else ew_csv_empty(c); /* not computed (ew_options.hole_dos parabolic), or undefined */
     ew_csv_end_row(c);
   }
 }
