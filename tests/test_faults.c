@@ -756,7 +756,7 @@ static void faults_continuum(void **state) {
 
 /* The k·p hole densities of states (ew_options.hole_dos, hole_dos_kp.c): a p-doped well on
  * the coarse job grid solved self-consistently with them (axial: the same code with one
- * direction, so that the ~2000 children take about a minute), and an undoped one with full
+ * direction; its ~3200 children take about two minutes of CPU), and an undoped one with full
  * warping (the masses alone); the outcome holds every state's energy, sheet density and
  * density-of-states mass. */
 #if FAULTS_POSSIBLE

@@ -82,15 +82,15 @@ static void k0_limit(void **state) {
   tu_stack_free(st);
 }
 
-static const char *well_text =
-    "temperature = %s;\nlayers = (\n"
-    "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 8.0; },\n"
-    "  { name = \"well\"; material = \"GaAs\"; thickness = 6.0; %s },\n"
-    "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 8.0; }\n);\n";
+#define WELL_TEXT                                                                           \
+    "temperature = %s;\nlayers = (\n"                                                     \
+    "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 8.0; },\n"                \
+    "  { name = \"well\"; material = \"GaAs\"; thickness = 6.0; %s },\n"                     \
+    "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 8.0; }\n);\n"
 
 static ew_stack *read_well(ew_catalogue *cat, const char *T, const char *doping) {
   char text[1024];
-  snprintf(text, sizeof text, well_text, T, doping);
+  snprintf(text, sizeof text, WELL_TEXT, T, doping);
   ew_stack *st = NULL;
   ew_error err;
   assert_int_equal(ew_stack_read_string(text, "well", cat, &st, &err), EW_OK);
