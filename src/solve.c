@@ -22,6 +22,9 @@ ew_status ew_solve(const ew_stack *st, const ew_options *opt, ew_result **out, e
     ew_options_default(&defaults);
     opt = &defaults;
   }
+  if (!ew_hole_dos_name(opt->hole_dos))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_solve: hole_dos %d: give EW_HOLE_DOS_PARABOLIC, "
+                   "EW_HOLE_DOS_KP or EW_HOLE_DOS_KP_AXIAL", opt->hole_dos);
   /* doping, a pinned surface or a bias all need the self-consistent potential */
   int sc = st->doped || st->surface_given || st->bias_given;
   /* steps (epiwell.h): [outer iterations up to the budget +] the final pass [+ excitons] */
