@@ -32,8 +32,11 @@
  * were made at a potential within EW_HOLE_DOS_RETAB_EV of the converged one.
  *
  * Subbands: the hole levels of the pass above the higher of the heavy- and light-hole
- * windows (the 4-band model's bound levels, as dispersion.c counts them), at most
- * EW_HOLE_DOS_MAX_PAIRS, matched to the k·p Kramers pairs at k∥ = 0 in energy order (the
+ * windows (the 4-band model's bound levels, as dispersion.c counts them), from the highest
+ * down: in the loop those within EW_HOLE_DOS_SPAN_KT of the highest one, for the masses of
+ * an undoped stack all of them, at most EW_HOLE_DOS_MAX_PAIRS either way (each costs a
+ * Kramers pair of the k·p solve at every k∥), matched to the k·p Kramers pairs at k∥ = 0 in
+ * energy order (the
  * 4-band pencil at k∥ = 0 is exactly the single-band heavy- and light-hole pencils,
  * kp_hamiltonian.h); any other hole level keeps the parabolic density of states and
  * reports no density-of-states mass. */
