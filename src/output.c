@@ -132,7 +132,8 @@ static void table_levels(const ew_result *r, FILE *out) {
     char e[24] = "n/a";
     if (s->error_eV >= 0) snprintf(e, sizeof e, "%.2e", s->error_eV * 1e3);
     char md[24] = "";
-    if (kp && s->dos_mass_m0 != 0.0) snprintf(md, sizeof md, " %8.4f", s->dos_mass_m0);
+    if (kp && s->dos_mass_m0 != 0.0 && isfinite(s->dos_mass_m0))
+      snprintf(md, sizeof md, " %8.4f", s->dos_mass_m0);
     else if (kp) snprintf(md, sizeof md, " %8s", "-");
     fprintf(out, "  %-6s %12.6f %11.3f %11s  %-*s %6.3f %8.4f %13.3f%s%s\n", s->label,
             s->energy_eV, s->depth_eV * 1e3, e, wn, st->layers[s->layer].name,

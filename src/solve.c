@@ -25,6 +25,10 @@ ew_status ew_solve(const ew_stack *st, const ew_options *opt, ew_result **out, e
   if (!ew_hole_dos_name(opt->hole_dos))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_solve: hole_dos %d: give EW_HOLE_DOS_PARABOLIC, "
                    "EW_HOLE_DOS_KP or EW_HOLE_DOS_KP_AXIAL", opt->hole_dos);
+  if (opt->hole_dos != EW_HOLE_DOS_PARABOLIC && st->polarized) /* wurtzite: no Luttinger model */
+    return ew_fail(err, EW_ERR_INPUT, st->path, 0, "the k·p hole densities of states "
+                   "(--hole-dos %s) use the zinc-blende Luttinger–Kohn model; this stack is "
+                   "wurtzite: give --hole-dos parabolic", ew_hole_dos_name(opt->hole_dos));
   /* doping, a pinned surface or a bias all need the self-consistent potential */
   int sc = st->doped || st->surface_given || st->bias_given;
   /* steps (epiwell.h): [outer iterations up to the budget +] the final pass [+ excitons] */

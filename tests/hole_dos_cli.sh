@@ -76,4 +76,6 @@ run "$bin" solve "$tmp/w.cfg" --hole-dos kp6
 if [ "$rc" -eq 1 ] && grep -q -- '--hole-dos' "$tmp/err"; then ok "--hole-dos kp6: exit 1 naming it"; else nok "--hole-dos kp6" "exit $rc"; fi
 run "$bin" solve "$tmp/w.cfg" --hole-dos
 if [ "$rc" -eq 1 ]; then ok "--hole-dos without a value: exit 1"; else nok "--hole-dos without a value" "exit $rc"; fi
+run "$bin" solve examples/ingan_led.cfg --hole-dos kp
+if [ "$rc" -eq 2 ] && grep -q 'wurtzite' "$tmp/err"; then ok "wurtzite stack with --hole-dos kp: exit 2"; else nok "wurtzite --hole-dos kp" "exit $rc"; fi
 finish hole_dos_cli
