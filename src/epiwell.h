@@ -135,7 +135,9 @@ typedef struct {
    * approximation (one direction, about half the cost).  With either k·p choice the
    * self-consistent loop's hole sheet densities come from those dispersions and every bound
    * hole level gets its density-of-states mass (ew_state.dos_mass_m0), also in a solve
-   * without doping.  Costs k·p dispersions (README); the default path computes none. */
+   * without doping.  Costs k·p dispersions (README); the default path computes none.
+   * ew_solve: EW_ERR_USAGE for another value, EW_ERR_INPUT for a k·p choice on a wurtzite
+   * stack (the model is the zinc-blende Luttinger–Kohn one). */
   int hole_dos;
 } ew_options;
 
