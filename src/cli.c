@@ -21,7 +21,9 @@ static const char usage[] =
     "                      [--no-estimate] [--plot FILE.svg|FILE.png] [--plot-levels N|all]\n"
     "                      [--report DIR|FILE.html]\n"
     "                      [--spectra FILE.csv] [--spectra-plot FILE.svg|FILE.png]\n"
-    "                      [--angle DEG] [--index N]\n"
+    "                      [--angle DEG] [--index N] [--hole-dos parabolic|kp|kp-axial]\n"
+    "    --hole-dos kp: hole subband densities of states (doped stacks) and hole DOS masses\n"
+    "      from the 4-band k.p dispersion ([100] and [110] averaged; kp-axial: axial model)\n"
     "    --spectra: absorption spectra, columns E_eV,interband_rel,intersubband_fraction,\n"
     "      intersubband_continuum_fraction on the union of two 2001-point grids (interband:\n"
     "      20 meV below the lowest exciton peak to 100 meV above the highest interband line;\n"
@@ -220,6 +222,12 @@ static int solve_value(const char *a, const char *v, solve_opt *o) {
     o->plot = v;
   } else if (!strcmp(a, "--report")) {
     o->repdir = v;
+  } else if (!strcmp(a, "--hole-dos")) {
+    int k = EW_HOLE_DOS_PARABOLIC;
+    while (ew_hole_dos_name(k) && strcmp(ew_hole_dos_name(k), v)) k++;
+    if (!ew_hole_dos_name(k))
+      return ew_cli_bad(usage, "--hole-dos wants parabolic, kp or kp-axial, got %s", v);
+    o->opt.hole_dos = k;
   } else if (!strcmp(a, "--plot-levels")) {
     double k = 0;
     if (strcmp(v, "all") && (!parse_num(v, &k) || k < 1 || k > 1e6 || k != floor(k)))
@@ -258,6 +266,7 @@ static int solve_parse(int argc, char **argv, solve_opt *o) {
       o->opt.error_estimate = 0;
     } else if (!strcmp(a, "-o") || !strcmp(a, "--grid-step") || !strcmp(a, "--lines") ||
                !strcmp(a, "--plot") || !strcmp(a, "--plot-levels") || !strcmp(a, "--report") ||
+               !strcmp(a, "--hole-dos") ||
                !strcmp(a, "--spectra") ||
                !strcmp(a, "--spectra-plot") || !strcmp(a, "--angle") || !strcmp(a, "--index")) {
       if (i + 1 >= argc) return ew_cli_bad(usage, "%s needs a value", a);

@@ -128,7 +128,23 @@ typedef struct {
    * own points. */
   ew_progress_fn progress;
   void *progress_ctx;
+  /* Density of states of the hole subbands (README "Doped structures"):
+   * EW_HOLE_DOS_PARABOLIC (default) the in-plane mass of each subband at k∥ = 0;
+   * EW_HOLE_DOS_KP the 4-band k·p dispersion of the current potential along [100] and [110]
+   * (full warping, the two averaged), EW_HOLE_DOS_KP_AXIAL the same in the axial
+   * approximation (one direction, about half the cost).  With either k·p choice the
+   * self-consistent loop's hole sheet densities come from those dispersions and every bound
+   * hole level gets its density-of-states mass (ew_state.dos_mass_m0), also in a solve
+   * without doping.  Costs k·p dispersions (README); the default path computes none.
+   * ew_solve: EW_ERR_USAGE for another value, EW_ERR_INPUT for a k·p choice on a wurtzite
+   * stack (the model is the zinc-blende Luttinger–Kohn one). */
+  int hole_dos;
 } ew_options;
+
+enum { EW_HOLE_DOS_PARABOLIC = 0, EW_HOLE_DOS_KP = 1, EW_HOLE_DOS_KP_AXIAL = 2 };
+/* "parabolic", "kp", "kp-axial" (NULL for another value): the names of the CLI option
+ * --hole-dos and of the JSON's "hole_dos". */
+EW_API const char *ew_hole_dos_name(int hole_dos);
 
 EW_API void ew_options_default(ew_options *opt); /* NULL is a no-op */
 
@@ -145,6 +161,11 @@ typedef struct {
   double residual;      /* relative residual of the fine-grid eigenpair */
   int flagged;          /* 1 when residual > residual_tol */
   double inplane_mass;  /* in-plane mass of the subband at k∥ = 0, m0 (README "In-plane mass") */
+  double dos_mass_m0;   /* hole levels with ew_options.hole_dos k·p: the density-of-states
+                           mass of the subband's k·p dispersion (ew_dispersion_dos_mass_m0's
+                           definition at EW_DOS_MASS_WINDOW_EV), m0; 0 when not computed
+                           (parabolic option, electrons), NAN when the subband stays within
+                           the window up to the largest k∥ sampled */
 } ew_state;
 
 typedef enum { EW_LINE_INTERSUBBAND = 0, EW_LINE_INTERBAND = 1 } ew_line_kind;

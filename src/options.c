@@ -14,4 +14,12 @@ void ew_options_default(ew_options *opt) {
   opt->line_min_strength = 1e-3; /* = the interband "allowed" threshold of lines.c */
   opt->progress = NULL;
   opt->progress_ctx = NULL;
+  opt->hole_dos = EW_HOLE_DOS_PARABOLIC; /* the k·p densities of states cost dispersions */
+}
+
+const char *ew_hole_dos_name(int hole_dos) {
+  return hole_dos == EW_HOLE_DOS_PARABOLIC ? "parabolic"
+         : hole_dos == EW_HOLE_DOS_KP      ? "kp"
+         : hole_dos == EW_HOLE_DOS_KP_AXIAL ? "kp-axial"
+                                             : NULL;
 }

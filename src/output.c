@@ -124,16 +124,21 @@ static void table_levels(const ew_result *r, FILE *out) {
   fprintf(out, "\nBound levels (%zu e, %zu hh, %zu lh; count certified by inertia; error_meV is "
           "the numerical error only, not the design uncertainty: see `epiwell tolerance`)\n",
           r->band_count[0], r->band_count[1], r->band_count[2]);
-  fprintf(out, "  %-6s %12s %11s %11s  %-*s %6s %8s %13s\n", "state", "energy_eV", "depth_meV",
-          "error_meV", wn, "mostly in", "prob", "m_inpl", "below_top_meV");
+  int kp = r->opt.hole_dos != EW_HOLE_DOS_PARABOLIC; /* + the k·p DOS masses, last */
+  fprintf(out, "  %-6s %12s %11s %11s  %-*s %6s %8s %13s%s\n", "state", "energy_eV", "depth_meV",
+          "error_meV", wn, "mostly in", "prob", "m_inpl", "below_top_meV", kp ? "    m_dos" : "");
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *s = st_of(r, i);
     char e[24] = "n/a";
     if (s->error_eV >= 0) snprintf(e, sizeof e, "%.2e", s->error_eV * 1e3);
-    fprintf(out, "  %-6s %12.6f %11.3f %11s  %-*s %6.3f %8.4f %13.3f%s\n", s->label,
+    char md[24] = "";
+    if (kp && s->dos_mass_m0 != 0.0 && isfinite(s->dos_mass_m0))
+      snprintf(md, sizeof md, " %8.4f", s->dos_mass_m0);
+    else if (kp) snprintf(md, sizeof md, " %8s", "-");
+    fprintf(out, "  %-6s %12.6f %11.3f %11s  %-*s %6.3f %8.4f %13.3f%s%s\n", s->label,
             s->energy_eV, s->depth_eV * 1e3, e, wn, st->layers[s->layer].name,
             s->layer_probability, s->inplane_mass, ew_result_state_below_top_eV(r, i) * 1e3,
-            s->flagged ? "  RESIDUAL CHECK FAILED" : "");
+            md, s->flagged ? "  RESIDUAL CHECK FAILED" : "");
   }
   if (r->n_states == 0)
     fprintf(out, "  (none: no band binds a state below the edges of its outer layers)\n");
@@ -347,6 +352,9 @@ static void json_states(ew_json *j, const ew_result *r) {
     ew_json_key_bool(j, "flagged", s->flagged);
     ew_json_key_num(j, "inplane_mass_m0", s->inplane_mass);
     ew_json_key_num(j, "below_top_eV", ew_result_state_below_top_eV(r, i));
+    /* k·p density-of-states mass (ew_options.hole_dos); null when not computed */
+    if (s->dos_mass_m0 != 0.0) ew_json_key_num(j, "dos_mass_m0", s->dos_mass_m0);
+    else ew_json_key_null(j, "dos_mass_m0");
     if (r->sp) ew_json_key_num(j, "sheet_density_cm2", r->sp->sheet_cm2[i]);
     else ew_json_key_null(j, "sheet_density_cm2");
     ew_json_end_object(j);
@@ -436,6 +444,7 @@ void ew_output_json_sum(const ew_result *r, const double sum_rule[2], FILE *out)
   ew_json_key_num(&j, "grid_step_nm", r->step_nm);
   ew_json_key_size(&j, "nodes", r->grid->n);
   ew_json_key_str(&j, "model", ew_result_model(r));
+  ew_json_key_str(&j, "hole_dos", ew_hole_dos_name(r->opt.hole_dos)); /* the DOS model of holes */
   ew_json_key_num(&j, "field_kV_cm", st->field_kV_cm);
   ew_json_key(&j, "warnings");
   ew_json_begin_array(&j);
@@ -497,7 +506,7 @@ static void write_levels(const ew_result *r, ew_csv *c) {
   static const char *const cols[] = {"label", "band", "n", "energy_eV", "error_eV", "edge_eV",
                                      "depth_eV", "layer", "layer_probability", "residual",
                                      "flagged", "sheet_density_cm2", "inplane_mass_m0",
-                                     "below_top_eV"};
+                                     "below_top_eV", "dos_mass_m0"};
   ew_csv_header(c, sizeof cols / sizeof cols[0], cols);
   for (size_t i = 0; i < r->n_states; i++) {
     const ew_state *q = st_of(r, i);
@@ -516,6 +525,8 @@ static void write_levels(const ew_result *r, ew_csv *c) {
     else ew_csv_empty(c);
     ew_csv_format(c, "%.6f", q->inplane_mass);
     ew_csv_format(c, "%.10f", ew_result_state_below_top_eV(r, i));
+    if (q->dos_mass_m0 != 0.0 && isfinite(q->dos_mass_m0)) ew_csv_format(c, "%.6f", q->dos_mass_m0);
+    else ew_csv_empty(c); /* not computed (ew_options.hole_dos parabolic), or undefined */
     ew_csv_end_row(c);
   }
 }

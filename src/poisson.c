@@ -91,6 +91,7 @@
 #include "bound.h"
 #include "eigen.h"
 #include "error.h"
+#include "hole_dos_kp.h"
 
 #define NM3_PER_CM3 1e-21 /* 1 cm^-3 in nm^-3 */
 #define NM2_PER_CM2 1e-14 /* 1 cm^-2 in nm^-2 */
@@ -220,6 +221,8 @@ typedef struct {
   double off_left, off_right; /* U(face) − E_F(face) for the Dirichlet faces */
   double bias_eV;             /* E_F(last) = E_F(first) − bias_eV */
   int holes_major;            /* gauge reference band: 0 electrons, 1 heavy holes */
+  ew_subband_dos_fn dos_fn;   /* non-parabolic hole subbands (hole_dos_kp.h), or NULL */
+  const void *dos_ctx;
 } model;
 
 /* states of the last Schrödinger solve, as the predictor needs them */
@@ -230,6 +233,7 @@ typedef struct {
   double zc;              /* centroid ⟨z⟩, nm */
   double chi;             /* weight of the state in the hand-over to the continuum (blend) */
   const double *psi;      /* [n] */
+  const ew_sheet_table *tab; /* k·p density of states (D = 1 nm^-2 then), or NULL */
 } qstate;
 
 typedef struct {
@@ -494,8 +498,10 @@ static void subband_charges(const model *m, const snap *s, double EF0, const dou
       if (p2 == 0.0) continue;
       double du = U[i] - s->Us[i];
       double x = qs->hole ? x0 + du / kT : x0 - du / kT;
-      double dens = qs->chi * qs->D * log1pexp(x) * p2 * m->w[i]; /* nm^-2 in this box */
-      double f = qs->chi * occ(-x, 1.0);                          /* d ln(1+e^x)/dx */
+      double fx, lx = qs->tab ? ew_sheet_table_eval(qs->tab, x, &fx) : log1pexp(x);
+      if (!qs->tab) fx = occ(-x, 1.0);                            /* d ln(1+e^x)/dx */
+      double dens = qs->chi * qs->D * lx * p2 * m->w[i];           /* nm^-2 in this box */
+      double f = qs->chi * fx;
       q[i] += qs->hole ? dens : -dens;
       if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
       if (parts) parts[qs->hole ? 1 : 0][i] += dens;
@@ -831,6 +837,8 @@ static ew_status snap_of(const ew_result *r, const model *m, const double *Us, s
       mp = q->band == EW_BAND_E ? bb->me : q->band == EW_BAND_HH ? bb->mhh_par : bb->mlh_par;
     if (!(mp > 0)) mp = q->band == EW_BAND_HH ? bb->mhh_z : bb->mlh_z;
     o->D = d2_of(mp, m->kT);
+    o->tab = o->hole && m->dos_fn ? m->dos_fn(m->dos_ctx, j) : NULL;
+    if (o->tab) o->D = 1.0; /* the table gives nm^-2 */
     o->psi = r->psi + j * r->grid->n;
     double zc = 0.0;
     for (size_t i = 0; i < m->n; i++) zc += m->w[i] * o->psi[i] * o->psi[i] * m->z[i];
@@ -882,7 +890,8 @@ static ew_status fill_sheet_densities(ew_sp_info *sp, const ew_result *r, const 
     const qstate *o = &s.s[j];
     double EF = fermi_at(m, EF0, o->zc);
     double x = o->hole ? (o->E - EF) / m->kT : (EF - o->E) / m->kT;
-    sp->sheet_cm2[j] = o->chi * o->D * log1pexp(x) / NM2_PER_CM2;
+    double lx = o->tab ? ew_sheet_table_eval(o->tab, x, NULL) : log1pexp(x);
+    sp->sheet_cm2[j] = o->chi * o->D * lx / NM2_PER_CM2;
     if (o->hole) sp->holes_bound_cm2 += sp->sheet_cm2[j];
     else sp->electrons_bound_cm2 += sp->sheet_cm2[j];
   }
@@ -1020,6 +1029,10 @@ ew_status ew_poisson_new(const ew_stack *st, const ew_grid *g, double T, ew_pois
 }
 
 const double *ew_poisson_potential(const ew_poisson *p) { return p->U; }
+double ew_poisson_fermi_eV(const ew_poisson *p) { return p->EF; }
+void ew_poisson_set_subband_dos(ew_poisson *p, ew_subband_dos_fn fn, const void *ctx) {
+  p->m.dos_fn = fn, p->m.dos_ctx = ctx;
+}
 
 ew_status ew_poisson_update(ew_poisson *p, const ew_result *r, int outer, double *dU,
                             ew_error *err) {

@@ -47,6 +47,14 @@ const double *ew_poisson_potential(const ew_poisson *p);
  * Fermi level, *dU_eV = max|ΔU|. */
 ew_status ew_poisson_update(ew_poisson *p, const ew_result *r, int outer, double *dU_eV,
                             ew_error *err);
+/* The Fermi level of the current iterate (of the first face), eV. */
+double ew_poisson_fermi_eV(const ew_poisson *p);
+/* Subband densities of states other than the parabolic one (hole_dos_kp.h): fn(ctx, j) gives
+ * the sheet-density table of hole state j of the results later passed to ew_poisson_update
+ * and ew_poisson_attach, or NULL (parabolic: the default, also with fn NULL). */
+struct ew_sheet_table;
+typedef const struct ew_sheet_table *(*ew_subband_dos_fn)(const void *ctx, size_t state);
+void ew_poisson_set_subband_dos(ew_poisson *p, ew_subband_dos_fn fn, const void *ctx);
 /* Attach the self-consistent quantities (r->sp, and a warning for a temperature below the
  * floor) to the final pass r, solved at the current U. */
 ew_status ew_poisson_attach(const ew_poisson *p, ew_result *r, int iterations,

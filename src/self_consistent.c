@@ -8,14 +8,15 @@
 #include <math.h>
 
 #include "error.h"
+#include "hole_dos_kp.h"
 #include "poisson.h"
 #include "schrodinger.h"
 
 /* Alternate passes and Poisson updates from p's first guess until converged; *res is the
  * last pass (caller frees), *iters and *dU the iterations done and the last max|ΔU|. */
 static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson *p,
-                         ew_shift_lu *lu, ew_progress *pg, int *iters, double *dU,
-                         ew_error *err) {
+                         ew_shift_lu *lu, ew_hole_dos_kp *hd, ew_progress *pg, int *iters,
+                         double *dU, ew_error *err) {
   ew_options iopt = *uopt;
   iopt.error_estimate = 0;
   iopt.excitons = 0;
@@ -27,7 +28,9 @@ static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson 
   *dU = INFINITY;
   while (rc == EW_OK && it < max_it) {
     it++;
-    rc = ew_poisson_update(p, res, it, dU, err);
+    /* k·p hole densities of states (ew_options.hole_dos): tables for this pass */
+    if (hd) rc = ew_hole_dos_kp_update(hd, res, ew_poisson_fermi_eV(p), err);
+    if (rc == EW_OK) rc = ew_poisson_update(p, res, it, dU, err);
     if (rc != EW_OK) break;
     if (*dU < EW_SP_TOL_EV) {
       conv = 1;
@@ -82,11 +85,20 @@ ew_status ew_solve_self_consistent_progress(const ew_stack *st, const ew_options
      storage are kept across the outer iterations (only the potential changes) */
   ew_shift_lu *lu = rc == EW_OK ? ew_shift_lu_create(g->n) : NULL;
   if (rc == EW_OK && !lu) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (workspace)");
-  if (rc == EW_OK) rc = iterate(st, &uopt, p, lu, pg, &it, &dU, err);
+  ew_hole_dos_kp *hd = NULL;
+  if (rc == EW_OK && uopt.hole_dos != EW_HOLE_DOS_PARABOLIC) {
+    hd = ew_hole_dos_kp_create(uopt.hole_dos, fmax(st->temperature_K, EW_SP_T_FLOOR_K));
+    if (!hd) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (k·p hole DOS)");
+    else ew_poisson_set_subband_dos(p, ew_hole_dos_kp_table, hd);
+  }
+  if (rc == EW_OK) rc = iterate(st, &uopt, p, lu, hd, pg, &it, &dU, err);
   if (rc == EW_OK) rc = ew_schrodinger_pass_lu(st, &uopt, ew_poisson_potential(p), lu, &res, err);
   if (rc == EW_OK && pg && ew_progress_step(pg))
     rc = ew_progress_fail(pg, "the self-consistent solve", "steps", err);
+  if (rc == EW_OK && hd) rc = ew_hole_dos_kp_update(hd, res, ew_poisson_fermi_eV(p), err);
   if (rc == EW_OK) rc = ew_poisson_attach(p, res, it, dU, err);
+  if (rc == EW_OK && hd) rc = ew_hole_dos_kp_masses(hd, res, err);
+  ew_hole_dos_kp_free(hd);
   if (rc == EW_OK) {
     *out = res;
     res = NULL;

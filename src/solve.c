@@ -5,6 +5,7 @@
 
 #include "error.h"
 #include "exciton.h"
+#include "hole_dos_kp.h"
 #include "poisson.h"
 #include "progress.h"
 #include "schrodinger.h"
@@ -21,6 +22,13 @@ ew_status ew_solve(const ew_stack *st, const ew_options *opt, ew_result **out, e
     ew_options_default(&defaults);
     opt = &defaults;
   }
+  if (!ew_hole_dos_name(opt->hole_dos))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_solve: hole_dos %d: give EW_HOLE_DOS_PARABOLIC, "
+                   "EW_HOLE_DOS_KP or EW_HOLE_DOS_KP_AXIAL", opt->hole_dos);
+  if (opt->hole_dos != EW_HOLE_DOS_PARABOLIC && st->polarized) /* wurtzite: no Luttinger model */
+    return ew_fail(err, EW_ERR_INPUT, st->path, 0, "the k·p hole densities of states "
+                   "(--hole-dos %s) use the zinc-blende Luttinger–Kohn model; this stack is "
+                   "wurtzite: give --hole-dos parabolic", ew_hole_dos_name(opt->hole_dos));
   /* doping, a pinned surface or a bias all need the self-consistent potential */
   int sc = st->doped || st->surface_given || st->bias_given;
   /* steps (epiwell.h): [outer iterations up to the budget +] the final pass [+ excitons] */
@@ -30,6 +38,9 @@ ew_status ew_solve(const ew_stack *st, const ew_options *opt, ew_result **out, e
                    (sc ? budget : 0) + 1 + (opt->excitons ? 1 : 0));
   ew_status rc = sc ? ew_solve_self_consistent_progress(st, opt, &pg, &r, err)
                     : ew_schrodinger_pass(st, opt, NULL, &r, err);
+  /* k·p density-of-states masses of an undoped stack's hole levels (the loop makes its own) */
+  if (rc == EW_OK && !sc && opt->hole_dos != EW_HOLE_DOS_PARABOLIC)
+    rc = ew_hole_dos_kp_report(r, opt->hole_dos, err);
   if (rc == EW_OK && !sc && ew_progress_step(&pg))
     rc = ew_progress_fail(&pg, "the solve", SOLVE_STEPS, err);
   if (rc == EW_OK && r->opt.excitons) rc = ew_result_add_excitons(r, err);

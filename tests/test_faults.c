@@ -754,6 +754,57 @@ static void faults_continuum(void **state) {
 #endif
 }
 
+/* The k·p hole densities of states (ew_options.hole_dos, hole_dos_kp.c): a p-doped well on
+ * the coarse job grid solved self-consistently with them (axial: the same code with one
+ * direction; its ~3200 children take about two minutes of CPU), and an undoped one with full
+ * warping (the masses alone); the outcome holds every state's energy, sheet density and
+ * density-of-states mass. */
+#if FAULTS_POSSIBLE
+static int hole_dos_mode = EW_HOLE_DOS_KP;
+static void hole_dos_kp_job(const void *ctx, outcome *out) {
+  const ew_stack *st = ctx;
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.hole_dos = hole_dos_mode;
+  opt.excitons = 0;
+  ew_result *r = NULL;
+  ew_error err;
+  out->rc = ew_solve(st, &opt, &r, &err);
+  out->len = 0;
+  for (size_t i = 0; out->rc == EW_OK && i < ew_result_state_count(r); i++) {
+    const ew_state *s = ew_result_state(r, i);
+    double v[3] = {s->energy_eV, ew_result_state_sheet_density_cm2(r, i), s->dos_mass_m0};
+    if (out->len + sizeof v > sizeof out->bytes) break;
+    memcpy(out->bytes + out->len, v, sizeof v);
+    out->len += sizeof v;
+  }
+  ew_result_free(r);
+}
+#endif
+
+static void faults_hole_dos_kp(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  const char *doping[2] = {"doping = { acceptors = 5e18; };", ""};
+  for (int k = 0; k < 2; k++) {
+    char text[640];
+    snprintf(text, sizeof text,
+             "temperature = 300.0;\ngrid_step = %s;\nlayers = (\n"
+             "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 4.0; },\n"
+             "  { name = \"well\"; material = \"GaAs\"; thickness = 6.0; %s },\n"
+             "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 4.0; }\n);\n",
+             job_grid(), doping[k]);
+    ew_stack *st = read_stack(text);
+    hole_dos_mode = k ? EW_HOLE_DOS_KP : EW_HOLE_DOS_KP_AXIAL;
+    int bad = every_fault(k ? "k.p hole DOS masses" : "k.p hole DOS, p-doped", hole_dos_kp_job, st);
+    ew_stack_free(st);
+    assert_int_equal(bad, 0);
+  }
+#else
+  skip();
+#endif
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(faults_single_well),
@@ -770,6 +821,7 @@ int main(void) {
       cmocka_unit_test(faults_hole_absorption),
       cmocka_unit_test(faults_repeat_build),
       cmocka_unit_test(faults_continuum),
+      cmocka_unit_test(faults_hole_dos_kp),
   };
 #if !FAULTS_POSSIBLE
   (void)solve_job, (void)sweep_job, (void)build_job, (void)merge_job, (void)dispersion_job,

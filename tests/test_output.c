@@ -559,7 +559,7 @@ static void csv_quotes_layer_names(void **state) {
   size_t ns = ew_result_state_count(r);
   tab = read_csv(dir, "levels.csv", &nr);
   assert_int_equal(nr, (long)ns + 1);
-  assert_int_equal(tab->ncols[0], 14);
+  assert_int_equal(tab->ncols[0], 15); /* … below_top_eV, dos_mass_m0 */
   size_t clab = csv_col(tab, "label"), ce = csv_col(tab, "energy_eV");
   cl = csv_col(tab, "layer");
   for (size_t i = 0; i < ns; i++) {

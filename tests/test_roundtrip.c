@@ -380,7 +380,7 @@ static void check_levels(const spec *s, const ew_result *r, const char *dir) {
   assert_int_equal(csv_open(dir, "levels.csv", &c,
                             "label,band,n,energy_eV,error_eV,edge_eV,depth_eV,layer,"
                             "layer_probability,residual,flagged,sheet_density_cm2,"
-                            "inplane_mass_m0,below_top_eV"), 0);
+                            "inplane_mass_m0,below_top_eV,dos_mass_m0"), 0);
   assert_int_equal(c.nrows, ew_result_state_count(r));
   int sc = !isnan(ew_result_fermi_energy_eV(r));
   for (size_t i = 0; i < c.nrows; i++) {
@@ -404,6 +404,7 @@ static void check_levels(const spec *s, const ew_result *r, const char *dir) {
     double w = ew_result_window_eV(r, q->band);
     double below = q->band == EW_BAND_E ? w - q->energy_eV : q->energy_eV - w;
     RT_SAME(CSVNUM(&c, i, "below_top_eV"), below, rt_tol_fix(below, 10), "below_top_eV");
+    RT_STREQ(rcsv_at(&c, i, rcsv_col(&c, "dos_mass_m0")), "", "dos_mass_m0 (parabolic: empty)");
   }
   rcsv_free(&c);
 }

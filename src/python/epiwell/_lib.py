@@ -25,7 +25,7 @@ class Options(ctypes.Structure):
                 ("error_estimate", ctypes.c_int), ("residual_tol", ctypes.c_double),
                 ("excitons", ctypes.c_int), ("sp_max_iterations", ctypes.c_int),
                 ("line_min_strength", ctypes.c_double), ("progress", PROGRESS),
-                ("progress_ctx", ctypes.c_void_p)]
+                ("progress_ctx", ctypes.c_void_p), ("hole_dos", ctypes.c_int)]
 
 
 class SweepOptions(ctypes.Structure):
@@ -41,7 +41,7 @@ class State(ctypes.Structure):
                 ("edge_eV", ctypes.c_double), ("depth_eV", ctypes.c_double),
                 ("layer", ctypes.c_size_t), ("layer_probability", ctypes.c_double),
                 ("residual", ctypes.c_double), ("flagged", ctypes.c_int),
-                ("inplane_mass", ctypes.c_double)]
+                ("inplane_mass", ctypes.c_double), ("dos_mass_m0", ctypes.c_double)]
 
 
 class Line(ctypes.Structure):
