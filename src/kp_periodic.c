@@ -1,5 +1,10 @@
 /* kp_periodic.c — the k·p pencil of one superlattice period with the Bloch condition and its
  * certified inertia count (see kp_periodic.h). */
+/* Complex products without the C99 Annex G infinity/NaN recovery (every value here is
+ * finite), as kp_inertia.c. */
+#if defined(__GNUC__) && !defined(__clang__)
+#pragma GCC optimize("cx-limited-range")
+#endif
 #include "kp_periodic.h"
 
 #include <lapacke.h>

@@ -1,6 +1,11 @@
 /* kp_periodic_solve.c — eigenvalues of an index window of the periodic k·p pencil: cuts with
  * exact counts, groups solved by block shift-invert with SuperLU's complex LU, each group
  * certified by its residual and the counts at its ends (see kp_periodic.h). */
+/* Complex products without the C99 Annex G infinity/NaN recovery (every value here is
+ * finite), as kp_inertia.c. */
+#if defined(__GNUC__) && !defined(__clang__)
+#pragma GCC optimize("cx-limited-range")
+#endif
 #include <float.h>
 #include <lapacke.h>
 #include <math.h>
@@ -13,6 +18,7 @@
 
 #define GMAX 16     /* largest group solved as one block (a cluster beyond is split) */
 #define ROUNDS 12   /* factorisations per group before it is split */
+#define SOLVES 8    /* inverse-iteration steps per factorisation */
 #define DEPTH 60    /* bisections of one group */
 
 struct ew_kpp_solver {
@@ -292,19 +298,23 @@ static ew_status group_solve(ew_kpp_solver *s, double a, double b, size_t g, dou
     for (int t = 1; rc == EW_ERR_NUMERIC && t <= 3; t++) /* σ hit an eigenvalue exactly */
       rc = factor_at(s, sigma += 1e-9 * (b - a) / t, err);
     if (rc) return rc;
-    for (int it = 0; it < 2; it++) {
+    /* inverse iteration on this factorisation while the residual falls by 10 a step */
+    double r = INFINITY, prev = INFINITY;
+    for (int it = 0; it < SOLVES && !(r > 0.1 * prev); it++) {
+      prev = r;
       for (size_t c = 0; c < g; c++)
         for (size_t j = 0; j < s->p->n; j++)
           for (size_t q = 0; q < (size_t)s->p->nb; q++) s->X[c * dim + j * (size_t)s->p->nb + q] *= s->p->prof->w[j];
       if ((rc = solve_at(s, s->X, g, err))) return rc;
       b_orthonormalise(s->p, s->X, dim, g);
-    }
-    double r = rayleigh_ritz(s, g, theta);
-    int inside = isfinite(r);
-    for (size_t j = 0; j < g && inside; j++) inside = theta[j] - r > a && theta[j] + r < b;
-    if (r <= tol && inside) {
-      *rho = r, *done = 1;
-      return EW_OK;
+      r = rayleigh_ritz(s, g, theta);
+      int inside = isfinite(r);
+      for (size_t j = 0; j < g && inside; j++) inside = theta[j] - r > a && theta[j] + r < b;
+      if (r <= tol && inside) {
+        *rho = r, *done = 1;
+        return EW_OK;
+      }
+      if (!isfinite(r)) break;
     }
     double mean = 0.0;
     for (size_t j = 0; j < g; j++) mean += theta[j] / (double)g;
