@@ -224,22 +224,29 @@ static void periodicity(void **state) {
   ew_stack_free(st);
 }
 
+/* An invented asymmetric period: two different barriers around a GaAs well, thicknesses that
+ * the 0.07 nm step does not divide alike (the face node's two half cells differ), parabolic
+ * electrons in the single-band model (nonparabolic = false). */
+static const char *asym_text =
+    "temperature = 300.0;\nnonparabolic = false;\nlayers = (\n"
+    "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.25; thickness = 1.0; },\n"
+    "  { name = \"well\"; material = \"GaAs\"; thickness = 4.0; },\n"
+    "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.35; thickness = 1.5; }\n);\n";
+
 /* ---- Ep = 0: the conduction rows are the single-band Bloch pencil ------------------------------ */
 /* With Ep = 0 the 8-band conduction rows hold only S k² = k²/me (S = 1/me − Ep·(…)) and the
  * conduction edge: the BenDaniel–Duke pencil of miniband.c on the same grid, whose e1
  * miniband `epiwell minibands` computes by a different code path (scalar Bloch pencil,
- * bisection on its own count).  examples/miniband_period.cfg sets nonparabolic = false, so
- * that path's electron mass is the band-edge one as well.  Agreement to 1e-9 eV at q = 0 and
- * π/d (bottom and top of e1). */
+ * bisection on its own count), on the asymmetric period above (its electron mass the
+ * band-edge one as well).  Agreement to 1e-9 eV at q = 0 and π/d (bottom and top of e1). */
 static void ep_zero_decouples(void **state) {
   (void)state;
-  ew_stack *st = NULL;
-  assert_int_equal(ew_stack_read_file("examples/miniband_period.cfg", cat, &st, NULL), EW_OK);
+  ew_stack *st = read_stack(asym_text);
   ew_minibands *one = NULL;
   assert_int_equal(ew_minibands_create(&one, NULL), EW_OK);
-  assert_int_equal(ew_minibands_compute(one, st, 5, 0.05, NULL), EW_OK);
+  assert_int_equal(ew_minibands_compute(one, st, 5, 0.07, NULL), EW_OK);
   ew_grid *g = NULL;
-  ew_kpp_pencil *p = period_pencil(st, 0.05, EW_KP_8BAND, &g);
+  ew_kpp_pencil *p = period_pencil(st, 0.07, EW_KP_8BAND, &g);
   for (size_t c = 0; c <= p->n; c++) p->prof->ep[c] = 0.0;
   ew_kpp_fill(p, 0.0, 0.0);
   ew_kpp_solver *s = ew_kpp_solver_create(p, 2);
@@ -265,12 +272,11 @@ static void ep_zero_decouples(void **state) {
  * ew_minibands_compute_kp(…, 4, …) equal the single-band minibands (miniband.c) at every q. */
 static void four_band_decouples(void **state) {
   (void)state;
-  ew_stack *st = NULL;
-  assert_int_equal(ew_stack_read_file("examples/miniband_period.cfg", cat, &st, NULL), EW_OK);
+  ew_stack *st = read_stack(asym_text);
   ew_minibands *one = NULL;
   assert_int_equal(ew_minibands_create(&one, NULL), EW_OK);
-  assert_int_equal(ew_minibands_compute(one, st, 5, 0.05, NULL), EW_OK);
-  ew_minibands *kp = kp_minibands(st, 4, 5, 0.05, 0.0, 0);
+  assert_int_equal(ew_minibands_compute(one, st, 5, 0.07, NULL), EW_OK);
+  ew_minibands *kp = kp_minibands(st, 4, 5, 0.07, 0.0, 0);
   assert_string_equal(ew_minibands_model(kp), "4band");
   assert_true(isnan(ew_minibands_gap_eV(kp)));
   const char *names[2] = {"hh1", "lh1"};
@@ -282,6 +288,44 @@ static void four_band_decouples(void **state) {
   }
   ew_minibands_free(kp);
   ew_minibands_free(one);
+  ew_stack_free(st);
+}
+
+/* ---- a uniform strained period: the bulk band edges ------------------------------------------ */
+/* A "period" of one material (two InAs layers, 1.0 and 1.37 nm, on GaSb at 300 K: biaxial
+ * tension) is bulk InAs: at q = 0, k∥ = 0 the node-constant vectors are exact eigenvectors
+ * (every second difference and the Kane term P kz vanish on them), so the edges of the
+ * strained bulk are eigenvalues: the conduction edge and the heavy- and light-hole edges of
+ * the Bir–Pikus model (G. L. Bir, G. E. Pikus, Symmetry and Strain-Induced Effects in
+ * Semiconductors (Wiley, 1974); the light hole with its split-off coupling, strain.h) as the
+ * stack resolves them, to 1e-9 eV, in the 8- and 6-band models.  The face node (built apart
+ * from the others: its potentials and strain from the two outer layers) must agree for this. */
+static void uniform_bulk_edges(void **state) {
+  (void)state;
+  ew_stack *st = read_stack("substrate = \"GaSb\";\ntemperature = 300.0;\nlayers = (\n"
+                            " { name = \"a\"; material = \"InAs\"; thickness = 1.0; },\n"
+                            " { name = \"b\"; material = \"InAs\"; thickness = 1.37; }\n);\n");
+  const ew_bands *bb = &st->layers[0].bands;
+  assert_true(fabs(bb->Ev_lh_eV - bb->Ev_hh_eV) > 0.01); /* the strain splits them */
+  for (int model = 8; model >= 6; model -= 2) {
+    ew_grid *g = NULL;
+    ew_kpp_pencil *p = period_pencil(st, 0.05, (ew_kp_model)model, &g);
+    ew_kpp_solver *s = ew_kpp_solver_create(p, 6);
+    double v[6], b[6];
+    size_t c = model == 8 ? 2 * p->n : 0, k0 = model == 8 ? c - 2 : 0;
+    assert_int_equal(ew_kpp_window(s, 0.0, k0, model == 8 ? 6 : 4, 0, v, b, NULL), EW_OK);
+    const double *h = model == 8 ? v + 2 : v; /* hole picture: the two highest valence pairs */
+    if (model == 8)
+      for (int t = 0; t < 2; t++) TU_NEAR(-v[t], bb->Ec_eV, 1e-9, "uniform period: Ec");
+    double top = fmax(bb->Ev_hh_eV, bb->Ev_lh_eV), next = fmin(bb->Ev_hh_eV, bb->Ev_lh_eV);
+    for (int t = 0; t < 2; t++) {
+      TU_NEAR(-h[t], top, 1e-9, "uniform period: the upper valence edge (light hole, tension)");
+      TU_NEAR(-h[2 + t], next, 1e-9, "uniform period: the heavy-hole edge");
+    }
+    ew_kpp_solver_free(s);
+    ew_kpp_free(p);
+    ew_grid_free(g);
+  }
   ew_stack_free(st);
 }
 
@@ -493,7 +537,7 @@ int main(void) {
       cmocka_unit_test(periodicity),        cmocka_unit_test(ep_zero_decouples),
       cmocka_unit_test(four_band_decouples), cmocka_unit_test(against_zheev),
       cmocka_unit_test(no_state_in_gap),    cmocka_unit_test(json_csv_roundtrip),
-      cmocka_unit_test(refusals),
+      cmocka_unit_test(refusals),          cmocka_unit_test(uniform_bulk_edges),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
