@@ -207,6 +207,18 @@ static ew_status find_cut(ew_kpp_solver *s, size_t target, double guess, double 
   return EW_OK;
 }
 
+/* Whether the cut x (count target) stands 1e-8 eV clear of the eigenvalues on both sides: a
+ * cut that bisection drove into a degenerate cluster split by rounding only is not one (the
+ * cluster then stays one group). */
+static ew_status apart(ew_kpp_solver *s, double x, size_t target, int *ok, ew_error *err) {
+  double sep = 1e-8 * (1.0 + fabs(x));
+  size_t lo, hi;
+  ew_status rc = count_at(s, x - sep, &lo, err);
+  if (!rc) rc = count_at(s, x + sep, &hi, err);
+  *ok = !rc && lo == target && hi == target;
+  return rc;
+}
+
 /* B-inner product xᴴ B y */
 static double complex bdot(const ew_kpp_pencil *p, const double complex *x, const double complex *y) {
   size_t nb = (size_t)p->nb;
@@ -397,9 +409,14 @@ ew_status ew_kpp_window(ew_kpp_solver *s, double qd, size_t k0, size_t m, int wa
         (rc = find_cut(s, k0 + m, 0.0, 0.25 * lim, &hi, err)))
       return rc;
   }
-  if (!isfinite(lo) || !isfinite(hi))
+  int ok_lo = 0, ok_hi = 0;
+  if (isfinite(lo) && isfinite(hi) && ((rc = apart(s, lo, k0, &ok_lo, err)) ||
+                                       (rc = apart(s, hi, k0 + m, &ok_hi, err))))
+    return rc;
+  if (!ok_lo || !ok_hi)
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "periodic k·p: no cut isolates eigenvalues %zu "
-                   "… %zu at qd = %.6g", k0 + 1, k0 + m, qd);
+                   "… %zu at qd = %.6g (the window ends inside a degenerate cluster)", k0 + 1,
+                   k0 + m, qd);
   if (!warm) {
     rc = split_cold(s, k0, lo, k0, hi, k0 + m, values, bound, 0, err);
   } else { /* cuts between the last window's pairs, then one group per piece */
@@ -410,10 +427,12 @@ ew_status ew_kpp_window(ew_kpp_solver *s, double qd, size_t k0, size_t m, int wa
       size_t cb = k0 + m;
       if (t < m) {
         double gap = s->last[t] - s->last[t - 1];
+        int ok = 0;
         if ((rc = find_cut(s, k0 + t, 0.5 * (s->last[t - 1] + s->last[t]),
-                           fmax(0.25 * gap, 1e-6 * spread), &b, err)))
+                           fmax(0.25 * gap, 1e-6 * spread), &b, err)) ||
+            (isfinite(b) && (rc = apart(s, b, k0 + t, &ok, err))))
           break;
-        if (!isfinite(b)) continue; /* not apart: this pair joins the next */
+        if (!ok) continue; /* not apart: this pair joins the next */
         cb = k0 + t;
       }
       rc = solve_group(s, k0, a, ca, b, cb, 1, values, bound, 0, err);

@@ -109,8 +109,10 @@ static void labels(ew_minibands *mb, const kp_work *w) {
 static ew_status sides(kp_work *w, ew_error *err) {
   size_t ce = 0, ch = 0;
   w->c = w->p->nb == 8 ? 2 * w->p->n : 0;
-  ew_status rc = ew_kpp_count_below(w->p, 0.0, -w->p->ev_min, &ch, err);
-  if (!rc && w->p->nb == 8) rc = ew_kpp_count_below(w->p, 0.0, -w->p->ec_max, &ce, err);
+  /* 1 µeV beyond the edges: a state at an edge (a bulk-like period's degenerate Γ8 top)
+     comes in with all its partners, so that no window ends inside a degenerate cluster */
+  ew_status rc = ew_kpp_count_below(w->p, 0.0, -w->p->ev_min + 1e-6, &ch, err);
+  if (!rc && w->p->nb == 8) rc = ew_kpp_count_below(w->p, 0.0, -w->p->ec_max - 1e-6, &ce, err);
   if (rc) return rc;
   w->mh = (ch > w->c ? ch - w->c : 0) & ~(size_t)1;
   w->mh = w->mh < 2 ? 2 : w->mh > MAX_H ? MAX_H : w->mh;

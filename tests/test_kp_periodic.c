@@ -329,6 +329,37 @@ static void uniform_bulk_edges(void **state) {
   ew_stack_free(st);
 }
 
+/* The mass at a miniband's bottom, on a uniform unstrained InAs period (no substrate): the
+ * conduction miniband is bulk InAs folded, and the 8-band conduction mass at k → 0 is
+ * 1/(S + Ep' (Eg + 2Δ/3)/(Eg (Eg + Δ))) = me for every rescaled Ep' (S takes the rest:
+ * E. O. Kane, J. Phys. Chem. Solids 1, 249 (1957); the remote-band S of kp_hamiltonian.h),
+ * i.e. the layer's band-edge mass.  The curvature of E(q) from the Richardson differences
+ * (the grid's sin(qh)/h in place of q changes it by O((qh)²) ~ 1e-6 here): to 1e-3. */
+static void uniform_bulk_mass(void **state) {
+  (void)state;
+  ew_stack *st = read_stack("temperature = 300.0;\nlayers = (\n"
+                            " { name = \"a\"; material = \"InAs\"; thickness = 1.0; },\n"
+                            " { name = \"b\"; material = \"InAs\"; thickness = 1.37; }\n);\n");
+  ew_minibands *mb = kp_minibands(st, 8, 5, 0.05, 0.0, 0);
+  size_t e1 = labelled(mb, "e1");
+  double me = st->layers[0].bands.me;
+  TU_NEAR(ew_minibands_mass_m0(mb, e1), me, 1e-3 * me, "uniform InAs period: e1 mass = me");
+  TU_NEAR(ew_minibands_bottom_eV(mb, e1), st->layers[0].bands.Ec_eV, 1e-9, "e1 bottom = Ec");
+  /* the fourfold Γ8 top: two minibands from Ev with the Luttinger masses along [001],
+   * 1/(γ1 − 2γ2) and 1/(γ1 + 2γ2) (J. M. Luttinger, Phys. Rev. 102, 1030 (1956); in the
+   * 8-band model γ1' + 2γ2' + 2Ep'/(3Eg) = γ1 + 2γ2), in either order: at the degenerate
+   * top their labels are not told apart by character */
+  assert_int_equal(ew_minibands_count(mb), 3);
+  double m1 = ew_minibands_mass_m0(mb, 1), m2 = ew_minibands_mass_m0(mb, 2);
+  double mh = st->layers[0].bands.mhh_z, ml = st->layers[0].bands.mlh_z;
+  TU_NEAR(fmax(m1, m2), mh, 1e-3 * mh, "Γ8: heavy-hole mass along [001]");
+  TU_NEAR(fmin(m1, m2), ml, 1e-3 * ml, "Γ8: light-hole mass along [001]");
+  for (size_t j = 1; j < 3; j++)
+    TU_NEAR(ew_minibands_bottom_eV(mb, j), st->layers[0].bands.Ev_eV, 1e-9, "Γ8 top = Ev");
+  ew_minibands_free(mb);
+  ew_stack_free(st);
+}
+
 /* ---- against LAPACK zheev ------------------------------------------------------------------- */
 /* The dense periodic matrix (ew_kpp_dense, B^{-1/2} H B^{-1/2}) by zheev at q = 0.37 π/d and
  * k∥ = (0.12, 0.05)/nm of a period without a mirror plane (InAs/GaSb/AlSb: every term of the
@@ -373,7 +404,8 @@ static void against_zheev(void **state) {
 /* At every q sample (k∥ = 0) and every k∥ sample (q = 0) of the result: the count between
  * hh1's energy + 0.1 meV and e1's − 0.1 meV is zero (block LDLᴴ), and independently zheev
  * finds no eigenvalue there and exactly 2N above the gap (the conduction band's share of the
- * 8N states), e1 being mostly |S> (weight > 1/2 in zheev's vectors at q = 0). */
+ * 8N states), e1 being mostly |S> (weight > 1/2 in zheev's vectors at q = 0); the result's
+ * e1 and hh1 there are zheev's two pairs next to the gap to 1e-9 eV. */
 static void no_state_in_gap(void **state) {
   (void)state;
   ew_stack *st = inas_gasb(0.1);
@@ -386,7 +418,7 @@ static void no_state_in_gap(void **state) {
     int inplane = t >= 5;
     size_t i = inplane ? t - 5 : t;
     double qd = inplane ? 0.0 : EW_PI * (double)i / 4.0;
-    ew_kpp_fill(p, inplane ? ew_minibands_k_inv_nm(mb, i) : 0.0, 0.0);
+    ew_kpp_fill(p, inplane ? 0.1 * (double)i : 0.0, 0.0); /* the k∥ asked for: 0 … 0.2/nm */
     double ee = inplane ? ew_minibands_energy_k_eV(mb, e1, i) : ew_minibands_energy_eV(mb, e1, i);
     double eh = inplane ? ew_minibands_energy_k_eV(mb, hh1, i) : ew_minibands_energy_eV(mb, hh1, i);
     size_t c_e = 0, c_h = 0; /* hole picture λ = −E */
@@ -402,6 +434,9 @@ static void no_state_in_gap(void **state) {
     }
     assert_int_equal(inside, 0);
     assert_int_equal(above, 2 * N);
+    /* and the result's e1 and hh1 are zheev's pairs next to the gap (pair means) */
+    TU_NEAR(ee, -0.5 * (ev[2 * N - 2] + ev[2 * N - 1]), 1e-9, "e1 = zheev's pair 2N − 1, 2N");
+    TU_NEAR(eh, -0.5 * (ev[2 * N] + ev[2 * N + 1]), 1e-9, "hh1 = zheev's pair 2N + 1, 2N + 2");
     if (V) { /* e1's pair: zheev's eigenvalues 2N − 2 and 2N − 1; S is components 6, 7 */
       double ws = 0.0;
       for (size_t c = 2 * N - 2; c < 2 * N; c++)
@@ -444,6 +479,8 @@ static void json_csv_roundtrip(void **state) {
   assert_non_null(k);
   assert_non_null(arr);
   assert_int_equal(k->n, ew_minibands_k_count(mb));
+  for (size_t i = 0; i < k->n; i++) /* the k∥ asked for: 0 … 0.2/nm in 4 samples */
+    TU_NEAR(ew_minibands_k_inv_nm(mb, i), 0.2 * (double)i / 3.0, 1e-15, "k∥ grid");
   for (size_t i = 0; i < k->n; i++)
     RT_SAME(k->item[i].num, ew_minibands_k_inv_nm(mb, i), rt_tol_sig(ew_minibands_k_inv_nm(mb, i), 10), "json.k_inv_nm");
   assert_int_equal(arr->n, ew_minibands_count(mb));
@@ -538,6 +575,7 @@ int main(void) {
       cmocka_unit_test(four_band_decouples), cmocka_unit_test(against_zheev),
       cmocka_unit_test(no_state_in_gap),    cmocka_unit_test(json_csv_roundtrip),
       cmocka_unit_test(refusals),          cmocka_unit_test(uniform_bulk_edges),
+      cmocka_unit_test(uniform_bulk_mass),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }
