@@ -171,14 +171,19 @@ static ew_status count_at(ew_kpp_solver *s, double x, size_t *c, ew_error *err) 
 }
 
 /* x with count(x) = target, searched from guess outwards by steps doubling from step, then
- * bisection; NAN when eigenvalues target − 1 and target are not apart to rounding */
-static ew_status find_cut(ew_kpp_solver *s, size_t target, double guess, double step,
-                          double *cut, ew_error *err) {
+ * bisection; NAN when eigenvalues target − 1 and target are not apart to rounding.  *direct
+ * (may be NULL) = 1 when the guess itself had the count. */
+static ew_status find_cut_at(ew_kpp_solver *s, size_t target, double guess, double step,
+                             double *cut, int *direct, ew_error *err) {
+  if (direct) *direct = 0;
   double lim = 4.0 * s->p->norm + 1.0, x = guess, lo = -lim, hi = lim;
   size_t c;
   ew_status rc = count_at(s, x, &c, err);
   if (rc) return rc;
-  if (c == target) return *cut = x, EW_OK;
+  if (c == target) {
+    if (direct) *direct = 1;
+    return *cut = x, EW_OK;
+  }
   double dir = c > target ? -1.0 : 1.0;
   if (c > target) hi = x;
   else lo = x;
@@ -205,6 +210,11 @@ static ew_status find_cut(ew_kpp_solver *s, size_t target, double guess, double 
   }
   *cut = NAN;
   return EW_OK;
+}
+
+static ew_status find_cut(ew_kpp_solver *s, size_t target, double guess, double step,
+                          double *cut, ew_error *err) {
+  return find_cut_at(s, target, guess, step, cut, NULL, err);
 }
 
 /* Whether the cut x (count target) stands 1e-8 eV clear of the eigenvalues on both sides: a
@@ -397,11 +407,13 @@ ew_status ew_kpp_window(ew_kpp_solver *s, double qd, size_t k0, size_t m, int wa
   s->qd = qd;
   warm = warm && s->last_m == m && s->last_k0 == k0;
   double lo, hi, spread = 0.0;
+  int d_lo = 0, d_hi = 0;
   ew_status rc;
   if (warm) {
     spread = fmax(1e-3, s->last[m - 1] - s->last[0]);
-    if ((rc = find_cut(s, k0, s->last[0] - 0.05 * spread, 0.05 * spread, &lo, err)) ||
-        (rc = find_cut(s, k0 + m, s->last[m - 1] + 0.05 * spread, 0.05 * spread, &hi, err)))
+    if ((rc = find_cut_at(s, k0, s->last[0] - 0.05 * spread, 0.05 * spread, &lo, &d_lo, err)) ||
+        (rc = find_cut_at(s, k0 + m, s->last[m - 1] + 0.05 * spread, 0.05 * spread, &hi, &d_hi,
+                          err)))
       return rc;
   } else {
     double lim = 2.0 * s->p->norm + 1.0;
@@ -409,9 +421,9 @@ ew_status ew_kpp_window(ew_kpp_solver *s, double qd, size_t k0, size_t m, int wa
         (rc = find_cut(s, k0 + m, 0.0, 0.25 * lim, &hi, err)))
       return rc;
   }
-  int ok_lo = 0, ok_hi = 0;
-  if (isfinite(lo) && isfinite(hi) && ((rc = apart(s, lo, k0, &ok_lo, err)) ||
-                                       (rc = apart(s, hi, k0 + m, &ok_hi, err))))
+  int ok_lo = isfinite(lo), ok_hi = isfinite(hi);
+  if ((ok_lo && (!warm || !d_lo) && (rc = apart(s, lo, k0, &ok_lo, err))) ||
+      (ok_hi && (!warm || !d_hi) && (rc = apart(s, hi, k0 + m, &ok_hi, err))))
     return rc;
   if (!ok_lo || !ok_hi)
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "periodic k·p: no cut isolates eigenvalues %zu "
@@ -427,11 +439,14 @@ ew_status ew_kpp_window(ew_kpp_solver *s, double qd, size_t k0, size_t m, int wa
       size_t cb = k0 + m;
       if (t < m) {
         double gap = s->last[t] - s->last[t - 1];
-        int ok = 0;
-        if ((rc = find_cut(s, k0 + t, 0.5 * (s->last[t - 1] + s->last[t]),
-                           fmax(0.25 * gap, 1e-6 * spread), &b, err)) ||
-            (isfinite(b) && (rc = apart(s, b, k0 + t, &ok, err))))
+        int ok = 0, direct = 0;
+        if ((rc = find_cut_at(s, k0 + t, 0.5 * (s->last[t - 1] + s->last[t]),
+                              fmax(0.25 * gap, 1e-6 * spread), &b, &direct, err)))
           break;
+        /* the midpoint of two values 1e-6 eV apart or more that holds the count is clear of
+           them; a cut that needed the search, or a tight pair, is checked */
+        ok = isfinite(b);
+        if (ok && (!direct || gap < 1e-6) && (rc = apart(s, b, k0 + t, &ok, err))) break;
         if (!ok) continue; /* not apart: this pair joins the next */
         cb = k0 + t;
       }
