@@ -119,11 +119,11 @@ if grep -q 'epiwell minibands' "$tmp/out"; then ok "epiwell --help lists miniban
 
 # --model 8band on the long-wave infrared example: the JSON (Python's json) against the two
 # CSVs and the table of the same run, value by value; the gap against the JSON's e1 and hh1
-run "$bin" minibands examples/lwir_superlattice.cfg --model 8band --points 5 --kpoints 3 \
+run "$bin" minibands examples/periods/lwir_superlattice.cfg --model 8band --points 5 --kpoints 3 \
   --kmax 0.2 --json --csv "$tmp/k.csv" --csv-k "$tmp/kk.csv"
 cp "$tmp/out" "$tmp/k.json"
 if [ "$rc" -eq 0 ]; then ok "minibands --model 8band --json --csv --csv-k: exit 0"; else nok "8band: exit 0" "exit $rc: $(head -n 2 "$tmp/err")"; fi
-run "$bin" minibands examples/lwir_superlattice.cfg --model 8band --points 5 --kpoints 3 --kmax 0.2
+run "$bin" minibands examples/periods/lwir_superlattice.cfg --model 8band --points 5 --kpoints 3 --kmax 0.2
 cp "$tmp/out" "$tmp/k.txt"
 out=$(python3 - "$tmp/k.json" "$tmp/k.csv" "$tmp/kk.csv" "$tmp/k.txt" <<'PY' 2>&1
 import csv, json, math, sys
@@ -160,9 +160,9 @@ print("\n".join(bad) if bad else "ok")
 PY
 )
 if [ "$out" = ok ]; then ok "8band JSON = CSV = --csv-k = table, gap = e1 - hh1"; else nok "8band outputs agree" "$out"; fi
-run "$bin" minibands examples/lwir_superlattice.cfg --kmax 0.2
+run "$bin" minibands examples/periods/lwir_superlattice.cfg --kmax 0.2
 if [ "$rc" -eq 1 ] && grep -q -- '--model' "$tmp/err"; then ok "--kmax without a k.p model: exit 1"; else nok "--kmax single-band" "exit $rc"; fi
-run "$bin" minibands examples/lwir_superlattice.cfg --model 7band
+run "$bin" minibands examples/periods/lwir_superlattice.cfg --model 7band
 if [ "$rc" -eq 1 ] && grep -q -- '--model' "$tmp/err"; then ok "--model 7band: exit 1"; else nok "--model 7band" "exit $rc"; fi
 
 finish minibands_cli
