@@ -627,7 +627,9 @@ EW_API double ew_minibands_energy_eV(const ew_minibands *mb, size_t j, size_t i)
 /* The largest certified |E − E_exact(grid)| bound of miniband j over its points (the
  * eigenvalue of the discrete problem, not the grid error). */
 EW_API double ew_minibands_bound_eV(const ew_minibands *mb, size_t j);
-/* Window top of band (absolute eV) that chose the minibands. */
+/* Window top of band (absolute eV) that chose the minibands (k·p models: the period's highest
+ * conduction edge for EW_BAND_E, NAN without the conduction band, and its lowest valence top
+ * for the hole bands). */
 EW_API double ew_minibands_window_top_eV(const ew_minibands *mb, ew_band band);
 /* Warnings of the computation (code "miniband-doping-ignored": the stack is doped, the
  * minibands are flat-band).  warning(i): the code, NULL out of range; warning_text(i): one
