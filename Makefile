@@ -12,7 +12,7 @@ ifeq ($(SANITIZE),1)
   OPT   := -O1 -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined
 endif
 
-# what the library links against; LAPACK(E) only for the tests and the benchmark (references)
+# what the library links against (LAPACK(E): the k·p solvers; also the tests' references)
 PKGS      := superlu libconfig zlib cairo lapacke lapack
 TEST_PKGS := lapacke lapack cmocka
 # deferred (=): evaluated only when a compile or link runs, after any deps step

@@ -27,6 +27,27 @@ ew_status ew_minibands_compute(ew_minibands *mb, const ew_stack *stack, size_t p
   return ew_minibands_run(mb, stack, points, grid_step_nm, err);
 }
 
+ew_status ew_minibands_compute_kp(ew_minibands *mb, const ew_stack *stack, int bands,
+                                  size_t points, double grid_step_nm, double kmax_inv_nm,
+                                  size_t kpoints, ew_error *err) {
+  if (!mb || !stack)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_minibands_compute_kp: NULL argument");
+  return ew_minibands_run_kp(mb, stack, bands, points, grid_step_nm, kmax_inv_nm, kpoints, err);
+}
+
+const char *ew_minibands_model(const ew_minibands *mb) {
+  if (!mb || !mb->points) return NULL;
+  return mb->model == 8 ? "8band" : mb->model == 6 ? "6band" : mb->model == 4 ? "4band" : "1band";
+}
+double ew_minibands_gap_eV(const ew_minibands *mb) { return mb && mb->points ? mb->gap_eV : NAN; }
+size_t ew_minibands_k_count(const ew_minibands *mb) { return mb ? mb->kpoints : 0; }
+double ew_minibands_k_inv_nm(const ew_minibands *mb, size_t i) {
+  return mb && i < mb->kpoints ? mb->k_inv_nm[i] : NAN;
+}
+double ew_minibands_energy_k_eV(const ew_minibands *mb, size_t j, size_t i) {
+  return mb && j < mb->count && i < mb->kpoints ? mb->energy_k_eV[j * mb->kpoints + i] : NAN;
+}
+
 double ew_minibands_period_nm(const ew_minibands *mb) { return mb && mb->points ? mb->period_nm : NAN; }
 double ew_minibands_grid_step_nm(const ew_minibands *mb) { return mb && mb->points ? mb->step_nm : NAN; }
 size_t ew_minibands_point_count(const ew_minibands *mb) { return mb ? mb->points : 0; }
@@ -37,7 +58,8 @@ double ew_minibands_q_inv_nm(const ew_minibands *mb, size_t i) {
 }
 
 const char *ew_minibands_band(const ew_minibands *mb, size_t j) {
-  return mb && j < mb->count ? ew_band_name(mb->band[j]) : NULL;
+  if (!mb || j >= mb->count) return NULL;
+  return mb->kp_band ? mb->kp_band[j] : ew_band_name(mb->band[j]);
 }
 const char *ew_minibands_label(const ew_minibands *mb, size_t j) {
   return mb && j < mb->count ? mb->label[j] : NULL;
@@ -82,7 +104,7 @@ const char *ew_minibands_warning_text(const ew_minibands *mb, size_t i) {
 
 const char *ew_minibands_electron_mass(const ew_minibands *mb) {
   if (!mb || !mb->points) return NULL;
-  return mb->kane ? "kane" : "parabolic";
+  return mb->model > 1 ? "kp" : mb->kane ? "kane" : "parabolic";
 }
 
 /* ---- writers ---------------------------------------------------------------------------- */
@@ -116,7 +138,7 @@ ew_status ew_minibands_write_json(const ew_minibands *mb, FILE *out, ew_error *e
   for (size_t s = 0; s < mb->count; s++) {
     ew_json_newline(&j);
     ew_json_begin_object(&j);
-    ew_json_key_str(&j, "band", ew_band_name(mb->band[s]));
+    ew_json_key_str(&j, "band", ew_minibands_band(mb, s));
     ew_json_key_int(&j, "index", mb->index[s]);
     ew_json_key_str(&j, "label", mb->label[s]);
     ew_json_key_num(&j, "bottom_eV", mb->bottom_eV[s]);
@@ -126,9 +148,15 @@ ew_status ew_minibands_write_json(const ew_minibands *mb, FILE *out, ew_error *e
     ew_json_key_num(&j, "bound_eV", mb->bound_eV[s]);
     json_numbers(&j, "q_inv_nm", mb->q_inv_nm, mb->points);
     json_numbers(&j, "energy_eV", mb->energy_eV + s * mb->points, mb->points);
+    if (mb->model > 1) json_numbers(&j, "energy_k_eV", mb->energy_k_eV + s * mb->kpoints, mb->kpoints);
     ew_json_end_object(&j);
   }
   ew_json_end_array(&j);
+  ew_json_key_str(&j, "model", ew_minibands_model(mb));
+  if (mb->model > 1) {
+    ew_json_key_num(&j, "gap_eV", mb->gap_eV);
+    json_numbers(&j, "k_inv_nm", mb->k_inv_nm, mb->kpoints);
+  }
   ew_json_end_object(&j);
   if (ew_json_finish(&j)) return ew_fail(err, EW_ERR_IO, NULL, 0, "writing the minibands JSON failed");
   return EW_OK;
@@ -146,6 +174,21 @@ ew_status ew_minibands_write_csv(const ew_minibands *mb, FILE *out, ew_error *er
     fputs("\n", out);
   }
   if (ferror(out)) return ew_fail(err, EW_ERR_IO, NULL, 0, "writing the minibands CSV failed");
+  return EW_OK;
+}
+
+ew_status ew_minibands_write_csv_k(const ew_minibands *mb, FILE *out, ew_error *err) {
+  if (!mb || !out || !mb->points || !mb->kpoints)
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "ew_minibands_write_csv_k: no in-plane samples");
+  fputs("k_inv_nm", out);
+  for (size_t s = 0; s < mb->count; s++) fprintf(out, ",%s_eV", mb->label[s]);
+  fputs("\n", out);
+  for (size_t i = 0; i < mb->kpoints; i++) {
+    fprintf(out, "%.10g", mb->k_inv_nm[i]);
+    for (size_t s = 0; s < mb->count; s++) fprintf(out, ",%.10g", mb->energy_k_eV[s * mb->kpoints + i]);
+    fputs("\n", out);
+  }
+  if (ferror(out)) return ew_fail(err, EW_ERR_IO, NULL, 0, "writing the in-plane CSV failed");
   return EW_OK;
 }
 

@@ -636,7 +636,7 @@ EW_API size_t ew_minibands_point_count(const ew_minibands *mb);
 EW_API double ew_minibands_q_inv_nm(const ew_minibands *mb, size_t i); /* NAN out of range */
 /* Minibands followed: electrons first, then heavy and light holes, each from its band edge. */
 EW_API size_t ew_minibands_count(const ew_minibands *mb);
-EW_API const char *ew_minibands_band(const ew_minibands *mb, size_t j);  /* "e", "hh", "lh" */
+EW_API const char *ew_minibands_band(const ew_minibands *mb, size_t j);  /* "e", "hh", "lh" (k·p: "so") */
 EW_API const char *ew_minibands_label(const ew_minibands *mb, size_t j); /* "e1", "hh2", … */
 EW_API int ew_minibands_index(const ew_minibands *mb, size_t j); /* 1-based; 0 out of range */
 /* Absolute eV (NAN out of range); mass at the bottom in m0, from the curvature there. */
@@ -648,7 +648,9 @@ EW_API double ew_minibands_energy_eV(const ew_minibands *mb, size_t j, size_t i)
 /* The largest certified |E − E_exact(grid)| bound of miniband j over its points (the
  * eigenvalue of the discrete problem, not the grid error). */
 EW_API double ew_minibands_bound_eV(const ew_minibands *mb, size_t j);
-/* Window top of band (absolute eV) that chose the minibands. */
+/* Window top of band (absolute eV) that chose the minibands (k·p models: the period's highest
+ * conduction edge for EW_BAND_E, NAN without the conduction band, and its lowest valence top
+ * for the hole bands). */
 EW_API double ew_minibands_window_top_eV(const ew_minibands *mb, ew_band band);
 /* Warnings of the computation (code "miniband-doping-ignored": the stack is doped, the
  * minibands are flat-band).  warning(i): the code, NULL out of range; warning_text(i): one
@@ -667,6 +669,33 @@ EW_API const char *ew_minibands_electron_mass(const ew_minibands *mb);
 EW_API ew_status ew_minibands_write_json(const ew_minibands *mb, FILE *out, ew_error *err);
 EW_API ew_status ew_minibands_write_csv(const ew_minibands *mb, FILE *out, ew_error *err);
 EW_API ew_status ew_minibands_write_plot(const ew_minibands *mb, const char *path, ew_error *err);
+/* The multiband k·p minibands of the same period (README "Minibands", "Eight bands"): the
+ * 4-, 6- or 8-band (bands = 4, 6, 8) Hamiltonian of the dispersion (Burt–Foreman ordering,
+ * Foreman's Ep rescaling) on one period with the Bloch condition; E(q) at k∥ = 0 on points q
+ * samples (as ew_minibands_compute) and E(k∥) at q = 0 on kpoints samples from 0 to
+ * kmax_inv_nm (1/nm, along [100]; kpoints 0: none).  8-band: the electron minibands (e1 …,
+ * bottoms below the period's highest conduction edge, 1 to 4) and the hole minibands (tops
+ * above its lowest valence top, 1 to 8, labelled hh/lh/so by their q = 0 character); 4/6-band:
+ * the hole minibands.  Each miniband is a Kramers pair, printed as the pair's mean; every
+ * window certified by inertia counts, and (8-band) no state inside the gap at any point.
+ * Errors as ew_minibands_compute (EW_ERR_INPUT also for a layer the model cannot take). */
+EW_API ew_status ew_minibands_compute_kp(ew_minibands *mb, const ew_stack *stack, int bands,
+                                         size_t points, double grid_step_nm,
+                                         double kmax_inv_nm, size_t kpoints, ew_error *err);
+/* "1band" (ew_minibands_compute), "4band", "6band", "8band"; NULL before compute. */
+EW_API const char *ew_minibands_model(const ew_minibands *mb);
+/* 8-band: the superlattice gap, min over q of e1 − max over q of the top hole miniband, eV
+ * (negative: semimetal); NAN otherwise. */
+EW_API double ew_minibands_gap_eV(const ew_minibands *mb);
+/* The in-plane samples at q = 0 (k·p models; 0 otherwise), k∥ in 1/nm and miniband j's
+ * energy there (absolute eV; NAN out of range). */
+EW_API size_t ew_minibands_k_count(const ew_minibands *mb);
+EW_API double ew_minibands_k_inv_nm(const ew_minibands *mb, size_t i);
+EW_API double ew_minibands_energy_k_eV(const ew_minibands *mb, size_t j, size_t i);
+/* k·p JSON additions (after "minibands"): "model":"8band","gap_eV":…,"k_inv_nm":[…], and in
+ * each miniband "energy_k_eV":[…]; every JSON ends with "model".  CSV of E(k∥) at q = 0:
+ * k_inv_nm,LABEL_eV… (one row per k∥); EW_ERR_USAGE without in-plane samples. */
+EW_API ew_status ew_minibands_write_csv_k(const ew_minibands *mb, FILE *out, ew_error *err);
 /* ---- material gain of an undoped well with injected carriers (api_gain.c) --------------
  * TE and TM material gain (1/cm) and the spontaneous-emission spectrum at each sheet carrier
  * density (equal electrons and holes): electrons from the solver's subbands (parabolic in

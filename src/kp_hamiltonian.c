@@ -215,6 +215,20 @@ static void n_split(const ew_kp_profile *p, size_t c, double *np, double *nm) {
   }
 }
 
+/* The valence coupling Cm (units K, electron sign, 3×3 row-major per spin) between the nodes
+ * on either side of cell c (c − 1 and c). */
+static void valence_coupling(const ew_kp_profile *p, size_t c, double kx, double ky,
+                             double complex Cm[9]) {
+  double np, nm, hc = p->h[c];
+  for (int q = 0; q < 9; q++) Cm[q] = 0;
+  n_split(p, c, &np, &nm);
+  double Mt = -p->g_hh[c], Lt = 0.5 * (p->g_hh[c] - 3.0 * p->g_lh[c]);
+  Cm[0] = -Mt / hc, Cm[4] = -Mt / hc, Cm[8] = -Lt / hc;
+  /* −(i/2)(F + Fᵀ): xz and zx entries kx (N+ + N−) = kx N */
+  Cm[2] = Cm[6] = -0.5 * I * kx * (np + nm);
+  Cm[5] = Cm[7] = -0.5 * I * ky * (np + nm);
+}
+
 /* The valence node block M (units K, electron sign, 3×3 row-major per spin: the box over the
  * dual cell of node i) and the coupling Cm through cell i + 1 (when i + 1 < n). */
 static void valence_blocks(const ew_kp_profile *p, size_t i, double kx, double ky,
@@ -233,16 +247,16 @@ static void valence_blocks(const ew_kp_profile *p, size_t i, double kx, double k
     M[2] += sgn * I * dx, M[6] -= sgn * I * dx;
     M[5] += sgn * I * dy, M[7] -= sgn * I * dy;
   }
-  if (i + 1 < p->n) { /* coupling through cell i + 1 */
-    size_t c = i + 1;
-    double np, nm, hc = p->h[c];
-    n_split(p, c, &np, &nm);
-    double Mt = -p->g_hh[c], Lt = 0.5 * (p->g_hh[c] - 3.0 * p->g_lh[c]);
-    Cm[0] = -Mt / hc, Cm[4] = -Mt / hc, Cm[8] = -Lt / hc;
-    /* −(i/2)(F + Fᵀ): xz and zx entries kx (N+ + N−) = kx N */
-    Cm[2] = Cm[6] = -0.5 * I * kx * (np + nm);
-    Cm[5] = Cm[7] = -0.5 * I * ky * (np + nm);
-  }
+  if (i + 1 < p->n) valence_coupling(p, i + 1, kx, ky, Cm);
+}
+
+/* 8-band: the conduction row's part of the coupling through cell c (C4 4×4 row-major, units
+ * K; the valence part already in place) */
+static void kane_coupling(const ew_kp_profile *p, size_t c, double complex C4[16]) {
+  const double K = EW_HB2M0_EVNM2;
+  double hc = p->h[c], S = p->g_e[c] - p->ep[c] * p->fk[c], pk = sqrt(p->ep[c] / K);
+  C4[0] = -S / hc;
+  C4[3] = 0.5 * pk, C4[12] = -0.5 * pk; /* −(i/2)(F + F†) */
 }
 
 /* 8-band: the orbital S, X, Y, Z blocks (4×4 row-major, units K): the valence blocks, the
@@ -266,12 +280,7 @@ static void kane_blocks(const ew_kp_profile *p, size_t i, double kx, double ky,
       M4[3] -= sgn * pk, M4[12] -= sgn * pk;
     }
   }
-  if (i + 1 < p->n) {
-    size_t c = i + 1;
-    double hc = p->h[c], S = p->g_e[c] - p->ep[c] * p->fk[c], pk = sqrt(p->ep[c] / K);
-    C4[0] = -S / hc;
-    C4[3] = 0.5 * pk, C4[12] = -0.5 * pk; /* −(i/2)(F + F†) */
-  }
+  if (i + 1 < p->n) kane_coupling(p, i + 1, C4);
 }
 
 /* The basis change U† (1₂ ⊗ M) U as a list of its non-zero terms J_ab += c · M_rq, c =
@@ -392,5 +401,26 @@ void ew_kp_pencil_apply(const ew_kp_pencil *H, const double complex *x, double c
   case 4: apply_nb(H, x, y, 4); break;
   case 6: apply_nb(H, x, y, 6); break;
   default: apply_nb(H, x, y, 8); break;
+  }
+}
+
+void ew_kp_coupling_fill(const ew_kp_profile *p, size_t c, double kx, double ky,
+                         double complex *C) {
+  double complex U[36], U8[64], Cm[9];
+  ew_kp_basis(U);
+  basis8(U, U8);
+  jterm terms[MAX_JTERMS];
+  int nb = p->nb;
+  int nt = nb == 8 ? j_terms(U8, 8, 4, 8, terms) : j_terms(U, 6, 3, nb, terms);
+  memset(C, 0, (size_t)nb * (size_t)nb * sizeof *C);
+  valence_coupling(p, c, kx, ky, Cm);
+  if (nb == 8) {
+    double complex C4[16] = {0};
+    for (int r = 0; r < 3; r++)
+      for (int q = 0; q < 3; q++) C4[(r + 1) * 4 + q + 1] = Cm[r * 3 + q];
+    kane_coupling(p, c, C4);
+    apply_terms(terms, nt, C4, -EW_HB2M0_EVNM2, C);
+  } else {
+    apply_terms(terms, nt, Cm, -EW_HB2M0_EVNM2, C);
   }
 }

@@ -136,6 +136,13 @@ void ew_kp_pencil_fill(const ew_kp_profile *p, double kx, double ky, ew_kp_penci
 /* y = H x (x, y of n · nb). */
 void ew_kp_pencil_apply(const ew_kp_pencil *H, const double complex *x, double complex *y);
 
+/* The coupling block H_{c−1,c} through cell c (1 <= c <= p->n; column-major nb × nb, the
+ * basis and sign of ew_kp_pencil_fill's off blocks): off block c − 1 of the pencil for
+ * c < n, and for c = n the coupling through the last cell to a node beyond the stack, which
+ * the hard-wall pencil leaves out (the Bloch condition of kp_periodic.h needs it). */
+void ew_kp_coupling_fill(const ew_kp_profile *p, size_t c, double kx, double ky,
+                         double complex *C);
+
 /* The Clebsch–Gordan unitary: column j = basis state j (above) in X↑ Y↑ Z↑ X↓ Y↓ Z↓. */
 void ew_kp_basis(double complex U[36]);
 

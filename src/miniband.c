@@ -27,7 +27,7 @@ static double layer_pot_at(const ew_layer *ly, ew_band band, double u) {
  * the first half cell of the first, each by the trapezoid rule (exact for constant layers
  * and for a graded layer's linear pieces, which are longer than half a cell at any step the
  * grid allows: EW_GRADE_SAMPLES pieces per layer). */
-static double period_node_pot(const ew_stack *st, ew_band band, double h_first, double h_last) {
+double ew_mb_period_node_pot(const ew_stack *st, ew_band band, double h_first, double h_last) {
   const ew_layer *f = &st->layers[0], *l = &st->layers[st->n_layers - 1];
   double uf = 0.5 * h_first / f->thickness_nm, ul = 1.0 - 0.5 * h_last / l->thickness_nm;
   double vf = 0.5 * (layer_pot_at(f, band, 0.0) + layer_pot_at(f, band, uf));
@@ -88,7 +88,7 @@ void ew_mb_pencil_set_masses(ew_mb_pencil *p, const ew_stack *st, const ew_grid 
 #define MC(j) ((j) == 0 ? cm[n] : cm[(j) - 1])
   p->vmin = INFINITY;
   for (size_t j = 0; j < N; j++) {
-    double V = j == 0 ? period_node_pot(st, band, g->h[0], g->h[n]) : g->pot[band][j - 1];
+    double V = j == 0 ? ew_mb_period_node_pot(st, band, g->h[0], g->h[n]) : g->pot[band][j - 1];
     p->w[j] = j == 0 ? 0.5 * (g->h[0] + g->h[n]) : g->w[j - 1];
     p->diag[j] = K * (1.0 / MC(j) + 1.0 / MC((j + 1) % N)) + p->w[j] * V;
     p->off[j] = -K / MC((j + 1) % N);

@@ -54,6 +54,10 @@ void ew_mb_pencil_free(ew_mb_pencil *p);
 void ew_mb_pencil_set_masses(ew_mb_pencil *p, const ew_stack *st, const ew_grid *g, ew_band band,
                              const double *M);
 
+/* Mean positive-mass potential (Ec, or −Ev for holes) of band over the period node's dual
+ * cell (half of the last cell, h_last, and half of the first, h_first), eV. */
+double ew_mb_period_node_pot(const ew_stack *st, ew_band band, double h_first, double h_last);
+
 /* Number of eigenvalues of the pencil at phase qd (= q·d, radians) below sigma. */
 size_t ew_mb_count_below(const ew_mb_pencil *p, double qd, double sigma);
 
@@ -103,7 +107,28 @@ struct ew_minibands {
   size_t per_band[EW_BAND_COUNT];      /* minibands of each band */
   int kane;                /* 1: electrons with the Kane energy-dependent mass (as solve) */
   int doping_ignored;      /* 1: the stack is doped; minibands are flat-band */
+  /* the multiband k·p model of one period (miniband_kp.c, kp_periodic.h); model 1: the
+     single-band pencils above, and the members below stay empty */
+  int model;               /* 1, 4, 6 or 8 */
+  char (*kp_band)[4];      /* [count] "e", "hh", "lh", "so" by the q = 0 character (k·p) */
+  double gap_eV;           /* 8-band: min over q of e1 − max over q of the top hole miniband */
+  size_t kpoints;          /* in-plane samples at q = 0 (k·p; 0: none) */
+  double *k_inv_nm;        /* [kpoints] along [100] */
+  double *energy_k_eV;     /* [count × kpoints] E(k∥) at q = 0, pair means */
+  size_t gap_index;        /* the count that splits the window's two sides (8-band: 2N) */
+  size_t factorizations, solves, counts; /* work of the k·p solve */
 };
+
+/* The per-miniband arrays for count minibands on points q samples; 0 when out of memory
+ * (ew_minibands_clear releases what was allocated). */
+int ew_minibands_alloc(ew_minibands *mb, size_t count, size_t points);
+/* The argument checks shared by both models; *step the grid step used. */
+ew_status ew_minibands_check_args(const ew_stack *st, size_t points, double step_nm,
+                                  double *step, ew_error *err);
+/* The k·p minibands (miniband_kp.c): model 4, 6 or 8; E(q) at k∥ = 0 on points q samples and
+ * E(k∥) at q = 0 on kpoints samples from 0 to kmax_inv_nm along [100] (kpoints 0: none). */
+ew_status ew_minibands_run_kp(ew_minibands *mb, const ew_stack *st, int model, size_t points,
+                              double step_nm, double kmax_inv_nm, size_t kpoints, ew_error *err);
 
 /* Compute (replacing any earlier result); step_nm <= 0: the stack's or the solve's default. */
 ew_status ew_minibands_run(ew_minibands *mb, const ew_stack *st, size_t points, double step_nm,

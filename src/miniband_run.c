@@ -80,10 +80,13 @@ void ew_minibands_clear(ew_minibands *mb) {
   free(mb->width_eV);
   free(mb->mass_m0);
   free(mb->bound_eV);
+  free(mb->kp_band);
+  free(mb->k_inv_nm);
+  free(mb->energy_k_eV);
   memset(mb, 0, sizeof *mb);
 }
 
-static int mb_alloc(ew_minibands *mb, size_t count, size_t points) {
+int ew_minibands_alloc(ew_minibands *mb, size_t count, size_t points) {
   size_t c = count ? count : 1;
   mb->q_inv_nm = malloc(points * sizeof *mb->q_inv_nm);
   mb->band = malloc(c * sizeof *mb->band);
@@ -178,8 +181,8 @@ static ew_status band_count(band_problem *bp, double top, size_t *count, ew_erro
   return EW_OK;
 }
 
-static ew_status run_checks(const ew_stack *st, size_t points, double step_nm, double *step,
-                            ew_error *err) {
+ew_status ew_minibands_check_args(const ew_stack *st, size_t points, double step_nm,
+                                  double *step, ew_error *err) {
   if (points < 2 || points > EW_MB_POINTS_MAX)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "minibands: %zu q points (give 2 to %d)", points,
                    EW_MB_POINTS_MAX);
@@ -257,7 +260,7 @@ static ew_status fill_bands(ew_minibands *mb, band_problem bp[EW_BAND_COUNT], ew
 ew_status ew_minibands_run(ew_minibands *mb, const ew_stack *st, size_t points, double step_nm,
                            ew_error *err) {
   double step = 0.0;
-  ew_status rc = run_checks(st, points, step_nm, &step, err);
+  ew_status rc = ew_minibands_check_args(st, points, step_nm, &step, err);
   if (rc != EW_OK) return rc;
   ew_minibands_clear(mb);
   ew_grid *g = NULL;
@@ -275,7 +278,7 @@ ew_status ew_minibands_run(ew_minibands *mb, const ew_stack *st, size_t points, 
     rc = ew_fail(err, EW_ERR_INPUT, st->path, 0, "minibands: no band has a miniband below its "
                  "window top (the lower edge of the period's two outer layers: put barrier "
                  "material at both faces of the period)");
-  if (rc == EW_OK && !mb_alloc(mb, count, points))
+  if (rc == EW_OK && !ew_minibands_alloc(mb, count, points))
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (minibands, %zu x %zu)", count, points);
   if (rc == EW_OK) {
     mb->points = points, mb->count = count;
@@ -283,6 +286,7 @@ ew_status ew_minibands_run(ew_minibands *mb, const ew_stack *st, size_t points, 
     for (size_t i = 0; i < points; i++)
       mb->q_inv_nm[i] = EW_PI / st->total_nm * (double)i / (double)(points - 1);
     mb->kane = bp[EW_BAND_E].kane;
+    mb->model = 1, mb->gap_eV = NAN;
     mb->doping_ignored = st->doped;
     rc = fill_bands(mb, bp, err);
   }

@@ -117,4 +117,52 @@ if [ "$rc" -eq 2 ]; then ok "no miniband below the window top: exit 2"; else nok
 run "$bin" --help
 if grep -q 'epiwell minibands' "$tmp/out"; then ok "epiwell --help lists minibands"; else nok "--help lists minibands"; fi
 
+# --model 8band on the long-wave infrared example: the JSON (Python's json) against the two
+# CSVs and the table of the same run, value by value; the gap against the JSON's e1 and hh1
+run "$bin" minibands examples/periods/lwir_superlattice.cfg --model 8band --points 5 --kpoints 3 \
+  --kmax 0.2 --json --csv "$tmp/k.csv" --csv-k "$tmp/kk.csv"
+cp "$tmp/out" "$tmp/k.json"
+if [ "$rc" -eq 0 ]; then ok "minibands --model 8band --json --csv --csv-k: exit 0"; else nok "8band: exit 0" "exit $rc: $(head -n 2 "$tmp/err")"; fi
+run "$bin" minibands examples/periods/lwir_superlattice.cfg --model 8band --points 5 --kpoints 3 --kmax 0.2
+cp "$tmp/out" "$tmp/k.txt"
+out=$(python3 - "$tmp/k.json" "$tmp/k.csv" "$tmp/kk.csv" "$tmp/k.txt" <<'PY' 2>&1
+import csv, json, math, sys
+d = json.load(open(sys.argv[1]))
+rows = list(csv.reader(open(sys.argv[2])))
+krows = list(csv.reader(open(sys.argv[3])))
+table = open(sys.argv[4]).read().splitlines()
+bad = []
+if d.get("model") != "8band": bad.append("model %r" % d.get("model"))
+if d.get("electron_mass") != "kp": bad.append("electron_mass")
+mbs = d["minibands"]
+labels = [m["label"] for m in mbs]
+if labels[0] != "e1" or "hh1" not in labels: bad.append("labels %s" % labels)
+if d["k_inv_nm"] != [0, 0.1, 0.2]: bad.append("k_inv_nm %s" % d["k_inv_nm"])
+if rows[0] != ["q_inv_nm"] + [l + "_eV" for l in labels]: bad.append("csv header %s" % rows[0])
+if krows[0] != ["k_inv_nm"] + [l + "_eV" for l in labels]: bad.append("csv-k header %s" % krows[0])
+for j, m in enumerate(mbs):
+    for i in range(5):
+        if abs(float(rows[1 + i][1 + j]) - m["energy_eV"][i]) > 1e-9 * max(1, abs(m["energy_eV"][i])): bad.append("csv %s q %d" % (m["label"], i))
+        if abs(float(rows[1 + i][0]) - m["q_inv_nm"][i]) > 1e-12: bad.append("csv q %d" % i)
+    for i in range(3):
+        if abs(float(krows[1 + i][1 + j]) - m["energy_k_eV"][i]) > 1e-9 * max(1, abs(m["energy_k_eV"][i])): bad.append("csv-k %s k %d" % (m["label"], i))
+    lo, hi = min(m["energy_eV"]), max(m["energy_eV"])
+    e = m["band"] == "e"
+    if abs(m["bottom_eV"] - (lo if e else hi)) > 1e-9 or abs(m["width_eV"] - (hi - lo)) > 1e-9: bad.append("bottom/width %s" % m["label"])
+    line = [t for t in table if t.split() and t.split()[0] == m["label"]]
+    if not line or abs(float(line[0].split()[1]) - m["bottom_eV"]) > 1e-6: bad.append("table %s" % m["label"])
+e1 = mbs[labels.index("e1")]
+h1 = mbs[labels.index("e1") + len([m for m in mbs if m["band"] == "e"])]
+if abs(d["gap_eV"] - (min(e1["energy_eV"]) - max(h1["energy_eV"]))) > 1e-9: bad.append("gap_eV")
+gl = [t for t in table if t.startswith("superlattice gap")]
+if not gl or abs(float(gl[0].split(":")[1].split()[0]) - d["gap_eV"]) > 1e-6: bad.append("table gap")
+print("\n".join(bad) if bad else "ok")
+PY
+)
+if [ "$out" = ok ]; then ok "8band JSON = CSV = --csv-k = table, gap = e1 - hh1"; else nok "8band outputs agree" "$out"; fi
+run "$bin" minibands examples/periods/lwir_superlattice.cfg --kmax 0.2
+if [ "$rc" -eq 1 ] && grep -q -- '--model' "$tmp/err"; then ok "--kmax without a k.p model: exit 1"; else nok "--kmax single-band" "exit $rc"; fi
+run "$bin" minibands examples/periods/lwir_superlattice.cfg --model 7band
+if [ "$rc" -eq 1 ] && grep -q -- '--model' "$tmp/err"; then ok "--model 7band: exit 1"; else nok "--model 7band" "exit $rc"; fi
+
 finish minibands_cli

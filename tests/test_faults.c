@@ -805,6 +805,38 @@ static void faults_hole_dos_kp(void **state) {
 #endif
 }
 
+/* The 8-band minibands of the same short period (kp_periodic*.c, miniband_kp.c: the periodic
+ * profile, the bordered elimination over SuperLU, the window solver): every energy at every q
+ * and in-plane k, each mass, the gap. */
+static void minibands8_job(const void *ctx, outcome *out) {
+  const ew_stack *st = ctx;
+  ew_minibands *mb = NULL;
+  ew_error err;
+  out->len = 0;
+  out->rc = ew_minibands_create(&mb, &err);
+  if (out->rc == EW_OK) out->rc = ew_minibands_compute_kp(mb, st, 8, 2, 0.0, 0.2, 2, &err);
+  size_t np = ew_minibands_point_count(mb), nk = ew_minibands_k_count(mb);
+  for (size_t j = 0; out->rc == EW_OK && j < ew_minibands_count(mb); j++)
+    for (size_t i = 0; i <= np + nk; i++) {
+      double e = i < np ? ew_minibands_energy_eV(mb, j, i)
+                 : i < np + nk ? ew_minibands_energy_k_eV(mb, j, i - np)
+                               : ew_minibands_mass_m0(mb, j) + ew_minibands_gap_eV(mb);
+      if (out->len + sizeof e > sizeof out->bytes) break;
+      memcpy(out->bytes + out->len, &e, sizeof e);
+      out->len += sizeof e;
+    }
+  ew_minibands_free(mb);
+}
+
+static void faults_minibands8(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  assert_int_equal(narrow_well_faults("8-band minibands", minibands8_job, 1.5, 4.0), 0);
+#else
+  skip();
+#endif
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(faults_single_well),
@@ -822,12 +854,14 @@ int main(void) {
       cmocka_unit_test(faults_repeat_build),
       cmocka_unit_test(faults_continuum),
       cmocka_unit_test(faults_hole_dos_kp),
+      cmocka_unit_test(faults_minibands8),
   };
 #if !FAULTS_POSSIBLE
   (void)solve_job, (void)sweep_job, (void)build_job, (void)merge_job, (void)dispersion_job,
       (void)minibands_job, (void)gain_job, (void)read_stack,
       (void)well_text, (void)job_grid; /* skipped */
   (void)dispersion8_job, (void)hole_absorption_job;
+  (void)minibands8_job;
 #endif
   /* EW_FAULTS_ONLY=NAME runs one test (a cmocka filter pattern), for chasing one failure */
   const char *only = getenv("EW_FAULTS_ONLY");
