@@ -635,6 +635,80 @@ static void doped_sweep_rows_are_their_own_solves(void **state) {
   ew_wf_model_free(m);
 }
 
+/* The table's ψ samples (the pictures' level tracking, sweep.h): for every row and level
+ * column, ψ of that level of a separate plain solve at EW_WF_PSI_SAMPLES evenly spaced z,
+ * linear between nodes, scaled to unit norm — computed here from the public accessors —
+ * and zeros for a level not bound at that point; tolerance 1e-12 (rounding of the same
+ * interpolation).  12 points: the sub-grid's 9 rows held from the plan and 3 solved with
+ * the rows, the level columns of all three bands. */
+static void sweep_table_psi_samples_are_the_solves(void **state) {
+  fixture *fx = *state;
+  ew_error err = {0};
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.grid_step_nm = 0.1;
+  opt.error_estimate = 0;
+  opt.excitons = 0;
+  ew_wf_model *m = NULL;
+  assert_int_equal(ew_wf_model_open(DETECTOR, fx->cat, &opt, &m, &err), EW_OK);
+  ew_wf_range r = range("well.thickness=3:8.5:0.5"); /* e2 bound from some width on */
+  ew_wf_table tab;
+  memset(&tab, 0, sizeof tab);
+  ew_wf_sweep_opt o;
+  ew_wf_sweep_opt_default(&o);
+  o.threads = 2;
+  o.table = &tab;
+  assert_int_equal(ew_wf_sweep(m, &r, 1, &o, NULL, NULL, &err), EW_OK);
+  assert_int_equal(tab.nrows, 12);
+  assert_true(tab.nlev >= 4);
+  const size_t K = EW_WF_PSI_SAMPLES;
+  const char *key = r.key;
+  size_t zero_cols = 0;
+  for (size_t row = 0; row < tab.nrows; row++) {
+    double v;
+    ew_wf_sweep_point(&r, 1, row, &v);
+    ew_stack *st = NULL;
+    ew_result *res = NULL;
+    assert_int_equal(ew_wf_stack_at(m, 1, &key, &v, &st, &err), EW_OK);
+    assert_int_equal(ew_solve(st, ew_wf_model_options(m), &res, &err), EW_OK);
+    size_t n = ew_result_node_count(res);
+    const double *z = ew_result_z_nm(res);
+    for (size_t c = 0; c < tab.nlev; c++) {
+      /* the column's level: its band and its number within the band in column order */
+      size_t num = 1;
+      for (size_t k = 0; k < c; k++) num += tab.band[k] == tab.band[c];
+      char label[16];
+      snprintf(label, sizeof label, "%s%zu", ew_band_name(tab.band[c]), num);
+      char colname[24];
+      snprintf(colname, sizeof colname, "%s_eV", label);
+      assert_string_equal(tab.names[tab.lev0 + c], colname);
+      const double *psi = NULL;
+      for (size_t i = 0; i < ew_result_state_count(res); i++)
+        if (!strcmp(ew_result_state(res, i)->label, label)) psi = ew_result_wavefunction(res, i);
+      const double *got = tab.psi + (row * tab.nlev + c) * K;
+      double want[EW_WF_PSI_SAMPLES], s2 = 0;
+      for (size_t k = 0; k < K; k++) {
+        double zz = z[0] + (z[n - 1] - z[0]) * (double)k / (double)(K - 1);
+        size_t j = 0; /* the cell [z_j, z_j+1] holding zz */
+        while (j + 2 < n && z[j + 1] < zz) j++;
+        double t = (zz - z[j]) / (z[j + 1] - z[j]);
+        want[k] = psi ? (1 - t) * psi[j] + t * psi[j + 1] : 0.0;
+        s2 += want[k] * want[k];
+      }
+      zero_cols += !psi;
+      for (size_t k = 0; k < K; k++) {
+        double w = s2 > 0 ? want[k] / sqrt(s2) : 0.0;
+        TU_NEAR(got[k], w, 1e-12, "ψ of a plain solve sampled at the same z");
+      }
+    }
+    ew_result_free(res);
+    ew_stack_free(st);
+  }
+  assert_true(zero_cols > 0); /* some level not bound at the narrow end: zeros checked too */
+  ew_wf_table_free(&tab);
+  ew_wf_model_free(m);
+}
+
 /* ---- matching -------------------------------------------------------------------------- */
 static void match_round_trip(void **state) {
   fixture *fx = *state;
@@ -1082,6 +1156,7 @@ int main(void) {
       cmocka_unit_test(sweep_levels_floor),
       cmocka_unit_test(sweep_rows_are_their_own_solves),
       cmocka_unit_test(doped_sweep_rows_are_their_own_solves),
+      cmocka_unit_test(sweep_table_psi_samples_are_the_solves),
       cmocka_unit_test(match_round_trip),
       cmocka_unit_test(match_depolarised_line),
       cmocka_unit_test(match_tolerance_and_no_solution),
