@@ -56,7 +56,33 @@ typedef struct {
   const char *sub_keys[SWEEP_TIED_MAX];
   size_t sub_axis[SWEEP_TIED_MAX];
   char sub_buf[SWEEP_TIED_MAX][EW_WF_KEY_MAX];
+  int psi;               /* rows keep ψ samples (a table for pictures) */
+  /* the points solved before the columns are fixed (plan_solve): the sub-grid and the
+   * shard's first chunk, ascending; held[i] the record of held_p[i] while the rows have not
+   * taken it (NULL outside the shard, after a failure, once written) */
+  size_t nheld;
+  size_t *held_p;
+  struct point_rec **held;
 } sweep_plan;
+
+/* What a row takes from a point's result, whatever the sweep's column set: the point's own
+ * bound levels and the lines between them.  Any column set that holds the point's levels
+ * (check_counts) leaves every other level and line cell empty, since a level beyond a band's
+ * bound count has no energy and no line (line_name.c), so the row filled from the record is
+ * the row filled from the result, bit for bit, whenever the columns are fixed. */
+typedef struct point_rec {
+  size_t cnt[EW_BAND_COUNT];  /* bound levels per band */
+  size_t lev0[EW_BAND_COUNT]; /* band b's first level in lev[] (and in psi[], × samples) */
+  size_t isb0[EW_BAND_COUNT]; /* band b's line b1–b2 in isb[] */
+  int sc;                     /* solved self-consistently (res->sp) */
+  double *lev;                /* [Σ cnt] energies, eV */
+  double *isb;                /* [Σ (cnt − 1)][4] b1–bj: eV, µm, f, depolarised eV */
+  double *psi;                /* [Σ min(cnt, WF_PSI_LEVELS)][EW_WF_PSI_SAMPLES] or NULL */
+  double ib[EW_WF_INTERBAND_MAX][2][3]; /* e_n–hh_n, e_n–lh_n: eV, nm, overlap; NaN: none */
+  char codes[EW_WARNING_CODES_MAX];
+  double data[];
+} point_rec;
+#define WF_PSI_LEVELS (3 * 64) /* ψ columns a table holds at most (ew_wf_table.band) */
 
 /* Solve the point with axis values vals: every key of every range set. */
 static ew_status solve_point(const sweep_plan *P, const double *vals, ew_stack **st,
@@ -168,42 +194,200 @@ static size_t column_points(const sweep_plan *P, size_t *corner) {
   return nc;
 }
 
+
+/* ---- a point's record ------------------------------------------------------------------- */
+/* Each level's ψ at EW_WF_PSI_SAMPLES evenly spaced z (linear between nodes), unit norm, for
+ * the pictures' level tracking. */
+static void sample_psi(const ew_result *r, size_t i, double *o) {
+  const size_t K = EW_WF_PSI_SAMPLES, n = r->grid->n;
+  const double *z = ew_result_z_nm(r);
+  const double *psi = ew_result_wavefunction(r, i);
+  double s2 = 0;
+  size_t m = 0;
+  for (size_t k = 0; k < K; k++) {
+    double zz = z[0] + (z[n - 1] - z[0]) * (double)k / (double)(K - 1);
+    while (m + 2 < n && z[m + 1] < zz) m++;
+    double t = z[m + 1] > z[m] ? (zz - z[m]) / (z[m + 1] - z[m]) : 0;
+    o[k] = psi[m] + t * (psi[m + 1] - psi[m]);
+    s2 += o[k] * o[k];
+  }
+  for (size_t k = 0; k < K && s2 > 0; k++) o[k] /= sqrt(s2);
+}
+
+/* Line b1–bj (j ≥ 2) of band b: energy, µm, oscillator strength, depolarised energy. */
+static void rec_isb(const ew_result *r, ew_band b, size_t j, double *s) {
+  size_t ia = ew_wf_level_index(r, b, 1), ib = ew_wf_level_index(r, b, (int)j);
+  const ew_line *ln = ew_wf_find_line(r, ib, ia);
+  s[0] = ln ? ln->energy_eV : NAN;
+  s[1] = ln ? ln->wavelength_nm / 1e3 : NAN;
+  s[2] = ln ? ln->oscillator_strength : NAN;
+  char nm[80]; /* the match target's one definition ("e1-e2:depol", line_name.h) */
+  snprintf(nm, sizeof nm, "%s1-%s%zu:depol", ew_band_name(b), ew_band_name(b), j);
+  ew_wf_line_energy(r, nm, &s[3], NULL);
+}
+
+/* The record of result r (ψ samples when want_psi); NULL when out of memory. */
+static point_rec *rec_of(const ew_result *r, int want_psi) {
+  size_t nlev = 0, nisb = 0, npsi = 0;
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    size_t c = r->band_count[b];
+    nlev += c;
+    nisb += c > 1 ? c - 1 : 0;
+    npsi += c < WF_PSI_LEVELS ? c : WF_PSI_LEVELS;
+  }
+  size_t nd = nlev + 4 * nisb + (want_psi ? npsi * EW_WF_PSI_SAMPLES : 0);
+  point_rec *q = malloc(sizeof *q + (nd ? nd : 1) * sizeof(double));
+  if (!q) return NULL;
+  q->sc = r->sp != NULL;
+  q->lev = q->data;
+  q->isb = q->lev + nlev;
+  q->psi = want_psi ? q->isb + 4 * nisb : NULL;
+  ew_result_warning_codes_join(r, q->codes, EW_WARNING_CODES_MAX);
+  size_t l = 0, s = 0, ps = 0;
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    size_t c = r->band_count[b];
+    q->cnt[b] = c;
+    q->lev0[b] = l;
+    q->isb0[b] = s;
+    for (size_t n = 1; n <= c; n++, l++) {
+      q->lev[l] = ew_wf_level_energy(r, (ew_band)b, (int)n);
+      if (q->psi && n <= WF_PSI_LEVELS)
+        sample_psi(r, ew_wf_level_index(r, (ew_band)b, (int)n),
+                   q->psi + (ps++) * EW_WF_PSI_SAMPLES);
+    }
+    for (size_t j = 2; j <= c; j++, s++) rec_isb(r, (ew_band)b, j, q->isb + 4 * s);
+  }
+  for (size_t n = 1; n <= EW_WF_INTERBAND_MAX; n++)
+    for (int h = 0; h < 2; h++) {
+      ew_band hb = h ? EW_BAND_LH : EW_BAND_HH;
+      size_t ie = ew_wf_level_index(r, EW_BAND_E, (int)n), ih = ew_wf_level_index(r, hb, (int)n);
+      const ew_line *ln = ie != SIZE_MAX && ih != SIZE_MAX ? ew_wf_find_line(r, ie, ih) : NULL;
+      double *d = q->ib[n - 1][h];
+      d[0] = ln ? ln->energy_eV : NAN;
+      d[1] = ln ? ln->wavelength_nm : NAN;
+      d[2] = ln ? ln->overlap : NAN;
+    }
+  return q;
+}
+
+/* Solve point p into its record (*out, caller frees; NULL on error). */
+static ew_status point_solve(const sweep_plan *P, size_t p, point_rec **out, ew_error *e) {
+  double vals[2];
+  ew_stack *st = NULL;
+  ew_result *res = NULL;
+  point_values(P, p, vals);
+  ew_status rc = solve_point(P, vals, &st, &res, e);
+  *out = rc == EW_OK ? rec_of(res, P->psi) : NULL;
+  if (rc == EW_OK && !*out) rc = ew_fail(e, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep row)");
+  ew_result_free(res);
+  ew_stack_free(st);
+  return rc;
+}
+
+/* The record's values of a main line (eV, µm|nm, f|overlap[, depolarised eV]), NULL when
+ * the point does not bind both levels. */
+static const double *rec_line(const point_rec *q, const ew_wf_linedef *d) {
+  if (d->interband) {
+    size_t n = (size_t)d->a.n, h = d->b.band == EW_BAND_LH;
+    return n >= 1 && n <= EW_WF_INTERBAND_MAX ? q->ib[n - 1][h] : NULL;
+  }
+  size_t b = (size_t)d->a.band, j = (size_t)d->b.n;
+  return j >= 2 && j <= q->cnt[b] ? q->isb + 4 * (q->isb0[b] + j - 2) : NULL;
+}
+
+/* ---- the points solved before the columns are fixed ------------------------------------ */
+/* Points the rows solve at once (a chunk); 64 a thread keeps the threads busy. */
+static size_t chunk_points(const sweep_plan *P) { return 64 * (size_t)P->nt; }
+
+/* The record held for point p, taken from the plan (NULL when none is held). */
+static point_rec *take_held(const sweep_plan *P, size_t p) {
+  size_t lo = 0, hi = P->nheld;
+  while (lo < hi) { /* held_p ascending */
+    size_t mid = lo + (hi - lo) / 2;
+    if (P->held_p[mid] < p) lo = mid + 1;
+    else hi = mid;
+  }
+  if (lo == P->nheld || P->held_p[lo] != p) return NULL;
+  point_rec *q = P->held[lo];
+  P->held[lo] = NULL; /* each row takes its record once, from one thread */
+  return q;
+}
+
+
 /* 1. The column set: the levels bound on the sub-grid, at least min_levels per band.  Every
  *    shard solves the same sub-grid, so all shards and the whole sweep agree on the columns
  *    without seeing each other's points.  Level counts need not be monotonic (raising one
  *    barrier of an asymmetric well pushes a level out of the window the other barrier sets),
  *    hence a sub-grid rather than the end points; a point with more levels is refused
- *    (check_counts) and the message names the --levels that fixes it. */
-static ew_status plan_columns(sweep_plan *P, size_t min_levels, ew_error *err) {
+ *    (check_counts) and the message names the --levels that fixes it.
+ *    The sub-grid is solved in one parallel loop with the shard's first chunk of rows, and
+ *    the shard's points among them keep their records for the rows (sweep_rows): no point
+ *    is solved twice (the 40-value doped sweep solved 49 points before), and the threads do
+ *    not wait at the end of the sub-grid.  A record does not depend on the columns
+ *    (point_rec), so the rows have the same bits.  The sub-grid is always solved whole (a
+ *    cancel stops the rows only); a failure on it fails the sweep, one among the other rows
+ *    is recorded in rows_fl in point order as the rows record theirs. */
+static ew_status plan_solve(sweep_plan *P, size_t min_levels, ew_progress *pg,
+                            ew_wf_fail *rows_fl, ew_error *err) {
   size_t corner[WF_COLUMN_SAMPLES * WF_COLUMN_SAMPLES];
-  size_t ccount[WF_COLUMN_SAMPLES * WF_COLUMN_SAMPLES][EW_BAND_COUNT];
-  unsigned char dp[WF_COLUMN_SAMPLES * WF_COLUMN_SAMPLES] = {0}; /* self-consistent there */
-  size_t nc = column_points(P, corner);
+  size_t nc = column_points(P, corner); /* ascending */
+  size_t first = P->hi - P->lo < chunk_points(P) ? P->hi - P->lo : chunk_points(P);
+  size_t cap = nc + first;
+  P->held_p = malloc(cap * sizeof *P->held_p);
+  P->held = calloc(cap, sizeof *P->held);
+  size_t *order = malloc(cap * sizeof *order), (*cnt)[EW_BAND_COUNT] = malloc(cap * sizeof *cnt);
+  unsigned char *plan = calloc(cap, 1), *sc = calloc(cap, 1);
+  if (!P->held_p || !P->held || !order || !cnt || !plan || !sc) {
+    free(order), free(cnt), free(plan), free(sc);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep plan)");
+  }
+  /* the two ascending lists merged; the sub-grid first in the loop's order, so that a failure
+     there is found before the rows are solved */
+  size_t n = 0, a = 0, b = P->lo, np = 0;
+  while (a < nc || b < P->lo + first) {
+    int take_a = a < nc && (b >= P->lo + first || corner[a] <= b);
+    size_t p = take_a ? corner[a] : b;
+    if (take_a) {
+      if (b < P->lo + first && corner[a] == b) b++; /* a sub-grid point of the first chunk */
+      a++;
+      plan[n] = 1;
+    } else {
+      b++;
+    }
+    P->held_p[n++] = p;
+  }
+  P->nheld = n;
+  for (size_t i = 0; i < n; i++)
+    if (plan[i]) order[np++] = i;
+  for (size_t i = 0, k = np; i < n; i++)
+    if (!plan[i]) order[k++] = i;
   ew_wf_fail fl = EW_WF_FAIL_NONE;
   EW_OMP(omp parallel for num_threads(P->nt) schedule(dynamic, 1))
-  for (size_t q = 0; q < nc; q++) {
-    double vals[2];
+  for (size_t i = 0; i < n; i++) {
+    size_t w = order[i], p = P->held_p[w];
+    int in = p >= P->lo && p < P->hi;
+    if (!plan[w] && (p >= ew_wf_fail_index(rows_fl) || ew_progress_cancelled(pg))) continue;
     ew_error e = {0};
-    ew_stack *st = NULL;
-    ew_result *res = NULL;
-    point_values(P, corner[q], vals);
-    ew_status rc = solve_point(P, vals, &st, &res, &e);
-    if (rc == EW_OK) {
-      for (int b = 0; b < EW_BAND_COUNT; b++) ccount[q][b] = res->band_count[b];
-      dp[q] = res->sp != NULL;
-    } else
-      ew_wf_fail_record(&fl, corner[q], rc, &e);
-    ew_result_free(res);
-    ew_stack_free(st);
+    point_rec *q = NULL;
+    ew_status rc = point_solve(P, p, &q, &e);
+    if (rc != EW_OK) ew_wf_fail_record(plan[w] ? &fl : rows_fl, p, rc, &e);
+    if (q) {
+      memcpy(cnt[w], q->cnt, sizeof cnt[w]);
+      sc[w] = (unsigned char)q->sc;
+    }
+    if (in) P->held[w] = q;
+    else free(q);
+    if (in && pg->fn) ew_progress_step(pg);
   }
-  if (fl.index != SIZE_MAX) return ew_wf_fail_report(&fl, err);
-  for (size_t q = 0; q < nc; q++) P->doped |= dp[q];
   size_t maxc[EW_BAND_COUNT];
-  for (int b = 0; b < EW_BAND_COUNT; b++) {
-    maxc[b] = min_levels;
-    for (size_t q = 0; q < nc; q++)
-      if (ccount[q][b] > maxc[b]) maxc[b] = ccount[q][b];
+  for (int k = 0; k < EW_BAND_COUNT; k++) {
+    maxc[k] = min_levels;
+    for (size_t i = 0; i < np; i++)
+      if (cnt[order[i]][k] > maxc[k]) maxc[k] = cnt[order[i]][k];
   }
+  for (size_t i = 0; i < np; i++) P->doped |= sc[order[i]];
+  free(order), free(cnt), free(plan), free(sc);
+  if (fl.index != SIZE_MAX) return ew_wf_fail_report(&fl, err);
   P->cols = ew_wf_cols_of_counts(maxc);
   return EW_OK;
 }
@@ -252,8 +436,12 @@ static ew_status plan_names(sweep_plan *P, ew_error *err) {
   return EW_OK;
 }
 
+
 static void plan_free(sweep_plan *P) {
   ew_wf_pool_free(&P->pool);
+  for (size_t i = 0; i < P->nheld && P->held; i++) free(P->held[i]);
+  free(P->held);
+  free(P->held_p);
   free(P->lines);
   free(P->names);
 }
@@ -299,89 +487,66 @@ static void json_begin(const sweep_plan *P, const char *stack, FILE *json) {
   fputs("],\"points\":[", json);
 }
 
-static void fill_row(const ew_result *r, const sweep_plan *P, const double *vals, double *row,
+
+
+static void fill_row(const point_rec *q, const sweep_plan *P, const double *vals, double *row,
                      char *codes) {
-  ew_result_warning_codes_join(r, codes, EW_WARNING_CODES_MAX);
+  memcpy(codes, q->codes, EW_WARNING_CODES_MAX);
   row[P->ncol - 1] = NAN; /* the codes column: text, held in codes */
   size_t j = 0;
   for (size_t i = 0; i < P->nr; i++) row[j++] = vals[i];
   for (int b = 0; b < EW_BAND_COUNT; b++)
     for (size_t n = 1; n <= P->cols.nlev[b]; n++)
-      row[j++] = ew_wf_level_energy(r, (ew_band)b, (int)n);
+      row[j++] = n <= q->cnt[b] ? q->lev[q->lev0[b] + n - 1] : NAN;
   for (size_t k = 0; k < P->nl; k++, j += 3) {
-    const ew_wf_linedef *d = &P->lines[k];
-    size_t ia = ew_wf_level_index(r, d->a.band, d->a.n);
-    size_t ib = ew_wf_level_index(r, d->b.band, d->b.n);
-    const ew_line *ln = NULL;
-    if (ia != SIZE_MAX && ib != SIZE_MAX)
-      ln = d->interband ? ew_wf_find_line(r, ia, ib) : ew_wf_find_line(r, ib, ia);
-    if (!ln) {
-      row[j] = row[j + 1] = row[j + 2] = NAN;
-      continue;
-    }
-    row[j] = ln->energy_eV;
-    row[j + 1] = d->interband ? ln->wavelength_nm : ln->wavelength_nm / 1e3;
-    row[j + 2] = d->interband ? ln->overlap : ln->oscillator_strength;
+    const double *s = rec_line(q, &P->lines[k]);
+    for (int t = 0; t < 3; t++) row[j + t] = s ? s[t] : NAN;
   }
-  for (size_t k = 0; k < P->nd; k++) { /* the match target's one definition */
-    char nm[80];
-    snprintf(nm, sizeof nm, "%s:depol", P->lines[k].name);
-    ew_wf_line_energy(r, nm, &row[j++], NULL);
+  for (size_t k = 0; k < P->nd; k++) { /* the intersubband main lines, listed first */
+    const double *s = rec_line(q, &P->lines[k]);
+    row[j++] = s ? s[3] : NAN;
   }
 }
 
-/* Each level column's ψ at EW_WF_PSI_SAMPLES evenly spaced z (linear between nodes), unit
- * norm; zeros for a level not bound here (for the pictures' level tracking). */
-static void sample_psi(const ew_result *r, const sweep_plan *P, double *out) {
-  const size_t K = EW_WF_PSI_SAMPLES, n = r->grid->n;
-  const double *z = ew_result_z_nm(r);
-  size_t q = 0;
+/* Each level column's ψ samples (zeros for a level not bound here). */
+static void fill_psi(const point_rec *q, const sweep_plan *P, double *out) {
+  const size_t K = EW_WF_PSI_SAMPLES;
+  size_t c = 0;
   for (int b = 0; b < EW_BAND_COUNT; b++)
-    for (size_t lv = 1; lv <= P->cols.nlev[b] && q < 3 * 64; lv++, q++) {
-      double *o = out + q * K, s2 = 0;
-      size_t i = ew_wf_level_index(r, (ew_band)b, (int)lv), m = 0;
-      const double *psi = i != SIZE_MAX ? ew_result_wavefunction(r, i) : NULL;
-      for (size_t k = 0; k < K; k++) {
-        double zz = z[0] + (z[n - 1] - z[0]) * (double)k / (double)(K - 1);
-        while (m + 2 < n && z[m + 1] < zz) m++;
-        double t = z[m + 1] > z[m] ? (zz - z[m]) / (z[m + 1] - z[m]) : 0;
-        o[k] = psi ? psi[m] + t * (psi[m + 1] - psi[m]) : 0;
-        s2 += o[k] * o[k];
-      }
-      for (size_t k = 0; k < K && s2 > 0; k++) o[k] /= sqrt(s2);
+    for (size_t lv = 1; lv <= P->cols.nlev[b] && c < WF_PSI_LEVELS; lv++, c++) {
+      if (lv <= q->cnt[b]) memcpy(out + c * K, q->psi + (q->lev0[b] + lv - 1) * K, K * sizeof *out);
+      else memset(out + c * K, 0, K * sizeof *out);
     }
 }
 
 /* The sub-grid fixed the columns; a point with more levels cannot be written. */
-static ew_status check_counts(const ew_result *r, const sweep_plan *P, const double *vals,
+static ew_status check_counts(const point_rec *q, const sweep_plan *P, const double *vals,
                               ew_error *err) {
   for (int b = 0; b < EW_BAND_COUNT; b++)
-    if (r->band_count[b] > P->cols.nlev[b]) {
+    if (q->cnt[b] > P->cols.nlev[b]) {
       char at[320];
       ew_wf_point_text(at, sizeof at, P->nr, P->keys, vals);
       return ew_fail(err, EW_ERR_USAGE, NULL, 0, "at %s %zu %s levels are bound but the sweep's "
                      "columns, fixed in advance on a sub-grid so that shards agree, hold %zu; "
-                     "run again with --levels %zu (or more)", at, r->band_count[b],
-                     ew_band_name((ew_band)b), P->cols.nlev[b], r->band_count[b]);
+                     "run again with --levels %zu (or more)", at, q->cnt[b],
+                     ew_band_name((ew_band)b), P->cols.nlev[b], q->cnt[b]);
     }
   return EW_OK;
 }
 
-/* One point into its row; failures recorded in point order. */
-static void solve_row(const sweep_plan *P, size_t p, double *row, char *codes, double *psi,
-                      ew_wf_fail *fl) {
+/* Record q of point p into its row (and ψ samples); a failure recorded in point order. */
+static void rec_row(const sweep_plan *P, size_t p, const point_rec *q, double *row, char *codes,
+                    double *psi, ew_wf_fail *fl) {
   double vals[2];
   ew_error e = {0};
-  ew_stack *st = NULL;
-  ew_result *res = NULL;
   point_values(P, p, vals);
-  ew_status rc = solve_point(P, vals, &st, &res, &e);
-  if (rc == EW_OK) rc = check_counts(res, P, vals, &e);
-  if (rc == EW_OK) fill_row(res, P, vals, row, codes);
-  else ew_wf_fail_record(fl, p, rc, &e);
-  if (rc == EW_OK && psi) sample_psi(res, P, psi);
-  ew_result_free(res);
-  ew_stack_free(st);
+  ew_status rc = check_counts(q, P, vals, &e);
+  if (rc != EW_OK) {
+    ew_wf_fail_record(fl, p, rc, &e);
+    return;
+  }
+  fill_row(q, P, vals, row, codes);
+  if (psi) fill_psi(q, P, psi);
 }
 
 static void write_row(const sweep_plan *P, size_t p, const double *row, const char *codes,
@@ -413,10 +578,13 @@ static void write_row(const sweep_plan *P, size_t p, const double *row, const ch
   }
 }
 
-/* 2. The shard's points, in chunks: rows computed in parallel, written in point order. */
-static ew_status sweep_rows(const sweep_plan *P, const ew_wf_sweep_opt *o, FILE *csv,
-                            FILE *json, ew_wf_table *tab, ew_error *err) {
-  const size_t chunk = 64 * (size_t)P->nt, ncol = P->ncol;
+
+/* 2. The shard's points, in chunks: rows computed in parallel (or taken from the records
+ *    plan_solve holds), written in point order. */
+static ew_status sweep_rows(const sweep_plan *P, const ew_wf_sweep_opt *o, ew_progress *pg,
+                            ew_wf_fail *fl, FILE *csv, FILE *json, ew_wf_table *tab,
+                            ew_error *err) {
+  const size_t chunk = chunk_points(P), ncol = P->ncol;
   double *rows = malloc(chunk * ncol * sizeof *rows);
   char (*codes)[EW_WARNING_CODES_MAX] = malloc(chunk * sizeof *codes);
   size_t pk = tab ? tab->nlev * EW_WF_PSI_SAMPLES : 0; /* ψ samples per row (pictures only) */
@@ -427,29 +595,37 @@ static ew_status sweep_rows(const sweep_plan *P, const ew_wf_sweep_opt *o, FILE 
     free(psi);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep rows)");
   }
-  ew_wf_fail fl = EW_WF_FAIL_NONE;
-  ew_progress pg;
-  ew_progress_init(&pg, o->progress, o->progress_ctx, P->hi - P->lo);
-  int cancelled = 0;
-  for (size_t c0 = P->lo; c0 < P->hi && fl.index == SIZE_MAX && !cancelled; c0 += chunk) {
+  int cancelled = ew_progress_cancelled(pg);
+  for (size_t c0 = P->lo; c0 < P->hi && fl->index == SIZE_MAX && !cancelled; c0 += chunk) {
     size_t cn = P->hi - c0 < chunk ? P->hi - c0 : chunk;
     EW_OMP(omp parallel for num_threads(P->nt) schedule(dynamic, 1))
     for (size_t j = 0; j < cn; j++) {
-      if (c0 + j > ew_wf_fail_index(&fl) || ew_progress_cancelled(&pg)) continue;
-      solve_row(P, c0 + j, rows + j * ncol, codes[j], psi ? psi + j * pk : NULL, &fl);
-      if (o->progress) ew_progress_step(&pg);
+      size_t p = c0 + j;
+      point_rec *q = take_held(P, p);
+      if (p >= ew_wf_fail_index(fl) || (!q && ew_progress_cancelled(pg))) {
+        free(q);
+        continue;
+      }
+      if (!q) {
+        ew_error e = {0};
+        ew_status rc = point_solve(P, p, &q, &e);
+        if (rc != EW_OK) ew_wf_fail_record(fl, p, rc, &e);
+        if (o->progress) ew_progress_step(pg);
+      }
+      if (q) rec_row(P, p, q, rows + j * ncol, codes[j], psi ? psi + j * pk : NULL, fl);
+      free(q);
     }
     /* a cancelled chunk has holes: none of it is written */
-    cancelled = ew_progress_cancelled(&pg);
-    if (fl.index != SIZE_MAX || cancelled) break;
+    cancelled = ew_progress_cancelled(pg);
+    if (fl->index != SIZE_MAX || cancelled) break;
     for (size_t j = 0; j < cn; j++)
       write_row(P, c0 + j, rows + j * ncol, codes[j], psi ? psi + j * pk : NULL, csv, json, tab);
   }
   free(rows);
   free(codes);
   free(psi);
-  if (fl.index != SIZE_MAX) return ew_wf_fail_report(&fl, err);
-  return cancelled ? ew_progress_fail(&pg, "the sweep", "points", err) : EW_OK;
+  if (fl->index != SIZE_MAX) return ew_wf_fail_report(fl, err);
+  return cancelled ? ew_progress_fail(pg, "the sweep", "points", err) : EW_OK;
 }
 
 ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr,
@@ -460,8 +636,12 @@ ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
   const char *stack = ew_wf_model_stack(m)->path;
   sweep_plan P;
   memset(&P, 0, sizeof P);
+  P.psi = o.table != NULL;
+  ew_progress pg; /* the shard's points, each one step (solved for the plan or for the rows) */
+  ew_wf_fail fl = EW_WF_FAIL_NONE; /* the rows' first failure in point order */
   ew_status rc = plan_points(m, ranges, nr, &o, &P, err);
-  if (rc == EW_OK) rc = plan_columns(&P, o.min_levels, err);
+  ew_progress_init(&pg, o.progress, o.progress_ctx, P.hi - P.lo);
+  if (rc == EW_OK) rc = plan_solve(&P, o.min_levels, &pg, &fl, err);
   if (rc == EW_OK) rc = plan_names(&P, err);
   if (rc == EW_OK && o.table) rc = table_begin(&P, stack, o.table, err);
   if (rc != EW_OK) {
@@ -478,7 +658,7 @@ ew_status ew_wf_sweep(const ew_wf_model *m, const ew_wf_range *ranges, size_t nr
     ew_csv_end_row(&c);
   }
   if (json) json_begin(&P, stack, json);
-  rc = sweep_rows(&P, &o, csv, json, o.table, err);
+  rc = sweep_rows(&P, &o, &pg, &fl, csv, json, o.table, err);
   plan_free(&P);
   if (rc != EW_OK) {
     ew_wf_table_free(o.table);

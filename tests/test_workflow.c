@@ -479,6 +479,236 @@ static void sweep_levels_floor(void **state) {
   free(csv);
 }
 
+/* ---- sweep rows against separate solves ------------------------------------------------ */
+/* The value a sweep cell NAME must hold for the plain solve res, from the public accessors
+ * (README "Sweeps": LEVEL_eV; LINE_eV, LINE_um|nm, LINE_f|overlap; LINE_depol_eV the line
+ * plus its depolarisation shift); NaN where the level or the line is not bound. */
+static double cell_of_solve(const ew_result *res, const char *name) {
+  char base[64];
+  snprintf(base, sizeof base, "%s", name);
+  char *us = strrchr(base, '_');
+  assert_non_null(us);
+  *us = '\0';
+  const char *suf = us + 1;
+  int depol = 0;
+  if (!strcmp(suf, "eV") && strlen(base) > 6 && !strcmp(base + strlen(base) - 6, "_depol")) {
+    base[strlen(base) - 6] = '\0';
+    depol = 1;
+  }
+  char *dash = strchr(base, '-');
+  size_t idx[2] = {SIZE_MAX, SIZE_MAX};
+  const char *lab[2] = {base, dash ? dash + 1 : NULL};
+  if (dash) *dash = '\0';
+  for (int k = 0; k < (dash ? 2 : 1); k++)
+    for (size_t i = 0; i < ew_result_state_count(res); i++)
+      if (!strcmp(ew_result_state(res, i)->label, lab[k])) idx[k] = i;
+  if (!dash) return idx[0] == SIZE_MAX ? NAN : ew_result_state(res, idx[0])->energy_eV;
+  for (size_t j = 0; j < ew_result_line_count(res) && idx[0] != SIZE_MAX && idx[1] != SIZE_MAX;
+       j++) {
+    const ew_line *l = ew_result_line(res, j);
+    if (!((l->upper == idx[0] && l->lower == idx[1]) || (l->upper == idx[1] && l->lower == idx[0])))
+      continue;
+    int ib = l->kind == EW_LINE_INTERBAND;
+    if (depol) {
+      double d = ew_result_line_depolarization_eV(res, j);
+      return l->energy_eV + (isfinite(d) ? d : 0.0);
+    }
+    if (!strcmp(suf, "eV")) return l->energy_eV;
+    if (!strcmp(suf, "um") || !strcmp(suf, "nm")) return l->wavelength_nm / (ib ? 1.0 : 1e3);
+    return ib ? l->overlap : l->oscillator_strength;
+  }
+  return NAN;
+}
+
+/* Every cell of every row of csv (points first, first + 1, … of the sweep over r) equals a
+ * separate plain solve of the model's stack at that point's value with the model's options:
+ * to the 10 significant digits printed (tolerance 1e-9 relative).  Neighbouring points
+ * differ by far more, so a row filled from another point's solve fails. */
+static void rows_equal_plain_solves(const ew_wf_model *m, const ew_wf_range *r,
+                                    const char *csv, size_t first, size_t rows) {
+  table t;
+  assert_true(parse_csv(csv, &t));
+  assert_int_equal(t.rows, rows);
+  const char *key = r->key;
+  for (size_t i = 0; i < t.rows; i++) {
+    double v;
+    ew_wf_sweep_point(r, 1, first + i, &v);
+    TU_NEAR(cellv(&t, i, 0), v, 1e-9 * fabs(v), "the point's value");
+    ew_stack *st = NULL;
+    ew_result *res = NULL;
+    ew_error err = {0};
+    assert_int_equal(ew_wf_stack_at(m, 1, &key, &v, &st, &err), EW_OK);
+    assert_int_equal(ew_solve(st, ew_wf_model_options(m), &res, &err), EW_OK);
+    size_t bound = 0;
+    for (size_t c = 1; c + 1 < t.cols; c++) { /* the last column holds the warning codes */
+      double want = cell_of_solve(res, t.names[c]), got = cellv(&t, i, c);
+      if (!isfinite(want)) {
+        if (isfinite(got)) print_error("row %zu %s: %g, the plain solve has none\n", i,
+                                       t.names[c], got);
+        assert_false(isfinite(got));
+        continue;
+      }
+      bound++;
+      TU_NEAR(got, want, 1e-9 * fabs(want) + 1e-15, "a plain ew_solve at the same value");
+    }
+    assert_true(bound >= 3); /* e1, hh1, lh1 at least: the comparison is not empty */
+    ew_result_free(res);
+    ew_stack_free(st);
+  }
+  free(t.v);
+}
+
+/* The sub-grid that fixes the columns is solved with the first chunk of rows and the
+ * shard's points on it are not solved again (sweep.c, plan_solve): every row, held from the
+ * sub-grid or solved with the rows, in the first chunk (64 points a thread) or beyond, in
+ * one shard or three, equals a separate solve of its own stack. */
+static void sweep_rows_are_their_own_solves(void **state) {
+  fixture *fx = *state;
+  ew_error err = {0};
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.grid_step_nm = 0.1; /* a coarse grid: 150 points stay cheap (the same in both paths) */
+  opt.error_estimate = 0;
+  opt.excitons = 0;
+  ew_wf_model *m = NULL;
+  assert_int_equal(ew_wf_model_open(DETECTOR, fx->cat, &opt, &m, &err), EW_OK);
+  /* 150 points: the sub-grid is points 0, 19, 37, 56, 75, 93, 112, 130, 149; one thread's
+     chunk holds 64, so five sub-grid points are held past the first chunk */
+  ew_wf_range r = range("well.thickness=4:8.47:0.03");
+  ew_wf_sweep_opt o;
+  ew_wf_sweep_opt_default(&o);
+  o.threads = 1;
+  char *full = sweep_csv(m, &r, 1, &o, &err);
+  if (!full) print_error("%s\n", err.message);
+  assert_non_null(full);
+  rows_equal_plain_solves(m, &r, full, 0, 150);
+  mem cat;
+  mem_open(&cat);
+  for (size_t K = 1; K <= 3; K++) { /* parts [0, 50), [50, 100), [100, 150) on two threads */
+    o.shard_k = K;
+    o.shard_n = 3;
+    o.threads = 2;
+    assert_int_equal(ew_wf_sweep(m, &r, 1, &o, cat.f, NULL, &err), EW_OK);
+  }
+  char *parts = mem_close(&cat);
+  assert_string_equal(parts, full); /* contract: the parts concatenate to the whole sweep */
+  free(parts);
+  free(full);
+  ew_wf_model_free(m);
+}
+
+/* The same for a doped (self-consistent) stack: 13 donor densities, the sub-grid 9 of them
+ * (0, 2, 3, 5, 6, 8, 9, 11, 12), two parts on two threads against the whole on one, and
+ * every row (levels, lines, depolarised lines) a separate self-consistent solve. */
+static void doped_sweep_rows_are_their_own_solves(void **state) {
+  fixture *fx = *state;
+  ew_error err = {0};
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.grid_step_nm = 0.1;
+  opt.error_estimate = 0;
+  opt.excitons = 0;
+  ew_wf_model *m = NULL;
+  assert_int_equal(ew_wf_model_open("examples/doped_detector.cfg", fx->cat, &opt, &m, &err),
+                   EW_OK);
+  ew_wf_range r = range("well.doping.donors=1e18:4e18:2.5e17");
+  ew_wf_sweep_opt o;
+  ew_wf_sweep_opt_default(&o);
+  o.threads = 1;
+  char *full = sweep_csv(m, &r, 1, &o, &err);
+  if (!full) print_error("%s\n", err.message);
+  assert_non_null(full);
+  assert_non_null(strstr(full, "e1-e2_depol_eV")); /* self-consistent: depolarised columns */
+  rows_equal_plain_solves(m, &r, full, 0, 13);
+  mem cat;
+  mem_open(&cat);
+  for (size_t K = 1; K <= 2; K++) {
+    o.shard_k = K;
+    o.shard_n = 2;
+    o.threads = 2;
+    assert_int_equal(ew_wf_sweep(m, &r, 1, &o, cat.f, NULL, &err), EW_OK);
+  }
+  char *parts = mem_close(&cat);
+  assert_string_equal(parts, full);
+  free(parts);
+  free(full);
+  ew_wf_model_free(m);
+}
+
+/* The table's ψ samples (the pictures' level tracking, sweep.h): for every row and level
+ * column, ψ of that level of a separate plain solve at EW_WF_PSI_SAMPLES evenly spaced z,
+ * linear between nodes, scaled to unit norm — computed here from the public accessors —
+ * and zeros for a level not bound at that point; tolerance 1e-12 (rounding of the same
+ * interpolation).  12 points: the sub-grid's 9 rows held from the plan and 3 solved with
+ * the rows, the level columns of all three bands. */
+static void sweep_table_psi_samples_are_the_solves(void **state) {
+  fixture *fx = *state;
+  ew_error err = {0};
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.grid_step_nm = 0.1;
+  opt.error_estimate = 0;
+  opt.excitons = 0;
+  ew_wf_model *m = NULL;
+  assert_int_equal(ew_wf_model_open(DETECTOR, fx->cat, &opt, &m, &err), EW_OK);
+  ew_wf_range r = range("well.thickness=3:8.5:0.5"); /* e2 bound from some width on */
+  ew_wf_table tab;
+  memset(&tab, 0, sizeof tab);
+  ew_wf_sweep_opt o;
+  ew_wf_sweep_opt_default(&o);
+  o.threads = 2;
+  o.table = &tab;
+  assert_int_equal(ew_wf_sweep(m, &r, 1, &o, NULL, NULL, &err), EW_OK);
+  assert_int_equal(tab.nrows, 12);
+  assert_true(tab.nlev >= 4);
+  const size_t K = EW_WF_PSI_SAMPLES;
+  const char *key = r.key;
+  size_t zero_cols = 0;
+  for (size_t row = 0; row < tab.nrows; row++) {
+    double v;
+    ew_wf_sweep_point(&r, 1, row, &v);
+    ew_stack *st = NULL;
+    ew_result *res = NULL;
+    assert_int_equal(ew_wf_stack_at(m, 1, &key, &v, &st, &err), EW_OK);
+    assert_int_equal(ew_solve(st, ew_wf_model_options(m), &res, &err), EW_OK);
+    size_t n = ew_result_node_count(res);
+    const double *z = ew_result_z_nm(res);
+    for (size_t c = 0; c < tab.nlev; c++) {
+      /* the column's level: its band and its number within the band in column order */
+      size_t num = 1;
+      for (size_t k = 0; k < c; k++) num += tab.band[k] == tab.band[c];
+      char label[16];
+      snprintf(label, sizeof label, "%s%zu", ew_band_name(tab.band[c]), num);
+      char colname[24];
+      snprintf(colname, sizeof colname, "%s_eV", label);
+      assert_string_equal(tab.names[tab.lev0 + c], colname);
+      const double *psi = NULL;
+      for (size_t i = 0; i < ew_result_state_count(res); i++)
+        if (!strcmp(ew_result_state(res, i)->label, label)) psi = ew_result_wavefunction(res, i);
+      const double *got = tab.psi + (row * tab.nlev + c) * K;
+      double want[EW_WF_PSI_SAMPLES], s2 = 0;
+      for (size_t k = 0; k < K; k++) {
+        double zz = z[0] + (z[n - 1] - z[0]) * (double)k / (double)(K - 1);
+        size_t j = 0; /* the cell [z_j, z_j+1] holding zz */
+        while (j + 2 < n && z[j + 1] < zz) j++;
+        double t = (zz - z[j]) / (z[j + 1] - z[j]);
+        want[k] = psi ? (1 - t) * psi[j] + t * psi[j + 1] : 0.0;
+        s2 += want[k] * want[k];
+      }
+      zero_cols += !psi;
+      for (size_t k = 0; k < K; k++) {
+        double w = s2 > 0 ? want[k] / sqrt(s2) : 0.0;
+        TU_NEAR(got[k], w, 1e-12, "ψ of a plain solve sampled at the same z");
+      }
+    }
+    ew_result_free(res);
+    ew_stack_free(st);
+  }
+  assert_true(zero_cols > 0); /* some level not bound at the narrow end: zeros checked too */
+  ew_wf_table_free(&tab);
+  ew_wf_model_free(m);
+}
+
 /* ---- matching -------------------------------------------------------------------------- */
 static void match_round_trip(void **state) {
   fixture *fx = *state;
@@ -924,6 +1154,9 @@ int main(void) {
       cmocka_unit_test(shards_concatenate_to_the_full_sweep),
       cmocka_unit_test(thread_count_does_not_change_output),
       cmocka_unit_test(sweep_levels_floor),
+      cmocka_unit_test(sweep_rows_are_their_own_solves),
+      cmocka_unit_test(doped_sweep_rows_are_their_own_solves),
+      cmocka_unit_test(sweep_table_psi_samples_are_the_solves),
       cmocka_unit_test(match_round_trip),
       cmocka_unit_test(match_depolarised_line),
       cmocka_unit_test(match_tolerance_and_no_solution),
