@@ -18,6 +18,11 @@
 #define KP_MAX_ITER 400
 #define KP_RESID_TOL (s->tol)
 #define KP_PHASE1_TOL 1e-4 /* eV: where phase 1 hands over to the per-pair shifts */
+/* eV: pairs closer than this take a Rayleigh–Ritz step together once converged (a pair's
+   eigenvalue error is ~r²/gap to the levels outside its step: r <= 1e-6 eV over a gap of
+   1 meV gives 1e-9 eV, the accuracy the block's step gave; a superlattice's miniband has
+   its levels µeV apart, where a pair alone would be 1e-7 eV off) */
+#define KP_MERGE_EV 1e-3
 
 struct ew_kp_solver {
   size_t n, dim, p;
@@ -308,6 +313,21 @@ static int cluster_rr(ew_kp_solver *s, const ew_kp_pencil *H, size_t j, size_t j
       X[b * dim + k] = x, HX[b * dim + k] = hx;
     }
   }
+  /* θ as each rotated column's own Rayleigh quotient, the column B-normalised: zhegv's values
+     carry the rounding of the cluster's Gram matrix (columns refined apart onto one level
+     make it ill-conditioned: 1e-6 eV off measured), the quotient only the vector's error */
+  for (size_t c = 0; c < q; c++) {
+    double complex *x = X + c * dim, *hx = HX + c * dim;
+    double nn = 0.0, t = 0.0;
+    for (size_t k = 0; k < dim; k++) {
+      nn += H->w[k / (size_t)s->nb] * creal(x[k] * conj(x[k]));
+      t += creal(conj(x[k]) * hx[k]);
+    }
+    if (!(nn > 0.0)) return -1;
+    double f = 1.0 / sqrt(nn);
+    for (size_t k = 0; k < dim; k++) x[k] *= f, hx[k] *= f;
+    s->theta[j + c] = t / nn;
+  }
   return 0;
 }
 
@@ -361,13 +381,34 @@ static int clusters_apart(const ew_kp_solver *s, size_t j0, size_t m, const doub
   return 1;
 }
 
+/* One Rayleigh–Ritz step over every run of clusters whose neighbours lie within
+ * KP_MERGE_EV and whose columns did not take one step together.  1 when it took any (−1:
+ * a small pencil not definite). */
+static int merge_close(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t m) {
+  int any = 0;
+  for (size_t j = j0; j < j0 + m;) {
+    size_t j1 = j + 1;
+    int mixed = 0;
+    while (j1 < j0 + m && s->theta[j1] - s->theta[j1 - 1] < KP_MERGE_EV) {
+      mixed |= s->cid[j1] != s->cid[j];
+      j1++;
+    }
+    if (mixed) {
+      if (cluster_rr(s, H, j, j1)) return -1;
+      any = 1;
+    }
+    j = j1;
+  }
+  return any;
+}
+
 /* Phase 2: each Kramers pair (cluster) not yet converged gets shift-invert at its own Ritz
  * value (inverse iteration converges there at |λ − θ|/gap per solve); one Rayleigh–Ritz step
  * over the whole block after every sweep over the clusters puts them together again.  With
- * by_cluster (ew_kp_lowest) each cluster gets its own Rayleigh–Ritz step instead, and the
- * block's only when the clusters' residual intervals overlap (then two of them may hold one
- * level): the block's step costs O(dim m²) against O(dim m) per cluster, ~20 % of a k∥
- * point. */
+ * by_cluster (ew_kp_lowest) each cluster gets its own Rayleigh–Ritz step instead, once
+ * converged clusters closer than KP_MERGE_EV one together (merge_close), and the block's
+ * only when the clusters' residual intervals overlap (then two of them may hold one level):
+ * the block's step costs O(dim m²) against O(dim m) per cluster, ~20 % of a k∥ point. */
 static ew_status refine_range(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0, size_t m,
                               double *r, ew_error *err) {
   size_t dim = s->dim;
@@ -403,6 +444,9 @@ static ew_status refine_range(ew_kp_solver *s, const ew_kp_pencil *H, size_t j0,
     if (s->by_cluster) {
       sort_columns(s, j0, j0 + m, r);
       if (todo) continue;
+      int merged = round < 6 ? merge_close(s, H, j0, m) : 0;
+      if (merged < 0) return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "k·p: close pairs lost rank");
+      if (merged) continue; /* their residuals anew */
       if (clusters_apart(s, j0, m, r)) return EW_OK;
     } else if (!todo) {
       return EW_OK;
