@@ -44,6 +44,14 @@ void ew_kp_blocklu_free(ew_kp_blocklu *f) {
   free(f);
 }
 
+/* The factorisation (invert, factor_nb) at -O3: GCC then pairs the real and imaginary parts
+ * of the block products in vector registers, 25 % fewer instructions measured; the solves
+ * below are slower so and keep the file's options. */
+#if defined(__GNUC__) && !defined(__clang__)
+#pragma GCC push_options
+#pragma GCC optimize("O3")
+#endif
+
 /* inv ← A⁻¹ (nb × nb column-major) by Gauss–Jordan with partial pivoting (by |re| + |im|); A is destroyed.
  * 0 ok, −1 for a zero pivot. */
 static inline int invert(const int nb, double complex *A, double complex *inv) {
@@ -121,6 +129,10 @@ static inline int factor_nb(ew_kp_blocklu *f, const ew_kp_pencil *H, double sigm
   }
   return 0;
 }
+
+#if defined(__GNUC__) && !defined(__clang__)
+#pragma GCC pop_options
+#endif
 
 ew_status ew_kp_blocklu_factor(ew_kp_blocklu *f, const ew_kp_pencil *H, double sigma,
                                ew_error *err) {

@@ -9,9 +9,13 @@
  * |θ − λ| ≤ ‖r‖²/gap, Kato–Temple).  The block converges at the rate (λ_m − σ)/(λ_{p+1} − σ)
  * per solve (Y. Saad, Numerical Methods for Large Eigenvalue Problems, 2nd ed. (SIAM, 2011),
  * ch. 5); a dispersion passes each k∥'s vectors on as the next one's start, so few solves are
- * needed.  The count is then certified by the block LDLᴴ inertia (kp_inertia.h) at σ and at
- * a cut between the m-th and the (m+1)-th Ritz values: exactly m eigenvalues lie between
- * them, so none was missed and none is counted twice (Kramers pairs included). */
+ * needed: each Kramers pair is then refined by inverse iteration at its own Rayleigh quotient
+ * with a Rayleigh–Ritz step of its own (pairs within 1 meV together; the block's step when
+ * two pairs' residual intervals overlap, Kahan's bound).  The count is then certified by the
+ * block LDLᴴ inertia (kp_inertia.h) at σ and at a cut just above the m-th Ritz value:
+ * exactly m eigenvalues lie between them, so none was missed and none is counted twice
+ * (Kramers pairs included).  A higher count (a level the block missed) is located by
+ * bisection on the counts and brought in by inverse iteration at it. */
 #ifndef EW_KP_SOLVE_H
 #define EW_KP_SOLVE_H
 
