@@ -41,23 +41,28 @@ static ew_status check_options(const ew_gain_options *o, ew_error *err) {
       (b - a) / s > MAX_DENSITIES - 1 + 1e-9)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--density %g:%g:%g cm^-2: give FROM > 0, TO "
                    ">= FROM, STEP > 0, at most %d densities", a, b, s, MAX_DENSITIES);
-  if (!(o->linewidth_meV > 0) || !(o->linewidth_meV <= 200))
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--linewidth %g meV: give (0, 200]",
-                   o->linewidth_meV);
-  if (!(o->refractive_index >= 1) || !(o->refractive_index <= 10))
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "refractive index %g: give 1 to 10",
-                   o->refractive_index);
   double ea = o->energy_from_eV, eb = o->energy_to_eV, es = o->energy_step_eV;
   if (!isfinite(ea) || !isfinite(eb) || !(es > 0) || !isfinite(es) || eb < ea ||
       (eb - ea) / es > MAX_ENERGIES - 1 + 1e-9)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "photon energies %g:%g:%g eV: give FROM <= TO, "
                    "STEP > 0, at most %d energies", ea, eb, es, MAX_ENERGIES);
-  if (!(o->kmax_inv_nm > 0) || !(o->kmax_inv_nm <= 10) || o->k_points < 2 || o->k_points > 2000)
+  return ew_kp_optics_check(o->linewidth_meV, o->refractive_index, o->kmax_inv_nm, o->k_points,
+                            o->grid_step_nm, err);
+}
+
+ew_status ew_kp_optics_check(double linewidth_meV, double refractive_index, double kmax_inv_nm,
+                             size_t k_points, double grid_step_nm, ew_error *err) {
+  if (!(linewidth_meV > 0) || !(linewidth_meV <= 200))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--linewidth %g meV: give (0, 200]", linewidth_meV);
+  if (!(refractive_index >= 1) || !(refractive_index <= 10))
+    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "refractive index %g: give 1 to 10",
+                   refractive_index);
+  if (!(kmax_inv_nm > 0) || !(kmax_inv_nm <= 10) || k_points < 2 || k_points > 2000)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "k grid %g /nm, %zu points: give kmax in (0, 10] "
-                   "and 2 to 2000 points", o->kmax_inv_nm, o->k_points);
-  if (isnan(o->grid_step_nm) || o->grid_step_nm < 0)
+                   "and 2 to 2000 points", kmax_inv_nm, k_points);
+  if (isnan(grid_step_nm) || grid_step_nm < 0)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "grid step %g nm: give a positive step or 0",
-                   o->grid_step_nm);
+                   grid_step_nm);
   return EW_OK;
 }
 

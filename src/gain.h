@@ -60,6 +60,10 @@ void ew_gain_spectra(ew_gain *g, size_t d);
 
 /* Compute g (cleared first; on failure left empty) for stack st with options o (checked
  * here: EW_ERR_USAGE). */
+/* The checks the k·p optics passes (gain, hole absorption) share: linewidth (0, 200] meV,
+ * refractive index 1 to 10, kmax (0, 10] /nm with 2 to 2000 k points, grid step >= 0. */
+ew_status ew_kp_optics_check(double linewidth_meV, double refractive_index, double kmax_inv_nm,
+                             size_t k_points, double grid_step_nm, ew_error *err);
 ew_status ew_gain_run(ew_gain *g, const ew_stack *st, const ew_gain_options *o, ew_error *err);
 void ew_gain_clear(ew_gain *g);
 /* ln(1 + e^u) without overflow */

@@ -39,24 +39,13 @@ static ew_status check_options(const ew_hole_absorption_options *o, ew_error *er
   if (!(o->density_cm2 > 0) || !(o->density_cm2 <= 1e15))
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--density %g cm^-2: give a hole sheet density "
                    "in (0, 1e15]", o->density_cm2);
-  if (!(o->linewidth_meV > 0) || !(o->linewidth_meV <= 200))
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--linewidth %g meV: give (0, 200]",
-                   o->linewidth_meV);
-  if (!(o->refractive_index >= 1) || !(o->refractive_index <= 10))
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "refractive index %g: give 1 to 10",
-                   o->refractive_index);
   double ea = o->energy_from_eV, eb = o->energy_to_eV, es = o->energy_step_eV;
   if (!isfinite(ea) || !isfinite(eb) || !(es > 0) || !isfinite(es) || eb < ea ||
       (ea != 0 || eb != 0 ? !(ea > 0) : 0) || (eb - ea) / es > MAX_ENERGIES - 1 + 1e-9)
     return ew_fail(err, EW_ERR_USAGE, NULL, 0, "--energy %g:%g:%g eV: give 0 < FROM <= TO, "
                    "STEP > 0, at most %d energies", ea, eb, es, MAX_ENERGIES);
-  if (!(o->kmax_inv_nm > 0) || !(o->kmax_inv_nm <= 10) || o->k_points < 2 || o->k_points > 2000)
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "k grid %g /nm, %zu points: give kmax in (0, 10] "
-                   "and 2 to 2000 points", o->kmax_inv_nm, o->k_points);
-  if (isnan(o->grid_step_nm) || o->grid_step_nm < 0)
-    return ew_fail(err, EW_ERR_USAGE, NULL, 0, "grid step %g nm: give a positive step or 0",
-                   o->grid_step_nm);
-  return EW_OK;
+  return ew_kp_optics_check(o->linewidth_meV, o->refractive_index, o->kmax_inv_nm, o->k_points,
+                            o->grid_step_nm, err);
 }
 
 /* what the k·p callback needs: its own copy of the profile (the dispersion's grid) to
