@@ -38,7 +38,7 @@
 #define KB_EV 8.617333262e-5
 #define HB2M (HBAR * HBAR / (2.0 * M0) / QE * 1e18) /* ħ²/2m0, eV nm² */
 
-static ew_catalogue *cat;
+TU_CATALOGUE_FIXTURE
 
 static const char *gaas_text =
     "temperature = 300.0;\n"
@@ -48,22 +48,6 @@ static const char *gaas_text =
     "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 10.0; }\n"
     ");\n";
 
-static int setup(void **state) {
-  (void)state;
-  return tu_load_catalogue(&cat);
-}
-static int teardown(void **state) {
-  (void)state;
-  ew_catalogue_free(cat);
-  return 0;
-}
-
-static ew_stack *read_stack(const char *text) {
-  ew_stack *st = NULL;
-  ew_error err;
-  if (ew_stack_read_string(text, "test", cat, &st, &err)) print_error("%s\n", err.message);
-  return st;
-}
 
 static ew_gain *gain_of(const ew_stack *st, const ew_gain_options *o) {
   ew_gain *g = NULL;

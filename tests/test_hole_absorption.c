@@ -37,7 +37,7 @@
 #define EPS0 8.8541878128e-12
 #define KB_EV 8.617333262e-5
 
-static ew_catalogue *cat;
+TU_CATALOGUE_FIXTURE
 
 static const char *well_text =
     "temperature = 77.0;\n"
@@ -47,23 +47,6 @@ static const char *well_text =
     "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 15.0; }\n"
     ");\n";
 
-static int setup(void **state) {
-  (void)state;
-  return tu_load_catalogue(&cat);
-}
-static int teardown(void **state) {
-  (void)state;
-  ew_catalogue_free(cat);
-  return 0;
-}
-
-static ew_stack *read_stack(const char *text) {
-  ew_stack *st = NULL;
-  ew_error err;
-  if (ew_stack_read_string(text, "test", cat, &st, &err)) print_error("%s\n", err.message);
-  assert_non_null(st);
-  return st;
-}
 
 static ew_hole_absorption *run(const ew_stack *st, const ew_hole_absorption_options *o) {
   ew_hole_absorption *h = NULL;

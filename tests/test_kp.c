@@ -27,7 +27,7 @@
 #include "stack.h"
 #include "constants.h"
 
-static ew_catalogue *cat;
+TU_CATALOGUE_FIXTURE
 
 /* a shallow-barrier GaAs/Al0.3Ga0.7As well with thin barriers (the box continuum sparse) */
 static const char *well_text =
@@ -38,22 +38,6 @@ static const char *well_text =
     "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 5.0; }\n"
     ");\n";
 
-static int setup(void **state) {
-  (void)state;
-  return tu_load_catalogue(&cat);
-}
-static int teardown(void **state) {
-  (void)state;
-  ew_catalogue_free(cat);
-  return 0;
-}
-
-static ew_stack *read_stack(const char *text) {
-  ew_stack *st = NULL;
-  ew_error err;
-  if (ew_stack_read_string(text, "test", cat, &st, &err)) print_error("%s\n", err.message);
-  return st;
-}
 
 /* k∥ = 0: every subband equals the single-band level of its character and number */
 static void check_k0(ew_kp_model model) {

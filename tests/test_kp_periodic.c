@@ -26,25 +26,8 @@
 #include "roundtrip.h"
 #include "stack.h"
 
-static ew_catalogue *cat;
+TU_CATALOGUE_FIXTURE
 
-static int setup(void **state) {
-  (void)state;
-  return tu_load_catalogue(&cat);
-}
-static int teardown(void **state) {
-  (void)state;
-  ew_catalogue_free(cat);
-  return 0;
-}
-
-static ew_stack *read_stack(const char *text) {
-  ew_stack *st = NULL;
-  ew_error err;
-  if (ew_stack_read_string(text, "test", cat, &st, &err)) print_error("%s\n", err.message);
-  assert_non_null(st);
-  return st;
-}
 
 /* One period of InAs/GaSb 8 ML / 8 ML (2.42 nm / 2.44 nm: 8 × a/2 with a = 0.6058 and
  * 0.6096 nm, the lattice constants of I. Vurgaftman, J. R. Meyer, L. R. Ram-Mohan, J. Appl.

@@ -116,6 +116,28 @@ static inline int tu_load_catalogue(ew_catalogue **cat) {
   return ew_catalogue_load("materials", cat, &err) == EW_OK ? 0 : -1;
 }
 
+/* The catalogue fixture of a test file: TU_CATALOGUE_FIXTURE defines `cat` with the cmocka
+ * group fixtures setup/teardown that load and free it, and read_stack(text): the stack read
+ * against it (the test fails, with the reader's message, when the text is refused). */
+#define TU_CATALOGUE_FIXTURE                                                                 \
+  static ew_catalogue *cat;                                                                  \
+  static int setup(void **state) {                                                           \
+    (void)state;                                                                             \
+    return tu_load_catalogue(&cat);                                                          \
+  }                                                                                          \
+  static int teardown(void **state) {                                                        \
+    (void)state;                                                                             \
+    ew_catalogue_free(cat);                                                                  \
+    return 0;                                                                                \
+  }                                                                                          \
+  static ew_stack *read_stack(const char *text) {                                            \
+    ew_stack *st = NULL;                                                                     \
+    ew_error err;                                                                            \
+    if (ew_stack_read_string(text, "test", cat, &st, &err)) print_error("%s\n", err.message); \
+    assert_non_null(st);                                                                     \
+    return st;                                                                               \
+  }
+
 /* Remove path and, for a directory, everything under it (restoring write permission first,
  * so read-only test directories go too). */
 static inline void tu_rm_tree(const char *path) {
