@@ -696,45 +696,34 @@ static int narrow_well_faults(const char *what, job_fn job, double b_nm, double 
 }
 #endif
 
-/* The 8-band dispersion of the same well. */
-static void faults_dispersion8(void **state) {
-  (void)state;
+/* A cmocka test: every allocation of JOB on the narrow well (barriers B_NM, well W_NM) failing
+ * in turn gives EW_ERR_NOMEM or the identical outcome (skipped where faults cannot be
+ * injected). */
 #if FAULTS_POSSIBLE
-  assert_int_equal(narrow_well_faults("8-band dispersion", dispersion8_job, 4.0, 6.0), 0);
+#define NARROW_WELL_TEST(name, what, job, b_nm, w_nm)                \
+  static void name(void **state) {                                   \
+    (void)state;                                                     \
+    assert_int_equal(narrow_well_faults(what, job, b_nm, w_nm), 0); \
+  }
 #else
-  skip();
+#define NARROW_WELL_TEST(name, what, job, b_nm, w_nm) \
+  static void name(void **state) {                    \
+    (void)state;                                      \
+    skip();                                           \
+  }
 #endif
-}
+
+/* The 8-band dispersion of the same well. */
+NARROW_WELL_TEST(faults_dispersion8, "8-band dispersion", dispersion8_job, 4.0, 6.0)
 
 /* The minibands of a short period (barrier halves around a well) on the coarse job grid. */
-static void faults_minibands(void **state) {
-  (void)state;
-#if FAULTS_POSSIBLE
-  assert_int_equal(narrow_well_faults("minibands", minibands_job, 1.5, 4.0), 0);
-#else
-  skip();
-#endif
-}
+NARROW_WELL_TEST(faults_minibands, "minibands", minibands_job, 1.5, 4.0)
 
 /* The gain model on a 6 nm well. */
-static void faults_gain(void **state) {
-  (void)state;
-#if FAULTS_POSSIBLE
-  assert_int_equal(narrow_well_faults("gain", gain_job, 4.0, 6.0), 0);
-#else
-  skip();
-#endif
-}
+NARROW_WELL_TEST(faults_gain, "gain", gain_job, 4.0, 6.0)
 
 /* The hole intersubband absorption of a 6 nm well. */
-static void faults_hole_absorption(void **state) {
-  (void)state;
-#if FAULTS_POSSIBLE
-  assert_int_equal(narrow_well_faults("hole absorption", hole_absorption_job, 4.0, 6.0), 0);
-#else
-  skip();
-#endif
-}
+NARROW_WELL_TEST(faults_hole_absorption, "hole absorption", hole_absorption_job, 4.0, 6.0)
 
 /* The continuum over the single well (Kane electrons) with a sheet density for the spectra. */
 static void faults_continuum(void **state) {
@@ -828,14 +817,7 @@ static void minibands8_job(const void *ctx, outcome *out) {
   ew_minibands_free(mb);
 }
 
-static void faults_minibands8(void **state) {
-  (void)state;
-#if FAULTS_POSSIBLE
-  assert_int_equal(narrow_well_faults("8-band minibands", minibands8_job, 1.5, 4.0), 0);
-#else
-  skip();
-#endif
-}
+NARROW_WELL_TEST(faults_minibands8, "8-band minibands", minibands8_job, 1.5, 4.0)
 
 int main(void) {
   const struct CMUnitTest tests[] = {
