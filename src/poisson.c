@@ -1028,6 +1028,11 @@ ew_status ew_poisson_new(const ew_stack *st, const ew_grid *g, double T, ew_pois
   return EW_OK;
 }
 
+void ew_poisson_start(ew_poisson *p, const double *U, double EF) {
+  memcpy(p->U, U, p->m.n * sizeof *p->U);
+  p->EF = EF;
+}
+
 const double *ew_poisson_potential(const ew_poisson *p) { return p->U; }
 double ew_poisson_fermi_eV(const ew_poisson *p) { return p->EF; }
 void ew_poisson_set_subband_dos(ew_poisson *p, ew_subband_dos_fn fn, const void *ctx) {

@@ -40,6 +40,10 @@ ew_status ew_poisson_check_stack(const ew_stack *st, ew_error *err);
 ew_status ew_poisson_new(const ew_stack *st, const ew_grid *g, double T_K, ew_poisson **out,
                          ew_error *err);
 void ew_poisson_free(ew_poisson *p); /* NULL is a no-op */
+/* Replace the first guess by U_eV[n] (n the grid's nodes) and the Fermi level fermi_eV, e.g.
+ * a neighbouring point's converged pair (a warm start); any pair (U + c, E_F + c) converges
+ * to the same gauge, which every update re-imposes.  Call before the first update. */
+void ew_poisson_start(ew_poisson *p, const double *U_eV, double fermi_eV);
 /* The current potential U[n] on the grid's nodes (eV). */
 const double *ew_poisson_potential(const ew_poisson *p);
 /* One Poisson update from the states of a Schrödinger pass r at the current U (the

@@ -6,6 +6,7 @@
 #include "self_consistent.h"
 
 #include <math.h>
+#include <string.h>
 
 #include "error.h"
 #include "hole_dos_kp.h"
@@ -63,6 +64,18 @@ ew_status ew_solve_self_consistent(const ew_stack *st, const ew_options *opt, ew
 
 ew_status ew_solve_self_consistent_progress(const ew_stack *st, const ew_options *optin,
                                             ew_progress *pg, ew_result **out, ew_error *err) {
+  return ew_solve_self_consistent_from(st, optin, NULL, pg, out, err);
+}
+
+/* The start's nodes are the grid's, bit for bit (then U means the same potential). */
+static int start_fits(const ew_sp_start *s, const ew_grid *g) {
+  return s && s->n == g->n && s->z_nm && s->U_eV &&
+         memcmp(s->z_nm, g->z, g->n * sizeof *g->z) == 0;
+}
+
+ew_status ew_solve_self_consistent_from(const ew_stack *st, const ew_options *optin,
+                                        const ew_sp_start *start, ew_progress *pg,
+                                        ew_result **out, ew_error *err) {
   *out = NULL;
   /* Undoped with charge-neutral ends: no fixed charge, so the band is flat (intrinsic
      carriers aside) and the plain pass is the self-consistent one. */
@@ -79,6 +92,7 @@ ew_status ew_solve_self_consistent_progress(const ew_stack *st, const ew_options
   ew_result *res = NULL;
   if (g->n < 3) rc = ew_fail(err, EW_ERR_INPUT, st->path, 0, "the stack is too thin for the grid");
   else rc = ew_poisson_new(st, g, fmax(st->temperature_K, EW_SP_T_FLOOR_K), &p, err);
+  if (rc == EW_OK && start_fits(start, g)) ew_poisson_start(p, start->U_eV, start->fermi_eV);
   int it = 0;
   double dU = INFINITY;
   /* one factorization workspace for every pass on this grid: the pattern analysis and the L/U

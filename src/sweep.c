@@ -9,10 +9,12 @@
 
 #include "csv_writer.h"
 #include "error.h"
+#include "exciton.h"
 #include "json_writer.h"
 #include "line_name.h"
 #include "parallel.h"
 #include "progress.h"
+#include "self_consistent.h"
 #include "solve.h"
 #include "stack.h"
 
@@ -63,7 +65,22 @@ typedef struct {
   size_t nheld;
   size_t *held_p;
   struct point_rec **held;
+  /* Warm start (a self-consistent nominal stack): each row's loop starts from the converged
+   * potential of the nearest sub-grid point (warm_of), which every shard solves cold the
+   * same way, so the rows do not depend on shards or threads.  sub[a][k] are axis a's
+   * sub-grid indices (ns[a] of them); start[q] the converged pair of sub-grid point q
+   * (corner order), NULL when it was not solved self-consistently. */
+  int warm;
+  size_t sub[2][WF_COLUMN_SAMPLES], ns[2];
+  struct start_rec **start;
+  size_t nstart;
 } sweep_plan;
+
+/* A sub-grid point's converged potential and Fermi level on its nodes (ew_sp_start). */
+typedef struct start_rec {
+  ew_sp_start s;
+  double data[]; /* z [n], then U [n] */
+} start_rec;
 
 /* What a row takes from a point's result, whatever the sweep's column set: the point's own
  * bound levels and the lines between them.  Any column set that holds the point's levels
@@ -84,11 +101,41 @@ typedef struct point_rec {
 } point_rec;
 #define WF_PSI_LEVELS (3 * 64) /* ψ columns a table holds at most (ew_wf_table.band) */
 
-/* Solve the point with axis values vals: every key of every range set. */
-static ew_status solve_point(const sweep_plan *P, const double *vals, ew_stack **st,
-                             ew_result **res, ew_error *e) {
+/* ew_wf_pool_solve with the self-consistent loop started from `from` (ew_solve's path for a
+ * self-consistent stack, solve.c: the loop, then the excitons; the option checks ew_solve
+ * makes first have passed on the sub-grid's cold solves, with the same options). */
+static ew_status solve_warm(const sweep_plan *P, const double *sv, const ew_sp_start *from,
+                            ew_stack **st, ew_result **res, ew_error *e) {
+  *res = NULL;
+  ew_status rc = ew_wf_pool_stack(&P->pool, P->nsub, P->sub_keys, sv, st, e);
+  if (rc != EW_OK) return rc;
+  const ew_options *opt = ew_wf_model_options(P->pool.m);
+  ew_error e2 = {0};
+  if (!((*st)->doped || (*st)->surface_given || (*st)->bias_given)) {
+    rc = ew_solve(*st, opt, res, &e2);
+  } else {
+    rc = ew_solve_self_consistent_from(*st, opt, from, NULL, res, &e2);
+    if (rc == EW_OK && (*res)->opt.excitons) rc = ew_result_add_excitons(*res, &e2);
+  }
+  if (rc != EW_OK) {
+    ew_result_free(*res);
+    *res = NULL;
+    ew_stack_free(*st);
+    *st = NULL;
+    char at[320];
+    ew_wf_point_text(at, sizeof at, P->nsub, P->sub_keys, sv);
+    ew_fail(e, rc, e2.file[0] ? e2.file : NULL, e2.line, "at %s: %s", at, e2.message);
+  }
+  return rc;
+}
+
+/* Solve the point with axis values vals: every key of every range set (from: a warm start,
+ * or NULL). */
+static ew_status solve_point(const sweep_plan *P, const double *vals, const ew_sp_start *from,
+                             ew_stack **st, ew_result **res, ew_error *e) {
   double sv[SWEEP_TIED_MAX];
   for (size_t k = 0; k < P->nsub; k++) sv[k] = vals[P->sub_axis[k]];
+  if (from) return solve_warm(P, sv, from, st, res, e);
   return ew_wf_pool_solve(&P->pool, P->nsub, P->sub_keys, sv, st, res, e);
 }
 
@@ -178,8 +225,10 @@ static ew_status plan_points(const ew_wf_model *m, const ew_wf_range *ranges, si
 
 /* The sub-grid that fixes the columns: up to WF_COLUMN_SAMPLES evenly spaced values per axis,
  * both ends included (every value when the axis has no more).  Returns the point count. */
-static size_t column_points(const sweep_plan *P, size_t *corner) {
-  size_t sub[2][WF_COLUMN_SAMPLES] = {{0}}, ns[2] = {1, 1};
+static size_t column_points(sweep_plan *P, size_t *corner) {
+  size_t (*sub)[WF_COLUMN_SAMPLES] = P->sub, *ns = P->ns;
+  memset(P->sub, 0, sizeof P->sub);
+  ns[0] = ns[1] = 1;
   for (size_t a = 0; a < P->nr; a++) {
     size_t n = P->count[a], S = n < WF_COLUMN_SAMPLES ? n : WF_COLUMN_SAMPLES;
     ns[a] = 0;
@@ -270,15 +319,54 @@ static point_rec *rec_of(const ew_result *r, int want_psi) {
   return q;
 }
 
-/* Solve point p into its record (*out, caller frees; NULL on error). */
-static ew_status point_solve(const sweep_plan *P, size_t p, point_rec **out, ew_error *e) {
+/* The converged pair of a self-consistent result r (NULL: r is not one, or out of memory). */
+static start_rec *start_of(const ew_result *r) {
+  const ew_sp_info *sp = r->sp;
+  size_t n = r->grid->n;
+  if (!sp || sp->n != n || !sp->prof[EW_SP_POTENTIAL_EV]) return NULL;
+  start_rec *s = malloc(sizeof *s + 2 * n * sizeof(double));
+  if (!s) return NULL;
+  memcpy(s->data, r->grid->z, n * sizeof(double));
+  memcpy(s->data + n, sp->prof[EW_SP_POTENTIAL_EV], n * sizeof(double));
+  s->s.n = n;
+  s->s.z_nm = s->data;
+  s->s.U_eV = s->data + n;
+  s->s.fermi_eV = sp->fermi_eV;
+  return s;
+}
+
+/* The warm start of row p: the nearest sub-grid point on each axis (the lower one of two
+ * equally near), NULL for a cold start (no warm start, p on the sub-grid, or that point not
+ * self-consistent).  A function of p and the sweep's ranges only, as shards require. */
+static const ew_sp_start *warm_of(const sweep_plan *P, size_t p) {
+  if (!P->warm || !P->start) return NULL;
+  size_t ix[2] = {P->nr > 1 ? p / P->count[1] : p, P->nr > 1 ? p % P->count[1] : 0}, k[2];
+  for (size_t a = 0; a < 2; a++) {
+    k[a] = 0;
+    for (size_t j = 1; j < P->ns[a]; j++) {
+      size_t dj = P->sub[a][j] > ix[a] ? P->sub[a][j] - ix[a] : ix[a] - P->sub[a][j];
+      size_t dk = P->sub[a][k[a]] > ix[a] ? P->sub[a][k[a]] - ix[a] : ix[a] - P->sub[a][k[a]];
+      if (dj < dk) k[a] = j;
+    }
+  }
+  if (P->sub[0][k[0]] == ix[0] && P->sub[1][k[1]] == ix[1]) return NULL; /* stays cold */
+  const start_rec *s = P->start[k[0] * P->ns[1] + k[1]];
+  return s ? &s->s : NULL;
+}
+
+/* Solve point p into its record (*out, caller frees; NULL on error), warm started as
+ * warm_of says; keep (may be NULL) receives the converged pair of a self-consistent result. */
+static ew_status point_solve(const sweep_plan *P, size_t p, point_rec **out, start_rec **keep,
+                             ew_error *e) {
   double vals[2];
   ew_stack *st = NULL;
   ew_result *res = NULL;
   point_values(P, p, vals);
-  ew_status rc = solve_point(P, vals, &st, &res, e);
+  ew_status rc = solve_point(P, vals, warm_of(P, p), &st, &res, e);
   *out = rc == EW_OK ? rec_of(res, P->psi) : NULL;
   if (rc == EW_OK && !*out) rc = ew_fail(e, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep row)");
+  if (rc == EW_OK && keep && res->sp && !(*keep = start_of(res)))
+    rc = ew_fail(e, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep warm start)");
   ew_result_free(res);
   ew_stack_free(st);
   return rc;
@@ -326,18 +414,26 @@ static point_rec *take_held(const sweep_plan *P, size_t p) {
  *    not wait at the end of the sub-grid.  A record does not depend on the columns
  *    (point_rec), so the rows have the same bits.  The sub-grid is always solved whole (a
  *    cancel stops the rows only); a failure on it fails the sweep, one among the other rows
- *    is recorded in rows_fl in point order as the rows record theirs. */
+ *    is recorded in rows_fl in point order as the rows record theirs.
+ *    A self-consistent nominal stack solves the sub-grid alone (cold) and keeps each point's
+ *    converged potential for the rows' warm starts (warm_of), so its rows wait for it. */
 static ew_status plan_solve(sweep_plan *P, size_t min_levels, ew_progress *pg,
                             ew_wf_fail *rows_fl, ew_error *err) {
   size_t corner[WF_COLUMN_SAMPLES * WF_COLUMN_SAMPLES];
   size_t nc = column_points(P, corner); /* ascending */
   size_t first = P->hi - P->lo < chunk_points(P) ? P->hi - P->lo : chunk_points(P);
+  /* a warm start needs the sub-grid converged before any row: the rows wait for it */
+  P->warm = ew_wf_model_stack(P->pool.m)->doped || ew_wf_model_stack(P->pool.m)->surface_given ||
+            ew_wf_model_stack(P->pool.m)->bias_given;
+  if (P->warm) first = 0;
   size_t cap = nc + first;
+  P->start = P->warm ? calloc(nc, sizeof *P->start) : NULL;
+  P->nstart = P->start ? nc : 0;
   P->held_p = malloc(cap * sizeof *P->held_p);
   P->held = calloc(cap, sizeof *P->held);
   size_t *order = malloc(cap * sizeof *order), (*cnt)[EW_BAND_COUNT] = malloc(cap * sizeof *cnt);
   unsigned char *plan = calloc(cap, 1), *sc = calloc(cap, 1);
-  if (!P->held_p || !P->held || !order || !cnt || !plan || !sc) {
+  if (!P->held_p || !P->held || !order || !cnt || !plan || !sc || (P->warm && !P->start)) {
     free(order), free(cnt), free(plan), free(sc);
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (sweep plan)");
   }
@@ -369,7 +465,8 @@ static ew_status plan_solve(sweep_plan *P, size_t min_levels, ew_progress *pg,
     if (!plan[w] && (p >= ew_wf_fail_index(rows_fl) || ew_progress_cancelled(pg))) continue;
     ew_error e = {0};
     point_rec *q = NULL;
-    ew_status rc = point_solve(P, p, &q, &e);
+    /* order[i < np]: sub-grid point i (both ascending) */
+    ew_status rc = point_solve(P, p, &q, plan[w] && P->start ? &P->start[i] : NULL, &e);
     if (rc != EW_OK) ew_wf_fail_record(plan[w] ? &fl : rows_fl, p, rc, &e);
     if (q) {
       memcpy(cnt[w], q->cnt, sizeof cnt[w]);
@@ -442,6 +539,8 @@ static void plan_free(sweep_plan *P) {
   for (size_t i = 0; i < P->nheld && P->held; i++) free(P->held[i]);
   free(P->held);
   free(P->held_p);
+  for (size_t i = 0; i < P->nstart; i++) free(P->start[i]);
+  free(P->start);
   free(P->lines);
   free(P->names);
 }
@@ -608,7 +707,7 @@ static ew_status sweep_rows(const sweep_plan *P, const ew_wf_sweep_opt *o, ew_pr
       }
       if (!q) {
         ew_error e = {0};
-        ew_status rc = point_solve(P, p, &q, &e);
+        ew_status rc = point_solve(P, p, &q, NULL, &e);
         if (rc != EW_OK) ew_wf_fail_record(fl, p, rc, &e);
         if (o->progress) ew_progress_step(pg);
       }

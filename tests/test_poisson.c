@@ -400,6 +400,73 @@ static void heavy_doping_converges(void **state) {
   ew_stack_free(st);
 }
 
+/* A warm start (self_consistent.h, ew_sp_start): the HEAVY well at 1.02e19 cm^-3 started from
+ * the converged potential and Fermi level of the 1e19 well (same grid) converges to the same
+ * tolerance in fewer outer iterations than from flat bands, and its levels agree with the
+ * cold solve's within 3·EW_SP_TOL_EV: both loops stop once an update moves U by less than
+ * EW_SP_TOL_EV, each near the same fixed point, and a level moves with U by at most max|ΔU|
+ * (first-order perturbation: ⟨ψ|ΔU|ψ⟩ ≤ max|ΔU|).  The levels of the two densities differ by
+ * far more (0.85 meV), so a start that was not used, or used unconverged, fails.  A start on
+ * other nodes (a 12 nm well) is not used: the result is the cold solve's, bit for bit. */
+static const char HEAVY102[] =
+    "temperature = 77.0;\nlayers = (\n"
+    " { name = \"b1\"; material = \"AlGaAs\"; x = 0.30; thickness = 30.0; },\n"
+    " { name = \"well\"; material = \"GaAs\"; thickness = 10.0; doping = { donors = 1.02e19; }; },\n"
+    " { name = \"b2\"; material = \"AlGaAs\"; x = 0.30; thickness = 30.0; }\n);\n";
+static const char HEAVY12NM[] =
+    "temperature = 77.0;\nlayers = (\n"
+    " { name = \"b1\"; material = \"AlGaAs\"; x = 0.30; thickness = 30.0; },\n"
+    " { name = \"well\"; material = \"GaAs\"; thickness = 12.0; doping = { donors = 1e19; }; },\n"
+    " { name = \"b2\"; material = \"AlGaAs\"; x = 0.30; thickness = 30.0; }\n);\n";
+
+static void warm_start(void **state) {
+  (void)state;
+  ew_stack *s0 = read_text(HEAVY), *s1 = read_text(HEAVY102), *s2 = read_text(HEAVY12NM);
+  assert_non_null(s0);
+  assert_non_null(s1);
+  assert_non_null(s2);
+  ew_result *r0 = sc_solve(s0), *cold = sc_solve(s1), *cold2 = sc_solve(s2), *warm = NULL,
+            *other = NULL;
+  assert_non_null(r0);
+  assert_non_null(cold);
+  assert_non_null(cold2);
+  ew_sp_start start = {ew_result_node_count(r0), ew_result_z_nm(r0),
+                       ew_result_sp_profile(r0, EW_SP_POTENTIAL_EV),
+                       ew_result_fermi_energy_eV(r0)};
+  ew_error err;
+  ew_options opt;
+  ew_options_default(&opt);
+  assert_int_equal(ew_solve_self_consistent_from(s1, &opt, &start, NULL, &warm, &err), EW_OK);
+  assert_int_equal(ew_solve_self_consistent_from(s2, &opt, &start, NULL, &other, &err), EW_OK);
+  print_message("1.02e19 well: %d outer iterations cold, %d warm\n",
+                ew_result_sp_iterations(cold), ew_result_sp_iterations(warm));
+  assert_true(ew_result_sp_residual_eV(warm) < EW_SP_TOL_EV);
+  assert_true(ew_result_sp_iterations(warm) < ew_result_sp_iterations(cold));
+  TU_NEAR(warm->sp->electrons_cm2 / warm->sp->donors_ion_cm2, 1.0, 1e-3, "neutrality (0.1 %)");
+  assert_int_equal(ew_result_state_count(warm), ew_result_state_count(cold));
+  double moved = 0.0;
+  for (size_t i = 0; i < ew_result_state_count(cold); i++) {
+    double e = ew_result_state(cold, i)->energy_eV;
+    TU_NEAR(ew_result_state(warm, i)->energy_eV, e, 3 * EW_SP_TOL_EV, "cold solve's level");
+    if (i < ew_result_state_count(r0))
+      moved = fmax(moved, fabs(ew_result_state(r0, i)->energy_eV - e));
+  }
+
+  assert_true(moved > 3e-4); /* the densities' levels differ: the check above can fail */
+  assert_int_equal(ew_result_sp_iterations(other), ew_result_sp_iterations(cold2));
+  assert_int_equal(ew_result_state_count(other), ew_result_state_count(cold2));
+  for (size_t i = 0; i < ew_result_state_count(cold2); i++)
+    assert_true(ew_result_state(other, i)->energy_eV == ew_result_state(cold2, i)->energy_eV);
+  ew_result_free(other);
+  ew_result_free(warm);
+  ew_result_free(cold2);
+  ew_result_free(cold);
+  ew_result_free(r0);
+  ew_stack_free(s2);
+  ew_stack_free(s1);
+  ew_stack_free(s0);
+}
+
 /* Bound window of a band-bent stack (examples/doped_detector.cfg): the barriers' valence edge
  * bends by ~1 meV next to the doped well, and a window read at that bump once let the flat
  * barriers' box states (hh4, hh5: half their probability in a barrier, 0.6 meV deep) pass as
@@ -632,6 +699,7 @@ int main(void) {
       cmocka_unit_test(gauss_law),
       cmocka_unit_test(hemt_sheet_density),
       cmocka_unit_test(heavy_doping_converges),
+      cmocka_unit_test(warm_start),
       cmocka_unit_test(non_convergence_reported),
       cmocka_unit_test(band_bent_window),
       cmocka_unit_test(modulation_doped_reference),

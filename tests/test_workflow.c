@@ -11,6 +11,8 @@
 
 #include "constants.h"
 #include "observables.h"
+#include "poisson.h"
+#include "self_consistent.h"
 #include "solve.h"
 #include "spectra.h"
 #include "workflow.h"
@@ -520,12 +522,35 @@ static double cell_of_solve(const ew_result *res, const char *name) {
   return NAN;
 }
 
+/* Row i of t against the result res: every cell to the 10 significant digits printed (1e-9
+ * relative), widened by tol_eV in the energy columns (…_eV) and tol_rel relative elsewhere. */
+static void row_equals(const table *t, size_t i, const ew_result *res, double tol_eV,
+                       double tol_rel, const char *what) {
+  size_t bound = 0;
+  for (size_t c = 1; c + 1 < t->cols; c++) { /* the last column holds the warning codes */
+    double want = cell_of_solve(res, t->names[c]), got = cellv(t, i, c);
+    if (!isfinite(want)) {
+      if (isfinite(got)) print_error("row %zu %s: %g, the solve has none\n", i, t->names[c], got);
+      assert_false(isfinite(got));
+      continue;
+    }
+    bound++;
+    size_t ln = strlen(t->names[c]);
+    int ev = ln > 3 && !strcmp(t->names[c] + ln - 3, "_eV");
+    TU_NEAR(got, want, (1e-9 + (ev ? 0.0 : tol_rel)) * fabs(want) + (ev ? tol_eV : 0.0) + 1e-15,
+            what);
+  }
+  assert_true(bound >= 3); /* e1, hh1, lh1 at least: the comparison is not empty */
+}
+
 /* Every cell of every row of csv (points first, first + 1, … of the sweep over r) equals a
  * separate plain solve of the model's stack at that point's value with the model's options:
- * to the 10 significant digits printed (tolerance 1e-9 relative).  Neighbouring points
- * differ by far more, so a row filled from another point's solve fails. */
+ * to the 10 significant digits printed (tolerance 1e-9 relative), widened by tol_eV and
+ * tol_rel as row_equals says (0 for a sweep without self-consistent loop).  Neighbouring
+ * points differ by far more, so a row filled from another point's solve fails. */
 static void rows_equal_plain_solves(const ew_wf_model *m, const ew_wf_range *r,
-                                    const char *csv, size_t first, size_t rows) {
+                                    const char *csv, size_t first, size_t rows, double tol_eV,
+                                    double tol_rel) {
   table t;
   assert_true(parse_csv(csv, &t));
   assert_int_equal(t.rows, rows);
@@ -539,21 +564,47 @@ static void rows_equal_plain_solves(const ew_wf_model *m, const ew_wf_range *r,
     ew_error err = {0};
     assert_int_equal(ew_wf_stack_at(m, 1, &key, &v, &st, &err), EW_OK);
     assert_int_equal(ew_solve(st, ew_wf_model_options(m), &res, &err), EW_OK);
-    size_t bound = 0;
-    for (size_t c = 1; c + 1 < t.cols; c++) { /* the last column holds the warning codes */
-      double want = cell_of_solve(res, t.names[c]), got = cellv(&t, i, c);
-      if (!isfinite(want)) {
-        if (isfinite(got)) print_error("row %zu %s: %g, the plain solve has none\n", i,
-                                       t.names[c], got);
-        assert_false(isfinite(got));
-        continue;
-      }
-      bound++;
-      TU_NEAR(got, want, 1e-9 * fabs(want) + 1e-15, "a plain ew_solve at the same value");
-    }
-    assert_true(bound >= 3); /* e1, hh1, lh1 at least: the comparison is not empty */
+    row_equals(&t, i, res, tol_eV, tol_rel, "a plain ew_solve at the same value");
     ew_result_free(res);
     ew_stack_free(st);
+  }
+  free(t.v);
+}
+
+/* The warm-started rows of the doped sweep over r: row i (i not on the sub-grid) is the
+ * self-consistent loop started from the converged pair of sub-grid point from[i] (the
+ * nearest, the lower of two as near), to the printed digits, and that loop converged to
+ * the same tolerance as a cold one (max|ΔU| < EW_SP_TOL_EV) in no more outer iterations. */
+static void warm_rows_are_warm_solves(const ew_wf_model *m, const ew_wf_range *r,
+                                      const char *csv, const size_t *rows, const size_t *from,
+                                      size_t n) {
+  table t;
+  assert_true(parse_csv(csv, &t));
+  const char *key = r->key;
+  for (size_t k = 0; k < n; k++) {
+    double v0, v;
+    ew_wf_sweep_point(r, 1, from[k], &v0);
+    ew_wf_sweep_point(r, 1, rows[k], &v);
+    ew_stack *s0 = NULL, *st = NULL;
+    ew_result *r0 = NULL, *cold = NULL, *warm = NULL;
+    ew_error err = {0};
+    assert_int_equal(ew_wf_stack_at(m, 1, &key, &v0, &s0, &err), EW_OK);
+    assert_int_equal(ew_solve(s0, ew_wf_model_options(m), &r0, &err), EW_OK);
+    assert_int_equal(ew_wf_stack_at(m, 1, &key, &v, &st, &err), EW_OK);
+    assert_int_equal(ew_solve(st, ew_wf_model_options(m), &cold, &err), EW_OK);
+    ew_sp_start start = {ew_result_node_count(r0), ew_result_z_nm(r0),
+                         ew_result_sp_profile(r0, EW_SP_POTENTIAL_EV),
+                         ew_result_fermi_energy_eV(r0)};
+    assert_int_equal(ew_solve_self_consistent_from(st, ew_wf_model_options(m), &start, NULL,
+                                                   &warm, &err), EW_OK);
+    assert_true(ew_result_sp_residual_eV(warm) < EW_SP_TOL_EV);
+    assert_true(ew_result_sp_iterations(warm) <= ew_result_sp_iterations(cold));
+    row_equals(&t, rows[k], warm, 0.0, 0.0, "the loop warm-started from the nearest sub-grid point");
+    ew_result_free(warm);
+    ew_result_free(cold);
+    ew_result_free(r0);
+    ew_stack_free(st);
+    ew_stack_free(s0);
   }
   free(t.v);
 }
@@ -581,7 +632,7 @@ static void sweep_rows_are_their_own_solves(void **state) {
   char *full = sweep_csv(m, &r, 1, &o, &err);
   if (!full) print_error("%s\n", err.message);
   assert_non_null(full);
-  rows_equal_plain_solves(m, &r, full, 0, 150);
+  rows_equal_plain_solves(m, &r, full, 0, 150, 0.0, 0.0);
   mem cat;
   mem_open(&cat);
   for (size_t K = 1; K <= 3; K++) { /* parts [0, 50), [50, 100), [100, 150) on two threads */
@@ -598,8 +649,16 @@ static void sweep_rows_are_their_own_solves(void **state) {
 }
 
 /* The same for a doped (self-consistent) stack: 13 donor densities, the sub-grid 9 of them
- * (0, 2, 3, 5, 6, 8, 9, 11, 12), two parts on two threads against the whole on one, and
- * every row (levels, lines, depolarised lines) a separate self-consistent solve. */
+ * (0, 2, 3, 5, 6, 8, 9, 11, 12), two parts on two threads against the whole on one (byte for
+ * byte), and every row (levels, lines, depolarised lines) a separate self-consistent solve.
+ * Rows 1, 4, 7, 10 start their loop from the converged potential of sub-grid point 0, 3, 6,
+ * 9 (sweep.c, warm_of), so they match a cold solve only within the loop's tolerance: both
+ * loops stop once an update moves U by less than EW_SP_TOL_EV near the same fixed point, and
+ * a level moves with U by at most max|ΔU| (first-order perturbation), so the energies within
+ * 3·EW_SP_TOL_EV; a line of energy E ≥ 0.05 eV (the smallest here, hh1–hh2 0.052 eV) moves
+ * its wavelength by δE/E and its strength and overlap (through E and ψ, whose first-order
+ * change is δU over a level spacing ≥ 0.05 eV) by about as much: 3·EW_SP_TOL_EV / 0.05 eV
+ * relative.  Neighbouring rows differ by ≥ 2·10⁻⁵ eV in e1, beyond these. */
 static void doped_sweep_rows_are_their_own_solves(void **state) {
   fixture *fx = *state;
   ew_error err = {0};
@@ -619,7 +678,9 @@ static void doped_sweep_rows_are_their_own_solves(void **state) {
   if (!full) print_error("%s\n", err.message);
   assert_non_null(full);
   assert_non_null(strstr(full, "e1-e2_depol_eV")); /* self-consistent: depolarised columns */
-  rows_equal_plain_solves(m, &r, full, 0, 13);
+  rows_equal_plain_solves(m, &r, full, 0, 13, 3 * EW_SP_TOL_EV, 3 * EW_SP_TOL_EV / 0.05);
+  const size_t warm_rows[] = {1, 4, 7, 10}, warm_from[] = {0, 3, 6, 9};
+  warm_rows_are_warm_solves(m, &r, full, warm_rows, warm_from, 4);
   mem cat;
   mem_open(&cat);
   for (size_t K = 1; K <= 2; K++) {
