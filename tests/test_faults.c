@@ -439,13 +439,18 @@ static const char *job_grid(void) {
 
 #if FAULTS_POSSIBLE
 /* A fresh directory dir holding the single well on the job grid as path (DIR/well.cfg). */
-static void job_well(char *dir, size_t dsize, char *path, size_t psize) {
+/* the stack file of layers (text from "layers = (" on; NULL: the single well) on the job grid */
+static void job_stack(char *dir, size_t dsize, char *path, size_t psize, const char *layers) {
   assert_int_equal(tu_mkdtemp("faults", dir, dsize), 0);
   snprintf(path, psize, "%s/well.cfg", dir);
   FILE *f = fopen(path, "w");
   assert_non_null(f);
-  fprintf(f, "temperature = 300.0;\ngrid_step = %s;\n%s", job_grid(), strstr(well_text, "layers"));
+  fprintf(f, "temperature = 300.0;\ngrid_step = %s;\n%s", job_grid(),
+          layers ? layers : strstr(well_text, "layers"));
   fclose(f);
+}
+static void job_well(char *dir, size_t dsize, char *path, size_t psize) {
+  job_stack(dir, dsize, path, psize, NULL);
 }
 #endif
 
@@ -492,9 +497,9 @@ static void faults_nitride_2deg(void **state) {
 
 #if FAULTS_POSSIBLE
 /* A 3-point sweep over range (KEY=FROM:TO:STEP) of the single well on the coarse grid. */
-static int sweep_faults(const char *what, const char *range) {
+static int sweep_faults_of(const char *what, const char *range, const char *layers) {
   char dir[512], path[600];
-  job_well(dir, sizeof dir, path, sizeof path);
+  job_stack(dir, sizeof dir, path, sizeof path, layers);
   sweep_ctx c;
   ew_error err;
   assert_int_equal(ew_wf_model_open(path, cat, NULL, &c.m, &err), EW_OK);
@@ -509,12 +514,32 @@ static int sweep_faults(const char *what, const char *range) {
   tu_rm_tree(dir);
   return bad;
 }
+static int sweep_faults(const char *what, const char *range) {
+  return sweep_faults_of(what, range, NULL);
+}
 #endif
 
 static void faults_sweep(void **state) {
   (void)state;
 #if FAULTS_POSSIBLE
   assert_int_equal(sweep_faults("3-point sweep", "well.thickness=6:8:1"), 0);
+#else
+  skip(); /* AddressSanitizer owns malloc */
+#endif
+}
+
+/* A doped sweep of ten donor densities: nine sub-grid points solved cold, whose converged
+ * potentials are kept (sweep.c start_of), and one row warm-started from its nearest one. */
+static void faults_sweep_doped(void **state) {
+  (void)state;
+#if FAULTS_POSSIBLE
+  const char *layers =
+      "layers = (\n"
+      "  { name = \"b1\"; material = \"AlGaAs\"; x = 0.3; thickness = 6.0; },\n"
+      "  { name = \"well\"; material = \"GaAs\"; thickness = 5.0; doping = { donors = 1e18; }; },\n"
+      "  { name = \"b2\"; material = \"AlGaAs\"; x = 0.3; thickness = 6.0; }\n);\n";
+  assert_int_equal(sweep_faults_of("doped sweep (warm start)",
+                                   "well.doping.donors=1e18:5.5e18:5e17", layers), 0);
 #else
   skip(); /* AddressSanitizer owns malloc */
 #endif
@@ -825,6 +850,7 @@ int main(void) {
       cmocka_unit_test(faults_doped_well),
       cmocka_unit_test(faults_nitride_2deg),
       cmocka_unit_test(faults_sweep),
+      cmocka_unit_test(faults_sweep_doped),
       cmocka_unit_test(faults_sweep_absent_keys),
       cmocka_unit_test(faults_merge),
       cmocka_unit_test(faults_match_merge),
