@@ -285,6 +285,31 @@ static void hermitian(void **state) {
   ew_stack_free(st);
 }
 
+/* the pencil H (n nodes of nb) made dense, B⁻¹ᐟ² H B⁻¹ᐟ² (column-major, n·nb square) */
+static double complex *dense_pencil(const ew_kp_pencil *H, const double *w, size_t n, size_t nb) {
+  size_t dim = n * nb;
+  double complex *A = calloc(dim * dim, sizeof *A), *e = calloc(dim, sizeof *e);
+  for (size_t j = 0; j < dim; j++) { /* column j of H: H e_j */
+    e[j] = 1;
+    ew_kp_pencil_apply(H, e, A + j * dim);
+    e[j] = 0;
+  }
+  for (size_t j = 0; j < dim; j++)
+    for (size_t i = 0; i < dim; i++) A[j * dim + i] /= sqrt(w[i / nb] * w[j / nb]);
+  free(e);
+  return A;
+}
+
+/* eigenvalues of that dense pencil by LAPACK zheev */
+static double *dense_eigenvalues(const ew_kp_pencil *H, const double *w, size_t n, size_t nb) {
+  size_t dim = n * nb;
+  double complex *A = dense_pencil(H, w, n, nb);
+  double *ev = malloc(dim * sizeof *ev);
+  assert_int_equal(LAPACKE_zheev(LAPACK_COL_MAJOR, 'N', 'L', (lapack_int)dim, A, (lapack_int)dim, ev), 0);
+  free(A);
+  return ev;
+}
+
 /* the block LDLᴴ count against LAPACK zheev of the same pencil made dense (B⁻¹ᐟ² H B⁻¹ᐟ²) */
 static void inertia_check(ew_kp_model model) {
   size_t nb = (size_t)model;
@@ -298,16 +323,7 @@ static void inertia_check(ew_kp_model model) {
   ew_kp_pencil *H = ew_kp_pencil_create(p);
   ew_kp_pencil_fill(p, 0.4, 0.1, H);
   size_t dim = g->n * nb;
-  double complex *A = calloc(dim * dim, sizeof *A), *e = calloc(dim, sizeof *e);
-  double *ev = malloc(dim * sizeof *ev);
-  for (size_t j = 0; j < dim; j++) { /* column j of H: H e_j */
-    e[j] = 1;
-    ew_kp_pencil_apply(H, e, A + j * dim);
-    e[j] = 0;
-  }
-  for (size_t j = 0; j < dim; j++)
-    for (size_t i = 0; i < dim; i++) A[j * dim + i] /= sqrt(p->w[i / nb] * p->w[j / nb]);
-  assert_int_equal(LAPACKE_zheev(LAPACK_COL_MAJOR, 'N', 'L', (lapack_int)dim, A, (lapack_int)dim, ev), 0);
+  double *ev = dense_eigenvalues(H, p->w, g->n, nb);
   ew_kp_inertia *in = ew_kp_inertia_create((int)nb);
   for (size_t t = 1; t < 40; t++) {
     /* 4-band: the lowest third; 8-band: across the middle (both sides of the gap) */
@@ -319,7 +335,7 @@ static void inertia_check(ew_kp_model model) {
     assert_int_equal(got, want);
   }
   ew_kp_inertia_free(in);
-  free(A), free(e), free(ev);
+  free(ev);
   ew_kp_pencil_free(H);
   ew_kp_profile_free(p);
   ew_grid_free(g);
@@ -350,15 +366,8 @@ static void lowest_from_start(const size_t cols[6], double mix) {
   ew_kp_pencil *H = ew_kp_pencil_create(pr);
   ew_kp_pencil_fill(pr, 0.7, 0.2, H);
   size_t dim = g->n * nb;
-  double complex *A = calloc(dim * dim, sizeof *A), *e = calloc(dim, sizeof *e);
+  double complex *A = dense_pencil(H, pr->w, g->n, nb);
   double *ev = malloc(dim * sizeof *ev);
-  for (size_t j = 0; j < dim; j++) {
-    e[j] = 1;
-    ew_kp_pencil_apply(H, e, A + j * dim);
-    e[j] = 0;
-  }
-  for (size_t j = 0; j < dim; j++)
-    for (size_t i = 0; i < dim; i++) A[j * dim + i] /= sqrt(pr->w[i / nb] * pr->w[j / nb]);
   assert_int_equal(LAPACKE_zheev(LAPACK_COL_MAJOR, 'V', 'L', (lapack_int)dim, A, (lapack_int)dim, ev), 0);
   ew_kp_solver *s = ew_kp_solver_create(g->n, (int)nb, p);
   assert_non_null(s);
@@ -380,7 +389,7 @@ static void lowest_from_start(const size_t cols[6], double mix) {
     TU_NEAR(v[j], ev[j], 1e-9, "lowest pairs of LAPACK zheev (residual 1e-8 eV, Kato–Temple)");
   assert_true(s1 - s0 < 200); /* located by counts, not the plain iteration */
   ew_kp_solver_free(s);
-  free(A), free(e), free(ev);
+  free(A), free(ev);
   ew_kp_pencil_free(H);
   ew_kp_profile_free(pr);
   ew_grid_free(g);
@@ -401,22 +410,6 @@ static void duplicate_pair_start(void **state) {
   lowest_from_start(cols, 0.03);
 }
 
-/* eigenvalues of the pencil H (n nodes of nb) made dense, B⁻¹ᐟ² H B⁻¹ᐟ², by LAPACK zheev */
-static double *dense_eigenvalues(const ew_kp_pencil *H, const double *w, size_t n, size_t nb) {
-  size_t dim = n * nb;
-  double complex *A = calloc(dim * dim, sizeof *A), *e = calloc(dim, sizeof *e);
-  double *ev = malloc(dim * sizeof *ev);
-  for (size_t j = 0; j < dim; j++) {
-    e[j] = 1;
-    ew_kp_pencil_apply(H, e, A + j * dim);
-    e[j] = 0;
-  }
-  for (size_t j = 0; j < dim; j++)
-    for (size_t i = 0; i < dim; i++) A[j * dim + i] /= sqrt(w[i / nb] * w[j / nb]);
-  assert_int_equal(LAPACKE_zheev(LAPACK_COL_MAJOR, 'N', 'L', (lapack_int)dim, A, (lapack_int)dim, ev), 0);
-  free(A), free(e);
-  return ev;
-}
 
 /* The whole dispersion out to k∥ = 1.2 /nm along [110] (warping on), where the subbands
  * have dispersed among the box states of the barriers (anticrossings: the warm starts'
