@@ -90,13 +90,8 @@ static void tri_count2(const tri *t, double s0, double s1, size_t *c0, size_t *c
 static void tri_count_k(const tri *t, int k, const double *s, size_t *c) {
   if (k == 1) c[0] = tri_count(t, s[0]);
   else if (k == 2) count_lanes(t, 2, s, c);
-  else if (k > 2) {
-    double pad[EW_LANES];
-    size_t cp[EW_LANES];
-    for (int j = 0; j < EW_LANES; j++) pad[j] = s[j < k ? j : 0];
-    count_lanes(t, EW_LANES, pad, cp);
-    for (int j = 0; j < k; j++) c[j] = cp[j];
-  }
+  else if (k == 3) count_lanes(t, 3, s, c);
+  else if (k == 4) count_lanes(t, 4, s, c);
 }
 
 size_t ew_eigen_count_below(const ew_pencil *p, double sigma) {
@@ -582,13 +577,8 @@ EW_UNROLLED void newton_lanes(const tri *t, const int K, const double *s, size_t
 static void tri_count_newton_k(const tri *t, int k, const double *s, size_t *c, double *step) {
   if (k == 1) c[0] = tri_count_newton(t, s[0], &step[0]);
   else if (k == 2) newton_lanes(t, 2, s, c, step);
-  else if (k > 2) {
-    double pad[EW_LANES], sp[EW_LANES];
-    size_t cp[EW_LANES];
-    for (int j = 0; j < EW_LANES; j++) pad[j] = s[j < k ? j : 0];
-    newton_lanes(t, EW_LANES, pad, cp, sp);
-    for (int j = 0; j < k; j++) c[j] = cp[j], step[j] = sp[j];
-  }
+  else if (k == 3) newton_lanes(t, 3, s, c, step);
+  else if (k == 4) newton_lanes(t, 4, s, c, step);
 }
 
 /* The eigenvalue of global index idx near x0: Newton on det(T − σ) safeguarded by a bracket

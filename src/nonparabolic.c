@@ -47,19 +47,20 @@ double ew_kane_mass(const ew_bands *b, double eps) {
  * expression evaluated from them performs the same operations on the same values (the same
  * bits) with three divisions instead of seven. */
 typedef struct {
-  double ec, Eg, EgD, inv_me, Ep, Ep3, two_Eg, one_EgD, floor; /* floor: −E_g/2 */
+  double me, ec, Eg, EgD, inv_me, Ep, Ep3, two_Eg, one_EgD, floor; /* floor: −E_g/2 */
 } kane_consts;
 
 static kane_consts kane_consts_of(double me, double Ep, double Eg, double D, double ec) {
-  return (kane_consts){ec, Eg, Eg + D, 1.0 / me, Ep, Ep / 3.0, 2.0 / Eg, 1.0 / (Eg + D), -0.5 * Eg};
+  return (kane_consts){me, ec, Eg, Eg + D, 1.0 / me, Ep, Ep / 3.0, 2.0 / Eg, 1.0 / (Eg + D),
+                       -0.5 * Eg};
 }
 
 /* kane_m(me, Ep, Eg, D, E − ec, dm) from the piece's constants */
-static inline double kane_m_at(const kane_consts *q, double me, double E, double *dm) {
+static inline double kane_m_at(const kane_consts *q, double E, double *dm) {
   double eps = E - q->ec, e = eps > q->floor ? eps : q->floor;
   double a = q->Eg + e, b = q->EgD + e;
   double inv = q->inv_me + q->Ep3 * (2.0 / a + 1.0 / b - q->two_Eg - q->one_EgD);
-  double m = inv > 0 ? 1.0 / inv : me;
+  double m = inv > 0 ? 1.0 / inv : q->me;
   if (dm) *dm = inv > 0 && eps > q->floor ? m * m * q->Ep / 3.0 * (2.0 / (a * a) + 1.0 / (b * b)) : 0.0;
   return m;
 }
@@ -75,13 +76,18 @@ typedef struct {
   double *mhp, *mlp;                   /* hole in-plane masses */
   int *np;
   unsigned char *same; /* piece k has the mass inputs of piece k − 1 (a uniform layer) */
-  kane_consts *kc;     /* the Kane mass's energy-independent parts, per piece */
+  size_t nd;           /* distinct masses: a run of pieces with the same inputs shares one */
+  size_t *rid;         /* [n] the distinct mass of each piece */
+  kane_consts *kc;     /* [nd] the Kane mass's energy-independent parts */
+  double *md, *dmd;    /* [nd] scratch: the distinct masses at E and their slopes */
+  int *dnp;            /* [nd] the distinct mass is a Kane mass */
   ew_pencil *pen;      /* the pencil the iterations refill at each energy (ctx_pencil) */
 } np_ctx;
 
 static void ctx_free(np_ctx *c) {
   free(c->cell), free(c->len), free(c->me), free(c->Ep), free(c->Eg), free(c->D), free(c->ec);
   free(c->mhp), free(c->mlp), free(c->np), free(c->same), free(c->kc);
+  free(c->rid), free(c->md), free(c->dmd), free(c->dnp);
   ew_pencil_free(c->pen);
   memset(c, 0, sizeof *c);
 }
@@ -94,8 +100,10 @@ static int ctx_alloc(np_ctx *c, size_t cap) {
   c->np = malloc(cap * sizeof *c->np);
   c->same = malloc(cap * sizeof *c->same);
   c->kc = malloc(cap * sizeof *c->kc);
-  double **arr[] = {&c->len, &c->me, &c->Ep, &c->Eg, &c->D, &c->ec, &c->mhp, &c->mlp};
-  int ok = c->cell && c->np && c->same && c->kc;
+  c->rid = malloc(cap * sizeof *c->rid);
+  c->dnp = malloc(cap * sizeof *c->dnp);
+  double **arr[] = {&c->len, &c->me, &c->Ep, &c->Eg, &c->D, &c->ec, &c->mhp, &c->mlp, &c->md, &c->dmd};
+  int ok = c->cell && c->np && c->same && c->kc && c->rid && c->dnp;
   for (size_t k = 0; k < sizeof arr / sizeof *arr; k++) ok = (*arr[k] = malloc(cap * sizeof **arr[k])) && ok;
   return ok;
 }
@@ -106,10 +114,16 @@ static void ctx_push(np_ctx *c, size_t cell, double len, const ew_bands *b, doub
   c->Eg[k] = b->Eg_G_eV, c->D[k] = b->Dso_eV > 0 ? b->Dso_eV : 0.0, c->ec[k] = ec;
   c->mhp[k] = b->mhh_par, c->mlp[k] = b->mlh_par;
   c->np[k] = layer_np(b);
-  c->kc[k] = kane_consts_of(c->me[k], c->Ep[k], c->Eg[k], c->D[k], ec);
   c->same[k] = k > 0 && c->me[k] == c->me[k - 1] && c->Ep[k] == c->Ep[k - 1] &&
                c->Eg[k] == c->Eg[k - 1] && c->D[k] == c->D[k - 1] && c->ec[k] == c->ec[k - 1] &&
                c->np[k] == c->np[k - 1];
+  if (!c->same[k]) { /* a new distinct mass (a parabolic one gets harmless constants) */
+    size_t d = c->nd++;
+    c->dnp[d] = c->np[k];
+    c->kc[d] = c->np[k] ? kane_consts_of(c->me[k], c->Ep[k], c->Eg[k], c->D[k], ec)
+                        : kane_consts_of(c->me[k], 0.0, 1.0, 0.0, 0.0);
+  }
+  c->rid[k] = c->nd - 1;
 }
 
 static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
@@ -144,22 +158,34 @@ static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
 }
 
 /* At energy E: cell masses M_c = ∫_c m dz and, when not NULL, dM_c = ∂M_c/∂E and
- * Q_c = ∫_c m0/m dz (electrons; the Kane mass where the piece has one). */
+ * Q_c = ∫_c m0/m dz (electrons; the Kane mass where the piece has one).  Each distinct mass
+ * is evaluated once (the same bits for every piece of its run), without the slopes in one
+ * vectorisable loop. */
 static void ctx_eval(const np_ctx *c, double E, double *M, double *dM, double *Q) {
-  size_t nc = c->g->n + 1;
+  size_t nc = c->g->n + 1, nd = c->nd;
+  const kane_consts *kc = c->kc;
+  double *md = c->md, *dmd = c->dmd;
   memset(M, 0, nc * sizeof *M);
-  if (dM) memset(dM, 0, nc * sizeof *dM);
-  if (Q) memset(Q, 0, nc * sizeof *Q);
-  double m = 0.0, dm = 0.0;
-  for (size_t k = 0; k < c->n; k++) {
-    if (!c->same[k]) { /* else the previous piece's mass, the same bits */
-      m = c->me[k], dm = 0.0;
-      if (c->np[k]) m = kane_m_at(&c->kc[k], m, E, dM ? &dm : NULL);
+  if (dM) {
+    memset(dM, 0, nc * sizeof *dM);
+    for (size_t d = 0; d < nd; d++) {
+      dmd[d] = 0.0;
+      md[d] = c->dnp[d] ? kane_m_at(&kc[d], E, &dmd[d]) : kc[d].me;
     }
-    size_t cc = c->cell[k];
-    M[cc] += c->len[k] * m;
-    if (dM) dM[cc] += c->len[k] * dm;
-    if (Q) Q[cc] += c->len[k] / m;
+  } else {
+    const int *dnp = c->dnp;
+#pragma omp simd
+    for (size_t d = 0; d < nd; d++) {
+      double m = kane_m_at(&kc[d], E, NULL);
+      md[d] = dnp[d] ? m : kc[d].me;
+    }
+  }
+  if (Q) memset(Q, 0, nc * sizeof *Q);
+  for (size_t k = 0; k < c->n; k++) {
+    size_t cc = c->cell[k], d = c->rid[k];
+    M[cc] += c->len[k] * md[d];
+    if (dM) dM[cc] += c->len[k] * dmd[d];
+    if (Q) Q[cc] += c->len[k] / md[d];
   }
 }
 
