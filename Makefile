@@ -12,12 +12,14 @@ ifeq ($(SANITIZE),1)
   OPT   := -O1 -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined
 endif
 
-# what the library links against (LAPACK(E): the k·p solvers; also the tests' references)
+# what the library builds with (LAPACK(E): the k·p solvers; also the tests' references) and
+# links against: cairo only for its header, opened when a PNG is drawn (src/dynlib.h)
 PKGS      := superlu libconfig zlib cairo lapacke lapack
+LINK_PKGS := superlu libconfig zlib lapacke lapack
 TEST_PKGS := lapacke lapack cmocka
 # deferred (=): evaluated only when a compile or link runs, after any deps step
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS))
-PKG_LIBS   = $(shell pkg-config --libs $(PKGS)) -lblas -lm
+PKG_LIBS   = $(shell pkg-config --libs $(LINK_PKGS)) -lblas -ldl -lm
 TEST_LIBS  = $(shell pkg-config --libs $(TEST_PKGS))
 CFLAGS    += -std=c11 -Wall -Wextra -Wpedantic -g $(OPT) -fopenmp -D_POSIX_C_SOURCE=200809L \
              -DEW_PREFIX='"$(PREFIX)"' -MMD -MP
