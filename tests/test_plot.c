@@ -12,6 +12,7 @@
 
 #include "testutil.h"
 
+#include "dynlib.h"
 #include "plot.h"
 #include "report.h"
 #include "solve.h"
@@ -507,6 +508,40 @@ static void report_unwritable(void **state) {
   assert_int_equal(count_entries(d2), 1);
 }
 
+/* The loader behind the PNG back end (dynlib.h): a function looked up in a library opened on
+ * demand computes what the linked one does (libm's cos and hypot against the C library's own,
+ * linked into this program); a missing library or symbol is EW_ERR_IO and names what. */
+typedef struct {
+  double (*cosine)(double);
+  double (*hyp)(double, double);
+} math_table;
+
+static void dynlib_lookup(void **state) {
+  (void)state;
+  static const char *const names[] = {"libnot-there-at-all.so.9", "libm.so.6"};
+  const ew_dynsym syms[] = {{"cos", offsetof(math_table, cosine)},
+                            {"hypot", offsetof(math_table, hyp)}};
+  math_table t = {NULL, NULL};
+  void *h = NULL;
+  ew_error err = {0};
+  assert_int_equal(ew_dynlib_open(names, 2, syms, 2, &t, &h, &err), EW_OK);
+  assert_non_null(h);
+  volatile double x = 0.7; /* not folded at compile time */
+  assert_true(t.cosine(x) == cos(x));
+  assert_true(t.hyp(3.0, x) == hypot(3.0, x));
+  ew_dynlib_close(h);
+  /* no library of the list loads */
+  assert_int_equal(ew_dynlib_open(names, 1, syms, 2, &t, &h, &err), EW_ERR_IO);
+  assert_null(h);
+  assert_non_null(strstr(err.message, "libnot-there-at-all.so.9"));
+  /* the library loads but lacks a symbol */
+  const ew_dynsym bad[] = {{"cos", offsetof(math_table, cosine)},
+                           {"ew_no_such_function", offsetof(math_table, hyp)}};
+  assert_int_equal(ew_dynlib_open(names + 1, 1, bad, 2, &t, &h, &err), EW_ERR_IO);
+  assert_null(h);
+  assert_non_null(strstr(err.message, "ew_no_such_function"));
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(band_svg),
@@ -522,6 +557,7 @@ int main(void) {
       cmocka_unit_test(report_warnings),
       cmocka_unit_test(report_with_catalogue),
       cmocka_unit_test(report_unwritable),
+      cmocka_unit_test(dynlib_lookup),
   };
   return cmocka_run_group_tests_name("plot", tests, group_setup, group_teardown);
 }
