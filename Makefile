@@ -12,10 +12,11 @@ ifeq ($(SANITIZE),1)
   OPT   := -O1 -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined
 endif
 
-# what the library builds with (LAPACK(E): the k·p solvers; also the tests' references) and
-# links against: cairo only for its header, opened when a PNG is drawn (src/dynlib.h)
+# what the library builds with (LAPACKE: the k·p solvers; also the tests' references) and
+# links against: cairo and LAPACKE only for their headers, opened when a PNG is drawn or a
+# k·p computation starts (src/dynlib.h, src/lapack_dyn.h)
 PKGS      := superlu libconfig zlib cairo lapacke lapack
-LINK_PKGS := superlu libconfig zlib lapacke lapack
+LINK_PKGS := superlu libconfig zlib
 TEST_PKGS := lapacke lapack cmocka
 # deferred (=): evaluated only when a compile or link runs, after any deps step
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS))

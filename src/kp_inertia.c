@@ -6,7 +6,7 @@
 #endif
 #include "kp_inertia.h"
 
-#include <lapacke.h>
+#include "lapack_dyn.h"
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -20,16 +20,25 @@ struct ew_kp_inertia {
   lapack_complex_double D[EW_KP_MAX_NB * EW_KP_MAX_NB], X[EW_KP_MAX_NB * EW_KP_MAX_NB];
   lapack_complex_double work[LWORK];
   lapack_int ipiv[EW_KP_MAX_NB];
+  ew_lapack lp;
 };
 
 ew_kp_inertia *ew_kp_inertia_create(int nb) {
   if (nb < 1 || nb > EW_KP_MAX_NB) return NULL;
   ew_kp_inertia *w = calloc(1, sizeof *w);
+  if (w && ew_lapack_open(&w->lp, NULL) != EW_OK) {
+    free(w);
+    return NULL;
+  }
   if (w) w->nb = nb;
   return w;
 }
 
-void ew_kp_inertia_free(ew_kp_inertia *w) { free(w); }
+void ew_kp_inertia_free(ew_kp_inertia *w) {
+  if (!w) return;
+  ew_lapack_close(&w->lp);
+  free(w);
+}
 
 /* negative eigenvalues of the Bunch–Kaufman block diagonal in w->D (lower, after zhetrf) */
 static size_t negatives(const ew_kp_inertia *w) {
@@ -103,13 +112,12 @@ static int pivot_block(ew_kp_inertia *w, const double complex *C, size_t *neg) {
     return 0;
   }
   memcpy(w->D, save, nb2 * sizeof *save);
-  lapack_int info = LAPACKE_zhetrf_work(LAPACK_COL_MAJOR, 'L', nb, w->D, nb, w->ipiv, w->work,
-                                        LWORK);
+  lapack_int info = w->lp.zhetrf(LAPACK_COL_MAJOR, 'L', nb, w->D, nb, w->ipiv, w->work, LWORK);
   if (info != 0) return -1;
   *neg = negatives(w);
   if (C) {
     memcpy(w->X, C, nb2 * sizeof *w->X);
-    LAPACKE_zhetrs_work(LAPACK_COL_MAJOR, 'L', nb, nb, w->D, nb, w->ipiv, w->X, nb);
+    w->lp.zhetrs(LAPACK_COL_MAJOR, 'L', nb, nb, w->D, nb, w->ipiv, w->X, nb);
   }
   return 0;
 }

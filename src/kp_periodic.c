@@ -7,7 +7,6 @@
 #endif
 #include "kp_periodic.h"
 
-#include <lapacke.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -22,6 +21,7 @@ void ew_kpp_free(ew_kpp_pencil *p) {
   ew_kp_profile_free(p->prof);
   ew_kp_pencil_free(p->H);
   free(p->wrap);
+  ew_lapack_close(&p->lp);
   free(p);
 }
 
@@ -115,6 +115,10 @@ ew_status ew_kpp_build(const ew_stack *st, const ew_grid *g, ew_kp_model model,
     return rc;
   }
   p->n = p->prof->n, p->nb = p->prof->nb, p->period_nm = g->length_nm;
+  if ((rc = ew_lapack_open(&p->lp, err)) != EW_OK) {
+    ew_kpp_free(p);
+    return rc;
+  }
   p->H = ew_kp_pencil_create(p->prof);
   p->wrap = malloc((size_t)p->nb * (size_t)p->nb * sizeof *p->wrap);
   if (!p->H || !p->wrap) {
@@ -235,12 +239,12 @@ ew_status ew_kpp_count_below(const ew_kpp_pencil *p, double qd, double sigma, si
     int more = j + 2 < N; /* node j + 1 is still in the open block */
     memcpy(X, F, nb2 * sizeof *X);
     if (more) memcpy(X + nb2, H->off + j * nb2, nb2 * sizeof *X);
-    lapack_int info = LAPACKE_zhetrf_work(LAPACK_COL_MAJOR, 'L', nb, D, nb, ipiv, work, LWORK);
+    lapack_int info = p->lp.zhetrf(LAPACK_COL_MAJOR, 'L', nb, D, nb, ipiv, work, LWORK);
     if (info != 0)
       return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "periodic block LDLᴴ count at %.12g eV: "
                      "singular pivot block at node %zu", sigma, j);
     neg += negatives(nb, D, ipiv);
-    LAPACKE_zhetrs_work(LAPACK_COL_MAJOR, 'L', nb, more ? 2 * nb : nb, D, nb, ipiv, X, nb);
+    p->lp.zhetrs(LAPACK_COL_MAJOR, 'L', nb, more ? 2 * nb : nb, D, nb, ipiv, X, nb);
     sub_hprod(nb, S, F, X, T); /* S −= F_jᴴ D_j⁻¹ F_j */
     memcpy(S, T, nb2 * sizeof *S);
     if (!more) break;
@@ -250,7 +254,7 @@ ew_status ew_kpp_count_below(const ew_kpp_pencil *p, double qd, double sigma, si
     sub_hprod(nb, H->diag + (j + 1) * nb2, C, X + nb2, D);
     for (int a = 0; a < nb; a++) D[a * nb + a] -= sigma * w[j + 1];
   }
-  lapack_int info = LAPACKE_zhetrf_work(LAPACK_COL_MAJOR, 'L', nb, S, nb, ipiv, work, LWORK);
+  lapack_int info = p->lp.zhetrf(LAPACK_COL_MAJOR, 'L', nb, S, nb, ipiv, work, LWORK);
   if (info != 0)
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "periodic block LDLᴴ count at %.12g eV: "
                    "singular corner block", sigma);

@@ -38,6 +38,7 @@
 #include <complex.h>
 
 #include "kp_hamiltonian.h"
+#include "lapack_dyn.h"
 
 typedef struct {
   size_t n;             /* nodes N (>= 3) */
@@ -49,6 +50,7 @@ typedef struct {
   double norm;          /* a bound on ‖B^{−1/2} H B^{−1/2}‖ including the corners */
   double ec_max;        /* highest conduction edge over the nodes, eV (8-band) */
   double ev_min;        /* lowest valence top max(v_xy, v_z) over the nodes, eV */
+  ew_lapack lp;         /* the block counts' and the solver's LAPACK (lapack_dyn.h) */
 } ew_kpp_pencil;
 
 /* The periodic pencil of the period st on its layered grid g (no field; the caller checks).

@@ -7,7 +7,6 @@
 #pragma GCC optimize("cx-limited-range")
 #endif
 #include <float.h>
-#include <lapacke.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -128,8 +127,8 @@ static ew_status factor_at(ew_kpp_solver *s, double sigma, ew_error *err) {
     sub_a21(s, s->Z + b * d1, col);
     for (size_t a = 0; a < nb; a++) s->S[b * nb + a] = col[a];
   }
-  lapack_int info = LAPACKE_zgetrf_work(LAPACK_COL_MAJOR, (lapack_int)nb, (lapack_int)nb, s->S,
-                                        (lapack_int)nb, s->ipiv);
+  lapack_int info = p->lp.zgetrf(LAPACK_COL_MAJOR, (lapack_int)nb, (lapack_int)nb, s->S,
+                                 (lapack_int)nb, s->ipiv);
   if (info != 0)
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "shift %.12g eV: singular border block", sigma);
   return EW_OK;
@@ -146,8 +145,8 @@ static ew_status solve_at(ew_kpp_solver *s, double complex *X, size_t g, ew_erro
     double complex x2[EW_KP_MAX_NB], *y1 = s->T + c * d1;
     for (size_t a = 0; a < nb; a++) x2[a] = X[c * dim + d1 + a];
     sub_a21(s, y1, x2); /* b2 − A21 y1 */
-    LAPACKE_zgetrs_work(LAPACK_COL_MAJOR, 'N', (lapack_int)nb, 1, s->S, (lapack_int)nb, s->ipiv,
-                        x2, (lapack_int)nb);
+    s->p->lp.zgetrs(LAPACK_COL_MAJOR, 'N', (lapack_int)nb, 1, s->S, (lapack_int)nb, s->ipiv, x2,
+                    (lapack_int)nb);
     for (size_t i = 0; i < d1; i++) { /* x1 = y1 − Z x2 */
       double complex v = y1[i];
       for (size_t b = 0; b < nb; b++) v -= s->Z[b * d1 + i] * x2[b];
@@ -282,8 +281,8 @@ static double rayleigh_ritz(ew_kpp_solver *s, size_t g, double *theta) {
       for (size_t i = 0; i < dim; i++) acc += conj(s->X[a * dim + i]) * s->HX[b * dim + i];
       A[b * g + a] = acc;
     }
-  lapack_int info = LAPACKE_zheev_work(LAPACK_COL_MAJOR, 'V', 'L', (lapack_int)g, A,
-                                       (lapack_int)g, theta, work, 4 * GMAX, rwork);
+  lapack_int info = s->p->lp.zheev(LAPACK_COL_MAJOR, 'V', 'L', (lapack_int)g, A, (lapack_int)g,
+                                   theta, work, 4 * GMAX, rwork);
   if (info != 0) return INFINITY;
   /* X ← X V and HX ← HX V through T */
   for (int pass = 0; pass < 2; pass++) {

@@ -7,7 +7,7 @@
 #endif
 #include "kp_solve.h"
 
-#include <lapacke.h>
+#include "lapack_dyn.h"
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -31,6 +31,7 @@ struct ew_kp_solver {
   ew_kp_blocklu *blu;          /* the block-tridiagonal LU (kp_blocklu.h), tried first */
   int use_blu;                 /* the current factorisation is blu's */
   ew_kp_inertia *inertia;
+  ew_lapack lp;                /* zhegv for the Rayleigh–Ritz steps */
   double complex *X, *Y, *HY;  /* [dim × p] */
   double complex *Hs, *Bs;     /* [p × p] */
   double *theta, *rwork;       /* [p], [3p] */
@@ -54,6 +55,7 @@ void ew_kp_solver_free(ew_kp_solver *s) {
   ew_zshift_lu_free(s->lu);
   ew_kp_blocklu_free(s->blu);
   ew_kp_inertia_free(s->inertia);
+  ew_lapack_close(&s->lp);
   free(s->X);
   free(s->Y);
   free(s->HY);
@@ -76,6 +78,7 @@ ew_kp_solver *ew_kp_solver_create(size_t n, int nb, size_t p) {
   s->lu = ew_zshift_lu_create(n, nb);
   s->blu = ew_kp_blocklu_create(n, nb);
   s->inertia = ew_kp_inertia_create(nb);
+  int lapack = ew_lapack_open(&s->lp, NULL) == EW_OK;
   s->X = malloc(s->dim * p * sizeof *s->X);
   s->Y = malloc(s->dim * p * sizeof *s->Y);
   s->HY = malloc(s->dim * p * sizeof *s->HY);
@@ -84,7 +87,7 @@ ew_kp_solver *ew_kp_solver_create(size_t n, int nb, size_t p) {
   s->theta = malloc(p * sizeof *s->theta);
   s->rwork = malloc(3 * p * sizeof *s->rwork);
   s->work = malloc(s->lwork * sizeof *s->work);
-  if (!s->lu || !s->blu || !s->inertia || !s->X || !s->Y || !s->HY || !s->Hs || !s->Bs || !s->theta ||
+  if (!lapack || !s->lu || !s->blu || !s->inertia || !s->X || !s->Y || !s->HY || !s->Hs || !s->Bs || !s->theta ||
       !s->rwork || !s->work) {
     ew_kp_solver_free(s);
     return NULL;
@@ -170,9 +173,9 @@ static int rayleigh_ritz(ew_kp_solver *s, const ew_kp_pencil *H, size_t p) {
   gram(s, s->Y, s->HY, s->Hs, p);
   for (size_t k = 0; k < dim * p; k++) s->X[k] = H->w[(k % dim) / (size_t)s->nb] * s->Y[k];
   gram(s, s->Y, s->X, s->Bs, p); /* Yᴴ B Y, with B Y in X for the moment */
-  lapack_int info = LAPACKE_zhegv_work(LAPACK_COL_MAJOR, 1, 'V', 'L', (lapack_int)p, s->Hs,
-                                       (lapack_int)p, s->Bs, (lapack_int)p, s->theta, s->work,
-                                       (lapack_int)s->lwork, s->rwork);
+  lapack_int info = s->lp.zhegv(LAPACK_COL_MAJOR, 1, 'V', 'L', (lapack_int)p, s->Hs,
+                                (lapack_int)p, s->Bs, (lapack_int)p, s->theta, s->work,
+                                (lapack_int)s->lwork, s->rwork);
   if (info != 0) return -1;
   /* X = Y c and H X = (H Y) c (into Y, free afterwards) */
   times_small(s, s->Y, s->Hs, s->X, p, p);
@@ -298,9 +301,9 @@ static int cluster_rr(ew_kp_solver *s, const ew_kp_pencil *H, size_t j, size_t j
   for (size_t k = 0; k < q * dim; k++) BX[k] = H->w[(k % dim) / (size_t)s->nb] * X[k];
   gram(s, X, HX, s->Hs, q);
   gram(s, X, BX, s->Bs, q);
-  lapack_int info = LAPACKE_zhegv_work(LAPACK_COL_MAJOR, 1, 'V', 'L', (lapack_int)q, s->Hs,
-                                       (lapack_int)q, s->Bs, (lapack_int)q, s->theta + j,
-                                       s->work, (lapack_int)s->lwork, s->rwork);
+  lapack_int info = s->lp.zhegv(LAPACK_COL_MAJOR, 1, 'V', 'L', (lapack_int)q, s->Hs,
+                                (lapack_int)q, s->Bs, (lapack_int)q, s->theta + j, s->work,
+                                (lapack_int)s->lwork, s->rwork);
   if (info != 0) return -1;
   s->next_cid++;
   for (size_t c = j; c < j1; c++) s->cid[c] = s->next_cid;

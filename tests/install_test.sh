@@ -48,7 +48,7 @@ fi
 # the archive with its dependencies named (README "Linking"; Debian's superlu.pc has a broken
 # Libs.private, so `pkg-config --static` cannot be used)
 if cc "$tmp/use.c" -o "$tmp/use_static" $(PKG_CONFIG_PATH="$prefix/lib/pkgconfig" pkg-config --cflags epiwell) \
-     "$prefix/lib/libepiwell.a" $(pkg-config --libs superlu libconfig zlib lapacke lapack) -lblas -lgomp -ldl -lm 2>"$tmp/cc" &&
+     "$prefix/lib/libepiwell.a" $(pkg-config --libs superlu libconfig zlib) -lblas -lgomp -ldl -lm 2>"$tmp/cc" &&
    ! ldd "$tmp/use_static" | grep -q libepiwell &&
    EPIWELL_MATERIALS="$prefix/share/epiwell/materials" "$tmp/use_static" examples/detector_well.cfg | grep -q '^e1 0\.7'; then
   ok "the static archive still links (pkg-config --static) and solves"
