@@ -566,9 +566,12 @@ static ew_status newton_lu(size_t n, const double *lo, const double *di, const d
   return EW_OK;
 }
 
-/* One nonlinear Poisson solve for U (in place) at fixed E_F with the predicted densities. */
+/* One nonlinear Poisson solve for U (in place) at fixed E_F with the predicted densities.
+ * On success wk->q and parts[4][n] hold the charges at the final U: the last evaluation is
+ * always the step that was taken (parts costs a few stores, and saves the caller a further
+ * evaluation at the same U). */
 static ew_status poisson_step(const model *m, const snap *s, double EF0, double *U, work *wk,
-                              int outer, ew_error *err) {
+                              double *const parts[4], int outer, ew_error *err) {
   size_t n = m->n;
   charges(m, s, EF0, U, wk->q, wk->dq, NULL);
   double rn = residual(m, EF0, U, wk->q, wk->R);
@@ -592,7 +595,7 @@ static ew_status poisson_step(const model *m, const snap *s, double EF0, double 
     double rt = rn;
     for (int bt = 0; bt < 40; bt++) { /* halve the step while the residual grows */
       for (size_t i = 0; i < n; i++) wk->Ut[i] = U[i] + t * wk->x[i];
-      charges(m, s, EF0, wk->Ut, wk->q, wk->dq, NULL);
+      charges(m, s, EF0, wk->Ut, wk->q, wk->dq, parts);
       rt = residual(m, EF0, wk->Ut, wk->q, wk->R);
       if (rt <= rn * (1.0 - 1e-4 * t) || mx * t < NEWTON_TOL_EV) break;
       t *= 0.5;
@@ -1047,10 +1050,10 @@ ew_status ew_poisson_update(ew_poisson *p, const ew_result *r, int outer, double
   ew_status rc = snap_of(r, m, p->U, &s, err);
   if (rc != EW_OK) return rc;
   memcpy(p->Un, p->U, n * sizeof *p->Un);
-  rc = poisson_step(m, &s, p->EF, p->Un, &p->wk, outer, err);
+  /* p->wk.q and p->parts: the charges the Poisson step satisfied (gauge invariant: kept for
+     the profiles) */
+  rc = poisson_step(m, &s, p->EF, p->Un, &p->wk, p->parts, outer, err);
   if (rc == EW_OK) {
-    /* the charges the Poisson step satisfied (gauge invariant: kept for the profiles) */
-    charges(m, &s, p->EF, p->Un, p->wk.q, NULL, p->parts);
     double c = gauge_shift(m, p->Un), d = 0.0;
     for (size_t i = 0; i < n; i++) {
       p->Un[i] += c;
