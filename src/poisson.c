@@ -178,6 +178,22 @@ double ew_fd_half(double eta, double *deriv) {
 
 /* kT ln(1 + e^x) / kT = ln(1 + e^x), without overflow */
 static double log1pexp(double x) { return x > 0 ? x + log1p(exp(-x)) : log1p(exp(x)); }
+/* ln(1 + e^x) and its derivative 1 / (1 + e^−x) together: the bits of log1pexp(x) and
+ * occ(−x, 1.0), which take the same exponential (e^−|x|), computed once */
+static void log1pexp_deriv(double x, double *lx, double *fx) {
+  if (x > 0) {
+    double e = exp(-x);
+    *lx = x + log1p(e);
+    *fx = 1.0 / (1.0 + e);
+  } else if (x < 0) {
+    double e = exp(x);
+    *lx = log1p(e);
+    *fx = e / (e + 1.0);
+  } else { /* 0 (either sign) or NaN: as the two separately */
+    *lx = log1p(exp(x));
+    *fx = 1.0 / (1.0 + exp(-x));
+  }
+}
 /* 1 / (1 + g e^x), without overflow */
 static double occ(double x, double g) {
   if (x > 0) {
@@ -498,8 +514,9 @@ static void subband_charges(const model *m, const snap *s, double EF0, const dou
       if (p2 == 0.0) continue;
       double du = U[i] - s->Us[i];
       double x = qs->hole ? x0 + du / kT : x0 - du / kT;
-      double fx, lx = qs->tab ? ew_sheet_table_eval(qs->tab, x, &fx) : log1pexp(x);
-      if (!qs->tab) fx = occ(-x, 1.0);                            /* d ln(1+e^x)/dx */
+      double fx, lx; /* ln(1 + e^x) and d ln(1+e^x)/dx */
+      if (qs->tab) lx = ew_sheet_table_eval(qs->tab, x, &fx);
+      else log1pexp_deriv(x, &lx, &fx);
       double dens = qs->chi * qs->D * lx * p2 * m->w[i];           /* nm^-2 in this box */
       double f = qs->chi * fx;
       q[i] += qs->hole ? dens : -dens;
