@@ -211,7 +211,7 @@ typedef struct {
   double Nc, Nvh, Nvl;    /* effective densities of states at T, nm^-3 */
   double ND, NA;          /* nm^-3 */
   double Ed, Ea;          /* ionisation energies, eV (0: fully ionised) */
-  int same_prev;          /* Ec … Ea those of the half before it, bit for bit (rho_memo) */
+  int same_prev;          /* Ec … Ea those of the half before it, bit for bit (bulk_charges) */
 } half;
 
 typedef struct {
@@ -405,45 +405,21 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   return p - n + nd - na;
 }
 
-/* The last half_rho of bulk_charges with its inputs bit for bit: the two halves of a node
- * inside one layer (same_prev) at the node's U, E_F and windows give the same bits without a
- * second evaluation, as do neighbouring nodes of a layer at the same U (a flat start).  Only
- * the half just before is compared (flags set once per model). */
-typedef struct {
-  size_t j; /* the half evaluated last, SIZE_MAX: none */
-  int has_w;
-  double U, EF, W[EW_BAND_COUNT];
-  double rho, d, pp[4];
-} rho_memo;
-
 static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
 
-/* W[EW_BAND_COUNT] (the hand-over width) is the same for every half of one call */
-static int rho_memo_hit(rho_memo *c, const model *m, size_t j, double U, double EF,
-                        const double *W) {
-  if (c->j == SIZE_MAX || c->j + 1 != j || !m->hc[j].same_prev || !same_bits(U, c->U) ||
-      !same_bits(EF, c->EF) || c->has_w != (W != NULL))
-    return 0;
-  for (int b = 0; W && b < EW_BAND_COUNT; b++)
-    if (!same_bits(W[b], c->W[b])) return 0;
-  c->j = j; /* the same inputs: the memo now stands for half j, compared with the next one */
-  return 1;
-}
-
-static void rho_memo_store(rho_memo *c, size_t j, double U, double EF, const double *W,
-                           double rho, double d, const double pp[4]) {
-  c->j = j, c->U = U, c->EF = EF, c->has_w = W != NULL;
-  for (int b = 0; W && b < EW_BAND_COUNT; b++) c->W[b] = W[b];
-  c->rho = rho, c->d = d;
-  memcpy(c->pp, pp, sizeof c->pp);
-}
-
 /* The bulk part of the box charges: continuum carriers and uniform dopants of both halves of
- * every node's box (q, dq, parts as in charges). */
+ * every node's box (q, dq, parts as in charges).
+ * The last half_rho is remembered with its inputs: a half whose static inputs are those of the
+ * half before it (same_prev) at bit for bit the same U, E_F and windows gets the same bits
+ * without a second evaluation.  The second half of a node inside one layer always does (the
+ * node's own inputs); neighbouring nodes of a layer do at the same U (a flat start, e.g. every
+ * step of the first guess's bisection).  A half without length breaks the chain. */
 static void bulk_charges(const model *m, const snap *s, double EF0, const double *U, double *q,
                          double *dq, double *const parts[4]) {
   const double kT = m->kT;
-  rho_memo mm = {SIZE_MAX, 0, 0, 0, {0}, 0, 0, {0}};
+  int have = 0; /* rho, d, pp hold the last evaluation, at lU, lEF, lW */
+  double lU = 0.0, lEF = 0.0, lW[EW_BAND_COUNT] = {0};
+  double rho = 0.0, d = 0.0, pp[4] = {0, 0, 0, 0};
   for (size_t i = 0; i < m->n; i++) {
     double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
     double pa[4] = {0, 0, 0, 0};
@@ -456,18 +432,24 @@ static void bulk_charges(const model *m, const snap *s, double EF0, const double
     }
     for (int k = 0; k < 2; k++) {
       const half *h = &m->hc[2 * i + k];
-      if (h->len <= 0) continue;
-      double d, pp[4], rho;
-      if (rho_memo_hit(&mm, m, 2 * i + k, U[i], EF, s ? Wl : NULL)) {
-        rho = mm.rho, d = mm.d;
-        memcpy(pp, mm.pp, sizeof pp);
-      } else {
+      if (h->len <= 0) {
+        have = 0;
+        continue;
+      }
+      int hit = have && h->same_prev;
+      if (hit && k == 0) { /* the last half was node i − 1's: compare the inputs */
+        hit = same_bits(U[i], lU) && same_bits(EF, lEF);
+        for (int b = 0; hit && s && b < EW_BAND_COUNT; b++) hit = same_bits(Wl[b], lW[b]);
+      }
+      if (!hit) {
         rho = half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
-        rho_memo_store(&mm, 2 * i + k, U[i], EF, s ? Wl : NULL, rho, d, pp);
+        have = 1, lU = U[i], lEF = EF;
+        if (s) memcpy(lW, Wl, sizeof lW);
       }
       qi += h->len * rho;
-      di += h->len * d;
-      for (int t = 0; t < 4; t++) pa[t] += h->len * pp[t];
+      if (dq) di += h->len * d;
+      if (parts)
+        for (int t = 0; t < 4; t++) pa[t] += h->len * pp[t];
     }
     q[i] = qi;
     if (dq) dq[i] = di;
