@@ -407,6 +407,30 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
 
 static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
 
+/* bulk_charges for the bisection of the first guess: the classical bulk bands, q alone (the
+ * same operations, without the windows, derivatives and parts) */
+static void bulk_charges_q(const model *m, double EF0, const double *U, double *q) {
+  const double kT = m->kT;
+  int have = 0; /* rho holds the last evaluation, at lU, lEF */
+  double lU = 0.0, lEF = 0.0, rho = 0.0, d, pp[4];
+  for (size_t i = 0; i < m->n; i++) {
+    const half *h = &m->hc[2 * i];
+    double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0;
+    for (int k = 0; k < 2; k++) {
+      if (h[k].len <= 0) {
+        have = 0;
+        continue;
+      }
+      if (!have || !h[k].same_prev || (k == 0 && !(same_bits(U[i], lU) && same_bits(EF, lEF)))) {
+        rho = half_rho(&h[k], U[i], EF, NULL, kT, &d, pp);
+        have = 1, lU = U[i], lEF = EF;
+      }
+      qi += h[k].len * rho;
+    }
+    q[i] = qi;
+  }
+}
+
 /* The bulk part of the box charges: continuum carriers and uniform dopants of both halves of
  * every node's box (q, dq, parts as in charges).
  * The last half_rho is remembered with its inputs: a half whose static inputs are those of the
@@ -512,7 +536,8 @@ static void subband_charges(const model *m, const snap *s, double EF0, const dou
  * box-integrated n, p, N_D⁺, N_A⁻.  s == NULL: classical bulk bands only (the first guess). */
 static void charges(const model *m, const snap *s, double EF0, const double *U, double *q,
                     double *dq, double *const parts[4]) {
-  bulk_charges(m, s, EF0, U, q, dq, parts);
+  if (!s && !dq && !parts) bulk_charges_q(m, EF0, U, q);
+  else bulk_charges(m, s, EF0, U, q, dq, parts);
   sheet_charges(m, EF0, U, q, dq, parts);
   for (size_t i = 0; m->bound && i < m->n; i++) q[i] += m->bound[i];
   if (s) subband_charges(m, s, EF0, U, q, dq, parts);
