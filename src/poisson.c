@@ -302,7 +302,23 @@ static double fermi_at(const model *m, double EF0, double z) {
   return m->bias_eV != 0.0 ? EF0 - m->bias_eV * z / m->L : EF0;
 }
 
-static void fill_half(const model *m, half *h, double a, double b) {
+static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
+
+/* nc_of of the last mass given in each of a few slots (the halves of one layer share their
+ * masses: one pow for the layer, the same bits) */
+typedef struct {
+  int valid[3];
+  double mass[3], N[3];
+} nc_memo;
+static double nc_memo_of(nc_memo *c, int slot, double mass, double kT) {
+  if (!c) return nc_of(mass, kT);
+  if (!c->valid[slot] || !same_bits(mass, c->mass[slot]))
+    c->valid[slot] = 1, c->mass[slot] = mass, c->N[slot] = nc_of(mass, kT);
+  return c->N[slot];
+}
+
+/* the half [a, b] (c: see nc_memo; may be NULL) */
+static void fill_half(const model *m, half *h, double a, double b, nc_memo *c) {
   const ew_stack *st = m->st;
   double mid = 0.5 * (a + b);
   size_t k;
@@ -314,11 +330,11 @@ static void fill_half(const model *m, half *h, double a, double b) {
   h->Evh = ew_stack_edge_at(st, EW_BAND_HH, mid);
   h->Evl = ew_stack_edge_at(st, EW_BAND_LH, mid);
   h->Evtop = fmax(h->Evh, h->Evl);
-  h->Nc = nc_of(bb.me, m->kT);
+  h->Nc = nc_memo_of(c, 0, bb.me, m->kT);
   double mdos[2];
   ew_hole_dos_masses(&bb, mdos);
-  h->Nvh = nc_of(mdos[0], m->kT);
-  h->Nvl = nc_of(mdos[1], m->kT);
+  h->Nvh = nc_memo_of(c, 1, mdos[0], m->kT);
+  h->Nvl = nc_memo_of(c, 2, mdos[1], m->kT);
   h->ND = ly->donors_cm3 * NM3_PER_CM3;
   h->NA = ly->acceptors_cm3 * NM3_PER_CM3;
   h->Ed = ly->donor_energy_eV;
@@ -404,8 +420,6 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   if (parts) parts[0] = n, parts[1] = p, parts[2] = nd, parts[3] = na;
   return p - n + nd - na;
 }
-
-static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
 
 /* bulk_charges for the bisection of the first guess: the classical bulk bands, q alone (the
  * same operations, without the windows, derivatives and parts) */
@@ -708,11 +722,12 @@ static void fill_cells_and_boxes(model *m, const ew_grid *g) {
     bands_at(m->st, 0.5 * (a + b), &k, &bb);
     m->ec[c] = bb.eps_r / g->h[c];
   }
+  nc_memo nm = {{0, 0, 0}, {0, 0, 0}, {0, 0, 0}};
   for (size_t i = 0; i < n; i++) {
     double a = i == 0 && !m->dir_left ? 0.0 : g->z[i] - 0.5 * g->h[i];
     double b = i + 1 == n && !m->dir_right ? g->length_nm : g->z[i] + 0.5 * g->h[i + 1];
-    fill_half(m, &m->hc[2 * i], a, g->z[i]);
-    fill_half(m, &m->hc[2 * i + 1], g->z[i], b);
+    fill_half(m, &m->hc[2 * i], a, g->z[i], &nm);
+    fill_half(m, &m->hc[2 * i + 1], g->z[i], b, &nm);
     m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
     m->box[i] = b - a;
   }
@@ -754,9 +769,10 @@ static void fill_faces(model *m, const ew_grid *g) {
     m->off_left = st->surface_barrier_eV - ew_stack_edge_at(st, EW_BAND_E, 0.0);
   if (st->bias_given) {
     half h;
-    fill_half(m, &h, 0.0, fmin(1e-3, 0.5 * g->z[0]));
+    fill_half(m, &h, 0.0, fmin(1e-3, 0.5 * g->z[0]), NULL);
     m->off_left = neutral_offset(&h, m->kT);
-    fill_half(m, &h, fmax(g->length_nm - 1e-3, 0.5 * (g->z[n - 1] + g->length_nm)), g->length_nm);
+    fill_half(m, &h, fmax(g->length_nm - 1e-3, 0.5 * (g->z[n - 1] + g->length_nm)), g->length_nm,
+              NULL);
     m->off_right = neutral_offset(&h, m->kT);
   }
   double nd = 0.0, na = 0.0;
