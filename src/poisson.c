@@ -145,11 +145,36 @@ static const double fdm_hi_q[12] = {-2.23310170962369e-15, -7.94193282071464e-13
                                     -4.78770844009440e-1,  -4.99759250374148e-1,
                                     1.86795964993052e0,    4.16485970495288e-1};
 
-/* P(x) / Q(x) with P monic of degree np (np coefficients given) and Q of degree nq − 1 */
-static double ratio(const double *p, int np, const double *q, int nq, double x) {
-  double num = 1.0, den = q[nq - 1];
-  for (int i = np - 1; i >= 0; i--) num = num * x + p[i];
-  for (int i = nq - 2; i >= 0; i--) den = den * x + q[i];
+/* P(x) / Q(x) with P monic of degree np (np coefficients given) and Q of degree nq − 1, by
+ * Horner's rule written out for the three (np, nq) of the tables: the operations of the loop
+ *   num = 1; for i = np − 1 … 0: num = num·x + p[i];  den = q[nq − 1]; for i = nq − 2 … 0: …
+ * in the same order (the same bits) without the loop's counting */
+static double ratio_7_8(const double *p, const double *q, double x) {
+  double num = 1.0, den = q[7];
+  num = num * x + p[6]; num = num * x + p[5]; num = num * x + p[4]; num = num * x + p[3];
+  num = num * x + p[2]; num = num * x + p[1]; num = num * x + p[0];
+  den = den * x + q[6]; den = den * x + q[5]; den = den * x + q[4]; den = den * x + q[3];
+  den = den * x + q[2]; den = den * x + q[1]; den = den * x + q[0];
+  return num / den;
+}
+static double ratio_10_12(const double *p, const double *q, double x) {
+  double num = 1.0, den = q[11];
+  num = num * x + p[9]; num = num * x + p[8]; num = num * x + p[7]; num = num * x + p[6];
+  num = num * x + p[5]; num = num * x + p[4]; num = num * x + p[3]; num = num * x + p[2];
+  num = num * x + p[1]; num = num * x + p[0];
+  den = den * x + q[10]; den = den * x + q[9]; den = den * x + q[8]; den = den * x + q[7];
+  den = den * x + q[6]; den = den * x + q[5]; den = den * x + q[4]; den = den * x + q[3];
+  den = den * x + q[2]; den = den * x + q[1]; den = den * x + q[0];
+  return num / den;
+}
+static double ratio_11_12(const double *p, const double *q, double x) {
+  double num = 1.0, den = q[11];
+  num = num * x + p[10]; num = num * x + p[9]; num = num * x + p[8]; num = num * x + p[7];
+  num = num * x + p[6]; num = num * x + p[5]; num = num * x + p[4]; num = num * x + p[3];
+  num = num * x + p[2]; num = num * x + p[1]; num = num * x + p[0];
+  den = den * x + q[10]; den = den * x + q[9]; den = den * x + q[8]; den = den * x + q[7];
+  den = den * x + q[6]; den = den * x + q[5]; den = den * x + q[4]; den = den * x + q[3];
+  den = den * x + q[2]; den = den * x + q[1]; den = den * x + q[0];
   return num / den;
 }
 
@@ -165,12 +190,12 @@ double ew_fd_half(double eta, double *deriv) {
   }
   if (eta < 2.0) {
     double x = exp(eta);
-    F = x * ratio(fdp_lo_p, 7, fdp_lo_q, 8, x);
-    if (deriv) dF = x * ratio(fdm_lo_p, 7, fdm_lo_q, 8, x);
+    F = x * ratio_7_8(fdp_lo_p, fdp_lo_q, x);
+    if (deriv) dF = x * ratio_7_8(fdm_lo_p, fdm_lo_q, x);
   } else {
     double x = 1.0 / (eta * eta), r = sqrt(eta);
-    F = eta * r * ratio(fdp_hi_p, 10, fdp_hi_q, 12, x);
-    if (deriv) dF = r * ratio(fdm_hi_p, 11, fdm_hi_q, 12, x);
+    F = eta * r * ratio_10_12(fdp_hi_p, fdp_hi_q, x);
+    if (deriv) dF = r * ratio_11_12(fdm_hi_p, fdm_hi_q, x);
   }
   if (deriv) *deriv = dF / SQRT_PI;
   return F * (2.0 / SQRT_PI);
