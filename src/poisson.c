@@ -386,14 +386,16 @@ static const double blend_w[BLEND_POINTS] = {
     0.1739274225687269 * 6 * 0.9305681557970263 * (1 - 0.9305681557970263)};
 static double smoothstep(double x) { return x <= 0 ? 0.0 : x >= 1 ? 1.0 : x * x * (3.0 - 2.0 * x); }
 
-/* ℱ(η) and dℱ/dη, remembering the last argument */
-typedef struct {
-  double eta, F, dF;
-} fd_memo;
-static inline double fd_half_memo(fd_memo *c, double eta, double *dF) {
-  if (eta != c->eta) c->eta = eta, c->F = ew_fd_half(eta, &c->dF);
-  *dF = c->dF;
-  return c->F;
+/* ℱ(η_k) and dℱ/dη at the hand-over points k = 0 … 3 of one band; where the band edge clips
+ * the thresholds, points share one argument: an argument equal to the one before reuses its
+ * values (the same bits as evaluating it again) */
+static void fd_blend(const double eta[BLEND_POINTS], double F[BLEND_POINTS],
+                     double dF[BLEND_POINTS]) {
+  F[0] = ew_fd_half(eta[0], &dF[0]);
+  for (int k = 1; k < BLEND_POINTS; k++) {
+    if (eta[k] != eta[k - 1]) F[k] = ew_fd_half(eta[k], &dF[k]);
+    else F[k] = F[k - 1], dF[k] = dF[k - 1];
+  }
 }
 
 /* Charge density p − n + N_D⁺ − N_A⁻ (nm^-3) of a half at potential U, Fermi level EF and
@@ -415,18 +417,24 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   } else {
     /* electrons above max(Ec + U, t), holes below min(Ev + U, t), the threshold t spread
        over the hand-over interval by the weight χ'(x) (see blend) */
-    /* where the band edge clips the thresholds several points share one argument: the
-       last value of each band is reused (the same bits as evaluating it again) */
-    fd_memo mm[3] = {{NAN, 0, 0}, {NAN, 0, 0}, {NAN, 0, 0}};
+    double eta[3][BLEND_POINTS], F[3][BLEND_POINTS], dF3[3][BLEND_POINTS];
     for (int k = 0; k < BLEND_POINTS; k++) {
-      double x = blend_x[k], wt = blend_w[k];
+      double x = blend_x[k];
       double t = W[EW_BAND_E] - W[EW_BAND_COUNT] * x;
-      n += wt * h->Nc * fd_half_memo(&mm[0], (EF - (t > ec ? t : ec)) / kT, &dF);
-      dn -= wt * h->Nc * dF / kT; /* the thresholds move with U as well (see charges) */
+      eta[0][k] = (EF - (t > ec ? t : ec)) / kT;
       for (int b = 0; b < 2; b++) {
         double th = W[1 + b] + W[EW_BAND_COUNT] * x;
-        p += wt * nv[b] * fd_half_memo(&mm[1 + b], ((th < ev[b] ? th : ev[b]) - EF) / kT, &dF);
-        dp += wt * nv[b] * dF / kT;
+        eta[1 + b][k] = ((th < ev[b] ? th : ev[b]) - EF) / kT;
+      }
+    }
+    for (int b = 0; b < 3; b++) fd_blend(eta[b], F[b], dF3[b]);
+    for (int k = 0; k < BLEND_POINTS; k++) {
+      double wt = blend_w[k];
+      n += wt * h->Nc * F[0][k];
+      dn -= wt * h->Nc * dF3[0][k] / kT; /* the thresholds move with U as well (see charges) */
+      for (int b = 0; b < 2; b++) {
+        p += wt * nv[b] * F[1 + b][k];
+        dp += wt * nv[b] * dF3[1 + b][k] / kT;
       }
     }
   }
