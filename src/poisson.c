@@ -236,7 +236,8 @@ typedef struct {
   double Nc, Nvh, Nvl;    /* effective densities of states at T, nm^-3 */
   double ND, NA;          /* nm^-3 */
   double Ed, Ea;          /* ionisation energies, eV (0: fully ionised) */
-  int same_prev;          /* Ec … Ea those of the half before it, bit for bit (bulk_charges) */
+  int fresh;              /* 0: Ec … Ea those of the half before it, bit for bit, and that half
+                             has a length (its half_rho may stand for this one: bulk_charges) */
 } half;
 
 typedef struct {
@@ -454,45 +455,24 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   return p - n + nd - na;
 }
 
-/* bulk_charges for the bisection of the first guess: the classical bulk bands, q alone (the
- * same operations, without the windows, derivatives and parts) */
-static void bulk_charges_q(const model *m, double EF0, const double *U, double *q) {
-  const double kT = m->kT;
-  int have = 0; /* rho holds the last evaluation, at lU, lEF */
-  double lU = 0.0, lEF = 0.0, rho = 0.0, d, pp[4];
-  for (size_t i = 0; i < m->n; i++) {
-    const half *h = &m->hc[2 * i];
-    double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0;
-    for (int k = 0; k < 2; k++) {
-      if (h[k].len <= 0) {
-        have = 0;
-        continue;
-      }
-      if (!have || !h[k].same_prev || (k == 0 && !(same_bits(U[i], lU) && same_bits(EF, lEF)))) {
-        rho = half_rho(&h[k], U[i], EF, NULL, kT, &d, pp);
-        have = 1, lU = U[i], lEF = EF;
-      }
-      qi += h[k].len * rho;
-    }
-    q[i] = qi;
-  }
-}
-
 /* The bulk part of the box charges: continuum carriers and uniform dopants of both halves of
  * every node's box (q, dq, parts as in charges).
- * The last half_rho is remembered with its inputs: a half whose static inputs are those of the
- * half before it (same_prev) at bit for bit the same U, E_F and windows gets the same bits
+ * The last half_rho is remembered with its inputs: a half that is not fresh (its static inputs
+ * those of the half before it) at bit for bit the same U, E_F and windows gets the same bits
  * without a second evaluation.  The second half of a node inside one layer always does (the
  * node's own inputs); neighbouring nodes of a layer do at the same U (a flat start, e.g. every
- * step of the first guess's bisection).  A half without length breaks the chain. */
+ * step of the first guess's bisection).  A half without length is skipped and makes the next
+ * one fresh.  The model's scalars are copied to locals (the stores to q could alias them). */
 static void bulk_charges(const model *m, const snap *s, double EF0, const double *U, double *q,
                          double *dq, double *const parts[4]) {
-  const double kT = m->kT;
-  int have = 0; /* rho, d, pp hold the last evaluation, at lU, lEF, lW */
-  double lU = 0.0, lEF = 0.0, lW[EW_BAND_COUNT] = {0};
+  const double kT = m->kT, bias = m->bias_eV, L = m->L;
+  const double *z = m->z;
+  const half *hc = m->hc;
+  const size_t n = m->n;
+  double lU = 0.0, lEF = 0.0, lW[EW_BAND_COUNT] = {0}; /* inputs of the last evaluation */
   double rho = 0.0, d = 0.0, pp[4] = {0, 0, 0, 0};
-  for (size_t i = 0; i < m->n; i++) {
-    double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
+  for (size_t i = 0; i < n; i++) {
+    double EF = bias != 0.0 ? EF0 - bias * z[i] / L : EF0, qi = 0.0, di = 0.0; /* fermi_at */
     double pa[4] = {0, 0, 0, 0};
     /* the continuum starts at the bound window; like the subbands it is predicted to move
        with the local potential change (so the step is gauge-covariant) */
@@ -502,19 +482,16 @@ static void bulk_charges(const model *m, const snap *s, double EF0, const double
       Wl[EW_BAND_COUNT] = EW_SP_BLEND_KT * kT;
     }
     for (int k = 0; k < 2; k++) {
-      const half *h = &m->hc[2 * i + k];
-      if (h->len <= 0) {
-        have = 0;
-        continue;
-      }
-      int hit = have && h->same_prev;
+      const half *h = &hc[2 * i + k];
+      if (h->len <= 0) continue;
+      int hit = !h->fresh;
       if (hit && k == 0) { /* the last half was node i − 1's: compare the inputs */
         hit = same_bits(U[i], lU) && same_bits(EF, lEF);
         for (int b = 0; hit && s && b < EW_BAND_COUNT; b++) hit = same_bits(Wl[b], lW[b]);
       }
       if (!hit) {
         rho = half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
-        have = 1, lU = U[i], lEF = EF;
+        lU = U[i], lEF = EF;
         if (s) memcpy(lW, Wl, sizeof lW);
       }
       qi += h->len * rho;
@@ -526,6 +503,35 @@ static void bulk_charges(const model *m, const snap *s, double EF0, const double
     if (dq) dq[i] = di;
     if (parts)
       for (int t = 0; t < 4; t++) parts[t][i] = pa[t];
+  }
+}
+
+/* bulk_charges for the bisection of the first guess: the classical bulk bands, q alone (the
+ * same operations, without the windows, derivatives and parts) */
+static void bulk_charges_q(const model *m, double EF0, const double *U, double *q) {
+  const double kT = m->kT, bias = m->bias_eV, L = m->L;
+  const double *z = m->z;
+  const half *hc = m->hc;
+  const size_t n = m->n;
+  double lU = 0.0, lEF = 0.0, rho = 0.0, d, pp[4];
+  for (size_t i = 0; i < n; i++) {
+    const half *h = &hc[2 * i];
+    double EF = bias != 0.0 ? EF0 - bias * z[i] / L : EF0, qi = 0.0; /* fermi_at */
+    if (h[0].len > 0) {
+      if (h[0].fresh || !same_bits(U[i], lU) || !same_bits(EF, lEF)) {
+        rho = half_rho(&h[0], U[i], EF, NULL, kT, &d, pp);
+        lU = U[i], lEF = EF;
+      }
+      qi += h[0].len * rho;
+    }
+    if (h[1].len > 0) {
+      if (h[1].fresh) { /* else: the first half's inputs */
+        rho = half_rho(&h[1], U[i], EF, NULL, kT, &d, pp);
+        lU = U[i], lEF = EF;
+      }
+      qi += h[1].len * rho;
+    }
+    q[i] = qi;
   }
 }
 
@@ -764,10 +770,13 @@ static void fill_cells_and_boxes(model *m, const ew_grid *g) {
     m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
     m->box[i] = b - a;
   }
-  /* the static inputs of half_rho (Ec … Ea, contiguous doubles) shared with the half before */
+  /* the static inputs of half_rho (Ec … Ea, contiguous doubles) shared with the half before,
+     when that one has a length (is evaluated or stands for an evaluation) */
   const size_t from = offsetof(half, Ec), len = offsetof(half, Ea) + sizeof(double) - from;
+  m->hc[0].fresh = 1;
   for (size_t j = 1; j < 2 * n; j++)
-    m->hc[j].same_prev = memcmp((const char *)&m->hc[j] + from, (const char *)&m->hc[j - 1] + from, len) == 0;
+    m->hc[j].fresh = !(m->hc[j - 1].len > 0) ||
+                     memcmp((const char *)&m->hc[j] + from, (const char *)&m->hc[j - 1] + from, len) != 0;
 }
 
 /* Delta layers on the node nearest their layer's centre. */
