@@ -568,19 +568,26 @@ static void subband_charges(const model *m, const snap *s, double EF0, const dou
     double EF = fermi_at(m, EF0, qs->zc);
     double x0 = qs->hole ? (qs->E - EF) / kT : (EF - qs->E) / kT;
     if (x0 + dmax / kT < -200.0) continue; /* occupation below e^-200 everywhere */
+    /* the state's constants in locals (the stores to q could alias them); chi·D is the
+       first product of dens, evaluated left to right */
+    const double *psi = qs->psi, *Us = s->Us, *w = m->w;
+    const double chi = qs->chi, D = qs->D, chiD = chi * D;
+    const int hole = qs->hole;
+    const ew_sheet_table *tab = qs->tab;
+    double *pt = parts ? parts[hole ? 1 : 0] : NULL;
     for (size_t i = 0; i < n; i++) {
-      double p2 = qs->psi[i] * qs->psi[i];
+      double p2 = psi[i] * psi[i];
       if (p2 == 0.0) continue;
-      double du = U[i] - s->Us[i];
-      double x = qs->hole ? x0 + du / kT : x0 - du / kT;
+      double du = U[i] - Us[i];
+      double x = hole ? x0 + du / kT : x0 - du / kT;
       double fx, lx; /* ln(1 + e^x) and d ln(1+e^x)/dx */
-      if (qs->tab) lx = ew_sheet_table_eval(qs->tab, x, &fx);
+      if (tab) lx = ew_sheet_table_eval(tab, x, &fx);
       else log1pexp_deriv(x, &lx, &fx);
-      double dens = qs->chi * qs->D * lx * p2 * m->w[i];           /* nm^-2 in this box */
-      double f = qs->chi * fx;
-      q[i] += qs->hole ? dens : -dens;
-      if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
-      if (parts) parts[qs->hole ? 1 : 0][i] += dens;
+      double dens = chiD * lx * p2 * w[i]; /* nm^-2 in this box */
+      double f = chi * fx;
+      q[i] += hole ? dens : -dens;
+      if (dq) dq[i] += D * f / kT * p2 * w[i];
+      if (pt) pt[i] += dens;
     }
   }
 }
