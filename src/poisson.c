@@ -203,6 +203,9 @@ double ew_fd_half(double eta, double *deriv) {
 
 /* kT ln(1 + e^x) / kT = ln(1 + e^x), without overflow */
 static double log1pexp(double x) { return x > 0 ? x + log1p(exp(-x)) : log1p(exp(x)); }
+/* fmax(a, v) for a that is not NaN (a NaN v leaves a), without the library call */
+static inline double max_of(double a, double v) { return v > a ? v : a; }
+
 /* ln(1 + e^x) and its derivative 1 / (1 + e^−x) together: the bits of log1pexp(x) and
  * occ(−x, 1.0), which take the same exponential (e^−|x|), computed once */
 static void log1pexp_deriv(double x, double *lx, double *fx) {
@@ -562,7 +565,7 @@ static void subband_charges(const model *m, const snap *s, double EF0, const dou
   const double kT = m->kT;
   size_t n = m->n;
   double dmax = 0.0;
-  for (size_t i = 0; i < n; i++) dmax = fmax(dmax, fabs(U[i] - s->Us[i]));
+  for (size_t i = 0; i < n; i++) dmax = max_of(dmax, fabs(U[i] - s->Us[i]));
   for (size_t j = 0; j < s->ns; j++) {
     const qstate *qs = &s->s[j];
     double EF = fermi_at(m, EF0, qs->zc);
@@ -673,7 +676,7 @@ static ew_status poisson_step(const model *m, const snap *s, double EF0, double 
     ew_status rc = newton_lu(n, wk->lo, wk->di, wk->up, wk->x, wk->Ut, err);
     if (rc != EW_OK) return rc;
     double mx = 0.0;
-    for (size_t i = 0; i < n; i++) mx = fmax(mx, fabs(wk->x[i]));
+    for (size_t i = 0; i < n; i++) mx = max_of(mx, fabs(wk->x[i]));
     last = mx;
     double t = mx > NEWTON_STEP_MAX_EV ? NEWTON_STEP_MAX_EV / mx : 1.0;
     double rt = rn;
@@ -782,8 +785,8 @@ static void fill_cells_and_boxes(model *m, const ew_grid *g) {
   const size_t from = offsetof(half, Ec), len = offsetof(half, Ea) + sizeof(double) - from;
   m->hc[0].fresh = 1;
   for (size_t j = 1; j < 2 * n; j++)
-    m->hc[j].fresh = !(m->hc[j - 1].len > 0) ||
-                     memcmp((const char *)&m->hc[j] + from, (const char *)&m->hc[j - 1] + from, len) != 0;
+    m->hc[j].fresh = !(m->hc[j - 1].len > 0) || memcmp((const char *)&m->hc[j] + from,
+                                                       (const char *)&m->hc[j - 1] + from, len);
 }
 
 /* Delta layers on the node nearest their layer's centre. */
@@ -932,8 +935,9 @@ static ew_status snap_of(const ew_result *r, const model *m, const double *Us, s
     o->tab = o->hole && m->dos_fn ? m->dos_fn(m->dos_ctx, j) : NULL;
     if (o->tab) o->D = 1.0; /* the table gives nm^-2 */
     o->psi = r->psi + j * r->grid->n;
-    double zc = 0.0;
-    for (size_t i = 0; i < m->n; i++) zc += m->w[i] * o->psi[i] * o->psi[i] * m->z[i];
+    double zc = 0.0; /* read only for the quasi-Fermi level of a bias (fermi_at) */
+    for (size_t i = 0; m->bias_eV != 0.0 && i < m->n; i++)
+      zc += m->w[i] * o->psi[i] * o->psi[i] * m->z[i];
     o->zc = zc;
     double depth = o->hole ? o->E - s->W[q->band] : s->W[EW_BAND_E] - o->E;
     o->chi = smoothstep(depth / (EW_SP_BLEND_KT * m->kT));
@@ -1146,7 +1150,7 @@ ew_status ew_poisson_update(ew_poisson *p, const ew_result *r, int outer, double
     double c = gauge_shift(m, p->Un), d = 0.0;
     for (size_t i = 0; i < n; i++) {
       p->Un[i] += c;
-      d = fmax(d, fabs(p->Un[i] - p->U[i]));
+      d = max_of(d, fabs(p->Un[i] - p->U[i]));
     }
     p->EF += c;
     memcpy(p->U, p->Un, n * sizeof *p->U);
