@@ -145,11 +145,36 @@ static const double fdm_hi_q[12] = {-2.23310170962369e-15, -7.94193282071464e-13
                                     -4.78770844009440e-1,  -4.99759250374148e-1,
                                     1.86795964993052e0,    4.16485970495288e-1};
 
-/* P(x) / Q(x) with P monic of degree np (np coefficients given) and Q of degree nq − 1 */
-static double ratio(const double *p, int np, const double *q, int nq, double x) {
-  double num = 1.0, den = q[nq - 1];
-  for (int i = np - 1; i >= 0; i--) num = num * x + p[i];
-  for (int i = nq - 2; i >= 0; i--) den = den * x + q[i];
+/* P(x) / Q(x) with P monic of degree np (np coefficients given) and Q of degree nq − 1, by
+ * Horner's rule written out for the three (np, nq) of the tables: the operations of the loop
+ *   num = 1; for i = np − 1 … 0: num = num·x + p[i];  den = q[nq − 1]; for i = nq − 2 … 0: …
+ * in the same order (the same bits) without the loop's counting */
+static double ratio_7_8(const double *p, const double *q, double x) {
+  double num = 1.0, den = q[7];
+  num = num * x + p[6]; num = num * x + p[5]; num = num * x + p[4]; num = num * x + p[3];
+  num = num * x + p[2]; num = num * x + p[1]; num = num * x + p[0];
+  den = den * x + q[6]; den = den * x + q[5]; den = den * x + q[4]; den = den * x + q[3];
+  den = den * x + q[2]; den = den * x + q[1]; den = den * x + q[0];
+  return num / den;
+}
+static double ratio_10_12(const double *p, const double *q, double x) {
+  double num = 1.0, den = q[11];
+  num = num * x + p[9]; num = num * x + p[8]; num = num * x + p[7]; num = num * x + p[6];
+  num = num * x + p[5]; num = num * x + p[4]; num = num * x + p[3]; num = num * x + p[2];
+  num = num * x + p[1]; num = num * x + p[0];
+  den = den * x + q[10]; den = den * x + q[9]; den = den * x + q[8]; den = den * x + q[7];
+  den = den * x + q[6]; den = den * x + q[5]; den = den * x + q[4]; den = den * x + q[3];
+  den = den * x + q[2]; den = den * x + q[1]; den = den * x + q[0];
+  return num / den;
+}
+static double ratio_11_12(const double *p, const double *q, double x) {
+  double num = 1.0, den = q[11];
+  num = num * x + p[10]; num = num * x + p[9]; num = num * x + p[8]; num = num * x + p[7];
+  num = num * x + p[6]; num = num * x + p[5]; num = num * x + p[4]; num = num * x + p[3];
+  num = num * x + p[2]; num = num * x + p[1]; num = num * x + p[0];
+  den = den * x + q[10]; den = den * x + q[9]; den = den * x + q[8]; den = den * x + q[7];
+  den = den * x + q[6]; den = den * x + q[5]; den = den * x + q[4]; den = den * x + q[3];
+  den = den * x + q[2]; den = den * x + q[1]; den = den * x + q[0];
   return num / den;
 }
 
@@ -165,12 +190,12 @@ double ew_fd_half(double eta, double *deriv) {
   }
   if (eta < 2.0) {
     double x = exp(eta);
-    F = x * ratio(fdp_lo_p, 7, fdp_lo_q, 8, x);
-    if (deriv) dF = x * ratio(fdm_lo_p, 7, fdm_lo_q, 8, x);
+    F = x * ratio_7_8(fdp_lo_p, fdp_lo_q, x);
+    if (deriv) dF = x * ratio_7_8(fdm_lo_p, fdm_lo_q, x);
   } else {
     double x = 1.0 / (eta * eta), r = sqrt(eta);
-    F = eta * r * ratio(fdp_hi_p, 10, fdp_hi_q, 12, x);
-    if (deriv) dF = r * ratio(fdm_hi_p, 11, fdm_hi_q, 12, x);
+    F = eta * r * ratio_10_12(fdp_hi_p, fdp_hi_q, x);
+    if (deriv) dF = r * ratio_11_12(fdm_hi_p, fdm_hi_q, x);
   }
   if (deriv) *deriv = dF / SQRT_PI;
   return F * (2.0 / SQRT_PI);
@@ -178,6 +203,25 @@ double ew_fd_half(double eta, double *deriv) {
 
 /* kT ln(1 + e^x) / kT = ln(1 + e^x), without overflow */
 static double log1pexp(double x) { return x > 0 ? x + log1p(exp(-x)) : log1p(exp(x)); }
+/* fmax(a, v) for a that is not NaN (a NaN v leaves a), without the library call */
+static inline double max_of(double a, double v) { return v > a ? v : a; }
+
+/* ln(1 + e^x) and its derivative 1 / (1 + e^−x) together: the bits of log1pexp(x) and
+ * occ(−x, 1.0), which take the same exponential (e^−|x|), computed once */
+static void log1pexp_deriv(double x, double *lx, double *fx) {
+  if (x > 0) {
+    double e = exp(-x);
+    *lx = x + log1p(e);
+    *fx = 1.0 / (1.0 + e);
+  } else if (x < 0) {
+    double e = exp(x);
+    *lx = log1p(e);
+    *fx = e / (e + 1.0);
+  } else { /* 0 (either sign) or NaN: as the two separately */
+    *lx = log1p(exp(x));
+    *fx = 1.0 / (1.0 + exp(-x));
+  }
+}
 /* 1 / (1 + g e^x), without overflow */
 static double occ(double x, double g) {
   if (x > 0) {
@@ -195,7 +239,8 @@ typedef struct {
   double Nc, Nvh, Nvl;    /* effective densities of states at T, nm^-3 */
   double ND, NA;          /* nm^-3 */
   double Ed, Ea;          /* ionisation energies, eV (0: fully ionised) */
-  int same_prev;          /* Ec … Ea those of the half before it, bit for bit (rho_memo) */
+  int fresh;              /* 0: Ec … Ea those of the half before it, bit for bit, and that half
+                             has a length (its half_rho may stand for this one: bulk_charges) */
 } half;
 
 typedef struct {
@@ -286,7 +331,23 @@ static double fermi_at(const model *m, double EF0, double z) {
   return m->bias_eV != 0.0 ? EF0 - m->bias_eV * z / m->L : EF0;
 }
 
-static void fill_half(const model *m, half *h, double a, double b) {
+static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
+
+/* nc_of of the last mass given in each of a few slots (the halves of one layer share their
+ * masses: one pow for the layer, the same bits) */
+typedef struct {
+  int valid[3];
+  double mass[3], N[3];
+} nc_memo;
+static double nc_memo_of(nc_memo *c, int slot, double mass, double kT) {
+  if (!c) return nc_of(mass, kT);
+  if (!c->valid[slot] || !same_bits(mass, c->mass[slot]))
+    c->valid[slot] = 1, c->mass[slot] = mass, c->N[slot] = nc_of(mass, kT);
+  return c->N[slot];
+}
+
+/* the half [a, b] (c: see nc_memo; may be NULL) */
+static void fill_half(const model *m, half *h, double a, double b, nc_memo *c) {
   const ew_stack *st = m->st;
   double mid = 0.5 * (a + b);
   size_t k;
@@ -298,11 +359,11 @@ static void fill_half(const model *m, half *h, double a, double b) {
   h->Evh = ew_stack_edge_at(st, EW_BAND_HH, mid);
   h->Evl = ew_stack_edge_at(st, EW_BAND_LH, mid);
   h->Evtop = fmax(h->Evh, h->Evl);
-  h->Nc = nc_of(bb.me, m->kT);
+  h->Nc = nc_memo_of(c, 0, bb.me, m->kT);
   double mdos[2];
   ew_hole_dos_masses(&bb, mdos);
-  h->Nvh = nc_of(mdos[0], m->kT);
-  h->Nvl = nc_of(mdos[1], m->kT);
+  h->Nvh = nc_memo_of(c, 1, mdos[0], m->kT);
+  h->Nvl = nc_memo_of(c, 2, mdos[1], m->kT);
   h->ND = ly->donors_cm3 * NM3_PER_CM3;
   h->NA = ly->acceptors_cm3 * NM3_PER_CM3;
   h->Ed = ly->donor_energy_eV;
@@ -329,14 +390,16 @@ static const double blend_w[BLEND_POINTS] = {
     0.1739274225687269 * 6 * 0.9305681557970263 * (1 - 0.9305681557970263)};
 static double smoothstep(double x) { return x <= 0 ? 0.0 : x >= 1 ? 1.0 : x * x * (3.0 - 2.0 * x); }
 
-/* ℱ(η) and dℱ/dη, remembering the last argument */
-typedef struct {
-  double eta, F, dF;
-} fd_memo;
-static inline double fd_half_memo(fd_memo *c, double eta, double *dF) {
-  if (eta != c->eta) c->eta = eta, c->F = ew_fd_half(eta, &c->dF);
-  *dF = c->dF;
-  return c->F;
+/* ℱ(η_k) and dℱ/dη at the hand-over points k = 0 … 3 of one band; where the band edge clips
+ * the thresholds, points share one argument: an argument equal to the one before reuses its
+ * values (the same bits as evaluating it again) */
+static void fd_blend(const double eta[BLEND_POINTS], double F[BLEND_POINTS],
+                     double dF[BLEND_POINTS]) {
+  F[0] = ew_fd_half(eta[0], &dF[0]);
+  for (int k = 1; k < BLEND_POINTS; k++) {
+    if (eta[k] != eta[k - 1]) F[k] = ew_fd_half(eta[k], &dF[k]);
+    else F[k] = F[k - 1], dF[k] = dF[k - 1];
+  }
 }
 
 /* Charge density p − n + N_D⁺ − N_A⁻ (nm^-3) of a half at potential U, Fermi level EF and
@@ -358,18 +421,24 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   } else {
     /* electrons above max(Ec + U, t), holes below min(Ev + U, t), the threshold t spread
        over the hand-over interval by the weight χ'(x) (see blend) */
-    /* where the band edge clips the thresholds several points share one argument: the
-       last value of each band is reused (the same bits as evaluating it again) */
-    fd_memo mm[3] = {{NAN, 0, 0}, {NAN, 0, 0}, {NAN, 0, 0}};
+    double eta[3][BLEND_POINTS], F[3][BLEND_POINTS], dF3[3][BLEND_POINTS];
     for (int k = 0; k < BLEND_POINTS; k++) {
-      double x = blend_x[k], wt = blend_w[k];
+      double x = blend_x[k];
       double t = W[EW_BAND_E] - W[EW_BAND_COUNT] * x;
-      n += wt * h->Nc * fd_half_memo(&mm[0], (EF - (t > ec ? t : ec)) / kT, &dF);
-      dn -= wt * h->Nc * dF / kT; /* the thresholds move with U as well (see charges) */
+      eta[0][k] = (EF - (t > ec ? t : ec)) / kT;
       for (int b = 0; b < 2; b++) {
         double th = W[1 + b] + W[EW_BAND_COUNT] * x;
-        p += wt * nv[b] * fd_half_memo(&mm[1 + b], ((th < ev[b] ? th : ev[b]) - EF) / kT, &dF);
-        dp += wt * nv[b] * dF / kT;
+        eta[1 + b][k] = ((th < ev[b] ? th : ev[b]) - EF) / kT;
+      }
+    }
+    for (int b = 0; b < 3; b++) fd_blend(eta[b], F[b], dF3[b]);
+    for (int k = 0; k < BLEND_POINTS; k++) {
+      double wt = blend_w[k];
+      n += wt * h->Nc * F[0][k];
+      dn -= wt * h->Nc * dF3[0][k] / kT; /* the thresholds move with U as well (see charges) */
+      for (int b = 0; b < 2; b++) {
+        p += wt * nv[b] * F[1 + b][k];
+        dp += wt * nv[b] * dF3[1 + b][k] / kT;
       }
     }
   }
@@ -389,47 +458,24 @@ static double half_rho(const half *h, double U, double EF, const double *W, doub
   return p - n + nd - na;
 }
 
-/* The last half_rho of bulk_charges with its inputs bit for bit: the two halves of a node
- * inside one layer (same_prev) at the node's U, E_F and windows give the same bits without a
- * second evaluation, as do neighbouring nodes of a layer at the same U (a flat start).  Only
- * the half just before is compared (flags set once per model). */
-typedef struct {
-  size_t j; /* the half evaluated last, SIZE_MAX: none */
-  int has_w;
-  double U, EF, W[EW_BAND_COUNT];
-  double rho, d, pp[4];
-} rho_memo;
-
-static int same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
-
-/* W[EW_BAND_COUNT] (the hand-over width) is the same for every half of one call */
-static int rho_memo_hit(rho_memo *c, const model *m, size_t j, double U, double EF,
-                        const double *W) {
-  if (c->j == SIZE_MAX || c->j + 1 != j || !m->hc[j].same_prev || !same_bits(U, c->U) ||
-      !same_bits(EF, c->EF) || c->has_w != (W != NULL))
-    return 0;
-  for (int b = 0; W && b < EW_BAND_COUNT; b++)
-    if (!same_bits(W[b], c->W[b])) return 0;
-  c->j = j; /* the same inputs: the memo now stands for half j, compared with the next one */
-  return 1;
-}
-
-static void rho_memo_store(rho_memo *c, size_t j, double U, double EF, const double *W,
-                           double rho, double d, const double pp[4]) {
-  c->j = j, c->U = U, c->EF = EF, c->has_w = W != NULL;
-  for (int b = 0; W && b < EW_BAND_COUNT; b++) c->W[b] = W[b];
-  c->rho = rho, c->d = d;
-  memcpy(c->pp, pp, sizeof c->pp);
-}
-
 /* The bulk part of the box charges: continuum carriers and uniform dopants of both halves of
- * every node's box (q, dq, parts as in charges). */
+ * every node's box (q, dq, parts as in charges).
+ * The last half_rho is remembered with its inputs: a half that is not fresh (its static inputs
+ * those of the half before it) at bit for bit the same U, E_F and windows gets the same bits
+ * without a second evaluation.  The second half of a node inside one layer always does (the
+ * node's own inputs); neighbouring nodes of a layer do at the same U (a flat start, e.g. every
+ * step of the first guess's bisection).  A half without length is skipped and makes the next
+ * one fresh.  The model's scalars are copied to locals (the stores to q could alias them). */
 static void bulk_charges(const model *m, const snap *s, double EF0, const double *U, double *q,
                          double *dq, double *const parts[4]) {
-  const double kT = m->kT;
-  rho_memo mm = {SIZE_MAX, 0, 0, 0, {0}, 0, 0, {0}};
-  for (size_t i = 0; i < m->n; i++) {
-    double EF = fermi_at(m, EF0, m->z[i]), qi = 0.0, di = 0.0;
+  const double kT = m->kT, bias = m->bias_eV, L = m->L;
+  const double *z = m->z;
+  const half *hc = m->hc;
+  const size_t n = m->n;
+  double lU = 0.0, lEF = 0.0, lW[EW_BAND_COUNT] = {0}; /* inputs of the last evaluation */
+  double rho = 0.0, d = 0.0, pp[4] = {0, 0, 0, 0};
+  for (size_t i = 0; i < n; i++) {
+    double EF = bias != 0.0 ? EF0 - bias * z[i] / L : EF0, qi = 0.0, di = 0.0; /* fermi_at */
     double pa[4] = {0, 0, 0, 0};
     /* the continuum starts at the bound window; like the subbands it is predicted to move
        with the local potential change (so the step is gauge-covariant) */
@@ -439,24 +485,56 @@ static void bulk_charges(const model *m, const snap *s, double EF0, const double
       Wl[EW_BAND_COUNT] = EW_SP_BLEND_KT * kT;
     }
     for (int k = 0; k < 2; k++) {
-      const half *h = &m->hc[2 * i + k];
+      const half *h = &hc[2 * i + k];
       if (h->len <= 0) continue;
-      double d, pp[4], rho;
-      if (rho_memo_hit(&mm, m, 2 * i + k, U[i], EF, s ? Wl : NULL)) {
-        rho = mm.rho, d = mm.d;
-        memcpy(pp, mm.pp, sizeof pp);
-      } else {
+      int hit = !h->fresh;
+      if (hit && k == 0) { /* the last half was node i − 1's: compare the inputs */
+        hit = same_bits(U[i], lU) && same_bits(EF, lEF);
+        for (int b = 0; hit && s && b < EW_BAND_COUNT; b++) hit = same_bits(Wl[b], lW[b]);
+      }
+      if (!hit) {
         rho = half_rho(h, U[i], EF, s ? Wl : NULL, kT, &d, pp);
-        rho_memo_store(&mm, 2 * i + k, U[i], EF, s ? Wl : NULL, rho, d, pp);
+        lU = U[i], lEF = EF;
+        if (s) memcpy(lW, Wl, sizeof lW);
       }
       qi += h->len * rho;
-      di += h->len * d;
-      for (int t = 0; t < 4; t++) pa[t] += h->len * pp[t];
+      if (dq) di += h->len * d;
+      if (parts)
+        for (int t = 0; t < 4; t++) pa[t] += h->len * pp[t];
     }
     q[i] = qi;
     if (dq) dq[i] = di;
     if (parts)
       for (int t = 0; t < 4; t++) parts[t][i] = pa[t];
+  }
+}
+
+/* bulk_charges for the bisection of the first guess: the classical bulk bands, q alone (the
+ * same operations, without the windows, derivatives and parts) */
+static void bulk_charges_q(const model *m, double EF0, const double *U, double *q) {
+  const double kT = m->kT, bias = m->bias_eV, L = m->L;
+  const double *z = m->z;
+  const half *hc = m->hc;
+  const size_t n = m->n;
+  double lU = 0.0, lEF = 0.0, rho = 0.0, d, pp[4];
+  for (size_t i = 0; i < n; i++) {
+    const half *h = &hc[2 * i];
+    double EF = bias != 0.0 ? EF0 - bias * z[i] / L : EF0, qi = 0.0; /* fermi_at */
+    if (h[0].len > 0) {
+      if (h[0].fresh || !same_bits(U[i], lU) || !same_bits(EF, lEF)) {
+        rho = half_rho(&h[0], U[i], EF, NULL, kT, &d, pp);
+        lU = U[i], lEF = EF;
+      }
+      qi += h[0].len * rho;
+    }
+    if (h[1].len > 0) {
+      if (h[1].fresh) { /* else: the first half's inputs */
+        rho = half_rho(&h[1], U[i], EF, NULL, kT, &d, pp);
+        lU = U[i], lEF = EF;
+      }
+      qi += h[1].len * rho;
+    }
+    q[i] = qi;
   }
 }
 
@@ -487,24 +565,32 @@ static void subband_charges(const model *m, const snap *s, double EF0, const dou
   const double kT = m->kT;
   size_t n = m->n;
   double dmax = 0.0;
-  for (size_t i = 0; i < n; i++) dmax = fmax(dmax, fabs(U[i] - s->Us[i]));
+  for (size_t i = 0; i < n; i++) dmax = max_of(dmax, fabs(U[i] - s->Us[i]));
   for (size_t j = 0; j < s->ns; j++) {
     const qstate *qs = &s->s[j];
     double EF = fermi_at(m, EF0, qs->zc);
     double x0 = qs->hole ? (qs->E - EF) / kT : (EF - qs->E) / kT;
     if (x0 + dmax / kT < -200.0) continue; /* occupation below e^-200 everywhere */
+    /* the state's constants in locals (the stores to q could alias them); chi·D is the
+       first product of dens, evaluated left to right */
+    const double *psi = qs->psi, *Us = s->Us, *w = m->w;
+    const double chi = qs->chi, D = qs->D, chiD = chi * D;
+    const int hole = qs->hole;
+    const ew_sheet_table *tab = qs->tab;
+    double *pt = parts ? parts[hole ? 1 : 0] : NULL;
     for (size_t i = 0; i < n; i++) {
-      double p2 = qs->psi[i] * qs->psi[i];
+      double p2 = psi[i] * psi[i];
       if (p2 == 0.0) continue;
-      double du = U[i] - s->Us[i];
-      double x = qs->hole ? x0 + du / kT : x0 - du / kT;
-      double fx, lx = qs->tab ? ew_sheet_table_eval(qs->tab, x, &fx) : log1pexp(x);
-      if (!qs->tab) fx = occ(-x, 1.0);                            /* d ln(1+e^x)/dx */
-      double dens = qs->chi * qs->D * lx * p2 * m->w[i];           /* nm^-2 in this box */
-      double f = qs->chi * fx;
-      q[i] += qs->hole ? dens : -dens;
-      if (dq) dq[i] += qs->D * f / kT * p2 * m->w[i];
-      if (parts) parts[qs->hole ? 1 : 0][i] += dens;
+      double du = U[i] - Us[i];
+      double x = hole ? x0 + du / kT : x0 - du / kT;
+      double fx, lx; /* ln(1 + e^x) and d ln(1+e^x)/dx */
+      if (tab) lx = ew_sheet_table_eval(tab, x, &fx);
+      else log1pexp_deriv(x, &lx, &fx);
+      double dens = chiD * lx * p2 * w[i]; /* nm^-2 in this box */
+      double f = chi * fx;
+      q[i] += hole ? dens : -dens;
+      if (dq) dq[i] += D * f / kT * p2 * w[i];
+      if (pt) pt[i] += dens;
     }
   }
 }
@@ -513,7 +599,8 @@ static void subband_charges(const model *m, const snap *s, double EF0, const dou
  * box-integrated n, p, N_D⁺, N_A⁻.  s == NULL: classical bulk bands only (the first guess). */
 static void charges(const model *m, const snap *s, double EF0, const double *U, double *q,
                     double *dq, double *const parts[4]) {
-  bulk_charges(m, s, EF0, U, q, dq, parts);
+  if (!s && !dq && !parts) bulk_charges_q(m, EF0, U, q);
+  else bulk_charges(m, s, EF0, U, q, dq, parts);
   sheet_charges(m, EF0, U, q, dq, parts);
   for (size_t i = 0; m->bound && i < m->n; i++) q[i] += m->bound[i];
   if (s) subband_charges(m, s, EF0, U, q, dq, parts);
@@ -566,9 +653,12 @@ static ew_status newton_lu(size_t n, const double *lo, const double *di, const d
   return EW_OK;
 }
 
-/* One nonlinear Poisson solve for U (in place) at fixed E_F with the predicted densities. */
+/* One nonlinear Poisson solve for U (in place) at fixed E_F with the predicted densities.
+ * On success wk->q and parts[4][n] hold the charges at the final U: the last evaluation is
+ * always the step that was taken (parts costs a few stores, and saves the caller a further
+ * evaluation at the same U). */
 static ew_status poisson_step(const model *m, const snap *s, double EF0, double *U, work *wk,
-                              int outer, ew_error *err) {
+                              double *const parts[4], int outer, ew_error *err) {
   size_t n = m->n;
   charges(m, s, EF0, U, wk->q, wk->dq, NULL);
   double rn = residual(m, EF0, U, wk->q, wk->R);
@@ -586,13 +676,13 @@ static ew_status poisson_step(const model *m, const snap *s, double EF0, double 
     ew_status rc = newton_lu(n, wk->lo, wk->di, wk->up, wk->x, wk->Ut, err);
     if (rc != EW_OK) return rc;
     double mx = 0.0;
-    for (size_t i = 0; i < n; i++) mx = fmax(mx, fabs(wk->x[i]));
+    for (size_t i = 0; i < n; i++) mx = max_of(mx, fabs(wk->x[i]));
     last = mx;
     double t = mx > NEWTON_STEP_MAX_EV ? NEWTON_STEP_MAX_EV / mx : 1.0;
     double rt = rn;
     for (int bt = 0; bt < 40; bt++) { /* halve the step while the residual grows */
       for (size_t i = 0; i < n; i++) wk->Ut[i] = U[i] + t * wk->x[i];
-      charges(m, s, EF0, wk->Ut, wk->q, wk->dq, NULL);
+      charges(m, s, EF0, wk->Ut, wk->q, wk->dq, parts);
       rt = residual(m, EF0, wk->Ut, wk->q, wk->R);
       if (rt <= rn * (1.0 - 1e-4 * t) || mx * t < NEWTON_TOL_EV) break;
       t *= 0.5;
@@ -681,18 +771,22 @@ static void fill_cells_and_boxes(model *m, const ew_grid *g) {
     bands_at(m->st, 0.5 * (a + b), &k, &bb);
     m->ec[c] = bb.eps_r / g->h[c];
   }
+  nc_memo nm = {{0, 0, 0}, {0, 0, 0}, {0, 0, 0}};
   for (size_t i = 0; i < n; i++) {
     double a = i == 0 && !m->dir_left ? 0.0 : g->z[i] - 0.5 * g->h[i];
     double b = i + 1 == n && !m->dir_right ? g->length_nm : g->z[i] + 0.5 * g->h[i + 1];
-    fill_half(m, &m->hc[2 * i], a, g->z[i]);
-    fill_half(m, &m->hc[2 * i + 1], g->z[i], b);
+    fill_half(m, &m->hc[2 * i], a, g->z[i], &nm);
+    fill_half(m, &m->hc[2 * i + 1], g->z[i], b, &nm);
     m->hc[2 * i].z = m->hc[2 * i + 1].z = g->z[i];
     m->box[i] = b - a;
   }
-  /* the static inputs of half_rho (Ec … Ea, contiguous doubles) shared with the half before */
+  /* the static inputs of half_rho (Ec … Ea, contiguous doubles) shared with the half before,
+     when that one has a length (is evaluated or stands for an evaluation) */
   const size_t from = offsetof(half, Ec), len = offsetof(half, Ea) + sizeof(double) - from;
+  m->hc[0].fresh = 1;
   for (size_t j = 1; j < 2 * n; j++)
-    m->hc[j].same_prev = memcmp((const char *)&m->hc[j] + from, (const char *)&m->hc[j - 1] + from, len) == 0;
+    m->hc[j].fresh = !(m->hc[j - 1].len > 0) || memcmp((const char *)&m->hc[j] + from,
+                                                       (const char *)&m->hc[j - 1] + from, len);
 }
 
 /* Delta layers on the node nearest their layer's centre. */
@@ -727,9 +821,10 @@ static void fill_faces(model *m, const ew_grid *g) {
     m->off_left = st->surface_barrier_eV - ew_stack_edge_at(st, EW_BAND_E, 0.0);
   if (st->bias_given) {
     half h;
-    fill_half(m, &h, 0.0, fmin(1e-3, 0.5 * g->z[0]));
+    fill_half(m, &h, 0.0, fmin(1e-3, 0.5 * g->z[0]), NULL);
     m->off_left = neutral_offset(&h, m->kT);
-    fill_half(m, &h, fmax(g->length_nm - 1e-3, 0.5 * (g->z[n - 1] + g->length_nm)), g->length_nm);
+    fill_half(m, &h, fmax(g->length_nm - 1e-3, 0.5 * (g->z[n - 1] + g->length_nm)), g->length_nm,
+              NULL);
     m->off_right = neutral_offset(&h, m->kT);
   }
   double nd = 0.0, na = 0.0;
@@ -840,8 +935,9 @@ static ew_status snap_of(const ew_result *r, const model *m, const double *Us, s
     o->tab = o->hole && m->dos_fn ? m->dos_fn(m->dos_ctx, j) : NULL;
     if (o->tab) o->D = 1.0; /* the table gives nm^-2 */
     o->psi = r->psi + j * r->grid->n;
-    double zc = 0.0;
-    for (size_t i = 0; i < m->n; i++) zc += m->w[i] * o->psi[i] * o->psi[i] * m->z[i];
+    double zc = 0.0; /* read only for the quasi-Fermi level of a bias (fermi_at) */
+    for (size_t i = 0; m->bias_eV != 0.0 && i < m->n; i++)
+      zc += m->w[i] * o->psi[i] * o->psi[i] * m->z[i];
     o->zc = zc;
     double depth = o->hole ? o->E - s->W[q->band] : s->W[EW_BAND_E] - o->E;
     o->chi = smoothstep(depth / (EW_SP_BLEND_KT * m->kT));
@@ -1047,14 +1143,14 @@ ew_status ew_poisson_update(ew_poisson *p, const ew_result *r, int outer, double
   ew_status rc = snap_of(r, m, p->U, &s, err);
   if (rc != EW_OK) return rc;
   memcpy(p->Un, p->U, n * sizeof *p->Un);
-  rc = poisson_step(m, &s, p->EF, p->Un, &p->wk, outer, err);
+  /* p->wk.q and p->parts: the charges the Poisson step satisfied (gauge invariant: kept for
+     the profiles) */
+  rc = poisson_step(m, &s, p->EF, p->Un, &p->wk, p->parts, outer, err);
   if (rc == EW_OK) {
-    /* the charges the Poisson step satisfied (gauge invariant: kept for the profiles) */
-    charges(m, &s, p->EF, p->Un, p->wk.q, NULL, p->parts);
     double c = gauge_shift(m, p->Un), d = 0.0;
     for (size_t i = 0; i < n; i++) {
       p->Un[i] += c;
-      d = fmax(d, fabs(p->Un[i] - p->U[i]));
+      d = max_of(d, fabs(p->Un[i] - p->U[i]));
     }
     p->EF += c;
     memcpy(p->U, p->Un, n * sizeof *p->U);
