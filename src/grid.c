@@ -4,6 +4,7 @@
 
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 
 double ew_layer_edge(const ew_layer *ly, ew_band band) {
   switch (band) {
@@ -152,6 +153,39 @@ int ew_grid_add_potential(ew_grid *g, const double *U) {
     }
   }
   return 1;
+}
+
+/* a copy of k elements of size sz at p (NULL stays NULL); *ok becomes 0 when out of memory */
+static void *dup_of(const void *p, size_t k, size_t sz, int *ok) {
+  if (!p) return NULL;
+  void *q = malloc(k * sz);
+  if (q) memcpy(q, p, k * sz);
+  else *ok = 0;
+  return q;
+}
+
+ew_grid *ew_grid_copy(const ew_grid *g) {
+  ew_grid *c = calloc(1, sizeof *c);
+  if (!c) return NULL;
+  size_t n = g->n, m = n ? n : 1, d = sizeof(double);
+  int ok = 1;
+  c->n = n, c->length_nm = g->length_nm;
+  c->z = dup_of(g->z, m, d, &ok);
+  c->w = dup_of(g->w, m, d, &ok);
+  c->h = dup_of(g->h, n + 1, d, &ok);
+  c->layer = dup_of(g->layer, m, sizeof *g->layer, &ok);
+  c->U = dup_of(g->U, m, d, &ok);
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    c->cell_mass[b] = dup_of(g->cell_mass[b], n + 1, d, &ok);
+    c->pot[b] = dup_of(g->pot[b], m, d, &ok);
+    c->edge[b] = dup_of(g->edge[b], m, d, &ok);
+    c->mass[b] = dup_of(g->mass[b], m, d, &ok);
+  }
+  if (!ok) {
+    ew_grid_free(c);
+    return NULL;
+  }
+  return c;
 }
 
 void ew_grid_sample_coarse(const double *U_fine, size_t n_coarse, double *out) {

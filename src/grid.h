@@ -45,6 +45,9 @@ typedef struct {
  * +U to the edges, +U to the electron potential, −U to the hole potentials.  Keeps a copy
  * in g->U (energy-dependent masses need it).  Returns 0 when out of memory. */
 int ew_grid_add_potential(ew_grid *g, const double *U);
+/* A deep copy of g (the same values bit for bit: a grid of the same stack and cells without
+ * recomputing its integrals), or NULL when out of memory. */
+ew_grid *ew_grid_copy(const ew_grid *g);
 /* U on the coarse grid of every second node (node i = fine node 2i + 1), into out[coarse n]. */
 void ew_grid_sample_coarse(const double *U_fine, size_t n_coarse, double *out);
 

@@ -145,14 +145,15 @@ static ew_status check_step(const ew_stack *st, const ew_options *opt, double *s
   return EW_OK;
 }
 
-/* The fine grid r->grid and, with the error estimate, the coarse grid of every second node,
- * both with U added (U == NULL: none). */
-static ew_status build_grids(ew_result *r, const double *U, ew_grid **coarse, ew_error *err) {
+/* The fine grid r->grid (a copy of base when given) and, with the error estimate, the coarse
+ * grid of every second node, both with U added (U == NULL: none). */
+static ew_status build_grids(ew_result *r, const ew_grid *base, const double *U,
+                             ew_grid **coarse, ew_error *err) {
   const ew_stack *st = r->stack;
   size_t *cells = calloc(st->n_layers, sizeof *cells);
   if (!cells) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   ew_grid_cells_for_step(st, r->step_nm, cells);
-  r->grid = ew_grid_layered(st, cells);
+  r->grid = base ? ew_grid_copy(base) : ew_grid_layered(st, cells);
   if (r->opt.error_estimate) {
     for (size_t k = 0; k < st->n_layers; k++) cells[k] /= 2; /* cells are even: same faces */
     *coarse = ew_grid_layered(st, cells);
@@ -195,6 +196,12 @@ ew_status ew_schrodinger_pass(const ew_stack *st, const ew_options *optin, const
 
 ew_status ew_schrodinger_pass_lu(const ew_stack *st, const ew_options *optin, const double *U,
                                  ew_shift_lu *lu, ew_result **out, ew_error *err) {
+  return ew_schrodinger_pass_on(st, optin, NULL, U, lu, out, err);
+}
+
+ew_status ew_schrodinger_pass_on(const ew_stack *st, const ew_options *optin, const ew_grid *base,
+                                 const double *U, ew_shift_lu *lu, ew_result **out,
+                                 ew_error *err) {
   *out = NULL;
   ew_options opt;
   if (optin) opt = *optin;
@@ -211,7 +218,7 @@ ew_status ew_schrodinger_pass_lu(const ew_stack *st, const ew_options *optin, co
   band_pairs bp;
   memset(&bp, 0, sizeof bp);
   pass_lu ws = {lu, NULL};
-  rc = build_grids(r, U, &coarse, err);
+  rc = build_grids(r, base, U, &coarse, err);
   for (int b = 0; b < EW_BAND_COUNT && rc == EW_OK; b++) {
     rc = solve_band(r, coarse, (ew_band)b, &ws, &bp.fine[b], &bp.coarse[b], &bp.n_coarse[b],
                     err);

@@ -27,5 +27,11 @@ ew_status ew_schrodinger_pass(const ew_stack *st, const ew_options *opt, const d
  * the plain eigensolver; NULL or of another size: the pass makes its own, also shared. */
 ew_status ew_schrodinger_pass_lu(const ew_stack *st, const ew_options *opt, const double *U,
                                  ew_shift_lu *lu, ew_result **out, ew_error *err);
+/* The same on a copy of base, ew_schrodinger_grid(st, opt) without a potential, instead of a
+ * fine grid built anew (the self-consistent iterations: only U changes; the same values);
+ * base == NULL: as ew_schrodinger_pass_lu. */
+ew_status ew_schrodinger_pass_on(const ew_stack *st, const ew_options *opt, const ew_grid *base,
+                                 const double *U, ew_shift_lu *lu, ew_result **out,
+                                 ew_error *err);
 
 #endif

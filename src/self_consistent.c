@@ -15,15 +15,15 @@
 
 /* Alternate passes and Poisson updates from p's first guess until converged; *res is the
  * last pass (caller frees), *iters and *dU the iterations done and the last max|ΔU|. */
-static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson *p,
-                         ew_shift_lu *lu, ew_hole_dos_kp *hd, ew_progress *pg, int *iters,
-                         double *dU, ew_error *err) {
+static ew_status iterate(const ew_stack *st, const ew_options *uopt, const ew_grid *g,
+                         ew_poisson *p, ew_shift_lu *lu, ew_hole_dos_kp *hd, ew_progress *pg,
+                         int *iters, double *dU, ew_error *err) {
   ew_options iopt = *uopt;
   iopt.error_estimate = 0;
   iopt.excitons = 0;
   iopt.lowest_levels = 1;
   ew_result *res = NULL;
-  ew_status rc = ew_schrodinger_pass_lu(st, &iopt, ew_poisson_potential(p), lu, &res, err);
+  ew_status rc = ew_schrodinger_pass_on(st, &iopt, g, ew_poisson_potential(p), lu, &res, err);
   const int max_it = uopt->sp_max_iterations > 0 ? uopt->sp_max_iterations : EW_SP_MAX_ITER;
   int it = 0, conv = 0;
   *dU = INFINITY;
@@ -45,7 +45,7 @@ static ew_status iterate(const ew_stack *st, const ew_options *uopt, ew_poisson 
     }
     ew_result_free(res);
     res = NULL;
-    rc = ew_schrodinger_pass_lu(st, &iopt, ew_poisson_potential(p), lu, &res, err);
+    rc = ew_schrodinger_pass_on(st, &iopt, g, ew_poisson_potential(p), lu, &res, err);
   }
   ew_result_free(res);
   *iters = it;
@@ -105,8 +105,8 @@ ew_status ew_solve_self_consistent_from(const ew_stack *st, const ew_options *op
     if (!hd) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (k·p hole DOS)");
     else ew_poisson_set_subband_dos(p, ew_hole_dos_kp_table, hd);
   }
-  if (rc == EW_OK) rc = iterate(st, &uopt, p, lu, hd, pg, &it, &dU, err);
-  if (rc == EW_OK) rc = ew_schrodinger_pass_lu(st, &uopt, ew_poisson_potential(p), lu, &res, err);
+  if (rc == EW_OK) rc = iterate(st, &uopt, g, p, lu, hd, pg, &it, &dU, err);
+  if (rc == EW_OK) rc = ew_schrodinger_pass_on(st, &uopt, g, ew_poisson_potential(p), lu, &res, err);
   if (rc == EW_OK && pg && ew_progress_step(pg))
     rc = ew_progress_fail(pg, "the self-consistent solve", "steps", err);
   if (rc == EW_OK && hd) rc = ew_hole_dos_kp_update(hd, res, ew_poisson_fermi_eV(p), err);

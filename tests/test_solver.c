@@ -8,6 +8,7 @@
 #include "constants.h"
 #include "eigen.h"
 #include "observables.h"
+#include "schrodinger.h"
 #include "solve.h"
 
 static const double K = EW_HB2M0_EVNM2;
@@ -245,6 +246,51 @@ static void lapack_single_and_double_wells(void **state) {
   tu_stack_free(st);
 }
 
+/* ---- 4c. a pass on a copy of the grid (the self-consistent iterations) ------------------
+ * Round trip against the library's own values: ew_grid_copy holds every array of the grid bit
+ * for bit, and a pass with a potential on the copy (ew_schrodinger_pass_on) gives the states
+ * of the pass that builds its grid anew (ew_schrodinger_pass), energy for energy. */
+static void pass_on_copied_grid(void **state) {
+  (void)state;
+  tu_layer one[] = {{20, 0.3, -0.8 - 0.15, 0.092, 0.40, 0.10},
+                    {7, 0.0, -0.8, 0.067, 0.35, 0.09},
+                    {20, 0.3, -0.8 - 0.15, 0.092, 0.40, 0.10}};
+  ew_stack *st = tu_stack(3, one);
+  ew_options opt;
+  ew_options_default(&opt);
+  opt.error_estimate = 0;
+  ew_grid *g = ew_schrodinger_grid(st, &opt), *c = ew_grid_copy(g);
+  assert_non_null(c);
+  size_t n = g->n;
+  assert_int_equal(c->n, n);
+  assert_memory_equal(c->z, g->z, n * sizeof *g->z);
+  assert_memory_equal(c->w, g->w, n * sizeof *g->w);
+  assert_memory_equal(c->h, g->h, (n + 1) * sizeof *g->h);
+  assert_memory_equal(c->layer, g->layer, n * sizeof *g->layer);
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    assert_memory_equal(c->cell_mass[b], g->cell_mass[b], (n + 1) * sizeof(double));
+    assert_memory_equal(c->pot[b], g->pot[b], n * sizeof(double));
+    assert_memory_equal(c->edge[b], g->edge[b], n * sizeof(double));
+    assert_memory_equal(c->mass[b], g->mass[b], n * sizeof(double));
+  }
+  double *U = malloc(n * sizeof *U); /* a tilt of 20 mV across the stack */
+  for (size_t i = 0; i < n; i++) U[i] = 0.02 * g->z[i] / g->length_nm;
+  ew_result *a = NULL, *b = NULL;
+  assert_int_equal(ew_schrodinger_pass(st, &opt, U, &a, NULL), EW_OK);
+  assert_int_equal(ew_schrodinger_pass_on(st, &opt, g, U, NULL, &b, NULL), EW_OK);
+  assert_int_equal(a->n_states, b->n_states);
+  assert_true(a->n_states >= 3);
+  for (size_t i = 0; i < a->n_states; i++)
+    assert_memory_equal(&a->states[i].energy_eV, &b->states[i].energy_eV, sizeof(double));
+  assert_null(g->U); /* the base keeps no potential: each pass adds its own to its copy */
+  ew_result_free(a);
+  ew_result_free(b);
+  free(U);
+  ew_grid_free(c);
+  ew_grid_free(g);
+  tu_stack_free(st);
+}
+
 /* ---- 4b. eigenvalues by index, all at once (ew_eigen_indices) -----------------------------
  * Source: analytic (the infinite well's exact discrete eigenvalues of test 1, G. Strang,
  * Introduction to Applied Mathematics (1986), §1.5) and LAPACK dstev on the coupled double
@@ -470,6 +516,7 @@ int main(void) {
       cmocka_unit_test(finite_well_mass_mismatch),
       cmocka_unit_test(second_order_convergence),
       cmocka_unit_test(lapack_single_and_double_wells),
+      cmocka_unit_test(pass_on_copied_grid),
       cmocka_unit_test(eigenvalues_by_index),
       cmocka_unit_test(coarse_values_from_fine),
       cmocka_unit_test(trk_sum_rule),
