@@ -56,10 +56,14 @@ struct ew_exciton_ws {
   double gl_x[EW_EXC_GL], gl_w[EW_EXC_GL]; /* Gauss–Legendre nodes and weights on [−1, 1] */
   size_t ntab;
   double s0, ds;      /* s_k = s0 + k ds, s = ln x */
-  const double (*tab)[2]; /* the stored table {I, dI/ds}[ntab], or NULL: own_I, own_dIds */
-  double *own_I, *own_dIds;
+  const double (*tab)[2]; /* {I, dI/ds}[ntab]: the stored table or own */
+  double (*own)[2];   /* computed when the mesh constants no longer match the stored one */
   double *lnm;        /* [EW_EXC_MESH_MAX] ln m (lnm[0] unused) */
   double *pe, *ph, *P; /* [EW_EXC_MESH_MAX] mesh weights and the correlation */
+  /* the lags m >= 1 with P_m != 0, ascending (what energy sums; built once per line):
+     P_m, ln m and m as a double, [EW_EXC_MESH_MAX] each, nlag of them */
+  double *lagP, *lagln, *lagm;
+  size_t nlag;
 };
 
 /* Gauss–Legendre nodes by Newton's method on the Legendre recurrence (textbook, e.g.
@@ -185,15 +189,16 @@ ew_exciton_ws *ew_exciton_ws_new(void) {
   /* the stored table (exciton_table.inc, tested against the quadrature in test_exciton.c);
      computed here only when the mesh constants no longer match it */
   int stored = ws->ntab == EW_EXC_NTAB;
-  if (!stored) {
-    ws->own_I = malloc(ws->ntab * sizeof *ws->own_I);
-    ws->own_dIds = malloc(ws->ntab * sizeof *ws->own_dIds);
-  }
+  if (!stored) ws->own = malloc(ws->ntab * sizeof *ws->own);
   ws->lnm = malloc(EW_EXC_MESH_MAX * sizeof *ws->lnm);
   ws->pe = malloc(EW_EXC_MESH_MAX * sizeof *ws->pe);
   ws->ph = malloc(EW_EXC_MESH_MAX * sizeof *ws->ph);
   ws->P = malloc(EW_EXC_MESH_MAX * sizeof *ws->P);
-  if ((!stored && (!ws->own_I || !ws->own_dIds)) || !ws->lnm || !ws->pe || !ws->ph || !ws->P) {
+  ws->lagP = malloc(EW_EXC_MESH_MAX * sizeof *ws->lagP);
+  ws->lagln = malloc(EW_EXC_MESH_MAX * sizeof *ws->lagln);
+  ws->lagm = malloc(EW_EXC_MESH_MAX * sizeof *ws->lagm);
+  if ((!stored && !ws->own) || !ws->lnm || !ws->pe || !ws->ph || !ws->P || !ws->lagP ||
+      !ws->lagln || !ws->lagm) {
     ew_exciton_ws_free(ws);
     return NULL;
   }
@@ -201,7 +206,8 @@ ew_exciton_ws *ew_exciton_ws_new(void) {
     ws->tab = exciton_table;
   } else {
     for (size_t k = 0; k < ws->ntab; k++)
-      table_entry(ws->gl_x, ws->gl_w, ws->s0, ws->ds, k, &ws->own_I[k], &ws->own_dIds[k]);
+      table_entry(ws->gl_x, ws->gl_w, ws->s0, ws->ds, k, &ws->own[k][0], &ws->own[k][1]);
+    ws->tab = (const double(*)[2])ws->own;
   }
   ws->lnm[0] = 0.0;
   for (size_t m = 1; m < EW_EXC_MESH_MAX; m++) ws->lnm[m] = log((double)m);
@@ -210,9 +216,11 @@ ew_exciton_ws *ew_exciton_ws_new(void) {
 
 void ew_exciton_ws_free(ew_exciton_ws *ws) {
   if (!ws) return;
-  free(ws->own_I);
-  free(ws->own_dIds);
+  free(ws->own);
   free(ws->lnm);
+  free(ws->lagP);
+  free(ws->lagln);
+  free(ws->lagm);
   free(ws->pe);
   free(ws->ph);
   free(ws->P);
@@ -229,12 +237,7 @@ static inline double table_I(const ew_exciton_ws *ws, double s, double x) {
   /* cubic Hermite basis on [s_k, s_k+1] */
   double h00 = 2 * t3 - 3 * t2 + 1, h10 = t3 - 2 * t2 + t, h01 = -2 * t3 + 3 * t2,
          h11 = t3 - t2;
-  double I0, d0, I1, d1;
-  if (ws->tab) {
-    I0 = ws->tab[k][0], d0 = ws->tab[k][1], I1 = ws->tab[k + 1][0], d1 = ws->tab[k + 1][1];
-  } else {
-    I0 = ws->own_I[k], d0 = ws->own_dIds[k], I1 = ws->own_I[k + 1], d1 = ws->own_dIds[k + 1];
-  }
+  double I0 = ws->tab[k][0], d0 = ws->tab[k][1], I1 = ws->tab[k + 1][0], d1 = ws->tab[k + 1][1];
   return h00 * I0 + h10 * ws->ds * d0 + h01 * I1 + h11 * ws->ds * d1;
 }
 
@@ -271,13 +274,34 @@ static void support(const ew_grid *g, const double *psi, double nrm, size_t *a, 
 }
 
 /* E(λ) in eV for the correlation P on a mesh of step delta (header of this file, item 3).
- * K = ħ²/(2μ) (eV nm²), C = e²/(4πε0εr) (eV nm). */
-static double energy(const ew_exciton_ws *ws, size_t M, double delta, double K, double C,
-                     double lam) {
+ * K = ħ²/(2μ) (eV nm²), C = e²/(4πε0εr) (eV nm).  The terms and their order are those of
+ * Σ_m P_m table_I(ln m + ln a, m a) over the lags with P_m != 0; u = (ln m + ln a − s0)/ds
+ * grows with m (every rounding is monotonic), so the lags come in three runs: below the
+ * table (I = 1 − x), in it, and above it (asymptotic series), each without the others' tests. */
+static double energy(const ew_exciton_ws *ws, double delta, double K, double C, double lam) {
   double a = 2.0 * delta / lam, la = log(a);
   double sum = ws->P[0]; /* I(0) = 1 */
-  for (size_t m = 1; m < M; m++)
-    if (ws->P[m] != 0.0) sum += ws->P[m] * table_I(ws, ws->lnm[m] + la, (double)m * a);
+  const double *lp = ws->lagP, *ll = ws->lagln, *lm = ws->lagm;
+  const double(*tab)[2] = ws->tab;
+  const double s0 = ws->s0, ds = ws->ds, umax = (double)(ws->ntab - 1);
+  size_t n = ws->nlag, i = 0;
+  for (; i < n; i++) {
+    double s = ll[i] + la, u = (s - s0) / ds;
+    if (!(u < 0.0)) break;
+    sum += lp[i] * (1.0 - lm[i] * a);
+  }
+  for (; i < n; i++) {
+    double s = ll[i] + la, u = (s - s0) / ds;
+    if (u >= umax) break;
+    /* table_I's cubic Hermite interpolation, operation for operation (k >= 0 here) */
+    ptrdiff_t k = (ptrdiff_t)u;
+    double t = u - (double)k, t2 = t * t, t3 = t2 * t;
+    double h00 = 2 * t3 - 3 * t2 + 1, h10 = t3 - 2 * t2 + t, h01 = -2 * t3 + 3 * t2,
+           h11 = t3 - t2;
+    double I0 = tab[k][0], d0 = tab[k][1], I1 = tab[k + 1][0], d1 = tab[k + 1][1];
+    sum += lp[i] * (h00 * I0 + h10 * ds * d0 + h01 * I1 + h11 * ds * d1);
+  }
+  for (; i < n; i++) sum += lp[i] * asymptotic_I(lm[i] * a);
   return K / (lam * lam) - C * (2.0 / lam) * sum;
 }
 
@@ -422,6 +446,10 @@ static int correlate(ew_exciton_ws *ws, size_t M) {
   for (size_t m = 0; m < M; m++) tot += P[m];
   if (!(tot > 0)) return 0;
   for (size_t m = 0; m < M; m++) P[m] /= tot;
+  size_t n = 0;
+  for (size_t m = 1; m < M; m++)
+    if (P[m] != 0.0) ws->lagP[n] = P[m], ws->lagln[n] = ws->lnm[m], ws->lagm[n++] = (double)m;
+  ws->nlag = n;
   return 1;
 }
 
@@ -460,14 +488,14 @@ static ew_status distance_distribution(ew_exciton_ws *ws, const ew_grid *g, cons
 
 /* min over λ of E(λ) (header of this file, item 3): scan on ln λ from lam2d/4 to lam2d·2e4,
  * then golden-section search around the lowest scan point; *lbest = ln λ at the minimum. */
-static double minimise(const ew_exciton_ws *ws, size_t M, double delta, double K, double C,
+static double minimise(const ew_exciton_ws *ws, double delta, double K, double C,
                        double *lbest) {
   double lam2d = K / C; /* = a_B/2, the strict-2D optimum */
   double l0 = log(lam2d / 4.0), l1 = log(lam2d * 2e4);
   double hs = (l1 - l0) / (EW_EXC_SCAN - 1), Es[EW_EXC_SCAN];
   int kmin = 0;
   for (int k = 0; k < EW_EXC_SCAN; k++) {
-    Es[k] = energy(ws, M, delta, K, C, exp(l0 + k * hs));
+    Es[k] = energy(ws, delta, K, C, exp(l0 + k * hs));
     if (Es[k] < Es[kmin]) kmin = k;
   }
   /* Brent's minimisation on ln λ in [kmin − 1, kmin + 1] (R. P. Brent, Algorithms for
@@ -501,7 +529,7 @@ static double minimise(const ew_exciton_ws *ws, size_t M, double delta, double K
       d = cgold * e;
     }
     double u = fabs(d) >= tol1 ? x + d : x + (d >= 0 ? tol1 : -tol1);
-    double fu = energy(ws, M, delta, K, C, exp(u));
+    double fu = energy(ws, delta, K, C, exp(u));
     if (fu <= fx) {
       if (u >= x) a = x;
       else b = x;
@@ -539,7 +567,7 @@ ew_status ew_exciton_binding_ws(ew_exciton_ws *ws, const ew_grid *g, const doubl
    * e²/(4πε0) in J m divided by e gives eV m, ×1e9 for eV nm (1.43996 eV nm). */
   double K = EW_HB2M0_EVNM2 / mu_par;
   double C = EW_E_C / (4.0 * EW_PI * EW_EPS0_FM) * 1e9 / eps_r;
-  double lbest, Ebest = minimise(ws, M, delta, K, C, &lbest);
+  double lbest, Ebest = minimise(ws, delta, K, C, &lbest);
   if (!(Ebest < 0) || !isfinite(Ebest))
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
                    "exciton: variational energy did not go below zero (%g eV)", Ebest);
