@@ -372,50 +372,91 @@ static inline double dot_from(const double *pe, const double *ph, ptrdiff_t off,
   return acc;
 }
 
-#define CORR_BLOCK 4 /* lags computed together: each pe_k loaded once for all four */
+#define CORR_BLOCK 8 /* lags computed together: each pe_k loaded once for all of them
+                        (block_run is written out for eight) */
+
+/* r[i] += p q[i] for the CORR_BLOCK accumulators r, k = c0 … c1 ascending with p = pe[k] and
+ * q = ph + k + off.  Every lane keeps its own sum in its own order, so two lanes per vector
+ * register (GCC/Clang vector extension; the same IEEE products and sums as the scalar
+ * loop) change no bit.  Written out rather than looped so that the sums stay in registers;
+ * the explicit vector loads because scalar code lets the compiler carry q[i + 1] over to
+ * the next k as q[i], which costs more shuffles than the loads it saves. */
+#if defined(__GNUC__) && !defined(EW_EXC_SCALAR)
+typedef double ew_v2d __attribute__((vector_size(2 * sizeof(double))));
+static inline ew_v2d load2(const double *q) {
+  ew_v2d v;
+  memcpy(&v, q, sizeof v);
+  return v;
+}
+static inline void block_run(const double *pe, const double *ph, ptrdiff_t off, ptrdiff_t c0,
+                             ptrdiff_t c1, double r[CORR_BLOCK]) {
+  ew_v2d s0 = load2(r), s1 = load2(r + 2), s2 = load2(r + 4), s3 = load2(r + 6);
+  ptrdiff_t k = c0;
+  for (; k + 1 <= c1; k += 2) { /* two k per pass: fewer loop and register-copy overheads */
+    ew_v2d p = {pe[k], pe[k]}, p1 = {pe[k + 1], pe[k + 1]};
+    const double *q = ph + (k + off);
+    s0 += p * load2(q), s1 += p * load2(q + 2), s2 += p * load2(q + 4), s3 += p * load2(q + 6);
+    s0 += p1 * load2(q + 1), s1 += p1 * load2(q + 3), s2 += p1 * load2(q + 5),
+        s3 += p1 * load2(q + 7);
+  }
+  for (; k <= c1; k++) {
+    ew_v2d p = {pe[k], pe[k]};
+    const double *q = ph + (k + off);
+    s0 += p * load2(q), s1 += p * load2(q + 2), s2 += p * load2(q + 4), s3 += p * load2(q + 6);
+  }
+  memcpy(r, &s0, sizeof s0), memcpy(r + 2, &s1, sizeof s1), memcpy(r + 4, &s2, sizeof s2),
+      memcpy(r + 6, &s3, sizeof s3);
+}
+#else
+static inline void block_run(const double *pe, const double *ph, ptrdiff_t off, ptrdiff_t c0,
+                             ptrdiff_t c1, double r[CORR_BLOCK]) {
+  double s0 = r[0], s1 = r[1], s2 = r[2], s3 = r[3], s4 = r[4], s5 = r[5], s6 = r[6],
+         s7 = r[7];
+  for (ptrdiff_t k = c0; k <= c1; k++) {
+    double p = pe[k];
+    const double *q = ph + (k + off);
+    s0 += p * q[0], s1 += p * q[1], s2 += p * q[2], s3 += p * q[3];
+    s4 += p * q[4], s5 += p * q[5], s6 += p * q[6], s7 += p * q[7];
+  }
+  r[0] = s0, r[1] = s1, r[2] = s2, r[3] = s3, r[4] = s4, r[5] = s5, r[6] = s6, r[7] = s7;
+}
+#endif
 
 /* P[m0 .. m0+CORR_BLOCK−1] (m0 > 0, all < M): for each lag the two sums of correlate in its
  * order (k ascending over each range, the l < k sum first), the ranges' common part in one
  * loop */
 static void correlate_block(const double *pe, const double *ph, ptrdiff_t ka, ptrdiff_t kb,
                             ptrdiff_t la, ptrdiff_t lb, ptrdiff_t m0, double *P) {
-  double acc[CORR_BLOCK];
-  ptrdiff_t k0[CORR_BLOCK], k1[CORR_BLOCK], j0[CORR_BLOCK], j1[CORR_BLOCK];
-  for (int j = 0; j < CORR_BLOCK; j++) {
+  enum { B = CORR_BLOCK };
+  double acc[B], r[B];
+  ptrdiff_t k0[B], k1[B], j0[B], j1[B];
+  for (int j = 0; j < B; j++) {
     ptrdiff_t m = m0 + j;
     acc[j] = 0.0;
     k0[j] = ka > la + m ? ka : la + m, k1[j] = kb < lb + m ? kb : lb + m; /* l = k − m */
     j0[j] = ka > la - m ? ka : la - m, j1[j] = kb < lb - m ? kb : lb - m; /* l = k + m */
   }
-  /* l = k − m: k0, k1 grow with m; common part [k0 of the last lag, k1 of the first] */
-  ptrdiff_t c0 = k0[CORR_BLOCK - 1], c1 = k1[0];
+  /* l = k − m: k0, k1 grow with m; common part [k0 of the last lag, k1 of the first]; there
+     l = k − m0 − j, so lag m0 + j is lane B−1−j of q = ph + k − m0 − (B−1) */
+  ptrdiff_t c0 = k0[B - 1], c1 = k1[0];
   if (c0 <= c1) {
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], c0 - 1, acc[j]);
-    double a0 = acc[0], a1 = acc[1], a2 = acc[2], a3 = acc[3];
-    for (ptrdiff_t k = c0; k <= c1; k++) {
-      double p = pe[k];
-      const double *q = ph + (k - m0); /* l = k − m0 − j ≥ la for every lag here */
-      a0 += p * q[0], a1 += p * q[-1], a2 += p * q[-2], a3 += p * q[-3];
-    }
-    acc[0] = a0, acc[1] = a1, acc[2] = a2, acc[3] = a3;
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), c1 + 1, k1[j], acc[j]);
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], c0 - 1, acc[j]);
+    for (int j = 0; j < B; j++) r[B - 1 - j] = acc[j];
+    block_run(pe, ph, -(m0 + B - 1), c0, c1, r);
+    for (int j = 0; j < B; j++) acc[j] = r[B - 1 - j];
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, -(m0 + j), c1 + 1, k1[j], acc[j]);
   } else
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], k1[j], acc[j]);
-  /* l = k + m: j0, j1 fall with m; common part [j0 of the first lag, j1 of the last] */
-  c0 = j0[0], c1 = j1[CORR_BLOCK - 1];
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], k1[j], acc[j]);
+  /* l = k + m: j0, j1 fall with m; common part [j0 of the first lag, j1 of the last]; there
+     lag m0 + j is lane j of q = ph + k + m0 */
+  c0 = j0[0], c1 = j1[B - 1];
   if (c0 <= c1) {
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], c0 - 1, acc[j]);
-    double a0 = acc[0], a1 = acc[1], a2 = acc[2], a3 = acc[3];
-    for (ptrdiff_t k = c0; k <= c1; k++) {
-      double p = pe[k];
-      const double *q = ph + (k + m0); /* l = k + m0 + j ≤ lb for every lag here */
-      a0 += p * q[0], a1 += p * q[1], a2 += p * q[2], a3 += p * q[3];
-    }
-    acc[0] = a0, acc[1] = a1, acc[2] = a2, acc[3] = a3;
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, c1 + 1, j1[j], acc[j]);
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], c0 - 1, acc[j]);
+    block_run(pe, ph, m0, c0, c1, acc);
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, m0 + j, c1 + 1, j1[j], acc[j]);
   } else
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], j1[j], acc[j]);
-  for (int j = 0; j < CORR_BLOCK; j++) P[m0 + j] = acc[j];
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], j1[j], acc[j]);
+  for (int j = 0; j < B; j++) P[m0 + j] = acc[j];
 }
 
 /* P_m = Σ_k pe_k ph_{k−m} + Σ_k pe_k ph_{k+m} (m > 0) over the overlap of the supports */
