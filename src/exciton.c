@@ -22,7 +22,9 @@
  *     and integrate term by term; the first omitted term is < 1e-10 relative at x = 40).
  *  3. E(λ) is scanned on a logarithmic mesh of λ from a_B/8 (where E > 0: E(λ) >= its 2D
  *     value, which is positive for λ < a_B/4) to 10⁴ a_B, then minimised by golden-section
- *     search on ln λ in the bracket around the lowest scan point. */
+ *     search on ln λ in the bracket around the lowest scan point.  A scan point whose lower
+ *     bound ħ²/(2μλ²) − 2e²/(4πε0εr λ) (Σ P = 1, I <= 1) lies above the lowest energy so far
+ *     cannot be the lowest and is not evaluated. */
 #include "exciton.h"
 
 #include <math.h>
@@ -51,6 +53,8 @@
 #define EW_EXC_DS 0.05        /* table step in ln x */
 #define EW_EXC_GL 10          /* Gauss–Legendre points per panel */
 #define EW_EXC_SCAN 12        /* scan points in ln λ */
+#define EW_EXC_SUM_MAX (1.0 + 1e-6) /* bound of the computed Σ P_m I(x_m): Σ P_m = 1 within
+                                       M ulp, I <= 1 within the table's 2e-8 */
 
 struct ew_exciton_ws {
   double gl_x[EW_EXC_GL], gl_w[EW_EXC_GL]; /* Gauss–Legendre nodes and weights on [−1, 1] */
@@ -536,7 +540,17 @@ static double minimise(const ew_exciton_ws *ws, double delta, double K, double C
   double hs = (l1 - l0) / (EW_EXC_SCAN - 1), Es[EW_EXC_SCAN];
   int kmin = 0;
   for (int k = 0; k < EW_EXC_SCAN; k++) {
-    Es[k] = energy(ws, delta, K, C, exp(l0 + k * hs));
+    double lam = exp(l0 + k * hs);
+    /* energy returns fl(A − fl(B·sum)) with these A, B and a sum of P_m I(x_m) <= Σ P_m = 1
+       (I <= 1, Σ P_m = 1 within rounding): every rounding being monotonic, it is at least
+       A − B·EW_EXC_SUM_MAX.  When that already exceeds the lowest energy so far, λ cannot
+       become the lowest scan point and is not evaluated (a point the scan never uses) */
+    double A = K / (lam * lam), B = C * (2.0 / lam), lower = A - B * EW_EXC_SUM_MAX;
+    if (k > 0 && lower > Es[kmin]) {
+      Es[k] = lower;
+      continue;
+    }
+    Es[k] = energy(ws, delta, K, C, lam);
     if (Es[k] < Es[kmin]) kmin = k;
   }
   /* Brent's minimisation on ln λ in [kmin − 1, kmin + 1] (R. P. Brent, Algorithms for
