@@ -22,7 +22,9 @@
  *     and integrate term by term; the first omitted term is < 1e-10 relative at x = 40).
  *  3. E(λ) is scanned on a logarithmic mesh of λ from a_B/8 (where E > 0: E(λ) >= its 2D
  *     value, which is positive for λ < a_B/4) to 10⁴ a_B, then minimised by golden-section
- *     search on ln λ in the bracket around the lowest scan point. */
+ *     search on ln λ in the bracket around the lowest scan point.  A scan point whose lower
+ *     bound ħ²/(2μλ²) − 2e²/(4πε0εr λ) (Σ P = 1, I <= 1) lies above the lowest energy so far
+ *     cannot be the lowest and is not evaluated. */
 #include "exciton.h"
 
 #include <math.h>
@@ -51,15 +53,21 @@
 #define EW_EXC_DS 0.05        /* table step in ln x */
 #define EW_EXC_GL 10          /* Gauss–Legendre points per panel */
 #define EW_EXC_SCAN 12        /* scan points in ln λ */
+#define EW_EXC_SUM_MAX (1.0 + 1e-6) /* bound of the computed Σ P_m I(x_m): Σ P_m = 1 within
+                                       M ulp, I <= 1 within the table's 2e-8 */
 
 struct ew_exciton_ws {
   double gl_x[EW_EXC_GL], gl_w[EW_EXC_GL]; /* Gauss–Legendre nodes and weights on [−1, 1] */
   size_t ntab;
   double s0, ds;      /* s_k = s0 + k ds, s = ln x */
-  const double (*tab)[2]; /* the stored table {I, dI/ds}[ntab], or NULL: own_I, own_dIds */
-  double *own_I, *own_dIds;
+  const double (*tab)[2]; /* {I, dI/ds}[ntab]: the stored table or own */
+  double (*own)[2];   /* computed when the mesh constants no longer match the stored one */
   double *lnm;        /* [EW_EXC_MESH_MAX] ln m (lnm[0] unused) */
   double *pe, *ph, *P; /* [EW_EXC_MESH_MAX] mesh weights and the correlation */
+  /* the lags m >= 1 with P_m != 0, ascending (what energy sums; built once per line):
+     P_m, ln m and m as a double, [EW_EXC_MESH_MAX] each, nlag of them */
+  double *lagP, *lagln, *lagm;
+  size_t nlag;
 };
 
 /* Gauss–Legendre nodes by Newton's method on the Legendre recurrence (textbook, e.g.
@@ -185,15 +193,16 @@ ew_exciton_ws *ew_exciton_ws_new(void) {
   /* the stored table (exciton_table.inc, tested against the quadrature in test_exciton.c);
      computed here only when the mesh constants no longer match it */
   int stored = ws->ntab == EW_EXC_NTAB;
-  if (!stored) {
-    ws->own_I = malloc(ws->ntab * sizeof *ws->own_I);
-    ws->own_dIds = malloc(ws->ntab * sizeof *ws->own_dIds);
-  }
+  if (!stored) ws->own = malloc(ws->ntab * sizeof *ws->own);
   ws->lnm = malloc(EW_EXC_MESH_MAX * sizeof *ws->lnm);
   ws->pe = malloc(EW_EXC_MESH_MAX * sizeof *ws->pe);
   ws->ph = malloc(EW_EXC_MESH_MAX * sizeof *ws->ph);
   ws->P = malloc(EW_EXC_MESH_MAX * sizeof *ws->P);
-  if ((!stored && (!ws->own_I || !ws->own_dIds)) || !ws->lnm || !ws->pe || !ws->ph || !ws->P) {
+  ws->lagP = malloc(EW_EXC_MESH_MAX * sizeof *ws->lagP);
+  ws->lagln = malloc(EW_EXC_MESH_MAX * sizeof *ws->lagln);
+  ws->lagm = malloc(EW_EXC_MESH_MAX * sizeof *ws->lagm);
+  if ((!stored && !ws->own) || !ws->lnm || !ws->pe || !ws->ph || !ws->P || !ws->lagP ||
+      !ws->lagln || !ws->lagm) {
     ew_exciton_ws_free(ws);
     return NULL;
   }
@@ -201,7 +210,8 @@ ew_exciton_ws *ew_exciton_ws_new(void) {
     ws->tab = exciton_table;
   } else {
     for (size_t k = 0; k < ws->ntab; k++)
-      table_entry(ws->gl_x, ws->gl_w, ws->s0, ws->ds, k, &ws->own_I[k], &ws->own_dIds[k]);
+      table_entry(ws->gl_x, ws->gl_w, ws->s0, ws->ds, k, &ws->own[k][0], &ws->own[k][1]);
+    ws->tab = (const double(*)[2])ws->own;
   }
   ws->lnm[0] = 0.0;
   for (size_t m = 1; m < EW_EXC_MESH_MAX; m++) ws->lnm[m] = log((double)m);
@@ -210,9 +220,11 @@ ew_exciton_ws *ew_exciton_ws_new(void) {
 
 void ew_exciton_ws_free(ew_exciton_ws *ws) {
   if (!ws) return;
-  free(ws->own_I);
-  free(ws->own_dIds);
+  free(ws->own);
   free(ws->lnm);
+  free(ws->lagP);
+  free(ws->lagln);
+  free(ws->lagm);
   free(ws->pe);
   free(ws->ph);
   free(ws->P);
@@ -229,12 +241,7 @@ static inline double table_I(const ew_exciton_ws *ws, double s, double x) {
   /* cubic Hermite basis on [s_k, s_k+1] */
   double h00 = 2 * t3 - 3 * t2 + 1, h10 = t3 - 2 * t2 + t, h01 = -2 * t3 + 3 * t2,
          h11 = t3 - t2;
-  double I0, d0, I1, d1;
-  if (ws->tab) {
-    I0 = ws->tab[k][0], d0 = ws->tab[k][1], I1 = ws->tab[k + 1][0], d1 = ws->tab[k + 1][1];
-  } else {
-    I0 = ws->own_I[k], d0 = ws->own_dIds[k], I1 = ws->own_I[k + 1], d1 = ws->own_dIds[k + 1];
-  }
+  double I0 = ws->tab[k][0], d0 = ws->tab[k][1], I1 = ws->tab[k + 1][0], d1 = ws->tab[k + 1][1];
   return h00 * I0 + h10 * ws->ds * d0 + h01 * I1 + h11 * ws->ds * d1;
 }
 
@@ -271,13 +278,34 @@ static void support(const ew_grid *g, const double *psi, double nrm, size_t *a, 
 }
 
 /* E(λ) in eV for the correlation P on a mesh of step delta (header of this file, item 3).
- * K = ħ²/(2μ) (eV nm²), C = e²/(4πε0εr) (eV nm). */
-static double energy(const ew_exciton_ws *ws, size_t M, double delta, double K, double C,
-                     double lam) {
+ * K = ħ²/(2μ) (eV nm²), C = e²/(4πε0εr) (eV nm).  The terms and their order are those of
+ * Σ_m P_m table_I(ln m + ln a, m a) over the lags with P_m != 0; u = (ln m + ln a − s0)/ds
+ * grows with m (every rounding is monotonic), so the lags come in three runs: below the
+ * table (I = 1 − x), in it, and above it (asymptotic series), each without the others' tests. */
+static double energy(const ew_exciton_ws *ws, double delta, double K, double C, double lam) {
   double a = 2.0 * delta / lam, la = log(a);
   double sum = ws->P[0]; /* I(0) = 1 */
-  for (size_t m = 1; m < M; m++)
-    if (ws->P[m] != 0.0) sum += ws->P[m] * table_I(ws, ws->lnm[m] + la, (double)m * a);
+  const double *lp = ws->lagP, *ll = ws->lagln, *lm = ws->lagm;
+  const double(*tab)[2] = ws->tab;
+  const double s0 = ws->s0, ds = ws->ds, umax = (double)(ws->ntab - 1);
+  size_t n = ws->nlag, i = 0;
+  for (; i < n; i++) {
+    double s = ll[i] + la, u = (s - s0) / ds;
+    if (!(u < 0.0)) break;
+    sum += lp[i] * (1.0 - lm[i] * a);
+  }
+  for (; i < n; i++) {
+    double s = ll[i] + la, u = (s - s0) / ds;
+    if (u >= umax) break;
+    /* table_I's cubic Hermite interpolation, operation for operation (k >= 0 here) */
+    ptrdiff_t k = (ptrdiff_t)u;
+    double t = u - (double)k, t2 = t * t, t3 = t2 * t;
+    double h00 = 2 * t3 - 3 * t2 + 1, h10 = t3 - 2 * t2 + t, h01 = -2 * t3 + 3 * t2,
+           h11 = t3 - t2;
+    double I0 = tab[k][0], d0 = tab[k][1], I1 = tab[k + 1][0], d1 = tab[k + 1][1];
+    sum += lp[i] * (h00 * I0 + h10 * ds * d0 + h01 * I1 + h11 * ds * d1);
+  }
+  for (; i < n; i++) sum += lp[i] * asymptotic_I(lm[i] * a);
   return K / (lam * lam) - C * (2.0 / lam) * sum;
 }
 
@@ -348,50 +376,91 @@ static inline double dot_from(const double *pe, const double *ph, ptrdiff_t off,
   return acc;
 }
 
-#define CORR_BLOCK 4 /* lags computed together: each pe_k loaded once for all four */
+#define CORR_BLOCK 8 /* lags computed together: each pe_k loaded once for all of them
+                        (block_run is written out for eight) */
+
+/* r[i] += p q[i] for the CORR_BLOCK accumulators r, k = c0 … c1 ascending with p = pe[k] and
+ * q = ph + k + off.  Every lane keeps its own sum in its own order, so two lanes per vector
+ * register (GCC/Clang vector extension; the same IEEE products and sums as the scalar
+ * loop) change no bit.  Written out rather than looped so that the sums stay in registers;
+ * the explicit vector loads because scalar code lets the compiler carry q[i + 1] over to
+ * the next k as q[i], which costs more shuffles than the loads it saves. */
+#if defined(__GNUC__) && !defined(EW_EXC_SCALAR)
+typedef double ew_v2d __attribute__((vector_size(2 * sizeof(double))));
+static inline ew_v2d load2(const double *q) {
+  ew_v2d v;
+  memcpy(&v, q, sizeof v);
+  return v;
+}
+static inline void block_run(const double *pe, const double *ph, ptrdiff_t off, ptrdiff_t c0,
+                             ptrdiff_t c1, double r[CORR_BLOCK]) {
+  ew_v2d s0 = load2(r), s1 = load2(r + 2), s2 = load2(r + 4), s3 = load2(r + 6);
+  ptrdiff_t k = c0;
+  for (; k + 1 <= c1; k += 2) { /* two k per pass: fewer loop and register-copy overheads */
+    ew_v2d p = {pe[k], pe[k]}, p1 = {pe[k + 1], pe[k + 1]};
+    const double *q = ph + (k + off);
+    s0 += p * load2(q), s1 += p * load2(q + 2), s2 += p * load2(q + 4), s3 += p * load2(q + 6);
+    s0 += p1 * load2(q + 1), s1 += p1 * load2(q + 3), s2 += p1 * load2(q + 5),
+        s3 += p1 * load2(q + 7);
+  }
+  for (; k <= c1; k++) {
+    ew_v2d p = {pe[k], pe[k]};
+    const double *q = ph + (k + off);
+    s0 += p * load2(q), s1 += p * load2(q + 2), s2 += p * load2(q + 4), s3 += p * load2(q + 6);
+  }
+  memcpy(r, &s0, sizeof s0), memcpy(r + 2, &s1, sizeof s1), memcpy(r + 4, &s2, sizeof s2),
+      memcpy(r + 6, &s3, sizeof s3);
+}
+#else
+static inline void block_run(const double *pe, const double *ph, ptrdiff_t off, ptrdiff_t c0,
+                             ptrdiff_t c1, double r[CORR_BLOCK]) {
+  double s0 = r[0], s1 = r[1], s2 = r[2], s3 = r[3], s4 = r[4], s5 = r[5], s6 = r[6],
+         s7 = r[7];
+  for (ptrdiff_t k = c0; k <= c1; k++) {
+    double p = pe[k];
+    const double *q = ph + (k + off);
+    s0 += p * q[0], s1 += p * q[1], s2 += p * q[2], s3 += p * q[3];
+    s4 += p * q[4], s5 += p * q[5], s6 += p * q[6], s7 += p * q[7];
+  }
+  r[0] = s0, r[1] = s1, r[2] = s2, r[3] = s3, r[4] = s4, r[5] = s5, r[6] = s6, r[7] = s7;
+}
+#endif
 
 /* P[m0 .. m0+CORR_BLOCK−1] (m0 > 0, all < M): for each lag the two sums of correlate in its
  * order (k ascending over each range, the l < k sum first), the ranges' common part in one
  * loop */
 static void correlate_block(const double *pe, const double *ph, ptrdiff_t ka, ptrdiff_t kb,
                             ptrdiff_t la, ptrdiff_t lb, ptrdiff_t m0, double *P) {
-  double acc[CORR_BLOCK];
-  ptrdiff_t k0[CORR_BLOCK], k1[CORR_BLOCK], j0[CORR_BLOCK], j1[CORR_BLOCK];
-  for (int j = 0; j < CORR_BLOCK; j++) {
+  enum { B = CORR_BLOCK };
+  double acc[B], r[B];
+  ptrdiff_t k0[B], k1[B], j0[B], j1[B];
+  for (int j = 0; j < B; j++) {
     ptrdiff_t m = m0 + j;
     acc[j] = 0.0;
     k0[j] = ka > la + m ? ka : la + m, k1[j] = kb < lb + m ? kb : lb + m; /* l = k − m */
     j0[j] = ka > la - m ? ka : la - m, j1[j] = kb < lb - m ? kb : lb - m; /* l = k + m */
   }
-  /* l = k − m: k0, k1 grow with m; common part [k0 of the last lag, k1 of the first] */
-  ptrdiff_t c0 = k0[CORR_BLOCK - 1], c1 = k1[0];
+  /* l = k − m: k0, k1 grow with m; common part [k0 of the last lag, k1 of the first]; there
+     l = k − m0 − j, so lag m0 + j is lane B−1−j of q = ph + k − m0 − (B−1) */
+  ptrdiff_t c0 = k0[B - 1], c1 = k1[0];
   if (c0 <= c1) {
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], c0 - 1, acc[j]);
-    double a0 = acc[0], a1 = acc[1], a2 = acc[2], a3 = acc[3];
-    for (ptrdiff_t k = c0; k <= c1; k++) {
-      double p = pe[k];
-      const double *q = ph + (k - m0); /* l = k − m0 − j ≥ la for every lag here */
-      a0 += p * q[0], a1 += p * q[-1], a2 += p * q[-2], a3 += p * q[-3];
-    }
-    acc[0] = a0, acc[1] = a1, acc[2] = a2, acc[3] = a3;
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), c1 + 1, k1[j], acc[j]);
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], c0 - 1, acc[j]);
+    for (int j = 0; j < B; j++) r[B - 1 - j] = acc[j];
+    block_run(pe, ph, -(m0 + B - 1), c0, c1, r);
+    for (int j = 0; j < B; j++) acc[j] = r[B - 1 - j];
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, -(m0 + j), c1 + 1, k1[j], acc[j]);
   } else
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], k1[j], acc[j]);
-  /* l = k + m: j0, j1 fall with m; common part [j0 of the first lag, j1 of the last] */
-  c0 = j0[0], c1 = j1[CORR_BLOCK - 1];
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, -(m0 + j), k0[j], k1[j], acc[j]);
+  /* l = k + m: j0, j1 fall with m; common part [j0 of the first lag, j1 of the last]; there
+     lag m0 + j is lane j of q = ph + k + m0 */
+  c0 = j0[0], c1 = j1[B - 1];
   if (c0 <= c1) {
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], c0 - 1, acc[j]);
-    double a0 = acc[0], a1 = acc[1], a2 = acc[2], a3 = acc[3];
-    for (ptrdiff_t k = c0; k <= c1; k++) {
-      double p = pe[k];
-      const double *q = ph + (k + m0); /* l = k + m0 + j ≤ lb for every lag here */
-      a0 += p * q[0], a1 += p * q[1], a2 += p * q[2], a3 += p * q[3];
-    }
-    acc[0] = a0, acc[1] = a1, acc[2] = a2, acc[3] = a3;
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, c1 + 1, j1[j], acc[j]);
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], c0 - 1, acc[j]);
+    block_run(pe, ph, m0, c0, c1, acc);
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, m0 + j, c1 + 1, j1[j], acc[j]);
   } else
-    for (int j = 0; j < CORR_BLOCK; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], j1[j], acc[j]);
-  for (int j = 0; j < CORR_BLOCK; j++) P[m0 + j] = acc[j];
+    for (int j = 0; j < B; j++) acc[j] = dot_from(pe, ph, m0 + j, j0[j], j1[j], acc[j]);
+  for (int j = 0; j < B; j++) P[m0 + j] = acc[j];
 }
 
 /* P_m = Σ_k pe_k ph_{k−m} + Σ_k pe_k ph_{k+m} (m > 0) over the overlap of the supports */
@@ -422,6 +491,10 @@ static int correlate(ew_exciton_ws *ws, size_t M) {
   for (size_t m = 0; m < M; m++) tot += P[m];
   if (!(tot > 0)) return 0;
   for (size_t m = 0; m < M; m++) P[m] /= tot;
+  size_t n = 0;
+  for (size_t m = 1; m < M; m++)
+    if (P[m] != 0.0) ws->lagP[n] = P[m], ws->lagln[n] = ws->lnm[m], ws->lagm[n++] = (double)m;
+  ws->nlag = n;
   return 1;
 }
 
@@ -460,14 +533,24 @@ static ew_status distance_distribution(ew_exciton_ws *ws, const ew_grid *g, cons
 
 /* min over λ of E(λ) (header of this file, item 3): scan on ln λ from lam2d/4 to lam2d·2e4,
  * then golden-section search around the lowest scan point; *lbest = ln λ at the minimum. */
-static double minimise(const ew_exciton_ws *ws, size_t M, double delta, double K, double C,
+static double minimise(const ew_exciton_ws *ws, double delta, double K, double C,
                        double *lbest) {
   double lam2d = K / C; /* = a_B/2, the strict-2D optimum */
   double l0 = log(lam2d / 4.0), l1 = log(lam2d * 2e4);
   double hs = (l1 - l0) / (EW_EXC_SCAN - 1), Es[EW_EXC_SCAN];
   int kmin = 0;
   for (int k = 0; k < EW_EXC_SCAN; k++) {
-    Es[k] = energy(ws, M, delta, K, C, exp(l0 + k * hs));
+    double lam = exp(l0 + k * hs);
+    /* energy returns fl(A − fl(B·sum)) with these A, B and a sum of P_m I(x_m) <= Σ P_m = 1
+       (I <= 1, Σ P_m = 1 within rounding): every rounding being monotonic, it is at least
+       A − B·EW_EXC_SUM_MAX.  When that already exceeds the lowest energy so far, λ cannot
+       become the lowest scan point and is not evaluated (a point the scan never uses) */
+    double A = K / (lam * lam), B = C * (2.0 / lam), lower = A - B * EW_EXC_SUM_MAX;
+    if (k > 0 && lower > Es[kmin]) {
+      Es[k] = lower;
+      continue;
+    }
+    Es[k] = energy(ws, delta, K, C, lam);
     if (Es[k] < Es[kmin]) kmin = k;
   }
   /* Brent's minimisation on ln λ in [kmin − 1, kmin + 1] (R. P. Brent, Algorithms for
@@ -501,7 +584,7 @@ static double minimise(const ew_exciton_ws *ws, size_t M, double delta, double K
       d = cgold * e;
     }
     double u = fabs(d) >= tol1 ? x + d : x + (d >= 0 ? tol1 : -tol1);
-    double fu = energy(ws, M, delta, K, C, exp(u));
+    double fu = energy(ws, delta, K, C, exp(u));
     if (fu <= fx) {
       if (u >= x) a = x;
       else b = x;
@@ -539,7 +622,7 @@ ew_status ew_exciton_binding_ws(ew_exciton_ws *ws, const ew_grid *g, const doubl
    * e²/(4πε0) in J m divided by e gives eV m, ×1e9 for eV nm (1.43996 eV nm). */
   double K = EW_HB2M0_EVNM2 / mu_par;
   double C = EW_E_C / (4.0 * EW_PI * EW_EPS0_FM) * 1e9 / eps_r;
-  double lbest, Ebest = minimise(ws, M, delta, K, C, &lbest);
+  double lbest, Ebest = minimise(ws, delta, K, C, &lbest);
   if (!(Ebest < 0) || !isfinite(Ebest))
     return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
                    "exciton: variational energy did not go below zero (%g eV)", Ebest);
