@@ -22,30 +22,12 @@ int ew_nonparabolic_applies(const ew_stack *st) {
   return 0;
 }
 
-/* The Kane mass at kinetic energy eps and, when dm != NULL, ∂m/∂ε =
+/* The Kane mass at kinetic energy eps = E − ec and, when dm != NULL, ∂m/∂ε =
  * m² (E_P/3) [2/(E_g + ε)² + 1/(E_g + Δ + ε)²].  Deep in a barrier ε → −E_g would send the
  * denominators to zero: the two-band picture is meaningless there anyway, so the kinetic
  * energy is held above −E_g/2 (derivative 0 there), and a mass that would turn negative
- * falls back to the band edge's. */
-static double kane_m(double me, double Ep, double Eg, double D, double eps, double *dm) {
-  double e = eps > -0.5 * Eg ? eps : -0.5 * Eg; /* finite inputs: no fmax call in this hot path */
-  double inv = 1.0 / me + Ep / 3.0 * (2.0 / (Eg + e) + 1.0 / (Eg + D + e) - 2.0 / Eg - 1.0 / (Eg + D));
-  double m = inv > 0 ? 1.0 / inv : me;
-  if (dm)
-    *dm = inv > 0 && eps > -0.5 * Eg
-              ? m * m * Ep / 3.0 * (2.0 / ((Eg + e) * (Eg + e)) + 1.0 / ((Eg + D + e) * (Eg + D + e)))
-              : 0.0;
-  return m;
-}
-
-double ew_kane_mass(const ew_bands *b, double eps) {
-  if (!layer_np(b)) return b->me;
-  return kane_m(b->me, b->Ep_eV, b->Eg_G_eV, b->Dso_eV > 0 ? b->Dso_eV : 0.0, eps, NULL);
-}
-
-/* The parts of kane_m that do not depend on the energy, computed once per piece: kane_m's
- * expression evaluated from them performs the same operations on the same values (the same
- * bits) with three divisions instead of seven. */
+ * falls back to the band edge's.  The parts that do not depend on the energy are computed
+ * once per piece (kane_consts): three divisions per evaluation instead of seven. */
 typedef struct {
   double me, ec, Eg, EgD, inv_me, Ep, Ep3, two_Eg, one_EgD, floor; /* floor: −E_g/2 */
 } kane_consts;
@@ -55,7 +37,7 @@ static kane_consts kane_consts_of(double me, double Ep, double Eg, double D, dou
                        -0.5 * Eg};
 }
 
-/* kane_m(me, Ep, Eg, D, E − ec, dm) from the piece's constants */
+/* the Kane mass at E from the piece's constants (see above) */
 static inline double kane_m_at(const kane_consts *q, double E, double *dm) {
   double eps = E - q->ec, e = eps > q->floor ? eps : q->floor;
   double a = q->Eg + e, b = q->EgD + e;
@@ -63,6 +45,12 @@ static inline double kane_m_at(const kane_consts *q, double E, double *dm) {
   double m = inv > 0 ? 1.0 / inv : q->me;
   if (dm) *dm = inv > 0 && eps > q->floor ? m * m * q->Ep / 3.0 * (2.0 / (a * a) + 1.0 / (b * b)) : 0.0;
   return m;
+}
+
+double ew_kane_mass(const ew_bands *b, double eps) {
+  if (!layer_np(b)) return b->me;
+  kane_consts q = kane_consts_of(b->me, b->Ep_eV, b->Eg_G_eV, b->Dso_eV > 0 ? b->Dso_eV : 0.0, 0.0);
+  return kane_m_at(&q, eps, NULL);
 }
 
 /* The cell ∩ layer pieces of a grid with what the masses need at each piece's midpoint (cells
