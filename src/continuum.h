@@ -53,6 +53,10 @@ void ew_continuum_free(ew_continuum *c); /* NULL is a no-op */
 double ew_continuum_threshold_eV(const ew_continuum *c);
 /* df/dE (per eV) at photon energy photon_eV (0 below the threshold). */
 double ew_continuum_dfdE(ew_continuum *c, double photon_eV);
+/* The same at count photon energies into out[count] (bit for bit ew_continuum_dfdE of each;
+ * several shots share each pass over the stack). */
+void ew_continuum_dfdE_many(ew_continuum *c, size_t count, const double *photon_eV,
+                            double *out);
 /* ∫ df/dE over the whole continuum of the grid (up to the leads' band tops), by composite
  * Gauss–Legendre quadrature in s = √(E − E_edge) on geometrically graded panels, split at
  * each lead's band bottom.  Quadrature: 24, 32 and 64 panels agree within 3e-4 of the

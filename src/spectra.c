@@ -128,10 +128,11 @@ static ew_status continuum_nodes(ew_continuum *c, double g, double xmax, double 
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (continuum spectrum)");
   }
   for (size_t j = 0; j < m; j++) {
-    double s = ((double)j + 0.5) * ds, x = thr + s * s;
-    (*nodes)[j] = x;
-    (*weights)[j] = ew_continuum_dfdE(c, x) * 2.0 * s * ds;
+    double s = ((double)j + 0.5) * ds;
+    (*nodes)[j] = thr + s * s;
   }
+  ew_continuum_dfdE_many(c, m, *nodes, *weights);
+  for (size_t j = 0; j < m; j++) (*weights)[j] *= 2.0 * (((double)j + 0.5) * ds) * ds;
   *count = m;
   return EW_OK;
 }

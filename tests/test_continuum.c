@@ -252,6 +252,54 @@ static void trk_catalogue_parabolic_and_kane(void **state) {
   ew_stack_free(st);
 }
 
+/* Every photon energy's df/dE alone and `count` of them in one call (several shots share
+ * each pass over the stack): the same bits.  The energies mix the closed range below the
+ * threshold, one lead open (the left barrier of the asymmetric well is the higher, so a shot
+ * with one solution rides beside shots with two) and, for the Kane well, energies beyond the
+ * cap of its masses beside energies below it. */
+static void check_many_equals_single(ew_continuum *c, double thr) {
+  double x[11], many[11];
+  const double at[11] = {0.5, 1.0001, 1.02, 1.3, 0.9, 1.7, 3.0, 9.0, 1.05, 40.0, 2.2};
+  for (int j = 0; j < 11; j++) x[j] = thr * at[j];
+  ew_continuum_dfdE_many(c, 11, x, many);
+  int nonzero = 0;
+  for (int j = 0; j < 11; j++) {
+    double one = ew_continuum_dfdE(c, x[j]);
+    assert_memory_equal(&one, &many[j], sizeof one);
+    nonzero += many[j] != 0.0;
+  }
+  assert_true(nonzero >= 8); /* only the two below the threshold are 0 */
+}
+
+static void dfdE_many_equals_single(void **state) {
+  (void)state;
+  ew_continuum *c;
+  ew_result *r = NULL;
+  ew_stack *st;
+  for (int side = 0; side < 2; side++) { /* the higher barrier on the left, then the right */
+    tu_layer ly[] = {{40.0, side ? 0.30 : 0.40, -1.8, 0.09, 0.40, 0.10},
+                     {5.0, 0.00, -1.5, 0.067, 0.35, 0.09},
+                     {40.0, side ? 0.40 : 0.30, -1.8, 0.09, 0.40, 0.10}};
+    st = tu_stack(3, ly);
+    ew_options opt;
+    ew_options_default(&opt);
+    opt.excitons = 0;
+    assert_int_equal(ew_solve(st, &opt, &r, NULL), EW_OK);
+    assert_int_equal(ew_continuum_new(r, e1_of(r), &c, NULL), EW_OK);
+    check_many_equals_single(c, ew_continuum_threshold_eV(c));
+    ew_continuum_free(c);
+    ew_result_free(r);
+    tu_stack_free(st);
+  }
+  r = solve_path("examples/detector_well.cfg", &st, 1);
+  assert_non_null(r);
+  assert_int_equal(ew_continuum_new(r, e1_of(r), &c, NULL), EW_OK);
+  check_many_equals_single(c, ew_continuum_threshold_eV(c));
+  ew_continuum_free(c);
+  ew_result_free(r);
+  ew_stack_free(st);
+}
+
 /* The bound-to-continuum detector example against the measured peak of its type: B. F.
  * Levine, J. Appl. Phys. 74, R1 (1993) (from memory): GaAs wells of about 40 Å between
  * Al(0.25–0.3)GaAs barriers absorb bound-to-continuum with peaks near 9 µm (8–10 µm over the
@@ -515,6 +563,7 @@ int main(void) {
       cmocka_unit_test(box_independent),
       cmocka_unit_test(spectrum_area),
       cmocka_unit_test(trk_catalogue_parabolic_and_kane),
+      cmocka_unit_test(dfdE_many_equals_single),
       cmocka_unit_test(levine_bound_to_continuum_peak),
       cmocka_unit_test(spectra_csv_roundtrip),
       cmocka_unit_test(json_sum_rule_roundtrip),
