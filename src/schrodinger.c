@@ -4,10 +4,12 @@
 
 #include <math.h>
 #include <stdlib.h>
+#include <stdatomic.h>
 #include <string.h>
 
 #include "bound.h"
 #include "error.h"
+#include "helper_thread.h"
 #include "level_caveats.h"
 #include "lines.h"
 #include "nonparabolic.h"
@@ -31,9 +33,9 @@ static void band_pairs_free(band_pairs *bp) {
 /* The eigenvalues of the coarse grid near the fine vectors sampled on its nodes (coarse node i
  * is fine node 2i + 1: every layer has an even number of fine cells), read off the fine
  * vectors without a copy of them. */
-static ew_status coarse_values(ew_result *r, const ew_grid *coarse, ew_band band, double lo,
-                               const ew_eigenpairs *fine, double **coarse_vals,
-                               size_t *n_coarse, ew_error *err) {
+static ew_status coarse_values(const ew_result *r, const ew_grid *coarse, ew_band band,
+                               double lo, const ew_eigenpairs *fine, double **coarse_vals,
+                               size_t *n_coarse, size_t *counts, ew_error *err) {
   ew_pencil *pc = ew_pencil_build(coarse, band);
   size_t k = fine->count;
   double *vals = malloc(k * sizeof *vals);
@@ -43,7 +45,7 @@ static ew_status coarse_values(ew_result *r, const ew_grid *coarse, ew_band band
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (coarse grid)");
   }
   ew_status rc = ew_eigen_values_near_fine(pc, lo, fine->vectors, r->grid->n, k, 1e-11, vals,
-                                           &r->work_counts, err);
+                                           counts, err);
   ew_pencil_free(pc);
   if (rc != EW_OK) {
     free(vals);
@@ -66,10 +68,18 @@ static ew_shift_lu *pass_lu_get(pass_lu *ws, size_t n) {
   return ws->own;
 }
 
-/* Solve one band on the fine grid (vectors) and, if asked, the coarse grid (values). */
-static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band, pass_lu *ws,
+/* What one band's solve gives besides its eigenpairs: its work counters and whether the Kane
+ * mass applied, kept apart so that the bands can be solved on separate threads. */
+typedef struct {
+  size_t factorizations, solves, counts;
+  int nonparabolic;
+} band_work;
+
+/* Solve one band on the fine grid (vectors) and, if asked, the coarse grid (values).  Reads r
+ * (stack, grid), writes only its own outputs: bands may run concurrently. */
+static ew_status solve_band(const ew_result *r, const ew_grid *coarse, ew_band band, pass_lu *ws,
                             ew_eigenpairs *fine, double **coarse_vals, size_t *n_coarse,
-                            ew_error *err) {
+                            band_work *bw, ew_error *err) {
   const ew_grid *g = r->grid;
   *coarse_vals = NULL;
   *n_coarse = 0;
@@ -85,9 +95,9 @@ static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band, p
   if (band == EW_BAND_E && ew_nonparabolic_applies(r->stack)) {
     ew_pencil_free(p);
     ew_status rc = ew_nonparabolic_levels_lu(r->stack, g, coarse, lo, top, pass_lu_get(ws, g->n),
-                                             fine, coarse_vals, &r->work_counts, err);
+                                             fine, coarse_vals, &bw->counts, err);
     *n_coarse = rc == EW_OK && coarse ? fine->count : 0;
-    r->nonparabolic = rc == EW_OK;
+    bw->nonparabolic = rc == EW_OK;
     return rc;
   }
   ew_shift_lu *lu = pass_lu_get(ws, g->n);
@@ -99,11 +109,79 @@ static ew_status solve_band(ew_result *r, const ew_grid *coarse, ew_band band, p
   }
   ew_status rc = ew_eigen_window_lu(p, lo, top, 1, lu, fine, err);
   ew_pencil_free(p);
-  r->work_factorizations += fine->factorizations;
-  r->work_solves += fine->solves;
-  r->work_counts += fine->counts;
+  bw->factorizations += fine->factorizations;
+  bw->solves += fine->solves;
+  bw->counts += fine->counts;
   if (rc != EW_OK || !coarse || fine->count == 0) return rc;
-  return coarse_values(r, coarse, band, lo, fine, coarse_vals, n_coarse, err);
+  return coarse_values(r, coarse, band, lo, fine, coarse_vals, n_coarse, &bw->counts, err);
+}
+
+/* The bands of a pass as a queue that every thread draws from. */
+typedef struct {
+  ew_result *r;
+  const ew_grid *coarse;
+  band_pairs *bp;
+  atomic_int next;
+  band_work bw[EW_BAND_COUNT];
+  ew_status rc[EW_BAND_COUNT];
+  ew_error err[EW_BAND_COUNT];
+} band_queue;
+
+/* Solve bands off the queue until it is empty, with the thread's own workspace ws. */
+static void drain(band_queue *q, pass_lu *ws) {
+  for (int b; (b = atomic_fetch_add(&q->next, 1)) < EW_BAND_COUNT;)
+    q->rc[b] = solve_band(q->r, q->coarse, (ew_band)b, ws, &q->bp->fine[b], &q->bp->coarse[b],
+                          &q->bp->n_coarse[b], &q->bw[b], &q->err[b]);
+}
+
+typedef struct {
+  band_queue *q;
+  pass_lu ws;
+} band_helper;
+
+static void *helper_main(void *arg) {
+  band_helper *h = arg;
+  drain(h->q, &h->ws);
+  ew_shift_lu_free(h->ws.own);
+  return NULL;
+}
+
+/* Every band of the pass: eigenpairs into bp, window tops into r, work counters summed into
+ * r in band order; the first failing band's error (in band order) is reported. */
+static ew_status solve_bands(ew_result *r, const ew_grid *coarse, ew_shift_lu *lu,
+                             band_pairs *bp, ew_error *err) {
+  band_queue q;
+  memset(&q, 0, sizeof q);
+  q.r = r, q.coarse = coarse, q.bp = bp;
+  atomic_init(&q.next, 0);
+  /* the bands are independent eigenproblems: helpers draw from the same queue (a helper that
+     cannot start leaves its bands to this thread); each band's result is the same bits on
+     any thread, as every factorization pivots as a fresh one would (superlu_adapter.c) */
+  band_helper h[EW_BAND_COUNT];
+  ew_helper th[EW_BAND_COUNT];
+  int nh = ew_helper_count(EW_BAND_COUNT);
+  for (int k = 0; k < nh; k++) {
+    h[k] = (band_helper){&q, {NULL, NULL}};
+    ew_helper_start(&th[k], helper_main, &h[k]);
+  }
+  pass_lu ws = {lu, NULL};
+  drain(&q, &ws);
+  for (int k = 0; k < nh; k++) ew_helper_join(&th[k]);
+  ew_shift_lu_free(ws.own);
+  ew_status out = EW_OK;
+  for (int b = 0; b < EW_BAND_COUNT; b++) {
+    if (out == EW_OK && q.rc[b] != EW_OK) {
+      out = q.rc[b];
+      if (err) *err = q.err[b];
+    }
+    double top = ew_bound_window_top(r->stack, r->grid, (ew_band)b);
+    r->window_eV[b] = b == EW_BAND_E ? top : -top;
+    r->work_factorizations += q.bw[b].factorizations;
+    r->work_solves += q.bw[b].solves;
+    r->work_counts += q.bw[b].counts;
+    if (q.bw[b].nonparabolic) r->nonparabolic = 1;
+  }
+  return out;
 }
 
 static double step_of(const ew_stack *st, const ew_options *opt) {
@@ -217,19 +295,12 @@ ew_status ew_schrodinger_pass_on(const ew_stack *st, const ew_options *optin, co
   ew_grid *coarse = NULL;
   band_pairs bp;
   memset(&bp, 0, sizeof bp);
-  pass_lu ws = {lu, NULL};
   rc = build_grids(r, base, U, &coarse, err);
-  for (int b = 0; b < EW_BAND_COUNT && rc == EW_OK; b++) {
-    rc = solve_band(r, coarse, (ew_band)b, &ws, &bp.fine[b], &bp.coarse[b], &bp.n_coarse[b],
-                    err);
-    double top = ew_bound_window_top(st, r->grid, (ew_band)b);
-    r->window_eV[b] = b == EW_BAND_E ? top : -top;
-  }
+  if (rc == EW_OK) rc = solve_bands(r, coarse, lu, &bp, err);
   if (rc == EW_OK) rc = ew_states_build(r, bp.fine, bp.coarse, bp.n_coarse, err);
   if (rc == EW_OK) rc = ew_lines_build(r, err);
   if (rc == EW_OK && !pass_warnings(r)) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   band_pairs_free(&bp);
-  ew_shift_lu_free(ws.own);
   ew_grid_free(coarse);
   if (rc == EW_ERR_NOMEM) /* what it takes, measured (grid.h), so the user can size the step */
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "%s: a grid of %.0f nodes needs about %.2g GB "

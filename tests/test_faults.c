@@ -18,6 +18,10 @@
 #include <stdatomic.h>
 #include <sys/wait.h>
 
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
 #include "testutil.h"
 
 #include "continuum.h"
@@ -877,5 +881,9 @@ int main(void) {
   trace_each = getenv("EW_FAULTS_TRACE") != NULL;
 #endif
   if (only && *only) cmocka_set_test_filter(only);
+#ifdef _OPENMP
+  /* no helper threads (helper_thread.h): the k-th allocation is the same one every run */
+  omp_set_num_threads(1);
+#endif
   return cmocka_run_group_tests(tests, setup, teardown);
 }

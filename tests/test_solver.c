@@ -2,11 +2,14 @@
 #include <float.h>
 #include <lapacke.h>
 #include <math.h>
+#include <omp.h>
 
 #include "testutil.h"
 
 #include "constants.h"
 #include "eigen.h"
+#include "helper_thread.h"
+#include "parallel.h"
 #include "observables.h"
 #include "schrodinger.h"
 #include "solve.h"
@@ -250,6 +253,53 @@ static void lapack_single_and_double_wells(void **state) {
  * Round trip against the library's own values: ew_grid_copy holds every array of the grid bit
  * for bit, and a pass with a potential on the copy (ew_schrodinger_pass_on) gives the states
  * of the pass that builds its grid anew (ew_schrodinger_pass), energy for energy. */
+/* The bands of a pass on helper threads (helper_thread.h) against the same pass on the
+ * caller's thread alone: every state's energy, error estimate and wavefunction, every line
+ * and the work counters bit for bit (the bands are independent; each factorization pivots as
+ * a fresh one).  The demo detector well, whose electrons take the Kane fixed point, and a
+ * doped stack, whose passes reuse the self-consistent loop's factorization workspace. */
+static void same_pass(const char *path) {
+  ew_catalogue *cat;
+  assert_int_equal(tu_load_catalogue(&cat), 0);
+  ew_stack *st = NULL;
+  assert_int_equal(ew_stack_read_file(path, cat, &st, NULL), EW_OK);
+  ew_result *r[2] = {NULL, NULL};
+  for (int k = 0; k < 2; k++) {
+    omp_set_num_threads(k ? 3 : 1);
+    assert_int_equal(ew_helper_count(EW_BAND_COUNT), k ? 2 : 0);
+    assert_int_equal(ew_solve(st, NULL, &r[k], NULL), EW_OK);
+  }
+  omp_set_num_threads(omp_get_num_procs());
+  const ew_result *a = r[0], *b = r[1];
+  assert_int_equal(a->n_states, b->n_states);
+  assert_true(a->n_states >= 5);
+  for (size_t i = 0; i < a->n_states; i++) {
+    assert_memory_equal(&a->states[i].energy_eV, &b->states[i].energy_eV, sizeof(double));
+    assert_memory_equal(&a->states[i].error_eV, &b->states[i].error_eV, sizeof(double));
+  }
+  assert_memory_equal(a->psi, b->psi, a->n_states * a->grid->n * sizeof(double));
+  assert_int_equal(a->n_lines, b->n_lines);
+  for (size_t j = 0; j < a->n_lines; j++)
+    assert_memory_equal(&a->lines[j].energy_eV, &b->lines[j].energy_eV, sizeof(double));
+  assert_int_equal(a->work_factorizations, b->work_factorizations);
+  assert_int_equal(a->work_counts, b->work_counts);
+  assert_int_equal(a->nonparabolic, b->nonparabolic);
+  ew_result_free(r[0]);
+  ew_result_free(r[1]);
+  ew_stack_free(st);
+  ew_catalogue_free(cat);
+}
+
+static void bands_on_helpers(void **state) {
+  (void)state;
+  same_pass("examples/detector_well.cfg");
+  same_pass("examples/doped_detector.cfg");
+  int inside = -1; /* inside an OpenMP region (a sweep's points) no helper is started */
+  EW_OMP(omp parallel num_threads(1))
+  inside = ew_helper_count(EW_BAND_COUNT);
+  assert_int_equal(inside, 0);
+}
+
 static void pass_on_copied_grid(void **state) {
   (void)state;
   tu_layer one[] = {{20, 0.3, -0.8 - 0.15, 0.092, 0.40, 0.10},
@@ -517,6 +567,7 @@ int main(void) {
       cmocka_unit_test(second_order_convergence),
       cmocka_unit_test(lapack_single_and_double_wells),
       cmocka_unit_test(pass_on_copied_grid),
+      cmocka_unit_test(bands_on_helpers),
       cmocka_unit_test(eigenvalues_by_index),
       cmocka_unit_test(coarse_values_from_fine),
       cmocka_unit_test(trk_sum_rule),

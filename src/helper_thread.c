@@ -1,0 +1,51 @@
+/* helper_thread.c — short-lived helper threads (see helper_thread.h). */
+#if defined(__linux__) && !defined(_GNU_SOURCE)
+#define _GNU_SOURCE /* sched_getcpu, CPU_SET, pthread_attr_setaffinity_np */
+#endif
+#include "helper_thread.h"
+
+#include <sched.h>
+
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
+int ew_helper_count(int parts) {
+#ifdef _OPENMP
+  if (parts < 2 || omp_get_level() > 0) return 0;
+  int t = omp_get_max_threads() - 1;
+  return t < 1 ? 0 : t < parts - 1 ? t : parts - 1;
+#else
+  (void)parts;
+  return 0;
+#endif
+}
+
+/* The helper's attributes: on Linux, the process's CPUs without the caller's (see the header);
+ * 0 when there is no such placement to ask for (plain attributes). */
+static void place_elsewhere(pthread_attr_t *at) {
+#ifdef __linux__
+  cpu_set_t cpus;
+  int me = sched_getcpu();
+  if (me < 0 || sched_getaffinity(0, sizeof cpus, &cpus) != 0) return;
+  CPU_CLR(me, &cpus);
+  if (CPU_COUNT(&cpus) > 0) pthread_attr_setaffinity_np(at, sizeof cpus, &cpus);
+#else
+  (void)at;
+#endif
+}
+
+int ew_helper_start(ew_helper *h, void *(*fn)(void *), void *arg) {
+  h->started = 0;
+  pthread_attr_t at;
+  if (pthread_attr_init(&at) != 0) return 0;
+  place_elsewhere(&at);
+  h->started = pthread_create(&h->thread, &at, fn, arg) == 0;
+  pthread_attr_destroy(&at);
+  return h->started;
+}
+
+void ew_helper_join(ew_helper *h) {
+  if (h->started) pthread_join(h->thread, NULL);
+  h->started = 0;
+}
