@@ -9,6 +9,7 @@
 #include "catalogue.h"
 
 #include "error.h"
+#include "helper_thread.h"
 #include "plausible.h"
 #include "text.h"
 
@@ -19,6 +20,7 @@
 #include <fcntl.h>
 #include <libconfig.h>
 #include <math.h>
+#include <stdatomic.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
@@ -966,23 +968,65 @@ static ew_status list_cfg_files(const char *dir, char ***names, size_t *nn, ew_e
 }
 
 /* Read every file into cat->e (room for nn entries); names must be unique. */
+/* The files of a directory as a queue that the threads of read_files draw from: each file's
+ * entry, status and error are its own, so that the files can be parsed on two threads and
+ * judged afterwards in name order. */
+typedef struct {
+  ew_catalogue *cat;
+  const char *dir;
+  char *const *names;
+  size_t nn;
+  atomic_size_t next;
+  ew_status *st; /* [nn] */
+  ew_error *err; /* [nn] */
+} file_queue;
+
+static void *drain_files(void *arg) {
+  file_queue *q = arg;
+  for (size_t i; (i = atomic_fetch_add(&q->next, 1)) < q->nn;) {
+    char path[EW_CATALOGUE_PATH_MAX];
+    if (snprintf(path, sizeof path, "%s/%s", q->dir, q->names[i]) >= (int)sizeof path)
+      q->st[i] = ew_fail(&q->err[i], EW_ERR_CATALOGUE, q->dir, 0, "path too long: %s",
+                         q->names[i]);
+    else q->st[i] = read_file(path, &q->cat->e[i], &q->err[i]);
+  }
+  return NULL;
+}
+
+/* Every file of names into cat->e (all counted in cat->n, so that free releases what was
+ * read); the first file in name order that fails, or repeats an earlier file's material name,
+ * is the error, as if they had been read one by one. */
 static ew_status read_files(ew_catalogue *cat, const char *dir, char *const *names, size_t nn,
                             ew_error *err) {
-  for (size_t i = 0; i < nn; i++) {
-    char path[EW_CATALOGUE_PATH_MAX];
-    if (snprintf(path, sizeof path, "%s/%s", dir, names[i]) >= (int)sizeof path)
-      return ew_fail(err, EW_ERR_CATALOGUE, dir, 0, "path too long: %s", names[i]);
-    ew_status st = read_file(path, &cat->e[cat->n], err);
-    cat->n++; /* counted even on failure so that free releases what was read */
-    if (st) return st;
-    const ew_cat_entry *ne = &cat->e[cat->n - 1];
-    for (size_t j = 0; j + 1 < cat->n; j++)
-      if (strcmp(cat->e[j].name, ne->name) == 0)
-        return ew_fail(err, EW_ERR_CATALOGUE, ne->path, ne->name_line,
-                       "duplicate material name '%s' (already defined in %s:%d)", ne->name,
-                       cat->e[j].path, cat->e[j].name_line);
+  file_queue q = {cat, dir, names, nn, 0, malloc((nn ? nn : 1) * sizeof *q.st),
+                  malloc((nn ? nn : 1) * sizeof *q.err)};
+  if (!q.st || !q.err) {
+    free(q.st);
+    free(q.err);
+    return ew_fail(err, EW_ERR_NOMEM, dir, 0, "out of memory");
   }
-  return EW_OK;
+  atomic_init(&q.next, 0);
+  ew_helper h = {0};
+  if (ew_helper_count(nn < 2 ? (int)nn : 2) > 0) ew_helper_start(&h, drain_files, &q);
+  drain_files(&q);
+  ew_helper_join(&h);
+  cat->n = nn;
+  ew_status st = EW_OK;
+  for (size_t i = 0; i < nn && st == EW_OK; i++) {
+    if ((st = q.st[i]) != EW_OK) {
+      if (err) *err = q.err[i];
+      break;
+    }
+    const ew_cat_entry *ne = &cat->e[i];
+    for (size_t j = 0; j < i && st == EW_OK; j++)
+      if (strcmp(cat->e[j].name, ne->name) == 0)
+        st = ew_fail(err, EW_ERR_CATALOGUE, ne->path, ne->name_line,
+                     "duplicate material name '%s' (already defined in %s:%d)", ne->name,
+                     cat->e[j].path, cat->e[j].name_line);
+  }
+  free(q.st);
+  free(q.err);
+  return st;
 }
 
 /* The end binaries of ternary alloy e: two distinct binaries of the catalogue. */

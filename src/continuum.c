@@ -19,6 +19,7 @@
 
 #include "constants.h"
 #include "error.h"
+#include "helper_thread.h"
 #include "nonparabolic.h"
 
 #define CT_PANELS 32    /* geometric panels in s = √(E − E_edge) per piece */
@@ -323,8 +324,8 @@ static void shoot_batch(ew_continuum *c, int K, const double *E, double *q) {
 
 double ew_continuum_threshold_eV(const ew_continuum *c) { return fmin(c->V[0], c->V[1]) - c->Ei; }
 
-void ew_continuum_dfdE_many(ew_continuum *c, size_t count, const double *photon_eV,
-                            double *out) {
+/* ew_continuum_dfdE_many on the calling thread */
+static void dfdE_run(ew_continuum *c, size_t count, const double *photon_eV, double *out) {
   double thr = ew_continuum_threshold_eV(c);
   for (size_t j = 0; j < count;) {
     double E[CT_LANES], q[CT_LANES];
@@ -341,6 +342,62 @@ void ew_continuum_dfdE_many(ew_continuum *c, size_t count, const double *photon_
   }
 }
 
+/* Part of a dfdE_many call for a helper thread: its own copy of the continuum (the Kane
+ * cells' scratch and the mass slots are written by every shot), made on the helper. */
+typedef struct {
+  const ew_continuum *c;
+  size_t count;
+  const double *x;
+  double *out;
+  int done;
+} dfdE_part;
+
+static void *dfdE_helper(void *arg) {
+  dfdE_part *p = arg;
+  const ew_continuum *c = p->c;
+  ew_continuum v = *c;
+  size_t nc = c->g->n + 1;
+  if (c->kane) {
+    v.kane = ew_kane_cells_new(c->r->stack, c->g);
+    v.M = malloc(2 * nc * sizeof *v.M);
+    v.slot_M[1] = NULL;
+    if (v.M) v.kinv = v.M + nc;
+    if (!v.kane || !v.M || !kane_slots(&v, nc)) {
+      ew_kane_cells_free(v.kane);
+      free(v.M);
+      return NULL; /* the caller does this part */
+    }
+  }
+  dfdE_run(&v, p->count, p->x, p->out);
+  if (c->kane) {
+    ew_kane_cells_free(v.kane);
+    free(v.M);
+    free(v.slot_M[1]);
+  }
+  p->done = 1;
+  return NULL;
+}
+
+/* Below this many energies a helper thread costs more than it saves. */
+#define CT_SPLIT_MIN 64
+
+void ew_continuum_dfdE_many(ew_continuum *c, size_t count, const double *photon_eV,
+                            double *out) {
+  /* the second half on a helper when one is worth it (the same bits: each energy is shot
+     alone of the others) */
+  ew_helper h = {0};
+  size_t half = count;
+  dfdE_part part = {c, 0, NULL, NULL, 0};
+  if (count >= CT_SPLIT_MIN && ew_helper_count(2) > 0) {
+    half = count / 2;
+    part = (dfdE_part){c, count - half, photon_eV + half, out + half, 0};
+    if (!ew_helper_start(&h, dfdE_helper, &part)) half = count;
+  }
+  dfdE_run(c, half, photon_eV, out);
+  ew_helper_join(&h);
+  if (half < count && !part.done) dfdE_run(c, part.count, part.x, part.out);
+}
+
 double ew_continuum_dfdE(ew_continuum *c, double photon_eV) {
   double f;
   ew_continuum_dfdE_many(c, 1, &photon_eV, &f);
@@ -354,12 +411,13 @@ static const double GL_X[4] = {0.1834346424956498, 0.5255324099163290, 0.7966664
 static const double GL_W[4] = {0.3626837833783620, 0.3137066661265559, 0.2223810344533745,
                                0.1012285362903763};
 
-/* ∫ df/dE over photon energies [a, b], a the bottom of a lead's band (√ onset): in s = √(E − a),
- * ∫ 2s df/dE ds on CT_PANELS panels growing geometrically from s = 0 */
-static double integrate_piece(ew_continuum *c, double a, double b) {
-  if (!(b > a)) return 0.0;
-  enum { NP = 8 * CT_PANELS };
-  double smax = sqrt(b - a), sum = 0.0, den = expm1(CT_GRADE), x[NP], wt[NP], f[NP];
+/* The quadrature of ∫ df/dE over photon energies [a, b], a the bottom of a lead's band (√
+ * onset): in s = √(E − a), ∫ 2s df/dE ds on CT_PANELS panels growing geometrically from
+ * s = 0; the CT_POINTS energies into x and their weights into wt (none when b <= a). */
+#define CT_POINTS (8 * CT_PANELS)
+static size_t piece_points(double a, double b, double *x, double *wt) {
+  if (!(b > a)) return 0;
+  double smax = sqrt(b - a), den = expm1(CT_GRADE);
   for (int k = 0; k < CT_PANELS; k++) {
     double s0 = smax * expm1(CT_GRADE * k / CT_PANELS) / den;
     double s1 = smax * expm1(CT_GRADE * (k + 1) / CT_PANELS) / den;
@@ -370,9 +428,7 @@ static double integrate_piece(ew_continuum *c, double a, double b) {
       x[8 * k + q] = a + s * s;
     }
   }
-  ew_continuum_dfdE_many(c, NP, x, f); /* then summed in the order of the points */
-  for (int p = 0; p < NP; p++) sum += wt[p] * f[p];
-  return sum;
+  return CT_POINTS;
 }
 
 double ew_continuum_oscillator_sum(ew_continuum *c) {
@@ -385,8 +441,16 @@ double ew_continuum_oscillator_sum(ew_continuum *c) {
                    c->V[1] + 4.0 * EW_HB2M0_EVNM2 / (c->M[n] * g->h[n])};
   double lo = fmin(c->V[0], c->V[1]) - c->Ei, mid = fmax(c->V[0], c->V[1]) - c->Ei;
   double hi = fmax(top[0], top[1]) - c->Ei;
-  if (mid - lo < 1e-12) return integrate_piece(c, lo, hi);
-  return integrate_piece(c, lo, mid) + integrate_piece(c, mid, hi);
+  /* one piece, or two split at the upper lead's band bottom; all their energies in one call */
+  double x[2 * CT_POINTS], wt[2 * CT_POINTS], f[2 * CT_POINTS];
+  size_t m[2] = {0, 0};
+  if (mid - lo < 1e-12) m[0] = piece_points(lo, hi, x, wt);
+  else m[0] = piece_points(lo, mid, x, wt), m[1] = piece_points(mid, hi, x + m[0], wt + m[0]);
+  ew_continuum_dfdE_many(c, m[0] + m[1], x, f);
+  double sum[2] = {0.0, 0.0}; /* each piece summed in the order of its points */
+  for (size_t p = 0; p < m[0]; p++) sum[0] += wt[p] * f[p];
+  for (size_t p = 0; p < m[1]; p++) sum[1] += wt[m[0] + p] * f[m[0] + p];
+  return sum[0] + sum[1];
 }
 
 double ew_continuum_bound_sum(const ew_result *r, size_t lower) {

@@ -28,12 +28,14 @@
 #include "exciton.h"
 
 #include <math.h>
+#include <stdatomic.h>
 #include <stddef.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "constants.h"
 #include "error.h"
+#include "helper_thread.h"
 #include "observables.h"
 
 /* EW_EXC_NTAB and exciton_table[][2] = {I(x_k), dI/ds(x_k)}: the table of item 2 computed
@@ -674,30 +676,67 @@ ew_status ew_line_exciton_params(const ew_result *r, const ew_line *ln, double *
   return EW_OK;
 }
 
-ew_status ew_result_add_excitons(ew_result *r, ew_error *err) {
-  ew_exciton_ws *ws = NULL;
-  ew_status rc = EW_OK;
+/* The interband lines of a result as a queue that the threads of ew_result_add_excitons draw
+ * from; each line's outcome is kept, so that the first failure in line order is reported. */
+typedef struct {
+  ew_result *r;
+  atomic_size_t next;
+  ew_status *rc;  /* [n_lines] */
+  ew_error *err;  /* [n_lines] */
+} line_queue;
+
+/* One line's exciton: its binding, PL peak and polarisation strengths. */
+static ew_status line_exciton(ew_result *r, ew_line *ln, ew_exciton_ws **ws, ew_error *err) {
   size_t n = r->grid->n;
-  for (size_t j = 0; j < r->n_lines; j++) {
-    ew_line *ln = &r->lines[j];
-    if (ln->kind != EW_LINE_INTERBAND) continue;
-    double mu, eps, bind = 0.0, rad = 0.0;
-    rc = ew_line_exciton_params(r, ln, &mu, &eps, err);
-    if (rc != EW_OK) break;
-    ew_interband_polarisation(r->states[ln->lower].band, ln->overlap, &ln->te_strength,
-                              &ln->tm_strength);
-    if (eps > 0) {
-      if (!ws && !(ws = ew_exciton_ws_new())) {
-        rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (exciton workspace)");
-        break;
-      }
-      rc = ew_exciton_binding_ws(ws, r->grid, r->psi + ln->upper * n, r->psi + ln->lower * n,
-                                 mu, eps, &bind, &rad, err);
-      if (rc != EW_OK) break;
-    }
-    ln->exciton_binding_eV = bind;
-    ln->pl_peak_eV = ln->energy_eV - bind;
+  double mu, eps, bind = 0.0, rad = 0.0;
+  ew_status rc = ew_line_exciton_params(r, ln, &mu, &eps, err);
+  if (rc != EW_OK) return rc;
+  ew_interband_polarisation(r->states[ln->lower].band, ln->overlap, &ln->te_strength,
+                            &ln->tm_strength);
+  if (eps > 0) {
+    if (!*ws && !(*ws = ew_exciton_ws_new()))
+      return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (exciton workspace)");
+    rc = ew_exciton_binding_ws(*ws, r->grid, r->psi + ln->upper * n, r->psi + ln->lower * n,
+                               mu, eps, &bind, &rad, err);
+    if (rc != EW_OK) return rc;
+  }
+  ln->exciton_binding_eV = bind;
+  ln->pl_peak_eV = ln->energy_eV - bind;
+  return EW_OK;
+}
+
+/* Lines off the queue until it is empty, with this thread's own workspace. */
+static void *drain_lines(void *arg) {
+  line_queue *q = arg;
+  ew_exciton_ws *ws = NULL;
+  for (size_t j; (j = atomic_fetch_add(&q->next, 1)) < q->r->n_lines;) {
+    ew_line *ln = &q->r->lines[j];
+    q->rc[j] = ln->kind == EW_LINE_INTERBAND ? line_exciton(q->r, ln, &ws, &q->err[j]) : EW_OK;
   }
   ew_exciton_ws_free(ws);
+  return NULL;
+}
+
+ew_status ew_result_add_excitons(ew_result *r, ew_error *err) {
+  size_t nl = r->n_lines, ni = 0;
+  for (size_t j = 0; j < nl; j++) ni += r->lines[j].kind == EW_LINE_INTERBAND;
+  if (!ni) return EW_OK;
+  line_queue q = {r, 0, malloc(nl * sizeof *q.rc), malloc(nl * sizeof *q.err)};
+  if (!q.rc || !q.err) {
+    free(q.rc);
+    free(q.err);
+    return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (exciton lines)");
+  }
+  atomic_init(&q.next, 0);
+  /* lines are independent (each thread its own workspace: the same bits on any thread) */
+  ew_helper h = {0};
+  if (ew_helper_count((int)(ni < 8 ? ni : 8)) > 0) ew_helper_start(&h, drain_lines, &q);
+  drain_lines(&q);
+  ew_helper_join(&h);
+  ew_status rc = EW_OK;
+  for (size_t j = 0; j < nl && rc == EW_OK; j++)
+    if ((rc = q.rc[j]) != EW_OK && err) *err = q.err[j];
+  free(q.rc);
+  free(q.err);
   return rc;
 }
