@@ -3,11 +3,13 @@
 
 #include <float.h>
 #include <math.h>
+#include <stdatomic.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "constants.h"
 #include "error.h"
+#include "helper_thread.h"
 #include "observables.h"
 
 #define NP_TOL_EV 1e-11 /* fixed point of each level */
@@ -399,7 +401,8 @@ static ew_status level_energies(np_ctx *cf, np_ctx *cc, size_t clo, size_t nb,
  * of its own pencil; a cluster keeps each level's fixed point, with the residual of its
  * vector in the level's own pencil H(E_j). */
 static ew_status cluster_vectors(np_ctx *cf, size_t idx0, size_t j0, size_t m, double *M,
-                                 ew_shift_lu *lu, ew_eigenpairs *fine, ew_error *err) {
+                                 ew_shift_lu *lu, ew_eigenpairs *fine, size_t *work,
+                                 ew_error *err) {
   size_t n = cf->g->n;
   double *E = fine->values + j0, mean = 0.0;
   for (size_t r = 0; r < m; r++) mean += E[r] / (double)m;
@@ -431,8 +434,8 @@ static ew_status cluster_vectors(np_ctx *cf, size_t idx0, size_t j0, size_t m, d
     else fine->residual[j0 + r] = ew_pencil_residual(pj, v, E[r]);
   }
   if (rc == EW_OK || isolated) {
-    fine->factorizations += grp.factorizations;
-    fine->solves += grp.solves;
+    work[0] += grp.factorizations; /* work: {factorizations, solves} of this thread */
+    work[1] += grp.solves;
     ew_eigenpairs_free(&grp);
   }
   return rc;
@@ -470,6 +473,84 @@ static ew_status orthogonalize_near(np_ctx *cf, size_t j0, size_t m, double *M,
     fine->residual[j] = ew_pencil_residual(p, x, fine->values[j]);
   }
   return EW_OK;
+}
+
+/* The clusters of levels (first level j0[k], k < nc; j0[nc] = nb) as a queue for the threads
+ * of all_vectors: each cluster's vectors come from its own pencil H(Ē) alone, so they are
+ * computed on any thread (each with its own context, masses and workspace) into their own
+ * columns; the B-orthogonalisation against earlier levels follows in level order on the
+ * caller's thread: the same bits as one cluster after another. */
+typedef struct {
+  const ew_stack *st;
+  const ew_grid *g;
+  size_t clo, nc;
+  const size_t *j0;
+  ew_eigenpairs *fine;
+  atomic_size_t next;
+  ew_status *rc; /* [nc] */
+  ew_error *err; /* [nc] */
+  size_t work[2][2]; /* factorizations and solves of each thread */
+} cluster_queue;
+
+static void drain_clusters(cluster_queue *q, int slot, np_ctx *cf, double *M, ew_shift_lu *lu) {
+  for (size_t k; (k = atomic_fetch_add(&q->next, 1)) < q->nc;) {
+    size_t j0 = q->j0[k], m = q->j0[k + 1] - j0;
+    q->rc[k] = cluster_vectors(cf, q->clo + j0, j0, m, M, lu, q->fine, q->work[slot], &q->err[k]);
+  }
+}
+
+static void *cluster_helper(void *arg) {
+  cluster_queue *q = arg;
+  np_ctx cf;
+  memset(&cf, 0, sizeof cf);
+  double *M = malloc((q->g->n + 1) * sizeof *M);
+  ew_shift_lu *lu = ew_shift_lu_create(q->g->n);
+  if (M && lu && ctx_build(&cf, q->st, q->g)) drain_clusters(q, 1, &cf, M, lu);
+  ctx_free(&cf); /* a helper that cannot work leaves its clusters to the caller */
+  ew_shift_lu_free(lu);
+  free(M);
+  return NULL;
+}
+
+/* Below this many clusters a helper costs more than it saves. */
+#define NP_SPLIT_MIN_CLUSTERS 8
+
+/* The vectors of the nb levels (fine->values set by the fixed points): clusters closer than
+ * NP_CLUSTER_EV share a pencil (cluster_vectors), on this thread and, when worth it, a helper;
+ * then orthogonalize_near in level order. */
+static ew_status all_vectors(np_ctx *cf, const ew_stack *st, size_t clo, size_t nb, double *M,
+                             ew_shift_lu *lu, ew_eigenpairs *fine, ew_error *err) {
+  size_t *j0 = malloc((nb + 1) * sizeof *j0), nc = 0;
+  cluster_queue q = {st, cf->g, clo, 0, j0, fine, 0, malloc((nb ? nb : 1) * sizeof *q.rc),
+                     malloc((nb ? nb : 1) * sizeof *q.err), {{0, 0}, {0, 0}}};
+  ew_status rc = EW_OK;
+  if (!j0 || !q.rc || !q.err)
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
+  for (size_t j = 0; rc == EW_OK && j < nb; j++)
+    if (j == 0 || fine->values[j] - fine->values[j - 1] >= NP_CLUSTER_EV) j0[nc++] = j;
+  if (rc == EW_OK) {
+    j0[nc] = nb, q.nc = nc;
+    atomic_init(&q.next, 0);
+    ew_helper h = {0};
+    if (nc >= NP_SPLIT_MIN_CLUSTERS && ew_helper_count(2) > 0)
+      ew_helper_start(&h, cluster_helper, &q);
+    drain_clusters(&q, 0, cf, M, lu);
+    ew_helper_join(&h);
+    fine->factorizations += q.work[0][0] + q.work[1][0];
+    fine->solves += q.work[0][1] + q.work[1][1];
+  }
+  for (size_t k = 0; rc == EW_OK && k < nc; k++) {
+    size_t a = j0[k], m = j0[k + 1] - a;
+    if (q.rc[k] != EW_OK) {
+      rc = q.rc[k];
+      if (err) *err = q.err[k];
+    } else rc = orthogonalize_near(cf, a, m, M, fine, err);
+    if (rc == EW_OK) fine->count = a + m;
+  }
+  free(j0);
+  free(q.rc);
+  free(q.err);
+  return rc;
 }
 
 ew_status ew_nonparabolic_levels(const ew_stack *st, const ew_grid *g, const ew_grid *coarse,
@@ -516,12 +597,7 @@ ew_status ew_nonparabolic_levels_lu(const ew_stack *st, const ew_grid *g, const 
   }
   rc = level_energies(&cf, coarse ? &cc : NULL, clo, nb, lo, top, M, fine->values, cv,
                       work_counts, err);
-  for (size_t j0 = 0, j1; rc == EW_OK && j0 < nb; j0 = j1) {
-    for (j1 = j0 + 1; j1 < nb && fine->values[j1] - fine->values[j1 - 1] < NP_CLUSTER_EV;) j1++;
-    rc = cluster_vectors(&cf, clo + j0, j0, j1 - j0, M, lu, fine, err);
-    if (rc == EW_OK) rc = orthogonalize_near(&cf, j0, j1 - j0, M, fine, err);
-    if (rc == EW_OK) fine->count = j1;
-  }
+  if (rc == EW_OK) rc = all_vectors(&cf, st, clo, nb, M, lu, fine, err);
 done:
   free(M);
   ew_shift_lu_free(own);
