@@ -358,13 +358,16 @@ static int fixed_point(np_ctx *c, size_t idx, double start, double *M, size_t *c
  * that can be measured and above the fixed points' own accuracy (NP_TOL_EV). */
 #define NP_CLUSTER_EV 1e-8
 
-/* The self-consistent energy of each of the nb levels from index clo (fine grid: E[j]) and,
- * with a coarse context, the same level's coarse value cv[j]. */
-static ew_status level_energies(np_ctx *cf, np_ctx *cc, size_t clo, size_t nb,
-                                double lo, double top, double *M, double *E, double *cv,
-                                size_t *work_counts, ew_error *err) {
+/* The self-consistent energy of each of the nb levels from index clo on the fine grid (E[j])
+ * and the slope of its secant at the end (slope[j], where the coarse grid's fixed point
+ * starts).  *good: the levels that converged; when it is below nb, level *good failed and
+ * the return value says how (err set). */
+static ew_status fine_energies(np_ctx *cf, size_t clo, size_t nb, double lo, double top,
+                               double *M, double *E, double *slope_out, size_t *good,
+                               size_t *work_counts, ew_error *err) {
   /* start each level from the parabolic value: the plain pencil's eigenvalues of the levels'
      indices, isolated together by one bisection on the count (E is their scratch) */
+  *good = 0;
   ew_pencil *pp = ew_pencil_build(cf->g, EW_BAND_E);
   if (!pp) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory");
   ew_status rc = ew_eigen_indices(pp, clo, nb, lo, top, 1e-9, E, work_counts, err);
@@ -375,19 +378,14 @@ static ew_status level_energies(np_ctx *cf, np_ctx *cc, size_t clo, size_t nb,
     if (!isfinite(start) || start > top) start = top;
     /* the previous level's slope starts the secant (levels of one band have similar ones) */
     double slope = fine_slope;
-    int fp = fixed_point(cf, idx, start, M, work_counts, &E[j], &step, &slope), fc = 0;
-    fine_slope = slope;
-    if (fp == 0 && cc && idx >= cc->g->n) cv[j] = NAN; /* the coarse grid cannot hold it */
-    else if (fp == 0 && cc) fc = fixed_point(cc, idx, E[j], M, work_counts, &cv[j], &step, &slope);
-    if (fp < 0 || fc < 0)
-      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
+    int fp = fixed_point(cf, idx, start, M, work_counts, &E[j], &step, &slope);
+    fine_slope = slope_out[j] = slope;
+    if (fp < 0) rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
     else if (fp)
       rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
                    "non-parabolic level e%zu did not converge in %d steps (reached %.9f eV, "
                    "last change %.2e eV)", j + 1, NP_MAX_IT, E[j], step);
-    else if (fc)
-      rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu did not converge "
-                   "on the coarse grid (last change %.2e eV)", j + 1, step);
+    else *good = j + 1;
   }
   ew_pencil_free(pp);
   return rc;
@@ -475,79 +473,122 @@ static ew_status orthogonalize_near(np_ctx *cf, size_t j0, size_t m, double *M,
   return EW_OK;
 }
 
-/* The clusters of levels (first level j0[k], k < nc; j0[nc] = nb) as a queue for the threads
- * of all_vectors: each cluster's vectors come from its own pencil H(Ē) alone, so they are
- * computed on any thread (each with its own context, masses and workspace) into their own
- * columns; the B-orthogonalisation against earlier levels follows in level order on the
- * caller's thread: the same bits as one cluster after another. */
+/* What follows the fine fixed points, as one queue of tasks for the threads of level_tasks:
+ * first each level's fixed point on the coarse grid (from the fine energy and slope), then the
+ * vectors of each cluster of levels (first level j0[k], k < nc; j0[nc] = nb), whose vectors
+ * come from the cluster's own pencil H(Ē) alone.  Every task depends only on the fine results,
+ * so it runs on any thread (each with its own contexts, masses and workspace) into its own
+ * outputs; errors are judged, and the vectors B-orthogonalised against earlier levels, in
+ * level order on the caller's thread afterwards: the same bits as one task after another. */
 typedef struct {
   const ew_stack *st;
-  const ew_grid *g;
-  size_t clo, nc;
+  const ew_grid *g, *coarse;
+  size_t clo, nb, ncv, nc; /* ncv coarse tasks (0 without a coarse grid), nc clusters */
   const size_t *j0;
+  const double *slope; /* [nb] the fine secants' slopes */
   ew_eigenpairs *fine;
+  double *cv;          /* [nb] coarse values */
   atomic_size_t next;
-  ew_status *rc; /* [nc] */
-  ew_error *err; /* [nc] */
-  size_t work[2][2]; /* factorizations and solves of each thread */
-} cluster_queue;
+  int *fc;             /* [ncv] the coarse fixed points' outcome (fixed_point's) */
+  double *step;        /* [ncv] their last steps */
+  ew_status *rc;       /* [nc] */
+  ew_error *err;       /* [nc] */
+  size_t work[2][3];   /* factorizations, solves and counts of each thread */
+} task_queue;
 
-static void drain_clusters(cluster_queue *q, int slot, np_ctx *cf, double *M, ew_shift_lu *lu) {
-  for (size_t k; (k = atomic_fetch_add(&q->next, 1)) < q->nc;) {
+/* The thread's contexts: the fine and (with a coarse grid) the coarse masses, the masses'
+ * scratch and the factorization workspace. */
+typedef struct {
+  np_ctx *cf, *cc;
+  double *M;
+  ew_shift_lu *lu;
+} task_ws;
+
+static void drain_tasks(task_queue *q, int slot, const task_ws *w) {
+  for (size_t k; (k = atomic_fetch_add(&q->next, 1)) < q->ncv + q->nc;) {
+    if (k < q->ncv) { /* the coarse grid's fixed point of level k */
+      size_t idx = q->clo + k;
+      double sl = q->slope[k];
+      q->fc[k] = 0;
+      if (idx >= w->cc->g->n) q->cv[k] = NAN; /* the coarse grid cannot hold it */
+      else q->fc[k] = fixed_point(w->cc, idx, q->fine->values[k], w->M, &q->work[slot][2],
+                                  &q->cv[k], &q->step[k], &sl);
+      continue;
+    }
+    k -= q->ncv;
     size_t j0 = q->j0[k], m = q->j0[k + 1] - j0;
-    q->rc[k] = cluster_vectors(cf, q->clo + j0, j0, m, M, lu, q->fine, q->work[slot], &q->err[k]);
+    q->rc[k] = cluster_vectors(w->cf, q->clo + j0, j0, m, w->M, w->lu, q->fine, q->work[slot],
+                               &q->err[k]);
   }
 }
 
-static void *cluster_helper(void *arg) {
-  cluster_queue *q = arg;
-  np_ctx cf;
+static void *task_helper(void *arg) {
+  task_queue *q = arg;
+  np_ctx cf, cc;
   memset(&cf, 0, sizeof cf);
-  double *M = malloc((q->g->n + 1) * sizeof *M);
-  ew_shift_lu *lu = ew_shift_lu_create(q->g->n);
-  if (M && lu && ctx_build(&cf, q->st, q->g)) drain_clusters(q, 1, &cf, M, lu);
-  ctx_free(&cf); /* a helper that cannot work leaves its clusters to the caller */
-  ew_shift_lu_free(lu);
-  free(M);
+  memset(&cc, 0, sizeof cc);
+  size_t nm = (q->g->n > (q->coarse ? q->coarse->n : 0) ? q->g->n : q->coarse->n) + 1;
+  task_ws w = {&cf, &cc, malloc(nm * sizeof *w.M), ew_shift_lu_create(q->g->n)};
+  if (w.M && w.lu && ctx_build(&cf, q->st, q->g) && (!q->coarse || ctx_build(&cc, q->st, q->coarse)))
+    drain_tasks(q, 1, &w);
+  ctx_free(&cf); /* a helper that cannot work leaves its tasks to the caller */
+  ctx_free(&cc);
+  ew_shift_lu_free(w.lu);
+  free(w.M);
   return NULL;
 }
 
-/* Below this many clusters a helper costs more than it saves. */
-#define NP_SPLIT_MIN_CLUSTERS 8
+/* Below this much work (tasks × nodes) a helper costs more than it saves: a task takes about
+ * a factorization, ~1.5e3 instructions a node; a helper ~0.1 ms to start. */
+#define NP_SPLIT_MIN_WORK 2e5
 
-/* The vectors of the nb levels (fine->values set by the fixed points): clusters closer than
- * NP_CLUSTER_EV share a pencil (cluster_vectors), on this thread and, when worth it, a helper;
- * then orthogonalize_near in level order. */
-static ew_status all_vectors(np_ctx *cf, const ew_stack *st, size_t clo, size_t nb, double *M,
-                             ew_shift_lu *lu, ew_eigenpairs *fine, ew_error *err) {
-  size_t *j0 = malloc((nb + 1) * sizeof *j0), nc = 0;
-  cluster_queue q = {st, cf->g, clo, 0, j0, fine, 0, malloc((nb ? nb : 1) * sizeof *q.rc),
-                     malloc((nb ? nb : 1) * sizeof *q.err), {{0, 0}, {0, 0}}};
+/* The tasks after the fine fixed points (see task_queue): the coarse values of the first ncv
+ * levels and, when vectors is set, the vectors of all nb levels (fine->values set), on this
+ * thread and, when worth it, a helper; then orthogonalize_near in level order.  The first
+ * coarse failure in level order is the error, then the first cluster's. */
+static ew_status level_tasks(const task_ws *w, const ew_stack *st, const ew_grid *coarse,
+                             size_t clo, size_t nb, size_t ncv, int vectors, const double *slope,
+                             ew_eigenpairs *fine, double *cv, size_t *work_counts,
+                             ew_error *err) {
+  size_t *j0 = malloc((nb + 1) * sizeof *j0), nc = 0, cap = nb ? nb : 1;
+  task_queue q = {st, w->cf->g, coarse, clo, nb, coarse ? ncv : 0, 0, j0, slope, fine, cv, 0,
+                  malloc(cap * sizeof *q.fc), malloc(cap * sizeof *q.step),
+                  malloc(cap * sizeof *q.rc), malloc(cap * sizeof *q.err), {{0}}};
   ew_status rc = EW_OK;
-  if (!j0 || !q.rc || !q.err)
+  if (!j0 || !q.fc || !q.step || !q.rc || !q.err)
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
-  for (size_t j = 0; rc == EW_OK && j < nb; j++)
+  for (size_t j = 0; rc == EW_OK && vectors && j < nb; j++)
     if (j == 0 || fine->values[j] - fine->values[j - 1] >= NP_CLUSTER_EV) j0[nc++] = j;
   if (rc == EW_OK) {
     j0[nc] = nb, q.nc = nc;
     atomic_init(&q.next, 0);
     ew_helper h = {0};
-    if (nc >= NP_SPLIT_MIN_CLUSTERS && ew_helper_count(2) > 0)
-      ew_helper_start(&h, cluster_helper, &q);
-    drain_clusters(&q, 0, cf, M, lu);
+    if (vectors && (double)(q.ncv + nc) * (double)q.g->n >= NP_SPLIT_MIN_WORK &&
+        ew_helper_count(2) > 0)
+      ew_helper_start(&h, task_helper, &q);
+    drain_tasks(&q, 0, w);
     ew_helper_join(&h);
     fine->factorizations += q.work[0][0] + q.work[1][0];
     fine->solves += q.work[0][1] + q.work[1][1];
+    *work_counts += q.work[0][2] + q.work[1][2];
   }
+  for (size_t j = 0; rc == EW_OK && j < q.ncv; j++)
+    if (q.fc[j] < 0)
+      rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic pencil)");
+    else if (q.fc[j])
+      rc = ew_fail(err, EW_ERR_NUMERIC, NULL, 0, "non-parabolic level e%zu did not converge "
+                   "on the coarse grid (last change %.2e eV)", j + 1, q.step[j]);
   for (size_t k = 0; rc == EW_OK && k < nc; k++) {
     size_t a = j0[k], m = j0[k + 1] - a;
     if (q.rc[k] != EW_OK) {
       rc = q.rc[k];
       if (err) *err = q.err[k];
-    } else rc = orthogonalize_near(cf, a, m, M, fine, err);
+    } else rc = orthogonalize_near(w->cf, a, m, w->M, fine, err);
     if (rc == EW_OK) fine->count = a + m;
   }
   free(j0);
+  free(q.fc);
+  free(q.step);
   free(q.rc);
   free(q.err);
   return rc;
@@ -595,9 +636,26 @@ ew_status ew_nonparabolic_levels_lu(const ew_stack *st, const ew_grid *g, const 
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
     goto done;
   }
-  rc = level_energies(&cf, coarse ? &cc : NULL, clo, nb, lo, top, M, fine->values, cv,
-                      work_counts, err);
-  if (rc == EW_OK) rc = all_vectors(&cf, st, clo, nb, M, lu, fine, err);
+  size_t good = 0;
+  double *slope = malloc((nb ? nb : 1) * sizeof *slope);
+  if (!slope) {
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
+    goto done;
+  }
+  ew_error fine_err;
+  ew_status frc = fine_energies(&cf, clo, nb, lo, top, M, fine->values, slope, &good,
+                                work_counts, &fine_err);
+  task_ws w = {&cf, &cc, M, lu};
+  /* a level that failed on the fine grid: the coarse values of the levels before it can
+     still fail first (in level order); no vectors */
+  rc = frc == EW_OK || good > 0 ? level_tasks(&w, st, coarse, clo, nb, good, frc == EW_OK, slope,
+                                              fine, cv, work_counts, err)
+                                : EW_OK;
+  free(slope);
+  if (rc == EW_OK && frc != EW_OK) {
+    rc = frc;
+    if (err) *err = fine_err;
+  }
 done:
   free(M);
   ew_shift_lu_free(own);
