@@ -13,6 +13,12 @@
 
 #include <pthread.h>
 
+/* A helper that needs a factorization workspace and pencils of its own (the bands of a pass,
+ * the Kane levels' tasks) is started only up to this many nodes: measured at 10⁶ nodes
+ * (examples/detector_well.cfg in the bench), peak memory 718 MiB on one thread and 969 MiB
+ * with helpers, against the 1 GiB of issue 16's target. */
+#define EW_HELPER_WORKSPACE_MAX_NODES 250000
+
 typedef struct {
   pthread_t thread;
   int started;

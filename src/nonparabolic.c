@@ -564,7 +564,7 @@ static ew_status level_tasks(const task_ws *w, const ew_stack *st, const ew_grid
     atomic_init(&q.next, 0);
     ew_helper h = {0};
     if (vectors && (double)(q.ncv + nc) * (double)q.g->n >= NP_SPLIT_MIN_WORK &&
-        ew_helper_count(2) > 0)
+        q.g->n <= EW_HELPER_WORKSPACE_MAX_NODES && ew_helper_count(2) > 0)
       ew_helper_start(&h, task_helper, &q);
     drain_tasks(&q, 0, w);
     ew_helper_join(&h);

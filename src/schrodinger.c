@@ -116,12 +116,6 @@ static ew_status solve_band(const ew_result *r, const ew_grid *coarse, ew_band b
   return coarse_values(r, coarse, band, lo, fine, coarse_vals, n_coarse, &bw->counts, err);
 }
 
-/* Above this many nodes the bands are solved one after another: each band's solve holds a
- * factorization workspace and pencils of its own (measured at 10⁶ nodes, examples/
- * detector_well.cfg: peak memory 718 MiB one band at a time, 969 MiB with three side by side,
- * against the 1 GiB of issue 16's target). */
-#define EW_BANDS_SIDE_BY_SIDE_MAX_NODES 250000
-
 /* The bands of a pass as a queue that every thread draws from. */
 typedef struct {
   ew_result *r;
@@ -165,7 +159,7 @@ static ew_status solve_bands(ew_result *r, const ew_grid *coarse, ew_shift_lu *l
      any thread, as every factorization pivots as a fresh one would (superlu_adapter.c) */
   band_helper h[EW_BAND_COUNT];
   ew_helper th[EW_BAND_COUNT];
-  int nh = r->grid->n <= EW_BANDS_SIDE_BY_SIDE_MAX_NODES ? ew_helper_count(EW_BAND_COUNT) : 0;
+  int nh = r->grid->n <= EW_HELPER_WORKSPACE_MAX_NODES ? ew_helper_count(EW_BAND_COUNT) : 0;
   for (int k = 0; k < nh; k++) {
     h[k] = (band_helper){&q, {NULL, NULL}};
     ew_helper_start(&th[k], helper_main, &h[k]);

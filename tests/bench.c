@@ -606,7 +606,7 @@ static int bench_gain(void) {
 int main(int argc, char **argv) {
 #ifdef __GLIBC__
   /* as the CLI does (src/cli.c): keep freed arrays in the heap between solves */
-  mallopt(M_MMAP_THRESHOLD, 256 * 1024 * 1024);
+  mallopt(M_MMAP_THRESHOLD, 32 * 1024 * 1024);
   mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
 #endif
   const char *cli = argc > 1 ? argv[1] : "build/epiwell";
