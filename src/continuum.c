@@ -342,10 +342,11 @@ static void dfdE_run(ew_continuum *c, size_t count, const double *photon_eV, dou
   }
 }
 
-/* Part of a dfdE_many call for a helper thread: its own copy of the continuum (the Kane
- * cells' scratch and the mass slots are written by every shot), made on the helper. */
+/* Part of a dfdE_many call for a helper thread: its own copy of the continuum, made by the
+ * caller before the helper starts (the Kane cells' scratch and the mass slots are written by
+ * every shot: the helper makes its own on its thread). */
 typedef struct {
-  const ew_continuum *c;
+  ew_continuum v;
   size_t count;
   const double *x;
   double *out;
@@ -354,25 +355,24 @@ typedef struct {
 
 static void *dfdE_helper(void *arg) {
   dfdE_part *p = arg;
-  const ew_continuum *c = p->c;
-  ew_continuum v = *c;
-  size_t nc = c->g->n + 1;
-  if (c->kane) {
-    v.kane = ew_kane_cells_new(c->r->stack, c->g);
-    v.M = malloc(2 * nc * sizeof *v.M);
-    v.slot_M[1] = NULL;
-    if (v.M) v.kinv = v.M + nc;
-    if (!v.kane || !v.M || !kane_slots(&v, nc)) {
-      ew_kane_cells_free(v.kane);
-      free(v.M);
+  ew_continuum *v = &p->v;
+  size_t nc = v->g->n + 1;
+  if (v->kane) {
+    v->kane = ew_kane_cells_new(v->r->stack, v->g);
+    v->M = malloc(2 * nc * sizeof *v->M);
+    v->slot_M[1] = NULL;
+    if (v->M) v->kinv = v->M + nc;
+    if (!v->kane || !v->M || !kane_slots(v, nc)) {
+      ew_kane_cells_free(v->kane);
+      free(v->M);
       return NULL; /* the caller does this part */
     }
   }
-  dfdE_run(&v, p->count, p->x, p->out);
-  if (c->kane) {
-    ew_kane_cells_free(v.kane);
-    free(v.M);
-    free(v.slot_M[1]);
+  dfdE_run(v, p->count, p->x, p->out);
+  if (v->kane) {
+    ew_kane_cells_free(v->kane);
+    free(v->M);
+    free(v->slot_M[1]);
   }
   p->done = 1;
   return NULL;
@@ -387,10 +387,11 @@ void ew_continuum_dfdE_many(ew_continuum *c, size_t count, const double *photon_
      alone of the others) */
   ew_helper h = {0};
   size_t half = count;
-  dfdE_part part = {c, 0, NULL, NULL, 0};
+  dfdE_part part;
+  part.done = 0;
   if (count >= CT_SPLIT_MIN && ew_helper_count(2) > 0) {
     half = count / 2;
-    part = (dfdE_part){c, count - half, photon_eV + half, out + half, 0};
+    part = (dfdE_part){*c, count - half, photon_eV + half, out + half, 0};
     if (!ew_helper_start(&h, dfdE_helper, &part)) half = count;
   }
   dfdE_run(c, half, photon_eV, out);

@@ -486,6 +486,8 @@ typedef struct {
   size_t clo, nb, ncv, nc; /* ncv coarse tasks (0 without a coarse grid), nc clusters */
   const size_t *j0;
   const double *slope; /* [nb] the fine secants' slopes */
+  const double *Efp;   /* [nb] the fine fixed points (the coarse ones start there; a single
+                          level's task replaces its fine->values by its own pencil's value) */
   ew_eigenpairs *fine;
   double *cv;          /* [nb] coarse values */
   atomic_size_t next;
@@ -511,7 +513,7 @@ static void drain_tasks(task_queue *q, int slot, const task_ws *w) {
       double sl = q->slope[k];
       q->fc[k] = 0;
       if (idx >= w->cc->g->n) q->cv[k] = NAN; /* the coarse grid cannot hold it */
-      else q->fc[k] = fixed_point(w->cc, idx, q->fine->values[k], w->M, &q->work[slot][2],
+      else q->fc[k] = fixed_point(w->cc, idx, q->Efp[k], w->M, &q->work[slot][2],
                                   &q->cv[k], &q->step[k], &sl);
       continue;
     }
@@ -551,12 +553,14 @@ static ew_status level_tasks(const task_ws *w, const ew_stack *st, const ew_grid
                              ew_eigenpairs *fine, double *cv, size_t *work_counts,
                              ew_error *err) {
   size_t *j0 = malloc((nb + 1) * sizeof *j0), nc = 0, cap = nb ? nb : 1;
-  task_queue q = {st, w->cf->g, coarse, clo, nb, coarse ? ncv : 0, 0, j0, slope, fine, cv, 0,
-                  malloc(cap * sizeof *q.fc), malloc(cap * sizeof *q.step),
+  double *Efp = malloc(cap * sizeof *Efp);
+  task_queue q = {st, w->cf->g, coarse, clo, nb, coarse ? ncv : 0, 0, j0, slope, Efp, fine, cv,
+                  0, malloc(cap * sizeof *q.fc), malloc(cap * sizeof *q.step),
                   malloc(cap * sizeof *q.rc), malloc(cap * sizeof *q.err), {{0}}};
   ew_status rc = EW_OK;
-  if (!j0 || !q.fc || !q.step || !q.rc || !q.err)
+  if (!j0 || !Efp || !q.fc || !q.step || !q.rc || !q.err)
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
+  else memcpy(Efp, fine->values, nb * sizeof *Efp);
   for (size_t j = 0; rc == EW_OK && vectors && j < nb; j++)
     if (j == 0 || fine->values[j] - fine->values[j - 1] >= NP_CLUSTER_EV) j0[nc++] = j;
   if (rc == EW_OK) {
@@ -587,6 +591,7 @@ static ew_status level_tasks(const task_ws *w, const ew_stack *st, const ew_grid
     if (rc == EW_OK) fine->count = a + m;
   }
   free(j0);
+  free(Efp);
   free(q.fc);
   free(q.step);
   free(q.rc);
