@@ -117,6 +117,11 @@ $(BUILD)/bench: tests/bench.c $(BUILD)/libepiwell.a $(BUILD)/flags
 	$(CC) $(CFLAGS) $(PKG_CFLAGS) -Isrc -o $@ $< $(BUILD)/libepiwell.a $(LDFLAGS) $(PKG_LIBS) \
 	  $(TEST_LIBS)
 
+# the helper-thread paths of one solve, for tests/threads_tsan.sh (built there with
+# BUILD=build/tsan and ThreadSanitizer)
+$(BUILD)/threads_drive: tests/threads_drive.c $(BUILD)/libepiwell.a $(BUILD)/flags
+	$(CC) $(CFLAGS) $(PKG_CFLAGS) -Isrc -o $@ $< $(BUILD)/libepiwell.a $(LDFLAGS) $(PKG_LIBS)
+
 bench: deps-check
 	@$(MAKE) --no-print-directory $(BUILD)/bench $(BUILD)/epiwell
 	$(BUILD)/bench $(BUILD)/epiwell

@@ -25,7 +25,7 @@ fi
 for suite in tests/exports.sh tests/python.sh tests/plot_render.sh tests/workflow_cli.sh \
   tests/robust_cli.sh tests/atomic_cli.sh tests/install_test.sh tests/practitioner_cli.sh \
   tests/cluster_cli.sh tests/slurm_test.sh tests/kp_cli.sh tests/minibands_cli.sh tests/gain_cli.sh \
-  tests/hole_absorption_cli.sh tests/hole_dos_cli.sh; do
+  tests/hole_absorption_cli.sh tests/hole_dos_cli.sh tests/threads_tsan.sh; do
   [ -f "$suite" ] || continue
   out=$(sh "$suite" "$build/epiwell" 2>&1); rc=$?
   printf '%s\n' "$out"
