@@ -543,6 +543,12 @@ static void *task_helper(void *arg) {
 /* Below this much work (tasks × nodes) a helper costs more than it saves: a task takes about
  * a factorization, ~1.5e3 instructions a node; a helper ~0.1 ms to start. */
 #define NP_SPLIT_MIN_WORK 2e5
+/* Above this many nodes the tasks stay on the band's thread: the helper's contexts, masses
+ * and workspace (~400 bytes a node, in an arena of its own that keeps them) would raise the
+ * peak memory; measured on the bench's Kane superlattice (10⁵ nodes): 8.8 s and 500 MiB with
+ * the helper, 9.8 s and 446 MiB without (1.42 and 1.27 times its eigenvectors; issue 16's
+ * target is 1.3). */
+#define NP_TASKS_MAX_NODES 50000
 
 /* The tasks after the fine fixed points (see task_queue): the coarse values of the first ncv
  * levels and, when vectors is set, the vectors of all nb levels (fine->values set), on this
@@ -568,7 +574,7 @@ static ew_status level_tasks(const task_ws *w, const ew_stack *st, const ew_grid
     atomic_init(&q.next, 0);
     ew_helper h = {0};
     if (vectors && (double)(q.ncv + nc) * (double)q.g->n >= NP_SPLIT_MIN_WORK &&
-        q.g->n <= EW_HELPER_WORKSPACE_MAX_NODES && ew_helper_count(2) > 0)
+        q.g->n <= NP_TASKS_MAX_NODES && ew_helper_count(2) > 0)
       ew_helper_start(&h, task_helper, &q);
     drain_tasks(&q, 0, w);
     ew_helper_join(&h);
