@@ -49,3 +49,66 @@ void ew_helper_join(ew_helper *h) {
   if (h->started) pthread_join(h->thread, NULL);
   h->started = 0;
 }
+
+int ew_assist_init(ew_assist *a, int open) {
+  a->fn = NULL, a->job = NULL, a->gen = 0, a->inside = 0, a->open = open;
+  if (pthread_mutex_init(&a->mu, NULL) != 0) return 0;
+  if (pthread_cond_init(&a->cv, NULL) != 0) {
+    pthread_mutex_destroy(&a->mu);
+    return 0;
+  }
+  return 1;
+}
+
+void ew_assist_destroy(ew_assist *a) {
+  pthread_cond_destroy(&a->cv);
+  pthread_mutex_destroy(&a->mu);
+}
+
+int ew_assist_offer(ew_assist *a, void *(*fn)(void *), void *job) {
+  if (!a) return 0;
+  pthread_mutex_lock(&a->mu);
+  int ok = a->fn == NULL;
+  if (ok) a->fn = fn, a->job = job, a->gen++;
+  pthread_cond_broadcast(&a->cv);
+  pthread_mutex_unlock(&a->mu);
+  return ok;
+}
+
+void ew_assist_withdraw(ew_assist *a) {
+  pthread_mutex_lock(&a->mu);
+  a->fn = NULL, a->job = NULL;
+  pthread_cond_broadcast(&a->cv);
+  while (a->inside > 0) pthread_cond_wait(&a->cv, &a->mu);
+  pthread_mutex_unlock(&a->mu);
+}
+
+void ew_assist_leave(ew_assist *a) {
+  pthread_mutex_lock(&a->mu);
+  a->open--;
+  pthread_cond_broadcast(&a->cv);
+  pthread_mutex_unlock(&a->mu);
+}
+
+void ew_assist_serve(ew_assist *a) {
+  pthread_mutex_lock(&a->mu);
+  a->open--;
+  pthread_cond_broadcast(&a->cv);
+  while (a->open > 0) {
+    if (!a->fn) {
+      pthread_cond_wait(&a->cv, &a->mu);
+      continue;
+    }
+    void *(*fn)(void *) = a->fn, *job = a->job;
+    unsigned long gen = a->gen;
+    a->inside++;
+    pthread_mutex_unlock(&a->mu);
+    fn(job);
+    pthread_mutex_lock(&a->mu);
+    a->inside--;
+    pthread_cond_broadcast(&a->cv);
+    /* this offer's queue is empty: wait for the next one (or the end) */
+    while (a->open > 0 && a->gen == gen) pthread_cond_wait(&a->cv, &a->mu);
+  }
+  pthread_mutex_unlock(&a->mu);
+}

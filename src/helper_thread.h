@@ -37,4 +37,35 @@ int ew_helper_start(ew_helper *h, void *(*fn)(void *), void *arg);
 /* Wait for a started helper (no-op for one that did not start). */
 void ew_helper_join(ew_helper *h);
 
+/* Work that a running computation offers to the threads of its pass that have run out of
+ * work of their own (the bands of a pass: the thread that finishes its bands first helps the
+ * last one instead of idling, on its own warm heap, with no extra thread).  A producer offers
+ * fn(job), keeps working on the same job itself and withdraws the offer when done, which
+ * waits until no thread is inside fn; fn must make its own workspace and take parts off a
+ * queue inside job until it is empty.  One offer at a time (a second offer while one stands
+ * is refused: the producer then works alone). */
+typedef struct {
+  pthread_mutex_t mu;
+  pthread_cond_t cv;
+  void *(*fn)(void *); /* the standing offer (NULL: none) */
+  void *job;
+  unsigned long gen;   /* offers made so far (a server waits for the next one) */
+  int inside;          /* threads inside fn */
+  int open;            /* threads that may still offer work */
+} ew_assist;
+
+/* A hub for `open` threads of work.  0 when the mutex or condition cannot be made. */
+int ew_assist_init(ew_assist *a, int open);
+void ew_assist_destroy(ew_assist *a);
+/* Offer fn(job); 1 offered, 0 refused (another offer stands; a NULL hub refuses). */
+int ew_assist_offer(ew_assist *a, void *(*fn)(void *), void *job);
+/* Withdraw the offer this producer made (only after ew_assist_offer returned 1) and wait
+ * until no thread is inside it. */
+void ew_assist_withdraw(ew_assist *a);
+/* One of the `open` threads will never serve (a helper that did not start). */
+void ew_assist_leave(ew_assist *a);
+/* This thread has no work of its own left: run the offers that come until every one of the
+ * `open` threads has said so. */
+void ew_assist_serve(ew_assist *a);
+
 #endif

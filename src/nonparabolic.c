@@ -72,9 +72,16 @@ typedef struct {
   double *md, *dmd;    /* [nd] scratch: the distinct masses at E and their slopes */
   int *dnp;            /* [nd] the distinct mass is a Kane mass */
   ew_pencil *pen;      /* the pencil the iterations refill at each energy (ctx_pencil) */
+  int borrowed;        /* the pieces are another context's (ctx_borrow): only md, dmd, pen own */
 } np_ctx;
 
 static void ctx_free(np_ctx *c) {
+  if (c->borrowed) {
+    free(c->md), free(c->dmd);
+    ew_pencil_free(c->pen);
+    memset(c, 0, sizeof *c);
+    return;
+  }
   free(c->cell), free(c->len), free(c->me), free(c->Ep), free(c->Eg), free(c->D), free(c->ec);
   free(c->mhp), free(c->mlp), free(c->np), free(c->same), free(c->kc);
   free(c->rid), free(c->md), free(c->dmd), free(c->dnp);
@@ -114,6 +121,25 @@ static void ctx_push(np_ctx *c, size_t cell, double len, const ew_bands *b, doub
                         : kane_consts_of(c->me[k], 0.0, 1.0, 0.0, 0.0);
   }
   c->rid[k] = c->nd - 1;
+}
+
+/* A context for another thread that reads the pieces of `from` (which it must not outlive,
+ * and which nobody changes meanwhile) with scratch and a pencil of its own.  0 when out of
+ * memory (c then holds nothing). */
+static int ctx_borrow(np_ctx *c, const np_ctx *from) {
+  /* the fields ctx_build sets and nothing changes after (not the owner's scratch or pencil,
+     which its thread writes meanwhile) */
+  memset(c, 0, sizeof *c);
+  c->g = from->g, c->n = from->n, c->cap = from->cap, c->cell = from->cell, c->len = from->len;
+  c->me = from->me, c->Ep = from->Ep, c->Eg = from->Eg, c->D = from->D, c->ec = from->ec;
+  c->mhp = from->mhp, c->mlp = from->mlp, c->np = from->np, c->same = from->same;
+  c->nd = from->nd, c->rid = from->rid, c->kc = from->kc, c->dnp = from->dnp;
+  c->borrowed = 1;
+  c->md = malloc((c->nd ? c->nd : 1) * sizeof *c->md);
+  c->dmd = malloc((c->nd ? c->nd : 1) * sizeof *c->dmd);
+  if (c->md && c->dmd) return 1;
+  ctx_free(c);
+  return 0;
 }
 
 static int ctx_build(np_ctx *c, const ew_stack *st, const ew_grid *g) {
@@ -489,6 +515,7 @@ typedef struct {
   const double *Efp;   /* [nb] the fine fixed points (the coarse ones start there; a single
                           level's task replaces its fine->values by its own pencil's value) */
   ew_eigenpairs *fine;
+  const np_ctx *cf, *cc; /* the caller's contexts, whose pieces a helper borrows */
   double *cv;          /* [nb] coarse values */
   atomic_size_t next;
   int *fc;             /* [ncv] the coarse fixed points' outcome (fixed_point's) */
@@ -531,7 +558,7 @@ static void *task_helper(void *arg) {
   memset(&cc, 0, sizeof cc);
   size_t nm = (q->g->n > (q->coarse ? q->coarse->n : 0) ? q->g->n : q->coarse->n) + 1;
   task_ws w = {&cf, &cc, malloc(nm * sizeof *w.M), ew_shift_lu_create(q->g->n)};
-  if (w.M && w.lu && ctx_build(&cf, q->st, q->g) && (!q->coarse || ctx_build(&cc, q->st, q->coarse)))
+  if (w.M && w.lu && ctx_borrow(&cf, q->cf) && (!q->coarse || ctx_borrow(&cc, q->cc)))
     drain_tasks(q, 1, &w);
   ctx_free(&cf); /* a helper that cannot work leaves its tasks to the caller */
   ctx_free(&cc);
@@ -543,25 +570,19 @@ static void *task_helper(void *arg) {
 /* Below this much work (tasks × nodes) a helper costs more than it saves: a task takes about
  * a factorization, ~1.5e3 instructions a node; a helper ~0.1 ms to start. */
 #define NP_SPLIT_MIN_WORK 2e5
-/* Above this many nodes the tasks stay on the band's thread: the helper's contexts, masses
- * and workspace (~400 bytes a node, in an arena of its own that keeps them) would raise the
- * peak memory; measured on the bench's Kane superlattice (10⁵ nodes): 8.8 s and 500 MiB with
- * the helper, 9.8 s and 446 MiB without (1.42 and 1.27 times its eigenvectors; issue 16's
- * target is 1.3). */
-#define NP_TASKS_MAX_NODES 50000
 
 /* The tasks after the fine fixed points (see task_queue): the coarse values of the first ncv
  * levels and, when vectors is set, the vectors of all nb levels (fine->values set), on this
  * thread and, when worth it, a helper; then orthogonalize_near in level order.  The first
  * coarse failure in level order is the error, then the first cluster's. */
-static ew_status level_tasks(const task_ws *w, const ew_stack *st, const ew_grid *coarse,
-                             size_t clo, size_t nb, size_t ncv, int vectors, const double *slope,
-                             ew_eigenpairs *fine, double *cv, size_t *work_counts,
-                             ew_error *err) {
+static ew_status level_tasks(const task_ws *w, ew_assist *assist, const ew_stack *st,
+                             const ew_grid *coarse, size_t clo, size_t nb, size_t ncv,
+                             int vectors, const double *slope, ew_eigenpairs *fine, double *cv,
+                             size_t *work_counts, ew_error *err) {
   size_t *j0 = malloc((nb + 1) * sizeof *j0), nc = 0, cap = nb ? nb : 1;
   double *Efp = malloc(cap * sizeof *Efp);
-  task_queue q = {st, w->cf->g, coarse, clo, nb, coarse ? ncv : 0, 0, j0, slope, Efp, fine, cv,
-                  0, malloc(cap * sizeof *q.fc), malloc(cap * sizeof *q.step),
+  task_queue q = {st, w->cf->g, coarse, clo, nb, coarse ? ncv : 0, 0, j0, slope, Efp, fine,
+                  w->cf, w->cc, cv, 0, malloc(cap * sizeof *q.fc), malloc(cap * sizeof *q.step),
                   malloc(cap * sizeof *q.rc), malloc(cap * sizeof *q.err), {{0}}};
   ew_status rc = EW_OK;
   if (!j0 || !Efp || !q.fc || !q.step || !q.rc || !q.err)
@@ -572,12 +593,11 @@ static ew_status level_tasks(const task_ws *w, const ew_stack *st, const ew_grid
   if (rc == EW_OK) {
     j0[nc] = nb, q.nc = nc;
     atomic_init(&q.next, 0);
-    ew_helper h = {0};
-    if (vectors && (double)(q.ncv + nc) * (double)q.g->n >= NP_SPLIT_MIN_WORK &&
-        q.g->n <= NP_TASKS_MAX_NODES && ew_helper_count(2) > 0)
-      ew_helper_start(&h, task_helper, &q);
+    /* offered to the pass's threads that ran out of bands (they serve on their own heaps) */
+    int offered = vectors && (double)(q.ncv + nc) * (double)q.g->n >= NP_SPLIT_MIN_WORK &&
+                  ew_assist_offer(assist, task_helper, &q);
     drain_tasks(&q, 0, w);
-    ew_helper_join(&h);
+    if (offered) ew_assist_withdraw(assist);
     fine->factorizations += q.work[0][0] + q.work[1][0];
     fine->solves += q.work[0][1] + q.work[1][1];
     *work_counts += q.work[0][2] + q.work[1][2];
@@ -616,6 +636,15 @@ ew_status ew_nonparabolic_levels_lu(const ew_stack *st, const ew_grid *g, const 
                                     double lo, double top, ew_shift_lu *given,
                                     ew_eigenpairs *fine, double **coarse_vals,
                                     size_t *work_counts, ew_error *err) {
+  return ew_nonparabolic_levels_assist(st, g, coarse, lo, top, given, NULL, fine, coarse_vals,
+                                       work_counts, err);
+}
+
+ew_status ew_nonparabolic_levels_assist(const ew_stack *st, const ew_grid *g,
+                                        const ew_grid *coarse, double lo, double top,
+                                        ew_shift_lu *given, ew_assist *assist,
+                                        ew_eigenpairs *fine, double **coarse_vals,
+                                        size_t *work_counts, ew_error *err) {
   memset(fine, 0, sizeof *fine);
   *coarse_vals = NULL;
   size_t nmax = (g->n > (coarse ? coarse->n : 0) ? g->n : coarse->n) + 1, dummy = 0;
@@ -659,8 +688,8 @@ ew_status ew_nonparabolic_levels_lu(const ew_stack *st, const ew_grid *g, const 
   task_ws w = {&cf, &cc, M, lu};
   /* a level that failed on the fine grid: the coarse values of the levels before it can
      still fail first (in level order); no vectors */
-  rc = frc == EW_OK || good > 0 ? level_tasks(&w, st, coarse, clo, nb, good, frc == EW_OK, slope,
-                                              fine, cv, work_counts, err)
+  rc = frc == EW_OK || good > 0 ? level_tasks(&w, assist, st, coarse, clo, nb, good,
+                                              frc == EW_OK, slope, fine, cv, work_counts, err)
                                 : EW_OK;
   free(slope);
   if (rc == EW_OK && frc != EW_OK) {

@@ -14,6 +14,7 @@
 #define EW_NONPARABOLIC_H
 
 #include "eigen.h"
+#include "helper_thread.h"
 
 /* 1 when some layer of st can be non-parabolic (Kane energy and gap known). */
 int ew_nonparabolic_applies(const ew_stack *st);
@@ -68,5 +69,12 @@ ew_status ew_nonparabolic_levels_lu(const ew_stack *st, const ew_grid *g, const 
                                     double lo, double top, ew_shift_lu *lu,
                                     ew_eigenpairs *fine, double **coarse_vals,
                                     size_t *work_counts, ew_error *err);
+/* The same, offering the levels' coarse fixed points and vectors to the idle threads of a
+ * pass through assist (helper_thread.h; NULL: all on this thread); the same bits. */
+ew_status ew_nonparabolic_levels_assist(const ew_stack *st, const ew_grid *g,
+                                        const ew_grid *coarse, double lo, double top,
+                                        ew_shift_lu *lu, ew_assist *assist, ew_eigenpairs *fine,
+                                        double **coarse_vals, size_t *work_counts,
+                                        ew_error *err);
 
 #endif

@@ -78,8 +78,8 @@ typedef struct {
 /* Solve one band on the fine grid (vectors) and, if asked, the coarse grid (values).  Reads r
  * (stack, grid), writes only its own outputs: bands may run concurrently. */
 static ew_status solve_band(const ew_result *r, const ew_grid *coarse, ew_band band, pass_lu *ws,
-                            ew_eigenpairs *fine, double **coarse_vals, size_t *n_coarse,
-                            band_work *bw, ew_error *err) {
+                            ew_assist *assist, ew_eigenpairs *fine, double **coarse_vals,
+                            size_t *n_coarse, band_work *bw, ew_error *err) {
   const ew_grid *g = r->grid;
   *coarse_vals = NULL;
   *n_coarse = 0;
@@ -94,8 +94,9 @@ static ew_status solve_band(const ew_result *r, const ew_grid *coarse, ew_band b
   }
   if (band == EW_BAND_E && ew_nonparabolic_applies(r->stack)) {
     ew_pencil_free(p);
-    ew_status rc = ew_nonparabolic_levels_lu(r->stack, g, coarse, lo, top, pass_lu_get(ws, g->n),
-                                             fine, coarse_vals, &bw->counts, err);
+    ew_status rc = ew_nonparabolic_levels_assist(r->stack, g, coarse, lo, top,
+                                                 pass_lu_get(ws, g->n), assist, fine,
+                                                 coarse_vals, &bw->counts, err);
     *n_coarse = rc == EW_OK && coarse ? fine->count : 0;
     bw->nonparabolic = rc == EW_OK;
     return rc;
@@ -121,6 +122,7 @@ typedef struct {
   ew_result *r;
   const ew_grid *coarse;
   band_pairs *bp;
+  ew_assist *assist; /* where a band offers its parts to the threads that ran out of bands */
   atomic_int next;
   band_work bw[EW_BAND_COUNT];
   ew_status rc[EW_BAND_COUNT];
@@ -130,8 +132,8 @@ typedef struct {
 /* Solve bands off the queue until it is empty, with the thread's own workspace ws. */
 static void drain(band_queue *q, pass_lu *ws) {
   for (int b; (b = atomic_fetch_add(&q->next, 1)) < EW_BAND_COUNT;)
-    q->rc[b] = solve_band(q->r, q->coarse, (ew_band)b, ws, &q->bp->fine[b], &q->bp->coarse[b],
-                          &q->bp->n_coarse[b], &q->bw[b], &q->err[b]);
+    q->rc[b] = solve_band(q->r, q->coarse, (ew_band)b, ws, q->assist, &q->bp->fine[b],
+                          &q->bp->coarse[b], &q->bp->n_coarse[b], &q->bw[b], &q->err[b]);
 }
 
 typedef struct {
@@ -142,7 +144,8 @@ typedef struct {
 static void *helper_main(void *arg) {
   band_helper *h = arg;
   drain(h->q, &h->ws);
-  ew_shift_lu_free(h->ws.own);
+  ew_shift_lu_free(h->ws.own); /* freed first: what the thread serves reuses its heap */
+  if (h->q->assist) ew_assist_serve(h->q->assist);
   return NULL;
 }
 
@@ -159,14 +162,18 @@ static ew_status solve_bands(ew_result *r, const ew_grid *coarse, ew_shift_lu *l
      any thread, as every factorization pivots as a fresh one would (superlu_adapter.c) */
   band_helper h[EW_BAND_COUNT];
   ew_helper th[EW_BAND_COUNT];
+  ew_assist as;
   int nh = r->grid->n <= EW_HELPER_WORKSPACE_MAX_NODES ? ew_helper_count(EW_BAND_COUNT) : 0;
+  if (nh > 0 && ew_assist_init(&as, nh + 1)) q.assist = &as;
   for (int k = 0; k < nh; k++) {
     h[k] = (band_helper){&q, {NULL, NULL}};
-    ew_helper_start(&th[k], helper_main, &h[k]);
+    if (!ew_helper_start(&th[k], helper_main, &h[k]) && q.assist) ew_assist_leave(q.assist);
   }
   pass_lu ws = {lu, NULL};
   drain(&q, &ws);
+  if (q.assist) ew_assist_serve(q.assist); /* help the bands still running */
   for (int k = 0; k < nh; k++) ew_helper_join(&th[k]);
+  if (q.assist) ew_assist_destroy(q.assist);
   ew_shift_lu_free(ws.own);
   ew_status out = EW_OK;
   for (int b = 0; b < EW_BAND_COUNT; b++) {

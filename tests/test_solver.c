@@ -258,13 +258,13 @@ static void lapack_single_and_double_wells(void **state) {
  * and the work counters bit for bit (the bands are independent; each factorization pivots as
  * a fresh one).  The demo detector well, whose electrons take the Kane fixed point, a
  * doped stack, whose passes reuse the self-consistent loop's factorization workspace, and a
- * wide Kane well whose levels' tasks are shared too. */
-static void same_pass(const char *path, const char *text) {
+ * wide Kane well whose levels' tasks are shared too (nonparabolic.c's NP_SPLIT_MIN_WORK,
+ * 2e5 tasks × nodes). */
+static void same_pass(const char *path) {
   ew_catalogue *cat;
   assert_int_equal(tu_load_catalogue(&cat), 0);
   ew_stack *st = NULL;
-  if (text) assert_int_equal(ew_stack_read_string(text, "wide", cat, &st, NULL), EW_OK);
-  else assert_int_equal(ew_stack_read_file(path, cat, &st, NULL), EW_OK);
+  assert_int_equal(ew_stack_read_file(path, cat, &st, NULL), EW_OK);
   ew_result *r[2] = {NULL, NULL};
   for (int k = 0; k < 2; k++) {
     omp_set_num_threads(k ? 3 : 1);
@@ -286,7 +286,7 @@ static void same_pass(const char *path, const char *text) {
   assert_int_equal(a->work_factorizations, b->work_factorizations);
   assert_int_equal(a->work_counts, b->work_counts);
   assert_int_equal(a->nonparabolic, b->nonparabolic);
-  if (text) /* the tasks' work passes nonparabolic.c's threshold, NP_SPLIT_MIN_WORK (2e5) */
+  if (ew_result_band_count(a, EW_BAND_HH) == 0) /* the wide well: its tasks' work passes */
     assert_true(2.0 * (double)ew_result_band_count(a, EW_BAND_E) * (double)a->grid->n >= 2e5);
   ew_result_free(r[0]);
   ew_result_free(r[1]);
@@ -296,14 +296,11 @@ static void same_pass(const char *path, const char *text) {
 
 static void bands_on_helpers(void **state) {
   (void)state;
-  same_pass("examples/detector_well.cfg", NULL);
-  same_pass("examples/doped_detector.cfg", NULL);
-  /* a wide Kane well of 10⁴ nodes: enough electron levels that their coarse fixed points and
-     vectors are shared with a helper too (nonparabolic.c, level_tasks) */
-  same_pass(NULL, "grid_step = 0.01;\nlayers = (\n"
-                  "  { name = \"lb\"; material = \"AlGaAs\"; x = 0.3; thickness = 20.0; },\n"
-                  "  { name = \"w\"; material = \"GaAs\"; thickness = 60.0; },\n"
-                  "  { name = \"ub\"; material = \"AlGaAs\"; x = 0.3; thickness = 20.0; }\n);\n");
+  same_pass("examples/detector_well.cfg");
+  same_pass("examples/doped_detector.cfg");
+  /* a wide Kane well of 10⁴ nodes without bound holes: the thread done with the hole bands
+     serves the electrons' coarse fixed points and vectors (nonparabolic.c, level_tasks) */
+  same_pass("tests/data/wide_kane_well.cfg");
   int inside = -1; /* inside an OpenMP region (a sweep's points) no helper is started */
   EW_OMP(omp parallel num_threads(1))
   inside = ew_helper_count(EW_BAND_COUNT);
