@@ -499,6 +499,9 @@ static ew_status orthogonalize_near(np_ctx *cf, size_t j0, size_t m, double *M,
   return EW_OK;
 }
 
+/* Threads on one queue of level tasks at most: its owner and the other threads of a pass. */
+#define NP_TASK_SLOTS 4
+
 /* What follows the fine fixed points, as one queue of tasks for the threads of level_tasks:
  * first each level's fixed point on the coarse grid (from the fine energy and slope), then the
  * vectors of each cluster of levels (first level j0[k], k < nc; j0[nc] = nb), whose vectors
@@ -522,7 +525,9 @@ typedef struct {
   double *step;        /* [ncv] their last steps */
   ew_status *rc;       /* [nc] */
   ew_error *err;       /* [nc] */
-  size_t work[2][3];   /* factorizations, solves and counts of each thread */
+  atomic_int servers;  /* threads that came to help so far (each takes its own work slot) */
+  size_t work[NP_TASK_SLOTS][3]; /* factorizations, solves and counts: the owner's (slot 0),
+                                    each helper's */
 } task_queue;
 
 /* The thread's contexts: the fine and (with a coarse grid) the coarse masses, the masses'
@@ -553,27 +558,31 @@ static void drain_tasks(task_queue *q, int slot, const task_ws *w) {
 
 static void *task_helper(void *arg) {
   task_queue *q = arg;
+  int slot = 1 + atomic_fetch_add(&q->servers, 1);
+  if (slot >= NP_TASK_SLOTS) return NULL; /* enough threads on this queue */
   np_ctx cf, cc;
   memset(&cf, 0, sizeof cf);
   memset(&cc, 0, sizeof cc);
   size_t nm = (q->g->n > (q->coarse ? q->coarse->n : 0) ? q->g->n : q->coarse->n) + 1;
   task_ws w = {&cf, &cc, malloc(nm * sizeof *w.M), ew_shift_lu_create(q->g->n)};
   if (w.M && w.lu && ctx_borrow(&cf, q->cf) && (!q->coarse || ctx_borrow(&cc, q->cc)))
-    drain_tasks(q, 1, &w);
-  ctx_free(&cf); /* a helper that cannot work leaves its tasks to the caller */
+    drain_tasks(q, slot, &w);
+  ctx_free(&cf); /* a thread that cannot work leaves its tasks to the others */
   ctx_free(&cc);
   ew_shift_lu_free(w.lu);
   free(w.M);
   return NULL;
 }
 
-/* Below this much work (tasks × nodes) a helper costs more than it saves: a task takes about
- * a factorization, ~1.5e3 instructions a node; a helper ~0.1 ms to start. */
+/* Below this much work (tasks × nodes) the tasks are not offered: a task takes about a
+ * factorization, ~1.5e3 instructions a node; a thread that comes to help first borrows the
+ * contexts and makes a workspace. */
 #define NP_SPLIT_MIN_WORK 2e5
 
 /* The tasks after the fine fixed points (see task_queue): the coarse values of the first ncv
  * levels and, when vectors is set, the vectors of all nb levels (fine->values set), on this
- * thread and, when worth it, a helper; then orthogonalize_near in level order.  The first
+ * thread and, when worth it, the pass's threads that have run out of bands (offered through
+ * assist); then orthogonalize_near in level order.  The first
  * coarse failure in level order is the error, then the first cluster's. */
 static ew_status level_tasks(const task_ws *w, ew_assist *assist, const ew_stack *st,
                              const ew_grid *coarse, size_t clo, size_t nb, size_t ncv,
@@ -583,7 +592,7 @@ static ew_status level_tasks(const task_ws *w, ew_assist *assist, const ew_stack
   double *Efp = malloc(cap * sizeof *Efp);
   task_queue q = {st, w->cf->g, coarse, clo, nb, coarse ? ncv : 0, 0, j0, slope, Efp, fine,
                   w->cf, w->cc, cv, 0, malloc(cap * sizeof *q.fc), malloc(cap * sizeof *q.step),
-                  malloc(cap * sizeof *q.rc), malloc(cap * sizeof *q.err), {{0}}};
+                  malloc(cap * sizeof *q.rc), malloc(cap * sizeof *q.err), 0, {{0}}};
   ew_status rc = EW_OK;
   if (!j0 || !Efp || !q.fc || !q.step || !q.rc || !q.err)
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
@@ -593,14 +602,17 @@ static ew_status level_tasks(const task_ws *w, ew_assist *assist, const ew_stack
   if (rc == EW_OK) {
     j0[nc] = nb, q.nc = nc;
     atomic_init(&q.next, 0);
+    atomic_init(&q.servers, 0);
     /* offered to the pass's threads that ran out of bands (they serve on their own heaps) */
     int offered = vectors && (double)(q.ncv + nc) * (double)q.g->n >= NP_SPLIT_MIN_WORK &&
                   ew_assist_offer(assist, task_helper, &q);
     drain_tasks(&q, 0, w);
     if (offered) ew_assist_withdraw(assist);
-    fine->factorizations += q.work[0][0] + q.work[1][0];
-    fine->solves += q.work[0][1] + q.work[1][1];
-    *work_counts += q.work[0][2] + q.work[1][2];
+    for (int t = 0; t < NP_TASK_SLOTS; t++) {
+      fine->factorizations += q.work[t][0];
+      fine->solves += q.work[t][1];
+      *work_counts += q.work[t][2];
+    }
   }
   for (size_t j = 0; rc == EW_OK && j < q.ncv; j++)
     if (q.fc[j] < 0)
@@ -622,6 +634,32 @@ static ew_status level_tasks(const task_ws *w, ew_assist *assist, const ew_stack
   free(q.step);
   free(q.rc);
   free(q.err);
+  return rc;
+}
+
+/* The nb levels from index clo: the fine fixed points one after another (each starts from
+ * the previous one's slope), then the tasks that depend only on them (level_tasks).  A level
+ * that fails on the fine grid: the coarse values of the levels before it can still fail
+ * first (in level order, as one level after another would); no vectors then. */
+static ew_status all_levels(const task_ws *w, ew_assist *assist, const ew_stack *st,
+                            const ew_grid *coarse, size_t clo, size_t nb, double lo, double top,
+                            ew_eigenpairs *fine, double *cv, size_t *work_counts,
+                            ew_error *err) {
+  size_t good = 0;
+  double *slope = malloc((nb ? nb : 1) * sizeof *slope);
+  if (!slope) return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
+  ew_error fine_err;
+  ew_status frc = fine_energies(w->cf, clo, nb, lo, top, w->M, fine->values, slope, &good,
+                                work_counts, &fine_err);
+  ew_status rc = frc == EW_OK || good > 0
+                     ? level_tasks(w, assist, st, coarse, clo, nb, good, frc == EW_OK, slope,
+                                   fine, cv, work_counts, err)
+                     : EW_OK;
+  free(slope);
+  if (rc == EW_OK && frc != EW_OK) {
+    rc = frc;
+    if (err) *err = fine_err;
+  }
   return rc;
 }
 
@@ -676,26 +714,8 @@ ew_status ew_nonparabolic_levels_assist(const ew_stack *st, const ew_grid *g,
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
     goto done;
   }
-  size_t good = 0;
-  double *slope = malloc((nb ? nb : 1) * sizeof *slope);
-  if (!slope) {
-    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (non-parabolic levels)");
-    goto done;
-  }
-  ew_error fine_err;
-  ew_status frc = fine_energies(&cf, clo, nb, lo, top, M, fine->values, slope, &good,
-                                work_counts, &fine_err);
   task_ws w = {&cf, &cc, M, lu};
-  /* a level that failed on the fine grid: the coarse values of the levels before it can
-     still fail first (in level order); no vectors */
-  rc = frc == EW_OK || good > 0 ? level_tasks(&w, assist, st, coarse, clo, nb, good,
-                                              frc == EW_OK, slope, fine, cv, work_counts, err)
-                                : EW_OK;
-  free(slope);
-  if (rc == EW_OK && frc != EW_OK) {
-    rc = frc;
-    if (err) *err = fine_err;
-  }
+  rc = all_levels(&w, assist, st, coarse, clo, nb, lo, top, fine, cv, work_counts, err);
 done:
   free(M);
   ew_shift_lu_free(own);

@@ -4,7 +4,8 @@
 # the exciton lines, the continuum's energies).  The library is built with -fsanitize=thread
 # into build/tsan (objects of its own), and tests/threads_drive.c solves and writes the demo
 # well, the doped detector, a wide Kane well (tests/data/wide_kane_well.cfg) and the
-# bound-to-continuum detector on two threads; a data race (TSan's report and exit code) fails.
+# bound-to-continuum detector on two threads (the wide well on three too); a data race (TSan's
+# report and exit code) fails.
 # Skipped where no ThreadSanitizer program can be built or started.  The OpenMP workflows
 # (sweeps) are not driven here: libgomp is not instrumented.  BINARY only names the suite's
 # caller.  Last line: "threads_tsan: N passed, M failed".
@@ -26,13 +27,15 @@ else
   nok "library and tests/threads_drive.c built with -fsanitize=thread" "$(tail -n 5 "$tmp/make")"
   finish threads_tsan
 fi
-for s in examples/detector_well.cfg examples/doped_detector.cfg tests/data/wide_kane_well.cfg \
-  examples/btc_detector.cfg; do
-  (cd "$root" && TSAN_OPTIONS="halt_on_error=1 exitcode=66" OMP_NUM_THREADS=2 \
+# threads: 2, and 3 for the wide well (two threads out of bands serve its tasks at once)
+for run in 2:examples/detector_well.cfg 2:examples/doped_detector.cfg \
+  2:tests/data/wide_kane_well.cfg 3:tests/data/wide_kane_well.cfg 2:examples/btc_detector.cfg; do
+  nt=${run%%:*} s=${run#*:}
+  (cd "$root" && TSAN_OPTIONS="halt_on_error=1 exitcode=66" OMP_NUM_THREADS=$nt \
     build/tsan/threads_drive "$s") >"$tmp/out" 2>"$tmp/err"
   rc=$?
   if [ "$rc" -eq 0 ] && ! grep -q "ThreadSanitizer" "$tmp/err"; then
-    ok "$s on helper threads: no data race ($(cat "$tmp/out"))"
-  else nok "$s on helper threads: no data race (exit $rc)" "$(head -n 12 "$tmp/err")"; fi
+    ok "$s on $nt threads: no data race ($(cat "$tmp/out"))"
+  else nok "$s on $nt threads: no data race (exit $rc)" "$(head -n 12 "$tmp/err")"; fi
 done
 finish threads_tsan
