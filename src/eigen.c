@@ -4,11 +4,13 @@
 
 #include <float.h>
 #include <math.h>
+#include <stdatomic.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "error.h"
+#include "helper_thread.h"
 #include "superlu_adapter.h"
 
 /* Eigenvalues closer than this have their vectors explicitly re-orthogonalized (measured:
@@ -465,9 +467,131 @@ static int localise_degenerate(const ew_pencil *p, ew_eigenpairs *out, double ga
 }
 
 /* The vectors of every slice, then the degenerate groups localised. */
+/* The inverse iterations of the single-eigenvalue slices of a window, offered to the idle
+ * threads of a pass (helper_thread.h, ew_assist): each slice's vector depends on nothing but
+ * its own factorization, so it is computed on any thread into its own column; what depends on
+ * the vectors before it (the B-orthogonalisation of close ones, and whole slices of several
+ * eigenvalues) follows on the owner's thread in slice order: the same bits as one slice after
+ * another. */
+#define EW_SINGLE_SLOTS 4 /* threads on one queue at most: the owner and the pass's others */
+typedef struct {
+  const ew_pencil *p;
+  const slice *sl;
+  const double *sigma;
+  const size_t *col;   /* [ns] first column of each slice */
+  size_t ns;
+  double tol;
+  ew_eigenpairs *out;
+  atomic_size_t next;
+  atomic_int servers;
+  double *theta, *res; /* [ns] Rayleigh quotient and relative residual of each single slice */
+  int *state;          /* [ns] 0 not done, 1 converged, 2 not converged, −1 failed */
+  ew_status *rc;       /* [ns] */
+  ew_error *err;       /* [ns] */
+  size_t factorizations[EW_SINGLE_SLOTS], solves[EW_SINGLE_SLOTS];
+} single_queue;
+
+/* Single slices off the queue until it is empty, with workspace lu; work counted in slot. */
+static void single_slices(single_queue *q, int slot, ew_shift_lu *lu) {
+  size_t n = q->p->n;
+  double *y = malloc(n * sizeof *y);
+  ew_eigenpairs tally = *q->out; /* the vectors to write; this thread's own counters */
+  tally.factorizations = tally.solves = 0;
+  for (size_t k; lu && y && (k = atomic_fetch_add(&q->next, 1)) < q->ns;) {
+    if (q->sl[k].cb - q->sl[k].ca != 1) continue;
+    double sigma = q->sigma[k], *x = q->out->vectors + q->col[k] * n;
+    if ((q->rc[k] = factor_near(lu, q->p, &sigma, q->tol, &tally, &q->err[k])) != EW_OK) {
+      q->state[k] = -1;
+      continue;
+    }
+    q->theta[k] = sigma, q->res[k] = INFINITY;
+    int conv = inverse_iteration(q->p, lu, &tally, q->col[k], q->col[k], x, y, &q->theta[k],
+                                 &q->res[k], &q->err[k]);
+    if (conv < 0) q->rc[k] = EW_ERR_NOMEM;
+    q->state[k] = conv < 0 ? -1 : conv ? 1 : 2;
+  }
+  q->factorizations[slot] = tally.factorizations, q->solves[slot] = tally.solves;
+  free(y);
+}
+
+/* A thread serving the queue (ew_assist_fn; scratch: its workspace slot, helper_thread.h). */
+static void serve_singles(void *arg, void *scratch) {
+  single_queue *q = arg;
+  int slot = 1 + atomic_fetch_add(&q->servers, 1);
+  if (slot >= EW_SINGLE_SLOTS) return;
+  ew_shift_lu **lu = scratch;
+  if (*lu && ew_shift_lu_size(*lu) != q->p->n) ew_shift_lu_free(*lu), *lu = NULL;
+  if (!*lu) *lu = ew_shift_lu_create(q->p->n);
+  single_slices(q, slot, *lu);
+}
+
+static void singles_free(single_queue *q) {
+  free((void *)q->col);
+  free(q->theta);
+  free(q->state);
+  free(q->rc);
+  free(q->err);
+}
+
+/* The single slices' vectors on this thread and the threads assist brings (columns, theta,
+ * res, state set; work counted into out).  0 when out of memory. */
+static int singles_shared(const ew_pencil *p, const slice *sl, size_t ns, const double *sigma,
+                          double tol, ew_shift_lu *lu, ew_assist *assist, ew_eigenpairs *out,
+                          single_queue *q) {
+  memset(q, 0, sizeof *q);
+  q->p = p, q->sl = sl, q->sigma = sigma, q->ns = ns, q->tol = tol, q->out = out;
+  size_t *col = malloc((ns ? ns : 1) * sizeof *col), cap = ns ? ns : 1;
+  q->col = col;
+  q->theta = malloc(2 * cap * sizeof *q->theta);
+  q->state = calloc(cap, sizeof *q->state);
+  q->rc = calloc(cap, sizeof *q->rc);
+  q->err = malloc(cap * sizeof *q->err);
+  if (!col || !q->theta || !q->state || !q->rc || !q->err) return 0;
+  q->res = q->theta + ns;
+  for (size_t k = 0, j = 0; k < ns; j += sl[k].cb - sl[k].ca, k++) col[k] = j;
+  atomic_init(&q->next, 0);
+  atomic_init(&q->servers, 0);
+  int offered = ew_assist_offer(assist, serve_singles, q);
+  single_slices(q, 0, lu);
+  if (offered) ew_assist_withdraw(assist, offered);
+  for (int t = 0; t < EW_SINGLE_SLOTS; t++) {
+    out->factorizations += q->factorizations[t];
+    out->solves += q->solves[t];
+  }
+  for (size_t k = 0; k < ns; k++) /* slices nobody could do (out of memory) */
+    if (sl[k].cb - sl[k].ca == 1 && q->state[k] == 0) return 0;
+  return 1;
+}
+
+/* Slice q's vectors after singles_shared: a single slice's check and B-orthogonalisation
+ * (as slice_vectors ends), or a slice of several eigenvalues whole (slice_vectors). */
+static ew_status finish_slice(const ew_pencil *p, ew_shift_lu *lu, slice *c, size_t q,
+                              const single_queue *sq, double tol, size_t clo, size_t j,
+                              double *x, double *y, ew_eigenpairs *out, ew_error *err) {
+  if (c->cb - c->ca != 1) return slice_vectors(p, lu, c, sq->sigma[q], tol, clo, j, x, y, out, err);
+  if (sq->state[q] < 0) {
+    if (err) *err = sq->err[q];
+    return sq->rc[q];
+  }
+  double theta = sq->theta[q], slack = 1e3 * tol + 1e-9 * fabs(theta);
+  if (sq->state[q] != 1 || theta < c->a - slack || theta > c->b + slack)
+    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                   "inverse iteration did not converge to eigenvalue %zu in [%.12g, %.12g] eV "
+                   "(reached %.12g eV, relative residual %.3g)",
+                   c->ca + 1 - clo, c->a, c->b, theta, sq->res[q]);
+  out->values[j] = orthogonalize_close(p, out, j, out->vectors + j * p->n, theta);
+  return EW_OK;
+}
+
+/* Below this many single slices, or this much work (slices × nodes), the slices are not
+ * offered: a thread that comes to help wakes, and its first factorization at this size
+ * sets up L and U. */
+#define EW_OFFER_MIN_SLICES 2
+#define EW_OFFER_MIN_WORK 2000.0
+
 static ew_status window_vectors(const ew_pencil *p, const tri *t, slice *sl, size_t ns,
-                                double tol, size_t clo, ew_shift_lu *given, ew_eigenpairs *out,
-                                ew_error *err) {
+                                double tol, size_t clo, ew_shift_lu *given, ew_assist *assist,
+                                ew_eigenpairs *out, ew_error *err) {
   size_t n = p->n, k = out->certified;
   if (k > 0 && n > SIZE_MAX / sizeof(double) / k)
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "too many eigenvectors (%zu of size %zu)", k, n);
@@ -480,11 +604,21 @@ static ew_status window_vectors(const ew_pencil *p, const tri *t, slice *sl, siz
   if (!lu || !out->vectors || !x || !y || !sigma)
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvectors of size %zu)", k, n);
   else refine_slices(t, sl, ns, NULL, fmax(tol, 1e-12), sigma, &out->counts);
+  size_t nsingle = 0;
+  for (size_t q = 0; q < ns; q++) nsingle += sl[q].cb - sl[q].ca == 1;
+  single_queue sq;
+  int shared = rc == EW_OK && assist && nsingle >= EW_OFFER_MIN_SLICES &&
+               (double)nsingle * (double)n >= EW_OFFER_MIN_WORK;
+  memset(&sq, 0, sizeof sq);
+  if (shared && !singles_shared(p, sl, ns, sigma, tol, lu, assist, out, &sq))
+    rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (%zu eigenvectors of size %zu)", k, n);
   size_t j = 0;
   for (size_t q = 0; rc == EW_OK && q < ns; q++) {
-    rc = slice_vectors(p, lu, &sl[q], sigma[q], tol, clo, j, x, y, out, err);
+    rc = shared ? finish_slice(p, lu, &sl[q], q, &sq, tol, clo, j, x, y, out, err)
+                : slice_vectors(p, lu, &sl[q], sigma[q], tol, clo, j, x, y, out, err);
     j += sl[q].cb - sl[q].ca;
   }
+  singles_free(&sq);
   out->count = rc == EW_OK ? j : 0;
   if (rc == EW_OK && !localise_degenerate(p, out, 64.0 * tol))
     rc = ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (degenerate eigenvectors)");
@@ -500,8 +634,21 @@ ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vec
   return ew_eigen_window_lu(p, lo, hi, want_vectors, NULL, out, err);
 }
 
+static ew_status window(const ew_pencil *p, double lo, double hi, int want_vectors,
+                        ew_shift_lu *lu, ew_assist *assist, ew_eigenpairs *out, ew_error *err);
+
 ew_status ew_eigen_window_lu(const ew_pencil *p, double lo, double hi, int want_vectors,
                              ew_shift_lu *lu, ew_eigenpairs *out, ew_error *err) {
+  return window(p, lo, hi, want_vectors, lu, NULL, out, err);
+}
+
+ew_status ew_eigen_window_assist(const ew_pencil *p, double lo, double hi, ew_shift_lu *lu,
+                                 ew_assist *assist, ew_eigenpairs *out, ew_error *err) {
+  return window(p, lo, hi, 1, lu, assist, out, err);
+}
+
+static ew_status window(const ew_pencil *p, double lo, double hi, int want_vectors,
+                        ew_shift_lu *lu, ew_assist *assist, ew_eigenpairs *out, ew_error *err) {
   memset(out, 0, sizeof *out);
   out->n = p->n;
   if (p->n < 2 || !(lo < hi))
@@ -522,7 +669,7 @@ ew_status ew_eigen_window_lu(const ew_pencil *p, double lo, double hi, int want_
   else if (!want_vectors)
     window_values(&t, sl, ns, tol, out);
   else
-    rc = window_vectors(p, &t, sl, ns, tol, clo, lu, out, err);
+    rc = window_vectors(p, &t, sl, ns, tol, clo, lu, assist, out, err);
   free(sl);
   tri_free(&t);
   if (rc != EW_OK) ew_eigenpairs_free(out);

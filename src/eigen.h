@@ -28,6 +28,7 @@
 #define EW_EIGEN_H
 
 #include "hamiltonian.h"
+#include "helper_thread.h"
 #include "superlu_adapter.h" /* ew_sparse_tridiag_solve, for the callers of eigen.h */
 
 typedef struct {
@@ -54,6 +55,11 @@ ew_status ew_eigen_window(const ew_pencil *p, double lo, double hi, int want_vec
  * storage); lu == NULL or of another size: a workspace of its own, as ew_eigen_window. */
 ew_status ew_eigen_window_lu(const ew_pencil *p, double lo, double hi, int want_vectors,
                              ew_shift_lu *lu, ew_eigenpairs *out, ew_error *err);
+/* The same with vectors, the single eigenvalues' inverse iterations offered to the idle
+ * threads of a pass through assist (helper_thread.h; NULL: all on this thread); the same
+ * bits. */
+ew_status ew_eigen_window_assist(const ew_pencil *p, double lo, double hi, ew_shift_lu *lu,
+                                 ew_assist *assist, ew_eigenpairs *out, ew_error *err);
 void ew_eigenpairs_free(ew_eigenpairs *e);
 
 /* The k lowest eigenvalues of p above lo, from approximate vectors guess[j·n …] (see

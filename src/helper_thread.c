@@ -5,6 +5,7 @@
 #include "helper_thread.h"
 
 #include <sched.h>
+#include <string.h>
 
 #ifdef _OPENMP
 #include <omp.h>
@@ -51,7 +52,8 @@ void ew_helper_join(ew_helper *h) {
 }
 
 int ew_assist_init(ew_assist *a, int open) {
-  a->fn = NULL, a->job = NULL, a->gen = 0, a->inside = 0, a->open = open;
+  memset(a->offer, 0, sizeof a->offer);
+  a->open = open;
   if (pthread_mutex_init(&a->mu, NULL) != 0) return 0;
   if (pthread_cond_init(&a->cv, NULL) != 0) {
     pthread_mutex_destroy(&a->mu);
@@ -65,21 +67,26 @@ void ew_assist_destroy(ew_assist *a) {
   pthread_mutex_destroy(&a->mu);
 }
 
-int ew_assist_offer(ew_assist *a, void *(*fn)(void *), void *job) {
+int ew_assist_offer(ew_assist *a, ew_assist_fn fn, void *job) {
   if (!a) return 0;
   pthread_mutex_lock(&a->mu);
-  int ok = a->fn == NULL;
-  if (ok) a->fn = fn, a->job = job, a->gen++;
+  int handle = 0;
+  for (int i = 0; i < EW_ASSIST_OFFERS && !handle; i++)
+    if (!a->offer[i].fn && !a->offer[i].inside) {
+      a->offer[i].fn = fn, a->offer[i].job = job, a->offer[i].drained = 0;
+      handle = i + 1;
+    }
   pthread_cond_broadcast(&a->cv);
   pthread_mutex_unlock(&a->mu);
-  return ok;
+  return handle;
 }
 
-void ew_assist_withdraw(ew_assist *a) {
+void ew_assist_withdraw(ew_assist *a, int handle) {
+  int i = handle - 1;
   pthread_mutex_lock(&a->mu);
-  a->fn = NULL, a->job = NULL;
-  pthread_cond_broadcast(&a->cv);
-  while (a->inside > 0) pthread_cond_wait(&a->cv, &a->mu);
+  a->offer[i].fn = NULL; /* nobody enters any more */
+  while (a->offer[i].inside > 0) pthread_cond_wait(&a->cv, &a->mu);
+  a->offer[i].job = NULL;
   pthread_mutex_unlock(&a->mu);
 }
 
@@ -90,25 +97,32 @@ void ew_assist_leave(ew_assist *a) {
   pthread_mutex_unlock(&a->mu);
 }
 
-void ew_assist_serve(ew_assist *a) {
+/* A standing offer that no thread has come back from yet; −1 when none. */
+static int open_offer(const ew_assist *a) {
+  for (int i = 0; i < EW_ASSIST_OFFERS; i++)
+    if (a->offer[i].fn && !a->offer[i].drained) return i;
+  return -1;
+}
+
+void ew_assist_serve(ew_assist *a, void *scratch) {
   pthread_mutex_lock(&a->mu);
   a->open--;
   pthread_cond_broadcast(&a->cv);
   while (a->open > 0) {
-    if (!a->fn) {
+    int i = open_offer(a);
+    if (i < 0) {
       pthread_cond_wait(&a->cv, &a->mu);
       continue;
     }
-    void *(*fn)(void *) = a->fn, *job = a->job;
-    unsigned long gen = a->gen;
-    a->inside++;
+    ew_assist_fn fn = a->offer[i].fn;
+    void *job = a->offer[i].job;
+    a->offer[i].inside++;
     pthread_mutex_unlock(&a->mu);
-    fn(job);
+    fn(job, scratch);
     pthread_mutex_lock(&a->mu);
-    a->inside--;
+    a->offer[i].inside--;
+    a->offer[i].drained = 1; /* its queue is empty: wait for another offer (or the end) */
     pthread_cond_broadcast(&a->cv);
-    /* this offer's queue is empty: wait for the next one (or the end) */
-    while (a->open > 0 && a->gen == gen) pthread_cond_wait(&a->cv, &a->mu);
   }
   pthread_mutex_unlock(&a->mu);
 }

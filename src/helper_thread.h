@@ -39,33 +39,39 @@ void ew_helper_join(ew_helper *h);
 
 /* Work that a running computation offers to the threads of its pass that have run out of
  * work of their own (the bands of a pass: the thread that finishes its bands first helps the
- * last one instead of idling, on its own warm heap, with no extra thread).  A producer offers
- * fn(job), keeps working on the same job itself and withdraws the offer when done, which
- * waits until no thread is inside fn; fn must make its own workspace and take parts off a
- * queue inside job until it is empty.  One offer at a time (a second offer while one stands
- * is refused: the producer then works alone). */
+ * others instead of idling, on its own warm heap, with no extra thread).  A producer offers
+ * fn(job, scratch), keeps working on the same job itself and withdraws the offer when done,
+ * which waits until no thread is inside fn; fn takes parts off a queue inside job until it is
+ * empty (a thread that returns from fn does not enter the same offer again).  scratch is the
+ * serving thread's own: a slot for its factorization workspace (ew_shift_lu **, possibly
+ * holding one of another size: fn replaces it), which the thread frees when it stops
+ * serving.  Up to EW_ASSIST_OFFERS offers stand at once (each band of a pass may make one). */
+typedef void (*ew_assist_fn)(void *job, void *scratch);
+#define EW_ASSIST_OFFERS 4
 typedef struct {
   pthread_mutex_t mu;
   pthread_cond_t cv;
-  void *(*fn)(void *); /* the standing offer (NULL: none) */
-  void *job;
-  unsigned long gen;   /* offers made so far (a server waits for the next one) */
-  int inside;          /* threads inside fn */
-  int open;            /* threads that may still offer work */
+  struct {
+    ew_assist_fn fn; /* NULL: a free place */
+    void *job;
+    int inside;      /* threads inside fn */
+    int drained;     /* a thread came back from fn: its queue is empty */
+  } offer[EW_ASSIST_OFFERS];
+  int open;          /* threads that may still offer work */
 } ew_assist;
 
 /* A hub for `open` threads of work.  0 when the mutex or condition cannot be made. */
 int ew_assist_init(ew_assist *a, int open);
 void ew_assist_destroy(ew_assist *a);
-/* Offer fn(job); 1 offered, 0 refused (another offer stands; a NULL hub refuses). */
-int ew_assist_offer(ew_assist *a, void *(*fn)(void *), void *job);
-/* Withdraw the offer this producer made (only after ew_assist_offer returned 1) and wait
- * until no thread is inside it. */
-void ew_assist_withdraw(ew_assist *a);
+/* Offer fn(job, …): a handle > 0 for ew_assist_withdraw, or 0 when refused (a NULL hub, or
+ * every place taken: the producer then works alone). */
+int ew_assist_offer(ew_assist *a, ew_assist_fn fn, void *job);
+/* Withdraw offer `handle` (> 0) and wait until no thread is inside it. */
+void ew_assist_withdraw(ew_assist *a, int handle);
 /* One of the `open` threads will never serve (a helper that did not start). */
 void ew_assist_leave(ew_assist *a);
-/* This thread has no work of its own left: run the offers that come until every one of the
- * `open` threads has said so. */
-void ew_assist_serve(ew_assist *a);
+/* This thread has no work of its own left: run the offers that come, with its scratch, until
+ * every one of the `open` threads has said so. */
+void ew_assist_serve(ew_assist *a, void *scratch);
 
 #endif

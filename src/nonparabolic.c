@@ -556,22 +556,24 @@ static void drain_tasks(task_queue *q, int slot, const task_ws *w) {
   }
 }
 
-static void *task_helper(void *arg) {
+/* A thread serving the queue (ew_assist_fn; scratch: its workspace slot, helper_thread.h). */
+static void serve_tasks(void *arg, void *scratch) {
   task_queue *q = arg;
   int slot = 1 + atomic_fetch_add(&q->servers, 1);
-  if (slot >= NP_TASK_SLOTS) return NULL; /* enough threads on this queue */
+  if (slot >= NP_TASK_SLOTS) return; /* enough threads on this queue */
+  ew_shift_lu **lu = scratch;
+  if (*lu && ew_shift_lu_size(*lu) != q->g->n) ew_shift_lu_free(*lu), *lu = NULL;
+  if (!*lu) *lu = ew_shift_lu_create(q->g->n);
   np_ctx cf, cc;
   memset(&cf, 0, sizeof cf);
   memset(&cc, 0, sizeof cc);
   size_t nm = (q->g->n > (q->coarse ? q->coarse->n : 0) ? q->g->n : q->coarse->n) + 1;
-  task_ws w = {&cf, &cc, malloc(nm * sizeof *w.M), ew_shift_lu_create(q->g->n)};
+  task_ws w = {&cf, &cc, malloc(nm * sizeof *w.M), *lu};
   if (w.M && w.lu && ctx_borrow(&cf, q->cf) && (!q->coarse || ctx_borrow(&cc, q->cc)))
     drain_tasks(q, slot, &w);
   ctx_free(&cf); /* a thread that cannot work leaves its tasks to the others */
   ctx_free(&cc);
-  ew_shift_lu_free(w.lu);
   free(w.M);
-  return NULL;
 }
 
 /* Below this much work (tasks × nodes) the tasks are not offered: a task takes about a
@@ -604,10 +606,11 @@ static ew_status level_tasks(const task_ws *w, ew_assist *assist, const ew_stack
     atomic_init(&q.next, 0);
     atomic_init(&q.servers, 0);
     /* offered to the pass's threads that ran out of bands (they serve on their own heaps) */
-    int offered = vectors && (double)(q.ncv + nc) * (double)q.g->n >= NP_SPLIT_MIN_WORK &&
-                  ew_assist_offer(assist, task_helper, &q);
+    int offered = vectors && (double)(q.ncv + nc) * (double)q.g->n >= NP_SPLIT_MIN_WORK
+                      ? ew_assist_offer(assist, serve_tasks, &q)
+                      : 0;
     drain_tasks(&q, 0, w);
-    if (offered) ew_assist_withdraw(assist);
+    if (offered) ew_assist_withdraw(assist, offered);
     for (int t = 0; t < NP_TASK_SLOTS; t++) {
       fine->factorizations += q.work[t][0];
       fine->solves += q.work[t][1];

@@ -108,7 +108,7 @@ static ew_status solve_band(const ew_result *r, const ew_grid *coarse, ew_band b
     return ew_fail(err, EW_ERR_NOMEM, NULL, 0, "out of memory (factorization workspace, n = %zu)",
                    g->n);
   }
-  ew_status rc = ew_eigen_window_lu(p, lo, top, 1, lu, fine, err);
+  ew_status rc = ew_eigen_window_assist(p, lo, top, lu, assist, fine, err);
   ew_pencil_free(p);
   bw->factorizations += fine->factorizations;
   bw->solves += fine->solves;
@@ -144,8 +144,9 @@ typedef struct {
 static void *helper_main(void *arg) {
   band_helper *h = arg;
   drain(h->q, &h->ws);
-  ew_shift_lu_free(h->ws.own); /* freed first: what the thread serves reuses its heap */
-  if (h->q->assist) ew_assist_serve(h->q->assist);
+  /* then help the bands still running, with this thread's factorization workspace */
+  if (h->q->assist) ew_assist_serve(h->q->assist, &h->ws.own);
+  ew_shift_lu_free(h->ws.own);
   return NULL;
 }
 
@@ -171,7 +172,7 @@ static ew_status solve_bands(ew_result *r, const ew_grid *coarse, ew_shift_lu *l
   }
   pass_lu ws = {lu, NULL};
   drain(&q, &ws);
-  if (q.assist) ew_assist_serve(q.assist); /* help the bands still running */
+  if (q.assist) ew_assist_serve(q.assist, &ws.own); /* help the bands still running */
   for (int k = 0; k < nh; k++) ew_helper_join(&th[k]);
   if (q.assist) ew_assist_destroy(q.assist);
   ew_shift_lu_free(ws.own);
