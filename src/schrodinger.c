@@ -3,8 +3,8 @@
 #include "schrodinger.h"
 
 #include <math.h>
-#include <stdlib.h>
 #include <stdatomic.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "bound.h"

@@ -22,17 +22,17 @@
  * tests/same_outputs.sh 5dbb810 builds) times that program on the same end-to-end runs in the
  * same bench run and prints the ratios.
  * The machine is shared: compare the ratios printed in one run, not absolute times. */
+#include <fcntl.h>
 #include <lapacke.h>
 #ifdef __GLIBC__
 #include <malloc.h>
 #endif
 #include <math.h>
 #include <omp.h>
+#include <spawn.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <spawn.h>
-#include <fcntl.h>
 #include <sys/resource.h>
 #include <sys/wait.h>
 #include <time.h>
