@@ -341,6 +341,18 @@ static double orthogonalize_close(const ew_pencil *p, const ew_eigenpairs *out, 
   return hquad(p, x);
 }
 
+/* Accept eigenvector m of slice c (Rayleigh quotient theta, relative residual res, conv as
+ * inverse_iteration returned it): EW_OK, or EW_ERR_NUMERIC saying how close it got. */
+static ew_status accept_vector(const slice *c, size_t m, int conv, double theta, double res,
+                               double tol, size_t clo, ew_error *err) {
+  double slack = 1e3 * tol + 1e-9 * fabs(theta);
+  if (conv && theta >= c->a - slack && theta <= c->b + slack) return EW_OK;
+  return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
+                 "inverse iteration did not converge to eigenvalue %zu in [%.12g, %.12g] eV "
+                 "(reached %.12g eV, relative residual %.3g)",
+                 c->ca + m + 1 - clo, c->a, c->b, theta, res);
+}
+
 /* The mult eigenvectors of slice c (values in out->values[j…]) from one factorization. */
 static ew_status slice_vectors(const ew_pencil *p, ew_shift_lu *lu, slice *c, double refined,
                                double tol, size_t clo, size_t j, double *x, double *y,
@@ -356,12 +368,7 @@ static ew_status slice_vectors(const ew_pencil *p, ew_shift_lu *lu, slice *c, do
     double theta = sigma, res = INFINITY;
     int conv = inverse_iteration(p, lu, out, j - m, j, x, y, &theta, &res, err);
     if (conv < 0) return EW_ERR_NOMEM;
-    double slack = 1e3 * tol + 1e-9 * fabs(theta);
-    if (!conv || theta < c->a - slack || theta > c->b + slack)
-      return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
-                     "inverse iteration did not converge to eigenvalue %zu in [%.12g, %.12g] eV "
-                     "(reached %.12g eV, relative residual %.3g)",
-                     c->ca + m + 1 - clo, c->a, c->b, theta, res);
+    if ((rc = accept_vector(c, m, conv, theta, res, tol, clo, err)) != EW_OK) return rc;
     theta = orthogonalize_close(p, out, j, x, theta);
     memcpy(out->vectors + j * n, x, n * sizeof *x);
     out->values[j] = theta;
@@ -573,14 +580,10 @@ static ew_status finish_slice(const ew_pencil *p, ew_shift_lu *lu, slice *c, siz
     if (err) *err = sq->err[q];
     return sq->rc[q];
   }
-  double theta = sq->theta[q], slack = 1e3 * tol + 1e-9 * fabs(theta);
-  if (sq->state[q] != 1 || theta < c->a - slack || theta > c->b + slack)
-    return ew_fail(err, EW_ERR_NUMERIC, NULL, 0,
-                   "inverse iteration did not converge to eigenvalue %zu in [%.12g, %.12g] eV "
-                   "(reached %.12g eV, relative residual %.3g)",
-                   c->ca + 1 - clo, c->a, c->b, theta, sq->res[q]);
-  out->values[j] = orthogonalize_close(p, out, j, out->vectors + j * p->n, theta);
-  return EW_OK;
+  double theta = sq->theta[q];
+  ew_status rc = accept_vector(c, 0, sq->state[q] == 1, theta, sq->res[q], tol, clo, err);
+  if (rc == EW_OK) out->values[j] = orthogonalize_close(p, out, j, out->vectors + j * p->n, theta);
+  return rc;
 }
 
 /* Below this many single slices, or this much work (slices × nodes), the slices are not
