@@ -17,12 +17,12 @@
 #include "error.h"
 #include "nonparabolic.h"
 
-/* sign convention: the largest lobe positive, so pictures and overlaps repeat */
-static void fix_sign(double *psi, size_t n) {
-  size_t imax = 0;
-  for (size_t i = 1; i < n; i++)
-    if (fabs(psi[i]) > fabs(psi[imax])) imax = i;
-  if (psi[imax] < 0)
+void ew_fix_sign(double *psi, size_t n) {
+  double big = 0.0;
+  for (size_t i = 0; i < n; i++) big = fmax(big, fabs(psi[i]));
+  size_t first = 0;
+  while (first < n && fabs(psi[first]) < (1.0 - EW_SIGN_TIE_REL) * big) first++;
+  if (first < n && psi[first] < 0)
     for (size_t i = 0; i < n; i++) psi[i] = -psi[i];
 }
 
@@ -131,7 +131,7 @@ static void band_states(ew_result *r, ew_band b, const ew_pencil *p, const ew_ei
     ew_state *q = &r->states[*s];
     kept++;
     double *psi = r->psi + (*s)++ * n;
-    fix_sign(psi, n);
+    ew_fix_sign(psi, n);
     double e = fine->values[j];
     q->residual = fine->residual ? fine->residual[j] : ew_pencil_residual(p, psi, e);
     q->flagged = !(q->residual <= r->opt.residual_tol);

@@ -18,6 +18,14 @@
  * while each band's block is shrunk and freed behind the copy (peak memory: about one set
  * of vectors, not two); every fine[b].vectors moved is NULL on return (the caller still
  * frees the rest of fine[] as before). */
+/* The sign convention: psi's largest lobe positive, so that pictures and overlaps repeat.
+ * Lobes within EW_SIGN_TIE_REL of the largest count as equal and the first of them (nearest
+ * the first node) decides: an odd state of a symmetric well has two lobes equal to rounding,
+ * and the larger of the two would be a coin toss (a change of 1e-13 eV in the eigenvalue
+ * flipped a picture's e2). */
+#define EW_SIGN_TIE_REL 1e-6
+void ew_fix_sign(double *psi, size_t n);
+
 ew_status ew_states_build(ew_result *r, ew_eigenpairs fine[EW_BAND_COUNT],
                           double *const coarse[EW_BAND_COUNT],
                           const size_t n_coarse[EW_BAND_COUNT], ew_error *err);

@@ -13,6 +13,7 @@
 #include "observables.h"
 #include "schrodinger.h"
 #include "solve.h"
+#include "states.h"
 
 static const double K = EW_HB2M0_EVNM2;
 
@@ -546,6 +547,26 @@ static void states_and_parity(void **state) {
 }
 
 
+/* The sign convention (states.h): the largest lobe positive; lobes equal to within 1e-6 (the
+ * two lobes of an odd state of a symmetric well, equal to rounding) leave the choice to the
+ * first, whichever of them is larger by noise (common practice: a sign fixed by a rule that
+ * rounding cannot flip). */
+static void sign_of_tied_lobes(void **state) {
+  (void)state;
+  double odd[5] = {0.5, 1.0, 0.0, -1.0 - 1e-12, -0.5}; /* right lobe larger by rounding only */
+  ew_fix_sign(odd, 5);
+  assert_true(odd[1] == 1.0 && odd[3] == -1.0 - 1e-12);
+  double flip[5] = {-0.5, -1.0, 0.0, 1.0 + 1e-12, 0.5};
+  ew_fix_sign(flip, 5);
+  assert_true(flip[1] == 1.0 && flip[3] == -1.0 - 1e-12);
+  double later[4] = {0.5, -0.9, 0.0, 1.0}; /* a clearly larger later lobe decides */
+  ew_fix_sign(later, 4);
+  assert_true(later[3] == 1.0 && later[1] == -0.9);
+  double neg[4] = {0.2, -1.0, 0.0, 0.999}; /* 1e-3 apart: not a tie */
+  ew_fix_sign(neg, 4);
+  assert_true(neg[1] == 1.0 && neg[3] == -0.999);
+}
+
 /* A NaN or negative grid step through the API is refused (EW_ERR_USAGE), not replaced by
  * the default; the error names the step (analytic: nothing to compare, a contract). */
 static void bad_grid_step_refused(void **state) {
@@ -579,6 +600,7 @@ int main(void) {
       cmocka_unit_test(coarse_values_from_fine),
       cmocka_unit_test(trk_sum_rule),
       cmocka_unit_test(states_and_parity),
+      cmocka_unit_test(sign_of_tied_lobes),
       cmocka_unit_test(bad_grid_step_refused),
   };
   return cmocka_run_group_tests_name("solver", tests, NULL, NULL);
