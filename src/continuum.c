@@ -163,7 +163,13 @@ static void kane_masses_in(ew_continuum *c, int s, double E) {
   if (Ek == c->slot_at[s]) return;
   double *M = c->slot_M[s], *kv = c->slot_kinv[s];
   ew_kane_cells_eval(c->kane, Ek, M);
-  for (size_t i = 0; i <= c->g->n; i++) kv[i] = EW_HB2M0_EVNM2 / M[i];
+  /* the cells of a layer share one mass integral: a quotient repeats bit for bit, and the
+     divisions (most of this function's time) are done once a run of equal cells */
+  double last_M = NAN, last_kv = NAN;
+  for (size_t i = 0; i <= c->g->n; i++) {
+    if (M[i] != last_M) last_M = M[i], last_kv = EW_HB2M0_EVNM2 / M[i];
+    kv[i] = last_kv;
+  }
   c->slot_at[s] = Ek;
 }
 

@@ -47,17 +47,29 @@ void ew_pencil_refill_mass(ew_pencil *p, const ew_grid *g, ew_band band, const d
      off-diagonal's square root once) — this runs for every level of every Kane iteration */
   double vmin = INFINITY, vmax = -INFINITY, emax = 0.0, norm = 0.0, s_prev = 0.0;
   double inv_prev = 1.0 / M[0];
+  const double *w = g->w;
   for (size_t i = 0; i < n; i++) {
-    double inv_next = 1.0 / M[i + 1];
-    p->diag[i] = K * (inv_prev + inv_next) + g->w[i] * V[i];
-    p->b[i] = g->w[i];
     if (V[i] < vmin) vmin = V[i];
     if (V[i] > vmax) vmax = V[i];
+    /* inside a layer (node i's masses, weights and potential those of node i − 1, shifted by
+       one) every number of the row repeats bit for bit: copied, not divided again (the
+       divisions and the root are most of this loop's time) */
+    if (i > 0 && i + 1 < n && M[i + 1] == M[i] && M[i] == M[i - 1] && w[i + 1] == w[i] &&
+        w[i] == w[i - 1] && V[i] == V[i - 1]) {
+      p->diag[i] = p->diag[i - 1], p->b[i] = p->b[i - 1], p->std_d[i] = p->std_d[i - 1];
+      p->off[i] = p->off[i - 1], p->std_e2[i] = p->std_e2[i - 1];
+      double r = fabs(p->std_d[i]) + s_prev + s_prev; /* s_next = s_prev */
+      if (r > norm) norm = r;
+      continue; /* inv_prev stays 1/M[i + 1] */
+    }
+    double inv_next = 1.0 / M[i + 1];
+    p->diag[i] = K * (inv_prev + inv_next) + w[i] * V[i];
+    p->b[i] = w[i];
     p->std_d[i] = p->diag[i] / p->b[i];
     double r = fabs(p->std_d[i]) + s_prev, s_next = 0.0;
     if (i + 1 < n) {
       p->off[i] = -K / M[i + 1];
-      p->std_e2[i] = p->off[i] * p->off[i] / (p->b[i] * g->w[i + 1]);
+      p->std_e2[i] = p->off[i] * p->off[i] / (p->b[i] * w[i + 1]);
       if (p->std_e2[i] > emax) emax = p->std_e2[i];
       s_next = sqrt(p->std_e2[i]);
       r += s_next;
