@@ -190,7 +190,8 @@ typedef struct ew_result ew_result;
 /* stack and out may not be NULL (EW_ERR_USAGE, *out = NULL); opt may be NULL (the defaults of
  * ew_options_default); err may be NULL.  On failure *out is NULL.
  * Threads: the call may run parts on up to two helper threads of its own, started and joined
- * inside it (the bands, the exciton lines; ew_catalogue_load its files, the JSON writer the
+ * inside it (the bands, the states' and lines' numbers on large grids, the exciton lines;
+ * ew_catalogue_load its files, the JSON writer the
  * continuum's energies), as many as omp_get_max_threads() allows and none inside an OpenMP
  * parallel region; the result is the same bits on any number (README "The library"). */
 EW_API ew_status ew_solve(const ew_stack *stack, const ew_options *opt, ew_result **out,

@@ -327,9 +327,9 @@ static ew_pencil *ctx_pencil(np_ctx *c, double E, double *M) {
 }
 
 /* g(E) = λ_idx(H(E)) − E, the eigenvalue found by Newton from guess; *ok becomes 0 when it is
- * not found, −1 when out of memory; *tol (when not NULL) receives the step below which the fixed point
- * counts as reached: NP_TOL_EV, or the eigenvalue's own resolution 16 ε ‖T‖ (eigen.c) when that
- * is larger.  Near the node limit (h ≈ 2e-4 nm, ‖T‖ ≈ 4K/(m h²) ≈ 1e8 eV) λ is only known to
+ * not found, −1 when out of memory; *tol (when not NULL) receives the step below which the
+ * fixed point counts as reached: NP_TOL_EV, or the eigenvalue's own resolution 16 ε ‖T‖
+ * (eigen.c) when that is larger.  Near the node limit (h ≈ 2e-4 nm, ‖T‖ ≈ 4K/(m h²) ≈ 1e8 eV) λ is only known to
  * ~3e-7 eV and steps of 1e-9 eV are noise: the iteration "did not converge" (exit 6, issue 18). */
 static double gap_fn(np_ctx *c, double E, double guess, size_t idx, double *M, size_t *counts,
                      int *ok, double *tol) {

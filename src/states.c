@@ -111,8 +111,9 @@ static void release_pages(void) {
 #define RELEASE_BYTES ((size_t)8 << 20) /* give back copied vectors every 8 MiB */
 
 /* Moves the kept vectors of band b into r->psi from state s0 on, each with the convention's
- * sign, without holding a second copy of the band: copied from its last vector down while the band's own block is shrunk
- * behind the copy, then freed (fine->vectors becomes NULL).  Returns the vectors kept. */
+ * sign, without holding a second copy of the band: copied from its last vector down while
+ * the band's own block is shrunk behind the copy, then freed (fine->vectors becomes NULL).
+ * Returns the vectors kept. */
 static size_t place_vectors(ew_result *r, ew_eigenpairs *fine, const char *keep, size_t s0) {
   size_t n = r->grid->n, kept = 0, vec = n * sizeof(double);
   for (size_t j = 0; j < fine->count; j++) kept += keep[j] != 0;
@@ -135,8 +136,8 @@ static size_t place_vectors(ew_result *r, ew_eigenpairs *fine, const char *keep,
 
 /* The states of band b from their vectors already in r->psi, appended from state *s on:
  * label, number and energy (Richardson with the pencil's potential minimum vmin); the
- * residual when the eigensolver gave one, else NAN with the fine value in e_fine[state] for
- * state_numbers. */
+ * residual when the eigensolver gave one (e_fine[state] NAN), else the fine value in
+ * e_fine[state], from which state_numbers computes it. */
 static void band_states(ew_result *r, ew_band b, double vmin, const ew_eigenpairs *fine,
                         const char *keep, const double *coarse, size_t n_coarse, size_t *s,
                         double *e_fine) {
@@ -147,7 +148,7 @@ static void band_states(ew_result *r, ew_band b, double vmin, const ew_eigenpair
     ew_state *q = &r->states[*s];
     kept++;
     double e = fine->values[j];
-    e_fine[*s] = e;
+    e_fine[*s] = fine->residual ? NAN : e;
     q->residual = fine->residual ? fine->residual[j] : NAN;
     q->band = b;
     q->n = (int)kept;
@@ -158,10 +159,11 @@ static void band_states(ew_result *r, ew_band b, double vmin, const ew_eigenpair
   r->band_count[b] = kept;
 }
 
-/* A run of a few states (STATE_CHUNK at most, fewer when there are few) of one band whose residuals (where the eigensolver gave
- * none), flags, layers and in-plane masses come from their vectors: the runs are independent
- * (each state's numbers from its own vector, read only), so the threads of the machine take
- * them from a queue; the same bits on any thread. */
+/* A run of a few states (STATE_CHUNK at most, fewer when there are few) of one band whose
+ * residuals (where the eigensolver gave none), flags, layers and in-plane masses come from
+ * their vectors: the runs are independent (each state's numbers from its own vector, read
+ * only), so the threads of the machine take them from a queue; the same bits on any
+ * thread. */
 #define STATE_CHUNK 16
 /* Below this much work (states × nodes) the runs stay on the calling thread: ~10 ns a node
  * and state (measured, 100-period superlattice: 0.43 s for 435 states of 10⁵ nodes), so
@@ -188,7 +190,7 @@ static void *state_numbers(void *arg) {
     for (size_t i = a; prob && i < a + m; i++) {
       ew_state *st = &r->states[i];
       const double *psi = r->psi + i * n;
-      if (isnan(st->residual)) st->residual = ew_pencil_residual(q->pen[b], psi, q->e_fine[i]);
+      if (!isnan(q->e_fine[i])) st->residual = ew_pencil_residual(q->pen[b], psi, q->e_fine[i]);
       st->flagged = !(st->residual <= r->opt.residual_tol);
       locate(r, st, psi, prob);
     }
