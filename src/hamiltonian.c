@@ -39,6 +39,8 @@ ew_pencil *ew_pencil_build_mass(const ew_grid *g, ew_band band, const double *M)
   return p;
 }
 
+static double h_row_norm(const ew_pencil *p);
+
 void ew_pencil_refill_mass(ew_pencil *p, const ew_grid *g, ew_band band, const double *M) {
   size_t n = g->n;
   const double K = EW_HB2M0_EVNM2;
@@ -82,25 +84,32 @@ void ew_pencil_refill_mass(ew_pencil *p, const ew_grid *g, ew_band band, const d
   p->vmax = vmax;
   p->std_pivmin = DBL_MIN * fmax(1.0, emax);
   p->std_norm = norm;
+  p->hnorm = h_row_norm(p);
+}
+
+/* ‖H‖∞, the largest row sum of |H| (the residual's scale), once per pencil */
+static double h_row_norm(const ew_pencil *p) {
+  size_t n = p->n;
+  double hnorm = 0.0;
+  for (size_t i = 0; i < n; i++) {
+    double row = fabs(p->diag[i]);
+    if (i > 0) row += fabs(p->off[i - 1]);
+    if (i + 1 < n) row += fabs(p->off[i]);
+    if (row > hnorm) hnorm = row;
+  }
+  return hnorm;
 }
 
 double ew_pencil_residual(const ew_pencil *p, const double *x, double e) {
   size_t n = p->n;
-  double rr = 0.0, xx = 0.0, hnorm = 0.0;
+  double rr = 0.0, xx = 0.0, hnorm = p->hnorm;
   for (size_t i = 0; i < n; i++) {
-    double hx = p->diag[i] * x[i], row = fabs(p->diag[i]);
-    if (i > 0) {
-      hx += p->off[i - 1] * x[i - 1];
-      row += fabs(p->off[i - 1]);
-    }
-    if (i + 1 < n) {
-      hx += p->off[i] * x[i + 1];
-      row += fabs(p->off[i]);
-    }
+    double hx = p->diag[i] * x[i];
+    if (i > 0) hx += p->off[i - 1] * x[i - 1];
+    if (i + 1 < n) hx += p->off[i] * x[i + 1];
     double r = hx - e * p->b[i] * x[i];
     rr += r * r;
     xx += x[i] * x[i];
-    if (row > hnorm) hnorm = row;
   }
   return xx > 0 && hnorm > 0 ? sqrt(rr) / (hnorm * sqrt(xx)) : INFINITY;
 }

@@ -19,6 +19,7 @@ typedef struct {
   /* the standard form T = B^{-1/2} H B^{-1/2} the inertia counts run on, computed once at
      build: diagonal, squared off-diagonal, Gershgorin norm, smallest allowed pivot */
   double *std_d, *std_e2, std_norm, std_pivmin;
+  double hnorm; /* ‖H‖∞, the scale of ew_pencil_residual */
 } ew_pencil;
 
 /* Allocate and fill the pencil of band on g; NULL when out of memory. */
