@@ -126,6 +126,12 @@ static int valley_levels(ew_result *r) {
   double edge[3] = {0, 0, 0}, p[3] = {0, 0, 0};
   for (size_t i = 0; i < r->n_states; i++) {
     if (r->states[i].band != EW_BAND_E) continue;
+    /* a level above no X or L edge has nothing to report: its probabilities and decay
+       lengths (a pass over the grid with a root at every node) are not needed */
+    int below = 0;
+    for (size_t k = 0; k < nl && !below; k++)
+      below = w.edge[1][k] < r->states[i].energy_eV || w.edge[2][k] < r->states[i].energy_eV;
+    if (!below) continue;
     state_fill(r, i, &w);
     for (int v = 1; v <= 2; v++) {
       double e_i = 0.0, p_i = 0.0;

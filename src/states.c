@@ -150,14 +150,18 @@ typedef struct {
   const char *keep;
   size_t j0[EW_BAND_COUNT], s0[EW_BAND_COUNT];
   int todo[EW_BAND_COUNT], n_todo;
+  size_t in_place; /* the electrons' vectors already in r->psi (grown block): only signed */
   atomic_int next;
 } place_queue;
 
 static void *place_bands(void *arg) {
   place_queue *q = arg;
+  size_t n = q->r->grid->n;
   for (int k; (k = atomic_fetch_add(&q->next, 1)) < q->n_todo;) {
     int b = q->todo[k];
-    place_vectors(q->r, &q->fine[b], q->keep + q->j0[b], q->s0[b]);
+    if (b == 0 && q->in_place)
+      for (size_t j = 0; j < q->in_place; j++) ew_fix_sign(q->r->psi + j * n, n);
+    else place_vectors(q->r, &q->fine[b], q->keep + q->j0[b], q->s0[b]);
   }
   return NULL;
 }
@@ -169,12 +173,12 @@ static void *place_bands(void *arg) {
  * convention's sign; every fine[b].vectors NULL after.  When the electrons come first with
  * none dropped, their block itself is grown into r->psi (glibc: mremap of the mapping, no
  * copy; 135 of the 100-period superlattice's 435 vectors) and signed in place; the other
- * bands are copied, one on a helper when the vectors are large.  0 when out of memory (the
+ * bands are copied; the bands' parts are shared with a helper when the vectors are large.  0 when out of memory (the
  * blocks not yet moved are left to the caller). */
 static int place_all(ew_result *r, ew_eigenpairs fine[EW_BAND_COUNT], const char *keep,
                      size_t total) {
   size_t n = r->grid->n, bytes = (total ? total : 1) * n * sizeof *r->psi;
-  place_queue q = {r, fine, keep, {0}, {0}, {0}, 0, 0};
+  place_queue q = {r, fine, keep, {0}, {0}, {0}, 0, 0, 0};
   size_t j0 = 0, s = 0;
   for (int b = 0; b < EW_BAND_COUNT; j0 += fine[b].count, b++) {
     size_t kept = 0;
@@ -183,20 +187,18 @@ static int place_all(ew_result *r, ew_eigenpairs fine[EW_BAND_COUNT], const char
     if (fine[b].count) q.todo[q.n_todo++] = b;
     s += kept;
   }
-  int first = 0;
   if (fine[0].count && fine[0].vectors && q.s0[1] == fine[0].count) {
     double *grown = realloc(fine[0].vectors, bytes);
     if (grown) { /* the electrons' vectors are already in place */
       r->psi = grown;
       fine[0].vectors = NULL;
-      for (size_t j = 0; j < fine[0].count; j++) ew_fix_sign(r->psi + j * n, n);
-      first = 1;
+      q.in_place = fine[0].count;
     }
   }
-  if (!first && !(r->psi = malloc(bytes))) return 0;
-  atomic_init(&q.next, first);
+  if (!q.in_place && !(r->psi = malloc(bytes))) return 0;
+  atomic_init(&q.next, 0);
   ew_helper h = {0};
-  if (q.n_todo - first > 1 && bytes >= PLACE_SPLIT_MIN_BYTES && ew_helper_count(2) > 0)
+  if (q.n_todo > 1 && bytes >= PLACE_SPLIT_MIN_BYTES && ew_helper_count(2) > 0)
     ew_helper_start(&h, place_bands, &q);
   place_bands(&q);
   ew_helper_join(&h);
