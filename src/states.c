@@ -174,8 +174,8 @@ static void *place_bands(void *arg) {
  * convention's sign; every fine[b].vectors NULL after.  When the electrons come first with
  * none dropped, their block itself is grown into r->psi (glibc: mremap of the mapping, no
  * copy; 135 of the 100-period superlattice's 435 vectors) and signed in place; the other
- * bands are copied; the bands' parts are shared with a helper when the vectors are large.  0 when out of memory (the
- * blocks not yet moved are left to the caller). */
+ * bands are copied; the bands' parts are shared with a helper when the vectors are large.
+ * 0 when out of memory (r->psi NULL; the blocks not yet moved are left to the caller). */
 static int place_all(ew_result *r, ew_eigenpairs fine[EW_BAND_COUNT], const char *keep,
                      size_t total) {
   size_t n = r->grid->n, bytes = (total ? total : 1) * n * sizeof *r->psi;
