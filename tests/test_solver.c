@@ -8,6 +8,7 @@
 
 #include "constants.h"
 #include "eigen.h"
+#include "hamiltonian.h"
 #include "helper_thread.h"
 #include "parallel.h"
 #include "observables.h"
@@ -560,6 +561,59 @@ static void states_and_parity(void **state) {
 }
 
 
+/* The numbers a state's vector gives, recomputed here from their definitions: the probability
+ * in each layer, ∫ |ψ|² over the layer (the grid's node weights), and the relative residual
+ * ‖Hx − eBx‖₂ / (‖H‖∞ ‖x‖₂) (the backward-error scaling of E. Anderson et al., LAPACK Users'
+ * Guide, 3rd ed. (1999), ch. 4, from memory).  The well is a ramp that is the stack's last
+ * layer (AlGaAs graded x = 0 → 0.4 against an Al0.3Ga0.7As barrier: a triangular well), so
+ * that its states live in the layer a state's location sums last. */
+static void state_numbers_from_vectors(void **state) {
+  (void)state;
+  const char *text = "temperature = 300.0;\n"
+                     "layers = ( { material = \"AlGaAs\"; x = 0.3; thickness = 20.0; },\n"
+                     "           { name = \"ramp\"; material = \"AlGaAs\"; thickness = 30.0;\n"
+                     "             grade = { profile = \"linear\"; x_start = 0.0; x_end = 0.4; "
+                     "}; } );\n";
+  ew_catalogue *cat;
+  ew_stack *st;
+  ew_result *r;
+  assert_int_equal(tu_load_catalogue(&cat), 0);
+  assert_int_equal(ew_stack_read_string(text, "ramp", cat, &st, NULL), EW_OK);
+  assert_int_equal(ew_solve(st, NULL, &r, NULL), EW_OK);
+  const ew_grid *g = r->grid;
+  size_t n = g->n;
+  assert_true(r->n_states >= 3);
+  for (size_t i = 0; i < r->n_states; i++) {
+    const double *psi = r->psi + i * n;
+    double prob[2] = {0.0, 0.0};
+    for (size_t j = 0; j < n; j++) prob[g->layer[j]] += g->w[j] * psi[j] * psi[j];
+    size_t best = prob[1] > prob[0];
+    assert_int_equal(r->states[i].layer, best);
+    TU_NEAR(r->states[i].layer_probability, prob[best], 1e-12, "probability in its layer");
+    if (r->states[i].n == 1) assert_true(best == 1 && prob[1] > 0.5); /* ground states: well */
+  }
+  ew_pencil *p = ew_pencil_build(g, EW_BAND_E);
+  double *x = malloc(n * sizeof *x);
+  assert_true(p && x);
+  for (size_t j = 0; j < n; j++) x[j] = sin(0.37 * (double)j) + 0.5;
+  double e = 0.1, rr = 0.0, xx = 0.0, hn = 0.0;
+  for (size_t j = 0; j < n; j++) {
+    double hx = p->diag[j] * x[j], row = fabs(p->diag[j]);
+    if (j > 0) hx += p->off[j - 1] * x[j - 1], row += fabs(p->off[j - 1]);
+    if (j + 1 < n) hx += p->off[j] * x[j + 1], row += fabs(p->off[j]);
+    rr += (hx - e * p->b[j] * x[j]) * (hx - e * p->b[j] * x[j]);
+    xx += x[j] * x[j];
+    hn = fmax(hn, row);
+  }
+  double want = sqrt(rr) / (hn * sqrt(xx));
+  TU_NEAR(ew_pencil_residual(p, x, e), want, 1e-12 * want, "relative residual");
+  free(x);
+  ew_pencil_free(p);
+  ew_result_free(r);
+  ew_stack_free(st);
+  ew_catalogue_free(cat);
+}
+
 /* The sign convention (states.h): the largest lobe positive; lobes equal to within 1e-6 (the
  * two lobes of an odd state of a symmetric well, equal to rounding) leave the choice to the
  * first, whichever of them is larger by noise (common practice: a sign fixed by a rule that
@@ -614,6 +668,7 @@ int main(void) {
       cmocka_unit_test(trk_sum_rule),
       cmocka_unit_test(states_and_parity),
       cmocka_unit_test(sign_of_tied_lobes),
+      cmocka_unit_test(state_numbers_from_vectors),
       cmocka_unit_test(bad_grid_step_refused),
   };
   return cmocka_run_group_tests_name("solver", tests, NULL, NULL);
